@@ -1,0 +1,121 @@
+// Command skein loads connectome cohorts, trains graph-filter networks and
+// baselines under cross-validation and reports how well they predict
+// behavioural and clinical scores.
+//
+// Usage:
+//
+//	skein COMMAND [options] ARGS
+//
+// Run "skein help" for the list of commands. skein is research software: it
+// is not a diagnostic device.
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"syscall"
+)
+
+// Exit codes, documented in the README.
+const (
+	exitOK          = 0
+	exitFailure     = 1 // an unexpected failure: a bug or the machine
+	exitBadInput    = 2 // bad command line, experiment file or cohort files
+	exitTraining    = 3 // training failed: a diverging loss or NaN
+	exitInterrupted = 130
+)
+
+// command is one subcommand of skein.
+type command struct {
+	name    string
+	summary string
+	run     func(ctx context.Context, io commandIO, args []string) error
+}
+
+// commandIO is where a command writes.
+type commandIO struct {
+	stdout, stderr io.Writer
+}
+
+func commands() []command {
+	return []command{
+		{"synth", "invent a synthetic cohort and write it as a lab's files", cmdSynth},
+		{"check", "load and check the cohort of an experiment file", cmdCheck},
+		{"run", "cross-validate every model of an experiment file", cmdRun},
+		{"metrics", "score predictions in a CSV file", cmdMetrics},
+	}
+}
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	code := run(ctx, os.Args[1:], commandIO{os.Stdout, os.Stderr})
+	stop()
+	os.Exit(code)
+}
+
+func run(ctx context.Context, args []string, cio commandIO) int {
+	if len(args) == 0 || args[0] == "help" || args[0] == "-h" || args[0] == "--help" {
+		usage(cio.stdout)
+		if len(args) == 0 {
+			return exitBadInput
+		}
+		return exitOK
+	}
+	for _, c := range commands() {
+		if c.name != args[0] {
+			continue
+		}
+		err := c.run(ctx, cio, args[1:])
+		if err == nil {
+			return exitOK
+		}
+		fmt.Fprintf(cio.stderr, "skein %s: %v\n", c.name, err)
+		return exitCode(err)
+	}
+	fmt.Fprintf(cio.stderr, "skein: unknown command %q\n", args[0])
+	usage(cio.stderr)
+	return exitBadInput
+}
+
+func usage(w io.Writer) {
+	fmt.Fprintln(w, "usage: skein COMMAND [options] ARGS")
+	fmt.Fprintln(w, "\ncommands:")
+	for _, c := range commands() {
+		fmt.Fprintf(w, "  %-8s %s\n", c.name, c.summary)
+	}
+	fmt.Fprintln(w, "\nRun \"skein COMMAND -h\" for a command's options.")
+	fmt.Fprintln(w, "Research software: not a diagnostic device.")
+}
+
+// exitError carries the exit code a failure should end the process with.
+type exitError struct {
+	code int
+	err  error
+}
+
+func (e *exitError) Error() string { return e.err.Error() }
+func (e *exitError) Unwrap() error { return e.err }
+
+// badInput marks err as caused by the user's input: exit code 2.
+func badInput(err error) error {
+	if err == nil {
+		return nil
+	}
+	return &exitError{exitBadInput, err}
+}
+
+func exitCode(err error) int {
+	var ee *exitError
+	switch {
+	case errors.As(err, &ee):
+		return ee.code
+	case errors.Is(err, context.Canceled):
+		return exitInterrupted
+	default:
+		return exitFailure
+	}
+}

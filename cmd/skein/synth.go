@@ -1,0 +1,10 @@
+package main
+
+import (
+	"context"
+	"errors"
+)
+
+func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
+	return errors.New("not implemented yet")
+}

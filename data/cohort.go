@@ -1,0 +1,48 @@
+package data
+
+import "gonum.org/v1/gonum/mat"
+
+// Participant is one participant's checked and preprocessed record.
+type Participant struct {
+	// ID is the participant_id of the participants table.
+	ID string
+	// Group is the participant's value in the grouping column (family or
+	// scanning site); it is "" when the cohort has no grouping column.
+	Group string
+	// Functional is the p × p functional connectome after preprocessing
+	// (for example Fisher z with a zero diagonal); nil when the cohort has no
+	// functional modality.
+	Functional *mat.Dense
+	// Structural is the p × p structural connectome after preprocessing
+	// (for example log1p and scaling); nil when the cohort has no structural
+	// modality.
+	Structural *mat.Dense
+	// Scores holds one value per Cohort.Targets entry, NaN where missing.
+	Scores []float64
+	// Covariates holds one value per Cohort.Covariates entry, NaN where
+	// missing. Text covariates such as sex are coded as numbers.
+	Covariates []float64
+}
+
+// Exclusion records a participant left out of the cohort and why.
+type Exclusion struct {
+	ID     string
+	Reason string
+}
+
+// Cohort is the set of participants that passed every check, with the
+// names that give meaning to their slices.
+type Cohort struct {
+	Participants []*Participant
+	// Targets names the scores, in the order of Participant.Scores.
+	Targets []string
+	// Covariates names the covariates, in the order of Participant.Covariates.
+	Covariates []string
+	// Regions holds the p region labels, in matrix order.
+	Regions []string
+	// Excluded lists every participant that was left out, with its reason.
+	Excluded []Exclusion
+}
+
+// P returns the number of regions.
+func (c *Cohort) P() int { return len(c.Regions) }

@@ -1,0 +1,9 @@
+// Package data turns a lab's files into checked, preprocessed participant
+// records: the participants table, per-participant functional and structural
+// connectomes, region labels, the preprocessing of each matrix and the graph
+// operators built from structure.
+//
+// Data flow: files on disk -> Load -> *Cohort, whose Participants every model
+// learns from. Nothing in this package is fitted across participants, so
+// nothing here can leak information between cross-validation folds.
+package data

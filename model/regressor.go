@@ -1,0 +1,67 @@
+package model
+
+import (
+	"context"
+	"errors"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/data"
+)
+
+// Dataset is a set of participants with the scores a model learns from.
+type Dataset struct {
+	Participants []*data.Participant
+	// Y is len(Participants) × T. Row i holds participant i's targets as the
+	// model should learn them, already standardized or residualized by the
+	// caller; NaN marks a missing score, which must add nothing to the fit.
+	Y *mat.Dense
+}
+
+// Len returns the number of participants.
+func (d Dataset) Len() int { return len(d.Participants) }
+
+// A Regressor is one model kind. The runner calls Fit once on a training
+// fold and then Predict on the matching test fold; it never shows a model
+// the test fold before Predict.
+type Regressor interface {
+	// Fit learns from train. valid, which may hold no participants, is the
+	// inner validation part of the same training fold: a network trains on
+	// train and stops early on valid, while a model that chooses its
+	// settings by inner cross-validation may use the two together.
+	Fit(ctx context.Context, train, valid Dataset) error
+	// Predict returns len(ps) × T predictions, on the scale of the Y that
+	// the model was fitted on.
+	Predict(ps []*data.Participant) (*mat.Dense, error)
+}
+
+// ColumnWise is implemented by regressors that fit each column of Y
+// independently of the others and fit many columns for little more than
+// the cost of one (ridge, kernel ridge: one decomposition serves every
+// column). The permutation test stacks permuted scores as extra columns of
+// Y for them instead of refitting once per permutation.
+type ColumnWise interface {
+	Regressor
+	FitsColumnsIndependently()
+}
+
+// Epoch is what an iteratively trained model reports after each epoch.
+type Epoch struct {
+	Epoch     int     // 1-based
+	TrainLoss float64 // mean training loss over the epoch
+	ValidLoss float64 // loss on the inner validation set; NaN without one
+	Best      bool    // whether this epoch is the best so far on ValidLoss
+}
+
+// Iterative is implemented by regressors that train in epochs.
+type Iterative interface {
+	Regressor
+	// OnEpoch sets a function called after every epoch of the next Fit.
+	OnEpoch(func(Epoch))
+	// History returns the epochs of the last Fit.
+	History() []Epoch
+}
+
+// ErrDiverged is wrapped by the error of a Fit whose loss became NaN,
+// infinite or exploded; the wrapping error names the epoch.
+var ErrDiverged = errors.New("model: training diverged")

@@ -1,0 +1,142 @@
+package train
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"github.com/pelletier/go-toml/v2"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model/graphnet"
+	"github.com/skein-neuro/skein/model/linear"
+)
+
+// Experiment is one experiment file: the cohort and its preprocessing, the
+// models to compare, the cross-validation and the seed.
+type Experiment struct {
+	// Seed drives every random choice of the run: splits, initial
+	// weights, minibatches, dropout and permutations.
+	Seed int64 `toml:"seed"`
+	// Cohort says where the files are ([cohort]).
+	Cohort data.Source `toml:"cohort"`
+	// Preprocess says how each matrix is transformed ([preprocess]).
+	Preprocess data.Preprocess `toml:"preprocess"`
+	// CV is the cross-validation scheme ([cv]).
+	CV CV `toml:"cv"`
+	// Models lists the models to compare ([[model]]).
+	Models []ModelConfig `toml:"model"`
+
+	// Dir is the folder of the experiment file; relative paths in the file
+	// are taken from it. It is not read from the file.
+	Dir string `toml:"-"`
+}
+
+// ModelConfig names one model of an experiment and chooses its kind: the
+// name plus exactly one kind table, for example [model.ridge] or
+// [model.network].
+type ModelConfig struct {
+	Name    string           `toml:"name"`
+	Network *graphnet.Config `toml:"network,omitempty"`
+	linear.Config
+}
+
+// CV is a cross-validation scheme. (Placeholder; the runner fills it.)
+type CV struct {
+	Folds   int `toml:"folds"`
+	Repeats int `toml:"repeats"`
+}
+
+// ReadExperiment reads and checks the experiment file at path. Unknown keys
+// and values of the wrong type are errors naming the key and its line.
+func ReadExperiment(path string) (*Experiment, error) {
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	exp, err := ParseExperiment(raw)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	exp.Dir = filepath.Dir(path)
+	return exp, nil
+}
+
+// ParseExperiment decodes an experiment file's text, fills defaults and
+// validates it.
+func ParseExperiment(raw []byte) (*Experiment, error) {
+	var exp Experiment
+	dec := toml.NewDecoder(bytes.NewReader(raw))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&exp); err != nil {
+		return nil, describeTOMLError(err)
+	}
+	exp.SetDefaults()
+	if err := exp.Validate(); err != nil {
+		return nil, err
+	}
+	return &exp, nil
+}
+
+// SetDefaults fills every unset field with its documented default.
+func (e *Experiment) SetDefaults() {
+	e.Cohort.SetDefaults()
+	e.Preprocess.SetDefaults()
+	for i := range e.Models {
+		if e.Models[i].Network != nil {
+			e.Models[i].Network.SetDefaults()
+		}
+	}
+}
+
+// Validate reports the first setting that cannot work, naming its key.
+func (e *Experiment) Validate() error {
+	if err := e.Cohort.Validate(); err != nil {
+		return err
+	}
+	if err := e.Preprocess.Validate(); err != nil {
+		return err
+	}
+	seen := make(map[string]bool)
+	for i, m := range e.Models {
+		if m.Name == "" {
+			return fmt.Errorf("model[%d]: key \"name\" is required", i)
+		}
+		if seen[m.Name] {
+			return fmt.Errorf("model[%d]: name %q is used twice", i, m.Name)
+		}
+		seen[m.Name] = true
+		if m.Network != nil {
+			if err := m.Network.Validate(); err != nil {
+				return fmt.Errorf("model %q: %w", m.Name, err)
+			}
+		}
+	}
+	return nil
+}
+
+// describeTOMLError rewrites go-toml's errors to name the key and its line.
+func describeTOMLError(err error) error {
+	var strict *toml.StrictMissingError
+	if errors.As(err, &strict) {
+		msgs := make([]string, len(strict.Errors))
+		for i, e := range strict.Errors {
+			row, _ := e.Position()
+			msgs[i] = fmt.Sprintf("line %d: unknown key %q", row, strings.Join(e.Key(), "."))
+		}
+		return errors.New(strings.Join(msgs, "; "))
+	}
+	var de *toml.DecodeError
+	if errors.As(err, &de) {
+		row, col := de.Position()
+		key := strings.Join(de.Key(), ".")
+		if key != "" {
+			return fmt.Errorf("line %d, column %d: key %q: %s", row, col, key, strings.TrimPrefix(de.Error(), "toml: "))
+		}
+		return fmt.Errorf("line %d, column %d: %s", row, col, strings.TrimPrefix(de.Error(), "toml: "))
+	}
+	return err
+}
