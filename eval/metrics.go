@@ -1,0 +1,341 @@
+package eval
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/stat"
+)
+
+// Every metric below takes the observed and the predicted values of the same
+// participants, in the same order. The slices must have equal lengths (a
+// mismatch panics). A pair in which either value is NaN is skipped; Score
+// counts the skipped pairs. A metric that is undefined for the pairs left
+// (too few pairs, no variance) is NaN.
+
+// CompletePairs returns the pairs of observed and predicted in which neither
+// value is NaN, in their order, and the number of pairs skipped.
+func CompletePairs(observed, predicted []float64) (obs, pred []float64, skipped int) {
+	checkLengths(observed, predicted)
+	obs = make([]float64, 0, len(observed))
+	pred = make([]float64, 0, len(predicted))
+	for i, o := range observed {
+		p := predicted[i]
+		if math.IsNaN(o) || math.IsNaN(p) {
+			skipped++
+			continue
+		}
+		obs = append(obs, o)
+		pred = append(pred, p)
+	}
+	return obs, pred, skipped
+}
+
+func checkLengths(observed, predicted []float64) {
+	if len(observed) != len(predicted) {
+		panic(fmt.Sprintf("eval: %d observed values but %d predicted", len(observed), len(predicted)))
+	}
+}
+
+// Pearson returns Pearson's correlation coefficient of the complete pairs,
+//
+//	r = Σ (yᵢ − ȳ)(ŷᵢ − mean ŷ) / sqrt(Σ (yᵢ − ȳ)² · Σ (ŷᵢ − mean ŷ)²),
+//
+// computed in two passes (means first, then centred sums) so that large
+// offsets do not cost precision. It is NaN for fewer than two pairs or when
+// either side is constant.
+func Pearson(observed, predicted []float64) float64 {
+	obs, pred, _ := CompletePairs(observed, predicted)
+	return pearson(obs, pred)
+}
+
+func pearson(x, y []float64) float64 {
+	if len(x) < 2 || isConstant(x) || isConstant(y) {
+		return math.NaN()
+	}
+	r := stat.Correlation(x, y, nil)
+	return math.Max(-1, math.Min(1, r))
+}
+
+func isConstant(x []float64) bool {
+	for _, v := range x[1:] {
+		if v != x[0] {
+			return false
+		}
+	}
+	return true
+}
+
+// Spearman returns Spearman's rank correlation ρ of the complete pairs: the
+// Pearson correlation of their ranks, where tied values share the mean of
+// the ranks they span (1-based average ranks). It is NaN for fewer than two
+// pairs or when either side is constant.
+func Spearman(observed, predicted []float64) float64 {
+	obs, pred, _ := CompletePairs(observed, predicted)
+	return pearson(AverageRanks(obs), AverageRanks(pred))
+}
+
+// AverageRanks returns the rank of each value of x among all of x, from 1
+// for the smallest; tied values share the mean of the ranks they span, so
+// {10, 20, 20, 30} ranks as {1, 2.5, 2.5, 4}. x must not hold NaN.
+func AverageRanks(x []float64) []float64 {
+	order := sortedOrder(x)
+	ranks := make([]float64, len(x))
+	for lo := 0; lo < len(order); {
+		hi := lo + 1
+		for hi < len(order) && x[order[hi]] == x[order[lo]] {
+			hi++
+		}
+		// Positions lo..hi-1 hold one value; their 1-based ranks average
+		// to (lo+1 + hi)/2.
+		mean := float64(lo+1+hi) / 2
+		for _, i := range order[lo:hi] {
+			ranks[i] = mean
+		}
+		lo = hi
+	}
+	return ranks
+}
+
+// sortedOrder returns the indices of x ordered by ascending value, ties in
+// their order in x.
+func sortedOrder(x []float64) []int {
+	order := make([]int, len(x))
+	for i := range order {
+		order[i] = i
+	}
+	sort.SliceStable(order, func(a, b int) bool { return x[order[a]] < x[order[b]] })
+	return order
+}
+
+// MAE returns the mean absolute error of the complete pairs,
+//
+//	MAE = (1/n) Σ |yᵢ − ŷᵢ|,
+//
+// in the units of the score. It is NaN when no pair is complete.
+func MAE(observed, predicted []float64) float64 {
+	obs, pred, _ := CompletePairs(observed, predicted)
+	if len(obs) == 0 {
+		return math.NaN()
+	}
+	var sum float64
+	for i, o := range obs {
+		sum += math.Abs(o - pred[i])
+	}
+	return sum / float64(len(obs))
+}
+
+// MedianAE returns the median absolute error of the complete pairs: the
+// median of |yᵢ − ŷᵢ|, the mean of the two middle values when n is even. It
+// is NaN when no pair is complete.
+func MedianAE(observed, predicted []float64) float64 {
+	obs, pred, _ := CompletePairs(observed, predicted)
+	if len(obs) == 0 {
+		return math.NaN()
+	}
+	abs := make([]float64, len(obs))
+	for i, o := range obs {
+		abs[i] = math.Abs(o - pred[i])
+	}
+	sort.Float64s(abs)
+	mid := len(abs) / 2
+	if len(abs)%2 == 1 {
+		return abs[mid]
+	}
+	return (abs[mid-1] + abs[mid]) / 2
+}
+
+// RMSE returns the root mean squared error of the complete pairs,
+//
+//	RMSE = sqrt((1/n) Σ (yᵢ − ŷᵢ)²),
+//
+// in the units of the score. It is NaN when no pair is complete.
+func RMSE(observed, predicted []float64) float64 {
+	obs, pred, _ := CompletePairs(observed, predicted)
+	if len(obs) == 0 {
+		return math.NaN()
+	}
+	var sum float64
+	for i, o := range obs {
+		d := o - pred[i]
+		sum += d * d
+	}
+	return math.Sqrt(sum / float64(len(obs)))
+}
+
+// R2 returns the coefficient of determination of the complete pairs,
+//
+//	R² = 1 − SSres/SStot,  SSres = Σ (yᵢ − ŷᵢ)²,  SStot = Σ (yᵢ − ȳ)²,
+//
+// where ȳ is the mean of the observed values being scored. This is the
+// out-of-sample convention: predictions are not refitted to the observed
+// values, so R² is not the square of Pearson's r and is negative when the
+// predictions are worse than predicting ȳ for everyone. It is NaN when no
+// pair is complete or the observed values are constant (SStot = 0).
+func R2(observed, predicted []float64) float64 {
+	obs, pred, _ := CompletePairs(observed, predicted)
+	if len(obs) == 0 {
+		return math.NaN()
+	}
+	mean := stat.Mean(obs, nil)
+	var ssRes, ssTot float64
+	for i, o := range obs {
+		d := o - pred[i]
+		ssRes += d * d
+		c := o - mean
+		ssTot += c * c
+	}
+	if ssTot == 0 {
+		return math.NaN()
+	}
+	return 1 - ssRes/ssTot
+}
+
+// A Metric names one figure of merit. Its value is the name used in
+// metrics.json and on the command line.
+type Metric string
+
+// The metrics Score computes.
+const (
+	MetricPearson  Metric = "pearson_r"
+	MetricSpearman Metric = "spearman_rho"
+	MetricMAE      Metric = "mae"
+	MetricMedianAE Metric = "median_ae"
+	MetricRMSE     Metric = "rmse"
+	MetricR2       Metric = "r2"
+	MetricNMI      Metric = "nmi"
+)
+
+// Metrics returns every metric, in the order tables show them.
+func Metrics() []Metric {
+	return []Metric{MetricPearson, MetricSpearman, MetricMAE, MetricMedianAE, MetricRMSE, MetricR2, MetricNMI}
+}
+
+// ParseMetric returns the metric named s, or an error listing the names.
+func ParseMetric(s string) (Metric, error) {
+	for _, m := range Metrics() {
+		if string(m) == s {
+			return m, nil
+		}
+	}
+	return "", fmt.Errorf("unknown metric %q: want one of %v", s, Metrics())
+}
+
+// LowerIsBetter reports whether smaller values of m mean better predictions
+// (the errors MAE, median absolute error and RMSE).
+func (m Metric) LowerIsBetter() bool {
+	switch m {
+	case MetricMAE, MetricMedianAE, MetricRMSE:
+		return true
+	}
+	return false
+}
+
+// Label returns the name of m a reader expects in a table, such as
+// "Pearson r".
+func (m Metric) Label() string {
+	switch m {
+	case MetricPearson:
+		return "Pearson r"
+	case MetricSpearman:
+		return "Spearman ρ"
+	case MetricMAE:
+		return "MAE"
+	case MetricMedianAE:
+		return "median AE"
+	case MetricRMSE:
+		return "RMSE"
+	case MetricR2:
+		return "R²"
+	case MetricNMI:
+		return "NMI"
+	}
+	return string(m)
+}
+
+// Compute returns m of the pairs; bins is used by NMI only (≤ 0 means
+// DefaultBins). An unknown metric panics.
+func (m Metric) Compute(observed, predicted []float64, bins int) float64 {
+	switch m {
+	case MetricPearson:
+		return Pearson(observed, predicted)
+	case MetricSpearman:
+		return Spearman(observed, predicted)
+	case MetricMAE:
+		return MAE(observed, predicted)
+	case MetricMedianAE:
+		return MedianAE(observed, predicted)
+	case MetricRMSE:
+		return RMSE(observed, predicted)
+	case MetricR2:
+		return R2(observed, predicted)
+	case MetricNMI:
+		return NMI(observed, predicted, bins)
+	}
+	panic(fmt.Sprintf("eval: unknown metric %q", string(m)))
+}
+
+// Values holds one value of each metric. NaN marks a metric that is
+// undefined for the pairs scored.
+type Values struct {
+	Pearson  float64 // Pearson r
+	Spearman float64 // Spearman ρ
+	MAE      float64 // mean absolute error, in score units
+	MedianAE float64 // median absolute error, in score units
+	RMSE     float64 // root mean squared error, in score units
+	R2       float64 // out-of-sample R²
+	NMI      float64 // NMI of equal-frequency bins
+}
+
+// Get returns the value of m. An unknown metric panics.
+func (v Values) Get(m Metric) float64 {
+	return *v.field(m)
+}
+
+// Set sets the value of m. An unknown metric panics.
+func (v *Values) Set(m Metric, x float64) {
+	*v.field(m) = x
+}
+
+func (v *Values) field(m Metric) *float64 {
+	switch m {
+	case MetricPearson:
+		return &v.Pearson
+	case MetricSpearman:
+		return &v.Spearman
+	case MetricMAE:
+		return &v.MAE
+	case MetricMedianAE:
+		return &v.MedianAE
+	case MetricRMSE:
+		return &v.RMSE
+	case MetricR2:
+		return &v.R2
+	case MetricNMI:
+		return &v.NMI
+	}
+	panic(fmt.Sprintf("eval: unknown metric %q", string(m)))
+}
+
+// Scores holds every metric of one set of pairs.
+type Scores struct {
+	N       int // complete pairs scored
+	Missing int // pairs skipped because a value was NaN
+	Bins    int // equal-frequency bins of the NMI
+	Values
+}
+
+// Score computes every metric of the pairs. bins is the number of
+// equal-frequency bins for NMI; bins ≤ 0 means DefaultBins.
+func Score(observed, predicted []float64, bins int) Scores {
+	if bins <= 0 {
+		bins = DefaultBins
+	}
+	obs, pred, skipped := CompletePairs(observed, predicted)
+	s := Scores{N: len(obs), Missing: skipped, Bins: bins}
+	for _, m := range Metrics() {
+		s.Set(m, m.Compute(obs, pred, bins))
+	}
+	return s
+}

@@ -1,0 +1,258 @@
+package eval
+
+import (
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// A Prediction is one row of predictions.csv: the score a model predicted
+// for one participant when that participant was in the test fold.
+type Prediction struct {
+	ParticipantID string
+	Model         string
+	Target        string
+	Repeat        int // repeat of the cross-validation, from 0
+	Fold          int // test fold within the repeat, from 0
+	Observed      float64
+	Predicted     float64 // NaN when the model gave no prediction
+}
+
+// The columns of predictions.csv, in the order WritePredictions writes them.
+const (
+	ColumnParticipant = "participant_id"
+	ColumnModel       = "model"
+	ColumnTarget      = "target"
+	ColumnRepeat      = "repeat"
+	ColumnFold        = "fold"
+	ColumnObserved    = "observed"
+	ColumnPredicted   = "predicted"
+)
+
+func predictionColumns() []string {
+	return []string{ColumnParticipant, ColumnModel, ColumnTarget, ColumnRepeat, ColumnFold, ColumnObserved, ColumnPredicted}
+}
+
+// A Header is the first row of a predictions file, the column names in file
+// order.
+type Header []string
+
+// Has reports whether the file has the named column.
+func (h Header) Has(column string) bool {
+	for _, c := range h {
+		if c == column {
+			return true
+		}
+	}
+	return false
+}
+
+// HasFolds reports whether the file has both the repeat and the fold
+// columns, so that per-fold figures can be computed.
+func (h Header) HasFolds() bool { return h.Has(ColumnRepeat) && h.Has(ColumnFold) }
+
+// Extra returns the columns ReadPredictions does not read, in file order.
+func (h Header) Extra() []string {
+	var extra []string
+	for _, c := range h {
+		if !contains(predictionColumns(), c) {
+			extra = append(extra, c)
+		}
+	}
+	return extra
+}
+
+func contains(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+// A ParseError is a bad cell or row of a predictions file.
+type ParseError struct {
+	File   string // name of the file, as given to ReadPredictions
+	Line   int    // line of the row, from 1 (the header is line 1)
+	Column int    // column of the cell, from 1; 0 when the row as a whole is bad
+	Name   string // name of the column, when known
+	Err    error
+}
+
+func (e *ParseError) Error() string {
+	switch {
+	case e.Column == 0:
+		return fmt.Sprintf("%s:%d: %v", e.File, e.Line, e.Err)
+	case e.Name == "":
+		return fmt.Sprintf("%s:%d: column %d: %v", e.File, e.Line, e.Column, e.Err)
+	}
+	return fmt.Sprintf("%s:%d: column %d (%s): %v", e.File, e.Line, e.Column, e.Name, e.Err)
+}
+
+func (e *ParseError) Unwrap() error { return e.Err }
+
+// ReadPredictions reads a predictions file: comma-separated values with a
+// header row, as WritePredictions writes and as other tools can make. The
+// columns are found by name, in any order. observed and predicted are
+// required; participant_id, model and target are empty strings when absent
+// and repeat and fold are 0 when absent (Header.HasFolds tells which).
+// Other columns are not read; Header.Extra lists them.
+//
+// observed and predicted cells are numbers as strconv.ParseFloat reads them;
+// an empty cell, "NaN" or "NA" (any case) is a missing value, read as NaN
+// and later skipped and counted by the metrics. Infinite values are
+// errors. repeat and fold cells are integers ≥ 0. Every bad cell is a
+// *ParseError naming name, the line and the column; a malformed row is a
+// *ParseError wrapping the *csv.ParseError.
+func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
+	cr := csv.NewReader(r)
+	cr.ReuseRecord = false
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, nil, &ParseError{File: name, Line: 1, Err: errors.New("empty file: expected a header row naming the columns observed and predicted")}
+	}
+	if err != nil {
+		return nil, nil, csvError(name, err)
+	}
+	if len(header) > 0 {
+		header[0] = strings.TrimPrefix(header[0], "\uFEFF") // byte-order mark of some spreadsheets
+	}
+	index := make(map[string]int)
+	for i, c := range header {
+		if c == "" {
+			return nil, nil, &ParseError{File: name, Line: 1, Column: i + 1, Err: errors.New("empty column name in header")}
+		}
+		if j, dup := index[c]; dup {
+			return nil, nil, &ParseError{File: name, Line: 1, Column: i + 1, Name: c, Err: fmt.Errorf("column %q appears twice (columns %d and %d)", c, j+1, i+1)}
+		}
+		index[c] = i
+	}
+	for _, c := range []string{ColumnObserved, ColumnPredicted} {
+		if _, ok := index[c]; !ok {
+			return nil, nil, &ParseError{File: name, Line: 1, Err: fmt.Errorf("no %q column: the header has %s", c, strings.Join(quoteAll(header), ", "))}
+		}
+	}
+
+	var rows []Prediction
+	for {
+		record, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return nil, nil, csvError(name, err)
+		}
+		line, _ := cr.FieldPos(0)
+		cell := func(column string) (string, int, bool) {
+			i, ok := index[column]
+			if !ok {
+				return "", 0, false
+			}
+			return record[i], i, true
+		}
+		bad := func(col int, column string, err error) error {
+			return &ParseError{File: name, Line: line, Column: col + 1, Name: column, Err: err}
+		}
+		var p Prediction
+		for _, f := range []struct {
+			column string
+			dst    *string
+		}{{ColumnParticipant, &p.ParticipantID}, {ColumnModel, &p.Model}, {ColumnTarget, &p.Target}} {
+			if s, _, ok := cell(f.column); ok {
+				*f.dst = s
+			}
+		}
+		for _, f := range []struct {
+			column string
+			dst    *int
+		}{{ColumnRepeat, &p.Repeat}, {ColumnFold, &p.Fold}} {
+			s, col, ok := cell(f.column)
+			if !ok {
+				continue
+			}
+			v, err := strconv.Atoi(strings.TrimSpace(s))
+			if err != nil || v < 0 {
+				return nil, nil, bad(col, f.column, fmt.Errorf("expected an integer ≥ 0, found %q", s))
+			}
+			*f.dst = v
+		}
+		for _, f := range []struct {
+			column string
+			dst    *float64
+		}{{ColumnObserved, &p.Observed}, {ColumnPredicted, &p.Predicted}} {
+			s, col, _ := cell(f.column)
+			v, err := parseValue(s)
+			if err != nil {
+				return nil, nil, bad(col, f.column, err)
+			}
+			*f.dst = v
+		}
+		rows = append(rows, p)
+	}
+	return rows, Header(header), nil
+}
+
+// parseValue reads an observed or predicted cell.
+func parseValue(s string) (float64, error) {
+	t := strings.TrimSpace(s)
+	switch strings.ToLower(t) {
+	case "", "nan", "na":
+		return math.NaN(), nil
+	}
+	v, err := strconv.ParseFloat(t, 64)
+	if err != nil {
+		return 0, fmt.Errorf("expected a number (or empty, NaN or NA for a missing value), found %q", s)
+	}
+	if math.IsInf(v, 0) {
+		return 0, fmt.Errorf("expected a finite number, found %q", s)
+	}
+	return v, nil
+}
+
+func csvError(name string, err error) error {
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		return &ParseError{File: name, Line: pe.Line, Column: pe.Column, Err: pe.Err}
+	}
+	return fmt.Errorf("%s: %w", name, err)
+}
+
+func quoteAll(ss []string) []string {
+	q := make([]string, len(ss))
+	for i, s := range ss {
+		q[i] = strconv.Quote(s)
+	}
+	return q
+}
+
+// WritePredictions writes rows as predictions.csv: the header
+// participant_id,model,target,repeat,fold,observed,predicted, then one line
+// per row in the order given. Numbers are written by
+// strconv.FormatFloat(v, 'g', -1, 64), the shortest text that reads back as
+// the same float64; NaN is written as NaN. The output depends only on rows.
+func WritePredictions(w io.Writer, rows []Prediction) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(predictionColumns()); err != nil {
+		return err
+	}
+	record := make([]string, 7)
+	for _, p := range rows {
+		record[0] = p.ParticipantID
+		record[1] = p.Model
+		record[2] = p.Target
+		record[3] = strconv.Itoa(p.Repeat)
+		record[4] = strconv.Itoa(p.Fold)
+		record[5] = strconv.FormatFloat(p.Observed, 'g', -1, 64)
+		record[6] = strconv.FormatFloat(p.Predicted, 'g', -1, 64)
+		if err := cw.Write(record); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}

@@ -1,0 +1,486 @@
+package eval
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strconv"
+	"strings"
+)
+
+// Disclaimer is the sentence every report of skein carries.
+const Disclaimer = "skein is research software: it is not a diagnostic device and must not be used " +
+	"to make decisions about individuals. Any use on real participants needs ethics approval, " +
+	"data-use agreements and clinical judgement."
+
+// A Summary holds the figures of every model × target of a set of
+// predictions. It is the content of metrics.json.
+//
+// Its JSON form is
+//
+//	{
+//	  "note": Disclaimer,
+//	  "bins": 10,                       // equal-frequency bins of the NMI
+//	  "groups": [                       // one per model × target, sorted by model then target
+//	    {
+//	      "model": "ridge", "target": "memory",
+//	      "pooled": SCORES,             // all test predictions of all repeats together
+//	      "folds": [                    // one per repeat × fold, sorted by repeat then fold;
+//	        {"repeat": 0, "fold": 0, SCORES...}, ...   // absent without fold columns
+//	      ],
+//	      "fold_mean": VALUES,          // mean over the folds of each metric
+//	      "fold_sd": VALUES,            // sample SD (n − 1) over the folds
+//	      "fold_undefined": {"pearson_r": 1}   // folds where a metric was NaN; absent when none
+//	    }, ...
+//	  ]
+//	}
+//
+// where SCORES is {"n": complete pairs, "missing": pairs skipped, "bins": B,
+// then VALUES} and VALUES is {"pearson_r", "spearman_rho", "mae",
+// "median_ae", "rmse", "r2", "nmi"}, numbers in the units of the score. An
+// undefined value (NaN) is written as null and read back as NaN.
+type Summary struct {
+	Bins   int
+	Groups []Group
+}
+
+// A Group holds the figures of one model on one target.
+type Group struct {
+	Model  string
+	Target string
+	// Pooled scores all test predictions of all repeats at once: each
+	// participant counts once per repeat.
+	Pooled Scores
+	// Folds scores each repeat × fold alone; empty when the predictions
+	// carry no fold.
+	Folds []FoldScores
+	// FoldMean and FoldSD are the mean and the sample standard deviation
+	// (denominator J − 1) of each metric over the J folds of Folds in which
+	// it is defined; NaN when no fold (mean) or fewer than two folds (SD)
+	// define it.
+	FoldMean, FoldSD Values
+	// FoldUndefined counts, for each metric, the folds in which it was NaN
+	// and which FoldMean and FoldSD therefore leave out.
+	FoldUndefined map[Metric]int
+}
+
+// FoldScores are the scores of one test fold of one repeat.
+type FoldScores struct {
+	Repeat, Fold int
+	Scores
+}
+
+// Summarize scores rows grouped by model and target. Pooled figures use all
+// rows of a group; when perFold is true, each repeat × fold of a group is
+// also scored alone and summarized by its mean and SD. bins ≤ 0 means
+// DefaultBins. Groups are sorted by model, then target.
+func Summarize(rows []Prediction, bins int, perFold bool) *Summary {
+	if bins <= 0 {
+		bins = DefaultBins
+	}
+	type key struct{ model, target string }
+	type foldKey struct{ repeat, fold int }
+	var keys []key
+	members := make(map[key][]int)
+	for i, p := range rows {
+		k := key{p.Model, p.Target}
+		if _, ok := members[k]; !ok {
+			keys = append(keys, k)
+		}
+		members[k] = append(members[k], i)
+	}
+	sort.Slice(keys, func(a, b int) bool {
+		if keys[a].model != keys[b].model {
+			return keys[a].model < keys[b].model
+		}
+		return keys[a].target < keys[b].target
+	})
+
+	s := &Summary{Bins: bins}
+	for _, k := range keys {
+		idx := members[k]
+		g := Group{Model: k.model, Target: k.target, Pooled: scoreRows(rows, idx, bins)}
+		if perFold {
+			var folds []foldKey
+			byFold := make(map[foldKey][]int)
+			for _, i := range idx {
+				fk := foldKey{rows[i].Repeat, rows[i].Fold}
+				if _, ok := byFold[fk]; !ok {
+					folds = append(folds, fk)
+				}
+				byFold[fk] = append(byFold[fk], i)
+			}
+			sort.Slice(folds, func(a, b int) bool {
+				if folds[a].repeat != folds[b].repeat {
+					return folds[a].repeat < folds[b].repeat
+				}
+				return folds[a].fold < folds[b].fold
+			})
+			for _, fk := range folds {
+				g.Folds = append(g.Folds, FoldScores{Repeat: fk.repeat, Fold: fk.fold, Scores: scoreRows(rows, byFold[fk], bins)})
+			}
+			g.FoldMean, g.FoldSD, g.FoldUndefined = foldSpread(g.Folds)
+		} else {
+			g.FoldMean, g.FoldSD, g.FoldUndefined = foldSpread(nil)
+		}
+		s.Groups = append(s.Groups, g)
+	}
+	return s
+}
+
+func scoreRows(rows []Prediction, idx []int, bins int) Scores {
+	obs := make([]float64, len(idx))
+	pred := make([]float64, len(idx))
+	for j, i := range idx {
+		obs[j] = rows[i].Observed
+		pred[j] = rows[i].Predicted
+	}
+	return Score(obs, pred, bins)
+}
+
+// foldSpread returns the mean and sample SD of each metric over the folds
+// where it is defined, and the count of folds where it is not.
+func foldSpread(folds []FoldScores) (mean, sd Values, undefined map[Metric]int) {
+	for _, m := range Metrics() {
+		var vals []float64
+		for _, f := range folds {
+			v := f.Get(m)
+			if math.IsNaN(v) {
+				if undefined == nil {
+					undefined = make(map[Metric]int)
+				}
+				undefined[m]++
+				continue
+			}
+			vals = append(vals, v)
+		}
+		mu, s := meanSD(vals)
+		mean.Set(m, mu)
+		sd.Set(m, s)
+	}
+	return mean, sd, undefined
+}
+
+// meanSD returns the mean (NaN for no values) and the sample standard
+// deviation (NaN for fewer than two values) of x, in two passes.
+func meanSD(x []float64) (mean, sd float64) {
+	if len(x) == 0 {
+		return math.NaN(), math.NaN()
+	}
+	for _, v := range x {
+		mean += v
+	}
+	mean /= float64(len(x))
+	if len(x) < 2 {
+		return mean, math.NaN()
+	}
+	var ss float64
+	for _, v := range x {
+		d := v - mean
+		ss += d * d
+	}
+	return mean, math.Sqrt(ss / float64(len(x)-1))
+}
+
+// Group returns the group of model and target, or nil.
+func (s *Summary) Group(model, target string) *Group {
+	for i := range s.Groups {
+		if s.Groups[i].Model == model && s.Groups[i].Target == target {
+			return &s.Groups[i]
+		}
+	}
+	return nil
+}
+
+// JSON encoding. encoding/json cannot write NaN, so the types write their
+// own objects, with null for NaN, in a fixed key order.
+
+// jsonObject builds one JSON object, keys in the order added.
+type jsonObject struct {
+	buf bytes.Buffer
+	err error
+}
+
+func (o *jsonObject) add(key string, v any) {
+	if o.err != nil {
+		return
+	}
+	if o.buf.Len() == 0 {
+		o.buf.WriteByte('{')
+	} else {
+		o.buf.WriteByte(',')
+	}
+	k, _ := json.Marshal(key)
+	o.buf.Write(k)
+	o.buf.WriteByte(':')
+	if f, ok := v.(float64); ok {
+		o.buf.WriteString(formatJSONFloat(f))
+		return
+	}
+	b, err := json.Marshal(v)
+	if err != nil {
+		o.err = fmt.Errorf("eval: encoding %s: %w", key, err)
+		return
+	}
+	o.buf.Write(b)
+}
+
+func (o *jsonObject) addValues(v Values) {
+	for _, m := range Metrics() {
+		o.add(string(m), v.Get(m))
+	}
+}
+
+func (o *jsonObject) bytes() ([]byte, error) {
+	if o.err != nil {
+		return nil, o.err
+	}
+	if o.buf.Len() == 0 {
+		return []byte("{}"), nil
+	}
+	o.buf.WriteByte('}')
+	return o.buf.Bytes(), nil
+}
+
+// formatJSONFloat writes f as the shortest decimal that reads back as f,
+// null for NaN or an infinity.
+func formatJSONFloat(f float64) string {
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return "null"
+	}
+	return strconv.FormatFloat(f, 'g', -1, 64)
+}
+
+// MarshalJSON writes the metrics as an object keyed by metric name, null for
+// NaN.
+func (v Values) MarshalJSON() ([]byte, error) {
+	var o jsonObject
+	o.addValues(v)
+	return o.bytes()
+}
+
+// UnmarshalJSON reads what MarshalJSON writes; a null or absent metric is
+// NaN, an unknown key is an error.
+func (v *Values) UnmarshalJSON(b []byte) error {
+	var raw map[string]json.RawMessage
+	if err := json.Unmarshal(b, &raw); err != nil {
+		return err
+	}
+	return v.fromRaw(raw, nil)
+}
+
+func (v *Values) fromRaw(raw map[string]json.RawMessage, other map[string]any) error {
+	for _, m := range Metrics() {
+		v.Set(m, math.NaN())
+	}
+	for key, msg := range raw {
+		if dst, ok := other[key]; ok {
+			if err := json.Unmarshal(msg, dst); err != nil {
+				return fmt.Errorf("eval: key %q: %w", key, err)
+			}
+			continue
+		}
+		m, err := ParseMetric(key)
+		if err != nil {
+			return fmt.Errorf("eval: key %q: %w", key, err)
+		}
+		var f *float64
+		if err := json.Unmarshal(msg, &f); err != nil {
+			return fmt.Errorf("eval: key %q: %w", key, err)
+		}
+		if f != nil {
+			v.Set(m, *f)
+		}
+	}
+	return nil
+}
+
+// MarshalJSON writes {"n", "missing", "bins", then the metrics}.
+func (s Scores) MarshalJSON() ([]byte, error) {
+	var o jsonObject
+	s.addTo(&o)
+	return o.bytes()
+}
+
+func (s Scores) addTo(o *jsonObject) {
+	o.add("n", s.N)
+	o.add("missing", s.Missing)
+	o.add("bins", s.Bins)
+	o.addValues(s.Values)
+}
+
+// UnmarshalJSON reads what MarshalJSON writes.
+func (s *Scores) UnmarshalJSON(b []byte) error {
+	var raw map[string]json.RawMessage
+	if err := json.Unmarshal(b, &raw); err != nil {
+		return err
+	}
+	return s.Values.fromRaw(raw, map[string]any{"n": &s.N, "missing": &s.Missing, "bins": &s.Bins})
+}
+
+// MarshalJSON writes {"repeat", "fold", then the scores}.
+func (f FoldScores) MarshalJSON() ([]byte, error) {
+	var o jsonObject
+	o.add("repeat", f.Repeat)
+	o.add("fold", f.Fold)
+	f.Scores.addTo(&o)
+	return o.bytes()
+}
+
+// UnmarshalJSON reads what MarshalJSON writes.
+func (f *FoldScores) UnmarshalJSON(b []byte) error {
+	var raw map[string]json.RawMessage
+	if err := json.Unmarshal(b, &raw); err != nil {
+		return err
+	}
+	return f.Values.fromRaw(raw, map[string]any{
+		"repeat": &f.Repeat, "fold": &f.Fold, "n": &f.N, "missing": &f.Missing, "bins": &f.Bins,
+	})
+}
+
+// groupJSON is the JSON form of a Group; Values and the scores types encode
+// NaN themselves.
+type groupJSON struct {
+	Model         string         `json:"model"`
+	Target        string         `json:"target"`
+	Pooled        Scores         `json:"pooled"`
+	Folds         []FoldScores   `json:"folds,omitempty"`
+	FoldMean      Values         `json:"fold_mean"`
+	FoldSD        Values         `json:"fold_sd"`
+	FoldUndefined map[Metric]int `json:"fold_undefined,omitempty"`
+}
+
+type summaryJSON struct {
+	Note   string      `json:"note"`
+	Bins   int         `json:"bins"`
+	Groups []groupJSON `json:"groups"`
+}
+
+// MarshalJSON writes the layout documented on Summary.
+func (s *Summary) MarshalJSON() ([]byte, error) {
+	out := summaryJSON{Note: Disclaimer, Bins: s.Bins, Groups: make([]groupJSON, len(s.Groups))}
+	for i, g := range s.Groups {
+		out.Groups[i] = groupJSON(g)
+	}
+	return json.Marshal(out)
+}
+
+// UnmarshalJSON reads what MarshalJSON writes.
+func (s *Summary) UnmarshalJSON(b []byte) error {
+	var in summaryJSON
+	if err := json.Unmarshal(b, &in); err != nil {
+		return err
+	}
+	s.Bins = in.Bins
+	s.Groups = make([]Group, len(in.Groups))
+	for i, g := range in.Groups {
+		s.Groups[i] = Group(g)
+	}
+	return nil
+}
+
+// WriteJSON writes s as indented JSON (the layout documented on Summary)
+// followed by a newline.
+func (s *Summary) WriteJSON(w io.Writer) error {
+	b, err := json.Marshal(s)
+	if err != nil {
+		return err
+	}
+	var out bytes.Buffer
+	if err := json.Indent(&out, b, "", "  "); err != nil {
+		return err
+	}
+	out.WriteByte('\n')
+	_, err = w.Write(out.Bytes())
+	return err
+}
+
+// WriteMarkdown writes s as Markdown for summary.md: for each target a
+// table with one row per model and one column per metric, each cell the
+// mean ± SD over folds followed by the pooled value in brackets (the pooled
+// value alone when there are no folds), then a legend and Disclaimer.
+func (s *Summary) WriteMarkdown(w io.Writer) error {
+	var b strings.Builder
+	var targets []string
+	for _, g := range s.Groups {
+		if !contains(targets, g.Target) {
+			targets = append(targets, g.Target)
+		}
+	}
+	sort.Strings(targets)
+	hasFolds := false
+	for _, g := range s.Groups {
+		if len(g.Folds) > 0 {
+			hasFolds = true
+		}
+	}
+	for ti, t := range targets {
+		if ti > 0 {
+			b.WriteString("\n")
+		}
+		name := t
+		if name == "" {
+			name = "(unnamed target)"
+		}
+		fmt.Fprintf(&b, "### %s\n\n", escapeMarkdown(name))
+		b.WriteString("| model | n | folds |")
+		for _, m := range Metrics() {
+			fmt.Fprintf(&b, " %s |", m.Label())
+		}
+		b.WriteString("\n| --- | ---: | ---: |")
+		for range Metrics() {
+			b.WriteString(" ---: |")
+		}
+		b.WriteString("\n")
+		for _, g := range s.Groups {
+			if g.Target != t {
+				continue
+			}
+			model := g.Model
+			if model == "" {
+				model = "(unnamed model)"
+			}
+			fmt.Fprintf(&b, "| %s | %d | %d |", escapeMarkdown(model), g.Pooled.N, len(g.Folds))
+			for _, m := range Metrics() {
+				fmt.Fprintf(&b, " %s |", g.cell(m))
+			}
+			b.WriteString("\n")
+		}
+	}
+	b.WriteString("\n")
+	if hasFolds {
+		fmt.Fprintf(&b, "Each cell is the mean ± SD over test folds (all repeats), then in brackets the value "+
+			"pooled over all test predictions. n counts pooled pairs (a participant once per repeat); "+
+			"NMI uses %d equal-frequency bins. R² is out of sample and may be negative.\n", s.Bins)
+	} else {
+		fmt.Fprintf(&b, "Each cell is the value over all predictions; n counts pairs. NMI uses %d "+
+			"equal-frequency bins. R² is out of sample and may be negative.\n", s.Bins)
+	}
+	b.WriteString("\n> " + Disclaimer + "\n")
+	_, err := io.WriteString(w, b.String())
+	return err
+}
+
+// cell formats one metric of g for a table: "mean ± SD [pooled]".
+func (g *Group) cell(m Metric) string {
+	pooled := formatNumber(g.Pooled.Get(m))
+	if len(g.Folds) == 0 {
+		return pooled
+	}
+	return fmt.Sprintf("%s ± %s [%s]", formatNumber(g.FoldMean.Get(m)), formatNumber(g.FoldSD.Get(m)), pooled)
+}
+
+// formatNumber writes x with three decimals, "–" for NaN.
+func formatNumber(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return strconv.FormatFloat(x, 'f', 3, 64)
+}
+
+func escapeMarkdown(s string) string {
+	return strings.NewReplacer("|", `\|`, "\n", " ").Replace(s)
+}
