@@ -15,11 +15,11 @@ import (
 type optimFixture struct {
 	W0, C, T [][]float64
 	Cases    []struct {
-		Name, Kind                string
-		Clip, LR, Momentum        float64
-		WeightDecay               float64 `json:"weight_decay"`
-		Beta1, Beta2, Eps         float64
-		Steps                     [][][]float64
+		Name, Kind         string
+		Clip, LR, Momentum float64
+		WeightDecay        float64 `json:"weight_decay"`
+		Beta1, Beta2, Eps  float64
+		Steps              [][][]float64
 	}
 	Schedules []struct {
 		Name       string
