@@ -26,8 +26,8 @@ type Participant struct {
 
 // Exclusion records a participant left out of the cohort and why.
 type Exclusion struct {
-	ID     string
-	Reason string
+	ID     string `json:"participant_id"`
+	Reason string `json:"reason"`
 }
 
 // Cohort is the set of participants that passed every check, with the

@@ -1,14 +1,212 @@
 package data
 
+import (
+	"errors"
+	"fmt"
+	"path/filepath"
+	"strings"
+)
+
+// Placeholder is the mark in a path template that stands for a
+// participant's participant_id, as in "fc/{participant_id}_fc.tsv".
+const Placeholder = "{participant_id}"
+
 // Source says where a cohort's files are and how to read them: the
-// [cohort] table of an experiment file. (Placeholder; the loader fills it.)
+// [cohort] table of an experiment file. Paths are relative to the folder of
+// the experiment file (Load's baseDir) unless absolute.
 type Source struct {
-	// Participants is the path of the participants table.
+	// Participants is the participants table, a .tsv (tab-separated, no
+	// quoting, as BIDS writes it) or .csv (RFC 4180) file with a header
+	// row holding a participant_id column. Missing cells are empty or "n/a".
 	Participants string `toml:"participants"`
+	// Targets names the score columns to predict; at least one.
+	Targets []string `toml:"targets"`
+	// Covariates names covariate columns (optional). A column whose
+	// non-missing cells are all numbers is numeric; a column whose cells
+	// are all text is coded by its sorted distinct values (byte order) as
+	// 0, 1, ..., k-1; a column mixing both is an error.
+	Covariates []string `toml:"covariates"`
+	// Group names an optional grouping column (family or scanning site).
+	// A participant with no value in it is excluded.
+	Group string `toml:"group"`
+	// Regions is an optional file of region labels, one a line. Without
+	// it, labels come from the matrices' header rows or are "R001", "R002"...
+	Regions string `toml:"regions"`
+	// MinParticipants is the smallest cohort Load accepts after
+	// exclusions; default 10.
+	MinParticipants int `toml:"min_participants"`
+	// OutlierSD is the threshold, in robust standard deviations
+	// (1.4826 × median absolute deviation), beyond which a participant's
+	// mean functional connectivity or structural density is flagged as an
+	// outlier; default 3. Flags are reported, never excluded.
+	OutlierSD float64 `toml:"outlier_sd"`
+	// Unlisted says what to do with matrix files (or stack_ids entries)
+	// whose participant has no row in the participants table: "error"
+	// (default) fails, "report" lists them in the report and goes on.
+	Unlisted string `toml:"unlisted"`
+	// Functional locates the functional connectomes ([cohort.functional]).
+	Functional *Modality `toml:"functional"`
+	// Structural locates the structural connectomes ([cohort.structural]).
+	Structural *Modality `toml:"structural"`
 }
 
+// Modality locates one modality's p × p matrices: either one file per
+// participant by path template, or one stacked n × p × p .npy file with a
+// list of the participants in its order.
+type Modality struct {
+	// Files is a path template holding "{participant_id}", for example
+	// "fc/{participant_id}_fc.tsv". Files ending in .npy are NumPy arrays
+	// (2-D, float32 or float64, either byte order, C or Fortran order);
+	// any other file is delimited text (tab, comma or white space, with an
+	// optional header row and first column of region labels).
+	Files string `toml:"files"`
+	// Stack is a NumPy .npy file holding an n × p × p array, set instead
+	// of Files.
+	Stack string `toml:"stack"`
+	// StackIDs is a text file naming the participant_id of each of the
+	// stack's n matrices, one a line, in order. Required with Stack.
+	StackIDs string `toml:"stack_ids"`
+	// Values is "correlation" (default for functional: every entry must lie
+	// within [-1, 1]) or "any" (no range check). Structural matrices are
+	// always checked non-negative and take no Values key.
+	Values string `toml:"values"`
+	// SymmetryTolerance is the largest |a_ij − a_ji| accepted; default 1e-6.
+	SymmetryTolerance float64 `toml:"symmetry_tolerance"`
+}
+
+// Values settings of a functional modality.
+const (
+	ValuesCorrelation = "correlation"
+	ValuesAny         = "any"
+)
+
+// Unlisted settings.
+const (
+	UnlistedError  = "error"
+	UnlistedReport = "report"
+)
+
 // SetDefaults fills every unset field with its documented default.
-func (s *Source) SetDefaults() {}
+func (s *Source) SetDefaults() {
+	if s.MinParticipants == 0 {
+		s.MinParticipants = 10
+	}
+	if s.OutlierSD == 0 {
+		s.OutlierSD = 3
+	}
+	if s.Unlisted == "" {
+		s.Unlisted = UnlistedError
+	}
+	if s.Functional != nil {
+		if s.Functional.Values == "" {
+			s.Functional.Values = ValuesCorrelation
+		}
+		if s.Functional.SymmetryTolerance == 0 {
+			s.Functional.SymmetryTolerance = 1e-6
+		}
+	}
+	if s.Structural != nil && s.Structural.SymmetryTolerance == 0 {
+		s.Structural.SymmetryTolerance = 1e-6
+	}
+}
 
 // Validate reports the first setting that cannot work, naming its key.
-func (s Source) Validate() error { return nil }
+func (s Source) Validate() error {
+	if s.Participants == "" {
+		return errors.New(`cohort: key "participants" is required`)
+	}
+	if ext := strings.ToLower(filepath.Ext(s.Participants)); ext != ".tsv" && ext != ".csv" {
+		return fmt.Errorf("cohort.participants: %q must end in .tsv or .csv, found %q", s.Participants, ext)
+	}
+	if len(s.Targets) == 0 {
+		return errors.New(`cohort: key "targets" needs at least one score column`)
+	}
+	seen := map[string]string{}
+	note := func(key, col string) error {
+		if col == "" {
+			return fmt.Errorf("cohort.%s: empty column name", key)
+		}
+		if col == "participant_id" {
+			return fmt.Errorf("cohort.%s: %q is the id column, not a %s", key, col, strings.TrimSuffix(key, "s"))
+		}
+		if prev, ok := seen[col]; ok {
+			return fmt.Errorf("cohort.%s: column %q is already named in cohort.%s", key, col, prev)
+		}
+		seen[col] = key
+		return nil
+	}
+	for _, t := range s.Targets {
+		if err := note("targets", t); err != nil {
+			return err
+		}
+	}
+	for _, c := range s.Covariates {
+		if err := note("covariates", c); err != nil {
+			return err
+		}
+	}
+	if s.Group != "" {
+		if err := note("group", s.Group); err != nil {
+			return err
+		}
+	}
+	if s.MinParticipants < 1 {
+		return fmt.Errorf("cohort.min_participants: must be at least 1, found %d", s.MinParticipants)
+	}
+	if !(s.OutlierSD > 0) {
+		return fmt.Errorf("cohort.outlier_sd: must be positive, found %g", s.OutlierSD)
+	}
+	if s.Unlisted != UnlistedError && s.Unlisted != UnlistedReport {
+		return fmt.Errorf("cohort.unlisted: must be %q or %q, found %q", UnlistedError, UnlistedReport, s.Unlisted)
+	}
+	if s.Functional == nil && s.Structural == nil {
+		return errors.New("cohort: needs a [cohort.functional] or [cohort.structural] table, or both")
+	}
+	if s.Functional != nil {
+		if err := s.Functional.validate("cohort.functional"); err != nil {
+			return err
+		}
+		if v := s.Functional.Values; v != ValuesCorrelation && v != ValuesAny {
+			return fmt.Errorf("cohort.functional.values: must be %q or %q, found %q", ValuesCorrelation, ValuesAny, v)
+		}
+	}
+	if s.Structural != nil {
+		if err := s.Structural.validate("cohort.structural"); err != nil {
+			return err
+		}
+		if s.Structural.Values != "" {
+			return errors.New(`cohort.structural.values: structural matrices are always checked non-negative; remove the key`)
+		}
+	}
+	return nil
+}
+
+func (m Modality) validate(key string) error {
+	switch {
+	case m.Files != "" && m.Stack != "":
+		return fmt.Errorf(`%s: set either "files" or "stack", not both`, key)
+	case m.Files == "" && m.Stack == "":
+		return fmt.Errorf(`%s: set "files" (a path template) or "stack" (an n × p × p .npy file)`, key)
+	case m.Files != "":
+		if m.StackIDs != "" {
+			return fmt.Errorf(`%s.stack_ids: goes with "stack", not "files"`, key)
+		}
+		if n := strings.Count(m.Files, Placeholder); n != 1 {
+			return fmt.Errorf("%s.files: template %q must hold %s exactly once, found %d", key, m.Files, Placeholder, n)
+		}
+		if rest := strings.ReplaceAll(m.Files, Placeholder, ""); strings.ContainsAny(rest, "{}") {
+			return fmt.Errorf("%s.files: template %q: the only placeholder is %s", key, m.Files, Placeholder)
+		}
+	case m.Stack != "":
+		if !strings.EqualFold(filepath.Ext(m.Stack), ".npy") {
+			return fmt.Errorf("%s.stack: %q must be a .npy file", key, m.Stack)
+		}
+		if m.StackIDs == "" {
+			return fmt.Errorf(`%s: "stack" needs "stack_ids", the file listing its participants in order`, key)
+		}
+	}
+	if !(m.SymmetryTolerance >= 0) {
+		return fmt.Errorf("%s.symmetry_tolerance: must be zero or positive, found %g", key, m.SymmetryTolerance)
+	}
+	return nil
+}

@@ -1,0 +1,667 @@
+package data
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// Load reads the cohort that src describes, checks every file, preprocesses
+// each matrix with pre and returns the included participants in table
+// order, with Cohort.Excluded listing the others and why. Relative paths
+// in src are taken from baseDir, the folder of the experiment file. It is
+// Check without the report.
+func Load(src Source, pre Preprocess, baseDir string) (*Cohort, error) {
+	c, _, err := Check(src, pre, baseDir)
+	return c, err
+}
+
+// Check reads and checks the cohort that src describes, as Load does, and
+// also returns a report of what it found (counts, exclusions, statistics,
+// outlier flags, covariate codings).
+//
+// Fatal problems make Check return a nil cohort and report and an error
+// listing every problem found (errors.Join of *FileError values, up to 25):
+// a malformed or unreadable file, a missing column, a duplicated
+// participant_id, a table cell that is not a number, a matrix that is not
+// square, not of the cohort's p, not symmetric within symmetry_tolerance,
+// not finite, out of range (functional, values = "correlation": outside
+// [-1, 1]; structural: negative), and, unless unlisted = "report", a
+// matrix file or stack entry whose participant has no table row.
+//
+// Other problems exclude one participant with a reason in
+// Cohort.Excluded and the report: no matrix file (or no stack entry) for a
+// modality, no value in every target column, no value in the group column.
+// A participant missing some but not all scores is kept with NaN there.
+//
+// When fewer than src.MinParticipants are left Check returns the report
+// and a *TooFewError.
+//
+// The statistics of the report and the outlier flags are computed on the
+// matrices as read, before preprocessing.
+func Check(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error) {
+	src = src.clone()
+	src.SetDefaults()
+	if err := src.Validate(); err != nil {
+		return nil, nil, err
+	}
+	l := &loader{src: src, pre: pre, baseDir: baseDir}
+	return l.load()
+}
+
+// clone copies s so that SetDefaults leaves the caller's modalities alone.
+func (s Source) clone() Source {
+	if s.Functional != nil {
+		f := *s.Functional
+		s.Functional = &f
+	}
+	if s.Structural != nil {
+		st := *s.Structural
+		s.Structural = &st
+	}
+	return s
+}
+
+// loader holds the state of one Check.
+type loader struct {
+	src     Source
+	pre     Preprocess
+	baseDir string
+	errs    errorList
+
+	tablePath string
+	labels    []string // reference region labels; nil until known
+	labelsSrc string   // where labels came from, for messages and the report
+	p         int      // number of regions; 0 until known
+	pSrc      string   // the file that set p
+}
+
+func (l *loader) path(p string) string {
+	if filepath.IsAbs(p) {
+		return p
+	}
+	return filepath.Join(l.baseDir, p)
+}
+
+// tableRow is one participant's row of the participants table, parsed.
+type tableRow struct {
+	id         string
+	line       int
+	group      string
+	scores     []float64
+	covariates []float64
+}
+
+// modality is one modality's files, located.
+type modality struct {
+	name      string // "functional" or "structural"
+	spec      *Modality
+	stackPath string
+	idsPath   string
+	stack     *npyArray
+	stackIdx  map[string]int // participant_id -> index in the stack
+	report    *ModalityReport
+}
+
+func (l *loader) load() (*Cohort, *Report, error) {
+	l.tablePath = l.path(l.src.Participants)
+	tbl, err := readTable(l.tablePath)
+	if err != nil {
+		return nil, nil, err
+	}
+	rep := &Report{
+		Participants: l.tablePath,
+		Rows:         len(tbl.rows),
+		OutlierSD:    l.src.OutlierSD,
+		Notice:       Notice,
+		Excluded:     []Exclusion{},
+		Outliers:     []Outlier{},
+	}
+	rows, covReports := l.parseRows(tbl)
+	if err := l.errs.err(); err != nil {
+		return nil, nil, err
+	}
+
+	if l.src.Regions != "" {
+		lp := l.path(l.src.Regions)
+		names, _, err := readIDList(lp, "region label")
+		if err != nil {
+			return nil, nil, fmt.Errorf("cohort.regions: %w", err)
+		}
+		l.labels, l.labelsSrc, l.p, l.pSrc = names, lp, len(names), lp+" (the region labels)"
+	}
+
+	var mods []*modality
+	if l.src.Functional != nil {
+		mods = append(mods, &modality{name: "functional", spec: l.src.Functional})
+	}
+	if l.src.Structural != nil {
+		mods = append(mods, &modality{name: "structural", spec: l.src.Structural})
+	}
+	known := make(map[string]bool, len(rows))
+	for _, r := range rows {
+		known[r.id] = true
+	}
+	for _, m := range mods {
+		l.locate(m, known, rep)
+	}
+	if err := l.errs.err(); err != nil {
+		return nil, nil, err
+	}
+
+	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates}
+	perMod := map[string][]float64{} // per-participant statistics, by measure
+	var kept []*Participant
+	var keptLines []int
+	for _, r := range rows {
+		var reasons []string
+		for _, m := range mods {
+			if reason := l.absent(m, r.id); reason != "" {
+				reasons = append(reasons, reason)
+			}
+		}
+		if allNaN(r.scores) {
+			reasons = append(reasons, fmt.Sprintf("no value in any target column (%s)", strings.Join(l.src.Targets, ", ")))
+		}
+		if l.src.Group != "" && r.group == "" {
+			reasons = append(reasons, fmt.Sprintf("no value in group column %q", l.src.Group))
+		}
+		if len(reasons) > 0 {
+			c.Excluded = append(c.Excluded, Exclusion{ID: r.id, Reason: strings.Join(reasons, "; ")})
+			continue
+		}
+		p := &Participant{ID: r.id, Group: r.group, Scores: r.scores, Covariates: r.covariates}
+		ok := true
+		for _, m := range mods {
+			f, err := l.matrix(m, r.id)
+			if err == nil {
+				err = l.checkMatrix(m, f)
+			}
+			if err != nil {
+				l.errs.add(err)
+				ok = false
+				continue
+			}
+			a, path := f.a, f.path
+			meanConn, density := offDiagonal(a)
+			perMod[m.name+" mean"] = append(perMod[m.name+" mean"], meanConn)
+			perMod[m.name+" density"] = append(perMod[m.name+" density"], density)
+			if m.name == "functional" {
+				err = l.pre.Functional(a)
+				p.Functional = a
+			} else {
+				err = l.pre.Structural(a)
+				p.Structural = a
+			}
+			if err != nil {
+				l.errs.add(fmt.Errorf("%s: participant %s: preprocessing the %s matrix: %w", path, r.id, m.name, err))
+				ok = false
+			}
+		}
+		if ok {
+			kept = append(kept, p)
+			keptLines = append(keptLines, r.line)
+		}
+	}
+	if err := l.errs.err(); err != nil {
+		return nil, nil, err
+	}
+	c.Participants = kept
+	c.Regions = l.labels
+	if c.Regions == nil {
+		c.Regions = DefaultRegions(l.p)
+		l.labelsSrc = "default"
+	}
+	if c.Excluded == nil {
+		c.Excluded = []Exclusion{}
+	}
+
+	rep.Included = len(kept)
+	rep.Excluded = c.Excluded
+	rep.Regions = l.p
+	rep.RegionLabels = l.labelsSrc
+	for _, m := range mods {
+		mean := perMod[m.name+" mean"]
+		m.report.MeanConnectivity = describe(mean)
+		if m.name == "structural" {
+			d := describe(perMod[m.name+" density"])
+			m.report.Density = &d
+			rep.Outliers = append(rep.Outliers, outliers(kept, perMod[m.name+" density"], "structural density", l.src.OutlierSD)...)
+		} else {
+			rep.Outliers = append(rep.Outliers, outliers(kept, mean, "functional mean connectivity", l.src.OutlierSD)...)
+		}
+		if m.name == "functional" {
+			rep.Functional = m.report
+		} else {
+			rep.Structural = m.report
+		}
+	}
+	rep.Scores = make([]VariableReport, len(l.src.Targets))
+	for k, name := range l.src.Targets {
+		col := make([]float64, len(kept))
+		for i, p := range kept {
+			col[i] = p.Scores[k]
+		}
+		rep.Scores[k] = VariableReport{Name: name, Kind: "numeric", Stat: describe(col)}
+	}
+	for _, p := range kept {
+		if !allNaN(p.Scores) && anyNaN(p.Scores) {
+			rep.PartialScores++
+		}
+	}
+	for k := range covReports {
+		col := make([]float64, len(kept))
+		for i, p := range kept {
+			col[i] = p.Covariates[k]
+		}
+		covReports[k].Stat = describe(col)
+	}
+	rep.Covariates = covReports
+	if l.src.Group != "" {
+		rep.Group = describeGroups(l.src.Group, kept)
+	}
+	if len(kept) < l.src.MinParticipants {
+		return nil, rep, &TooFewError{Included: len(kept), Min: l.src.MinParticipants, Excluded: len(c.Excluded)}
+	}
+	return c, rep, nil
+}
+
+// parseRows parses the participants table's ids, scores, covariates and
+// groups, noting every problem in l.errs.
+func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
+	find := func(key, name string) int {
+		i := tbl.column(name)
+		if i < 0 {
+			l.errs.add(&FileError{Path: tbl.path, Line: 1, Err: fmt.Errorf("no column %q (named in cohort.%s); the header has %s", name, key, quoteAll(tbl.header))})
+		}
+		return i
+	}
+	idCol := find("participants", "participant_id")
+	targetCols := make([]int, len(l.src.Targets))
+	for k, t := range l.src.Targets {
+		targetCols[k] = find("targets", t)
+	}
+	covCols := make([]int, len(l.src.Covariates))
+	for k, c := range l.src.Covariates {
+		covCols[k] = find("covariates", c)
+	}
+	groupCol := -1
+	if l.src.Group != "" {
+		groupCol = find("group", l.src.Group)
+	}
+	if l.errs.err() != nil {
+		return nil, nil
+	}
+	if len(tbl.rows) == 0 {
+		l.errs.add(&FileError{Path: tbl.path, Err: errors.New("table has a header but no participant rows")})
+		return nil, nil
+	}
+	cellErr := func(r, col int, format string, args ...any) {
+		l.errs.add(&FileError{Path: tbl.path, Line: tbl.lines[r], Column: col + 1, ColumnName: tbl.header[col], Err: fmt.Errorf(format, args...)})
+	}
+
+	rows := make([]tableRow, len(tbl.rows))
+	seen := make(map[string]int)
+	for r, cells := range tbl.rows {
+		id := cells[idCol]
+		switch {
+		case isMissing(id):
+			cellErr(r, idCol, "participant_id is empty")
+		case strings.ContainsAny(id, `/\`) || id == "." || id == "..":
+			cellErr(r, idCol, "participant_id %q cannot name a file: it holds a path separator or is a dot name", id)
+		default:
+			if prev, dup := seen[id]; dup {
+				cellErr(r, idCol, "participant_id %q is already on line %d", id, prev)
+			}
+			seen[id] = tbl.lines[r]
+		}
+		row := tableRow{id: id, line: tbl.lines[r], scores: make([]float64, len(targetCols)), covariates: make([]float64, len(covCols))}
+		for k, col := range targetCols {
+			row.scores[k] = math.NaN()
+			cell := cells[col]
+			if isMissing(cell) {
+				continue
+			}
+			v, err := strconv.ParseFloat(cell, 64)
+			switch {
+			case err != nil:
+				cellErr(r, col, "value %q is not a number (a missing score is an empty cell or n/a)", cell)
+			case math.IsInf(v, 0) || math.IsNaN(v):
+				cellErr(r, col, "value %q is not a finite number (a missing score is an empty cell or n/a)", cell)
+			default:
+				row.scores[k] = v
+			}
+		}
+		if groupCol >= 0 && !isMissing(cells[groupCol]) {
+			row.group = cells[groupCol]
+		}
+		rows[r] = row
+	}
+
+	covReports := make([]VariableReport, len(covCols))
+	for k, col := range covCols {
+		covReports[k] = l.codeCovariate(tbl, col, k, rows, cellErr)
+	}
+	return rows, covReports
+}
+
+// codeCovariate fills covariate k of every row from column col: numbers as
+// they are, or, when every non-missing cell is text, the index of the
+// cell's value among the column's sorted distinct values.
+func (l *loader) codeCovariate(tbl *table, col, k int, rows []tableRow, cellErr func(r, col int, format string, args ...any)) VariableReport {
+	rep := VariableReport{Name: tbl.header[col], Kind: "numeric"}
+	first := -1 // first non-missing row
+	for r, cells := range tbl.rows {
+		if !isMissing(cells[col]) {
+			first = r
+			break
+		}
+	}
+	text := first >= 0 && !isNumber(tbl.rows[first][col])
+	levels := map[string]bool{}
+	for r, cells := range tbl.rows {
+		rows[r].covariates[k] = math.NaN()
+		cell := cells[col]
+		if isMissing(cell) {
+			continue
+		}
+		v, err := strconv.ParseFloat(cell, 64)
+		switch {
+		case text && err == nil:
+			cellErr(r, col, "value %q is a number, but this covariate is text from line %d on (%q); write all its values as text or all as numbers", cell, tbl.lines[first], tbl.rows[first][col])
+		case text:
+			levels[cell] = true
+		case err != nil:
+			cellErr(r, col, "value %q is not a number, but this covariate is numeric from line %d on (%q); write all its values as numbers or all as text", cell, tbl.lines[first], tbl.rows[first][col])
+		case math.IsInf(v, 0) || math.IsNaN(v):
+			cellErr(r, col, "value %q is not a finite number (a missing value is an empty cell or n/a)", cell)
+		default:
+			rows[r].covariates[k] = v
+		}
+	}
+	if !text {
+		return rep
+	}
+	rep.Kind = "text"
+	for lv := range levels {
+		rep.Levels = append(rep.Levels, lv)
+	}
+	sort.Strings(rep.Levels)
+	code := make(map[string]float64, len(rep.Levels))
+	for i, lv := range rep.Levels {
+		code[lv] = float64(i)
+	}
+	for r, cells := range tbl.rows {
+		if c, ok := code[cells[col]]; ok {
+			rows[r].covariates[k] = c
+		}
+	}
+	return rep
+}
+
+// locate finds a modality's files: for a stack it reads the stack and its
+// id list; for a template it scans for files with no table row.
+func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
+	key := "cohort." + m.name
+	unlisted := func(id, file string, err error) {
+		if l.src.Unlisted == UnlistedReport {
+			rep.Unlisted = append(rep.Unlisted, Unlisted{ID: id, Modality: m.name, File: file})
+			return
+		}
+		l.errs.add(err)
+	}
+	if m.spec.Stack != "" {
+		m.report = &ModalityReport{Source: m.spec.Stack}
+		m.idsPath = l.path(m.spec.StackIDs)
+		ids, lines, err := readIDList(m.idsPath, "participant_id")
+		if err != nil {
+			l.errs.add(fmt.Errorf("%s.stack_ids: %w", key, err))
+			return
+		}
+		m.stackPath = l.path(m.spec.Stack)
+		raw, err := os.ReadFile(m.stackPath)
+		if err != nil {
+			l.errs.add(fmt.Errorf("%s.stack: %w", key, err))
+			return
+		}
+		arr, err := decodeNPY(m.stackPath, raw)
+		if err == nil {
+			err = arr.checkStack(m.stackPath)
+		}
+		if err != nil {
+			l.errs.add(err)
+			return
+		}
+		if arr.shape[0] != len(ids) {
+			l.errs.add(&FileError{Path: m.stackPath, Err: fmt.Errorf("stack holds %d matrices (shape %v) but %s lists %d participants", arr.shape[0], arr.shape, m.idsPath, len(ids))})
+			return
+		}
+		if arr.shape[1] != arr.shape[2] {
+			l.errs.add(&FileError{Path: m.stackPath, Err: fmt.Errorf("stack of shape %v holds %d × %d matrices; expected square p × p", arr.shape, arr.shape[1], arr.shape[2])})
+			return
+		}
+		m.stack = arr
+		m.stackIdx = make(map[string]int, len(ids))
+		for k, id := range ids {
+			m.stackIdx[id] = k
+			if !known[id] {
+				unlisted(id, m.idsPath, fileErrorf(m.idsPath, lines[k], 0, "participant_id %q has a matrix in %s but no row in %s (set cohort.unlisted = %q to go on without it)", id, m.stackPath, l.tablePath, UnlistedReport))
+			}
+		}
+		return
+	}
+	m.report = &ModalityReport{Source: m.spec.Files}
+	pattern := l.path(m.spec.Files)
+	at := strings.Index(pattern, Placeholder)
+	prefix, suffix := pattern[:at], pattern[at+len(Placeholder):]
+	matches, err := filepath.Glob(escapeGlob(prefix) + "*" + escapeGlob(suffix))
+	if err != nil {
+		l.errs.add(fmt.Errorf("%s.files: %w", key, err))
+		return
+	}
+	for _, f := range matches {
+		if len(f) <= len(prefix)+len(suffix) || !strings.HasPrefix(f, prefix) || !strings.HasSuffix(f, suffix) {
+			continue
+		}
+		id := f[len(prefix) : len(f)-len(suffix)]
+		if strings.ContainsAny(id, `/\`) || known[id] {
+			continue
+		}
+		unlisted(id, f, &FileError{Path: f, Err: fmt.Errorf("file matches %s.files %q but participant_id %q has no row in %s (set cohort.unlisted = %q to go on without it)", key, m.spec.Files, id, l.tablePath, UnlistedReport)})
+	}
+}
+
+// absent returns why participant id has no matrix of modality m, or "".
+func (l *loader) absent(m *modality, id string) string {
+	if m.stack != nil {
+		if _, ok := m.stackIdx[id]; !ok {
+			return fmt.Sprintf("not listed in the %s stack_ids %s", m.name, m.idsPath)
+		}
+		return ""
+	}
+	f := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
+	if _, err := os.Stat(f); err != nil {
+		return fmt.Sprintf("no %s file %s", m.name, f)
+	}
+	return ""
+}
+
+// matrixFile is one participant's matrix of one modality with where it
+// came from, so that a check can name the place.
+type matrixFile struct {
+	a     *mat.Dense
+	path  string
+	where func(i, j int) (line, column int) // nil when entries have no line (.npy)
+	entry string                            // for a stack, which participant's matrix
+}
+
+// matrix reads participant id's matrix of modality m.
+func (l *loader) matrix(m *modality, id string) (*matrixFile, error) {
+	if m.stack != nil {
+		k := m.stackIdx[id]
+		return &matrixFile{a: m.stack.stack(k), path: m.stackPath, entry: fmt.Sprintf("participant %s (matrix %d of the stack)", id, k+1)}, nil
+	}
+	path := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	if strings.EqualFold(filepath.Ext(path), ".npy") {
+		arr, err := decodeNPY(path, raw)
+		if err != nil {
+			return nil, err
+		}
+		a, err := arr.matrix(path)
+		if err != nil {
+			return nil, err
+		}
+		return &matrixFile{a: a, path: path}, nil
+	}
+	tm, err := parseMatrixText(path, raw)
+	if err != nil {
+		return nil, err
+	}
+	if tm.labels != nil {
+		if err := l.agreeLabels(path, tm.labels); err != nil {
+			return nil, err
+		}
+	}
+	return &matrixFile{a: tm.m, path: path, where: tm.position}, nil
+}
+
+// agreeLabels checks a matrix's header labels against the cohort's.
+func (l *loader) agreeLabels(path string, labels []string) error {
+	if l.labels == nil {
+		l.labels, l.labelsSrc = labels, "header of "+path
+		return nil
+	}
+	if len(labels) != len(l.labels) {
+		return &FileError{Path: path, Err: fmt.Errorf("header has %d region labels, but %s has %d", len(labels), l.labelsSrc, len(l.labels))}
+	}
+	for k := range labels {
+		if labels[k] != l.labels[k] {
+			return &FileError{Path: path, Err: fmt.Errorf("region label %d is %q, but %s has %q", k+1, labels[k], l.labelsSrc, l.labels[k])}
+		}
+	}
+	return nil
+}
+
+// checkMatrix checks one participant's matrix: square, p × p like the
+// rest of the cohort, finite, symmetric within tolerance and in range.
+// Problems at an entry (i, j) name its line and column in a text file;
+// problems of the whole matrix (i = -1) name none.
+func (l *loader) checkMatrix(m *modality, f *matrixFile) error {
+	a, path := f.a, f.path
+	at := func(i, j int, format string, args ...any) error {
+		e := &FileError{Path: path, Err: fmt.Errorf(format, args...)}
+		if f.where != nil && i >= 0 {
+			e.Line, e.Column = f.where(i, j)
+		}
+		if f.entry != "" {
+			e.Err = fmt.Errorf("%s: %w", f.entry, e.Err)
+		}
+		return e
+	}
+	r, c := a.Dims()
+	if r != c {
+		return at(-1, -1, "matrix is %d × %d; expected a square p × p matrix", r, c)
+	}
+	if r < 2 {
+		return at(-1, -1, "matrix is %d × %d; expected at least 2 regions", r, c)
+	}
+	if l.p == 0 {
+		l.p, l.pSrc = r, path
+	} else if r != l.p {
+		return at(-1, -1, "matrix is %d × %d, expected %d × %d as in %s", r, c, l.p, l.p, l.pSrc)
+	}
+	if l.labels != nil && len(l.labels) != r {
+		return at(-1, -1, "matrix is %d × %d, but %s has %d region labels", r, c, l.labelsSrc, len(l.labels))
+	}
+	for i := range r {
+		for j := range c {
+			if v := a.At(i, j); math.IsNaN(v) || math.IsInf(v, 0) {
+				return at(i, j, "entry (%d, %d) is %v; expected a finite number", i+1, j+1, v)
+			}
+		}
+	}
+	worst, wi, wj := 0.0, 0, 0
+	for i := range r {
+		for j := i + 1; j < c; j++ {
+			if d := math.Abs(a.At(i, j) - a.At(j, i)); d > worst {
+				worst, wi, wj = d, i, j
+			}
+		}
+	}
+	if worst > m.spec.SymmetryTolerance {
+		return at(wi, wj, "not symmetric: entry (%d, %d) is %v but entry (%d, %d) is %v; the difference %.3g exceeds symmetry_tolerance %g (the worst pair)",
+			wi+1, wj+1, a.At(wi, wj), wj+1, wi+1, a.At(wj, wi), worst, m.spec.SymmetryTolerance)
+	}
+	for i := range r {
+		for j := range c {
+			v := a.At(i, j)
+			switch {
+			case m.name == "structural" && v < 0:
+				return at(i, j, "entry (%d, %d) is %v; structural values must be non-negative", i+1, j+1, v)
+			case m.name == "functional" && m.spec.Values == ValuesCorrelation && (v < -1 || v > 1):
+				return at(i, j, "entry (%d, %d) is %v, outside [-1, 1]; correlations expected (set cohort.functional.values = %q for other values)", i+1, j+1, v, ValuesAny)
+			}
+		}
+	}
+	return nil
+}
+
+// DefaultRegions returns the labels "R001", "R002", ... for p regions,
+// with at least three digits.
+func DefaultRegions(p int) []string {
+	width := max(3, len(strconv.Itoa(p)))
+	labels := make([]string, p)
+	for i := range labels {
+		labels[i] = fmt.Sprintf("R%0*d", width, i+1)
+	}
+	return labels
+}
+
+// escapeGlob escapes the characters filepath.Match treats as special.
+func escapeGlob(s string) string {
+	var b strings.Builder
+	for _, r := range s {
+		if strings.ContainsRune(`*?[\`, r) {
+			b.WriteByte('\\')
+		}
+		b.WriteRune(r)
+	}
+	return b.String()
+}
+
+func quoteAll(names []string) string {
+	q := make([]string, len(names))
+	for i, n := range names {
+		q[i] = strconv.Quote(n)
+	}
+	return strings.Join(q, ", ")
+}
+
+func allNaN(xs []float64) bool {
+	for _, x := range xs {
+		if !math.IsNaN(x) {
+			return false
+		}
+	}
+	return true
+}
+
+func anyNaN(xs []float64) bool {
+	for _, x := range xs {
+		if math.IsNaN(x) {
+			return true
+		}
+	}
+	return false
+}
