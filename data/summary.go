@@ -28,8 +28,8 @@ type Report struct {
 	Regions       int    `json:"regions"`       // p
 	RegionLabels  string `json:"region_labels"` // where the labels came from: a file, a matrix header or "default"
 	// Functional and Structural describe each modality; nil when absent.
-	Functional *ModalityReport `json:"functional,omitempty"`
-	Structural *ModalityReport `json:"structural,omitempty"`
+	Functional *ModalityReport  `json:"functional,omitempty"`
+	Structural *ModalityReport  `json:"structural,omitempty"`
 	Scores     []VariableReport `json:"scores"`
 	Covariates []VariableReport `json:"covariates,omitempty"`
 	Group      *GroupReport     `json:"group,omitempty"`
