@@ -37,17 +37,17 @@ func floats(fs []fnum) []float64 {
 }
 
 type refMetrics struct {
-	N           int  `json:"n"`
-	Missing     int  `json:"missing"`
-	Repeat      int  `json:"repeat"`
-	Fold        int  `json:"fold"`
-	Pearson     fnum `json:"pearson_r"`
-	Spearman    fnum `json:"spearman_rho"`
-	MAE         fnum `json:"mae"`
-	MedianAE    fnum `json:"median_ae"`
-	RMSE        fnum `json:"rmse"`
-	R2          fnum `json:"r2"`
-	NMI         fnum `json:"nmi"`
+	N        int  `json:"n"`
+	Missing  int  `json:"missing"`
+	Repeat   int  `json:"repeat"`
+	Fold     int  `json:"fold"`
+	Pearson  fnum `json:"pearson_r"`
+	Spearman fnum `json:"spearman_rho"`
+	MAE      fnum `json:"mae"`
+	MedianAE fnum `json:"median_ae"`
+	RMSE     fnum `json:"rmse"`
+	R2       fnum `json:"r2"`
+	NMI      fnum `json:"nmi"`
 }
 
 func (r refMetrics) values() Values {
