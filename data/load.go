@@ -16,8 +16,9 @@ import (
 // Load reads the cohort that src describes, checks every file, preprocesses
 // each matrix with pre and returns the included participants in table
 // order, with Cohort.Excluded listing the others and why. Relative paths
-// in src are taken from baseDir, the folder of the experiment file. It is
-// Check without the report.
+// in src are taken from baseDir, the folder of the experiment file. Unset
+// fields of src and pre take their defaults (the caller's values are not
+// changed). It is Check without the report.
 func Load(src Source, pre Preprocess, baseDir string) (*Cohort, error) {
 	c, _, err := Check(src, pre, baseDir)
 	return c, err
@@ -50,6 +51,10 @@ func Check(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error)
 	src = src.clone()
 	src.SetDefaults()
 	if err := src.Validate(); err != nil {
+		return nil, nil, err
+	}
+	pre.SetDefaults()
+	if err := pre.Validate(); err != nil {
 		return nil, nil, err
 	}
 	l := &loader{src: src, pre: pre, baseDir: baseDir}

@@ -85,9 +85,8 @@ type GroupReport struct {
 }
 
 // Outlier flags a participant whose measure lies more than OutlierSD
-// robust SDs from the cohort median: |x − median| > k × 1.4826 × MAD,
-// where MAD is the median of |x_i − median|. When the robust SD is 0 every
-// value other than the median is flagged and RobustZ is 0.
+// robust SDs from the cohort median: |x − median| > k × RobustSD(xs).
+// No value is flagged when the robust SD is 0 (all values equal).
 type Outlier struct {
 	ID       string  `json:"participant_id"`
 	Measure  string  `json:"measure"` // "functional mean connectivity" or "structural density"
@@ -156,19 +155,27 @@ func median(xs []float64) float64 {
 	return (xs[n/2-1] + xs[n/2]) / 2
 }
 
-// RobustSD returns the median of xs and 1.4826 × the median absolute
-// deviation from it, a standard deviation estimate that outliers barely
-// move (1.4826 ≈ 1/Φ⁻¹(3/4) makes it consistent for normal data).
+// RobustSD returns the median of xs and a robust standard deviation:
+// 1.4826 × MAD, the median absolute deviation from the median (1.4826 ≈
+// 1/Φ⁻¹(3/4) makes it match the SD of normal data; scipy.stats
+// median_abs_deviation(scale="normal")). When MAD is 0, as with
+// discrete measures such as density, it falls back to 1.253314 × the mean
+// absolute deviation from the median (1.253314 ≈ √(π/2); the usual
+// fallback of the modified z-score, from memory). It returns 0 only when
+// every value equals the median.
 func RobustSD(xs []float64) (med, sd float64) {
 	if len(xs) == 0 {
 		return math.NaN(), math.NaN()
 	}
-	c := append([]float64(nil), xs...)
-	med = median(c)
+	dev := append([]float64(nil), xs...)
+	med = median(dev)
 	for i, x := range xs {
-		c[i] = math.Abs(x - med)
+		dev[i] = math.Abs(x - med)
 	}
-	return med, 1.4826 * median(c)
+	if mad := median(dev); mad > 0 {
+		return med, 1.4826 * mad
+	}
+	return med, 1.253314 * stat.Mean(dev, nil)
 }
 
 // outliers flags participants whose value lies more than k robust SDs
@@ -180,14 +187,10 @@ func outliers(ps []*Participant, values []float64, measure string, k float64) []
 	med, sd := RobustSD(values)
 	var out []Outlier
 	for i, v := range values {
-		if math.Abs(v-med) <= k*sd || v == med {
+		if sd == 0 || math.Abs(v-med) <= k*sd {
 			continue
 		}
-		o := Outlier{ID: ps[i].ID, Measure: measure, Value: v, Median: med, RobustSD: sd}
-		if sd > 0 {
-			o.RobustZ = (v - med) / sd
-		}
-		out = append(out, o)
+		out = append(out, Outlier{ID: ps[i].ID, Measure: measure, Value: v, Median: med, RobustSD: sd, RobustZ: (v - med) / sd})
 	}
 	return out
 }
@@ -213,13 +216,13 @@ func describeGroups(column string, ps []*Participant) *GroupReport {
 func (r *Report) WriteText(w io.Writer) error {
 	var b strings.Builder
 	fmt.Fprintf(&b, "participants table: %s (%d rows)\n", r.Participants, r.Rows)
-	fmt.Fprintf(&b, "included: %d participants\n", r.Included)
-	fmt.Fprintf(&b, "excluded: %d participants\n", len(r.Excluded))
+	fmt.Fprintf(&b, "included: %s\n", participants(r.Included))
+	fmt.Fprintf(&b, "excluded: %s\n", participants(len(r.Excluded)))
 	for _, e := range r.Excluded {
 		fmt.Fprintf(&b, "  %s: %s\n", e.ID, e.Reason)
 	}
 	if r.PartialScores > 0 {
-		fmt.Fprintf(&b, "kept with some scores missing: %d participants (missing scores are masked in training)\n", r.PartialScores)
+		fmt.Fprintf(&b, "kept with some scores missing: %s (missing scores are masked in training)\n", participants(r.PartialScores))
 	}
 	fmt.Fprintf(&b, "regions: %d (labels: %s)\n", r.Regions, r.RegionLabels)
 	if m := r.Functional; m != nil {
@@ -254,11 +257,7 @@ func (r *Report) WriteText(w io.Writer) error {
 	}
 	fmt.Fprintf(&b, "outliers (more than %g robust SD from the median; flagged, not excluded): %d\n", r.OutlierSD, len(r.Outliers))
 	for _, o := range r.Outliers {
-		z := fmt.Sprintf("%+.1f robust SD", o.RobustZ)
-		if o.RobustSD == 0 {
-			z = "robust SD is 0"
-		}
-		fmt.Fprintf(&b, "  %s: %s %.4g (median %.4g, %s)\n", o.ID, o.Measure, o.Value, o.Median, z)
+		fmt.Fprintf(&b, "  %s: %s %.4g (median %.4g, robust SD %.3g: %+.1f robust SD)\n", o.ID, o.Measure, o.Value, o.Median, o.RobustSD, o.RobustZ)
 	}
 	if len(r.Unlisted) > 0 {
 		fmt.Fprintf(&b, "unlisted (matrices with no table row, not used): %d\n", len(r.Unlisted))
@@ -276,4 +275,11 @@ func (s Stat) text() string {
 		return fmt.Sprintf("n = 0, missing %d", s.Missing)
 	}
 	return fmt.Sprintf("mean %.4g, SD %.4g, range %.4g to %.4g; n = %d, missing %d", s.Mean, s.SD, s.Min, s.Max, s.N, s.Missing)
+}
+
+func participants(n int) string {
+	if n == 1 {
+		return "1 participant"
+	}
+	return fmt.Sprintf("%d participants", n)
 }

@@ -2,9 +2,77 @@ package main
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
+	"flag"
+	"fmt"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/train"
 )
 
+// cmdCheck loads and checks the cohort of an experiment file and prints
+// what it found: skein check EXPERIMENT.toml [--json].
 func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
-	return errors.New("not implemented yet")
+	fs := flag.NewFlagSet("check", flag.ContinueOnError)
+	fs.SetOutput(cio.stderr)
+	asJSON := fs.Bool("json", false, "print the report as JSON for scripts")
+	fs.Usage = func() {
+		fmt.Fprintln(fs.Output(), "usage: skein check EXPERIMENT.toml [--json]")
+		fmt.Fprintln(fs.Output(), "\nLoads the [cohort] of the experiment file, checks every file and prints a summary:")
+		fmt.Fprintln(fs.Output(), "included and excluded participants with reasons, regions, per-modality statistics,")
+		fmt.Fprintln(fs.Output(), "scores, covariate codings and outlier flags.")
+		fs.PrintDefaults()
+	}
+	positional, err := parseInterleaved(fs, args)
+	if err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return nil
+		}
+		return badInput(err)
+	}
+	if len(positional) != 1 {
+		fs.Usage()
+		return badInput(fmt.Errorf("want one experiment file, got %d arguments", len(positional)))
+	}
+	exp, err := train.ReadExperiment(positional[0])
+	if err != nil {
+		return badInput(err)
+	}
+	_, report, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
+	if report != nil {
+		if werr := writeReport(cio, report, *asJSON); werr != nil {
+			return werr
+		}
+	}
+	if err != nil {
+		return badInput(err)
+	}
+	return nil
+}
+
+func writeReport(cio commandIO, r *data.Report, asJSON bool) error {
+	if !asJSON {
+		return r.WriteText(cio.stdout)
+	}
+	enc := json.NewEncoder(cio.stdout)
+	enc.SetIndent("", "  ")
+	return enc.Encode(r)
+}
+
+// parseInterleaved parses flags that may come before or after the
+// positional arguments ("skein check exp.toml --json") and returns the
+// positional ones.
+func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
+	var positional []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return nil, err
+		}
+		if fs.NArg() == 0 {
+			return positional, nil
+		}
+		positional = append(positional, fs.Arg(0))
+		args = fs.Args()[1:]
+	}
 }
