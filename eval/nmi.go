@@ -39,8 +39,11 @@ func EqualFrequencyBins(x []float64, bins int) []int {
 //
 // It lies in [0, 1]: 0 when the bins of the predictions say nothing about
 // the bins of the observed values, 1 when they match one to one. Binning
-// makes NMI insensitive to any monotone rescaling of either side. It is NaN
-// when no pair is complete.
+// makes NMI insensitive to any monotone rescaling of either side. Like any
+// plug-in estimate of mutual information it is biased upwards in small
+// samples: with n ≤ bins pairs every value has a bin of its own and NMI is 1
+// whatever the predictions, so score NMI on pooled predictions or on sets of
+// many more pairs than bins. It is NaN when no pair is complete.
 func NMI(observed, predicted []float64, bins int) float64 {
 	if bins <= 0 {
 		bins = DefaultBins

@@ -459,9 +459,26 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 		fmt.Fprintf(&b, "Each cell is the value over all predictions; n counts pairs. NMI uses %d "+
 			"equal-frequency bins. R² is out of sample and may be negative.\n", s.Bins)
 	}
+	if small := s.smallestFold(); small >= 0 && small < 2*s.Bins {
+		fmt.Fprintf(&b, "\nSome folds of fewer than %d pairs (the smallest has %d): their NMI is biased "+
+			"upwards, and is 1 by construction at %d pairs or fewer; compare the pooled NMI.\n", 2*s.Bins, small, s.Bins)
+	}
 	b.WriteString("\n> " + Disclaimer + "\n")
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// smallestFold returns the fewest pairs of any fold, −1 without folds.
+func (s *Summary) smallestFold() int {
+	smallest := -1
+	for _, g := range s.Groups {
+		for _, f := range g.Folds {
+			if smallest < 0 || f.N < smallest {
+				smallest = f.N
+			}
+		}
+	}
+	return smallest
 }
 
 // cell formats one metric of g for a table: "mean ± SD [pooled]".

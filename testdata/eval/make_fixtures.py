@@ -254,10 +254,13 @@ def predictions(rng):
 
 def fmt(v):
     # The same text as Go's strconv.FormatFloat(v, 'g', -1, 64) for these
-    # values: repr gives the shortest round-tripping decimal.
+    # values: repr gives the shortest round-tripping decimal, and Go writes
+    # whole numbers without ".0".
     if isinstance(v, float):
         if math.isnan(v):
             return "NaN"
+        if v.is_integer() and abs(v) < 1e15:
+            return str(int(v))
         return repr(v)
     return str(v)
 

@@ -1,0 +1,148 @@
+package eval
+
+import (
+	"bytes"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+func readFixturePredictions(t *testing.T) []Prediction {
+	t.Helper()
+	path := filepath.Join("..", "testdata", "eval", "predictions.csv")
+	fh, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer fh.Close()
+	rows, _, err := ReadPredictions(fh, path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return rows
+}
+
+// Pooled and per-fold figures and their mean and SD (numpy.std, ddof=1)
+// against the fixture script's scipy/scikit-learn values for the invented
+// run in predictions.csv (make_fixtures.py, predictions).
+func TestSummarizeAgainstFixture(t *testing.T) {
+	want := loadFixtures(t).PredictionsSummary
+	got := Summarize(readFixturePredictions(t), 0, true)
+	if got.Bins != DefaultBins || len(got.Groups) != len(want) {
+		t.Fatalf("bins %d, %d groups; want %d, %d", got.Bins, len(got.Groups), DefaultBins, len(want))
+	}
+	for i, w := range want {
+		g := got.Groups[i]
+		name := w.Model + "/" + w.Target
+		if g.Model != w.Model || g.Target != w.Target {
+			t.Fatalf("group %d is %s/%s, want %s", i, g.Model, g.Target, name)
+		}
+		if g.Pooled.N != w.Pooled.N || g.Pooled.Missing != w.Pooled.Missing {
+			t.Errorf("%s pooled: N, Missing = %d, %d; want %d, %d", name, g.Pooled.N, g.Pooled.Missing, w.Pooled.N, w.Pooled.Missing)
+		}
+		checkValues(t, name+" pooled", g.Pooled.Values, w.Pooled.values(), 1e-10)
+		if len(g.Folds) != len(w.Folds) {
+			t.Fatalf("%s: %d folds, want %d", name, len(g.Folds), len(w.Folds))
+		}
+		for j, wf := range w.Folds {
+			f := g.Folds[j]
+			if f.Repeat != wf.Repeat || f.Fold != wf.Fold || f.N != wf.N {
+				t.Errorf("%s fold %d: repeat, fold, N = %d, %d, %d; want %d, %d, %d", name, j, f.Repeat, f.Fold, f.N, wf.Repeat, wf.Fold, wf.N)
+			}
+			checkValues(t, name+" fold", f.Values, wf.values(), 1e-10)
+		}
+		checkValues(t, name+" fold mean", g.FoldMean, w.FoldMean.values(), 1e-10)
+		checkValues(t, name+" fold SD", g.FoldSD, w.FoldSD.values(), 1e-10)
+		if len(g.FoldUndefined) != 0 {
+			t.Errorf("%s: undefined folds %v", name, g.FoldUndefined)
+		}
+	}
+}
+
+func TestSummarizeWithoutFolds(t *testing.T) {
+	rows := []Prediction{{Observed: 1, Predicted: 2}, {Observed: 2, Predicted: 2}, {Observed: 3, Predicted: 5}}
+	s := Summarize(rows, 2, false)
+	if len(s.Groups) != 1 || len(s.Groups[0].Folds) != 0 || s.Groups[0].Pooled.N != 3 {
+		t.Fatalf("summary %+v", s)
+	}
+	if g := s.Groups[0]; !math.IsNaN(g.FoldMean.MAE) || !math.IsNaN(g.FoldSD.MAE) || g.Pooled.MAE != 1 {
+		t.Errorf("group %+v", g)
+	}
+}
+
+// A fold where a metric is undefined is left out of the mean and counted.
+func TestSummarizeUndefinedFold(t *testing.T) {
+	rows := []Prediction{
+		{Fold: 0, Observed: 1, Predicted: 5}, {Fold: 0, Observed: 2, Predicted: 5}, // constant prediction: r undefined
+		{Fold: 1, Observed: 1, Predicted: 1}, {Fold: 1, Observed: 2, Predicted: 3},
+		{Fold: 2, Observed: 1, Predicted: 2}, {Fold: 2, Observed: 2, Predicted: 1},
+	}
+	g := Summarize(rows, 2, true).Groups[0]
+	if g.FoldUndefined[MetricPearson] != 1 || g.FoldUndefined[MetricSpearman] != 1 || len(g.FoldUndefined) != 2 {
+		t.Errorf("undefined %v, want pearson_r: 1, spearman_rho: 1", g.FoldUndefined)
+	}
+	if g.FoldMean.Pearson != 0 || g.FoldSD.Pearson != math.Sqrt2 {
+		t.Errorf("r mean, SD = %v, %v; want 0, √2", g.FoldMean.Pearson, g.FoldSD.Pearson)
+	}
+}
+
+func TestSummaryJSONRoundTrip(t *testing.T) {
+	rows := readFixturePredictions(t)
+	// A fold with one pair makes r NaN, which JSON writes as null.
+	rows = append(rows, Prediction{ParticipantID: "sub-99", Model: "ridge", Target: "memory", Repeat: 5, Observed: 1, Predicted: 2})
+	s := Summarize(rows, 4, true)
+	var buf bytes.Buffer
+	if err := s.WriteJSON(&buf); err != nil {
+		t.Fatal(err)
+	}
+	if !json.Valid(buf.Bytes()) || !strings.Contains(buf.String(), `"pearson_r": null`) || !strings.Contains(buf.String(), "not a diagnostic device") {
+		t.Fatalf("metrics.json lacks null for NaN or the disclaimer:\n%.400s", buf.String())
+	}
+	var back Summary
+	if err := json.Unmarshal(buf.Bytes(), &back); err != nil {
+		t.Fatal(err)
+	}
+	var again bytes.Buffer
+	if err := back.WriteJSON(&again); err != nil {
+		t.Fatal(err)
+	}
+	if again.String() != buf.String() {
+		t.Error("JSON changes after a round trip")
+	}
+	g := back.Group("ridge", "memory")
+	if g == nil || g.Pooled.N != s.Group("ridge", "memory").Pooled.N || !math.IsNaN(g.Folds[len(g.Folds)-1].Pearson) {
+		t.Errorf("round trip lost values: %+v", g)
+	}
+	// Unknown metric names are errors, not dropped.
+	var v Values
+	if err := json.Unmarshal([]byte(`{"accuracy": 1}`), &v); err == nil {
+		t.Error("unknown key accepted")
+	}
+}
+
+func TestWriteMarkdown(t *testing.T) {
+	var buf bytes.Buffer
+	if err := Summarize(readFixturePredictions(t), 0, true).WriteMarkdown(&buf); err != nil {
+		t.Fatal(err)
+	}
+	md := buf.String()
+	for _, want := range []string{
+		"### anxiety\n\n| model | n | folds | Pearson r | Spearman ρ | MAE | median AE | RMSE | R² | NMI |\n",
+		"| graphnet | 48 | 6 |",
+		"| ridge | 47 | 6 |",
+		"folds of fewer than 20 pairs",
+		"not a diagnostic device",
+		"ethics approval, data-use agreements and clinical judgement",
+		"mean ± SD over test folds",
+	} {
+		if !strings.Contains(md, want) {
+			t.Errorf("summary.md lacks %q:\n%s", want, md)
+		}
+	}
+	if strings.Index(md, "### anxiety") > strings.Index(md, "### memory") {
+		t.Error("targets not in order")
+	}
+}
