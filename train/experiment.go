@@ -44,12 +44,6 @@ type ModelConfig struct {
 	linear.Config
 }
 
-// CV is a cross-validation scheme. (Placeholder; the runner fills it.)
-type CV struct {
-	Folds   int `toml:"folds"`
-	Repeats int `toml:"repeats"`
-}
-
 // ReadExperiment reads and checks the experiment file at path. Unknown keys
 // and values of the wrong type are errors naming the key and its line.
 func ReadExperiment(path string) (*Experiment, error) {
@@ -85,10 +79,9 @@ func ParseExperiment(raw []byte) (*Experiment, error) {
 func (e *Experiment) SetDefaults() {
 	e.Cohort.SetDefaults()
 	e.Preprocess.SetDefaults()
+	e.CV.SetDefaults()
 	for i := range e.Models {
-		if e.Models[i].Network != nil {
-			e.Models[i].Network.SetDefaults()
-		}
+		e.Models[i].SetDefaults()
 	}
 }
 
@@ -100,6 +93,9 @@ func (e *Experiment) Validate() error {
 	if err := e.Preprocess.Validate(); err != nil {
 		return err
 	}
+	if err := e.CV.Validate(); err != nil {
+		return err
+	}
 	seen := make(map[string]bool)
 	for i, m := range e.Models {
 		if m.Name == "" {
@@ -109,13 +105,39 @@ func (e *Experiment) Validate() error {
 			return fmt.Errorf("model[%d]: name %q is used twice", i, m.Name)
 		}
 		seen[m.Name] = true
-		if m.Network != nil {
-			if err := m.Network.Validate(); err != nil {
-				return fmt.Errorf("model %q: %w", m.Name, err)
-			}
+		if err := m.Validate(); err != nil {
+			return fmt.Errorf("model %q: %w", m.Name, err)
 		}
 	}
 	return nil
+}
+
+// Kind returns the key of the model's kind table: "network", or a
+// baseline's ("mean", "ridge", "kernel_ridge", "cpm").
+func (m ModelConfig) Kind() string {
+	if m.Network != nil {
+		return "network"
+	}
+	return m.Config.Kind()
+}
+
+// SetDefaults fills every unset field of the chosen kind with its default.
+func (m *ModelConfig) SetDefaults() {
+	if m.Network != nil {
+		m.Network.SetDefaults()
+	}
+	m.Config.SetDefaults()
+}
+
+// Validate reports the first setting that cannot work, naming its key.
+func (m ModelConfig) Validate() error {
+	if m.Network == nil {
+		return m.Config.Validate()
+	}
+	if k := m.Config.Kind(); k != "" {
+		return fmt.Errorf("tables model.network and model.%s are both set; choose one", k)
+	}
+	return m.Network.Validate()
 }
 
 // describeTOMLError rewrites go-toml's errors to name the key and its line.

@@ -3,8 +3,151 @@ package main
 import (
 	"context"
 	"errors"
+	"flag"
+	"fmt"
+	"log/slog"
+	"os"
+	"path/filepath"
+	"runtime"
+	"runtime/debug"
+	"strings"
+	"time"
+
+	"github.com/pelletier/go-toml/v2"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/model"
+	"github.com/skein-neuro/skein/train"
+)
+
+// Files of a run folder written here; the results are eval.WriteRun's.
+const (
+	resolvedFile = "experiment.toml"
+	logFile      = "run.log"
+	versionsFile = "versions.txt"
 )
 
 func cmdRun(ctx context.Context, cio commandIO, args []string) error {
-	return errors.New("not implemented yet")
+	fs := flag.NewFlagSet("run", flag.ContinueOnError)
+	fs.SetOutput(cio.stderr)
+	out := fs.String("out", "", "run folder to create (default runs/NAME-YYYYMMDD-HHMMSS)")
+	jobs := fs.Int("jobs", runtime.NumCPU(), "units trained at once; results do not depend on it")
+	force := fs.Bool("force", false, "replace an existing run folder once the new run has finished")
+	resume := fs.Bool("resume", false, "finish an interrupted run in the same folder")
+	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins for NMI")
+	fs.Usage = func() {
+		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume]")
+		fs.PrintDefaults()
+	}
+	if err := fs.Parse(args); err != nil {
+		return badInput(err)
+	}
+	if fs.NArg() != 1 {
+		fs.Usage()
+		return badInput(errors.New("want one experiment file"))
+	}
+	expPath := fs.Arg(0)
+	exp, err := train.ReadExperiment(expPath)
+	if err != nil {
+		return badInput(err)
+	}
+	if len(exp.Models) == 0 {
+		return badInput(fmt.Errorf("%s: no [[model]] to run", expPath))
+	}
+	cohort, err := data.Load(exp.Cohort, exp.Preprocess, exp.Dir)
+	if err != nil {
+		return badInput(err)
+	}
+	if *out == "" {
+		if *resume {
+			return badInput(errors.New("--resume needs the --out folder of the interrupted run"))
+		}
+		stem := strings.TrimSuffix(filepath.Base(expPath), filepath.Ext(expPath))
+		if stem == "experiment" {
+			stem = filepath.Base(exp.Dir)
+		}
+		*out = filepath.Join("runs", stem+"-"+time.Now().Format("20060102-150405"))
+	}
+	resolved, err := toml.Marshal(exp)
+	if err != nil {
+		return err
+	}
+	rd, err := train.OpenRunDir(*out, *force, *resume)
+	if err != nil {
+		return badInput(err)
+	}
+	if err := rd.CheckResume(resolvedFile, resolved); err != nil {
+		return badInput(err)
+	}
+	if err := rd.WriteFile(resolvedFile, resolved); err != nil {
+		return err
+	}
+	logOut, err := os.OpenFile(rd.WorkPath(logFile), os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644)
+	if err != nil {
+		return err
+	}
+	defer logOut.Close()
+	fileLog := slog.New(slog.NewJSONHandler(logOut, nil))
+	fileLog.Info("run started", "experiment", expPath, "out", rd.Final, "seed", exp.Seed,
+		"participants", len(cohort.Participants), "excluded", len(cohort.Excluded), "jobs", *jobs, "resume", *resume)
+	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), len(exp.Models)*exp.CV.Folds*exp.CV.Repeats)
+	fmt.Fprintf(cio.stderr, "skein run: %d participants (%d excluded), %d regions, %d models, %d-fold × %d\n",
+		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), exp.CV.Folds, exp.CV.Repeats)
+
+	runner := &train.Runner{
+		Experiment:  exp,
+		Cohort:      cohort,
+		Jobs:        *jobs,
+		Logger:      fileLog,
+		OnEvent:     show.event,
+		Checkpoints: rd.Checkpoints(),
+	}
+	res, err := runner.Run(ctx)
+	show.finish()
+	if err != nil {
+		fileLog.Error("run failed", "error", err.Error())
+		switch {
+		case errors.Is(err, context.Canceled):
+			return fmt.Errorf("%w; finished units are kept in %s: rerun with --resume --out %s", err, rd.Partial, rd.Final)
+		case errors.Is(err, model.ErrDiverged):
+			return &exitError{exitTraining, fmt.Errorf("%w (nothing written to %s; the work folder %s keeps finished units)", err, rd.Final, rd.Partial)}
+		}
+		return err
+	}
+	sum, err := eval.WriteRun(rd, exp, res, *bins)
+	if err != nil {
+		return err
+	}
+	if err := rd.WriteFile(versionsFile, []byte(versions(exp))); err != nil {
+		return err
+	}
+	fileLog.Info("run finished")
+	if err := rd.Commit(); err != nil {
+		return err
+	}
+	if err := sum.WriteMarkdown(cio.stdout); err != nil {
+		return err
+	}
+	fmt.Fprintf(cio.stdout, "\nResults in %s\n", rd.Final)
+	return nil
+}
+
+// versions records what made a run: skein's and its modules' versions, Go,
+// the machine and the seed.
+func versions(exp *train.Experiment) string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "go %s %s/%s, %d CPUs\nseed %d\n", runtime.Version(), runtime.GOOS, runtime.GOARCH, runtime.NumCPU(), exp.Seed)
+	if info, ok := debug.ReadBuildInfo(); ok {
+		fmt.Fprintf(&b, "%s %s\n", info.Main.Path, info.Main.Version)
+		for _, s := range info.Settings {
+			if s.Key == "vcs.revision" || s.Key == "vcs.modified" || s.Key == "-tags" {
+				fmt.Fprintf(&b, "%s %s\n", s.Key, s.Value)
+			}
+		}
+		for _, dep := range info.Deps {
+			fmt.Fprintf(&b, "%s %s\n", dep.Path, dep.Version)
+		}
+	}
+	return b.String()
 }

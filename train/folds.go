@@ -1,0 +1,207 @@
+package train
+
+import (
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+	"sort"
+)
+
+// Split is one cross-validation fold of one repeat: indices into the
+// cohort's participants, each sorted ascending.
+type Split struct {
+	Repeat int // 0-based
+	Fold   int // 0-based
+	Train  []int
+	Test   []int
+}
+
+// Folds says how to cut n participants into repeated k-fold splits.
+type Folds struct {
+	// K is the number of folds, at least 2.
+	K int
+	// Repeats is the number of times the whole k-fold cut is redone with a
+	// fresh shuffle, at least 1.
+	Repeats int
+	// Seed makes the shuffles reproducible.
+	Seed uint64
+	// Groups, when not nil, holds one label per participant; participants
+	// sharing a label (a family, a site) always fall in the same fold, so
+	// a group is never split across training and test.
+	Groups []string
+	// Strata, when not nil, holds one value per participant (a target;
+	// NaN where missing) and asks for folds balanced on its quantiles.
+	Strata []float64
+}
+
+// Splits returns the Repeats × K splits of n participants, repeat by repeat.
+// Every participant is in exactly one test fold per repeat. With Groups,
+// whole groups are dealt to folds: the groups are shuffled, then (when
+// Strata are set) ordered by their mean stratum value and dealt in blocks
+// of K, one group to each fold in shuffled order, which balances the folds
+// on the strata; without Strata each group goes to the fold with the fewest
+// participants so far, which balances fold sizes. It is an error to ask for
+// more folds than there are groups.
+func (f Folds) Splits(n int) ([]Split, error) {
+	if f.K < 2 {
+		return nil, fmt.Errorf("train: %d folds: need at least 2", f.K)
+	}
+	if f.Repeats < 1 {
+		return nil, fmt.Errorf("train: %d repeats: need at least 1", f.Repeats)
+	}
+	if f.Groups != nil && len(f.Groups) != n || f.Strata != nil && len(f.Strata) != n {
+		panic("train: Folds.Groups or Strata length differs from n")
+	}
+	units := f.units(n)
+	if len(units) < f.K {
+		return nil, fmt.Errorf("train: %d folds but only %d groups of participants", f.K, len(units))
+	}
+	var splits []Split
+	for r := 0; r < f.Repeats; r++ {
+		rng := rand.New(rand.NewPCG(f.Seed, uint64(r)+1))
+		fold := f.deal(units, rng)
+		for k := 0; k < f.K; k++ {
+			s := Split{Repeat: r, Fold: k}
+			for u, members := range units {
+				if fold[u] == k {
+					s.Test = append(s.Test, members...)
+				} else {
+					s.Train = append(s.Train, members...)
+				}
+			}
+			slices.Sort(s.Test)
+			slices.Sort(s.Train)
+			splits = append(splits, s)
+		}
+	}
+	return splits, nil
+}
+
+// units returns the indivisible units of dealing: groups, or single
+// participants when there are no groups, in order of first appearance.
+func (f Folds) units(n int) [][]int {
+	if f.Groups == nil {
+		units := make([][]int, n)
+		for i := range units {
+			units[i] = []int{i}
+		}
+		return units
+	}
+	index := make(map[string]int)
+	var units [][]int
+	for i, g := range f.Groups {
+		u, ok := index[g]
+		if !ok {
+			u = len(units)
+			index[g] = u
+			units = append(units, nil)
+		}
+		units[u] = append(units[u], i)
+	}
+	return units
+}
+
+// deal assigns each unit a fold.
+func (f Folds) deal(units [][]int, rng *rand.Rand) []int {
+	order := rng.Perm(len(units))
+	fold := make([]int, len(units))
+	if f.Strata != nil {
+		key := make([]float64, len(units))
+		for u, members := range units {
+			key[u] = meanIgnoringNaN(f.Strata, members)
+		}
+		// Stable sort of the shuffled order by stratum value: ties and
+		// NaN keep their random order (NaN last).
+		sort.SliceStable(order, func(a, b int) bool {
+			ka, kb := key[order[a]], key[order[b]]
+			if math.IsNaN(kb) {
+				return !math.IsNaN(ka)
+			}
+			return ka < kb
+		})
+		for start := 0; start < len(order); start += f.K {
+			slots := rng.Perm(f.K)
+			for j := start; j < min(start+f.K, len(order)); j++ {
+				fold[order[j]] = slots[j-start]
+			}
+		}
+		return fold
+	}
+	if f.Groups == nil {
+		for j, u := range order {
+			fold[u] = j % f.K
+		}
+		return fold
+	}
+	// Largest groups first so that sizes balance; the shuffle breaks ties.
+	sort.SliceStable(order, func(a, b int) bool { return len(units[order[a]]) > len(units[order[b]]) })
+	size := make([]int, f.K)
+	for _, u := range order {
+		k := slices.Index(size, slices.Min(size))
+		fold[u] = k
+		size[k] += len(units[u])
+	}
+	return fold
+}
+
+func meanIgnoringNaN(x []float64, idx []int) float64 {
+	var sum float64
+	var n int
+	for _, i := range idx {
+		if !math.IsNaN(x[i]) {
+			sum += x[i]
+			n++
+		}
+	}
+	if n == 0 {
+		return math.NaN()
+	}
+	return sum / float64(n)
+}
+
+// InnerValidation picks the inner validation part of a training fold:
+// count participants when count > 0, else the given fraction of the
+// training fold (rounded), keeping groups whole. It returns the remaining
+// training indices and the validation indices, both sorted. The choice is
+// seeded and never looks at the test fold.
+func InnerValidation(train []int, groups []string, count int, fraction float64, seed uint64) (fit, valid []int) {
+	want := count
+	if want <= 0 {
+		want = int(math.Round(fraction * float64(len(train))))
+	}
+	if want <= 0 {
+		return slices.Clone(train), nil
+	}
+	sub := Folds{}
+	if groups != nil {
+		sub.Groups = make([]string, len(train))
+		for j, i := range train {
+			sub.Groups[j] = groups[i]
+		}
+	}
+	units := sub.units(len(train))
+	rng := rand.New(rand.NewPCG(seed, 0x1a2b))
+	inValid := make([]bool, len(train))
+	taken := 0
+	for _, u := range rng.Perm(len(units)) {
+		if taken >= want {
+			break
+		}
+		if taken+len(units[u]) > want && taken > 0 {
+			continue
+		}
+		for _, j := range units[u] {
+			inValid[j] = true
+		}
+		taken += len(units[u])
+	}
+	for j, i := range train {
+		if inValid[j] {
+			valid = append(valid, i)
+		} else {
+			fit = append(fit, i)
+		}
+	}
+	return fit, valid
+}

@@ -1,0 +1,239 @@
+package train
+
+import (
+	"bytes"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io/fs"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/skein-neuro/skein/model"
+)
+
+// RunDir is the output folder of one run. Everything is first written into
+// a sibling work folder, Final + ".partial", and the work folder becomes
+// Final only when the run has finished, so a failed or interrupted run
+// never touches earlier results. An interrupted run's work folder keeps
+// its finished units for OpenRunDir's resume.
+type RunDir struct {
+	Final   string
+	Partial string
+	force   bool
+}
+
+// ErrRunExists is wrapped by OpenRunDir's error when the output folder
+// exists and replacing it was not asked for.
+var ErrRunExists = errors.New("output folder exists")
+
+// OpenRunDir prepares the work folder of a run whose results go to final.
+// An existing final folder is an error unless force is set, in which case
+// it is replaced only when the new run commits. An existing work folder
+// (an interrupted run) is an error unless resume is set, which continues
+// it, or force, which starts over.
+func OpenRunDir(final string, force, resume bool) (*RunDir, error) {
+	d := &RunDir{Final: filepath.Clean(final), force: force}
+	d.Partial = d.Final + ".partial"
+	if _, err := os.Stat(d.Final); err == nil && !force {
+		return nil, fmt.Errorf("%s: %w; choose another --out or pass --force to replace it", d.Final, ErrRunExists)
+	}
+	switch _, err := os.Stat(d.Partial); {
+	case err == nil && resume:
+	case err == nil && force:
+		if err := os.RemoveAll(d.Partial); err != nil {
+			return nil, err
+		}
+	case err == nil:
+		return nil, fmt.Errorf("%s holds an interrupted run: pass --resume to finish it or --force to start over", d.Partial)
+	case !errors.Is(err, fs.ErrNotExist):
+		return nil, err
+	case resume:
+		return nil, fmt.Errorf("--resume: %s holds no interrupted run", d.Partial)
+	}
+	if err := os.MkdirAll(filepath.Join(d.Partial, "units"), 0o755); err != nil {
+		return nil, err
+	}
+	return d, nil
+}
+
+// WriteFile writes name (a path relative to the run folder) atomically in
+// the work folder: into a temporary file, then renamed.
+func (d *RunDir) WriteFile(name string, content []byte) error {
+	return writeAtomic(filepath.Join(d.Partial, name), content)
+}
+
+// Path returns where name will be found once the run is committed.
+func (d *RunDir) Path(name string) string { return filepath.Join(d.Final, name) }
+
+// WorkPath returns where name is while the run is being written.
+func (d *RunDir) WorkPath(name string) string { return filepath.Join(d.Partial, name) }
+
+// Checkpoints returns the unit checkpoints of the work folder.
+func (d *RunDir) Checkpoints() *Checkpoints {
+	return &Checkpoints{dir: filepath.Join(d.Partial, "units")}
+}
+
+// CheckResume makes sure a resumed run continues the same experiment: the
+// resolved experiment file of the work folder, when present, must equal
+// resolved.
+func (d *RunDir) CheckResume(resolvedName string, resolved []byte) error {
+	old, err := os.ReadFile(filepath.Join(d.Partial, resolvedName))
+	if errors.Is(err, fs.ErrNotExist) {
+		return nil
+	}
+	if err != nil {
+		return err
+	}
+	if !bytes.Equal(old, resolved) {
+		return fmt.Errorf("%s: the interrupted run used another experiment file; pass --force to start over", d.Partial)
+	}
+	return nil
+}
+
+// Commit makes the work folder the run's folder, replacing an earlier one
+// when the run was opened with force.
+func (d *RunDir) Commit() error {
+	var old string
+	if _, err := os.Stat(d.Final); err == nil {
+		if !d.force {
+			return fmt.Errorf("%s: %w", d.Final, ErrRunExists)
+		}
+		old = fmt.Sprintf("%s.old-%d", d.Final, time.Now().UnixNano())
+		if err := os.Rename(d.Final, old); err != nil {
+			return err
+		}
+	}
+	if err := os.Rename(d.Partial, d.Final); err != nil {
+		if old != "" {
+			os.Rename(old, d.Final)
+		}
+		return err
+	}
+	if old != "" {
+		return os.RemoveAll(old)
+	}
+	return nil
+}
+
+func writeAtomic(path string, content []byte) error {
+	if err := os.MkdirAll(filepath.Dir(path), 0o755); err != nil {
+		return err
+	}
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return err
+	}
+	if _, err := f.Write(content); err != nil {
+		f.Close()
+		os.Remove(f.Name())
+		return err
+	}
+	if err := f.Close(); err != nil {
+		os.Remove(f.Name())
+		return err
+	}
+	if err := os.Rename(f.Name(), path); err != nil {
+		os.Remove(f.Name())
+		return err
+	}
+	return nil
+}
+
+// Checkpoints stores finished units, one JSON file each, so that an
+// interrupted run can resume where it stopped.
+type Checkpoints struct {
+	dir string
+}
+
+// unitFile is the JSON form of a finished unit. Floats survive the round
+// trip exactly (encoding/json writes the shortest representation that
+// parses back to the same float64).
+type unitFile struct {
+	Model       string           `json:"model"`
+	Repeat      int              `json:"repeat"`
+	Fold        int              `json:"fold"`
+	Predictions []unitPrediction `json:"predictions"`
+	History     []unitEpoch      `json:"history,omitempty"`
+}
+
+type unitPrediction struct {
+	ID        string  `json:"participant_id"`
+	Target    string  `json:"target"`
+	Observed  float64 `json:"observed"`
+	Predicted float64 `json:"predicted"`
+}
+
+type unitEpoch struct {
+	Epoch     int      `json:"epoch"`
+	TrainLoss float64  `json:"train_loss"`
+	ValidLoss *float64 `json:"valid_loss"` // nil for NaN: no inner validation
+	Best      bool     `json:"best"`
+}
+
+func (c *Checkpoints) path(name string, u Unit) string {
+	safe := strings.Map(func(r rune) rune {
+		if r == '/' || r == '\\' || r == ':' || r < ' ' {
+			return '_'
+		}
+		return r
+	}, name)
+	return filepath.Join(c.dir, safe+"-r"+strconv.Itoa(u.Repeat+1)+"-f"+strconv.Itoa(u.Fold+1)+".json")
+}
+
+func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
+	f := unitFile{Model: name, Repeat: u.Repeat, Fold: u.Fold, Predictions: make([]unitPrediction, len(out.predictions))}
+	for i, p := range out.predictions {
+		f.Predictions[i] = unitPrediction{p.ParticipantID, p.Target, p.Observed, p.Predicted}
+	}
+	for _, e := range out.history {
+		ue := unitEpoch{Epoch: e.Epoch, TrainLoss: e.TrainLoss, Best: e.Best}
+		if !math.IsNaN(e.ValidLoss) {
+			v := e.ValidLoss
+			ue.ValidLoss = &v
+		}
+		f.History = append(f.History, ue)
+	}
+	raw, err := json.Marshal(f)
+	if err != nil {
+		return fmt.Errorf("checkpoint of model %q, repeat %d, fold %d: %w", name, u.Repeat+1, u.Fold+1, err)
+	}
+	return writeAtomic(c.path(name, u), raw)
+}
+
+func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
+	path := c.path(name, u)
+	raw, err := os.ReadFile(path)
+	if errors.Is(err, fs.ErrNotExist) {
+		return unitOutput{}, false, nil
+	}
+	if err != nil {
+		return unitOutput{}, false, err
+	}
+	var f unitFile
+	if err := json.Unmarshal(raw, &f); err != nil {
+		return unitOutput{}, false, fmt.Errorf("%s: %w (delete it to retrain the unit)", path, err)
+	}
+	if f.Model != name || f.Repeat != u.Repeat || f.Fold != u.Fold {
+		return unitOutput{}, false, fmt.Errorf("%s: holds model %q repeat %d fold %d", path, f.Model, f.Repeat+1, f.Fold+1)
+	}
+	var out unitOutput
+	for _, p := range f.Predictions {
+		out.predictions = append(out.predictions, model.Prediction{
+			ParticipantID: p.ID, Model: name, Target: p.Target,
+			Repeat: u.Repeat, Fold: u.Fold, Observed: p.Observed, Predicted: p.Predicted,
+		})
+	}
+	for _, e := range f.History {
+		me := model.Epoch{Epoch: e.Epoch, TrainLoss: e.TrainLoss, ValidLoss: math.NaN(), Best: e.Best}
+		if e.ValidLoss != nil {
+			me.ValidLoss = *e.ValidLoss
+		}
+		out.history = append(out.history, me)
+	}
+	return out, true, nil
+}

@@ -1,0 +1,366 @@
+package train
+
+import (
+	"context"
+	"fmt"
+	"hash/fnv"
+	"log/slog"
+	"math"
+	"runtime"
+	"sync"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model"
+)
+
+// Unit identifies one model trained on one fold of one repeat: the
+// smallest piece of a run, independent of every other.
+type Unit struct {
+	Model  int // index into Experiment.Models
+	Split  int // index into the run's splits
+	Repeat int
+	Fold   int
+}
+
+// EventKind says what an Event reports.
+type EventKind int
+
+// The kinds of Event.
+const (
+	UnitStarted EventKind = iota
+	EpochDone
+	UnitFinished
+)
+
+// Event reports progress of a run to a display or a log.
+type Event struct {
+	Kind  EventKind
+	Model string
+	Unit  Unit
+	// Epoch is set for EpochDone.
+	Epoch model.Epoch
+	// Finished and Total count units of the whole run.
+	Finished, Total int
+	// Elapsed is the time since the run started.
+	Elapsed time.Duration
+	// Resumed is set on UnitFinished when the unit was read from its
+	// checkpoint instead of trained.
+	Resumed bool
+}
+
+// Result is what a run produces.
+type Result struct {
+	Splits []Split
+	// Predictions are ordered by model (experiment order), repeat, fold,
+	// participant (cohort order) and target (cohort order).
+	Predictions []model.Prediction
+	// Histories holds, per unit of an iteratively trained model, its
+	// epochs, in the order of Units.
+	Histories map[Unit][]model.Epoch
+	// Units lists every unit of the run in order.
+	Units []Unit
+}
+
+// Runner cross-validates every model of an experiment on a cohort. All
+// models see the same splits, inner validation parts and target
+// preparation, so their results are paired.
+type Runner struct {
+	Experiment *Experiment
+	Cohort     *data.Cohort
+	// Jobs is how many units run at once; 0 means the number of CPUs.
+	// Results do not depend on it.
+	Jobs int
+	// Logger receives structured log records; nil discards them.
+	Logger *slog.Logger
+	// OnEvent, when set, is called for every Event, never concurrently.
+	OnEvent func(Event)
+	// Checkpoints, when set, keeps one file per finished unit in this
+	// folder; a unit whose checkpoint exists is read instead of retrained,
+	// which is how an interrupted run resumes.
+	Checkpoints *Checkpoints
+
+	newModel func(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error)
+}
+
+// Run trains and tests every unit and returns the predictions. A failing
+// unit stops the run; its error names the model, repeat and fold. When ctx
+// is cancelled, finished units are kept in the checkpoints and Run returns
+// an error wrapping ctx.Err().
+func (r *Runner) Run(ctx context.Context) (*Result, error) {
+	exp, cohort := r.Experiment, r.Cohort
+	logger := r.Logger
+	if logger == nil {
+		logger = slog.New(slog.DiscardHandler)
+	}
+	newModel := r.newModel
+	if newModel == nil {
+		newModel = buildModel
+	}
+	if err := exp.CV.checkAgainst(cohort); err != nil {
+		return nil, err
+	}
+	y, cov, err := scoresAndConfounds(exp.CV, cohort)
+	if err != nil {
+		return nil, err
+	}
+	splits, err := exp.CV.folds(exp.Seed, cohort).Splits(len(cohort.Participants))
+	if err != nil {
+		return nil, err
+	}
+	folds := make([]*foldData, len(splits))
+	for s, split := range splits {
+		if folds[s], err = prepareFold(exp, cohort, split, y, cov); err != nil {
+			return nil, fmt.Errorf("repeat %d, fold %d: %w", split.Repeat+1, split.Fold+1, err)
+		}
+	}
+
+	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch)}
+	for m := range exp.Models {
+		for s, split := range splits {
+			res.Units = append(res.Units, Unit{Model: m, Split: s, Repeat: split.Repeat, Fold: split.Fold})
+		}
+	}
+	jobs := r.Jobs
+	if jobs <= 0 {
+		jobs = runtime.NumCPU()
+	}
+	start := time.Now()
+	outputs := make([]unitOutput, len(res.Units))
+	var (
+		mu       sync.Mutex // guards finished, firstErr and OnEvent calls
+		finished int
+		firstErr error
+	)
+	emit := func(e Event) {
+		if r.OnEvent == nil {
+			return
+		}
+		mu.Lock()
+		defer mu.Unlock()
+		e.Finished, e.Total, e.Elapsed = finished, len(res.Units), time.Since(start)
+		r.OnEvent(e)
+	}
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	work := make(chan int)
+	var wg sync.WaitGroup
+	for w := 0; w < jobs; w++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for u := range work {
+				unit := res.Units[u]
+				cfg := exp.Models[unit.Model]
+				out, resumed, err := r.runUnit(ctx, unit, cfg, folds[unit.Split], newModel, emit)
+				mu.Lock()
+				if err != nil && firstErr == nil {
+					firstErr = fmt.Errorf("model %q, repeat %d, fold %d: %w", cfg.Name, unit.Repeat+1, unit.Fold+1, err)
+					cancel()
+				}
+				if err == nil {
+					outputs[u] = out
+					finished++
+				}
+				mu.Unlock()
+				if err == nil {
+					logger.Info("unit finished", "model", cfg.Name, "repeat", unit.Repeat+1, "fold", unit.Fold+1, "resumed", resumed)
+					emit(Event{Kind: UnitFinished, Model: cfg.Name, Unit: unit, Resumed: resumed})
+				}
+			}
+		}()
+	}
+	for u := range res.Units {
+		if ctx.Err() != nil {
+			break
+		}
+		work <- u
+	}
+	close(work)
+	wg.Wait()
+	if firstErr != nil {
+		return nil, firstErr
+	}
+	if err := ctx.Err(); err != nil {
+		return nil, fmt.Errorf("run stopped after %d of %d units: %w", finished, len(res.Units), err)
+	}
+	for u, unit := range res.Units {
+		res.Predictions = append(res.Predictions, outputs[u].predictions...)
+		if outputs[u].history != nil {
+			res.Histories[unit] = outputs[u].history
+		}
+	}
+	return res, nil
+}
+
+// foldData is what every model of one split shares.
+type foldData struct {
+	split      Split
+	prep       *TargetPrep
+	train      model.Dataset // training part minus inner validation
+	valid      model.Dataset // inner validation part
+	test       []*data.Participant
+	testIdx    []int
+	observed   *mat.Dense // test scores in score units, confounds removed
+	innerSeed  uint64
+	targetName []string
+}
+
+func prepareFold(exp *Experiment, cohort *data.Cohort, split Split, y, cov *mat.Dense) (*foldData, error) {
+	prep, err := FitTargetPrep(y, cov, split.Train)
+	if err != nil {
+		return nil, err
+	}
+	seed := unitSeed(exp.Seed, "inner", split.Repeat, split.Fold)
+	fitIdx, validIdx := InnerValidation(split.Train, groupsOf(cohort), exp.CV.innerCount(), exp.CV.innerFraction(), seed)
+	fd := &foldData{
+		split:      split,
+		prep:       prep,
+		train:      model.Dataset{Participants: pick(cohort, fitIdx), Y: prep.Standardized(y, cov, fitIdx)},
+		valid:      model.Dataset{Participants: pick(cohort, validIdx)},
+		test:       pick(cohort, split.Test),
+		testIdx:    split.Test,
+		observed:   prep.Observed(y, cov, split.Test),
+		innerSeed:  seed,
+		targetName: cohort.Targets,
+	}
+	if len(validIdx) > 0 {
+		fd.valid.Y = prep.Standardized(y, cov, validIdx)
+	}
+	return fd, nil
+}
+
+type unitOutput struct {
+	predictions []model.Prediction
+	history     []model.Epoch
+}
+
+func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *foldData,
+	newModel func(ModelConfig, int, int, int64) (model.Regressor, error), emit func(Event)) (unitOutput, bool, error) {
+	if r.Checkpoints != nil {
+		if out, ok, err := r.Checkpoints.load(cfg.Name, unit); err != nil || ok {
+			return out, ok, err
+		}
+	}
+	if err := ctx.Err(); err != nil {
+		return unitOutput{}, false, err
+	}
+	emit(Event{Kind: UnitStarted, Model: cfg.Name, Unit: unit})
+	seed := int64(unitSeed(r.Experiment.Seed, cfg.Name, unit.Repeat, unit.Fold) >> 1)
+	reg, err := newModel(cfg, r.Cohort.P(), len(r.Cohort.Targets), seed)
+	if err != nil {
+		return unitOutput{}, false, err
+	}
+	if it, ok := reg.(model.Iterative); ok {
+		it.OnEpoch(func(e model.Epoch) { emit(Event{Kind: EpochDone, Model: cfg.Name, Unit: unit, Epoch: e}) })
+	}
+	if err := reg.Fit(ctx, fd.train, fd.valid); err != nil {
+		return unitOutput{}, false, err
+	}
+	pred, err := reg.Predict(fd.test)
+	if err != nil {
+		return unitOutput{}, false, err
+	}
+	if rows, cols := pred.Dims(); rows != len(fd.test) || cols != len(fd.targetName) {
+		return unitOutput{}, false, fmt.Errorf("predictions are %d × %d, want %d × %d", rows, cols, len(fd.test), len(fd.targetName))
+	}
+	fd.prep.Unstandardize(pred)
+	var out unitOutput
+	for i, p := range fd.test {
+		for t, target := range fd.targetName {
+			obs := fd.observed.At(i, t)
+			if math.IsNaN(obs) {
+				continue
+			}
+			v := pred.At(i, t)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return unitOutput{}, false, fmt.Errorf("participant %s, target %s: prediction is %v: %w", p.ID, target, v, model.ErrDiverged)
+			}
+			out.predictions = append(out.predictions, model.Prediction{
+				ParticipantID: p.ID, Model: cfg.Name, Target: target,
+				Repeat: unit.Repeat, Fold: unit.Fold, Observed: obs, Predicted: v,
+			})
+		}
+	}
+	if it, ok := reg.(model.Iterative); ok {
+		out.history = it.History()
+	}
+	if r.Checkpoints != nil {
+		if err := r.Checkpoints.save(cfg.Name, unit, out); err != nil {
+			return unitOutput{}, false, err
+		}
+	}
+	return out, false, nil
+}
+
+func pick(c *data.Cohort, idx []int) []*data.Participant {
+	ps := make([]*data.Participant, len(idx))
+	for j, i := range idx {
+		ps[j] = c.Participants[i]
+	}
+	return ps
+}
+
+// groupsOf returns the participants' groups, or nil when the cohort has
+// none. A participant without a group stands alone.
+func groupsOf(c *data.Cohort) []string {
+	grouped := false
+	groups := make([]string, len(c.Participants))
+	for i, p := range c.Participants {
+		groups[i] = p.Group
+		if p.Group == "" {
+			groups[i] = "\x00" + p.ID // no group label can collide with this
+		} else {
+			grouped = true
+		}
+	}
+	if !grouped {
+		return nil
+	}
+	return groups
+}
+
+// unitSeed derives a seed from the experiment seed and a unit's identity,
+// so that a unit's randomness does not depend on which other units ran.
+func unitSeed(seed int64, name string, repeat, fold int) uint64 {
+	h := fnv.New64a()
+	fmt.Fprintf(h, "%d\x00%s\x00%d\x00%d", seed, name, repeat, fold)
+	return h.Sum64()
+}
+
+// scoresAndConfounds gathers the cohort's scores (n × T) and the confound
+// columns named by cv.Confounds (n × C, nil when none).
+func scoresAndConfounds(cv CV, c *data.Cohort) (y, cov *mat.Dense, err error) {
+	n, T := len(c.Participants), len(c.Targets)
+	if n == 0 || T == 0 {
+		return nil, nil, fmt.Errorf("cohort has %d participants and %d targets", n, T)
+	}
+	y = mat.NewDense(n, T, nil)
+	for i, p := range c.Participants {
+		y.SetRow(i, p.Scores)
+	}
+	if len(cv.Confounds) == 0 {
+		return y, nil, nil
+	}
+	cols := make([]int, len(cv.Confounds))
+	for k, name := range cv.Confounds {
+		cols[k] = -1
+		for j, have := range c.Covariates {
+			if have == name {
+				cols[k] = j
+			}
+		}
+		if cols[k] < 0 {
+			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
+		}
+	}
+	cov = mat.NewDense(n, len(cols), nil)
+	for i, p := range c.Participants {
+		for k, j := range cols {
+			cov.Set(i, k, p.Covariates[j])
+		}
+	}
+	return y, cov, nil
+}

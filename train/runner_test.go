@@ -1,0 +1,126 @@
+package train
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"reflect"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model/linear"
+)
+
+// toyCohort makes n participants with p × p functional matrices whose
+// edge (0, 1) carries the first score, and two targets (the second with
+// missing values), families of two when grouped.
+func toyCohort(n, p int, seed uint64, grouped bool) *data.Cohort {
+	rng := rand.New(rand.NewPCG(seed, 1))
+	c := &data.Cohort{Targets: []string{"alpha", "beta"}, Covariates: []string{"age"}}
+	for r := 0; r < p; r++ {
+		c.Regions = append(c.Regions, fmt.Sprintf("R%d", r))
+	}
+	for i := 0; i < n; i++ {
+		fc := mat.NewDense(p, p, nil)
+		for a := 0; a < p; a++ {
+			for b := a + 1; b < p; b++ {
+				v := rng.NormFloat64() * 0.3
+				fc.Set(a, b, v)
+				fc.Set(b, a, v)
+			}
+		}
+		beta := rng.NormFloat64()
+		if i%7 == 3 {
+			beta = math.NaN()
+		}
+		pt := &data.Participant{
+			ID:         fmt.Sprintf("sub-%03d", i),
+			Functional: fc,
+			Scores:     []float64{10*fc.At(0, 1) + rng.NormFloat64()*0.5 + 3, beta},
+			Covariates: []float64{20 + 40*rng.Float64()},
+		}
+		if grouped {
+			pt.Group = fmt.Sprintf("fam%d", i/2)
+		}
+		c.Participants = append(c.Participants, pt)
+	}
+	return c
+}
+
+func toyExperiment(models ...ModelConfig) *Experiment {
+	exp := &Experiment{Seed: 11, CV: CV{Folds: 4, Repeats: 2}, Models: models}
+	exp.SetDefaults()
+	return exp
+}
+
+func ridgeAndMean() []ModelConfig {
+	return []ModelConfig{
+		{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}},
+		{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}},
+	}
+}
+
+func TestRunDeterministicAcrossJobs(t *testing.T) {
+	cohort := toyCohort(40, 6, 1, true)
+	exp := toyExperiment(ridgeAndMean()[:1]...)
+	var results [2]*Result
+	for j, jobs := range []int{1, 2} {
+		res, err := (&Runner{Experiment: exp, Cohort: cohort, Jobs: jobs}).Run(context.Background())
+		if err != nil {
+			t.Fatal(err)
+		}
+		results[j] = res
+	}
+	if !reflect.DeepEqual(results[0].Predictions, results[1].Predictions) {
+		t.Fatal("--jobs 1 and --jobs 2 gave different predictions")
+	}
+	// One prediction per participant, repeat and present target.
+	want := 0
+	for _, p := range cohort.Participants {
+		for _, s := range p.Scores {
+			if !math.IsNaN(s) {
+				want += exp.CV.Repeats
+			}
+		}
+	}
+	if got := len(results[0].Predictions); got != want {
+		t.Fatalf("%d predictions, want %d", got, want)
+	}
+}
+
+// TestRunNoLeakage changes every test participant's scores and covariates
+// and checks that no prediction for them moves: target scaling, confound
+// regression and model fitting see the training part only.
+func TestRunNoLeakage(t *testing.T) {
+	cohort := toyCohort(40, 6, 2, false)
+	exp := toyExperiment(ModelConfig{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}})
+	exp.CV.Repeats = 1
+	exp.CV.Confounds = []string{"age"}
+	base, err := (&Runner{Experiment: exp, Cohort: cohort, Jobs: 1}).Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, split := range base.Splits {
+		changed := toyCohort(40, 6, 2, false)
+		for _, i := range split.Test {
+			p := changed.Participants[i]
+			p.Covariates[0] += 1000
+			for t := range p.Scores {
+				p.Scores[t] = p.Scores[t]*50 - 7
+			}
+		}
+		res, err := (&Runner{Experiment: exp, Cohort: changed, Jobs: 1}).Run(context.Background())
+		if err != nil {
+			t.Fatal(err)
+		}
+		for k, pr := range res.Predictions {
+			if pr.Fold == split.Fold && pr.Predicted != base.Predictions[k].Predicted {
+				t.Fatalf("fold %d: changing test participants moved the prediction for %s from %v to %v",
+					split.Fold+1, pr.ParticipantID, base.Predictions[k].Predicted, pr.Predicted)
+			}
+		}
+	}
+}
