@@ -1,0 +1,5 @@
+//go:build !openblas
+
+package blas
+
+const name = "gonum"

@@ -1,0 +1,214 @@
+package ops
+
+import (
+	"fmt"
+	"hash"
+	"hash/fnv"
+	"unsafe"
+
+	"github.com/chewxy/hm"
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas32"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gorgonia.org/gorgonia"
+	"gorgonia.org/tensor"
+
+	// The openblas build tag makes blas64/blas32 use OpenBLAS.
+	_ "github.com/skein-neuro/skein/internal/blas"
+)
+
+// float is the element type of every kernel.
+type float interface{ float32 | float64 }
+
+// Option changes how an op is built.
+type Option func(*options)
+
+type options struct {
+	noInputGrad bool
+}
+
+// NoInputGrad tells an op that its data input (x of E2E and E2N, h of
+// GraphConv, x of Dense) is participant data, not the output of another
+// op, so the gradient with respect to it is never built. Asking gorgonia.Grad
+// for that gradient is then an error.
+func NoInputGrad() Option { return func(o *options) { o.noInputGrad = true } }
+
+func collect(opts []Option) options {
+	var o options
+	for _, f := range opts {
+		f(&o)
+	}
+	return o
+}
+
+// is64 reports whether T is float64.
+func is64[T float]() bool {
+	var z T
+	return unsafe.Sizeof(z) == 8
+}
+
+// as64 and as32 reinterpret a []T whose T is known (by is64) to be
+// float64 or float32; they copy nothing.
+func as64[T float](s []T) []float64 {
+	return unsafe.Slice((*float64)(unsafe.Pointer(unsafe.SliceData(s))), len(s))
+}
+
+func as32[T float](s []T) []float32 {
+	return unsafe.Slice((*float32)(unsafe.Pointer(unsafe.SliceData(s))), len(s))
+}
+
+func trans(t bool) blas.Transpose {
+	if t {
+		return blas.Trans
+	}
+	return blas.NoTrans
+}
+
+// gemm computes C = alpha·op(A)·op(B) + beta·C on row-major slices, with
+// op(A) m×k and op(B) k×n, through blas64/blas32 (so that the BLAS chosen
+// by package internal/blas is used).
+func gemm[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
+	if m == 0 || n == 0 {
+		return
+	}
+	if is64[T]() {
+		blas64.Implementation().Dgemm(trans(tA), trans(tB), m, n, k, float64(alpha), as64(a), lda, as64(b), ldb, float64(beta), as64(c), ldc)
+		return
+	}
+	blas32.Implementation().Sgemm(trans(tA), trans(tB), m, n, k, float32(alpha), as32(a), lda, as32(b), ldb, float32(beta), as32(c), ldc)
+}
+
+// slice returns the backing slice of a dense tensor of element type T.
+func slice[T float](t *tensor.Dense) []T {
+	if is64[T]() {
+		s := t.Float64s()
+		return unsafe.Slice((*T)(unsafe.Pointer(unsafe.SliceData(s))), len(s))
+	}
+	s := t.Float32s()
+	return unsafe.Slice((*T)(unsafe.Pointer(unsafe.SliceData(s))), len(s))
+}
+
+// buffer is an op's output, allocated at the first run and reused after.
+type buffer struct {
+	t *tensor.Dense
+}
+
+// get returns the buffer for dtype dt and shape s, allocating it only
+// when it does not exist yet or has another dtype; a buffer reshaped in
+// place by a later op (gorgonia's Reshape does that) gets its shape back.
+func (b *buffer) get(dt tensor.Dtype, s tensor.Shape) *tensor.Dense {
+	if b.t == nil || b.t.Dtype() != dt || b.t.Shape().TotalSize() != s.TotalSize() {
+		b.t = tensor.New(tensor.Of(dt), tensor.WithShape(s.Clone()...))
+		return b.t
+	}
+	if !b.t.Shape().Eq(s) {
+		if err := b.t.Reshape(s...); err != nil {
+			panic("ops: " + err.Error())
+		}
+	}
+	return b.t
+}
+
+// denseInputs checks the run-time inputs of op against the shapes fixed
+// when the node was built and returns them as dense tensors of one dtype.
+func denseInputs(op fmt.Stringer, shapes []tensor.Shape, in []gorgonia.Value, dst []*tensor.Dense) (tensor.Dtype, error) {
+	if len(in) != len(shapes) {
+		return tensor.Dtype{}, fmt.Errorf("ops: %v: got %d inputs, want %d", op, len(in), len(shapes))
+	}
+	var dt tensor.Dtype
+	for i, v := range in {
+		d, ok := v.(*tensor.Dense)
+		if !ok {
+			return dt, fmt.Errorf("ops: %v: input %d is a %T, want a *tensor.Dense", op, i, v)
+		}
+		if !d.Shape().Eq(shapes[i]) {
+			return dt, fmt.Errorf("ops: %v: input %d has shape %v, want %v", op, i, d.Shape(), shapes[i])
+		}
+		if i == 0 {
+			dt = d.Dtype()
+		} else if d.Dtype() != dt {
+			return dt, fmt.Errorf("ops: %v: input %d is %v, input 0 is %v", op, i, d.Dtype(), dt)
+		}
+		dst[i] = d
+	}
+	if dt != tensor.Float64 && dt != tensor.Float32 {
+		return dt, fmt.Errorf("ops: %v: element type %v, want float64 or float32", op, dt)
+	}
+	return dt, nil
+}
+
+// nodeShapes returns the shapes of ns, checking their ranks.
+func nodeShapes(name string, ns []*gorgonia.Node, ranks ...int) ([]tensor.Shape, error) {
+	shapes := make([]tensor.Shape, len(ns))
+	for i, n := range ns {
+		if n == nil {
+			return nil, fmt.Errorf("ops: %s: input %d is nil", name, i)
+		}
+		s := n.Shape()
+		if len(s) != ranks[i] {
+			return nil, fmt.Errorf("ops: %s: input %d (%v) has shape %v, want %d dimensions", name, i, n.Name(), s, ranks[i])
+		}
+		shapes[i] = s
+	}
+	return shapes, nil
+}
+
+// base holds what every op of this package shares: a name, the input and
+// output shapes fixed at build time, and the output buffer.
+type base struct {
+	name  string
+	in    []tensor.Shape
+	out   tensor.Shape
+	buf   buffer
+	inBuf [4]*tensor.Dense
+}
+
+func newBase(name string, in []tensor.Shape, out tensor.Shape) base {
+	return base{name: name, in: in, out: out}
+}
+
+func (b *base) Arity() int { return len(b.in) }
+
+// Type is a → a → … → a over tensors of the input and output ranks.
+func (b *base) Type() hm.Type {
+	a := hm.TypeVariable('a')
+	ts := make([]hm.Type, 0, len(b.in)+1)
+	for _, s := range b.in {
+		ts = append(ts, tensorType(len(s), a))
+	}
+	ts = append(ts, tensorType(len(b.out), a))
+	return hm.NewFnType(ts...)
+}
+
+func tensorType(dims int, a hm.Type) hm.Type {
+	if dims == 0 {
+		return a
+	}
+	return gorgonia.TensorType{Dims: dims, Of: a}
+}
+
+func (b *base) InferShape(...gorgonia.DimSizer) (tensor.Shape, error) { return b.out.Clone(), nil }
+func (b *base) ReturnsPtr() bool                                      { return false }
+func (b *base) CallsExtern() bool                                     { return false }
+func (b *base) OverwritesInput() int                                  { return -1 }
+
+// WriteHash writes the op's address too: each op owns its buffers, so
+// gorgonia must never merge two nodes built by two calls.
+func (b *base) WriteHash(h hash.Hash) { fmt.Fprintf(h, "%s@%p", b.name, b) }
+func (b *base) String() string        { return b.name }
+
+func (b *base) Hashcode() uint32 {
+	h := fnv.New32a()
+	b.WriteHash(h)
+	return h.Sum32()
+}
+
+// inputs checks vals and returns them with the output buffer.
+func (b *base) inputs(vals []gorgonia.Value) ([]*tensor.Dense, *tensor.Dense, tensor.Dtype, error) {
+	in := b.inBuf[:len(b.in)]
+	dt, err := denseInputs(b, b.in, vals, in)
+	if err != nil {
+		return nil, nil, dt, err
+	}
+	return in, b.buf.get(dt, b.out), dt, nil
+}

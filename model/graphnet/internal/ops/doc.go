@@ -1,0 +1,24 @@
+// Package ops holds the fused gorgonia operations of the graph-filter
+// networks: edge-to-edge and edge-to-node filters, graph convolution, a
+// dense layer with its bias, leaky ReLU and inverted dropout.
+//
+// Each function returns a node of the caller's expression graph; each op
+// is differentiable by gorgonia's symbolic differentiation (gorgonia.Grad),
+// and its backward pass is built from ops of this package too. Forward and
+// backward passes are a few matrix products (gonum's blas64/blas32 Gemm, so
+// the openblas build tag of package internal/blas selects OpenBLAS) and
+// branch-free element loops. All ops accept float32 and float64 tensors.
+//
+// Buffers: every op allocates its output once (at its first run, or when
+// the input shapes change) and writes into the same buffer at every later
+// run, so that a training step allocates nothing in steady state. Two
+// consequences follow:
+//   - the value of a node after a run is only valid until the next run;
+//     copy it (or read it with gorgonia.Read) to keep it;
+//   - one graph must not be run by two machines at the same time.
+//
+// Options: an op whose data input is participant data rather than the
+// output of another op does not need the gradient with respect to that
+// input; pass NoInputGrad() to skip building it (about half of the backward
+// cost of a first edge-to-edge layer).
+package ops
