@@ -135,13 +135,15 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		firstErr error
 	)
 	emit := func(e Event) {
-		if r.OnEvent == nil {
-			return
-		}
 		mu.Lock()
 		defer mu.Unlock()
-		e.Finished, e.Total, e.Elapsed = finished, len(res.Units), time.Since(start)
-		r.OnEvent(e)
+		if e.Kind == UnitFinished {
+			finished++
+		}
+		if r.OnEvent != nil {
+			e.Finished, e.Total, e.Elapsed = finished, len(res.Units), time.Since(start)
+			r.OnEvent(e)
+		}
 	}
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
@@ -155,20 +157,18 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 				unit := res.Units[u]
 				cfg := exp.Models[unit.Model]
 				out, resumed, err := r.runUnit(ctx, unit, cfg, folds[unit.Split], newModel, emit)
-				mu.Lock()
-				if err != nil && firstErr == nil {
-					firstErr = fmt.Errorf("model %q, repeat %d, fold %d: %w", cfg.Name, unit.Repeat+1, unit.Fold+1, err)
-					cancel()
+				if err != nil {
+					mu.Lock()
+					if firstErr == nil {
+						firstErr = fmt.Errorf("model %q, repeat %d, fold %d: %w", cfg.Name, unit.Repeat+1, unit.Fold+1, err)
+						cancel()
+					}
+					mu.Unlock()
+					continue
 				}
-				if err == nil {
-					outputs[u] = out
-					finished++
-				}
-				mu.Unlock()
-				if err == nil {
-					logger.Info("unit finished", "model", cfg.Name, "repeat", unit.Repeat+1, "fold", unit.Fold+1, "resumed", resumed)
-					emit(Event{Kind: UnitFinished, Model: cfg.Name, Unit: unit, Resumed: resumed})
-				}
+				outputs[u] = out
+				logger.Info("unit finished", "model", cfg.Name, "repeat", unit.Repeat+1, "fold", unit.Fold+1, "resumed", resumed)
+				emit(Event{Kind: UnitFinished, Model: cfg.Name, Unit: unit, Resumed: resumed})
 			}
 		}()
 	}

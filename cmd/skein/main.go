@@ -13,6 +13,7 @@ package main
 import (
 	"context"
 	"errors"
+	"flag"
 	"fmt"
 	"io"
 	"os"
@@ -117,5 +118,26 @@ func exitCode(err error) int {
 		return exitInterrupted
 	default:
 		return exitFailure
+	}
+}
+
+// parseArgs parses flags that may come before, between or after the
+// positional arguments ("skein run FILE --out DIR") and returns the
+// positional ones. A lone "--" ends the flags.
+func parseArgs(fs *flag.FlagSet, args []string) ([]string, error) {
+	var positional []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return nil, err
+		}
+		args = fs.Args()
+		if len(args) == 0 {
+			return positional, nil
+		}
+		if args[0] == "--" {
+			return append(positional, args[1:]...), nil
+		}
+		positional = append(positional, args[0])
+		args = args[1:]
 	}
 }

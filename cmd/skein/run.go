@@ -40,14 +40,15 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume]")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
+	positional, err := parseArgs(fs, args)
+	if err != nil {
 		return badInput(err)
 	}
-	if fs.NArg() != 1 {
+	if len(positional) != 1 {
 		fs.Usage()
 		return badInput(errors.New("want one experiment file"))
 	}
-	expPath := fs.Arg(0)
+	expPath := positional[0]
 	exp, err := train.ReadExperiment(expPath)
 	if err != nil {
 		return badInput(err)
