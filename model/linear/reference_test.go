@@ -1,0 +1,148 @@
+package linear
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model"
+)
+
+// fixtureCohort is one invented cohort of testdata/linear/sklearn.json,
+// written by testdata/linear/make_fixtures.py with scikit-learn's
+// predictions for its test participants.
+type fixtureCohort struct {
+	P          int           `json:"p"`
+	Functional [][][]float64 `json:"functional"`
+	Structural [][][]float64 `json:"structural"`
+	Y          [][]float64   `json:"y"`
+	Train      []int         `json:"train"`
+	Test       []int         `json:"test"`
+	Cases      []struct {
+		Name         string          `json:"name"`
+		Model        string          `json:"model"`
+		Settings     json.RawMessage `json:"settings"`
+		Predictions  [][]float64     `json:"predictions"`
+		ChosenAlphas []float64       `json:"chosen_alphas"`
+	} `json:"cases"`
+}
+
+func readJSON(t *testing.T, name string, v any) {
+	t.Helper()
+	raw, err := os.ReadFile(filepath.Join("..", "..", "testdata", "linear", name))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(raw, v); err != nil {
+		t.Fatalf("%s: %v", name, err)
+	}
+}
+
+func denseOf(rows [][]float64) *mat.Dense {
+	m := mat.NewDense(len(rows), len(rows[0]), nil)
+	for i, r := range rows {
+		m.SetRow(i, r)
+	}
+	return m
+}
+
+// dataset returns the participants rows of c with their scores; each
+// participant's Group is its position modulo 5, which makes the inner folds
+// those the fixture script gave GridSearchCV.
+func (c fixtureCohort) dataset(rows []int) model.Dataset {
+	ps := make([]*data.Participant, len(rows))
+	y := make([][]float64, len(rows))
+	for a, i := range rows {
+		ps[a] = &data.Participant{
+			ID:         fmt.Sprintf("sub-%02d", i),
+			Group:      fmt.Sprint(a % 5),
+			Functional: denseOf(c.Functional[i]),
+			Structural: denseOf(c.Structural[i]),
+		}
+		y[a] = c.Y[i]
+	}
+	return model.Dataset{Participants: ps, Y: denseOf(y)}
+}
+
+func TestAgainstScikitLearn(t *testing.T) {
+	var fixture struct {
+		Cohorts []fixtureCohort `json:"cohorts"`
+	}
+	readJSON(t, "sklearn.json", &fixture)
+	for ci, c := range fixture.Cohorts {
+		train, test := c.dataset(c.Train), c.dataset(c.Test)
+		for _, tc := range c.Cases {
+			t.Run(fmt.Sprintf("cohort%d/%s", ci, tc.Name), func(t *testing.T) {
+				var set struct {
+					Input       string    `json:"input"`
+					Standardize string    `json:"standardize"`
+					Kernel      string    `json:"kernel"`
+					Alphas      []float64 `json:"alphas"`
+					AlphaScale  string    `json:"alpha_scale"`
+					InnerFolds  int       `json:"inner_folds"`
+				}
+				if err := json.Unmarshal(tc.Settings, &set); err != nil {
+					t.Fatal(err)
+				}
+				var cfg Config
+				switch tc.Model {
+				case "ridge":
+					cfg.Ridge = &RidgeConfig{Input: set.Input, Standardize: set.Standardize,
+						Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds}
+				case "kernel_ridge":
+					cfg.KernelRidge = &KernelRidgeConfig{Input: set.Input, Kernel: set.Kernel,
+						Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds}
+				}
+				cfg.SetDefaults()
+				if err := cfg.Validate(); err != nil {
+					t.Fatal(err)
+				}
+				reg, err := cfg.New(2, 1)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if err := reg.Fit(context.Background(), train, model.Dataset{}); err != nil {
+					t.Fatal(err)
+				}
+				if tc.ChosenAlphas != nil {
+					got := reg.(interface{ Alphas() []float64 }).Alphas()
+					for j, want := range tc.ChosenAlphas {
+						if got[j] != want {
+							t.Errorf("column %d: inner CV chose alpha %v, GridSearchCV chose %v", j, got[j], want)
+						}
+					}
+				}
+				pred, err := reg.Predict(test.Participants)
+				if err != nil {
+					t.Fatal(err)
+				}
+				assertClose(t, pred, denseOf(tc.Predictions), 1e-8)
+			})
+		}
+	}
+}
+
+// assertClose fails unless every element of got is within tol of want,
+// relative to max(1, |want|).
+func assertClose(t *testing.T, got, want mat.Matrix, tol float64) {
+	t.Helper()
+	r, c := want.Dims()
+	if gr, gc := got.Dims(); gr != r || gc != c {
+		t.Fatalf("got %d×%d, want %d×%d", gr, gc, r, c)
+	}
+	for i := 0; i < r; i++ {
+		for j := 0; j < c; j++ {
+			g, w := got.At(i, j), want.At(i, j)
+			if !(math.Abs(g-w) <= tol*math.Max(1, math.Abs(w))) {
+				t.Errorf("[%d, %d] = %.12g, want %.12g", i, j, g, w)
+			}
+		}
+	}
+}
