@@ -31,8 +31,8 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 //	      "folds": [                    // one per repeat × fold, sorted by repeat then fold;
 //	        {"repeat": 0, "fold": 0, SCORES...}, ...   // absent without fold columns
 //	      ],
-//	      "fold_mean": VALUES,          // mean over the folds of each metric
-//	      "fold_sd": VALUES,            // sample SD (n − 1) over the folds
+//	      "fold_mean": VALUES,          // mean over the folds of each metric; absent without folds
+//	      "fold_sd": VALUES,            // sample SD (n − 1) over the folds; absent without folds
 //	      "fold_undefined": {"pearson_r": 1}   // folds where a metric was NaN; absent when none
 //	    }, ...
 //	  ]
@@ -342,14 +342,14 @@ func (f *FoldScores) UnmarshalJSON(b []byte) error {
 }
 
 // groupJSON is the JSON form of a Group; Values and the scores types encode
-// NaN themselves.
+// NaN themselves. Without folds the fold fields are left out.
 type groupJSON struct {
 	Model         string         `json:"model"`
 	Target        string         `json:"target"`
 	Pooled        Scores         `json:"pooled"`
 	Folds         []FoldScores   `json:"folds,omitempty"`
-	FoldMean      Values         `json:"fold_mean"`
-	FoldSD        Values         `json:"fold_sd"`
+	FoldMean      *Values        `json:"fold_mean,omitempty"`
+	FoldSD        *Values        `json:"fold_sd,omitempty"`
 	FoldUndefined map[Metric]int `json:"fold_undefined,omitempty"`
 }
 
@@ -363,7 +363,11 @@ type summaryJSON struct {
 func (s *Summary) MarshalJSON() ([]byte, error) {
 	out := summaryJSON{Note: Disclaimer, Bins: s.Bins, Groups: make([]groupJSON, len(s.Groups))}
 	for i, g := range s.Groups {
-		out.Groups[i] = groupJSON(g)
+		out.Groups[i] = groupJSON{Model: g.Model, Target: g.Target, Pooled: g.Pooled, FoldUndefined: g.FoldUndefined}
+		if len(g.Folds) > 0 {
+			mean, sd := g.FoldMean, g.FoldSD
+			out.Groups[i].Folds, out.Groups[i].FoldMean, out.Groups[i].FoldSD = g.Folds, &mean, &sd
+		}
 	}
 	return json.Marshal(out)
 }
@@ -377,7 +381,15 @@ func (s *Summary) UnmarshalJSON(b []byte) error {
 	s.Bins = in.Bins
 	s.Groups = make([]Group, len(in.Groups))
 	for i, g := range in.Groups {
-		s.Groups[i] = Group(g)
+		out := Group{Model: g.Model, Target: g.Target, Pooled: g.Pooled, Folds: g.Folds, FoldUndefined: g.FoldUndefined}
+		out.FoldMean, out.FoldSD, _ = foldSpread(nil)
+		if g.FoldMean != nil {
+			out.FoldMean = *g.FoldMean
+		}
+		if g.FoldSD != nil {
+			out.FoldSD = *g.FoldSD
+		}
+		s.Groups[i] = out
 	}
 	return nil
 }
@@ -459,13 +471,24 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 		fmt.Fprintf(&b, "Each cell is the value over all predictions; n counts pairs. NMI uses %d "+
 			"equal-frequency bins. R² is out of sample and may be negative.\n", s.Bins)
 	}
-	if small := s.smallestFold(); small >= 0 && small < 2*s.Bins {
-		fmt.Fprintf(&b, "\nSome folds of fewer than %d pairs (the smallest has %d): their NMI is biased "+
-			"upwards, and is 1 by construction at %d pairs or fewer; compare the pooled NMI.\n", 2*s.Bins, small, s.Bins)
+	if note := s.SmallFoldNote(); note != "" {
+		b.WriteString("\n" + note + "\n")
 	}
 	b.WriteString("\n> " + Disclaimer + "\n")
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// SmallFoldNote returns a warning when some fold has fewer than twice as
+// many pairs as NMI has bins, where per-fold NMI is biased upwards, and ""
+// otherwise.
+func (s *Summary) SmallFoldNote() string {
+	small := s.smallestFold()
+	if small < 0 || small >= 2*s.Bins {
+		return ""
+	}
+	return fmt.Sprintf("Some folds have fewer than %d pairs (the smallest has %d): their NMI is biased "+
+		"upwards, and is 1 by construction at %d pairs or fewer; compare the pooled NMI.", 2*s.Bins, small, s.Bins)
 }
 
 // smallestFold returns the fewest pairs of any fold, −1 without folds.

@@ -133,7 +133,7 @@ func TestWriteMarkdown(t *testing.T) {
 		"### anxiety\n\n| model | n | folds | Pearson r | Spearman ρ | MAE | median AE | RMSE | R² | NMI |\n",
 		"| graphnet | 48 | 6 |",
 		"| ridge | 47 | 6 |",
-		"folds of fewer than 20 pairs",
+		"folds have fewer than 20 pairs",
 		"not a diagnostic device",
 		"ethics approval, data-use agreements and clinical judgement",
 		"mean ± SD over test folds",
