@@ -485,7 +485,7 @@ func archOf(c Config, p int) (arch, error) {
 			return a, fmt.Errorf("%s.input: want \"functional\", \"structural\" or \"propagated\", found %q", key, b.Input)
 		}
 		if b.needsOperator() {
-			if _, err := parseOperator(b.Operator); err != nil {
+			if _, err := data.ParseOperatorKind(b.Operator); err != nil {
 				return a, fmt.Errorf("%s.operator: %w", key, err)
 			}
 		} else if b.Operator != "" {
@@ -614,15 +614,4 @@ func describe(s layerShape) string {
 		return fmt.Sprintf("an edge layer with %v channels", s.width)
 	}
 	return fmt.Sprintf("a %s layer", formName(s.form))
-}
-
-// parseOperator checks an operator kind name.
-func parseOperator(name string) (data.OperatorKind, error) {
-	for _, k := range []data.OperatorKind{data.Identity, data.Laplacian, data.NormalizedLaplacian, data.RenormalizedAdjacency, data.ScaledLaplacian} {
-		if string(k) == name {
-			return k, nil
-		}
-	}
-	return "", fmt.Errorf("want one of %q, %q, %q, %q, %q, found %q",
-		data.Identity, data.Laplacian, data.NormalizedLaplacian, data.RenormalizedAdjacency, data.ScaledLaplacian, name)
 }

@@ -1,0 +1,526 @@
+package graphnet
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"math/rand/v2"
+
+	"gonum.org/v1/gonum/mat"
+	"gorgonia.org/tensor"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model"
+	"github.com/skein-neuro/skein/model/graphnet/internal/ops"
+)
+
+// Network is a graph-filter network: a model.Regressor and model.Iterative.
+// It is not safe for concurrent use.
+type Network struct {
+	cfg     Config
+	p       int // regions
+	targets int // outputs T
+	seed    int64
+	dtype   tensor.Dtype
+	arch    arch
+	loss    lossFunc
+	params  []*param
+	rng     *rand.Rand // shuffling and dropout masks
+	graphs  map[graphKey]*graph
+	history []model.Epoch
+	onEpoch func(model.Epoch)
+
+	// Fitted is free-form data a caller stores with the network in a
+	// saved model, such as what it fitted on the training data
+	// (preprocessing, score scaling). The network does not read it.
+	Fitted json.RawMessage
+}
+
+type graphKey struct {
+	batch    int
+	training bool
+}
+
+// divergenceFactor is how many times its first-epoch value the training
+// loss may grow before Fit gives up with model.ErrDiverged.
+const divergenceFactor = 1e6
+
+var (
+	_ model.Regressor = (*Network)(nil)
+	_ model.Iterative = (*Network)(nil)
+)
+
+// New returns the network of cfg for p regions and the given number of
+// targets, with weights drawn from seed. cfg must have had SetDefaults
+// called; New validates it for this p. The same cfg, p, targets and seed
+// give the same weights and, on the same data, the same training.
+func New(cfg Config, p, targets int, seed int64) (*Network, error) {
+	if p < 1 || targets < 1 {
+		return nil, fmt.Errorf("graphnet: New: need p ≥ 1 and targets ≥ 1, found p = %d, targets = %d", p, targets)
+	}
+	if err := cfg.Validate(); err != nil {
+		return nil, err
+	}
+	a, err := archOf(cfg, p)
+	if err != nil {
+		return nil, err
+	}
+	n := &Network{
+		cfg: cfg, p: p, targets: targets, seed: seed,
+		dtype:  tensor.Float32,
+		arch:   a,
+		loss:   newLossFunc(cfg.Loss),
+		rng:    rand.New(rand.NewPCG(uint64(seed), 0x736b65696e)), // "skein"
+		graphs: make(map[graphKey]*graph),
+	}
+	if cfg.DType == "float64" {
+		n.dtype = tensor.Float64
+	}
+	n.createParams()
+	n.initParams(n.rng)
+	return n, nil
+}
+
+// Config returns the network's configuration.
+func (n *Network) Config() Config { return n.cfg }
+
+// P returns the number of regions the network takes.
+func (n *Network) P() int { return n.p }
+
+// Targets returns the number of outputs.
+func (n *Network) Targets() int { return n.targets }
+
+// OnEpoch sets a function called after every epoch of the next Fit.
+func (n *Network) OnEpoch(f func(model.Epoch)) { n.onEpoch = f }
+
+// History returns the epochs of the last Fit.
+func (n *Network) History() []model.Epoch { return append([]model.Epoch(nil), n.history...) }
+
+// Fit trains the network from its current weights on train, in minibatches
+// of cfg.BatchSize participants shuffled every epoch (the last minibatch
+// holds the remainder), for cfg.Epochs epochs. With a non-empty valid set,
+// it computes the validation loss after every epoch, stops after
+// cfg.Patience epochs without improvement (0: never) and restores the
+// weights of the best epoch. The loss of an epoch is the mean over every
+// present score of the epoch. Fit checks ctx between steps and returns its
+// error when it is done. A loss that becomes NaN, infinite or more than
+// 1e6 times its first-epoch value stops Fit with an error wrapping
+// model.ErrDiverged. Y columns must match the targets given to New.
+func (n *Network) Fit(ctx context.Context, train, valid model.Dataset) error {
+	if train.Len() == 0 {
+		return fmt.Errorf("graphnet: Fit: the training set is empty")
+	}
+	trainSet, err := n.prepare(train, "training set", true)
+	if err != nil {
+		return err
+	}
+	validSet, err := n.prepare(valid, "validation set", true)
+	if err != nil {
+		return err
+	}
+	if trainSet.present() == 0 {
+		return fmt.Errorf("graphnet: Fit: the training set has no present score")
+	}
+	grads := make([]any, len(n.params))
+	ws := make([]any, len(n.params))
+	for i, p := range n.params {
+		ws[i], grads[i] = p.value.Data(), p.grad.Data()
+	}
+	opt := newOptimizer(n.cfg.Optimizer, ws, grads)
+	hasValid := validSet.len() > 0 && validSet.present() > 0
+	var best []*tensor.Dense
+	bestLoss := math.Inf(1)
+	sinceBest := 0
+	firstLoss := math.NaN()
+	n.history = n.history[:0]
+	order := make([]int, trainSet.len())
+	for i := range order {
+		order[i] = i
+	}
+	for epoch := 1; epoch <= n.cfg.Epochs; epoch++ {
+		rate := rateAt(n.cfg.Optimizer, epoch-1, n.cfg.Epochs)
+		n.rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
+		var total float64
+		var count int
+		for start := 0; start < len(order); start += n.cfg.BatchSize {
+			if err := ctx.Err(); err != nil {
+				return err
+			}
+			idx := order[start:min(start+n.cfg.BatchSize, len(order))]
+			t, c, err := n.trainStep(trainSet, idx)
+			if err != nil {
+				return fmt.Errorf("graphnet: epoch %d: %w", epoch, err)
+			}
+			if math.IsNaN(t) || math.IsInf(t, 0) {
+				return fmt.Errorf("graphnet: epoch %d: the training loss is %v: %w", epoch, t, model.ErrDiverged)
+			}
+			total += t
+			count += c
+			opt.step(rate)
+		}
+		e := model.Epoch{Epoch: epoch, TrainLoss: total / float64(count), ValidLoss: math.NaN()}
+		if epoch == 1 {
+			firstLoss = e.TrainLoss
+		}
+		if e.TrainLoss > divergenceFactor*firstLoss && e.TrainLoss > 1 {
+			return fmt.Errorf("graphnet: epoch %d: the training loss %v exceeds %g times that of epoch 1 (%v): %w", epoch, e.TrainLoss, divergenceFactor, firstLoss, model.ErrDiverged)
+		}
+		if hasValid {
+			if e.ValidLoss, err = n.evalLoss(validSet); err != nil {
+				return fmt.Errorf("graphnet: epoch %d: validation: %w", epoch, err)
+			}
+			if math.IsNaN(e.ValidLoss) || math.IsInf(e.ValidLoss, 0) {
+				return fmt.Errorf("graphnet: epoch %d: the validation loss is %v: %w", epoch, e.ValidLoss, model.ErrDiverged)
+			}
+			if e.ValidLoss < bestLoss {
+				e.Best = true
+				bestLoss = e.ValidLoss
+				sinceBest = 0
+				best = n.snapshot(best)
+			} else {
+				sinceBest++
+			}
+		}
+		n.history = append(n.history, e)
+		if n.onEpoch != nil {
+			n.onEpoch(e)
+		}
+		if hasValid && *n.cfg.Patience > 0 && sinceBest >= *n.cfg.Patience {
+			break
+		}
+	}
+	if best != nil {
+		n.restore(best)
+	}
+	return nil
+}
+
+// snapshot copies the weights into dst (allocated when nil) and returns it.
+func (n *Network) snapshot(dst []*tensor.Dense) []*tensor.Dense {
+	if dst == nil {
+		dst = make([]*tensor.Dense, len(n.params))
+		for i, p := range n.params {
+			dst[i] = p.value.Clone().(*tensor.Dense)
+		}
+		return dst
+	}
+	for i, p := range n.params {
+		copyData(dst[i].Data(), p.value.Data())
+	}
+	return dst
+}
+
+// restore copies the weights back from a snapshot.
+func (n *Network) restore(src []*tensor.Dense) {
+	for i, p := range n.params {
+		copyData(p.value.Data(), src[i].Data())
+	}
+}
+
+func copyData(dst, src any) {
+	switch d := dst.(type) {
+	case []float64:
+		copy(d, src.([]float64))
+	case []float32:
+		copy(d, src.([]float32))
+	}
+}
+
+// trainStep runs forward and backward on the participants idx of set,
+// leaving the gradients in the params, and returns the summed loss terms and
+// the number of present scores of the batch.
+func (n *Network) trainStep(set *prepared, idx []int) (float64, int, error) {
+	g, err := n.graph(len(idx), true)
+	if err != nil {
+		return 0, 0, err
+	}
+	set.fill(g, idx)
+	for i, m := range g.masks {
+		if err := ops.FillMask(m, g.rates[i], n.rng); err != nil {
+			return 0, 0, err
+		}
+	}
+	defer g.vm.Reset()
+	if err := g.vm.RunAll(); err != nil {
+		return 0, 0, err
+	}
+	for i, p := range n.params {
+		copyData(p.grad.Data(), g.grads[i].Value().Data())
+	}
+	t, c := batchLoss(n.loss, g.pred.Value().Data(), g.target.Data())
+	return t, c, nil
+}
+
+func batchLoss(f lossFunc, pred, target any) (float64, int) {
+	switch p := pred.(type) {
+	case []float64:
+		return sum(f, p, target.([]float64))
+	case []float32:
+		return sum(f, p, target.([]float32))
+	}
+	panic(fmt.Sprintf("graphnet: predictions of type %T", pred))
+}
+
+// evalLoss returns the loss of the network over all of set, without dropout:
+// the mean over every present score.
+func (n *Network) evalLoss(set *prepared) (float64, error) {
+	var total float64
+	var count int
+	err := n.forEachBatch(set, func(g *graph, idx []int) {
+		t, c := batchLoss(n.loss, g.pred.Value().Data(), g.target.Data())
+		total += t
+		count += c
+	})
+	if err != nil || count == 0 {
+		return 0, err
+	}
+	return total / float64(count), nil
+}
+
+// forEachBatch runs the evaluation graph over set in order, in batches of
+// cfg.BatchSize and a remainder, calling f after each run.
+func (n *Network) forEachBatch(set *prepared, f func(g *graph, idx []int)) error {
+	all := make([]int, set.len())
+	for i := range all {
+		all[i] = i
+	}
+	for start := 0; start < len(all); start += n.cfg.BatchSize {
+		idx := all[start:min(start+n.cfg.BatchSize, len(all))]
+		g, err := n.graph(len(idx), false)
+		if err != nil {
+			return err
+		}
+		set.fill(g, idx)
+		if err := g.vm.RunAll(); err != nil {
+			g.vm.Reset()
+			return err
+		}
+		f(g, idx)
+		g.vm.Reset()
+	}
+	return nil
+}
+
+// Predict returns the len(ps) × T predictions of the network, without
+// dropout, on the scale of the Y it was fitted on.
+func (n *Network) Predict(ps []*data.Participant) (*mat.Dense, error) {
+	if len(ps) == 0 {
+		return nil, fmt.Errorf("graphnet: Predict: no participants")
+	}
+	set, err := n.prepare(model.Dataset{Participants: ps}, "prediction set", false)
+	if err != nil {
+		return nil, err
+	}
+	out := mat.NewDense(len(ps), n.targets, nil)
+	err = n.forEachBatch(set, func(g *graph, idx []int) {
+		var row []float64
+		switch pred := g.pred.Value().Data().(type) {
+		case []float64:
+			row = pred
+		case []float32:
+			row = make([]float64, len(pred))
+			for i, v := range pred {
+				row[i] = float64(v)
+			}
+		}
+		for k, i := range idx {
+			out.SetRow(i, row[k*n.targets:(k+1)*n.targets])
+		}
+	})
+	if err != nil {
+		return nil, fmt.Errorf("graphnet: Predict: %w", err)
+	}
+	return out, nil
+}
+
+// graph returns the expression graph for a batch size, building it on
+// first use.
+func (n *Network) graph(batch int, training bool) (*graph, error) {
+	key := graphKey{batch, training}
+	if g, ok := n.graphs[key]; ok {
+		return g, nil
+	}
+	g, err := n.build(batch, training)
+	if err != nil {
+		return nil, err
+	}
+	n.graphs[key] = g
+	return g, nil
+}
+
+// prepared holds a dataset's inputs as the network reads them: the input
+// signal and the structural operator of every branch for every
+// participant, computed once, and the scores.
+type prepared struct {
+	p, targets int
+	inputs     [][][]float64 // [branch][participant] p×p, row-major
+	operators  [][][]float64 // [branch][participant] p×p, nil without operator
+	y          []float64     // participant-major n×T, NaN = missing; nil when predicting
+	n          int
+}
+
+func (s *prepared) len() int { return s.n }
+
+func (s *prepared) present() int {
+	c := 0
+	for _, v := range s.y {
+		if !math.IsNaN(v) {
+			c++
+		}
+	}
+	return c
+}
+
+// prepare checks a dataset and computes every branch's input and operator
+// for its participants once. what names the dataset in errors; needY says
+// whether it must have scores.
+func (n *Network) prepare(d model.Dataset, what string, needY bool) (*prepared, error) {
+	s := &prepared{p: n.p, targets: n.targets, n: d.Len()}
+	if d.Y != nil {
+		r, c := d.Y.Dims()
+		if r != d.Len() || c != n.targets {
+			return nil, fmt.Errorf("graphnet: %s: Y is %d×%d, want %d×%d (participants × targets)", what, r, c, d.Len(), n.targets)
+		}
+		s.y = make([]float64, 0, r*c)
+		for i := range r {
+			s.y = append(s.y, d.Y.RawRowView(i)...)
+		}
+	} else if d.Len() > 0 && needY {
+		return nil, fmt.Errorf("graphnet: %s: no scores (Y is nil)", what)
+	}
+	for bi, b := range n.cfg.Branches {
+		var kind data.OperatorKind
+		if b.needsOperator() {
+			kind, _ = data.ParseOperatorKind(b.Operator)
+		}
+		in := make([][]float64, d.Len())
+		var opers [][]float64
+		if kind != "" {
+			opers = make([][]float64, d.Len())
+		}
+		for i, pt := range d.Participants {
+			x, op, err := n.branchInput(b, kind, pt)
+			if err != nil {
+				return nil, fmt.Errorf("graphnet: %s: participant %q: model.network.branch[%d]: %w", what, pt.ID, bi, err)
+			}
+			in[i] = x
+			if opers != nil {
+				opers[i] = op
+			}
+		}
+		s.inputs = append(s.inputs, in)
+		s.operators = append(s.operators, opers)
+	}
+	return s, nil
+}
+
+// branchInput returns a participant's input signal for branch b and, when
+// kind is set, its structural operator, both p×p row-major.
+func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.Participant) (x, s []float64, err error) {
+	check := func(m *mat.Dense, name string) error {
+		if m == nil {
+			return fmt.Errorf("input %q needs the %s matrix, which the participant does not have", b.Input, name)
+		}
+		if r, c := m.Dims(); r != n.p || c != n.p {
+			return fmt.Errorf("the %s matrix is %d×%d, want %d×%d", name, r, c, n.p, n.p)
+		}
+		return nil
+	}
+	var op *mat.Dense
+	if kind != "" {
+		if err := check(pt.Structural, "structural"); err != nil {
+			return nil, nil, fmt.Errorf("operator %q: %w", kind, err)
+		}
+		if op, err = data.Operator(kind, pt.Structural); err != nil {
+			return nil, nil, fmt.Errorf("operator %q: %w", kind, err)
+		}
+		s = flatCopy(op)
+	}
+	var m *mat.Dense
+	switch b.Input {
+	case inputStructural:
+		if err := check(pt.Structural, "structural"); err != nil {
+			return nil, nil, err
+		}
+		m = pt.Structural
+	case inputFunctional:
+		if err := check(pt.Functional, "functional"); err != nil {
+			return nil, nil, err
+		}
+		m = pt.Functional
+	case inputPropagated:
+		if err := check(pt.Functional, "functional"); err != nil {
+			return nil, nil, err
+		}
+		var sf mat.Dense
+		sf.Mul(op, pt.Functional)
+		if b.Propagate == "both" {
+			sf.Mul(&sf, op.T())
+		}
+		m = &sf
+	}
+	x = flatCopy(m)
+	for _, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, nil, fmt.Errorf("input %q holds %v; the network needs finite values", b.Input, v)
+		}
+	}
+	return x, s, nil
+}
+
+func flatCopy(m *mat.Dense) []float64 {
+	r, c := m.Dims()
+	out := make([]float64, 0, r*c)
+	for i := range r {
+		out = append(out, m.RawRowView(i)[:c]...)
+	}
+	return out
+}
+
+// fill copies the participants idx of s into the graph's inputs, operators
+// and targets.
+func (s *prepared) fill(g *graph, idx []int) {
+	pp := s.p * s.p
+	for bi := range g.inputs {
+		for k, i := range idx {
+			copyInto(g.inputs[bi].Data(), k*pp, s.inputs[bi][i])
+			if g.operators[bi] != nil {
+				copyInto(g.operators[bi].Data(), k*pp, s.operators[bi][i])
+			}
+		}
+	}
+	nan := math.NaN()
+	for k, i := range idx {
+		if s.y == nil {
+			fillValue(g.target.Data(), k*s.targets, s.targets, nan)
+			continue
+		}
+		copyInto(g.target.Data(), k*s.targets, s.y[i*s.targets:(i+1)*s.targets])
+	}
+}
+
+func copyInto(dst any, off int, src []float64) {
+	switch d := dst.(type) {
+	case []float64:
+		copy(d[off:], src)
+	case []float32:
+		d = d[off : off+len(src)]
+		for i, v := range src {
+			d[i] = float32(v)
+		}
+	}
+}
+
+func fillValue(dst any, off, n int, v float64) {
+	switch d := dst.(type) {
+	case []float64:
+		for i := range n {
+			d[off+i] = v
+		}
+	case []float32:
+		for i := range n {
+			d[off+i] = float32(v)
+		}
+	}
+}
