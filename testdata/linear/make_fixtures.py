@@ -20,11 +20,18 @@ sklearn.json
     participants: Ridge after StandardScaler, Ridge on centred edges,
     KernelRidge with a linear and a precomputed correlation kernel, all at a
     fixed alpha, and GridSearchCV's choice of alpha over explicit folds.
+
+cpm.json
+    An invented cohort with planted positive and negative networks, and
+    connectome-based predictive modelling done with scipy: edges whose
+    scipy.stats.pearsonr (or spearmanr) two-sided p-value is below 0.01,
+    network strengths, and numpy's least-squares fit of the score on them.
 """
 import json
 import os
 
 import numpy as np
+import scipy.stats
 import sklearn
 import statsmodels.api as sm
 from sklearn.compose import TransformedTargetRegressor
@@ -176,6 +183,52 @@ def sklearn_cases(c, train, test):
     return cases
 
 
+def cpm_fixture(rng):
+    n_train, n_test, p = 80, 10, 8
+    c = cohort(rng, n_train + n_test, p, targets=1)
+    x = np.array([upper(np.array(m)) for m in c["functional"]])
+    d = x.shape[1]
+    planted_pos, planted_neg = [1, 7, 20], [4, 15, 26]
+    y = x[:, planted_pos].sum(axis=1) - x[:, planted_neg].sum(axis=1) + rng.normal(scale=1.2, size=len(x))
+    c["y"] = [[v] for v in y]
+    train, test = list(range(n_train)), list(range(n_train, n_train + n_test))
+    c["train"], c["test"] = train, test
+    cases = []
+    for corr, network in [("pearson", "both"), ("spearman", "both"), ("pearson", "positive"), ("pearson", "negative")]:
+        f = scipy.stats.pearsonr if corr == "pearson" else scipy.stats.spearmanr
+        r, pv = zip(*[f(x[train, k], y[train]) for k in range(d)])
+        r, pv = np.array(r), np.array(pv)
+        pos = [k for k in range(d) if pv[k] < 0.01 and r[k] > 0] if network != "negative" else []
+        neg = [k for k in range(d) if pv[k] < 0.01 and r[k] < 0] if network != "positive" else []
+        def design(rows):
+            cols = [np.ones(len(rows))]
+            if pos:
+                cols.append(x[rows][:, pos].sum(axis=1))
+            if neg:
+                cols.append(x[rows][:, neg].sum(axis=1))
+            return np.column_stack(cols)
+        b = np.linalg.lstsq(design(train), y[train], rcond=None)[0]
+        cases.append({
+            "correlation": corr, "network": network, "p_threshold": 0.01,
+            "positive": pos, "negative": neg,
+            "predictions": (design(test) @ b).tolist(),
+        })
+    c["planted_positive"], c["planted_negative"] = planted_pos, planted_neg
+    c["cases"] = cases
+    # Critical |r| at p = 0.01 and 0.05 for a few sample sizes, from scipy's t quantile.
+    c["critical_r"] = [
+        {"n": n, "p": pth, "r": float(t / np.sqrt(n - 2 + t * t))}
+        for n in [5, 12, 30, 80, 275] for pth in [0.01, 0.05]
+        for t in [scipy.stats.t.ppf(1 - pth / 2, n - 2)]
+    ]
+    # Two-sided p-values of a few correlations, from scipy's t survival function.
+    c["p_values"] = [
+        {"n": n, "r": r, "p": float(2 * scipy.stats.t.sf(abs(r) * np.sqrt((n - 2) / (1 - r * r)), n - 2))}
+        for n in [5, 30, 275] for r in [0.05, -0.3, 0.9]
+    ]
+    return c
+
+
 def main():
     with open(os.path.join(HERE, "longley.json"), "w") as f:
         json.dump(longley(), f, indent=1)
@@ -191,6 +244,9 @@ def main():
         out["cohorts"].append(c)
     with open(os.path.join(HERE, "sklearn.json"), "w") as f:
         json.dump(out, f)
+        f.write("\n")
+    with open(os.path.join(HERE, "cpm.json"), "w") as f:
+        json.dump(cpm_fixture(rng), f)
         f.write("\n")
 
 
