@@ -2,49 +2,121 @@ package eval
 
 import (
 	"bytes"
+	"context"
 	"fmt"
 
 	"github.com/skein-neuro/skein/train"
 )
 
-// The files WriteRun adds to a run folder.
+// The files Report.Write adds to a run folder.
 const (
 	PredictionsFile = "predictions.csv"
 	MetricsFile     = "metrics.json"
 	SummaryFile     = "summary.md"
 )
 
-// WriteRun writes a finished run's predictions.csv, metrics.json and
-// summary.md into the work folder of d (they appear in the run folder when
-// d is committed) and returns the summary. bins ≤ 0 means DefaultBins.
-func WriteRun(d *train.RunDir, exp *train.Experiment, res *train.Result, bins int) (*Summary, error) {
-	rows := make([]Prediction, len(res.Predictions))
+// A Report is everything skein concludes from a finished run.
+type Report struct {
+	Experiment  *train.Experiment
+	Result      *train.Result
+	Rows        []Prediction
+	Summary     *Summary
+	Nulls       []NullDistribution // nil without a permutation test
+	Comparisons []Comparison
+	// Participants and Excluded count the cohort.
+	Participants, Excluded int
+}
+
+// Evaluate scores the run r produced as res: metrics per model and target,
+// the permutation test when the experiment asks for one (which retrains
+// models, so it takes time), and the comparison with the best baseline.
+// bins ≤ 0 means DefaultBins.
+func Evaluate(ctx context.Context, r *train.Runner, res *train.Result, bins int) (*Report, error) {
+	exp := r.Experiment
+	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: len(r.Cohort.Excluded)}
+	rep.Rows = make([]Prediction, len(res.Predictions))
 	for i, p := range res.Predictions {
-		rows[i] = Prediction(p)
+		rep.Rows[i] = Prediction(p)
 	}
-	var buf bytes.Buffer
-	if err := WritePredictions(&buf, rows); err != nil {
+	rep.Summary = Summarize(rep.Rows, bins, true)
+	if exp.Permutation.Count > 0 {
+		nulls, err := PermutationTest(ctx, r, rep.Summary)
+		if err != nil {
+			return nil, fmt.Errorf("permutation test: %w", err)
+		}
+		rep.Nulls = nulls
+	}
+	baselines := make(map[string]bool)
+	for _, m := range exp.Models {
+		baselines[m.Name] = m.Kind() != "network"
+	}
+	var nTrain, nTest float64
+	for _, s := range res.Splits {
+		nTrain += float64(len(s.Train))
+		nTest += float64(len(s.Test))
+	}
+	nTrain /= float64(len(res.Splits))
+	nTest /= float64(len(res.Splits))
+	comps, err := Compare(rep.Summary, rep.Rows, CompareOptions{
+		Baselines: baselines, NTrain: nTrain, NTest: nTest, Nulls: rep.Nulls, Seed: uint64(exp.Seed),
+	})
+	if err != nil {
 		return nil, err
+	}
+	rep.Comparisons = comps
+	return rep, nil
+}
+
+// Write writes predictions.csv, metrics.json, summary.md and, after a
+// permutation test, permutations.csv into the work folder of d; they
+// appear in the run folder when d is committed.
+func (rep *Report) Write(d *train.RunDir) error {
+	var buf bytes.Buffer
+	if err := WritePredictions(&buf, rep.Rows); err != nil {
+		return err
 	}
 	if err := d.WriteFile(PredictionsFile, buf.Bytes()); err != nil {
-		return nil, err
+		return err
 	}
-	sum := Summarize(rows, bins, true)
 	buf.Reset()
-	if err := sum.WriteJSON(&buf); err != nil {
-		return nil, err
+	if err := rep.Summary.WriteJSON(&buf); err != nil {
+		return err
 	}
 	if err := d.WriteFile(MetricsFile, buf.Bytes()); err != nil {
-		return nil, err
+		return err
+	}
+	if rep.Nulls != nil {
+		raw, err := WriteNullCSV(rep.Nulls)
+		if err != nil {
+			return err
+		}
+		if err := d.WriteFile(PermutationFile, raw); err != nil {
+			return err
+		}
 	}
 	buf.Reset()
-	fmt.Fprintf(&buf, "# Results: %d models, %d-fold cross-validation × %d repeats, seed %d\n\n",
-		len(exp.Models), exp.CV.Folds, exp.CV.Repeats, exp.Seed)
-	if err := sum.WriteMarkdown(&buf); err != nil {
-		return nil, err
+	if err := rep.WriteMarkdown(&buf); err != nil {
+		return err
 	}
-	if err := d.WriteFile(SummaryFile, buf.Bytes()); err != nil {
-		return nil, err
+	return d.WriteFile(SummaryFile, buf.Bytes())
+}
+
+// WriteMarkdown writes summary.md: the run in one paragraph, the metrics
+// tables, the comparison tables and the cautions.
+func (rep *Report) WriteMarkdown(buf *bytes.Buffer) error {
+	exp := rep.Experiment
+	fmt.Fprintf(buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
+		rep.Participants, rep.Excluded, len(exp.Models), exp.CV.Folds, exp.CV.Repeats, exp.Seed)
+	if len(exp.CV.Confounds) > 0 {
+		fmt.Fprintf(buf, ", confounds %v regressed out of the scores within each training fold", exp.CV.Confounds)
 	}
-	return sum, nil
+	if rep.Nulls != nil {
+		fmt.Fprintf(buf, ", %d permutations", exp.Permutation.Count)
+	}
+	buf.WriteString(".\n\n## Metrics\n\n")
+	if err := rep.Summary.WriteMarkdown(buf); err != nil {
+		return err
+	}
+	buf.WriteString("\n## Comparison\n")
+	return WriteComparisonMarkdown(buf, rep.Comparisons)
 }

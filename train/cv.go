@@ -79,7 +79,7 @@ func (cv CV) innerFraction() float64 {
 
 // folds returns the fold scheme of the experiment for the cohort.
 func (cv CV) folds(seed int64, c *data.Cohort) Folds {
-	f := Folds{K: cv.Folds, Repeats: cv.Repeats, Seed: uint64(seed), Groups: groupsOf(c)}
+	f := Folds{K: cv.Folds, Repeats: cv.Repeats, Seed: uint64(seed), Groups: Groups(c)}
 	if t := slices.Index(c.Targets, cv.Stratify); cv.Stratify != "" && t >= 0 {
 		f.Strata = make([]float64, len(c.Participants))
 		for i, p := range c.Participants {

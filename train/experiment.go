@@ -29,6 +29,8 @@ type Experiment struct {
 	CV CV `toml:"cv"`
 	// Models lists the models to compare ([[model]]).
 	Models []ModelConfig `toml:"model"`
+	// Permutation is the permutation test ([permutation]).
+	Permutation Permutation `toml:"permutation"`
 
 	// Dir is the folder of the experiment file; relative paths in the file
 	// are taken from it. It is not read from the file.
@@ -80,6 +82,7 @@ func (e *Experiment) SetDefaults() {
 	e.Cohort.SetDefaults()
 	e.Preprocess.SetDefaults()
 	e.CV.SetDefaults()
+	e.Permutation.SetDefaults()
 	for i := range e.Models {
 		e.Models[i].SetDefaults()
 	}
@@ -94,6 +97,9 @@ func (e *Experiment) Validate() error {
 		return err
 	}
 	if err := e.CV.Validate(); err != nil {
+		return err
+	}
+	if err := e.Permutation.Validate(e.Models); err != nil {
 		return err
 	}
 	seen := make(map[string]bool)

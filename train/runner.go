@@ -83,6 +83,7 @@ type Runner struct {
 	Checkpoints *Checkpoints
 
 	newModel func(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error)
+	splits   []Split // when set, used instead of the experiment's folds
 }
 
 // Run trains and tests every unit and returns the predictions. A failing
@@ -99,14 +100,17 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	if newModel == nil {
 		newModel = buildModel
 	}
-	if err := exp.CV.checkAgainst(cohort); err != nil {
-		return nil, err
+	splits := r.splits
+	if splits == nil {
+		if err := exp.CV.checkAgainst(cohort); err != nil {
+			return nil, err
+		}
+		var err error
+		if splits, err = exp.CV.folds(exp.Seed, cohort).Splits(len(cohort.Participants)); err != nil {
+			return nil, err
+		}
 	}
 	y, cov, err := scoresAndConfounds(exp.CV, cohort)
-	if err != nil {
-		return nil, err
-	}
-	splits, err := exp.CV.folds(exp.Seed, cohort).Splits(len(cohort.Participants))
 	if err != nil {
 		return nil, err
 	}
@@ -214,7 +218,7 @@ func prepareFold(exp *Experiment, cohort *data.Cohort, split Split, y, cov *mat.
 		return nil, err
 	}
 	seed := unitSeed(exp.Seed, "inner", split.Repeat, split.Fold)
-	fitIdx, validIdx := InnerValidation(split.Train, groupsOf(cohort), exp.CV.innerCount(), exp.CV.innerFraction(), seed)
+	fitIdx, validIdx := InnerValidation(split.Train, Groups(cohort), exp.CV.innerCount(), exp.CV.innerFraction(), seed)
 	fd := &foldData{
 		split:      split,
 		prep:       prep,
@@ -303,9 +307,9 @@ func pick(c *data.Cohort, idx []int) []*data.Participant {
 	return ps
 }
 
-// groupsOf returns the participants' groups, or nil when the cohort has
+// Groups returns the participants' groups, or nil when the cohort has
 // none. A participant without a group stands alone.
-func groupsOf(c *data.Cohort) []string {
+func Groups(c *data.Cohort) []string {
 	grouped := false
 	groups := make([]string, len(c.Participants))
 	for i, p := range c.Participants {

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"errors"
 	"flag"
@@ -116,8 +117,15 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		}
 		return err
 	}
-	sum, err := eval.WriteRun(rd, exp, res, *bins)
+	if exp.Permutation.Count > 0 {
+		fmt.Fprintf(cio.stderr, "skein run: permutation test, %d permutations\n", exp.Permutation.Count)
+	}
+	report, err := eval.Evaluate(ctx, runner, res, *bins)
 	if err != nil {
+		fileLog.Error("evaluation failed", "error", err.Error())
+		return err
+	}
+	if err := report.Write(rd); err != nil {
 		return err
 	}
 	if err := rd.WriteFile(versionsFile, []byte(versions(exp))); err != nil {
@@ -127,9 +135,11 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if err := rd.Commit(); err != nil {
 		return err
 	}
-	if err := sum.WriteMarkdown(cio.stdout); err != nil {
+	var summary bytes.Buffer
+	if err := report.WriteMarkdown(&summary); err != nil {
 		return err
 	}
+	cio.stdout.Write(summary.Bytes())
 	fmt.Fprintf(cio.stdout, "\nResults in %s\n", rd.Final)
 	return nil
 }
