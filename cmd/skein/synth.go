@@ -3,8 +3,120 @@ package main
 import (
 	"context"
 	"errors"
+	"flag"
+	"fmt"
+	"path/filepath"
+
+	"github.com/skein-neuro/skein/data/synth"
 )
 
+// cmdSynth invents a synthetic cohort and writes it as a lab's files:
+// skein synth --out DIR [options].
 func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
-	return errors.New("not implemented yet")
+	fs := flag.NewFlagSet("synth", flag.ContinueOnError)
+	fs.SetOutput(cio.stderr)
+	out := fs.String("out", "", "folder to write the cohort into (required); must not exist or be empty")
+	force := fs.Bool("force", false, "replace the folder --out if it exists and is not empty")
+	format := fs.String("format", synth.FormatTSV, `matrix files: "tsv" (text) or "npy" (NumPy)`)
+	var cfg synth.Config
+	fs.IntVar(&cfg.N, "n", 150, "number of participants")
+	fs.IntVar(&cfg.P, "p", 32, "number of regions")
+	fs.Int64Var(&cfg.Seed, "seed", 1, "seed: the same options give the same cohort")
+	fs.IntVar(&cfg.Targets, "targets", synth.DefaultTargets, fmt.Sprintf("number of scores (%d at most)", len(synth.ScoreNames)))
+	fs.Float64Var(&cfg.Ceiling, "ceiling", synth.DefaultCeiling, "Pearson r between the planted signal and each score: the best any model can reach")
+	fs.BoolVar(&cfg.Null, "null", false, "scores independent of the connectomes (a cohort where nothing should beat chance)")
+	siblings := fs.Bool("siblings", false, "participants come in families (column \"family\") sharing part of their scores and connectomes")
+	fs.IntVar(&cfg.FamilySize, "family-size", 2, "family size with --siblings")
+	fs.Float64Var(&cfg.Motion, "motion", 0, "strength of a head-motion confound added to functional matrices and scores (0: none)")
+	fs.Float64Var(&cfg.Missing, "missing", 0, "fraction of scores left missing (n/a)")
+	fs.IntVar(&cfg.TimePoints, "timepoints", synth.DefaultTimePoints, "length of the simulated time series behind each functional matrix")
+	fs.Float64Var(&cfg.StructuralShare, "structural-share", 0, "share of the planted signal carried by structural edges, in [0, 1]")
+	fs.Usage = func() {
+		fmt.Fprintln(fs.Output(), "usage: skein synth --out DIR [options]")
+		fmt.Fprintln(fs.Output(), "\nInvents a cohort (participants, connectomes and scores of a fictional study) with a")
+		fmt.Fprintln(fs.Output(), "known planted signal and writes it as a lab's files: participants.tsv, fc/, sc/,")
+		fmt.Fprintln(fs.Output(), "regions.txt, planted.tsv (the truth) and experiment.toml for \"skein check\".")
+		fs.PrintDefaults()
+	}
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return nil
+		}
+		return badInput(err)
+	}
+	switch {
+	case fs.NArg() > 0:
+		return badInput(fmt.Errorf("unexpected argument %q: synth takes options only (see skein synth -h)", fs.Arg(0)))
+	case *out == "":
+		return badInput(errors.New("option --out: a folder to write into is required"))
+	case *format != synth.FormatTSV && *format != synth.FormatNPY:
+		return badInput(fmt.Errorf("option --format: %q is not one of %q or %q", *format, synth.FormatTSV, synth.FormatNPY))
+	}
+	if *siblings {
+		if cfg.FamilySize < 2 {
+			return badInput(fmt.Errorf("option --family-size: got %d, want 2 or more with --siblings", cfg.FamilySize))
+		}
+	} else {
+		cfg.FamilySize = 0
+	}
+	if err := ctx.Err(); err != nil {
+		return err
+	}
+
+	// synthFlags maps synth.Config fields to the options that set them, so
+	// that a bad value is reported under the option the user typed.
+	synthFlags := map[string]string{
+		"N":               "n",
+		"P":               "p",
+		"Targets":         "targets",
+		"Ceiling":         "ceiling",
+		"FamilySize":      "family-size",
+		"Motion":          "motion",
+		"Missing":         "missing",
+		"TimePoints":      "timepoints",
+		"StructuralShare": "structural-share",
+	}
+
+	c, err := synth.Generate(cfg)
+	if err != nil {
+		var ce *synth.ConfigError
+		if errors.As(err, &ce) && synthFlags[ce.Field] != "" {
+			return badInput(fmt.Errorf("option --%s: got %v, want %s", synthFlags[ce.Field], ce.Value, ce.Want))
+		}
+		return err
+	}
+	write := synth.Write
+	if *force {
+		write = synth.Replace
+	}
+	if err := write(*out, c, *format); err != nil {
+		if errors.Is(err, synth.ErrExists) {
+			return badInput(fmt.Errorf("%w; use --force to replace it", err))
+		}
+		return err
+	}
+
+	w := cio.stdout
+	fmt.Fprintf(w, "wrote %d participants, %d regions (%s matrices) to %s\n", len(c.Participants), c.P(), *format, *out)
+	if c.Grouped() {
+		fmt.Fprintf(w, "families of %d in column \"family\"\n", cfg.FamilySize)
+	}
+	for _, pt := range c.Truth {
+		if pt.Signal == nil {
+			fmt.Fprintf(w, "  %-10s null: independent of the connectomes", pt.Target)
+			if pt.MotionWeight > 0 {
+				fmt.Fprint(w, " except through the motion confound")
+			}
+			fmt.Fprintln(w)
+			continue
+		}
+		fmt.Fprintf(w, "  %-10s planted signal on %d+%d functional", pt.Target, len(pt.Positive), len(pt.Negative))
+		if n := len(pt.StructuralPositive) + len(pt.StructuralNegative); n > 0 {
+			fmt.Fprintf(w, " and %d structural", n)
+		}
+		fmt.Fprintf(w, " edges; ceiling r = %.3f\n", pt.Ceiling)
+	}
+	fmt.Fprintf(w, "next: skein check %s\n", filepath.Join(*out, "experiment.toml"))
+	fmt.Fprintln(w, "The data are invented (no real participants). Research software: not a diagnostic device.")
+	return nil
 }

@@ -186,31 +186,45 @@ func (cfg *Config) fill() error {
 	if cfg.TimePoints == 0 {
 		cfg.TimePoints = DefaultTimePoints
 	}
+	bad := func(field string, value any, want string) error {
+		return &ConfigError{Field: field, Value: value, Want: want}
+	}
 	switch {
 	case cfg.N < 10:
-		return fmt.Errorf("synth: N = %d participants, want at least 10", cfg.N)
+		return bad("N", cfg.N, "at least 10 participants")
 	case cfg.P < 8:
-		return fmt.Errorf("synth: P = %d regions, want at least 8", cfg.P)
+		return bad("P", cfg.P, "at least 8 regions")
 	case cfg.Targets < 1 || cfg.Targets > len(ScoreNames):
-		return fmt.Errorf("synth: Targets = %d, want 1 to %d", cfg.Targets, len(ScoreNames))
+		return bad("Targets", cfg.Targets, fmt.Sprintf("1 to %d scores", len(ScoreNames)))
 	case !(cfg.Ceiling > 0 && cfg.Ceiling <= 1):
-		return fmt.Errorf("synth: Ceiling = %v, want a correlation in (0, 1]", cfg.Ceiling)
+		return bad("Ceiling", cfg.Ceiling, "a correlation in (0, 1]")
 	case cfg.FamilySize < 0:
-		return fmt.Errorf("synth: FamilySize = %d, want 0 or more", cfg.FamilySize)
+		return bad("FamilySize", cfg.FamilySize, "0 or more")
 	case !(cfg.Motion >= 0) || math.IsInf(cfg.Motion, 0):
-		return fmt.Errorf("synth: Motion = %v, want 0 or more", cfg.Motion)
+		return bad("Motion", cfg.Motion, "0 or more")
 	case !(cfg.Missing >= 0 && cfg.Missing < 1):
-		return fmt.Errorf("synth: Missing = %v, want a fraction in [0, 1)", cfg.Missing)
+		return bad("Missing", cfg.Missing, "a fraction in [0, 1)")
 	case cfg.TimePoints < 20:
-		return fmt.Errorf("synth: TimePoints = %d, want at least 20", cfg.TimePoints)
+		return bad("TimePoints", cfg.TimePoints, "at least 20 time points")
 	case !(cfg.StructuralShare >= 0 && cfg.StructuralShare <= 1):
-		return fmt.Errorf("synth: StructuralShare = %v, want a fraction in [0, 1]", cfg.StructuralShare)
+		return bad("StructuralShare", cfg.StructuralShare, "a fraction in [0, 1]")
 	}
 	if !cfg.Null && 1/(cfg.Ceiling*cfg.Ceiling)-1-cfg.Motion*cfg.Motion < 0 {
-		return fmt.Errorf("synth: Ceiling = %v cannot be reached with Motion = %v: the motion part alone limits it to %.4g",
-			cfg.Ceiling, cfg.Motion, 1/math.Sqrt(1+cfg.Motion*cfg.Motion))
+		return bad("Ceiling", cfg.Ceiling, fmt.Sprintf("at most %.4g: with Motion = %v the motion part of the scores limits the ceiling (it cannot be reached)",
+			1/math.Sqrt(1+cfg.Motion*cfg.Motion), cfg.Motion))
 	}
 	return nil
+}
+
+// ConfigError is a Config field that Generate cannot work with.
+type ConfigError struct {
+	Field string // the Config field, such as "N"
+	Value any    // its value
+	Want  string // what would work
+}
+
+func (e *ConfigError) Error() string {
+	return fmt.Sprintf("synth: %s = %v, want %s", e.Field, e.Value, e.Want)
 }
 
 // plan is the part of a cohort shared by all its participants.
