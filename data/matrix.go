@@ -27,7 +27,7 @@ func (t *textMatrix) position(i, j int) (line, column int) {
 // parseMatrixText parses a matrix written as delimited text. The delimiter
 // is found on the first non-blank line: a tab if it has one, else a comma
 // if it has one, else runs of white space. The first row is a header of
-// region labels when none of its cells after the first is a number; the
+// region labels when none of its cells is a number; the
 // first column holds region labels when every data row's first cell is not
 // a number, or when the header is one cell shorter than the data rows.
 // When both a header and a label column are present they must agree.
@@ -145,12 +145,9 @@ func splitOn(sep string) func(string) []string {
 }
 
 // isHeader reports whether a first row is a header of labels: none of its
-// cells after the first (which may be a corner label) is a number.
+// cells (the first may be an empty or text corner cell) is a number.
 func isHeader(row []string) bool {
-	if len(row) == 1 {
-		return !isNumber(row[0])
-	}
-	for _, c := range row[1:] {
+	for _, c := range row {
 		if isNumber(c) {
 			return false
 		}

@@ -2,6 +2,7 @@ package data
 
 import (
 	"bytes"
+	"encoding/binary"
 	"errors"
 	"fmt"
 	"strings"
@@ -33,6 +34,9 @@ func decodeNPY(path string, raw []byte) (arr *npyArray, err error) {
 			arr, err = nil, &FileError{Path: path, Err: fmt.Errorf("not a readable .npy file: %v", r)}
 		}
 	}()
+	if err := checkNPYPreamble(raw); err != nil {
+		return nil, &FileError{Path: path, Err: fmt.Errorf("not a readable .npy file: %w", err)}
+	}
 	rd := bytes.NewReader(raw)
 	r, err := npyio.NewReader(rd)
 	if err != nil {
@@ -77,6 +81,34 @@ func decodeNPY(path string, raw []byte) (arr *npyArray, err error) {
 		data = fortranToC(data, shape)
 	}
 	return &npyArray{shape: shape, data: data}, nil
+}
+
+// checkNPYPreamble checks the magic string, the format version and that
+// the header length fits in raw, before npyio allocates the header.
+func checkNPYPreamble(raw []byte) error {
+	const magic = "\x93NUMPY"
+	if len(raw) < len(magic)+4 || string(raw[:len(magic)]) != magic {
+		return errors.New(`file does not start with the .npy magic string "\x93NUMPY"`)
+	}
+	var headerLen, start int
+	switch major := raw[6]; major {
+	case 1:
+		headerLen, start = int(binary.LittleEndian.Uint16(raw[8:10])), 10
+	case 2:
+		if len(raw) < 12 {
+			return errors.New("file ends inside the preamble")
+		}
+		headerLen, start = int(binary.LittleEndian.Uint32(raw[8:12])), 12
+	default:
+		return fmt.Errorf("format version %d.%d is not supported; expected 1.0 or 2.0", major, raw[7])
+	}
+	if headerLen > len(raw)-start {
+		return fmt.Errorf("header of %d bytes runs past the end of the file", headerLen)
+	}
+	if !bytes.Contains(raw[start:start+headerLen], []byte("\n")) {
+		return errors.New("header does not end with a newline")
+	}
+	return nil
 }
 
 // fortranToC reorders data of the given shape from Fortran (first index
