@@ -51,9 +51,10 @@ func (h Header) Has(column string) bool {
 	return false
 }
 
-// HasFolds reports whether the file has both the repeat and the fold
-// columns, so that per-fold figures can be computed.
-func (h Header) HasFolds() bool { return h.Has(ColumnRepeat) && h.Has(ColumnFold) }
+// HasFolds reports whether the file has a fold column, so that per-fold
+// figures can be computed. Without a repeat column every fold belongs to
+// repeat 0.
+func (h Header) HasFolds() bool { return h.Has(ColumnFold) }
 
 // Extra returns the columns ReadPredictions does not read, in file order.
 func (h Header) Extra() []string {
@@ -103,6 +104,12 @@ func (e *ParseError) Unwrap() error { return e.Err }
 // and repeat and fold are 0 when absent (Header.HasFolds tells which).
 // Other columns are not read; Header.Extra lists them.
 //
+// When the file has a participant_id column, a participant (a non-empty
+// id) may appear only once for each model, target and repeat: in
+// cross-validation every participant is tested once per repeat, and a
+// second row would count twice in the pooled figures. A repeated
+// participant is a *ParseError naming both lines.
+//
 // observed and predicted cells are numbers as strconv.ParseFloat reads them;
 // an empty cell, "NaN" or "NA" (any case) is a missing value, read as NaN
 // and later skipped and counted by the metrics. Infinite values are
@@ -137,6 +144,13 @@ func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
 			return nil, nil, &ParseError{File: name, Line: 1, Err: fmt.Errorf("no %q column: the header has %s", c, strings.Join(quoteAll(header), ", "))}
 		}
 	}
+
+	type testKey struct {
+		participant, model, target string
+		repeat                     int
+	}
+	_, checkRepeats := index[ColumnParticipant]
+	firstLine := make(map[testKey]int)
 
 	var rows []Prediction
 	for {
@@ -191,6 +205,16 @@ func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
 				return nil, nil, bad(col, f.column, err)
 			}
 			*f.dst = v
+		}
+		if checkRepeats && p.ParticipantID != "" {
+			k := testKey{p.ParticipantID, p.Model, p.Target, p.Repeat}
+			if first, dup := firstLine[k]; dup {
+				col := index[ColumnParticipant]
+				return nil, nil, bad(col, ColumnParticipant, fmt.Errorf(
+					"participant %q already has a prediction of model %q, target %q, repeat %d on line %d: expected one per repeat",
+					p.ParticipantID, p.Model, p.Target, p.Repeat, first))
+			}
+			firstLine[k] = line
 		}
 		rows = append(rows, p)
 	}

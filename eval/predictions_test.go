@@ -71,6 +71,8 @@ func TestReadPredictionsErrors(t *testing.T) {
 		{"bad fold", "observed,predicted,repeat,fold\n1,2,0,x\n", 2, 4, `expected an integer ≥ 0, found "x"`},
 		{"negative repeat", "observed,predicted,repeat,fold\n1,2,-1,0\n", 2, 3, "expected an integer ≥ 0"},
 		{"short row", "observed,predicted\n1,2\n3\n", 3, 1, "wrong number of fields"},
+		{"participant twice in a repeat", "participant_id,repeat,observed,predicted\ns1,0,1,2\ns2,0,1,2\ns1,1,1,2\ns1,0,3,4\n", 5, 1,
+			`participant "s1" already has a prediction of model "", target "", repeat 0 on line 2`},
 		{"bad quote", "observed,predicted\n1,\"2\n", 2, 0, "extraneous or missing"},
 	}
 	for _, tt := range tests {
