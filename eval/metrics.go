@@ -1,8 +1,10 @@
 package eval
 
 import (
+	"cmp"
 	"fmt"
 	"math"
+	"slices"
 	"sort"
 
 	"gonum.org/v1/gonum/stat"
@@ -80,7 +82,11 @@ func Spearman(observed, predicted []float64) float64 {
 // for the smallest; tied values share the mean of the ranks they span, so
 // {10, 20, 20, 30} ranks as {1, 2.5, 2.5, 4}. x must not hold NaN.
 func AverageRanks(x []float64) []float64 {
-	order := sortedOrder(x)
+	return averageRanks(x, sortedOrder(x))
+}
+
+// averageRanks is AverageRanks given the sortedOrder of x.
+func averageRanks(x []float64, order []int) []float64 {
 	ranks := make([]float64, len(x))
 	for lo := 0; lo < len(order); {
 		hi := lo + 1
@@ -105,7 +111,13 @@ func sortedOrder(x []float64) []int {
 	for i := range order {
 		order[i] = i
 	}
-	sort.SliceStable(order, func(a, b int) bool { return x[order[a]] < x[order[b]] })
+	// Breaking ties by index makes the unstable sort stable.
+	slices.SortFunc(order, func(a, b int) int {
+		if c := cmp.Compare(x[a], x[b]); c != 0 {
+			return c
+		}
+		return cmp.Compare(a, b)
+	})
 	return order
 }
 
@@ -334,8 +346,15 @@ func Score(observed, predicted []float64, bins int) Scores {
 	}
 	obs, pred, skipped := CompletePairs(observed, predicted)
 	s := Scores{N: len(obs), Missing: skipped, Bins: bins}
-	for _, m := range Metrics() {
+	for _, m := range []Metric{MetricPearson, MetricMAE, MetricMedianAE, MetricRMSE, MetricR2} {
 		s.Set(m, m.Compute(obs, pred, bins))
+	}
+	// Spearman and NMI share one sort of each side.
+	orderObs, orderPred := sortedOrder(obs), sortedOrder(pred)
+	s.Spearman = pearson(averageRanks(obs, orderObs), averageRanks(pred, orderPred))
+	s.NMI = math.NaN()
+	if len(obs) > 0 {
+		s.NMI = NMILabels(binsOf(orderObs, bins), binsOf(orderPred, bins))
 	}
 	return s
 }

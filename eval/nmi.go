@@ -23,9 +23,15 @@ func EqualFrequencyBins(x []float64, bins int) []int {
 	if bins < 1 {
 		panic(fmt.Sprintf("eval: %d bins, want at least 1", bins))
 	}
-	labels := make([]int, len(x))
-	n := len(x)
-	for k, i := range sortedOrder(x) {
+	return binsOf(sortedOrder(x), bins)
+}
+
+// binsOf returns the equal-frequency bin of each value given the sortedOrder
+// of the values.
+func binsOf(order []int, bins int) []int {
+	labels := make([]int, len(order))
+	n := len(order)
+	for k, i := range order {
 		labels[i] = bins * k / n
 	}
 	return labels
