@@ -33,7 +33,8 @@ func GraphConv(s, h, w *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	op := &graphConvOp{
 		base: newBase(fmt.Sprintf("GraphConv(%v·%v)", hs, ws), shapes, tensor.Shape{B, P, G}),
 		B:    B, P: P, F: F, G: G,
-		opts: collect(opts),
+		opts:     collect(opts),
+		tmpShape: tensor.Shape{B, P, min(F, G)},
 	}
 	return gorgonia.ApplyOp(op, s, h, w)
 }
@@ -43,6 +44,7 @@ type graphConvOp struct {
 	B, P, F, G int
 	opts       options
 	tmp        buffer // H·W (B, p, G) or S·H (B, p, F), whichever is smaller
+	tmpShape   tensor.Shape
 }
 
 func graphConvForward[T float](op *graphConvOp, s, h, w, tmp, y []T) {
@@ -65,7 +67,7 @@ func (op *graphConvOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	tmp := op.tmp.get(dt, tensor.Shape{op.B, op.P, min(op.F, op.G)})
+	tmp := op.tmp.get(dt, op.tmpShape)
 	if dt == tensor.Float64 {
 		graphConvForward(op, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](tmp), slice[float64](out))
 	} else {

@@ -36,10 +36,12 @@ func E2E(x, wr, wc, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 		return nil, fmt.Errorf("ops: E2E: b has shape %v, want (%d)", shapes[3], O)
 	}
 	op := &e2eOp{
-		base: newBase(fmt.Sprintf("E2E(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P, P}),
-		dims: filterDims{B: B, C: C, O: O, P: P},
-		opts: collect(opts),
+		base:    newBase(fmt.Sprintf("E2E(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P, P}),
+		dims:    filterDims{B: B, C: C, O: O, P: P},
+		opts:    collect(opts),
+		rcShape: tensor.Shape{2, O, B, P},
 	}
+	op.rows = newRowCache(op.dims)
 	return gorgonia.ApplyOp(op, x, wr, wc, b)
 }
 
@@ -68,10 +70,12 @@ func E2N(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 		return nil, fmt.Errorf("ops: E2N: b has shape %v, want (%d)", shapes[2], O)
 	}
 	op := &e2nOp{
-		base: newBase(fmt.Sprintf("E2N(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P}),
-		dims: filterDims{B: B, C: C, O: O, P: P},
-		opts: collect(opts),
+		base:      newBase(fmt.Sprintf("E2N(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P}),
+		dims:      filterDims{B: B, C: C, O: O, P: P},
+		opts:      collect(opts),
+		termShape: tensor.Shape{O, B, P},
 	}
+	op.rows = newRowCache(op.dims)
 	return gorgonia.ApplyOp(op, x, w, b)
 }
 
@@ -79,21 +83,80 @@ func E2N(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 // O output channels, p nodes.
 type filterDims struct{ B, C, O, P int }
 
-// layout places the O×p matrix of sample n of a row or column term at
-// off + n·step in its slice, with rows ld apart.
-type layout struct{ off, step, ld int }
+// Terms. A row or column term (R[n,o,i] = Σ_{c,k} Wr[o,c,k]·X[n,c,i,k],
+// Cc[n,o,j] = Σ_{c,k} Wc[o,c,k]·X[n,c,k,j]) and its gradient are kept as
+// (O, B, p) matrices, O × (B·p), so that all samples are one product:
+//
+//	R  = Wr · Xrowᵀ, with Wr (O × C·p) and Xrow (B·p × C·p), Xrow[(n,i),(c,k)] = X[n,c,i,k]
+//	Cc_n = Wc · X_n, with X_n (C·p × p) sample n of x as it is stored
+//
+// Xrow is a permuted copy of x (x itself when C = 1).
 
-// sumsLayouts are where edgeSums puts the row sums (dR) and the column
-// sums (dC) in its (2, O, B, p) output: dR[o,n,i] then dC[o,n,j], so that
-// all samples of one channel o are contiguous.
-func (d filterDims) sumsLayouts() (rows, cols layout) {
-	return layout{0, d.P, d.B * d.P}, layout{d.O * d.B * d.P, d.P, d.B * d.P}
+// termSize is the number of values of one term, O·B·p.
+func (d filterDims) termSize() int { return d.O * d.B * d.P }
+
+// rowCache holds Xrow, the (B, p, C, p) permutation of x.
+type rowCache struct {
+	buf   buffer
+	shape tensor.Shape
 }
 
-// e2nLayout is the layout of a (B, O, p) tensor.
-func (d filterDims) e2nLayout() layout { return layout{0, d.O * d.P, d.P} }
+func newRowCache(d filterDims) *rowCache { return &rowCache{shape: tensor.Shape{d.B, d.P, d.C, d.P}} }
 
-func (d filterDims) stacked(l layout) bool { return d.C == 1 && l.step == d.P && l.ld == d.B*d.P }
+func dtypeOf[T float]() tensor.Dtype {
+	if is64[T]() {
+		return tensor.Float64
+	}
+	return tensor.Float32
+}
+
+// fill sets Xrow[n,i,c,k] = X[n,c,i,k] and returns it; x itself when C = 1.
+func fillRows[T float](d filterDims, rc *rowCache, x []T) []T {
+	if d.C == 1 {
+		return x
+	}
+	xr := slice[T](rc.buf.get(dtypeOf[T](), rc.shape))
+	B, C, P := d.B, d.C, d.P
+	for n := 0; n < B; n++ {
+		for c := 0; c < C; c++ {
+			for i := 0; i < P; i++ {
+				copy(xr[((n*P+i)*C+c)*P:][:P], x[((n*C+c)*P+i)*P:][:P])
+			}
+		}
+	}
+	return xr
+}
+
+// rows returns Xrow as the forward pass filled it (x itself when C = 1).
+func rows[T float](d filterDims, rc *rowCache, x []T) ([]T, error) {
+	if d.C == 1 {
+		return x, nil
+	}
+	if rc.buf.t == nil || rc.buf.t.Dtype() != dtypeOf[T]() {
+		return nil, fmt.Errorf("ops: backward pass run before its forward pass")
+	}
+	return slice[T](rc.buf.t), nil
+}
+
+// unpermute sets (or adds to) dx[n,c,i,k] the value dxr[n,i,c,k].
+func unpermute[T float](d filterDims, dxr, dx []T, add bool) {
+	B, C, P := d.B, d.C, d.P
+	for n := 0; n < B; n++ {
+		for c := 0; c < C; c++ {
+			for i := 0; i < P; i++ {
+				src := dxr[((n*P+i)*C+c)*P:][:P]
+				dst := dx[((n*C+c)*P+i)*P:][:P]
+				if add {
+					for k, v := range src {
+						dst[k] += v
+					}
+				} else {
+					copy(dst, src)
+				}
+			}
+		}
+	}
+}
 
 func betaFor[T float](first bool) T {
 	if first {
@@ -102,104 +165,70 @@ func betaFor[T float](first bool) T {
 	return 1
 }
 
-// rowTerm sets out_n = Σ_c W_c·X_ncᵀ, where W_c is the O×p slice c of w
-// (O, C, p) and X_nc the p×p channel c of sample n of x (B, C, p, p).
-func rowTerm[T float](d filterDims, x, w, out []T, l layout) {
+// rowTerm sets the (O, B, p) term out = W·Xrowᵀ.
+func rowTerm[T float](d filterDims, xr, w, out []T) {
 	B, C, O, P := d.B, d.C, d.O, d.P
-	if d.stacked(l) {
-		gemm(false, true, O, B*P, P, 1, w, P, x, P, 0, out[l.off:], l.ld)
-		return
-	}
+	gemm(false, true, O, B*P, C*P, 1, w, C*P, xr, C*P, 0, out, B*P)
+}
+
+// colTerm sets the (O, B, p) term out, out_n = W·X_n.
+func colTerm[T float](d filterDims, x, w, out []T) {
+	B, C, O, P := d.B, d.C, d.O, d.P
 	for n := 0; n < B; n++ {
-		for c := 0; c < C; c++ {
-			gemm(false, true, O, P, P, 1, w[c*P:], C*P, x[(n*C+c)*P*P:], P, betaFor[T](c == 0), out[l.off+n*l.step:], l.ld)
-		}
+		gemm(false, false, O, P, C*P, 1, w, C*P, x[n*C*P*P:], P, 0, out[n*P:], B*P)
 	}
 }
 
-// colTerm sets out_n = Σ_c W_c·X_nc.
-func colTerm[T float](d filterDims, x, w, out []T, l layout) {
+// rowGradW sets dW = G·Xrow, the gradient of Σ G ⊙ R with respect to W.
+func rowGradW[T float](d filterDims, g, xr, dw []T) {
+	B, C, O, P := d.B, d.C, d.O, d.P
+	gemm(false, false, O, C*P, B*P, 1, g, B*P, xr, C*P, 0, dw, C*P)
+}
+
+// colGradW sets dW = Σ_n G_n·X_nᵀ.
+func colGradW[T float](d filterDims, g, x, dw []T) {
 	B, C, O, P := d.B, d.C, d.O, d.P
 	for n := 0; n < B; n++ {
-		for c := 0; c < C; c++ {
-			gemm(false, false, O, P, P, 1, w[c*P:], C*P, x[(n*C+c)*P*P:], P, betaFor[T](c == 0), out[l.off+n*l.step:], l.ld)
-		}
+		gemm(false, true, O, C*P, P, 1, g[n*P:], B*P, x[n*C*P*P:], P, betaFor[T](n == 0), dw, C*P)
 	}
 }
 
-// rowGradW sets dW_c = Σ_n G_n·X_nc, the gradient of a row term with
-// respect to its weights given the gradient G of the term.
-func rowGradW[T float](d filterDims, g, x, dw []T, l layout) {
+// rowGradX sets (or adds to) dXrow the value Gᵀ·W.
+func rowGradX[T float](d filterDims, g, w, dxr []T, add bool) {
 	B, C, O, P := d.B, d.C, d.O, d.P
-	if d.stacked(l) {
-		gemm(false, false, O, P, B*P, 1, g[l.off:], l.ld, x, P, 0, dw, P)
-		return
-	}
+	gemm(true, false, B*P, C*P, O, 1, g, B*P, w, C*P, betaFor[T](!add), dxr, C*P)
+}
+
+// colGradX sets dX_n = Wᵀ·G_n.
+func colGradX[T float](d filterDims, g, w, dx []T) {
+	B, C, O, P := d.B, d.C, d.O, d.P
 	for n := 0; n < B; n++ {
-		for c := 0; c < C; c++ {
-			gemm(false, false, O, P, P, 1, g[l.off+n*l.step:], l.ld, x[(n*C+c)*P*P:], P, betaFor[T](n == 0), dw[c*P:], C*P)
-		}
+		gemm(true, false, C*P, P, O, 1, w, C*P, g[n*P:], B*P, 0, dx[n*C*P*P:], P)
 	}
 }
 
-// colGradW sets dW_c = Σ_n G_n·X_ncᵀ.
-func colGradW[T float](d filterDims, g, x, dw []T, l layout) {
-	B, C, O, P := d.B, d.C, d.O, d.P
-	for n := 0; n < B; n++ {
-		for c := 0; c < C; c++ {
-			gemm(false, true, O, P, P, 1, g[l.off+n*l.step:], l.ld, x[(n*C+c)*P*P:], P, betaFor[T](n == 0), dw[c*P:], C*P)
-		}
-	}
-}
-
-// rowGradX sets dX_nc = G_nᵀ·W_c (or adds it, if accumulate).
-func rowGradX[T float](d filterDims, g, w, dx []T, l layout, accumulate bool) {
-	B, C, O, P := d.B, d.C, d.O, d.P
-	if d.stacked(l) {
-		gemm(true, false, B*P, P, O, 1, g[l.off:], l.ld, w, P, betaFor[T](!accumulate), dx, P)
-		return
-	}
-	for n := 0; n < B; n++ {
-		for c := 0; c < C; c++ {
-			gemm(true, false, P, P, O, 1, g[l.off+n*l.step:], l.ld, w[c*P:], C*P, betaFor[T](!accumulate), dx[(n*C+c)*P*P:], P)
-		}
-	}
-}
-
-// colGradX sets dX_nc = W_cᵀ·G_n (or adds it, if accumulate).
-func colGradX[T float](d filterDims, g, w, dx []T, l layout, accumulate bool) {
-	B, C, O, P := d.B, d.C, d.O, d.P
-	for n := 0; n < B; n++ {
-		for c := 0; c < C; c++ {
-			gemm(true, false, P, P, O, 1, w[c*P:], C*P, g[l.off+n*l.step:], l.ld, betaFor[T](!accumulate), dx[(n*C+c)*P*P:], P)
-		}
-	}
-}
-
-// biasGrad sets db[o] = Σ_n Σ_i G_n[o,i].
-func biasGrad[T float](d filterDims, g, db []T, l layout) {
+// biasGrad sets db[o] = Σ_{n,i} G[o,n,i].
+func biasGrad[T float](d filterDims, g, db []T) {
+	BP := d.B * d.P
 	for o := range db[:d.O] {
 		var s T
-		for n := 0; n < d.B; n++ {
-			for _, v := range g[l.off+n*l.step+o*l.ld:][:d.P] {
-				s += v
-			}
+		for _, v := range g[o*BP:][:BP] {
+			s += v
 		}
 		db[o] = s
 	}
 }
 
-// e2eForward computes H from the row and column terms R and Cc, kept in
-// rc (2, O, B, p) for the fused broadcast H[n,o,i,j] = R[o,n,i] + Cc[o,n,j] + b[o].
-func e2eForward[T float](d filterDims, x, wr, wc, b, rc, h []T) {
-	rl, cl := d.sumsLayouts()
-	rowTerm(d, x, wr, rc, rl)
-	colTerm(d, x, wc, rc, cl)
+// e2eForward computes the row and column terms into rc (2, O, B, p) and
+// then, in one fused loop, H[n,o,i,j] = R[o,n,i] + Cc[o,n,j] + b[o].
+func e2eForward[T float](d filterDims, cache *rowCache, x, wr, wc, b, rc, h []T) {
+	rowTerm(d, fillRows(d, cache, x), wr, rc)
+	colTerm(d, x, wc, rc[d.termSize():])
 	B, O, P := d.B, d.O, d.P
 	for n := 0; n < B; n++ {
 		for o := 0; o < O; o++ {
-			r := rc[rl.off+n*rl.step+o*rl.ld:][:P]
-			cc := rc[cl.off+n*cl.step+o*cl.ld:][:P]
+			r := rc[(o*B+n)*P:][:P]
+			cc := rc[d.termSize()+(o*B+n)*P:][:P]
 			blk := h[(n*O+o)*P*P:][:P*P]
 			bo := b[o]
 			for i, ri := range r {
@@ -214,15 +243,14 @@ func e2eForward[T float](d filterDims, x, wr, wc, b, rc, h []T) {
 }
 
 // edgeSums sets s (2, O, B, p) to the row sums dR[o,n,i] = Σ_j G[n,o,i,j]
-// and column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p).
+// and the column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p).
 func edgeSums[T float](d filterDims, g, s []T) {
-	rl, cl := d.sumsLayouts()
 	B, O, P := d.B, d.O, d.P
 	for n := 0; n < B; n++ {
 		for o := 0; o < O; o++ {
 			blk := g[(n*O+o)*P*P:][:P*P]
-			r := s[rl.off+n*rl.step+o*rl.ld:][:P]
-			cc := s[cl.off+n*cl.step+o*cl.ld:][:P]
+			r := s[(o*B+n)*P:][:P]
+			cc := s[d.termSize()+(o*B+n)*P:][:P]
 			clear(cc)
 			for i := range r {
 				row := blk[i*P:][:P]
@@ -239,9 +267,11 @@ func edgeSums[T float](d filterDims, g, s []T) {
 
 type e2eOp struct {
 	base
-	dims filterDims
-	opts options
-	rc   buffer // row and column terms, (2, O, B, p)
+	dims    filterDims
+	opts    options
+	rc      buffer // row and column terms, (2, O, B, p)
+	rcShape tensor.Shape
+	rows    *rowCache // shared with the backward op of Wr
 }
 
 func (op *e2eOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -250,42 +280,44 @@ func (op *e2eOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	d := op.dims
-	rc := op.rc.get(dt, tensor.Shape{2, d.O, d.B, d.P})
+	rc := op.rc.get(dt, op.rcShape)
 	if dt == tensor.Float64 {
-		e2eForward(d, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
+		e2eForward(d, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
 	} else {
-		e2eForward(d, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
+		e2eForward(d, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
 	}
 	return out, nil
 }
 
 func (op *e2eOp) DiffWRT(int) []bool { return []bool{!op.opts.noInputGrad, true, true, true} }
 
+// SymDiff: with the row sums dR and column sums dC of dH (edgeSums),
+// dWr = dR·Xrow, dWc = Σ_n dC_n·X_nᵀ, db[o] = Σ dR[o,·], and
+// dX = unpermute(dRᵀ·Wr) + Wcᵀ·dC_n per sample.
 func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
 	d := op.dims
 	x, wr, wc := inputs[0], inputs[1], inputs[2]
-	sumsShape := tensor.Shape{2, d.O, d.B, d.P}
+	sumsShape := op.rcShape
 	sums, err := gorgonia.ApplyOp(&edgeSumsOp{base: newBase("E2ESums", []tensor.Shape{op.out}, sumsShape), dims: d}, grad)
 	if err != nil {
 		return nil, err
 	}
-	rl, cl := d.sumsLayouts()
 	grads := make(gorgonia.Nodes, 4)
 	if !op.opts.noInputGrad {
-		gx := &gradXOp{base: newBase("E2EGradX", []tensor.Shape{sumsShape, op.in[1], op.in[2]}, op.in[0]), dims: d, rows: rl, cols: cl}
+		gx := newGradXOp("E2EGradX", d, []tensor.Shape{sumsShape, op.in[1], op.in[2]}, op.in[0])
 		if grads[0], err = gorgonia.ApplyOp(gx, sums, wr, wc); err != nil {
 			return nil, err
 		}
 	}
-	gwr := &gradWOp{base: newBase("E2EGradWr", []tensor.Shape{sumsShape, op.in[0]}, op.in[1]), dims: d, l: rl}
+	gwr := &gradWOp{base: newBase("E2EGradWr", []tensor.Shape{sumsShape, op.in[0]}, op.in[1]), dims: d, rows: op.rows}
 	if grads[1], err = gorgonia.ApplyOp(gwr, sums, x); err != nil {
 		return nil, err
 	}
-	gwc := &gradWOp{base: newBase("E2EGradWc", []tensor.Shape{sumsShape, op.in[0]}, op.in[2]), dims: d, l: cl, col: true}
+	gwc := &gradWOp{base: newBase("E2EGradWc", []tensor.Shape{sumsShape, op.in[0]}, op.in[2]), dims: d, off: d.termSize(), col: true}
 	if grads[2], err = gorgonia.ApplyOp(gwc, sums, x); err != nil {
 		return nil, err
 	}
-	gb := &biasGradOp{base: newBase("E2EGradB", []tensor.Shape{sumsShape}, op.in[3]), dims: d, l: rl}
+	gb := &biasGradOp{base: newBase("E2EGradB", []tensor.Shape{sumsShape}, op.in[3]), dims: d}
 	if grads[3], err = gorgonia.ApplyOp(gb, sums); err != nil {
 		return nil, err
 	}
@@ -294,17 +326,23 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 
 type e2nOp struct {
 	base
-	dims filterDims
-	opts options
+	dims      filterDims
+	opts      options
+	rows      *rowCache // shared with the backward op of W
+	term      buffer    // the row term, (O, B, p)
+	termShape tensor.Shape
 }
 
-func e2nForward[T float](d filterDims, x, w, b, out []T) {
-	l := d.e2nLayout()
-	rowTerm(d, x, w, out, l)
-	for n := 0; n < d.B; n++ {
-		for o, bo := range b[:d.O] {
-			for i := range out[l.off+n*l.step+o*l.ld:][:d.P] {
-				out[l.off+n*l.step+o*l.ld+i] += bo
+// e2nForward computes the row term into t (O, B, p), then
+// N[n,o,i] = R[o,n,i] + b[o].
+func e2nForward[T float](d filterDims, cache *rowCache, x, w, b, t, out []T) {
+	rowTerm(d, fillRows(d, cache, x), w, t)
+	B, O, P := d.B, d.O, d.P
+	for n := 0; n < B; n++ {
+		for o, bo := range b[:O] {
+			dst := out[(n*O+o)*P:][:P]
+			for i, v := range t[(o*B+n)*P:][:P] {
+				dst[i] = v + bo
 			}
 		}
 	}
@@ -315,34 +353,40 @@ func (op *e2nOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	if err != nil {
 		return nil, err
 	}
+	t := op.term.get(dt, op.termShape)
 	if dt == tensor.Float64 {
-		e2nForward(op.dims, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](out))
+		e2nForward(op.dims, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](t), slice[float64](out))
 	} else {
-		e2nForward(op.dims, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](out))
+		e2nForward(op.dims, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](t), slice[float32](out))
 	}
 	return out, nil
 }
 
 func (op *e2nOp) DiffWRT(int) []bool { return []bool{!op.opts.noInputGrad, true, true} }
 
+// SymDiff: with G = dN as (O, B, p), dW = G·Xrow, db[o] = Σ G[o,·] and
+// dX = unpermute(Gᵀ·W).
 func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
 	d := op.dims
 	x, w := inputs[0], inputs[1]
-	l := d.e2nLayout()
+	tg := &transposeOp{base: newBase("E2NGradTerm", []tensor.Shape{op.out}, op.termShape), a: d.B, b: d.O, c: d.P}
+	g, err := gorgonia.ApplyOp(tg, grad)
+	if err != nil {
+		return nil, err
+	}
 	grads := make(gorgonia.Nodes, 3)
-	var err error
 	if !op.opts.noInputGrad {
-		gx := &gradXOp{base: newBase("E2NGradX", []tensor.Shape{op.out, op.in[1]}, op.in[0]), dims: d, rows: l}
-		if grads[0], err = gorgonia.ApplyOp(gx, grad, w); err != nil {
+		gx := newGradXOp("E2NGradX", d, []tensor.Shape{op.termShape, op.in[1]}, op.in[0])
+		if grads[0], err = gorgonia.ApplyOp(gx, g, w); err != nil {
 			return nil, err
 		}
 	}
-	gw := &gradWOp{base: newBase("E2NGradW", []tensor.Shape{op.out, op.in[0]}, op.in[1]), dims: d, l: l}
-	if grads[1], err = gorgonia.ApplyOp(gw, grad, x); err != nil {
+	gw := &gradWOp{base: newBase("E2NGradW", []tensor.Shape{op.termShape, op.in[0]}, op.in[1]), dims: d, rows: op.rows}
+	if grads[1], err = gorgonia.ApplyOp(gw, g, x); err != nil {
 		return nil, err
 	}
-	gb := &biasGradOp{base: newBase("E2NGradB", []tensor.Shape{op.out}, op.in[2]), dims: d, l: l}
-	if grads[2], err = gorgonia.ApplyOp(gb, grad); err != nil {
+	gb := &biasGradOp{base: newBase("E2NGradB", []tensor.Shape{op.termShape}, op.in[2]), dims: d}
+	if grads[2], err = gorgonia.ApplyOp(gb, g); err != nil {
 		return nil, err
 	}
 	return grads, nil
@@ -367,21 +411,61 @@ func (op *edgeSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	return out, nil
 }
 
-// gradXOp: the gradient with respect to x of a row term (g laid out as
-// rows) plus, for E2E, a column term (inputs g, wr, wc; g laid out as cols
-// too). For E2N the inputs are g, w.
+// transposeOp: (a, b, c) -> (b, a, c).
+type transposeOp struct {
+	base
+	a, b, c int
+}
+
+func transpose[T float](op *transposeOp, src, dst []T) {
+	for i := 0; i < op.a; i++ {
+		for j := 0; j < op.b; j++ {
+			copy(dst[(j*op.a+i)*op.c:][:op.c], src[(i*op.b+j)*op.c:][:op.c])
+		}
+	}
+}
+
+func (op *transposeOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
+	in, out, dt, err := op.inputs(vals)
+	if err != nil {
+		return nil, err
+	}
+	if dt == tensor.Float64 {
+		transpose(op, slice[float64](in[0]), slice[float64](out))
+	} else {
+		transpose(op, slice[float32](in[0]), slice[float32](out))
+	}
+	return out, nil
+}
+
+// gradXOp: the gradient with respect to x of a row term (inputs g, w; E2N)
+// or of a row plus a column term (inputs g, wr, wc; E2E), g holding the
+// terms' gradients as (O, B, p) matrices (the row one first).
 type gradXOp struct {
 	base
-	dims       filterDims
-	rows, cols layout
+	dims     filterDims
+	dxr      buffer // dXrow, (B, p, C, p), when C > 1
+	dxrShape tensor.Shape
+}
+
+func newGradXOp(name string, d filterDims, in []tensor.Shape, out tensor.Shape) *gradXOp {
+	return &gradXOp{base: newBase(name, in, out), dims: d, dxrShape: tensor.Shape{d.B, d.P, d.C, d.P}}
 }
 
 func gradX[T float](op *gradXOp, in []*tensor.Dense, out *tensor.Dense) {
+	d := op.dims
 	g, dx := slice[T](in[0]), slice[T](out)
-	rowGradX(op.dims, g, slice[T](in[1]), dx, op.rows, false)
-	if len(in) == 3 {
-		colGradX(op.dims, g, slice[T](in[2]), dx, op.cols, true)
+	withCols := len(in) == 3
+	if withCols {
+		colGradX(d, g[d.termSize():], slice[T](in[2]), dx)
 	}
+	if d.C == 1 { // Xrow is x
+		rowGradX(d, g, slice[T](in[1]), dx, withCols)
+		return
+	}
+	dxr := slice[T](op.dxr.get(dtypeOf[T](), op.dxrShape))
+	rowGradX(d, g, slice[T](in[1]), dxr, false)
+	unpermute(d, dxr, dx, withCols)
 }
 
 func (op *gradXOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -397,21 +481,29 @@ func (op *gradXOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	return out, nil
 }
 
-// gradWOp: the gradient with respect to the weights of a row (or column)
-// term; inputs g, x.
+// gradWOp: the gradient with respect to the weights of a row term (reading
+// Xrow from the forward pass through rows) or of a column term (col); inputs
+// g, x, with the term's gradient at g[off:] as an (O, B, p) matrix.
 type gradWOp struct {
 	base
 	dims filterDims
-	l    layout
+	off  int
 	col  bool
+	rows *rowCache
 }
 
-func gradW[T float](op *gradWOp, in []*tensor.Dense, out *tensor.Dense) {
+func gradW[T float](op *gradWOp, in []*tensor.Dense, out *tensor.Dense) error {
+	g, x, dw := slice[T](in[0])[op.off:], slice[T](in[1]), slice[T](out)
 	if op.col {
-		colGradW(op.dims, slice[T](in[0]), slice[T](in[1]), slice[T](out), op.l)
-		return
+		colGradW(op.dims, g, x, dw)
+		return nil
 	}
-	rowGradW(op.dims, slice[T](in[0]), slice[T](in[1]), slice[T](out), op.l)
+	xr, err := rows(op.dims, op.rows, x)
+	if err != nil {
+		return err
+	}
+	rowGradW(op.dims, g, xr, dw)
+	return nil
 }
 
 func (op *gradWOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -420,18 +512,21 @@ func (op *gradWOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	if dt == tensor.Float64 {
-		gradW[float64](op, in, out)
+		err = gradW[float64](op, in, out)
 	} else {
-		gradW[float32](op, in, out)
+		err = gradW[float32](op, in, out)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("%v: %w", op, err)
 	}
 	return out, nil
 }
 
-// biasGradOp: the gradient with respect to a per-channel bias; input g.
+// biasGradOp: the gradient with respect to a per-channel bias; input g,
+// whose first O·B·p values are a term's gradient as an (O, B, p) matrix.
 type biasGradOp struct {
 	base
 	dims filterDims
-	l    layout
 }
 
 func (op *biasGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -440,9 +535,9 @@ func (op *biasGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	if dt == tensor.Float64 {
-		biasGrad(op.dims, slice[float64](in[0]), slice[float64](out), op.l)
+		biasGrad(op.dims, slice[float64](in[0]), slice[float64](out))
 	} else {
-		biasGrad(op.dims, slice[float32](in[0]), slice[float32](out), op.l)
+		biasGrad(op.dims, slice[float32](in[0]), slice[float32](out))
 	}
 	return out, nil
 }
