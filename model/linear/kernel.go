@@ -25,7 +25,8 @@ import (
 // of edge vectors centred and scaled to unit length per participant. The
 // penalty is chosen per column from the alphas grid by inner k-fold
 // cross-validation as in Ridge, sharing its machinery; with alpha_scale =
-// "relative", a = alpha · trace(K)/n (1 for the correlation kernel). He et
+// "relative", a = alpha · trace(K)/n over the participants with the score
+// (1 for the correlation kernel). He et
 // al. (2020, NeuroImage) found this baseline as accurate as deep networks
 // for predicting behaviour from functional connectivity.
 type KernelRidge struct {
@@ -68,51 +69,45 @@ func (k *KernelRidge) Fit(ctx context.Context, train, valid model.Dataset) error
 	_, t := y.Dims()
 	var gram mat.Dense
 	gram.Mul(x, x.T())
-	spread := mat.Trace(&gram) / float64(n)
-	if spread == 0 {
-		return fmt.Errorf("linear: kernel ridge: every training participant's %s edges are zero", k.cfg.Input)
-	}
-	penalties := scalePenalties(k.cfg.Alphas, k.cfg.AlphaScale, spread)
-
-	var best []int
-	if len(penalties) > 1 {
-		foldOf, err := innerFolds(ps, k.cfg.InnerFolds, k.seed, "model.kernel_ridge.inner_folds")
-		if err != nil {
+	var foldOf []int
+	if len(k.cfg.Alphas) > 1 {
+		if foldOf, err = innerFolds(ps, k.cfg.InnerFolds, k.seed, "model.kernel_ridge.inner_folds"); err != nil {
 			return err
 		}
-		maker := func([]int) (func(fit, query []int) (foldProblem, error), error) {
-			return func(fit, query []int) (foldProblem, error) {
-				return dualProblem(subMatrix(&gram, fit, fit), subMatrix(&gram, query, fit))
-			}, nil
-		}
-		best, err = chooseCV(ctx, y, pats, foldOf, k.cfg.InnerFolds, penalties, maker)
-		if err != nil {
-			return fmt.Errorf("linear: kernel ridge: %w", err)
-		}
-	} else {
-		best = make([]int, t)
 	}
-	if err := ctx.Err(); err != nil {
-		return err
+	problem := func(fit, query []int) (foldProblem, error) {
+		return dualProblem(subMatrix(&gram, fit, fit), subMatrix(&gram, query, fit))
 	}
-
 	k.p, k.train = p, x
 	k.alphas = make([]float64, t)
-	colPenalty := make([]float64, t)
-	for j, b := range best {
-		k.alphas[j] = k.cfg.Alphas[b]
-		colPenalty[j] = penalties[b]
-	}
 	k.means = make([]float64, t)
 	k.dualCoef = mat.NewDense(n, t, nil)
 	for _, pat := range pats {
-		spec, err := dualSpectrum(subMatrix(&gram, pat.rows, pat.rows))
+		kff := subMatrix(&gram, pat.rows, pat.rows)
+		spread := mat.Trace(kff) / float64(len(pat.rows))
+		if spread == 0 {
+			return fmt.Errorf("linear: kernel ridge: score column %d: every %s edge is zero for the participants with that score", pat.cols[0]+1, k.cfg.Input)
+		}
+		penalties := scalePenalties(k.cfg.Alphas, k.cfg.AlphaScale, spread)
+		best, err := chooseCV(ctx, y, pat, foldOf, k.cfg.InnerFolds, penalties, problem)
+		if err != nil {
+			return fmt.Errorf("linear: kernel ridge: %w", err)
+		}
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		colPenalty := make([]float64, len(pat.cols))
+		for c, b := range best {
+			k.alphas[pat.cols[c]] = k.cfg.Alphas[b]
+			colPenalty[c] = penalties[b]
+		}
+		spec, err := dualSpectrum(kff)
 		if err != nil {
 			return err
 		}
 		yFit := subMatrix(y, pat.rows, pat.cols)
 		means := centreColumns(yFit)
-		alpha := spec.coefficients(spec.project(yFit), pick(colPenalty, pat.cols))
+		alpha := spec.coefficients(spec.project(yFit), colPenalty)
 		for c, j := range pat.cols {
 			k.means[j] = means[c]
 			for a, i := range pat.rows {

@@ -15,34 +15,44 @@ import (
 //
 //	Σᵢ (yᵢ − b − x̃ᵢ·w)² + a‖w‖²
 //
-// over the participants whose score is present, where x̃ᵢ is participant
-// i's edge vector (the upper triangle of the chosen connectome, see
-// Edges) standardized with the training fold's mean and SD of each edge.
-// The penalty a is chosen per column from the alphas grid by inner k-fold
-// cross-validation on the training fold (train and valid together), each
-// inner fold standardizing with its own fitting rows; with alpha_scale =
-// "relative", a = alpha · trace(K)/n with K the training fold's centred
-// kernel (for z-scored edges, trace(K)/n is the number of non-constant
-// edges).
+// over the n training participants whose score is present (train and
+// valid together), where x̃ᵢ is participant i's edge vector (the upper
+// triangle of the chosen connectome, see Edges) standardized with those
+// participants' mean and population SD of each edge (or only centred);
+// with standardize = "zscore" and a fixed penalty this is scikit-learn's
+// StandardScaler followed by Ridge. The penalty a is chosen per column
+// from the alphas grid by inner k-fold cross-validation, each inner fold
+// standardizing with its own fitting rows; with alpha_scale = "relative",
+// a = alpha · trace(K)/n, K = X̃X̃ᵀ the centred kernel of the n
+// participants (for z-scored edges trace(K)/n is the number of
+// non-constant edges).
 //
 // When participants are no more than edges, Ridge solves in the dual: one
-// n × n kernel K = X̃X̃ᵀ (a single matrix product) and one eigendecomposition
-// K = UΛUᵀ per inner fold and missing-score pattern give the solution at
-// every penalty and for every column. With fewer edges than participants
-// it solves in the primal through one SVD of X̃. Columns of Y with the
-// same missing scores share their factorizations, so Ridge is a
+// kernel K = X̃X̃ᵀ (a single matrix product) and one eigendecomposition
+// K = UΛUᵀ per inner fold give the solution at every penalty and for every
+// column. With fewer edges than participants it solves in the primal
+// through one SVD of X̃. Columns of Y missing the same scores share these
+// factorizations (each other pattern costs its own), so Ridge is a
 // model.ColumnWise: hundreds of permuted columns cost little more than one.
 type Ridge struct {
 	cfg  RidgeConfig
 	seed int64
 
-	p         int        // regions of the training matrices
-	scale     scaler     // edge standardization of the training fold
-	alphas    []float64  // chosen grid value per column
-	train     *mat.Dense // dual only: n × d standardized training edges
-	dualCoef  *mat.Dense // dual only: n × T centred coefficients, zero where a score is missing
-	weights   *mat.Dense // d × T on the standardized scale; primal, or cached by Weights
-	intercept []float64  // T, on the standardized scale
+	p         int
+	alphas    []float64      // chosen grid value per column
+	train     *mat.Dense     // dual only: n × d raw training edges
+	patterns  []ridgePattern // dual only
+	dualCoef  *mat.Dense     // dual only: n × T, each column summing to zero, zero where a score is missing
+	weights   *mat.Dense     // d × T on the raw edge scale; primal, or cached by Weights
+	intercept []float64      // T, on the raw edge scale
+}
+
+// ridgePattern is what Predict needs of a missing-score pattern in the
+// dual: its columns and the squared standardization factors of its rows.
+// The raw-scale weights of column j are w = factorSq ∘ (Xᵀα̂ⱼ).
+type ridgePattern struct {
+	cols     []int
+	factorSq []float64
 }
 
 // NewRidge returns an unfitted ridge model. cfg must be valid with its
@@ -53,9 +63,10 @@ func NewRidge(cfg RidgeConfig, seed int64) *Ridge { return &Ridge{cfg: cfg, seed
 func (*Ridge) FitsColumnsIndependently() {}
 
 // Fit chooses each column's penalty by inner cross-validation over train
-// and valid together and fits on them all. A column with fewer than two
-// present scores, a participant without the input connectome, or matrices
-// of different sizes are errors.
+// and valid together and fits on them all. Each column is fitted on its
+// present scores only, standardization included. A column with fewer than
+// two present scores, a participant without the input connectome, or
+// matrices of different sizes are errors.
 func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	ps, y, err := joinDatasets(train, valid)
 	if err != nil {
@@ -72,95 +83,107 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	n, d := x.Dims()
 	_, t := y.Dims()
 	zscore := r.cfg.Standardize == StandardizeZScore
-	final := fitScaler(x, seq(n), zscore)
-	if final.spread == 0 {
-		return fmt.Errorf("linear: ridge: every %s edge is constant over the training fold", r.cfg.Input)
-	}
-	penalties := scalePenalties(r.cfg.Alphas, r.cfg.AlphaScale, final.spread)
-	dual := n <= d
-	buf := mat.NewDense(n, d, nil)
-
-	var best []int
-	if len(penalties) > 1 {
-		foldOf, err := innerFolds(ps, r.cfg.InnerFolds, r.seed, "model.ridge.inner_folds")
-		if err != nil {
+	var foldOf []int
+	if len(r.cfg.Alphas) > 1 {
+		if foldOf, err = innerFolds(ps, r.cfg.InnerFolds, r.seed, "model.ridge.inner_folds"); err != nil {
 			return err
 		}
-		maker := func(foldRows []int) (func(fit, query []int) (foldProblem, error), error) {
-			fitScaler(x, foldRows, zscore).apply(buf, x)
-			if dual {
-				var gram mat.Dense
-				gram.Mul(buf, buf.T())
-				return func(fit, query []int) (foldProblem, error) {
-					kff, kqf := centredKernel(&gram, fit, query)
-					return dualProblem(kff, kqf)
-				}, nil
-			}
-			return func(fit, query []int) (foldProblem, error) {
-				return primalProblem(buf, fit, query)
-			}, nil
+	}
+	buf := mat.NewDense(n, d, nil)
+	// problem standardizes the rows fit and query with the statistics of
+	// fit and factorizes the fit rows: in the dual through their kernel
+	// (already centred, the edges being centred on the fit rows), in the
+	// primal through their SVD.
+	problem := func(fit, query []int) (foldProblem, error) {
+		sc := fitScaler(x, fit, zscore)
+		xf := sc.applyRows(buf.Slice(0, len(fit), 0, d).(*mat.Dense), x, fit)
+		xq := sc.applyRows(buf.Slice(len(fit), len(fit)+len(query), 0, d).(*mat.Dense), x, query)
+		if !(len(fit) <= d) {
+			return primalFold(xf, xq)
 		}
-		best, err = chooseCV(ctx, y, pats, foldOf, r.cfg.InnerFolds, penalties, maker)
+		var kff, kqf mat.Dense
+		kff.Mul(xf, xf.T())
+		kqf.Mul(xq, xf.T())
+		return dualProblem(&kff, &kqf)
+	}
+
+	r.p = p
+	r.alphas = make([]float64, t)
+	r.intercept = make([]float64, t)
+	r.train, r.patterns, r.dualCoef, r.weights = nil, nil, nil, nil
+	if n <= d {
+		r.train = x
+		r.dualCoef = mat.NewDense(n, t, nil)
+	} else {
+		r.weights = mat.NewDense(d, t, nil)
+	}
+	for _, pat := range pats {
+		sc := fitScaler(x, pat.rows, zscore)
+		if sc.spread == 0 {
+			return fmt.Errorf("linear: ridge: score column %d: every %s edge is constant over the participants with that score", pat.cols[0]+1, r.cfg.Input)
+		}
+		penalties := scalePenalties(r.cfg.Alphas, r.cfg.AlphaScale, sc.spread)
+		best, err := chooseCV(ctx, y, pat, foldOf, r.cfg.InnerFolds, penalties, problem)
 		if err != nil {
 			return fmt.Errorf("linear: ridge: %w", err)
 		}
-	} else {
-		best = make([]int, t)
-	}
-	if err := ctx.Err(); err != nil {
-		return err
-	}
-
-	xs := final.apply(buf, x)
-	r.p, r.scale = p, final
-	r.alphas = make([]float64, t)
-	colPenalty := make([]float64, t)
-	for j, b := range best {
-		r.alphas[j] = r.cfg.Alphas[b]
-		colPenalty[j] = penalties[b]
-	}
-	r.intercept = make([]float64, t)
-	r.train, r.dualCoef, r.weights = nil, nil, nil
-	if dual {
-		var gram mat.Dense
-		gram.Mul(xs, xs.T())
-		r.train = xs
-		r.dualCoef = mat.NewDense(n, t, nil)
-		for _, pat := range pats {
-			kff, _ := centredKernel(&gram, pat.rows, nil)
-			spec, err := dualSpectrum(kff)
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		colPenalty := make([]float64, len(pat.cols))
+		for c, b := range best {
+			r.alphas[pat.cols[c]] = r.cfg.Alphas[b]
+			colPenalty[c] = penalties[b]
+		}
+		xs := sc.applyRows(buf.Slice(0, len(pat.rows), 0, d).(*mat.Dense), x, pat.rows)
+		yFit := subMatrix(y, pat.rows, pat.cols)
+		means := centreColumns(yFit)
+		var w *mat.Dense // d × c raw-scale weights
+		if r.train != nil {
+			var kff mat.Dense
+			kff.Mul(xs, xs.T())
+			spec, err := dualSpectrum(&kff)
 			if err != nil {
 				return err
 			}
-			yFit := subMatrix(y, pat.rows, pat.cols)
-			means := centreColumns(yFit)
-			alpha := spec.coefficients(spec.project(yFit), pick(colPenalty, pat.cols))
-			centreColumns(alpha) // Hα: the weights Σᵢ αᵢ(x̃ᵢ − m) become X̃ᵀ(Hα)
-			var fitted mat.Dense // G[P, P] · Hα: x̃ᵢ·w for the fitting rows
-			fitted.Mul(subMatrix(&gram, pat.rows, pat.rows), alpha)
+			alpha := spec.coefficients(spec.project(yFit), colPenalty)
+			centreColumns(alpha) // Hα: the weights become Σᵢ α̂ᵢ xᵢ, free of the edge means
+			factorSq := make([]float64, d)
+			for k, f := range sc.factor {
+				factorSq[k] = f * f
+			}
+			r.patterns = append(r.patterns, ridgePattern{cols: pat.cols, factorSq: factorSq})
 			for c, j := range pat.cols {
 				for a, i := range pat.rows {
 					r.dualCoef.Set(i, j, alpha.At(a, c))
 				}
-				r.intercept[j] = means[c] - mat.Sum(fitted.ColView(c))/float64(len(pat.rows))
 			}
+			// m·w for each column: (m ∘ f²) · X_Pᵀ α̂.
+			scaledMean := make([]float64, d)
+			for k := range scaledMean {
+				scaledMean[k] = sc.mean[k] * factorSq[k]
+			}
+			var meanK, meanW mat.Dense // 1 × |P|, 1 × c
+			meanK.Mul(mat.NewDense(1, d, scaledMean), subMatrix(x, pat.rows, nil).T())
+			meanW.Mul(&meanK, alpha)
+			for c, j := range pat.cols {
+				r.intercept[j] = means[c] - meanW.At(0, c)
+			}
+			continue
 		}
-		return nil
-	}
-	r.weights = mat.NewDense(d, t, nil)
-	for _, pat := range pats {
-		xFit := subMatrix(xs, pat.rows, nil)
-		edgeMeans := centreColumns(xFit)
-		spec, err := primalSpectrum(xFit)
+		spec, err := primalSpectrum(xs)
 		if err != nil {
 			return err
 		}
-		yFit := subMatrix(y, pat.rows, pat.cols)
-		means := centreColumns(yFit)
-		w := spec.coefficients(spec.project(yFit), pick(colPenalty, pat.cols))
+		w = spec.coefficients(spec.project(yFit), colPenalty)
 		for c, j := range pat.cols {
-			r.weights.SetCol(j, mat.Col(nil, c, w))
-			r.intercept[j] = means[c] - mat.Dot(mat.NewVecDense(d, edgeMeans), w.ColView(c))
+			var mw float64
+			for k := 0; k < d; k++ {
+				wk := w.At(k, c) * sc.factor[k]
+				r.weights.Set(k, j, wk)
+				mw += sc.mean[k] * wk
+			}
+			r.intercept[j] = means[c] - mw
 		}
 	}
 	return nil
@@ -178,25 +201,16 @@ func dualProblem(kff, kqf *mat.Dense) (foldProblem, error) {
 	return foldProblem{spec: spec, queryBasis: &qb}, nil
 }
 
-// primalProblem centres the rows fit of x on their mean, factorizes them,
-// and expresses the rows query, centred the same way, in the right
-// singular vectors.
-func primalProblem(x *mat.Dense, fit, query []int) (foldProblem, error) {
-	xFit := subMatrix(x, fit, nil)
-	edgeMeans := centreColumns(xFit)
-	spec, err := primalSpectrum(xFit)
+// primalFold factorizes the standardized fitting rows xf (centred on
+// their means) and expresses the query rows xq, standardized the same way,
+// in the right singular vectors.
+func primalFold(xf, xq *mat.Dense) (foldProblem, error) {
+	spec, err := primalSpectrum(xf)
 	if err != nil {
 		return foldProblem{}, err
 	}
-	xQuery := subMatrix(x, query, nil)
-	for i := range query {
-		row := xQuery.RawRowView(i)
-		for k := range row {
-			row[k] -= edgeMeans[k]
-		}
-	}
 	var qb mat.Dense
-	qb.Mul(xQuery, spec.basis)
+	qb.Mul(xq, spec.basis)
 	return foldProblem{spec: spec, queryBasis: &qb}, nil
 }
 
@@ -221,8 +235,9 @@ func pick(values []float64, idx []int) []float64 {
 	return out
 }
 
-// Predict returns len(ps) × T predictions b + x̃·w, the participants'
-// edges standardized with the training fold's statistics.
+// Predict returns len(ps) × T predictions b + x·w on the raw edges x,
+// which is the fitted b̃ + x̃·w̃ on edges standardized with the statistics
+// of the training participants with each score.
 func (r *Ridge) Predict(ps []*data.Participant) (*mat.Dense, error) {
 	if r.intercept == nil {
 		return nil, errNotFitted
@@ -234,14 +249,21 @@ func (r *Ridge) Predict(ps []*data.Participant) (*mat.Dense, error) {
 	if err != nil {
 		return nil, err
 	}
-	xs := r.scale.apply(nil, x)
 	var pred mat.Dense
 	if r.weights != nil {
-		pred.Mul(xs, r.weights)
+		pred.Mul(x, r.weights)
 	} else {
-		var k mat.Dense
-		k.Mul(xs, r.train.T())
-		pred.Mul(&k, r.dualCoef)
+		pred.ReuseAs(len(ps), len(r.intercept))
+		scaled := mat.NewDense(len(ps), len(r.patterns[0].factorSq), nil)
+		var kern, part mat.Dense
+		for _, pat := range r.patterns {
+			scaled.Apply(func(i, k int, v float64) float64 { return v * pat.factorSq[k] }, x)
+			kern.Mul(scaled, r.train.T())
+			part.Mul(&kern, subMatrix(r.dualCoef, nil, pat.cols))
+			for c, j := range pat.cols {
+				pred.SetCol(j, mat.Col(nil, c, &part))
+			}
+		}
 	}
 	addToColumns(&pred, r.intercept)
 	return &pred, nil
@@ -264,37 +286,32 @@ func (r *Ridge) Alphas() []float64 { return r.alphas }
 // Weights returns the fitted weights on the scale of the raw edges, d × T
 // (d the number of input edges, in the order of Edges, functional before
 // structural for input "both"): the prediction for edges x is
-// Intercept()[j] + Σₖ x[k]·W[k, j]. In the dual they are w = X̃ᵀα, which
-// takes d × T memory; Weights computes them on first call. It returns nil
-// before Fit.
+// Intercept()[j] + Σₖ x[k]·W[k, j]. In the dual they are w = D²Xᵀα̂ (D the
+// standardization factors), which takes d × T memory; Weights computes
+// them on first call and Predict then uses them. It returns nil before
+// Fit. The caller must not modify the result.
 func (r *Ridge) Weights() *mat.Dense {
 	if r.intercept == nil {
 		return nil
 	}
 	if r.weights == nil {
-		r.weights = new(mat.Dense)
-		r.weights.Mul(r.train.T(), r.dualCoef)
-	}
-	d, t := r.weights.Dims()
-	raw := mat.NewDense(d, t, nil)
-	for k := 0; k < d; k++ {
-		for j := 0; j < t; j++ {
-			raw.Set(k, j, r.weights.At(k, j)*r.scale.factor[k])
+		d := len(r.patterns[0].factorSq)
+		w := mat.NewDense(d, len(r.intercept), nil)
+		var part mat.Dense
+		for _, pat := range r.patterns {
+			part.Mul(r.train.T(), subMatrix(r.dualCoef, nil, pat.cols))
+			for c, j := range pat.cols {
+				for k := 0; k < d; k++ {
+					w.Set(k, j, part.At(k, c)*pat.factorSq[k])
+				}
+			}
+			part.Reset()
 		}
+		r.weights, r.train, r.dualCoef, r.patterns = w, nil, nil, nil
 	}
-	return raw
+	return r.weights
 }
 
 // Intercept returns the fitted intercept of each column on the scale of
 // the raw edges (see Weights), nil before Fit.
-func (r *Ridge) Intercept() []float64 {
-	if r.intercept == nil {
-		return nil
-	}
-	w := r.Weights()
-	b := make([]float64, len(r.intercept))
-	for j := range b {
-		b[j] = r.intercept[j] - mat.Dot(mat.NewVecDense(len(r.scale.mean), r.scale.mean), w.ColView(j))
-	}
-	return b
-}
+func (r *Ridge) Intercept() []float64 { return r.intercept }

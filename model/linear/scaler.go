@@ -56,15 +56,11 @@ func fitScaler(x *mat.Dense, rows []int, zscore bool) scaler {
 
 func sq(x float64) float64 { return x * x }
 
-// apply writes the standardized x into dst, which must have x's shape, or
-// returns a new matrix when dst is nil.
-func (s scaler) apply(dst, x *mat.Dense) *mat.Dense {
-	n, d := x.Dims()
-	if dst == nil {
-		dst = mat.NewDense(n, d, nil)
-	}
-	for i := 0; i < n; i++ {
-		src, out := x.RawRowView(i), dst.RawRowView(i)
+// applyRows writes the standardized rows of x into the len(rows) × d
+// matrix dst and returns it.
+func (s scaler) applyRows(dst, x *mat.Dense, rows []int) *mat.Dense {
+	for a, i := range rows {
+		src, out := x.RawRowView(i), dst.RawRowView(a)
 		for k, v := range src {
 			out[k] = (v - s.mean[k]) * s.factor[k]
 		}

@@ -108,95 +108,74 @@ type foldProblem struct {
 	queryBasis *mat.Dense
 }
 
-// A problemMaker prepares the problems of one fold: prepare is called
-// with the fold's fitting rows (indices into the training pool) and
-// returns a function that builds the problem of fitting rows fit and
-// query rows query, both subsets of the rows given to prepare and of the
-// rows outside it respectively.
-type problemMaker func(foldRows []int) (func(fit, query []int) (foldProblem, error), error)
-
-// chooseCV returns, for every column of y, the index into penalties with
-// the lowest inner cross-validated mean squared error: each fold f holds
-// out the rows with foldOf[row] == f, fits on the others and predicts the
-// held-out rows, and the score of a penalty is the mean over folds of the
-// fold's MSE (the mean of per-fold scores, as scikit-learn's GridSearchCV
-// averages). Only present scores count; a fold holding out none of a
-// column's present rows does not count for that column. Ties go to the
-// earlier penalty. y is the training pool's n × T scores (NaN missing).
-func chooseCV(ctx context.Context, y *mat.Dense, pats []pattern, foldOf []int, folds int, penalties []float64, makeProblems problemMaker) ([]int, error) {
-	_, t := y.Dims()
+// chooseCV returns, for every column of pattern pat, the index into
+// penalties with the lowest inner cross-validated mean squared error: each
+// fold f holds out the pattern's rows with foldOf[row] == f, problem fits
+// on the others and predicts the held-out rows, and the score of a penalty
+// is the mean over folds of the fold's MSE (the mean of per-fold scores,
+// as scikit-learn's GridSearchCV averages). A fold holding out none of the
+// pattern's rows does not count. Ties go to the earlier penalty. y is the
+// training pool's n × T scores.
+func chooseCV(ctx context.Context, y *mat.Dense, pat pattern, foldOf []int, folds int, penalties []float64, problem func(fit, query []int) (foldProblem, error)) ([]int, error) {
+	best := make([]int, len(pat.cols))
 	if len(penalties) == 1 {
-		return make([]int, t), nil
+		return best, nil
 	}
-	sumMSE := mat.NewDense(t, len(penalties), nil)
-	counted := make([]int, t)
+	sumMSE := mat.NewDense(len(pat.cols), len(penalties), nil)
+	counted := 0
 	for f := 0; f < folds; f++ {
 		if err := ctx.Err(); err != nil {
 			return nil, err
 		}
-		var foldRows []int
-		for i, g := range foldOf {
-			if g != f {
-				foldRows = append(foldRows, i)
+		var fit, query []int
+		for _, i := range pat.rows {
+			if foldOf[i] == f {
+				query = append(query, i)
+			} else {
+				fit = append(fit, i)
 			}
 		}
-		problem, err := makeProblems(foldRows)
+		if len(query) == 0 {
+			continue
+		}
+		if len(fit) < 2 {
+			return nil, fmt.Errorf("inner fold %d: score column %d has %d scores to fit on, need at least 2", f+1, pat.cols[0]+1, len(fit))
+		}
+		prob, err := problem(fit, query)
 		if err != nil {
 			return nil, fmt.Errorf("inner fold %d: %w", f+1, err)
 		}
-		for _, pat := range pats {
-			var fit, query []int
-			for _, i := range pat.rows {
-				if foldOf[i] == f {
-					query = append(query, i)
-				} else {
-					fit = append(fit, i)
+		yFit := subMatrix(y, fit, pat.cols)
+		means := centreColumns(yFit)
+		yQuery := subMatrix(y, query, pat.cols)
+		proj := prob.spec.project(yFit)
+		r, c := proj.Dims()
+		scaled := mat.NewDense(r, c, nil)
+		var pred mat.Dense
+		for a, pen := range penalties {
+			for i := 0; i < r; i++ {
+				g := prob.spec.gain(i, pen)
+				src, dst := proj.RawRowView(i), scaled.RawRowView(i)
+				for j, v := range src {
+					dst[j] = g * v
 				}
 			}
-			if len(query) == 0 {
-				continue
-			}
-			if len(fit) < 2 {
-				return nil, fmt.Errorf("inner fold %d: score column %d has %d scores to fit on, need at least 2", f+1, pat.cols[0]+1, len(fit))
-			}
-			prob, err := problem(fit, query)
-			if err != nil {
-				return nil, fmt.Errorf("inner fold %d: %w", f+1, err)
-			}
-			yFit := subMatrix(y, fit, pat.cols)
-			means := centreColumns(yFit)
-			yQuery := subMatrix(y, query, pat.cols)
-			proj := prob.spec.project(yFit)
-			r, c := proj.Dims()
-			scaled := mat.NewDense(r, c, nil)
-			var pred mat.Dense
-			for a, pen := range penalties {
-				for i := 0; i < r; i++ {
-					g := prob.spec.gain(i, pen)
-					for j := 0; j < c; j++ {
-						scaled.Set(i, j, g*proj.At(i, j))
-					}
+			pred.Mul(prob.queryBasis, scaled)
+			for j := range pat.cols {
+				var sse float64
+				for i := range query {
+					e := means[j] + pred.At(i, j) - yQuery.At(i, j)
+					sse += e * e
 				}
-				pred.Mul(prob.queryBasis, scaled)
-				for j, col := range pat.cols {
-					var sse float64
-					for i := range query {
-						e := means[j] + pred.At(i, j) - yQuery.At(i, j)
-						sse += e * e
-					}
-					sumMSE.Set(col, a, sumMSE.At(col, a)+sse/float64(len(query)))
-				}
-			}
-			for _, col := range pat.cols {
-				counted[col]++
+				sumMSE.Set(j, a, sumMSE.At(j, a)+sse/float64(len(query)))
 			}
 		}
+		counted++
 	}
-	best := make([]int, t)
+	if counted == 0 {
+		return nil, fmt.Errorf("score column %d: no inner fold holds out any of its scores", pat.cols[0]+1)
+	}
 	for j := range best {
-		if counted[j] == 0 {
-			return nil, fmt.Errorf("score column %d: no inner fold holds out any of its scores", j+1)
-		}
 		for a := range penalties {
 			if sumMSE.At(j, a) < sumMSE.At(j, best[j]) {
 				best[j] = a
@@ -222,41 +201,4 @@ func centreColumns(y *mat.Dense) []float64 {
 		}
 	}
 	return means
-}
-
-// centredKernel returns, for the rows fit and query of the Gram matrix
-// g = X Xᵀ, the kernels of X with each column centred on its mean over
-// the fit rows: (x_a − m)·(x_b − m) for a, b in fit (len(fit) × len(fit))
-// and for a in query, b in fit (len(query) × len(fit)). query may be nil.
-func centredKernel(g *mat.Dense, fit, query []int) (kff, kqf *mat.Dense) {
-	nf := float64(len(fit))
-	colMean := make([]float64, len(fit)) // mean over fit rows a of g[a, b]
-	var total float64
-	for b, j := range fit {
-		var sum float64
-		for _, i := range fit {
-			sum += g.At(i, j)
-		}
-		colMean[b] = sum / nf
-		total += sum
-	}
-	total /= nf * nf
-	centre := func(rows []int) *mat.Dense {
-		if len(rows) == 0 {
-			return nil
-		}
-		k := mat.NewDense(len(rows), len(fit), nil)
-		for a, i := range rows {
-			var rowMean float64
-			for _, j := range fit {
-				rowMean += g.At(i, j)
-			}
-			rowMean /= nf
-			for b, j := range fit {
-				k.Set(a, b, g.At(i, j)-rowMean-colMean[b]+total)
-			}
-		}
-		return k
-	}
-	return centre(fit), centre(query)
 }
