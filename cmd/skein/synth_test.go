@@ -9,7 +9,7 @@ import (
 	"testing"
 )
 
-func runSkein(t *testing.T, args ...string) (int, string, string) {
+func runSynthCLI(t *testing.T, args ...string) (int, string, string) {
 	t.Helper()
 	var stdout, stderr bytes.Buffer
 	code := run(context.Background(), args, commandIO{&stdout, &stderr})
@@ -22,7 +22,7 @@ func TestSynthThenCheck(t *testing.T) {
 	for _, format := range []string{"tsv", "npy"} {
 		t.Run(format, func(t *testing.T) {
 			dir := filepath.Join(t.TempDir(), "cohort")
-			code, out, errOut := runSkein(t, "synth", "--out", dir, "--n", "24", "--p", "10", "--seed", "3",
+			code, out, errOut := runSynthCLI(t, "synth", "--out", dir, "--n", "24", "--p", "10", "--seed", "3",
 				"--format", format, "--siblings", "--family-size", "3", "--motion", "0.3", "--missing", "0.1", "--structural-share", "0.2")
 			if code != exitOK {
 				t.Fatalf("synth: exit %d: %s", code, errOut)
@@ -35,7 +35,7 @@ func TestSynthThenCheck(t *testing.T) {
 			if _, err := os.Stat(filepath.Join(dir, "fc", "sub-001_fc."+format)); err != nil {
 				t.Error(err)
 			}
-			code, out, errOut = runSkein(t, "check", filepath.Join(dir, "experiment.toml"))
+			code, out, errOut = runSynthCLI(t, "check", filepath.Join(dir, "experiment.toml"))
 			if code != exitOK {
 				t.Fatalf("check: exit %d:\n%s\n%s", code, out, errOut)
 			}
@@ -48,7 +48,7 @@ func TestSynthThenCheck(t *testing.T) {
 
 func TestSynthNull(t *testing.T) {
 	dir := filepath.Join(t.TempDir(), "null")
-	code, out, errOut := runSkein(t, "synth", "--out", dir, "--n", "12", "--p", "8", "--null", "--targets", "1")
+	code, out, errOut := runSynthCLI(t, "synth", "--out", dir, "--n", "12", "--p", "8", "--null", "--targets", "1")
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
@@ -62,11 +62,11 @@ func TestSynthRefusesToOverwrite(t *testing.T) {
 	if err := os.WriteFile(filepath.Join(dir, "mine.txt"), nil, 0o644); err != nil {
 		t.Fatal(err)
 	}
-	code, _, errOut := runSkein(t, "synth", "--out", dir, "--n", "12", "--p", "8")
+	code, _, errOut := runSynthCLI(t, "synth", "--out", dir, "--n", "12", "--p", "8")
 	if code != exitBadInput || !strings.Contains(errOut, "exists and is not empty") || !strings.Contains(errOut, "--force") {
 		t.Errorf("exit %d, stderr %q", code, errOut)
 	}
-	code, _, errOut = runSkein(t, "synth", "--out", dir, "--n", "12", "--p", "8", "--force")
+	code, _, errOut = runSynthCLI(t, "synth", "--out", dir, "--n", "12", "--p", "8", "--force")
 	if code != exitOK {
 		t.Fatalf("--force: exit %d: %s", code, errOut)
 	}
@@ -90,7 +90,7 @@ func TestSynthBadOptions(t *testing.T) {
 		{[]string{"--out", out, "--n", "many"}, "-n"},
 		{[]string{"--out", out, "extra"}, `unexpected argument "extra"`},
 	} {
-		code, _, errOut := runSkein(t, append([]string{"synth"}, tc.args...)...)
+		code, _, errOut := runSynthCLI(t, append([]string{"synth"}, tc.args...)...)
 		if code != exitBadInput || !strings.Contains(errOut, tc.want) {
 			t.Errorf("%v: exit %d, stderr %q, want exit 2 and %q", tc.args, code, errOut, tc.want)
 		}

@@ -138,9 +138,11 @@ type Edge struct{ I, J int }
 //
 // where std standardizes over the cohort (mean 0, SD 1). The score is
 //
-//	score = mean + sd·(s + MotionWeight·std(motion) + NoiseSD·ε),  ε ~ N(0, 1),
+//	score = mean + sd·(s + MotionWeight·std(motion) + NoiseSD·ε) / √(1 + MotionWeight² + NoiseSD²),
 //
-// rounded to 3 decimals, so that the Pearson r of s with the score is, in
+// ε ~ N(0, 1) (without the s term and its 1 for a null target), with
+// mean and SD set per score (recall: 50 and 10), rounded to 3 decimals, so
+// that the Pearson r of s with the score is, in
 // the population,
 //
 //	Ceiling = 1 / √(1 + MotionWeight² + NoiseSD²) = √(var s / (var s + var rest)).
@@ -332,6 +334,11 @@ func Generate(cfg Config) (*Cohort, error) {
 			pt.Ceiling = 1 / math.Sqrt(1+cfg.Motion*cfg.Motion+pt.NoiseSD*pt.NoiseSD)
 		}
 		mean, sd := scoreScale[k][0], scoreScale[k][1]
+		variance := cfg.Motion*cfg.Motion + pt.NoiseSD*pt.NoiseSD // of y below, s aside
+		if signal != nil {
+			variance++
+		}
+		sd /= math.Sqrt(variance) // so that the scores have SD sd
 		for i, part := range c.Participants {
 			y := cfg.Motion*motionZ[i] + pt.NoiseSD*noise[k][i]
 			if signal != nil {
