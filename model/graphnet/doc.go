@@ -1,5 +1,73 @@
 // Package graphnet builds and trains graph-filter networks on gorgonia:
-// edge-to-edge, edge-to-node and node-to-graph filters, graph convolution
-// over the structural graph, two-branch fusion of modalities and a
-// multi-layer perceptron head. A Network is a model.Regressor.
+// edge-to-edge, edge-to-node and node-to-graph filters (Kawahara et al.
+// 2017), graph convolution over the structural graph (Kipf & Welling 2017),
+// two-branch fusion of modalities and a multi-layer perceptron head. A
+// Network is a model.Regressor and a model.Iterative.
+//
+// # Architecture
+//
+// A Config (the [model.network] table of an experiment file) lists one or
+// more branches. Each branch takes one p × p matrix per participant — the
+// functional matrix F, the structural matrix, or F propagated by the
+// participant's structural operator S (S·F or S·F·Sᵀ) — and applies its
+// layers in order. The branch outputs are flattened and merged by
+// concatenation or element-wise product, then pass through the hidden
+// dense layers of the head and a linear output layer with one output per
+// target. Every layer but dropout and the output is followed by a leaky ReLU.
+// Config.Validate and New check the architecture before any training and
+// name the first layer that cannot take its input.
+//
+// Inputs and structural operators are computed once per participant at
+// the start of Fit and Predict. Each batch size has its own expression
+// graph, built at first use and reused; all graphs share the weights.
+//
+// # Training
+//
+// Fit minimizes the masked loss of LossConfig (a missing score adds
+// nothing) with AdamW or SGD with momentum (OptimizerConfig), optional
+// clipping of the gradient by its global norm and a per-epoch learning-rate
+// schedule. It shuffles the training set every epoch; the last minibatch
+// holds the remainder, so every participant counts once per epoch. With a
+// validation set it stops early and restores the best weights. The seed of
+// New drives the initial weights, the shuffling and the dropout masks, so
+// the same seed on the same data gives the same trajectory.
+//
+// # Saved models
+//
+// Save writes a folder with two files; Load reads it back.
+//
+// manifest.json is a JSON object with the keys
+//
+//	format     "skein-graphnet"
+//	version    1; Load refuses any other
+//	config     the Config, with the keys of the experiment file
+//	p          number of regions
+//	targets    number of outputs T
+//	seed       the seed given to New
+//	dtype      "float32" or "float64", the type of every weight array
+//	operators  per branch, the structural operator kind ("" for none)
+//	weights    "weights.npz"
+//	arrays     the weight arrays in order: [{"name": …, "shape": […]}, …]
+//	history    per epoch of the last Fit: epoch, train_loss,
+//	           valid_loss (null without a validation set), best
+//	fitted     free-form JSON the caller stored in Network.Fitted, such
+//	           as the preprocessing and score scaling it fitted on the
+//	           training data (absent when empty)
+//
+// weights.npz is a NumPy .npz archive (numpy.load opens it) with one
+// C-order array per entry of arrays. For branch b and layer l, the names
+// and shapes are, with C input and O output channels, F input and G
+// output features:
+//
+//	branch<b>.layer<l>.row, .col   (O, C, p)  e2e row and column filters Wr, Wc
+//	branch<b>.layer<l>.bias        (O)        e2e and e2n bias
+//	branch<b>.layer<l>.weight      (O, C, p)  e2n filter
+//	branch<b>.layer<l>.weight      (F, G)     graph_conv and n2g weights
+//	branch<b>.layer<l>.bias        (G)        n2g bias
+//	head<k>.weight, head<k>.bias   (F, G), (G) hidden head layer k
+//	output.weight, output.bias     (F, T), (T) output layer
+//
+// A dense layer computes y = x·weight + bias with x flattened in C order.
+//
+// This is research software; its predictions are not a diagnosis.
 package graphnet

@@ -1,0 +1,47 @@
+package graphnet
+
+import (
+	"context"
+	"fmt"
+	"testing"
+
+	"github.com/skein-neuro/skein/model"
+)
+
+// BenchmarkEpoch times one training epoch of the reference network: a
+// one-channel p × p input, e2e 32, e2n 64, n2g 128, head 64 → 32 → 1,
+// leaky ReLU 0.2, loss mean|e| + mean e², AdamW at rate 1e-3, batches of
+// 16, N = 275 invented participants, p = 116. Run it with -benchmem, and
+// with -tags openblas (CGO_LDFLAGS=-lopenblas) for OpenBLAS.
+func BenchmarkEpoch(b *testing.B) {
+	const n, p = 275, 116
+	ps, y := plantedCohort(n, p, 0.5, 1)
+	train := dataset(ps, y, 0, n)
+	for _, dtype := range []string{"float32", "float64"} {
+		b.Run(fmt.Sprintf("p=%d/%s", p, dtype), func(b *testing.B) {
+			cfg := Config{
+				Branches:  []BranchConfig{{Layers: layers(e2e(32), e2n(64), n2g(128))}},
+				Head:      []int{64, 32},
+				DType:     dtype,
+				Epochs:    1,
+				BatchSize: 16,
+			}
+			cfg.SetDefaults()
+			net, err := New(cfg, p, 1, 1)
+			if err != nil {
+				b.Fatal(err)
+			}
+			ctx := context.Background()
+			// The first epoch builds the graphs.
+			if err := net.Fit(ctx, train, model.Dataset{}); err != nil {
+				b.Fatal(err)
+			}
+			b.ResetTimer()
+			for b.Loop() {
+				if err := net.Fit(ctx, train, model.Dataset{}); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
