@@ -1,0 +1,69 @@
+package data
+
+import (
+	"strings"
+	"testing"
+)
+
+func TestSourceDefaults(t *testing.T) {
+	s := Source{Functional: &Modality{}, Structural: &Modality{}}
+	s.SetDefaults()
+	if s.MinParticipants != 10 || s.OutlierSD != 3 || s.Unlisted != UnlistedError ||
+		s.Functional.Values != ValuesCorrelation || s.Functional.SymmetryTolerance != 1e-6 ||
+		s.Structural.Values != "" || s.Structural.SymmetryTolerance != 1e-6 {
+		t.Errorf("defaults %+v, functional %+v, structural %+v", s, *s.Functional, *s.Structural)
+	}
+}
+
+func TestSourceValidate(t *testing.T) {
+	good := func() Source {
+		s := Source{Participants: "participants.tsv", Targets: []string{"recall"}, Covariates: []string{"age"},
+			Functional: &Modality{Files: "fc/{participant_id}.tsv"}}
+		s.SetDefaults()
+		return s
+	}
+	for _, tc := range []struct {
+		name string
+		edit func(*Source)
+		want string // "" for valid
+	}{
+		{"good", func(*Source) {}, ""},
+		{"stack", func(s *Source) { s.Structural = &Modality{Stack: "sc.npy", StackIDs: "ids.txt"} }, ""},
+		{"no table", func(s *Source) { s.Participants = "" }, `cohort: key "participants" is required`},
+		{"xlsx", func(s *Source) { s.Participants = "p.xlsx" }, `cohort.participants: "p.xlsx" must end in .tsv or .csv, found ".xlsx"`},
+		{"no targets", func(s *Source) { s.Targets = nil }, `cohort: key "targets" needs at least one score column`},
+		{"id as target", func(s *Source) { s.Targets = []string{"participant_id"} }, `cohort.targets: "participant_id" is the id column`},
+		{"target as covariate", func(s *Source) { s.Covariates = []string{"recall"} }, `cohort.covariates: column "recall" is already named in cohort.targets`},
+		{"group as covariate", func(s *Source) { s.Group = "age" }, `cohort.group: column "age" is already named in cohort.covariates`},
+		{"empty column", func(s *Source) { s.Covariates = []string{""} }, "cohort.covariates: empty column name"},
+		{"min", func(s *Source) { s.MinParticipants = -1 }, "cohort.min_participants: must be at least 1, found -1"},
+		{"outlier", func(s *Source) { s.OutlierSD = -2 }, "cohort.outlier_sd: must be positive, found -2"},
+		{"unlisted", func(s *Source) { s.Unlisted = "ignore" }, `cohort.unlisted: must be "error" or "report", found "ignore"`},
+		{"no modality", func(s *Source) { s.Functional = nil }, "cohort: needs a [cohort.functional] or [cohort.structural] table"},
+		{"both", func(s *Source) { s.Functional.Stack = "fc.npy" }, `cohort.functional: set either "files" or "stack", not both`},
+		{"neither", func(s *Source) { s.Functional.Files = "" }, `cohort.functional: set "files" (a path template) or "stack"`},
+		{"no placeholder", func(s *Source) { s.Functional.Files = "fc/sub.tsv" }, `cohort.functional.files: template "fc/sub.tsv" must hold {participant_id} exactly once, found 0`},
+		{"two placeholders", func(s *Source) { s.Functional.Files = "{participant_id}/{participant_id}.tsv" }, `cohort.functional.files: template "{participant_id}/{participant_id}.tsv" must hold {participant_id} exactly once, found 2`},
+		{"other placeholder", func(s *Source) { s.Functional.Files = "{session}/{participant_id}.tsv" }, `cohort.functional.files: template "{session}/{participant_id}.tsv": the only placeholder is {participant_id}`},
+		{"ids with files", func(s *Source) { s.Functional.StackIDs = "ids.txt" }, `cohort.functional.stack_ids: goes with "stack", not "files"`},
+		{"stack not npy", func(s *Source) { s.Functional = &Modality{Stack: "fc.mat", StackIDs: "ids.txt", Values: "any"} }, `cohort.functional.stack: "fc.mat" must be a .npy file`},
+		{"stack without ids", func(s *Source) { s.Functional = &Modality{Stack: "fc.npy", Values: "any"} }, `cohort.functional: "stack" needs "stack_ids"`},
+		{"values", func(s *Source) { s.Functional.Values = "partial" }, `cohort.functional.values: must be "correlation" or "any", found "partial"`},
+		{"structural values", func(s *Source) {
+			s.Structural = &Modality{Files: "sc/{participant_id}.npy", Values: "any"}
+		}, "cohort.structural.values: structural matrices are always checked non-negative"},
+		{"tolerance", func(s *Source) { s.Functional.SymmetryTolerance = -1 }, "cohort.functional.symmetry_tolerance: must be zero or positive, found -1"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			s := good()
+			tc.edit(&s)
+			err := s.Validate()
+			switch {
+			case tc.want == "" && err != nil:
+				t.Errorf("unexpected error %v", err)
+			case tc.want != "" && (err == nil || !strings.HasPrefix(err.Error(), tc.want)):
+				t.Errorf("error %v, want %q", err, tc.want)
+			}
+		})
+	}
+}
