@@ -17,8 +17,11 @@ const DefaultBins = 10
 //	floor(bins·(k − 1)/n).
 //
 // Tied values may therefore fall in different bins; the rule depends only on
-// the order of the values, never on their spacing. x must not hold NaN;
-// bins < 1 panics.
+// the order of the values, never on their spacing. In particular a constant
+// x (the predictions of a model that predicts the training mean) is spread
+// over the bins by its order alone, so NMI against it is not 0 but the NMI
+// of an arbitrary pairing, small for n much larger than bins. x must not
+// hold NaN; bins < 1 panics.
 func EqualFrequencyBins(x []float64, bins int) []int {
 	if bins < 1 {
 		panic(fmt.Sprintf("eval: %d bins, want at least 1", bins))

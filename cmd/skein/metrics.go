@@ -11,6 +11,7 @@ import (
 	"strconv"
 	"strings"
 	"text/tabwriter"
+	"unicode/utf8"
 
 	"github.com/skein-neuro/skein/eval"
 )
@@ -82,15 +83,20 @@ func writeMetricsTable(w io.Writer, path string, nRows int, header eval.Header, 
 	for _, m := range eval.Metrics() {
 		cols = append(cols, m.Label())
 	}
-	fmt.Fprintln(tw, strings.Join(cols, "\t")+"\t")
-	show := func(name string) string {
-		if name == "" {
-			return "-"
-		}
-		return name
-	}
+	// The table aligns right; padding the names to one width lines them up
+	// on the left.
+	modelWidth, targetWidth := len("model"), len("target")
 	for _, g := range s.Groups {
-		cells := []string{show(g.Model), show(g.Target), "pooled", strconv.Itoa(g.Pooled.N), strconv.Itoa(g.Pooled.Missing)}
+		modelWidth = max(modelWidth, utf8.RuneCountInString(show(g.Model)))
+		targetWidth = max(targetWidth, utf8.RuneCountInString(show(g.Target)))
+	}
+	pad := func(name string, width int) string {
+		return name + strings.Repeat(" ", width-utf8.RuneCountInString(name))
+	}
+	cols[0], cols[1] = pad(cols[0], modelWidth), pad(cols[1], targetWidth)
+	fmt.Fprintln(tw, strings.Join(cols, "\t")+"\t")
+	for _, g := range s.Groups {
+		cells := []string{pad(show(g.Model), modelWidth), pad(show(g.Target), targetWidth), "pooled", strconv.Itoa(g.Pooled.N), strconv.Itoa(g.Pooled.Missing)}
 		for _, m := range eval.Metrics() {
 			cells = append(cells, formatFigure(g.Pooled.Get(m)))
 		}
@@ -109,7 +115,7 @@ func writeMetricsTable(w io.Writer, path string, nRows int, header eval.Header, 
 	}
 	b.WriteString("\n")
 	if !header.HasFolds() {
-		b.WriteString("No repeat and fold columns: pooled figures only.\n")
+		b.WriteString("No fold column: pooled figures only.\n")
 	}
 	fmt.Fprintf(&b, "n counts complete pairs; missing counts pairs skipped for a NaN. NMI uses %d equal-frequency bins;\n", s.Bins)
 	b.WriteString("R² is out of sample (1 − SSres/SStot about the mean of the observed values) and may be negative.\n")
@@ -124,6 +130,14 @@ func writeMetricsTable(w io.Writer, path string, nRows int, header eval.Header, 
 	b.WriteString("\n" + eval.Disclaimer + "\n")
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+// show writes an empty model or target name as "-".
+func show(name string) string {
+	if name == "" {
+		return "-"
+	}
+	return name
 }
 
 // formatFigure writes x with three decimals, "-" when undefined.
