@@ -10,6 +10,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/pelletier/go-toml/v2"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/skein-neuro/skein/data"
@@ -302,5 +303,41 @@ func TestPreprocessStructuralErrors(t *testing.T) {
 	}
 	if err := p.Structural(mat.NewDense(2, 2, nil)); err == nil {
 		t.Error("matrix without edges scaled by max: got no error")
+	}
+}
+
+// TestPreprocessTOML decodes a [preprocess] table the way experiment files
+// are read (strict go-toml) and checks that set keys stay and unset keys
+// take their defaults.
+func TestPreprocessTOML(t *testing.T) {
+	text := `
+[preprocess.functional]
+clip = 1e-5
+
+[preprocess.structural]
+scale = "total"
+density = 0.2
+`
+	var file struct {
+		Preprocess data.Preprocess `toml:"preprocess"`
+	}
+	dec := toml.NewDecoder(strings.NewReader(text))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&file); err != nil {
+		t.Fatal(err)
+	}
+	p := file.Preprocess
+	p.SetDefaults()
+	if err := p.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	if *p.FC.Clip != 1e-5 || p.FC.Transform != "fisher-z" || p.FC.Diagonal != "zero" ||
+		p.SC.Scale != "total" || *p.SC.Density != 0.2 || p.SC.Transform != "log1p" {
+		t.Errorf("decoded %+v %+v", p.FC, p.SC)
+	}
+	dec = toml.NewDecoder(strings.NewReader("[preprocess.structural]\nthreshold = 0.2\n"))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&file); err == nil {
+		t.Error("unknown key preprocess.structural.threshold: got no error")
 	}
 }
