@@ -370,39 +370,48 @@ func TestForward(t *testing.T) {
 // central differences of the cost Σ out ⊙ r, in float64: relative error
 // (|a−n| / max(1, |a|, |n|)) under 1e-6.
 func TestGradFiniteDifference(t *testing.T) {
-	const step = 1e-5
 	for _, c := range opCases() {
 		t.Run(c.name, func(t *testing.T) {
 			vals := c.values(3)
 			r := randomWeights(len(c.ref(vals)), 4)
 			h := newHarness(t, c, tensor.Float64, vals, r)
 			h.run(t)
-			analytic := make([][]float64, len(c.shapes))
-			for i := range c.shapes {
-				if h.grads[i] != nil {
-					analytic[i] = float64sOf(h.gradVal[i])
-				}
-			}
-			for i := range c.shapes {
-				if h.grads[i] == nil {
-					continue
-				}
-				data := h.vals[i].Float64s()
-				numeric := make([]float64, len(data))
-				for j, orig := range data {
-					data[j] = orig + step
-					h.run(t)
-					plus := float64sOf(h.cost)[0]
-					data[j] = orig - step
-					h.run(t)
-					minus := float64sOf(h.cost)[0]
-					data[j] = orig
-					numeric[j] = (plus - minus) / (2 * step)
-				}
-				if e := maxRelErr(analytic[i], numeric); e > 1e-6 {
-					t.Errorf("input %d: max relative error %g\nanalytic %v\nnumeric  %v", i, e, analytic[i], numeric)
-				}
-			}
+			checkGradients(t, h, c)
 		})
+	}
+}
+
+// checkGradients compares the gradients of a second run of h (the first
+// allocates the buffers, the second reuses them) with central differences
+// of the cost: relative error (|a−n| / max(1, |a|, |n|)) under 1e-6.
+func checkGradients(t *testing.T, h *harness, c opCase) {
+	t.Helper()
+	const step = 1e-5
+	h.run(t)
+	analytic := make([][]float64, len(c.shapes))
+	for i := range c.shapes {
+		if h.grads[i] != nil {
+			analytic[i] = float64sOf(h.gradVal[i])
+		}
+	}
+	for i := range c.shapes {
+		if h.grads[i] == nil {
+			continue
+		}
+		data := h.vals[i].Float64s()
+		numeric := make([]float64, len(data))
+		for j, orig := range data {
+			data[j] = orig + step
+			h.run(t)
+			plus := float64sOf(h.cost)[0]
+			data[j] = orig - step
+			h.run(t)
+			minus := float64sOf(h.cost)[0]
+			data[j] = orig
+			numeric[j] = (plus - minus) / (2 * step)
+		}
+		if e := maxRelErr(analytic[i], numeric); e > 1e-6 {
+			t.Errorf("input %d: max relative error %g\nanalytic %v\nnumeric  %v", i, e, analytic[i], numeric)
+		}
 	}
 }

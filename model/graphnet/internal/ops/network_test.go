@@ -1,0 +1,130 @@
+package ops
+
+import (
+	"testing"
+
+	"gorgonia.org/gorgonia"
+	"gorgonia.org/tensor"
+)
+
+func leakyRef(slope float64, x []float64) []float64 {
+	y := make([]float64, len(x))
+	for i, v := range x {
+		y[i] = v
+		if v < 0 {
+			y[i] = slope * v
+		}
+	}
+	return y
+}
+
+// networkCases chain the ops as a network does, with one node read by two
+// ops, so that gradients flow from op to op and are summed by gorgonia.
+func networkCases() []opCase {
+	const B, P, O1, O2, O3, G = 2, 4, 2, 2, 3, 2
+	edge := opCase{
+		name: "Network/E2E-E2E-E2N-Dense+E2N-Dense",
+		shapes: []tensor.Shape{
+			sh(B, 1, P, P),                     // 0 x
+			sh(O1, 1, P), sh(O1, 1, P), sh(O1), // 1-3 first E2E
+			sh(O2, O1, P), sh(O2, O1, P), sh(O2), // 4-6 hidden E2E
+			sh(O3, O2, P), sh(O3), // 7-8 E2N a
+			sh(O3, O2, P), sh(O3), // 9-10 E2N b
+			sh(O3*P, G), sh(G), // 11-12 Dense a
+			sh(O3*P, G), sh(G), // 13-14 Dense b
+		},
+		noGrad: []bool{true, false, false, false, false, false, false, false, false, false, false, false, false, false, false},
+		build: func(in gorgonia.Nodes) (*gorgonia.Node, error) {
+			h1, err := E2E(in[0], in[1], in[2], in[3], NoInputGrad())
+			if err != nil {
+				return nil, err
+			}
+			if h1, err = LeakyReLU(h1, 0.1); err != nil {
+				return nil, err
+			}
+			h2, err := E2E(h1, in[4], in[5], in[6])
+			if err != nil {
+				return nil, err
+			}
+			if h2, err = LeakyReLU(h2, 0.1); err != nil {
+				return nil, err
+			}
+			na, err := E2N(h2, in[7], in[8])
+			if err != nil {
+				return nil, err
+			}
+			nb, err := E2N(h2, in[9], in[10])
+			if err != nil {
+				return nil, err
+			}
+			ya, err := Dense(na, in[11], in[12])
+			if err != nil {
+				return nil, err
+			}
+			yb, err := Dense(nb, in[13], in[14])
+			if err != nil {
+				return nil, err
+			}
+			return gorgonia.Add(ya, yb)
+		},
+		ref: func(in [][]float64) []float64 {
+			h1 := leakyRef(0.1, e2eRef(B, 1, O1, P)(in[0:4]))
+			h2 := leakyRef(0.1, e2eRef(B, O1, O2, P)([][]float64{h1, in[4], in[5], in[6]}))
+			na := e2nRef(B, O2, O3, P)([][]float64{h2, in[7], in[8]})
+			nb := e2nRef(B, O2, O3, P)([][]float64{h2, in[9], in[10]})
+			ya := denseRef(B, O3*P, G)([][]float64{na, in[11], in[12]})
+			yb := denseRef(B, O3*P, G)([][]float64{nb, in[13], in[14]})
+			for i := range ya {
+				ya[i] += yb[i]
+			}
+			return ya
+		},
+	}
+	const F1, F2 = 3, 2
+	graph := opCase{
+		name: "Network/GraphConv-GraphConv-Dense",
+		shapes: []tensor.Shape{
+			sh(B, P, P), sh(B, P, F1), // 0 s, 1 h (data)
+			sh(F1, 4), sh(4, F2), // 2, 3 weights
+			sh(P*F2, G), sh(G), // 4, 5 dense
+		},
+		noGrad: []bool{true, true, false, false, false, false},
+		build: func(in gorgonia.Nodes) (*gorgonia.Node, error) {
+			h, err := GraphConv(in[0], in[1], in[2], NoInputGrad())
+			if err != nil {
+				return nil, err
+			}
+			if h, err = LeakyReLU(h, 0.2); err != nil {
+				return nil, err
+			}
+			if h, err = GraphConv(in[0], h, in[3]); err != nil {
+				return nil, err
+			}
+			return Dense(h, in[4], in[5])
+		},
+		ref: func(in [][]float64) []float64 {
+			h := leakyRef(0.2, graphConvRef(B, P, F1, 4)(in[0:3]))
+			h = graphConvRef(B, P, 4, F2)([][]float64{in[0], h, in[3]})
+			return denseRef(B, P*F2, G)([][]float64{h, in[4], in[5]})
+		},
+	}
+	return []opCase{edge, graph}
+}
+
+// TestNetwork checks chains of ops, forward against the composed plain
+// loops and backward against central finite differences (as
+// TestForward and TestGradFiniteDifference do for single ops).
+func TestNetwork(t *testing.T) {
+	for _, c := range networkCases() {
+		t.Run(c.name, func(t *testing.T) {
+			vals := c.values(9)
+			want := c.ref(vals)
+			h := newHarness(t, c, tensor.Float64, vals, randomWeights(len(want), 10))
+			h.run(t)
+			if e := maxRelErr(float64sOf(h.out), want); e > 1e-12 {
+				t.Errorf("forward: max relative error %g", e)
+			}
+			checkGradients(t, h, c)
+		})
+	}
+}
