@@ -258,8 +258,16 @@ func quoteAll(ss []string) []string {
 // participant_id,model,target,repeat,fold,observed,predicted, then one line
 // per row in the order given. Numbers are written by
 // strconv.FormatFloat(v, 'g', -1, 64), the shortest text that reads back as
-// the same float64; NaN is written as NaN. The output depends only on rows.
+// the same float64; NaN is written as NaN. An infinite value is an error
+// (ReadPredictions would refuse it; a model that predicts infinity has
+// diverged). The output depends only on rows.
 func WritePredictions(w io.Writer, rows []Prediction) error {
+	for i, p := range rows {
+		if math.IsInf(p.Observed, 0) || math.IsInf(p.Predicted, 0) {
+			return fmt.Errorf("eval: prediction %d (participant %q, model %q, target %q): observed %v, predicted %v: want finite values or NaN",
+				i, p.ParticipantID, p.Model, p.Target, p.Observed, p.Predicted)
+		}
+	}
 	cw := csv.NewWriter(w)
 	if err := cw.Write(predictionColumns()); err != nil {
 		return err

@@ -115,6 +115,13 @@ func TestWritePredictionsFormat(t *testing.T) {
 	}
 }
 
+func TestWritePredictionsRefusesInfinity(t *testing.T) {
+	err := WritePredictions(&bytes.Buffer{}, []Prediction{{ParticipantID: "sub-07", Model: "net", Observed: 1, Predicted: math.Inf(1)}})
+	if err == nil || !strings.Contains(err.Error(), `participant "sub-07"`) {
+		t.Errorf("error %v, want one naming the participant", err)
+	}
+}
+
 // FuzzReadPredictions checks that the reader never panics, that every
 // failure is a *ParseError naming the file, and that what it reads survives
 // a write and a second read. The seeds run as ordinary tests.

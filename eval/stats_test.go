@@ -181,3 +181,20 @@ func TestFoldDifferences(t *testing.T) {
 		t.Error("no error for different folds")
 	}
 }
+
+func TestKSUniformEdgeCases(t *testing.T) {
+	// One value at 0.5: D = 0.5 by hand (common practice, no source).
+	if d, _ := KSUniform([]float64{0.5}); d != 0.5 {
+		t.Errorf("D of {0.5} = %v, want 0.5", d)
+	}
+	// Values outside [0, 1] are clamped: {-1, 2} is {0, 1}, D = 0.5.
+	if d, _ := KSUniform([]float64{-1, 2}); d != 0.5 {
+		t.Errorf("D of {-1, 2} = %v, want 0.5", d)
+	}
+	if d, p := KSUniform([]float64{0.2, math.NaN()}); !math.IsNaN(d) || !math.IsNaN(p) {
+		t.Errorf("NaN sample: %v, %v", d, p)
+	}
+	if d, p := KSUniform(nil); !math.IsNaN(d) || !math.IsNaN(p) {
+		t.Errorf("empty sample: %v, %v", d, p)
+	}
+}

@@ -41,7 +41,8 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 // where SCORES is {"n": complete pairs, "missing": pairs skipped, "bins": B,
 // then VALUES} and VALUES is {"pearson_r", "spearman_rho", "mae",
 // "median_ae", "rmse", "r2", "nmi"}, numbers in the units of the score. An
-// undefined value (NaN) is written as null and read back as NaN.
+// undefined value (NaN) is written as null and read back as NaN; so would be
+// an infinite one, which finite predictions cannot produce.
 type Summary struct {
 	Bins   int
 	Groups []Group
