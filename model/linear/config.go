@@ -214,7 +214,7 @@ func (c Config) Validate() error {
 		return errors.New("model: no baseline table (mean, ridge, kernel_ridge or cpm) is set")
 	case 1:
 	default:
-		return fmt.Errorf("model: tables %s are all set; choose one", "model."+strings.Join(kinds, ", model."))
+		return fmt.Errorf("model: tables model.%s are all set; choose one", strings.Join(kinds, " and model."))
 	}
 	if r := c.Ridge; r != nil {
 		const key = "model.ridge"

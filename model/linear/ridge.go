@@ -259,6 +259,7 @@ func (r *Ridge) Predict(ps []*data.Participant) (*mat.Dense, error) {
 		for _, pat := range r.patterns {
 			scaled.Apply(func(i, k int, v float64) float64 { return v * pat.factorSq[k] }, x)
 			kern.Mul(scaled, r.train.T())
+			part.Reset()
 			part.Mul(&kern, subMatrix(r.dualCoef, nil, pat.cols))
 			for c, j := range pat.cols {
 				pred.SetCol(j, mat.Col(nil, c, &part))
