@@ -61,7 +61,8 @@ func Check(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error)
 	return l.load()
 }
 
-// clone copies s so that SetDefaults leaves the caller's modalities alone.
+// clone copies s so that SetDefaults leaves the caller's modalities alone
+// (SetDefaults only replaces pointers, never writes through them).
 func (s Source) clone() Source {
 	if s.Functional != nil {
 		f := *s.Functional
@@ -604,9 +605,9 @@ func (l *loader) checkMatrix(m *modality, f *matrixFile) error {
 			}
 		}
 	}
-	if worst > m.spec.SymmetryTolerance {
+	if tol := *m.spec.SymmetryTolerance; worst > tol {
 		return at(wi, wj, "not symmetric: entry (%d, %d) is %v but entry (%d, %d) is %v; the difference %.3g exceeds symmetry_tolerance %g (the worst pair)",
-			wi+1, wj+1, a.At(wi, wj), wj+1, wi+1, a.At(wj, wi), worst, m.spec.SymmetryTolerance)
+			wi+1, wj+1, a.At(wi, wj), wj+1, wi+1, a.At(wj, wi), worst, tol)
 	}
 	for i := range r {
 		for j := range c {

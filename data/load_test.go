@@ -344,7 +344,8 @@ func TestCheckSmallCohorts(t *testing.T) {
 		{"within tolerance", func(f map[string]string, s *Source) {
 			f["fc/s1.txt"] = "1 0.2\n0.2001 1\n"
 			f["fc/s2.txt"] = "1 0.2\n0.2 1\n"
-			s.Functional.SymmetryTolerance = 1e-3
+			tol := 1e-3
+			s.Functional.SymmetryTolerance = &tol
 		}, "", []string{"R001", "R002"}, 2},
 		{"one region", func(f map[string]string, s *Source) {
 			f["fc/s1.txt"] = "1\n"

@@ -3,6 +3,7 @@ package data
 import (
 	"errors"
 	"fmt"
+	"math"
 	"path/filepath"
 	"strings"
 )
@@ -13,7 +14,26 @@ const Placeholder = "{participant_id}"
 
 // Source says where a cohort's files are and how to read them: the
 // [cohort] table of an experiment file. Paths are relative to the folder of
-// the experiment file (Load's baseDir) unless absolute.
+// the experiment file (Load's baseDir) unless absolute. For example:
+//
+//	[cohort]
+//	participants = "participants.tsv"
+//	targets = ["recall", "fluency"]
+//	covariates = ["age", "sex", "motion"]
+//	group = "family"
+//	regions = "regions.txt"
+//	min_participants = 20
+//	outlier_sd = 3.0
+//	unlisted = "error"
+//
+//	[cohort.functional]
+//	files = "fc/{participant_id}_fc.tsv"
+//	values = "correlation"
+//	symmetry_tolerance = 1e-6
+//
+//	[cohort.structural]
+//	stack = "sc.npy"
+//	stack_ids = "sc_ids.txt"
 type Source struct {
 	// Participants is the participants table, a .tsv (tab-separated, no
 	// quoting, as BIDS writes it) or .csv (RFC 4180) file with a header
@@ -70,9 +90,13 @@ type Modality struct {
 	// within [-1, 1]) or "any" (no range check). Structural matrices are
 	// always checked non-negative and take no Values key.
 	Values string `toml:"values"`
-	// SymmetryTolerance is the largest |a_ij − a_ji| accepted; default 1e-6.
-	SymmetryTolerance float64 `toml:"symmetry_tolerance"`
+	// SymmetryTolerance is the largest |a_ij − a_ji| accepted (absolute);
+	// default 1e-6. Zero demands exact symmetry.
+	SymmetryTolerance *float64 `toml:"symmetry_tolerance"`
 }
+
+// DefaultSymmetryTolerance is the default of symmetry_tolerance.
+const DefaultSymmetryTolerance = 1e-6
 
 // Values settings of a functional modality.
 const (
@@ -87,6 +111,7 @@ const (
 )
 
 // SetDefaults fills every unset field with its documented default.
+// Validate expects it to have been called.
 func (s *Source) SetDefaults() {
 	if s.MinParticipants == 0 {
 		s.MinParticipants = 10
@@ -97,16 +122,14 @@ func (s *Source) SetDefaults() {
 	if s.Unlisted == "" {
 		s.Unlisted = UnlistedError
 	}
-	if s.Functional != nil {
-		if s.Functional.Values == "" {
-			s.Functional.Values = ValuesCorrelation
-		}
-		if s.Functional.SymmetryTolerance == 0 {
-			s.Functional.SymmetryTolerance = 1e-6
+	for _, m := range []*Modality{s.Functional, s.Structural} {
+		if m != nil && m.SymmetryTolerance == nil {
+			tol := DefaultSymmetryTolerance
+			m.SymmetryTolerance = &tol
 		}
 	}
-	if s.Structural != nil && s.Structural.SymmetryTolerance == 0 {
-		s.Structural.SymmetryTolerance = 1e-6
+	if s.Functional != nil && s.Functional.Values == "" {
+		s.Functional.Values = ValuesCorrelation
 	}
 }
 
@@ -205,8 +228,15 @@ func (m Modality) validate(key string) error {
 			return fmt.Errorf(`%s: "stack" needs "stack_ids", the file listing its participants in order`, key)
 		}
 	}
-	if !(m.SymmetryTolerance >= 0) {
-		return fmt.Errorf("%s.symmetry_tolerance: must be zero or positive, found %g", key, m.SymmetryTolerance)
+	if m.SymmetryTolerance == nil || !(*m.SymmetryTolerance >= 0) || math.IsInf(*m.SymmetryTolerance, 1) {
+		return fmt.Errorf("%s.symmetry_tolerance: must be a finite number, zero or positive, found %s", key, optionalFloat(m.SymmetryTolerance))
 	}
 	return nil
+}
+
+func optionalFloat(v *float64) string {
+	if v == nil {
+		return "nothing"
+	}
+	return fmt.Sprint(*v)
 }

@@ -9,8 +9,8 @@ func TestSourceDefaults(t *testing.T) {
 	s := Source{Functional: &Modality{}, Structural: &Modality{}}
 	s.SetDefaults()
 	if s.MinParticipants != 10 || s.OutlierSD != 3 || s.Unlisted != UnlistedError ||
-		s.Functional.Values != ValuesCorrelation || s.Functional.SymmetryTolerance != 1e-6 ||
-		s.Structural.Values != "" || s.Structural.SymmetryTolerance != 1e-6 {
+		s.Functional.Values != ValuesCorrelation || *s.Functional.SymmetryTolerance != 1e-6 ||
+		s.Structural.Values != "" || *s.Structural.SymmetryTolerance != 1e-6 {
 		t.Errorf("defaults %+v, functional %+v, structural %+v", s, *s.Functional, *s.Structural)
 	}
 }
@@ -28,7 +28,9 @@ func TestSourceValidate(t *testing.T) {
 		want string // "" for valid
 	}{
 		{"good", func(*Source) {}, ""},
-		{"stack", func(s *Source) { s.Structural = &Modality{Stack: "sc.npy", StackIDs: "ids.txt"} }, ""},
+		{"stack", func(s *Source) {
+			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs = "", "fc.npy", "ids.txt"
+		}, ""},
 		{"no table", func(s *Source) { s.Participants = "" }, `cohort: key "participants" is required`},
 		{"xlsx", func(s *Source) { s.Participants = "p.xlsx" }, `cohort.participants: "p.xlsx" must end in .tsv or .csv, found ".xlsx"`},
 		{"no targets", func(s *Source) { s.Targets = nil }, `cohort: key "targets" needs at least one score column`},
@@ -46,13 +48,17 @@ func TestSourceValidate(t *testing.T) {
 		{"two placeholders", func(s *Source) { s.Functional.Files = "{participant_id}/{participant_id}.tsv" }, `cohort.functional.files: template "{participant_id}/{participant_id}.tsv" must hold {participant_id} exactly once, found 2`},
 		{"other placeholder", func(s *Source) { s.Functional.Files = "{session}/{participant_id}.tsv" }, `cohort.functional.files: template "{session}/{participant_id}.tsv": the only placeholder is {participant_id}`},
 		{"ids with files", func(s *Source) { s.Functional.StackIDs = "ids.txt" }, `cohort.functional.stack_ids: goes with "stack", not "files"`},
-		{"stack not npy", func(s *Source) { s.Functional = &Modality{Stack: "fc.mat", StackIDs: "ids.txt", Values: "any"} }, `cohort.functional.stack: "fc.mat" must be a .npy file`},
-		{"stack without ids", func(s *Source) { s.Functional = &Modality{Stack: "fc.npy", Values: "any"} }, `cohort.functional: "stack" needs "stack_ids"`},
+		{"stack not npy", func(s *Source) {
+			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs = "", "fc.mat", "ids.txt"
+		}, `cohort.functional.stack: "fc.mat" must be a .npy file`},
+		{"stack without ids", func(s *Source) { s.Functional.Files, s.Functional.Stack = "", "fc.npy" }, `cohort.functional: "stack" needs "stack_ids"`},
 		{"values", func(s *Source) { s.Functional.Values = "partial" }, `cohort.functional.values: must be "correlation" or "any", found "partial"`},
 		{"structural values", func(s *Source) {
 			s.Structural = &Modality{Files: "sc/{participant_id}.npy", Values: "any"}
+			s.SetDefaults()
 		}, "cohort.structural.values: structural matrices are always checked non-negative"},
-		{"tolerance", func(s *Source) { s.Functional.SymmetryTolerance = -1 }, "cohort.functional.symmetry_tolerance: must be zero or positive, found -1"},
+		{"tolerance", func(s *Source) { *s.Functional.SymmetryTolerance = -1 }, "cohort.functional.symmetry_tolerance: must be a finite number, zero or positive, found -1"},
+		{"exact symmetry", func(s *Source) { *s.Functional.SymmetryTolerance = 0 }, ""},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			s := good()
