@@ -435,7 +435,7 @@ func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.P
 		if op, err = data.Operator(kind, pt.Structural); err != nil {
 			return nil, nil, fmt.Errorf("operator %q: %w", kind, err)
 		}
-		s = flatCopy(op)
+		s = flatView(op)
 	}
 	var m *mat.Dense
 	switch b.Input {
@@ -460,7 +460,7 @@ func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.P
 		}
 		m = &sf
 	}
-	x = flatCopy(m)
+	x = flatView(m)
 	for _, v := range x {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return nil, nil, fmt.Errorf("input %q holds %v; the network needs finite values", b.Input, v)
@@ -469,8 +469,13 @@ func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.P
 	return x, s, nil
 }
 
-func flatCopy(m *mat.Dense) []float64 {
+// flatView returns the row-major elements of m: its backing slice when
+// the rows are contiguous, else a copy. The caller must not modify it.
+func flatView(m *mat.Dense) []float64 {
 	r, c := m.Dims()
+	if raw := m.RawMatrix(); raw.Stride == c {
+		return raw.Data[:r*c]
+	}
 	out := make([]float64, 0, r*c)
 	for i := range r {
 		out = append(out, m.RawRowView(i)[:c]...)
