@@ -146,3 +146,34 @@ func TestWriteMarkdown(t *testing.T) {
 		t.Error("targets not in order")
 	}
 }
+
+// The exact layout of metrics.json, documented on Summary, for a tiny run
+// whose figures are worked by hand: fold 0 pairs (1, 2), (3, 3); fold 1
+// pairs (2, 2), (4, 3). Pooled r = ρ = 2/√5 by hand (scipy.stats.pearsonr
+// gives 0.894427190999916, one unit in the last place away), R² = 0.6.
+func TestSummaryJSONLayout(t *testing.T) {
+	rows := []Prediction{
+		{ParticipantID: "a", Model: "m", Target: "t", Fold: 0, Observed: 1, Predicted: 2},
+		{ParticipantID: "b", Model: "m", Target: "t", Fold: 0, Observed: 3, Predicted: 3},
+		{ParticipantID: "c", Model: "m", Target: "t", Fold: 1, Observed: 2, Predicted: 2},
+		{ParticipantID: "d", Model: "m", Target: "t", Fold: 1, Observed: 4, Predicted: 3},
+	}
+	b, err := json.Marshal(Summarize(rows, 2, true))
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := `{"note":` + strconvQuote(Disclaimer) + `,"bins":2,"groups":[{"model":"m","target":"t",` +
+		`"pooled":{"n":4,"missing":0,"bins":2,"pearson_r":0.8944271909999159,"spearman_rho":0.8944271909999159,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.6,"nmi":1},` +
+		`"folds":[{"repeat":0,"fold":0,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1},` +
+		`{"repeat":0,"fold":1,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1}],` +
+		`"fold_mean":{"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1},` +
+		`"fold_sd":{"pearson_r":0,"spearman_rho":0,"mae":0,"median_ae":0,"rmse":0,"r2":0,"nmi":0}}]}`
+	if string(b) != want {
+		t.Errorf("metrics.json\n got %s\nwant %s", b, want)
+	}
+}
+
+func strconvQuote(s string) string {
+	b, _ := json.Marshal(s)
+	return string(b)
+}
