@@ -289,6 +289,28 @@ func (c *Config) SetDefaults() {
 	}
 }
 
+// clone returns a copy of c that shares no slice or pointer with it.
+func (c Config) clone() Config {
+	f := func(p *float64) *float64 {
+		if p == nil {
+			return nil
+		}
+		return float64Ptr(*p)
+	}
+	c.Branches = append([]BranchConfig(nil), c.Branches...)
+	for i := range c.Branches {
+		c.Branches[i].Layers = append([]LayerConfig(nil), c.Branches[i].Layers...)
+	}
+	c.Head = append([]int(nil), c.Head...)
+	c.Slope = f(c.Slope)
+	if c.Patience != nil {
+		c.Patience = intPtr(*c.Patience)
+	}
+	c.Loss = LossConfig{Abs: f(c.Loss.Abs), Squared: f(c.Loss.Squared), Huber: f(c.Loss.Huber), Delta: f(c.Loss.Delta)}
+	c.Optimizer.Momentum = f(c.Optimizer.Momentum)
+	return c
+}
+
 func (b BranchConfig) needsOperator() bool {
 	if b.Input == inputPropagated {
 		return true

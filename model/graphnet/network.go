@@ -52,13 +52,15 @@ var (
 )
 
 // New returns the network of cfg for p regions and the given number of
-// targets, with weights drawn from seed. cfg must have had SetDefaults
-// called; New validates it for this p. The same cfg, p, targets and seed
-// give the same weights and, on the same data, the same training.
+// targets, with weights drawn from seed. New works on a copy of cfg with
+// its defaults filled and validates it for this p. The same cfg, p, targets
+// and seed give the same weights and, on the same data, the same training.
 func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 	if p < 1 || targets < 1 {
 		return nil, fmt.Errorf("graphnet: New: need p ≥ 1 and targets ≥ 1, found p = %d, targets = %d", p, targets)
 	}
+	cfg = cfg.clone()
+	cfg.SetDefaults()
 	if err := cfg.Validate(); err != nil {
 		return nil, err
 	}
@@ -82,8 +84,8 @@ func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 	return n, nil
 }
 
-// Config returns the network's configuration.
-func (n *Network) Config() Config { return n.cfg }
+// Config returns the network's configuration, with its defaults filled.
+func (n *Network) Config() Config { return n.cfg.clone() }
 
 // P returns the number of regions the network takes.
 func (n *Network) P() int { return n.p }
