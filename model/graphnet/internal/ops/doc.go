@@ -9,13 +9,21 @@
 // the openblas build tag of package internal/blas selects OpenBLAS) and
 // branch-free element loops. All ops accept float32 and float64 tensors.
 //
-// Buffers: every op allocates its output once (at its first run, or when
-// the input shapes change) and writes into the same buffer at every later
-// run, so that a training step allocates nothing in steady state. Two
-// consequences follow:
+// Buffers: every op allocates its output (and its scratch space) at its
+// first run and writes into the same buffers at every later run, so that
+// the ops allocate nothing in steady state. (gonum's pure-Go Gemm starts
+// goroutines for large products, which allocate a little; OpenBLAS does
+// not. gorgonia's tape machine allocates a few small values per
+// instruction.) Consequences:
 //   - the value of a node after a run is only valid until the next run;
 //     copy it (or read it with gorgonia.Read) to keep it;
-//   - one graph must not be run by two machines at the same time.
+//   - one graph must not be run by two machines at the same time;
+//   - the shapes of a node are fixed when it is built: a run whose inputs
+//     have other shapes (another batch size) fails with an error naming the
+//     op; build one graph per batch size;
+//   - the backward op of the weights of E2E and E2N reads the permuted copy
+//     of x made by its forward op, so it must run after that forward op in
+//     the same step (gorgonia's order always does this).
 //
 // Options: an op whose data input is participant data rather than the
 // output of another op does not need the gradient with respect to that

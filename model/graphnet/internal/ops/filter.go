@@ -253,16 +253,35 @@ func edgeSums[T float](d filterDims, g, s []T) {
 			cc := s[d.termSize()+(o*B+n)*P:][:P]
 			clear(cc)
 			for i := range r {
-				row := blk[i*P:][:P]
-				var sum T
-				for j, v := range row {
-					sum += v
-					cc[j] += v
-				}
-				r[i] = sum
+				r[i] = sumAndAccumulate(blk[i*P:][:P], cc)
 			}
 		}
 	}
+}
+
+// sumAndAccumulate returns Σ row and adds row to acc (len(acc) ≥ len(row)),
+// with four partial sums so that the additions do not wait on each other.
+func sumAndAccumulate[T float](row, acc []T) T {
+	acc = acc[:len(row)]
+	var s0, s1, s2, s3 T
+	j := 0
+	for ; j+4 <= len(row); j += 4 {
+		v := row[j : j+4 : j+4]
+		a := acc[j : j+4 : j+4]
+		s0 += v[0]
+		s1 += v[1]
+		s2 += v[2]
+		s3 += v[3]
+		a[0] += v[0]
+		a[1] += v[1]
+		a[2] += v[2]
+		a[3] += v[3]
+	}
+	for ; j < len(row); j++ {
+		s0 += row[j]
+		acc[j] += row[j]
+	}
+	return (s0 + s1) + (s2 + s3)
 }
 
 type e2eOp struct {

@@ -128,3 +128,23 @@ func TestNetwork(t *testing.T) {
 		})
 	}
 }
+
+// TestNoInputGrad checks that NoInputGrad builds no gradient for the data
+// input: asking gorgonia.Grad for it fails instead of computing it.
+func TestNoInputGrad(t *testing.T) {
+	g := gorgonia.NewGraph()
+	x := gorgonia.NewTensor(g, tensor.Float64, 4, gorgonia.WithShape(1, 1, 3, 3), gorgonia.WithName("x"), gorgonia.WithInit(gorgonia.Ones()))
+	w := gorgonia.NewTensor(g, tensor.Float64, 3, gorgonia.WithShape(2, 1, 3), gorgonia.WithName("w"), gorgonia.WithInit(gorgonia.Ones()))
+	b := gorgonia.NewVector(g, tensor.Float64, gorgonia.WithShape(2), gorgonia.WithName("b"), gorgonia.WithInit(gorgonia.Zeroes()))
+	n, err := E2N(x, w, b, NoInputGrad())
+	if err != nil {
+		t.Fatal(err)
+	}
+	cost, err := gorgonia.Sum(n)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := gorgonia.Grad(cost, x); err == nil {
+		t.Error("gorgonia.Grad with respect to x succeeded with NoInputGrad")
+	}
+}
