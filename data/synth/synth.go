@@ -14,7 +14,9 @@
 //     module and between near regions). The participant's streamline count
 //     on a template edge is Poisson with a mean that falls with distance,
 //     times a log-normal factor per participant and edge (shared in part
-//     within a family).
+//     within a family) and one per participant (its streamline yield);
+//     weak tracts are sometimes missed (count 0), and pairs off the
+//     template get a rare spurious streamline.
 //   - Function. Regional time series of length TimePoints follow the
 //     linear model x = (I − a S)^-1 e with S = D^-1/2 W D^-1/2 the
 //     normalized structural weights W = ln(1 + counts), a = 0.7 and white
@@ -76,6 +78,8 @@ const (
 	structEffect   = 0.5  // how strongly the structural trait scales counts
 	familyShare    = 0.5  // correlation of traits, noise and edge factors within a family
 	edgeVariation  = 0.3  // SD of the log-normal factor on each count
+	yieldVariation = 0.2  // SD of the log-normal factor on all of a participant's counts
+	spuriousCount  = 0.02 // mean count of a region pair off the template
 	motionMedian   = 0.15 // median mean framewise displacement, mm
 )
 
@@ -446,14 +450,14 @@ func newPlan(cfg Config, rng *rand.Rand) *plan {
 				d2 += (pos[i][k] - pos[j][k]) * (pos[i][k] - pos[j][k])
 			}
 			d := math.Sqrt(d2)
-			prob, mean := 0.9*math.Exp(-d/0.35), 2000*math.Exp(-d/0.2)
+			prob, mean := 0.9*math.Exp(-d/0.35), 2000*math.Exp(-d/0.15)
 			if module[i] == module[j] {
 				mean *= 2
 			} else {
 				prob *= 0.4
 			}
 			if rng.Float64() < prob {
-				mean = math.Max(mean, 2)
+				mean = math.Max(mean, 0.5) // weak tracts are sometimes missed
 				template.Set(i, j, mean)
 				template.Set(j, i, mean)
 				templateEdges = append(templateEdges, Edge{i, j})
@@ -549,12 +553,14 @@ func (pl *plan) structural(traits []float64, factor *mat.Dense, rng *rand.Rand) 
 			mean.Set(e.I, e.J, mean.At(e.I, e.J)*math.Exp(-structEffect*t))
 		}
 	}
+	// The participant's overall streamline yield varies too.
+	yield := math.Exp(yieldVariation*rng.NormFloat64() - yieldVariation*yieldVariation/2)
 	counts := mat.NewDense(p, p, nil)
 	for i := range p {
 		for j := i + 1; j < p; j++ {
-			lambda := mean.At(i, j)
+			lambda := yield * mean.At(i, j)
 			if lambda == 0 {
-				continue
+				lambda = spuriousCount // false-positive streamlines off the template
 			}
 			lambda *= math.Exp(edgeVariation*factor.At(i, j) - edgeVariation*edgeVariation/2)
 			c := distuv.Poisson{Lambda: lambda, Src: rng}.Rand()
