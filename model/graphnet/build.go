@@ -16,17 +16,17 @@ import (
 // backing slice is seen by all of them.
 type param struct {
 	name          string       // the array name in a saved model, e.g. "branch0.layer1.weight"
-	shape         tensor.Shape // logical shape, as saved
+	shape         tensor.Shape // as saved and as the graph nodes have it
 	value         *tensor.Dense
 	grad          *tensor.Dense // gradient of the last training step, same shape
 	fanIn, fanOut int
 }
 
-// weights creates the weight arrays of the architecture in a fixed order:
+// createParams creates the weight arrays of the architecture in a fixed order:
 // for each branch and layer, then for each head layer and the output layer.
 func (n *Network) createParams() {
 	n.params = nil
-	add := func(name string, fanIn, fanOut int, shape ...int) *param {
+	add := func(name string, fanIn, fanOut int, shape ...int) {
 		p := &param{
 			name:  name,
 			shape: tensor.Shape(shape).Clone(),
@@ -35,7 +35,6 @@ func (n *Network) createParams() {
 			fanIn: fanIn, fanOut: fanOut,
 		}
 		n.params = append(n.params, p)
-		return p
 	}
 	for bi, b := range n.cfg.Branches {
 		in := layerShape{form: edgeForm, width: size{1, 0}}

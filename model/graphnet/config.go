@@ -53,7 +53,9 @@ type Config struct {
 	// Init is the initialization of the weights (key "init"): "he"
 	// (default; normal with standard deviation sqrt(2/fan_in), He et al.
 	// 2015) or "glorot" (uniform on ±sqrt(6/(fan_in+fan_out)), Glorot &
-	// Bengio 2010). Biases start at zero.
+	// Bengio 2010). The fan-in of a unit is the number of inputs it sums:
+	// 2·C·p for e2e, C·p for e2n, F for graph_conv and dense layers.
+	// Biases start at zero.
 	Init string `toml:"init" json:"init"`
 	// DType is the floating-point type of weights and computation (key
 	// "dtype"): "float32" (default) or "float64".
@@ -120,11 +122,20 @@ type BranchConfig struct {
 // Every layer but dropout is followed by the network's leaky ReLU unless
 // activation = "none".
 type LayerConfig struct {
-	Kind       string  `toml:"kind" json:"kind"`
-	Channels   int     `toml:"channels" json:"channels,omitempty"`
-	Size       int     `toml:"size" json:"size,omitempty"`
-	Rate       float64 `toml:"rate" json:"rate,omitempty"`
-	Activation string  `toml:"activation" json:"activation,omitempty"` // "leaky_relu" (default) or "none"
+	// Kind is the layer kind (key "kind"): "e2e", "e2n", "graph_conv",
+	// "n2g" or "dropout". Required.
+	Kind string `toml:"kind" json:"kind"`
+	// Channels is the number of output channels of e2e and e2n (key
+	// "channels"), at least 1.
+	Channels int `toml:"channels" json:"channels,omitempty"`
+	// Size is the number of outputs of graph_conv (per node) and n2g (key
+	// "size"), at least 1.
+	Size int `toml:"size" json:"size,omitempty"`
+	// Rate is the dropout rate (key "rate"), in [0, 1).
+	Rate float64 `toml:"rate" json:"rate,omitempty"`
+	// Activation follows the layer (key "activation"): "leaky_relu"
+	// (default) or "none". Not for dropout.
+	Activation string `toml:"activation" json:"activation,omitempty"`
 }
 
 // LossConfig weighs the terms of the training loss. For the residuals
