@@ -172,8 +172,9 @@ func oneOf(key, got string, allowed ...string) error {
 
 // Functional transforms a p × p functional matrix in place: Fisher z (when
 // Transform is "fisher-z") and then the diagonal. It expects SetDefaults to
-// have been called. A NaN entry, or an off-diagonal |r| beyond 1 under
-// "fisher-z", is an *EntryError; m is then left partly transformed.
+// have been called. A non-finite entry, or under "fisher-z" an entry with
+// |r| beyond 1 (see FisherZ), is an *EntryError; m is then left partly
+// transformed.
 func (p Preprocess) Functional(m *mat.Dense) error {
 	mustSquare("Functional", m)
 	if p.FC.Transform == FisherZTransform {

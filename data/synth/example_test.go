@@ -2,6 +2,8 @@ package synth_test
 
 import (
 	"fmt"
+	"os"
+	"path/filepath"
 
 	"github.com/skein-neuro/skein/data/synth"
 )
@@ -24,4 +26,33 @@ func ExampleGenerate() {
 	// scores: [recall fluency] covariates: [age sex motion]
 	// recall: 3 positive and 3 negative functional edges, ceiling r = 0.70
 	// fluency: 3 positive and 3 negative functional edges, ceiling r = 0.70
+}
+
+func ExampleWrite() {
+	c, err := synth.Generate(synth.Config{N: 20, P: 8, Seed: 2, Targets: 1})
+	if err != nil {
+		panic(err)
+	}
+	dir, err := os.MkdirTemp("", "synth-example-")
+	if err != nil {
+		panic(err)
+	}
+	defer os.RemoveAll(dir)
+	if err := synth.Write(filepath.Join(dir, "cohort"), c, synth.FormatNPY); err != nil {
+		panic(err)
+	}
+	files, _ := filepath.Glob(filepath.Join(dir, "cohort", "*"))
+	for _, f := range files {
+		fmt.Println(filepath.Base(f))
+	}
+	fcFiles, _ := filepath.Glob(filepath.Join(dir, "cohort", "fc", "*"))
+	fmt.Println(len(fcFiles), "functional matrices, first", filepath.Base(fcFiles[0]))
+	// Output:
+	// experiment.toml
+	// fc
+	// participants.tsv
+	// planted.tsv
+	// regions.txt
+	// sc
+	// 20 functional matrices, first sub-001_fc.npy
 }
