@@ -22,8 +22,9 @@ func readIDList(path, what string) (names []string, lines []int, err error) {
 // parseIDList parses raw as one name a line. Surrounding white space is
 // trimmed, a leading UTF-8 byte order mark is dropped and blank lines at
 // the end are ignored; a blank line before the last name is an error, as
-// it would shift the order. A first line equal to "participant_id" is
-// taken as a header and skipped. Names must be distinct.
+// it would shift the order. In a participant list (what is
+// "participant_id") a first line equal to "participant_id" is taken as a
+// header and skipped. Names must be distinct.
 func parseIDList(path string, raw []byte, what string) (names []string, lines []int, err error) {
 	raw = bytes.TrimPrefix(raw, []byte("\ufeff"))
 	all := strings.Split(string(raw), "\n")
@@ -33,7 +34,7 @@ func parseIDList(path string, raw []byte, what string) (names []string, lines []
 	seen := make(map[string]int)
 	for i, line := range all {
 		name := strings.TrimSpace(line)
-		if i == 0 && name == "participant_id" {
+		if i == 0 && what == "participant_id" && name == what {
 			continue
 		}
 		if name == "" {
