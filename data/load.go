@@ -99,7 +99,6 @@ func (l *loader) path(p string) string {
 // tableRow is one participant's row of the participants table, parsed.
 type tableRow struct {
 	id         string
-	line       int
 	group      string
 	scores     []float64
 	covariates []float64
@@ -114,6 +113,10 @@ type modality struct {
 	stack     *npyArray
 	stackIdx  map[string]int // participant_id -> index in the stack
 	report    *ModalityReport
+
+	// Per included participant, in order: mean off-diagonal entry and
+	// density of the matrix as read.
+	means, densities []float64
 }
 
 func (l *loader) load() (*Cohort, *Report, error) {
@@ -163,9 +166,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	}
 
 	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates}
-	perMod := map[string][]float64{} // per-participant statistics, by measure
 	var kept []*Participant
-	var keptLines []int
 	for _, r := range rows {
 		var reasons []string
 		for _, m := range mods {
@@ -196,9 +197,9 @@ func (l *loader) load() (*Cohort, *Report, error) {
 				continue
 			}
 			a, path := f.a, f.path
-			meanConn, density := offDiagonal(a)
-			perMod[m.name+" mean"] = append(perMod[m.name+" mean"], meanConn)
-			perMod[m.name+" density"] = append(perMod[m.name+" density"], density)
+			mean, density := offDiagonal(a)
+			m.means = append(m.means, mean)
+			m.densities = append(m.densities, density)
 			if m.name == "functional" {
 				err = l.pre.Functional(a)
 				p.Functional = a
@@ -213,7 +214,6 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		}
 		if ok {
 			kept = append(kept, p)
-			keptLines = append(keptLines, r.line)
 		}
 	}
 	if err := l.errs.err(); err != nil {
@@ -229,25 +229,31 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		c.Excluded = []Exclusion{}
 	}
 
+	l.describe(rep, c, mods, covReports)
+	if len(kept) < l.src.MinParticipants {
+		return nil, rep, &TooFewError{Included: len(kept), Min: l.src.MinParticipants, Excluded: len(c.Excluded)}
+	}
+	return c, rep, nil
+}
+
+// describe fills the report's counts and statistics from the cohort.
+func (l *loader) describe(rep *Report, c *Cohort, mods []*modality, covReports []VariableReport) {
+	kept := c.Participants
 	rep.Included = len(kept)
 	rep.Excluded = c.Excluded
 	rep.Regions = l.p
 	rep.RegionLabels = l.labelsSrc
 	for _, m := range mods {
-		mean := perMod[m.name+" mean"]
-		m.report.MeanConnectivity = describe(mean)
-		if m.name == "structural" {
-			d := describe(perMod[m.name+" density"])
-			m.report.Density = &d
-			rep.Outliers = append(rep.Outliers, outliers(kept, perMod[m.name+" density"], "structural density", l.src.OutlierSD)...)
-		} else {
-			rep.Outliers = append(rep.Outliers, outliers(kept, mean, "functional mean connectivity", l.src.OutlierSD)...)
-		}
+		m.report.MeanConnectivity = describe(m.means)
 		if m.name == "functional" {
 			rep.Functional = m.report
-		} else {
-			rep.Structural = m.report
+			rep.Outliers = append(rep.Outliers, outliers(kept, m.means, "functional mean connectivity", l.src.OutlierSD)...)
+			continue
 		}
+		d := describe(m.densities)
+		m.report.Density = &d
+		rep.Structural = m.report
+		rep.Outliers = append(rep.Outliers, outliers(kept, m.densities, "structural density", l.src.OutlierSD)...)
 	}
 	rep.Scores = make([]VariableReport, len(l.src.Targets))
 	for k, name := range l.src.Targets {
@@ -273,10 +279,6 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	if l.src.Group != "" {
 		rep.Group = describeGroups(l.src.Group, kept)
 	}
-	if len(kept) < l.src.MinParticipants {
-		return nil, rep, &TooFewError{Included: len(kept), Min: l.src.MinParticipants, Excluded: len(c.Excluded)}
-	}
-	return c, rep, nil
 }
 
 // parseRows parses the participants table's ids, scores, covariates and
@@ -328,7 +330,7 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 			}
 			seen[id] = tbl.lines[r]
 		}
-		row := tableRow{id: id, line: tbl.lines[r], scores: make([]float64, len(targetCols)), covariates: make([]float64, len(covCols))}
+		row := tableRow{id: id, scores: make([]float64, len(targetCols)), covariates: make([]float64, len(covCols))}
 		for k, col := range targetCols {
 			row.scores[k] = math.NaN()
 			cell := cells[col]
