@@ -146,8 +146,7 @@ type Edge struct{ I, J int }
 //
 // ε ~ N(0, 1) (without the s term and its 1 for a null target), with
 // mean and SD set per score (recall: 50 and 10), rounded to 3 decimals, so
-// that the Pearson r of s with the score is, in
-// the population,
+// that the Pearson r of s with the score is, in the population,
 //
 //	Ceiling = 1 / √(1 + MotionWeight² + NoiseSD²) = √(var s / (var s + var rest)).
 //
@@ -155,15 +154,26 @@ type Edge struct{ I, J int }
 // cancels in f; the formula treats s and motion as independent.) A null
 // target has Ceiling 0, Signal nil and no edges.
 type Planted struct {
-	Target                                 string
-	Positive, Negative                     []Edge
+	// Target is the score's name.
+	Target string
+	// Positive and Negative are the functional edges whose Fisher z adds
+	// to and subtracts from the signal (the pairs within region sets A
+	// and B of the package documentation).
+	Positive, Negative []Edge
+	// StructuralPositive and StructuralNegative are the structural edges
+	// whose ln(1 + count) adds to and subtracts from the signal; empty
+	// when StructuralShare is 0.
 	StructuralPositive, StructuralNegative []Edge
-	StructuralShare                        float64
+	// StructuralShare is Config.StructuralShare.
+	StructuralShare float64
 	// Signal holds s for each participant, in Cohort.Participants order.
-	Signal       []float64
-	NoiseSD      float64
+	Signal []float64
+	// NoiseSD is the SD of the noise, in units of the SD of s.
+	NoiseSD float64
+	// MotionWeight is Config.Motion: the weight of standardized motion.
 	MotionWeight float64
-	Ceiling      float64
+	// Ceiling is the population r of s with the score.
+	Ceiling float64
 }
 
 // Cohort is a synthetic cohort: the participants with their RAW matrices
