@@ -5,6 +5,7 @@ import (
 	"io"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"strings"
 )
 
@@ -115,42 +116,59 @@ func better(r, best float64) bool {
 // best baseline with the corrected resampled t-test.
 func WriteComparisonMarkdown(w io.Writer, comps []Comparison) error {
 	var b strings.Builder
-	target := "\x00"
+	var targets []string
 	for _, c := range comps {
-		if c.Target != target {
-			target = c.Target
-			fmt.Fprintf(&b, "\n### %s: comparison\n\n", escapeMarkdown(target))
-			b.WriteString("| model | Pearson r | CI of pooled r | p (r) | MAE | CI of pooled MAE | p (MAE) | Δr vs best baseline (t-test p) | ΔMAE (t-test p) |\n")
-			b.WriteString("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |\n")
+		if !slices.Contains(targets, c.Target) {
+			targets = append(targets, c.Target)
 		}
-		name := escapeMarkdown(c.Model)
-		if c.Baseline {
-			name += " (baseline)"
+	}
+	for _, target := range targets {
+		fmt.Fprintf(&b, "\n### %s: comparison\n\n", escapeMarkdown(target))
+		b.WriteString("| model | Pearson r | CI of pooled r | p (r) | MAE | CI of pooled MAE | p (MAE) | Δr vs best baseline (t-test p) | ΔMAE (t-test p) |\n")
+		b.WriteString("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |\n")
+		for _, c := range comps {
+			if c.Target == target {
+				writeComparisonRow(&b, c)
+			}
 		}
-		pr, pm := "–", "–"
-		if c.P != nil {
-			pr, pm = formatP(c.P.Pearson), formatP(c.P.MAE)
-		}
-		vsR, vsMAE := "–", "–"
-		if c.Against != "" {
-			vsR = fmt.Sprintf("%+.3f vs %s (p %s)", c.DiffR.MeanDiff, escapeMarkdown(c.Against), formatP(c.DiffR.P))
-			vsMAE = fmt.Sprintf("%+.3f (p %s)", c.DiffMAE.MeanDiff, formatP(c.DiffMAE.P))
-		} else if c.Baseline {
-			vsR = "best baseline"
-		}
-		fmt.Fprintf(&b, "| %s | %s | [%s, %s] | %s | %s | [%s, %s] | %s | %s | %s |\n", name,
-			c.Group.cell(MetricPearson), formatNumber(c.R.Lower), formatNumber(c.R.Upper), pr,
-			c.Group.cell(MetricMAE), formatNumber(c.MAE.Lower), formatNumber(c.MAE.Upper), pm,
-			vsR, vsMAE)
 	}
 	if len(comps) > 0 {
-		fmt.Fprintf(&b, "\nPearson r and MAE: mean ± SD over test folds [pooled]. CI: %.0f%% percentile bootstrap over participants (%d resamples). "+
-			"p: permutation p-value, (1 + #{null at least as good}) / (1 + permutations). "+
-			"Δ: mean difference over the same folds, tested by the corrected resampled t-test (Nadeau & Bengio 2003).\n",
-			100*comps[0].R.Level, comps[0].R.Resamples)
+		fmt.Fprintf(&b, "\nPearson r and MAE: mean ± SD over test folds [pooled]. CI: %.0f%% percentile bootstrap"+
+			" over participants (%d resamples). p: permutation p-value, (1 + #{null at least as good}) / (1 + permutations). "+
+			"Δ: mean difference from the best baseline (highest mean r over folds) over the same folds, tested by the "+
+			"corrected resampled t-test (Nadeau & Bengio 2003).\n", 100*comps[0].R.Level, comps[0].R.Resamples)
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
+}
+
+func writeComparisonRow(b *strings.Builder, c Comparison) {
+	name := escapeMarkdown(c.Model)
+	if c.Baseline {
+		name += " (baseline)"
+	}
+	pr, pm := "–", "–"
+	if c.P != nil {
+		pr, pm = formatP(c.P.Pearson), formatP(c.P.MAE)
+	}
+	vsR, vsMAE := "–", "–"
+	if c.Against != "" {
+		vsR = fmt.Sprintf("%s vs %s (p %s)", formatDiff(c.DiffR.MeanDiff), escapeMarkdown(c.Against), formatP(c.DiffR.P))
+		vsMAE = fmt.Sprintf("%s (p %s)", formatDiff(c.DiffMAE.MeanDiff), formatP(c.DiffMAE.P))
+	} else if c.Baseline {
+		vsR = "best baseline"
+	}
+	fmt.Fprintf(b, "| %s | %s | [%s, %s] | %s | %s | [%s, %s] | %s | %s | %s |\n", name,
+		c.Group.cell(MetricPearson), formatNumber(c.R.Lower), formatNumber(c.R.Upper), pr,
+		c.Group.cell(MetricMAE), formatNumber(c.MAE.Lower), formatNumber(c.MAE.Upper), pm,
+		vsR, vsMAE)
+}
+
+func formatDiff(d float64) string {
+	if math.IsNaN(d) {
+		return "–"
+	}
+	return fmt.Sprintf("%+.3f", d)
 }
 
 func formatP(p float64) string {

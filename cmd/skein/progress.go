@@ -15,7 +15,7 @@ import (
 
 // progress shows a run's progress: a live bar with the current fold, epoch
 // and loss on a terminal; elsewhere (cron, nightly jobs) a plain log line
-// per finished unit and at most one per interval while units train.
+// at most once per interval, and one when the last unit finishes.
 type progress struct {
 	bar      *progressbar.ProgressBar // nil when not on a terminal
 	log      *slog.Logger
@@ -24,7 +24,7 @@ type progress struct {
 }
 
 func newProgress(w io.Writer, log *slog.Logger, total int) *progress {
-	p := &progress{log: log, interval: 30 * time.Second}
+	p := &progress{log: log, interval: 15 * time.Second, last: time.Now()}
 	if f, ok := w.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
 		p.bar = progressbar.NewOptions(total,
 			progressbar.OptionSetWriter(w),
@@ -66,6 +66,9 @@ func (p *progress) event(e train.Event) {
 	case train.UnitFinished:
 		if p.bar != nil {
 			p.bar.Set(e.Finished)
+			return
+		}
+		if e.Finished < e.Total && time.Since(p.last) < p.interval {
 			return
 		}
 		p.last = time.Now()
