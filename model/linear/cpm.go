@@ -81,55 +81,76 @@ func (c *CPM) Fit(ctx context.Context, train, valid model.Dataset) error {
 			return err
 		}
 		xFit := subMatrix(x, pat.rows, nil)
-		yFit := subMatrix(y, pat.rows, pat.cols)
-		r, err := c.correlations(xFit, yFit, pat.cols)
-		if err != nil {
-			return err
-		}
+		corr := newEdgeCorrelator(xFit, c.cfg.Correlation == CorrelationSpearman)
 		rCrit := CriticalR(len(pat.rows), c.cfg.PThreshold)
-		d, _ := r.Dims()
-		for a, j := range pat.cols {
-			var pos, neg []int
-			for k := 0; k < d; k++ {
-				v := r.At(k, a)
-				if !selected(v, rCrit, len(pat.rows), c.cfg.PThreshold) {
-					continue
-				}
-				if v > 0 {
-					pos = append(pos, k)
-				} else {
-					neg = append(neg, k)
-				}
-			}
-			if c.cfg.Network == NetworkNegative {
-				pos = nil
-			}
-			if c.cfg.Network == NetworkPositive {
-				neg = nil
-			}
-			c.positive[j], c.negative[j] = pos, neg
-			coef, err := fitStrengths(xFit, mat.Col(nil, a, yFit), pos, neg)
+		// Columns go through in chunks to bound the d × chunk correlations.
+		const chunk = 64
+		for first := 0; first < len(pat.cols); first += chunk {
+			cols := pat.cols[first:min(first+chunk, len(pat.cols))]
+			yFit := subMatrix(y, pat.rows, cols)
+			r, err := corr.correlate(yFit, cols)
 			if err != nil {
-				return fmt.Errorf("linear: cpm: score column %d: %w", j+1, err)
+				return err
 			}
-			c.coef[j] = coef
+			d, _ := r.Dims()
+			for a, j := range cols {
+				var pos, neg []int
+				for k := 0; k < d; k++ {
+					v := r.At(k, a)
+					if !selected(v, rCrit, len(pat.rows), c.cfg.PThreshold) {
+						continue
+					}
+					if v > 0 {
+						pos = append(pos, k)
+					} else {
+						neg = append(neg, k)
+					}
+				}
+				if c.cfg.Network == NetworkNegative {
+					pos = nil
+				}
+				if c.cfg.Network == NetworkPositive {
+					neg = nil
+				}
+				c.positive[j], c.negative[j] = pos, neg
+				coef, err := fitStrengths(xFit, mat.Col(nil, a, yFit), pos, neg)
+				if err != nil {
+					return fmt.Errorf("linear: cpm: score column %d: %w", j+1, err)
+				}
+				c.coef[j] = coef
+			}
 		}
 	}
 	return nil
 }
 
-// correlations returns the d × c correlations of x's columns (edges) with
-// y's columns, Pearson or Spearman as configured. cols names y's columns
-// for errors.
-func (c *CPM) correlations(x, y *mat.Dense, cols []int) (*mat.Dense, error) {
-	x, y = mat.DenseCopyOf(x), mat.DenseCopyOf(y)
-	if c.cfg.Correlation == CorrelationSpearman {
+// An edgeCorrelator correlates the edges of a set of participants with
+// their scores: the edges (ranked for Spearman) centred on their means,
+// and their norms.
+type edgeCorrelator struct {
+	x        *mat.Dense // n × d
+	norms    []float64  // d
+	spearman bool
+}
+
+func newEdgeCorrelator(x *mat.Dense, spearman bool) edgeCorrelator {
+	x = mat.DenseCopyOf(x)
+	if spearman {
 		rankColumns(x)
-		rankColumns(y)
 	}
 	centreColumns(x)
+	return edgeCorrelator{x: x, norms: columnNorms(x), spearman: spearman}
+}
+
+// correlate returns the d × c correlations (Pearson, or Spearman's of the
+// ranks) of the edges with y's c columns; cols names those columns for
+// errors. An edge constant over the participants has r = 0.
+func (e edgeCorrelator) correlate(y *mat.Dense, cols []int) (*mat.Dense, error) {
+	y = mat.DenseCopyOf(y)
+	if e.spearman {
+		rankColumns(y)
+	}
 	centreColumns(y)
-	xNorm := columnNorms(x)
 	yNorm := columnNorms(y)
 	for a, v := range yNorm {
 		if v == 0 {
@@ -137,16 +158,16 @@ func (c *CPM) correlations(x, y *mat.Dense, cols []int) (*mat.Dense, error) {
 		}
 	}
 	var r mat.Dense
-	r.Mul(x.T(), y)
+	r.Mul(e.x.T(), y)
 	d, t := r.Dims()
 	for k := 0; k < d; k++ {
 		row := r.RawRowView(k)
 		for a := 0; a < t; a++ {
-			if xNorm[k] == 0 {
+			if e.norms[k] == 0 {
 				row[a] = 0
 				continue
 			}
-			row[a] /= xNorm[k] * yNorm[a]
+			row[a] /= e.norms[k] * yNorm[a]
 		}
 	}
 	return &r, nil

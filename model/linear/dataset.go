@@ -92,6 +92,13 @@ func subMatrix(m mat.Matrix, rows, cols []int) *mat.Dense {
 	if rows == nil {
 		rows = seq(r)
 	}
+	if d, ok := m.(*mat.Dense); ok && cols == nil {
+		out := mat.NewDense(len(rows), c, nil)
+		for a, i := range rows {
+			copy(out.RawRowView(a), d.RawRowView(i))
+		}
+		return out
+	}
 	if cols == nil {
 		cols = seq(c)
 	}

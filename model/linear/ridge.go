@@ -158,14 +158,17 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 					r.dualCoef.Set(i, j, alpha.At(a, c))
 				}
 			}
-			// m·w for each column: (m ∘ f²) · X_Pᵀ α̂.
-			scaledMean := make([]float64, d)
-			for k := range scaledMean {
-				scaledMean[k] = sc.mean[k] * factorSq[k]
+			// m·w for each column: Σᵢ α̂ᵢ xᵢ·(m ∘ f²) over the rows P.
+			meanK := mat.NewDense(1, len(pat.rows), nil)
+			for a, i := range pat.rows {
+				var v float64
+				for k, xk := range x.RawRowView(i) {
+					v += xk * sc.mean[k] * factorSq[k]
+				}
+				meanK.Set(0, a, v)
 			}
-			var meanK, meanW mat.Dense // 1 × |P|, 1 × c
-			meanK.Mul(mat.NewDense(1, d, scaledMean), subMatrix(x, pat.rows, nil).T())
-			meanW.Mul(&meanK, alpha)
+			var meanW mat.Dense // 1 × c
+			meanW.Mul(meanK, alpha)
 			for c, j := range pat.cols {
 				r.intercept[j] = means[c] - meanW.At(0, c)
 			}

@@ -1,0 +1,111 @@
+package linear_test
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model"
+	"github.com/skein-neuro/skein/model/linear"
+)
+
+// inventCohort invents n participants of a fictional study with 6-region
+// functional connectomes and one score (a "reading fluency" index) that
+// rises with the connectivity of regions 0 and 1 and falls with that of
+// regions 2 and 3.
+func inventCohort(rng *rand.Rand, n int) model.Dataset {
+	ps := make([]*data.Participant, n)
+	y := mat.NewDense(n, 1, nil)
+	for i := range ps {
+		fc := mat.NewDense(6, 6, nil)
+		for a := 0; a < 6; a++ {
+			for b := a + 1; b < 6; b++ {
+				v := math.Atanh(0.6 * (2*rng.Float64() - 1)) // a Fisher z value
+				fc.Set(a, b, v)
+				fc.Set(b, a, v)
+			}
+		}
+		y.Set(i, 0, 2*fc.At(0, 1)-2*fc.At(2, 3)+0.1*rng.NormFloat64())
+		ps[i] = &data.Participant{ID: fmt.Sprintf("sub-%02d", i+1), Functional: fc}
+	}
+	return model.Dataset{Participants: ps, Y: y}
+}
+
+// Fit ridge regression on the edges of the functional connectomes, the
+// penalty chosen by 5-fold inner cross-validation, and predict new
+// participants.
+func Example() {
+	rng := rand.New(rand.NewPCG(1, 2))
+	train, test := inventCohort(rng, 80), inventCohort(rng, 3)
+
+	cfg := linear.Config{Ridge: &linear.RidgeConfig{}} // [model.ridge] with every default
+	cfg.SetDefaults()
+	if err := cfg.Validate(); err != nil {
+		fmt.Println(err)
+		return
+	}
+	reg, err := cfg.New(1, 42)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	if err := reg.Fit(context.Background(), train, model.Dataset{}); err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("chosen alpha %.3g (relative to trace(K)/n)\n", reg.(*linear.Ridge).Alphas()[0])
+	pred, err := reg.Predict(test.Participants)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for i, p := range test.Participants {
+		fmt.Printf("%s: predicted %.1f, observed %.1f\n", p.ID, pred.At(i, 0), test.Y.At(i, 0))
+	}
+	// Output:
+	// chosen alpha 0.0316 (relative to trace(K)/n)
+	// sub-01: predicted 0.1, observed 0.0
+	// sub-02: predicted -1.2, observed -1.0
+	// sub-03: predicted 0.6, observed 0.8
+}
+
+// Select the edges that correlate with a score and predict from the
+// strength of the selected networks.
+func ExampleCPM() {
+	rng := rand.New(rand.NewPCG(3, 4))
+	train := inventCohort(rng, 120)
+	m := linear.NewCPM(linear.CPMConfig{Input: linear.InputFunctional, Correlation: linear.CorrelationPearson, PThreshold: 0.01, Network: linear.NetworkBoth})
+	if err := m.Fit(context.Background(), train, model.Dataset{}); err != nil {
+		fmt.Println(err)
+		return
+	}
+	pos, neg := m.Selected(0)
+	for _, k := range pos {
+		i, j := linear.EdgePair(6, k)
+		fmt.Printf("positive network: regions %d and %d\n", i, j)
+	}
+	for _, k := range neg {
+		i, j := linear.EdgePair(6, k)
+		fmt.Printf("negative network: regions %d and %d\n", i, j)
+	}
+	// Output:
+	// positive network: regions 0 and 1
+	// negative network: regions 2 and 3
+}
+
+func ExampleEdges() {
+	m := mat.NewDense(3, 3, []float64{
+		0, 0.5, 0.2,
+		0.5, 0, -0.1,
+		0.2, -0.1, 0,
+	})
+	fmt.Println(linear.Edges(m))
+	fmt.Println(linear.EdgePair(3, 2))
+	// Output:
+	// [0.5 0.2 -0.1]
+	// 1 2
+}
