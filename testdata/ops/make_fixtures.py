@@ -11,6 +11,7 @@ operators, not from skein's code:
   leaky: torch.nn.functional.leaky_relu
   gconv: torch.bmm(S, H) @ W
   dense: X.reshape(B, -1) @ W + b
+  swap:  X.transpose(1, 2)
 For each case <name> the files are <name>.<input>.npy (inputs, float64),
 <name>.out.npy (forward output), <name>.r.npy (fixed random weights r of the
 scalar L = sum(out * r)) and <name>.d<input>.npy (dL/d<input> by autograd).
@@ -76,6 +77,7 @@ def main():
     # B, p, F, G: G < F and G > F take the two orders of the products
     for name, (B, p, Fi, G) in {"gconv_narrow": (2, 5, 4, 2), "gconv_wide": (3, 4, 2, 5)}.items():
         case(name, gconv, {"s": randn(B, p, p), "h": randn(B, p, Fi), "w": randn(Fi, G)}, ["h", "w"])
+    case("swap", lambda x: x.transpose(1, 2), {"x": randn(2, 3, 5)}, ["x"])
     case("dense", dense, {"x": randn(3, 2, 5), "w": randn(10, 4), "b": randn(4)}, ["x", "w", "b"])
 
 

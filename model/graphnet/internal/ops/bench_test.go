@@ -78,6 +78,8 @@ func benchCases() []benchCase {
 				func(in gorgonia.Nodes) (*gorgonia.Node, error) { return LeakyReLU(in[0], 0.33) }},
 			benchCase{fmt.Sprintf("GraphConv_B%d_p%d_F64_G32", B, p), []tensor.Shape{sh(B, p, p), sh(B, p, 64), sh(64, 32)},
 				func(in gorgonia.Nodes) (*gorgonia.Node, error) { return GraphConv(in[0], in[1], in[2]) }},
+			benchCase{fmt.Sprintf("SwapLastAxes_B%d_C64_p%d", B, p), []tensor.Shape{sh(B, 64, p)},
+				func(in gorgonia.Nodes) (*gorgonia.Node, error) { return SwapLastAxes(in[0]) }},
 			benchCase{fmt.Sprintf("Dense_B%d_O64xp%d_G128", B, p), []tensor.Shape{sh(B, 64, p), sh(64*p, 128), sh(128)},
 				func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Dense(in[0], in[1], in[2]) }},
 		)
@@ -116,6 +118,7 @@ func TestNoAllocSteadyState(t *testing.T) {
 		{"GraphConv", []tensor.Shape{sh(2, 4, 4), sh(2, 4, 3), sh(3, 2)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return GraphConv(in[0], in[1], in[2]) }},
 		{"Dense", []tensor.Shape{sh(2, 3, 4), sh(12, 5), sh(5)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Dense(in[0], in[1], in[2]) }},
 		{"Dropout", []tensor.Shape{sh(2, 3), sh(2, 3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Dropout(in[0], in[1]) }},
+		{"SwapLastAxes", []tensor.Shape{sh(2, 3, 4)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return SwapLastAxes(in[0]) }},
 	}
 	for _, c := range cases {
 		for _, dt := range []tensor.Dtype{tensor.Float32, tensor.Float64} {

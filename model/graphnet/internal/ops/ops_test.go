@@ -161,6 +161,25 @@ func opCases() []opCase {
 			ref:    denseRef(B, P*F, G),
 		})
 	}
+	for _, s := range []tensor.Shape{sh(2, 3, 4), sh(1, 5, 2)} {
+		B, M, K := s[0], s[1], s[2]
+		cases = append(cases, opCase{
+			name:   fmt.Sprintf("SwapLastAxes/%v", s),
+			shapes: []tensor.Shape{s},
+			build:  func(in gorgonia.Nodes) (*gorgonia.Node, error) { return SwapLastAxes(in[0]) },
+			ref: func(in [][]float64) []float64 {
+				y := make([]float64, len(in[0]))
+				for n := 0; n < B; n++ {
+					for i := 0; i < M; i++ {
+						for j := 0; j < K; j++ {
+							y[(n*K+j)*M+i] = in[0][(n*M+i)*K+j]
+						}
+					}
+				}
+				return y
+			},
+		})
+	}
 	for _, s := range []tensor.Shape{sh(2, 3), sh(2, 2, 3, 3)} {
 		s := s
 		cases = append(cases, opCase{

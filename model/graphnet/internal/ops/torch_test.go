@@ -38,7 +38,7 @@ func readNpy(t *testing.T, name string) ([]float64, tensor.Shape) {
 // L = Σ out ⊙ r with PyTorch 1.13 (Debian's python3-torch, a general-purpose
 // reference library); the fixtures and the script that made them are in
 // testdata/ops (make_fixtures.py builds each op from torch's conv2d, bmm,
-// matmul and leaky_relu). Tolerances: 1e-10 in float64, 1e-5 relative in
+// matmul, transpose and leaky_relu). Tolerances: 1e-10 in float64, 1e-5 relative in
 // float32 (|got−want| / max(1, |want|)).
 func TestAgainstPyTorch(t *testing.T) {
 	cases := []struct {
@@ -54,6 +54,7 @@ func TestAgainstPyTorch(t *testing.T) {
 		{"leaky", []string{"x"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return LeakyReLU(in[0], 0.2) }},
 		{"gconv_narrow", []string{"s", "h", "w"}, []bool{true, false, false}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return GraphConv(in[0], in[1], in[2]) }},
 		{"gconv_wide", []string{"s", "h", "w"}, []bool{true, false, false}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return GraphConv(in[0], in[1], in[2]) }},
+		{"swap", []string{"x"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return SwapLastAxes(in[0]) }},
 		{"dense", []string{"x", "w", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Dense(in[0], in[1], in[2]) }},
 	}
 	for _, fc := range cases {
