@@ -39,7 +39,7 @@ func Load(src Source, pre Preprocess, baseDir string) (*Cohort, error) {
 //
 // Other problems exclude one participant with a reason in
 // Cohort.Excluded and the report: no matrix file (or no stack entry) for a
-// modality, no value in every target column, no value in the group column.
+// modality, no value in any target column, no value in the group column.
 // A participant missing some but not all scores is kept with NaN there.
 //
 // When fewer than src.MinParticipants are left Check returns the report

@@ -257,7 +257,7 @@ func (r *Report) WriteText(w io.Writer) error {
 	}
 	fmt.Fprintf(&b, "outliers (more than %g robust SD from the median; flagged, not excluded): %d\n", r.OutlierSD, len(r.Outliers))
 	for _, o := range r.Outliers {
-		fmt.Fprintf(&b, "  %s: %s %.4g (median %.4g, robust SD %.3g: %+.1f robust SD)\n", o.ID, o.Measure, o.Value, o.Median, o.RobustSD, o.RobustZ)
+		fmt.Fprintf(&b, "  %s: %s %.4g (median %.4g, robust SD %.3g, robust z = %+.1f)\n", o.ID, o.Measure, o.Value, o.Median, o.RobustSD, o.RobustZ)
 	}
 	if len(r.Unlisted) > 0 {
 		fmt.Fprintf(&b, "unlisted (matrices with no table row, not used): %d\n", len(r.Unlisted))
