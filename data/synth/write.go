@@ -41,8 +41,9 @@ const (
 //
 // dir must not exist or be an empty folder (otherwise the error wraps
 // ErrExists). Everything is written into a fresh sibling folder
-// "DIR.tmp-*" that is renamed to dir only once complete, so a failed Write
-// never leaves a folder that looks whole.
+// "DIR.tmp-*" that becomes dir (or whose files move into the empty folder
+// dir, experiment.toml last) only once complete, so a failed Write never
+// leaves a folder that looks whole.
 func Write(dir string, c *Cohort, format string) error {
 	return write(dir, c, format, false)
 }
@@ -62,7 +63,10 @@ func write(dir string, c *Cohort, format string, replace bool) error {
 			return fmt.Errorf("synth: participant_id %q cannot name a file", part.ID)
 		}
 	}
-	dir = filepath.Clean(dir)
+	dir, err := filepath.Abs(dir) // so that "." has a parent to write beside
+	if err != nil {
+		return err
+	}
 	existing, err := checkTarget(dir, replace)
 	if err != nil {
 		return err
@@ -90,6 +94,9 @@ func write(dir string, c *Cohort, format string, replace bool) error {
 		}
 		return nil
 	}
+	if !replace { // an empty folder: keep it (it may be the working folder) and move the files in
+		return moveInto(tmp, dir)
+	}
 	// Move the old folder aside, put the new one in place, then delete the
 	// old one; put it back if the swap fails.
 	aside, err := os.MkdirTemp(parent, filepath.Base(dir)+".old-")
@@ -111,6 +118,38 @@ func write(dir string, c *Cohort, format string, replace bool) error {
 	return os.RemoveAll(aside)
 }
 
+// moveInto moves every entry of the complete folder tmp into the empty
+// folder dir, experiment.toml last so that dir looks whole only once it is,
+// and removes tmp.
+func moveInto(tmp, dir string) error {
+	defer os.RemoveAll(tmp)
+	entries, err := os.ReadDir(tmp)
+	if err != nil {
+		return err
+	}
+	var moved []string
+	undo := func(err error) error {
+		for _, name := range moved {
+			os.RemoveAll(filepath.Join(dir, name))
+		}
+		return err
+	}
+	last := "experiment.toml"
+	for _, e := range entries {
+		if e.Name() == last {
+			continue
+		}
+		if err := os.Rename(filepath.Join(tmp, e.Name()), filepath.Join(dir, e.Name())); err != nil {
+			return undo(err)
+		}
+		moved = append(moved, e.Name())
+	}
+	if err := os.Rename(filepath.Join(tmp, last), filepath.Join(dir, last)); err != nil {
+		return undo(err)
+	}
+	return nil
+}
+
 // checkTarget reports whether dir exists as a folder that must be replaced,
 // or an error if it may not be written.
 func checkTarget(dir string, replace bool) (existing bool, err error) {
@@ -129,7 +168,7 @@ func checkTarget(dir string, replace bool) (existing bool, err error) {
 		return false, err
 	}
 	if len(entries) > 0 && !replace {
-		return false, fmt.Errorf("synth: folder %s %w (%d entries)", dir, ErrExists, len(entries))
+		return false, fmt.Errorf("output folder %s %w (%d entries)", dir, ErrExists, len(entries))
 	}
 	return true, nil
 }
