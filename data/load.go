@@ -579,7 +579,11 @@ func (l *loader) checkMatrix(m *modality, f *matrixFile) error {
 	}
 	r, c := a.Dims()
 	if r != c {
-		return at(-1, -1, "matrix is %d × %d; expected a square p × p matrix", r, c)
+		hint := ""
+		if f.where != nil && (r == c+1 || c == r+1) {
+			hint = " (labels that are numbers are read as values: a header row or label column must not be numbers)"
+		}
+		return at(-1, -1, "matrix is %d × %d; expected a square p × p matrix%s", r, c, hint)
 	}
 	if r < 2 {
 		return at(-1, -1, "matrix is %d × %d; expected at least 2 regions", r, c)

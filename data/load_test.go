@@ -347,6 +347,9 @@ func TestCheckSmallCohorts(t *testing.T) {
 			tol := 1e-3
 			s.Functional.SymmetryTolerance = &tol
 		}, "", []string{"R001", "R002"}, 2},
+		{"numeric header", func(f map[string]string, s *Source) {
+			f["fc/s1.txt"] = "1 2 3\n" + fc
+		}, "fc/s1.txt: matrix is 4 × 3; expected a square p × p matrix (labels that are numbers are read as values", nil, 0},
 		{"one region", func(f map[string]string, s *Source) {
 			f["fc/s1.txt"] = "1\n"
 		}, "fc/s1.txt: matrix is 1 × 1; expected at least 2 regions", nil, 0},
