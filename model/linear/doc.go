@@ -1,4 +1,27 @@
 // Package linear holds the baselines every graph network is judged against:
-// the mean predictor, ridge and kernel ridge regression on connectome edges,
-// and connectome-based predictive modelling. Each is a model.Regressor.
+// the mean predictor (Mean), ridge regression on connectome edges (Ridge),
+// kernel ridge regression between participants (KernelRidge) and
+// connectome-based predictive modelling (CPM). Each is a model.Regressor
+// and a model.ColumnWise; Config chooses one from the [model.mean],
+// [model.ridge], [model.kernel_ridge] or [model.cpm] table of an
+// experiment file.
+//
+// The baselines read a participant's connectome as its edges: the upper
+// triangle (i < j) of the p × p matrix, p(p−1)/2 values in the order of
+// Edges; input = "both" puts the structural edges after the functional
+// ones. Scores come as the n × T matrix of a model.Dataset, NaN where a
+// score is missing; each column is fitted on the participants whose score
+// it holds (standardization and inner folds included) and columns are
+// independent of each other, so the permutation test may stack permuted
+// scores as extra columns. Columns that miss the same scores share their
+// work; a different missing pattern costs its own factorization, so
+// permuted columns should keep each score's missing participants.
+//
+// Ridge and KernelRidge choose their penalty per column by inner k-fold
+// cross-validation over the training fold (train and valid together),
+// keeping participants who share a Group in one inner fold. Both solve
+// every penalty of the grid from one eigendecomposition of the n × n
+// kernel per inner fold (or, for ridge with fewer edges than participants,
+// one SVD of the edges), so a grid and many columns cost little more than
+// one fit.
 package linear
