@@ -72,6 +72,9 @@ func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
 		if fs.NArg() == 0 {
 			return positional, nil
 		}
+		if used := len(args) - fs.NArg(); used > 0 && args[used-1] == "--" {
+			return append(positional, fs.Args()...), nil // "--" ends the flags
+		}
 		positional = append(positional, fs.Arg(0))
 		args = fs.Args()[1:]
 	}

@@ -170,6 +170,7 @@ func TestCheckUsage(t *testing.T) {
 		{[]string{"--verbose", "a.toml"}, exitBadInput, "flag provided but not defined: -verbose"},
 		{[]string{"no-such-experiment.toml"}, exitBadInput, "no-such-experiment.toml"},
 		{[]string{"-h"}, exitOK, "usage: skein check EXPERIMENT.toml [--json]"},
+		{[]string{"--", "--json"}, exitBadInput, "--json: no such file"},
 	} {
 		code, _, stderr := runCheck(t, tc.args...)
 		if code != tc.code || !strings.Contains(stderr, tc.want) {
