@@ -31,8 +31,8 @@ func (t *textMatrix) position(i, j int) (line, column int) {
 // first column holds region labels when every data row's first cell is not
 // a number, or when the header is one cell shorter than the data rows.
 // When both a header and a label column are present they must agree.
-// Blank lines are skipped; a leading UTF-8 byte order mark is dropped.
-// Every other cell must be a number (strconv.ParseFloat syntax; "NaN" and
+// Blank lines are skipped; a leading UTF-8 byte order mark is dropped; a
+// separator ending a line is ignored. Every other cell must be a number (strconv.ParseFloat syntax; "NaN" and
 // "Inf" parse and are caught by the finiteness check). Rows may have any
 // equal length; squareness is checked by the caller.
 func parseMatrixText(path string, raw []byte) (*textMatrix, error) {
@@ -134,9 +134,14 @@ func parseMatrixText(path string, raw []byte) (*textMatrix, error) {
 	return t, nil
 }
 
+// splitOn splits a line on sep, trims each field and drops one empty
+// field after a trailing separator.
 func splitOn(sep string) func(string) []string {
 	return func(line string) []string {
-		fields := strings.Split(line, sep)
+		fields := strings.Split(strings.TrimRight(line, " "), sep)
+		if len(fields) > 1 && strings.TrimSpace(fields[len(fields)-1]) == "" {
+			fields = fields[:len(fields)-1]
+		}
 		for i, f := range fields {
 			fields[i] = strings.TrimSpace(f)
 		}

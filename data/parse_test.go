@@ -78,6 +78,7 @@ func TestParseMatrixText(t *testing.T) {
 		{"header without corner", "a b\na 1 0.5\nb 0.5 1\n", ab, 2, 1},
 		{"label column", "\ufeff\"a\",1,0.5\r\n\"b\",0.5,1\r\n", ab, 1, 1},
 		{"blank lines first", "\n\n1 0.5\n0.5 1\n", nil, 3, 0},
+		{"trailing separators", "1,0.5,\n0.5,1, \n", nil, 1, 0},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			tm, err := parseMatrixText("m.txt", []byte(tc.raw))
@@ -102,7 +103,8 @@ func TestParseMatrixTextErrors(t *testing.T) {
 		{"empty", " \n", "m.txt: file is empty; expected rows of numbers"},
 		{"header only", "a\tb\n", "m.txt: line 1: found a header row but no rows of numbers"},
 		{"not a number", "1\t0.5\n0.5\tabc\n", `m.txt: line 2, column 2: value "abc" is not a number`},
-		{"not a number after labels", "x\ta\tb\na\t1\t0.5\nb\t0.5\t\n", `m.txt: line 3, column 3: value "" is not a number`},
+		{"missing last value", "x\ta\tb\na\t1\t0.5\nb\t0.5\t\n", "m.txt: line 3: found 2 fields, expected 3 as on line 2"},
+		{"empty value", "x\ta\tb\na\t1\t0.5\nb\t\t1\n", `m.txt: line 3, column 2: value "" is not a number`},
 		{"n/a cell", "1 n/a\n0.5 1\n", `m.txt: line 1, column 2: value "n/a" is not a number`},
 		{"ragged", "1,0.5\n0.5\n", "m.txt: line 2: found 1 fields, expected 2 as on line 1"},
 		{"header too long", "a\tb\tc\td\n1\t0.5\n0.5\t1\n", "m.txt: line 1: header row has 4 labels, expected 2"},
