@@ -25,3 +25,7 @@
 // one SVD of the edges), so a grid and many columns cost little more than
 // one fit.
 package linear
+
+// The matrix products go through gonum's blas64, which the openblas build
+// tag points at OpenBLAS (see internal/blas).
+import _ "github.com/skein-neuro/skein/internal/blas"
