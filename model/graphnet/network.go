@@ -104,7 +104,8 @@ func (n *Network) History() []model.Epoch { return append([]model.Epoch(nil), n.
 // holds the remainder), for cfg.Epochs epochs. With a non-empty valid set,
 // it computes the validation loss after every epoch, stops after
 // cfg.Patience epochs without improvement (0: never) and restores the
-// weights of the best epoch. The loss of an epoch is the mean over every
+// weights of the best epoch; a validation set whose scores are all missing
+// counts as none. The loss of an epoch is the mean over every
 // present score of the epoch. Fit checks ctx between steps and returns its
 // error when it is done. A loss that becomes NaN, infinite or more than
 // 1e6 times its first-epoch value stops Fit with an error wrapping
