@@ -31,7 +31,7 @@ const (
 const (
 	// AlphaRelative multiplies each alpha by the mean eigenvalue of the
 	// training fold's kernel, trace(K)/n, which for z-scored edges is the
-	// number of edges: the same grid then suits any cohort size.
+	// number of non-constant edges: the same grid then suits any cohort size.
 	AlphaRelative = "relative"
 	// AlphaAbsolute uses each alpha as the penalty itself, as
 	// scikit-learn's Ridge and KernelRidge do.

@@ -123,7 +123,11 @@ func TestAgainstScikitLearn(t *testing.T) {
 				if err != nil {
 					t.Fatal(err)
 				}
-				assertClose(t, pred, denseOf(tc.Predictions), 1e-8)
+				want := denseOf(tc.Predictions)
+				assertClose(t, pred, want, 1e-8)
+				var diff mat.Dense
+				diff.Sub(pred, want)
+				t.Logf("largest difference from scikit-learn %.2g", mat.Norm(&diff, math.Inf(1)))
 			})
 		}
 	}
