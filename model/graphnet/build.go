@@ -178,11 +178,13 @@ func (n *Network) build(batch int, training bool) (*graph, error) {
 		gr.operators = append(gr.operators, sv)
 		h := x
 		in := layerShape{form: edgeForm, width: size{1, 0}}
+		fromData := true // h depends on no weight: its gradient is never needed
 		for li, l := range b.Layers {
 			var opts []ops.Option
-			if h == x {
+			if fromData {
 				opts = append(opts, ops.NoInputGrad())
 			}
+			fromData = fromData && l.Kind == kindDropout
 			switch l.Kind {
 			case kindE2E:
 				h, err = ops.E2E(h, take(), take(), take(), opts...)
