@@ -206,3 +206,21 @@ func contains(s string, subs ...string) bool {
 	}
 	return true
 }
+
+func TestInputDropout(t *testing.T) {
+	const p = 5
+	ps, y := plantedCohort(12, p, 0.5, 6)
+	cfg := testConfig("float32",
+		BranchConfig{Layers: layers(LayerConfig{Kind: kindDropout, Rate: 0.1}, e2e(2), n2g(3))},
+		BranchConfig{Input: "propagated", Layers: layers(LayerConfig{Kind: kindDropout, Rate: 0.1}, gconv(2), n2g(3))})
+	net, err := New(cfg, p, 1, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := net.Fit(context.Background(), dataset(ps, y, 0, 12), model.Dataset{}); err != nil {
+		t.Fatal(err)
+	}
+	if h := net.History(); len(h) != cfg.Epochs || !math.IsNaN(h[0].ValidLoss) || h[0].Best {
+		t.Errorf("history without a validation set: %+v", h)
+	}
+}
