@@ -3,7 +3,10 @@ package eval
 import (
 	"bytes"
 	"context"
+	"encoding/csv"
 	"fmt"
+	"math"
+	"strconv"
 
 	"github.com/skein-neuro/skein/train"
 )
@@ -13,6 +16,11 @@ const (
 	PredictionsFile = "predictions.csv"
 	MetricsFile     = "metrics.json"
 	SummaryFile     = "summary.md"
+	// LearningFile holds the epochs of every iteratively trained unit:
+	// model,repeat,fold,epoch,train_loss,valid_loss,best (repeat and fold
+	// from 0 as in predictions.csv; valid_loss empty without inner
+	// validation; best is 1 on the epoch whose weights were kept).
+	LearningFile = "learning_curves.csv"
 )
 
 // A Report is everything skein concludes from a finished run.
@@ -85,6 +93,11 @@ func (rep *Report) Write(d *train.RunDir) error {
 	if err := d.WriteFile(MetricsFile, buf.Bytes()); err != nil {
 		return err
 	}
+	if raw := learningCSV(rep.Experiment, rep.Result); raw != nil {
+		if err := d.WriteFile(LearningFile, raw); err != nil {
+			return err
+		}
+	}
 	if rep.Nulls != nil {
 		raw, err := WriteNullCSV(rep.Nulls)
 		if err != nil {
@@ -119,4 +132,28 @@ func (rep *Report) WriteMarkdown(buf *bytes.Buffer) error {
 	}
 	buf.WriteString("\n## Comparison\n")
 	return WriteComparisonMarkdown(buf, rep.Comparisons)
+}
+
+// learningCSV returns the learning curves of res as CSV, or nil when no
+// unit trained in epochs.
+func learningCSV(exp *train.Experiment, res *train.Result) []byte {
+	if len(res.Histories) == 0 {
+		return nil
+	}
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	w.Write([]string{"model", "repeat", "fold", "epoch", "train_loss", "valid_loss", "best"})
+	best := map[bool]string{false: "0", true: "1"}
+	for _, u := range res.Units {
+		for _, e := range res.Histories[u] {
+			valid := ""
+			if !math.IsNaN(e.ValidLoss) {
+				valid = strconv.FormatFloat(e.ValidLoss, 'g', -1, 64)
+			}
+			w.Write([]string{exp.Models[u.Model].Name, strconv.Itoa(u.Repeat), strconv.Itoa(u.Fold), strconv.Itoa(e.Epoch),
+				strconv.FormatFloat(e.TrainLoss, 'g', -1, 64), valid, best[e.Best]})
+		}
+	}
+	w.Flush()
+	return buf.Bytes()
 }

@@ -65,3 +65,14 @@ type Iterative interface {
 // ErrDiverged is wrapped by the error of a Fit whose loss became NaN,
 // infinite or exploded; the wrapping error names the epoch.
 var ErrDiverged = errors.New("model: training diverged")
+
+// Interpreter is implemented by regressors that can say which edges drive
+// their predictions: gradient × input saliency for networks, activation
+// patterns for linear models (Haufe et al. 2014).
+type Interpreter interface {
+	Regressor
+	// EdgeImportance returns one p × p symmetric map per target: the
+	// importance of each edge (i, j) for the predictions of ps, averaged
+	// over ps. The runner calls it on each fitted model with its test fold.
+	EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error)
+}

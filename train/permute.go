@@ -168,6 +168,8 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 				Logger:     r.Logger,
 				newModel:   newModel,
 				splits:     splits,
+
+				skipImportance: true,
 			}
 			res, err := sub.Run(ctx)
 			if err != nil {

@@ -13,6 +13,8 @@ import (
 	"strings"
 	"time"
 
+	"gonum.org/v1/gonum/mat"
+
 	"github.com/skein-neuro/skein/model"
 )
 
@@ -159,6 +161,8 @@ type unitFile struct {
 	Fold        int              `json:"fold"`
 	Predictions []unitPrediction `json:"predictions"`
 	History     []unitEpoch      `json:"history,omitempty"`
+	// Importance holds one row-major p × p map per target.
+	Importance [][]float64 `json:"importance,omitempty"`
 }
 
 type unitPrediction struct {
@@ -198,6 +202,9 @@ func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
 		}
 		f.History = append(f.History, ue)
 	}
+	for _, m := range out.importance {
+		f.Importance = append(f.Importance, m.RawMatrix().Data)
+	}
 	raw, err := json.Marshal(f)
 	if err != nil {
 		return fmt.Errorf("checkpoint of model %q, repeat %d, fold %d: %w", name, u.Repeat+1, u.Fold+1, err)
@@ -234,6 +241,13 @@ func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 			me.ValidLoss = *e.ValidLoss
 		}
 		out.history = append(out.history, me)
+	}
+	for _, flat := range f.Importance {
+		p := int(math.Round(math.Sqrt(float64(len(flat)))))
+		if p*p != len(flat) {
+			return unitOutput{}, false, fmt.Errorf("%s: an importance map of %d values is not square", path, len(flat))
+		}
+		out.importance = append(out.importance, mat.NewDense(p, p, flat))
 	}
 	return out, true, nil
 }

@@ -58,8 +58,11 @@ type Result struct {
 	// participant (cohort order) and target (cohort order).
 	Predictions []model.Prediction
 	// Histories holds, per unit of an iteratively trained model, its
-	// epochs, in the order of Units.
+	// epochs.
 	Histories map[Unit][]model.Epoch
+	// Importance holds, per unit of a model.Interpreter, one p × p edge
+	// importance map per target, computed on the unit's test fold.
+	Importance map[Unit][]*mat.Dense
 	// Units lists every unit of the run in order.
 	Units []Unit
 }
@@ -84,6 +87,8 @@ type Runner struct {
 
 	newModel func(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error)
 	splits   []Split // when set, used instead of the experiment's folds
+	// skipImportance leaves out edge importance (permuted runs need none).
+	skipImportance bool
 }
 
 // Run trains and tests every unit and returns the predictions. A failing
@@ -121,7 +126,7 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		}
 	}
 
-	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch)}
+	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense)}
 	for m := range exp.Models {
 		for s, split := range splits {
 			res.Units = append(res.Units, Unit{Model: m, Split: s, Repeat: split.Repeat, Fold: split.Fold})
@@ -195,6 +200,9 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		if outputs[u].history != nil {
 			res.Histories[unit] = outputs[u].history
 		}
+		if outputs[u].importance != nil {
+			res.Importance[unit] = outputs[u].importance
+		}
 	}
 	return res, nil
 }
@@ -239,6 +247,7 @@ func prepareFold(exp *Experiment, cohort *data.Cohort, split Split, y, cov *mat.
 type unitOutput struct {
 	predictions []model.Prediction
 	history     []model.Epoch
+	importance  []*mat.Dense
 }
 
 func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *foldData,
@@ -290,6 +299,11 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 	}
 	if it, ok := reg.(model.Iterative); ok {
 		out.history = it.History()
+	}
+	if in, ok := reg.(model.Interpreter); ok && !r.skipImportance {
+		if out.importance, err = in.EdgeImportance(fd.test); err != nil {
+			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
+		}
 	}
 	if r.Checkpoints != nil {
 		if err := r.Checkpoints.save(cfg.Name, unit, out); err != nil {

@@ -24,7 +24,7 @@ func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(fs.Output(), "scores, covariate codings and outlier flags.")
 		fs.PrintDefaults()
 	}
-	positional, err := parseInterleaved(fs, args)
+	positional, err := parseArgs(fs, args)
 	if err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			return nil
@@ -58,24 +58,4 @@ func writeReport(cio commandIO, r *data.Report, asJSON bool) error {
 	enc := json.NewEncoder(cio.stdout)
 	enc.SetIndent("", "  ")
 	return enc.Encode(r)
-}
-
-// parseInterleaved parses flags that may come before or after the
-// positional arguments ("skein check exp.toml --json") and returns the
-// positional ones.
-func parseInterleaved(fs *flag.FlagSet, args []string) ([]string, error) {
-	var positional []string
-	for {
-		if err := fs.Parse(args); err != nil {
-			return nil, err
-		}
-		if fs.NArg() == 0 {
-			return positional, nil
-		}
-		if used := len(args) - fs.NArg(); used > 0 && args[used-1] == "--" {
-			return append(positional, fs.Args()...), nil // "--" ends the flags
-		}
-		positional = append(positional, fs.Arg(0))
-		args = fs.Args()[1:]
-	}
 }

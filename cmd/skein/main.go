@@ -130,14 +130,13 @@ func parseArgs(fs *flag.FlagSet, args []string) ([]string, error) {
 		if err := fs.Parse(args); err != nil {
 			return nil, err
 		}
-		args = fs.Args()
-		if len(args) == 0 {
+		if fs.NArg() == 0 {
 			return positional, nil
 		}
-		if args[0] == "--" {
-			return append(positional, args[1:]...), nil
+		if used := len(args) - fs.NArg(); used > 0 && args[used-1] == "--" {
+			return append(positional, fs.Args()...), nil
 		}
-		positional = append(positional, args[0])
-		args = args[1:]
+		positional = append(positional, fs.Arg(0))
+		args = fs.Args()[1:]
 	}
 }

@@ -33,7 +33,7 @@ func cmdMetrics(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(w, "Empty, NaN or NA cells are missing values: skipped and counted.")
 		fs.PrintDefaults()
 	}
-	positional, err := parseInterleaved(fs, args)
+	positional, err := parseArgs(fs, args)
 	if err != nil {
 		if errors.Is(err, flag.ErrHelp) {
 			return nil

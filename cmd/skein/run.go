@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"errors"
 	"flag"
 	"fmt"
@@ -27,6 +28,7 @@ const (
 	resolvedFile = "experiment.toml"
 	logFile      = "run.log"
 	versionsFile = "versions.txt"
+	cohortFile   = "cohort.json" // the cohort report of skein check --json
 )
 
 func cmdRun(ctx context.Context, cio commandIO, args []string) error {
@@ -57,7 +59,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if len(exp.Models) == 0 {
 		return badInput(fmt.Errorf("%s: no [[model]] to run", expPath))
 	}
-	cohort, err := data.Load(exp.Cohort, exp.Preprocess, exp.Dir)
+	cohort, cohortReport, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
 	if err != nil {
 		return badInput(err)
 	}
@@ -83,6 +85,13 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		return badInput(err)
 	}
 	if err := rd.WriteFile(resolvedFile, resolved); err != nil {
+		return err
+	}
+	cohortJSON, err := json.MarshalIndent(cohortReport, "", "  ")
+	if err != nil {
+		return err
+	}
+	if err := rd.WriteFile(cohortFile, cohortJSON); err != nil {
 		return err
 	}
 	logOut, err := os.OpenFile(rd.WorkPath(logFile), os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644)
