@@ -76,3 +76,10 @@ type Interpreter interface {
 	// over ps. The runner calls it on each fitted model with its test fold.
 	EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error)
 }
+
+// Saver is implemented by regressors that can be written to a folder and
+// read back (see each kind's package documentation for its format).
+type Saver interface {
+	Regressor
+	Save(dir string) error
+}

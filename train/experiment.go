@@ -31,10 +31,29 @@ type Experiment struct {
 	Models []ModelConfig `toml:"model"`
 	// Permutation is the permutation test ([permutation]).
 	Permutation Permutation `toml:"permutation"`
+	// Output says what a run keeps besides its predictions ([output]).
+	Output Output `toml:"output"`
 
 	// Dir is the folder of the experiment file; relative paths in the file
 	// are taken from it. It is not read from the file.
 	Dir string `toml:"-"`
+}
+
+// Output says what a run keeps besides its predictions: the [output]
+// table of an experiment file.
+type Output struct {
+	// SaveModels keeps every fold's trained model, for models that can be
+	// saved (graph networks), under models/NAME/rR-fF/ of the run folder,
+	// with the target scaling fitted on its training fold. Default true.
+	SaveModels *bool `toml:"save_models"`
+}
+
+// SetDefaults fills every unset field with its documented default.
+func (o *Output) SetDefaults() {
+	if o.SaveModels == nil {
+		t := true
+		o.SaveModels = &t
+	}
 }
 
 // ModelConfig names one model of an experiment and chooses its kind: the
@@ -83,6 +102,7 @@ func (e *Experiment) SetDefaults() {
 	e.Preprocess.SetDefaults()
 	e.CV.SetDefaults()
 	e.Permutation.SetDefaults()
+	e.Output.SetDefaults()
 	for i := range e.Models {
 		e.Models[i].SetDefaults()
 	}

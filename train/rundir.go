@@ -180,14 +180,24 @@ type unitEpoch struct {
 }
 
 func (c *Checkpoints) path(name string, u Unit) string {
+	return filepath.Join(c.dir, unitPath(name, u)+".json")
+}
+
+// unitPath names a unit in file paths: NAME/rR-fF with 1-based repeat and
+// fold, the model name made safe for a file name.
+func unitPath(name string, u Unit) string {
 	safe := strings.Map(func(r rune) rune {
 		if r == '/' || r == '\\' || r == ':' || r < ' ' {
 			return '_'
 		}
 		return r
 	}, name)
-	return filepath.Join(c.dir, safe+"-r"+strconv.Itoa(u.Repeat+1)+"-f"+strconv.Itoa(u.Fold+1)+".json")
+	return filepath.Join(safe, "r"+strconv.Itoa(u.Repeat+1)+"-f"+strconv.Itoa(u.Fold+1))
 }
+
+// ModelsDir returns the folder of the work folder where fold models are
+// saved.
+func (d *RunDir) ModelsDir() string { return filepath.Join(d.Partial, "models") }
 
 func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
 	f := unitFile{Model: name, Repeat: u.Repeat, Fold: u.Fold, Predictions: make([]unitPrediction, len(out.predictions))}

@@ -6,6 +6,7 @@ import (
 	"hash/fnv"
 	"log/slog"
 	"math"
+	"path/filepath"
 	"runtime"
 	"sync"
 	"time"
@@ -84,6 +85,10 @@ type Runner struct {
 	// folder; a unit whose checkpoint exists is read instead of retrained,
 	// which is how an interrupted run resumes.
 	Checkpoints *Checkpoints
+	// Models, when set, is the folder where every fold's trained model is
+	// saved (when the experiment asks for it and the model is a
+	// model.Saver), as Models/NAME/rR-fF/.
+	Models string
 
 	newModel func(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error)
 	splits   []Split // when set, used instead of the experiment's folds
@@ -303,6 +308,11 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 	if in, ok := reg.(model.Interpreter); ok && !r.skipImportance {
 		if out.importance, err = in.EdgeImportance(fd.test); err != nil {
 			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
+		}
+	}
+	if saver, ok := reg.(model.Saver); ok && r.Models != "" && *r.Experiment.Output.SaveModels {
+		if err := saveModel(filepath.Join(r.Models, unitPath(cfg.Name, unit)), saver, fd, r.Cohort, r.Experiment, cfg); err != nil {
+			return unitOutput{}, false, fmt.Errorf("saving the model: %w", err)
 		}
 	}
 	if r.Checkpoints != nil {

@@ -113,6 +113,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		Logger:      fileLog,
 		OnEvent:     show.event,
 		Checkpoints: rd.Checkpoints(),
+		Models:      rd.ModelsDir(),
 	}
 	res, err := runner.Run(ctx)
 	show.finish()
