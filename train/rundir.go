@@ -222,6 +222,11 @@ func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
 	return writeAtomic(c.path(name, u), raw)
 }
 
+func (c *Checkpoints) has(name string, u Unit) bool {
+	_, err := os.Stat(c.path(name, u))
+	return err == nil
+}
+
 func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 	path := c.path(name, u)
 	raw, err := os.ReadFile(path)

@@ -91,3 +91,42 @@ func TestResumeGivesIdenticalResults(t *testing.T) {
 		t.Fatal("resumed run differs from the uninterrupted one")
 	}
 }
+
+// TestUnitsRunSeparatelyMerge runs every unit alone, as the tasks of a
+// batch job would, then merges them from their checkpoints.
+func TestUnitsRunSeparatelyMerge(t *testing.T) {
+	cohort := toyCohort(40, 6, 4, true)
+	exp := toyExperiment(ridgeAndMean()...)
+	whole, err := (&Runner{Experiment: exp, Cohort: cohort}).Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, err := OpenRunDir(filepath.Join(t.TempDir(), "run"), false, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	units, err := (&Runner{Experiment: exp, Cohort: cohort}).Units()
+	if err != nil {
+		t.Fatal(err)
+	}
+	merge := &Runner{Experiment: exp, Cohort: cohort, Checkpoints: d.Checkpoints(), FromCheckpoints: true}
+	for k := range units {
+		if k == 1 {
+			var missing *MissingUnitsError
+			if _, err := merge.Run(context.Background()); !errors.As(err, &missing) || len(missing.Units) != len(units)-1 {
+				t.Fatalf("merge with one unit done: %v, want %d missing units", err, len(units)-1)
+			}
+		}
+		one := &Runner{Experiment: exp, Cohort: cohort, Checkpoints: d.Checkpoints(), Select: []int{k}}
+		if _, err := one.Run(context.Background()); err != nil {
+			t.Fatal(err)
+		}
+	}
+	merged, err := merge.Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !reflect.DeepEqual(merged.Predictions, whole.Predictions) {
+		t.Fatal("merged units differ from a single run")
+	}
+}

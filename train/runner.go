@@ -2,12 +2,15 @@ package train
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"hash/fnv"
 	"log/slog"
 	"math"
 	"path/filepath"
 	"runtime"
+	"slices"
+	"strings"
 	"sync"
 	"time"
 
@@ -94,6 +97,57 @@ type Runner struct {
 	splits   []Split // when set, used instead of the experiment's folds
 	// skipImportance leaves out edge importance (permuted runs need none).
 	skipImportance bool
+
+	// Select, when not nil, restricts the run to these units: indices
+	// into the list Units returns. The Result then holds only theirs.
+	// This is how one unit of a batch job runs.
+	Select []int
+	// FromCheckpoints never trains: every unit must already be in
+	// Checkpoints, and a missing one is a *MissingUnitsError. This is how
+	// the units of a batch job are merged.
+	FromCheckpoints bool
+}
+
+// MissingUnitsError lists the units FromCheckpoints did not find.
+type MissingUnitsError struct {
+	Units []int // indices into the list Units returns
+	Names []string
+}
+
+func (e *MissingUnitsError) Error() string {
+	return fmt.Sprintf("%d units have no checkpoint: %s", len(e.Units), strings.Join(e.Names, ", "))
+}
+
+// Units returns every unit of the run, in the order Run trains them and
+// Select indexes them: model by model, then split by split.
+func (r *Runner) Units() ([]Unit, error) {
+	splits, err := r.planSplits()
+	if err != nil {
+		return nil, err
+	}
+	return unitsOf(len(r.Experiment.Models), splits), nil
+}
+
+func unitsOf(models int, splits []Split) []Unit {
+	var units []Unit
+	for m := 0; m < models; m++ {
+		for s, split := range splits {
+			units = append(units, Unit{Model: m, Split: s, Repeat: split.Repeat, Fold: split.Fold})
+		}
+	}
+	return units
+}
+
+// planSplits returns the run's splits.
+func (r *Runner) planSplits() ([]Split, error) {
+	if r.splits != nil {
+		return r.splits, nil
+	}
+	exp := r.Experiment
+	if err := exp.CV.checkAgainst(r.Cohort); err != nil {
+		return nil, err
+	}
+	return exp.CV.folds(exp.Seed, r.Cohort).Splits(len(r.Cohort.Participants))
 }
 
 // Run trains and tests every unit and returns the predictions. A failing
@@ -110,15 +164,9 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	if newModel == nil {
 		newModel = buildModel
 	}
-	splits := r.splits
-	if splits == nil {
-		if err := exp.CV.checkAgainst(cohort); err != nil {
-			return nil, err
-		}
-		var err error
-		if splits, err = exp.CV.folds(exp.Seed, cohort).Splits(len(cohort.Participants)); err != nil {
-			return nil, err
-		}
+	splits, err := r.planSplits()
+	if err != nil {
+		return nil, err
 	}
 	y, cov, err := scoresAndConfounds(exp.CV, cohort)
 	if err != nil {
@@ -132,9 +180,20 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	}
 
 	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense)}
-	for m := range exp.Models {
-		for s, split := range splits {
-			res.Units = append(res.Units, Unit{Model: m, Split: s, Repeat: split.Repeat, Fold: split.Fold})
+	all := unitsOf(len(exp.Models), splits)
+	res.Units = all
+	if r.Select != nil {
+		res.Units = nil
+		for _, u := range r.Select {
+			if u < 0 || u >= len(all) {
+				return nil, fmt.Errorf("unit %d: the run has units 0 to %d", u, len(all)-1)
+			}
+			res.Units = append(res.Units, all[u])
+		}
+	}
+	if r.FromCheckpoints {
+		if err := r.checkCheckpoints(all, res.Units); err != nil {
+			return nil, err
 		}
 	}
 	jobs := r.Jobs
@@ -210,6 +269,24 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		}
 	}
 	return res, nil
+}
+
+func (r *Runner) checkCheckpoints(all, units []Unit) error {
+	if r.Checkpoints == nil {
+		return errors.New("train: FromCheckpoints without Checkpoints")
+	}
+	missing := &MissingUnitsError{}
+	for _, unit := range units {
+		name := r.Experiment.Models[unit.Model].Name
+		if !r.Checkpoints.has(name, unit) {
+			missing.Units = append(missing.Units, slices.Index(all, unit))
+			missing.Names = append(missing.Names, fmt.Sprintf("%s repeat %d fold %d", name, unit.Repeat+1, unit.Fold+1))
+		}
+	}
+	if len(missing.Units) > 0 {
+		return missing
+	}
+	return nil
 }
 
 // foldData is what every model of one split shares.
