@@ -7,6 +7,7 @@ It rewrites testdata/ops/*.npy. Every case is built from PyTorch's general
 operators, not from skein's code:
   e2e:   conv2d with a (1 x p) kernel (row term, with the bias) plus conv2d
          with a (p x 1) kernel (column term), summed with broadcasting
+  e2e_leaky: leaky_relu (slope 0.2) of e2e
   e2n:   conv2d with a (1 x p) kernel
   leaky: torch.nn.functional.leaky_relu
   gconv: torch.bmm(S, H) @ W
@@ -77,6 +78,9 @@ def main():
     # B, p, F, G: G < F and G > F take the two orders of the products
     for name, (B, p, Fi, G) in {"gconv_narrow": (2, 5, 4, 2), "gconv_wide": (3, 4, 2, 5)}.items():
         case(name, gconv, {"s": randn(B, p, p), "h": randn(B, p, Fi), "w": randn(Fi, G)}, ["h", "w"])
+    B, C, O, p = 2, 2, 3, 5
+    case("e2e_leaky", lambda *a: F.leaky_relu(e2e(*a), 0.2),
+         {"x": randn(B, C, p, p), "wr": randn(O, C, p), "wc": randn(O, C, p), "b": randn(O)}, ["x", "wr", "wc", "b"])
     case("swap", lambda x: x.transpose(1, 2), {"x": randn(2, 3, 5)}, ["x"])
     case("dense", dense, {"x": randn(3, 2, 5), "w": randn(10, 4), "b": randn(4)}, ["x", "w", "b"])
 

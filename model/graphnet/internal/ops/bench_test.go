@@ -70,6 +70,10 @@ func benchCases() []benchCase {
 		cs = append(cs,
 			benchCase{fmt.Sprintf("E2E_first_B%d_C1_O32_p%d", B, p), []tensor.Shape{sh(B, 1, p, p), sh(32, 1, p), sh(32, 1, p), sh(32)},
 				func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2E(in[0], in[1], in[2], in[3], NoInputGrad()) }},
+			benchCase{fmt.Sprintf("E2E+LeakyReLU_first_B%d_C1_O32_p%d", B, p), []tensor.Shape{sh(B, 1, p, p), sh(32, 1, p), sh(32, 1, p), sh(32)},
+				func(in gorgonia.Nodes) (*gorgonia.Node, error) {
+					return E2E(in[0], in[1], in[2], in[3], NoInputGrad(), WithLeakyReLU(0.33))
+				}},
 			benchCase{fmt.Sprintf("E2E_hidden_B%d_C32_O32_p%d", B, p), []tensor.Shape{sh(B, 32, p, p), sh(32, 32, p), sh(32, 32, p), sh(32)},
 				func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2E(in[0], in[1], in[2], in[3]) }},
 			benchCase{fmt.Sprintf("E2N_B%d_C32_O64_p%d", B, p), []tensor.Shape{sh(B, 32, p, p), sh(64, 32, p), sh(64)},
@@ -112,6 +116,9 @@ func BenchmarkForwardBackward(b *testing.B) {
 func TestNoAllocSteadyState(t *testing.T) {
 	cases := []benchCase{
 		{"E2E", []tensor.Shape{sh(2, 2, 5, 5), sh(3, 2, 5), sh(3, 2, 5), sh(3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2E(in[0], in[1], in[2], in[3]) }},
+		{"E2E/WithLeakyReLU", []tensor.Shape{sh(2, 2, 5, 5), sh(3, 2, 5), sh(3, 2, 5), sh(3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) {
+			return E2E(in[0], in[1], in[2], in[3], WithLeakyReLU(0.1))
+		}},
 		{"E2E/C1", []tensor.Shape{sh(2, 1, 5, 5), sh(3, 1, 5), sh(3, 1, 5), sh(3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2E(in[0], in[1], in[2], in[3]) }},
 		{"E2N", []tensor.Shape{sh(2, 2, 5, 5), sh(3, 2, 5), sh(3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2N(in[0], in[1], in[2]) }},
 		{"LeakyReLU", []tensor.Shape{sh(2, 3, 4)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return LeakyReLU(in[0], 0.1) }},

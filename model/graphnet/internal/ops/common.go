@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"hash"
 	"hash/fnv"
+	"math"
 	"unsafe"
 
 	"github.com/chewxy/hm"
@@ -25,6 +26,8 @@ type Option func(*options)
 
 type options struct {
 	noInputGrad bool
+	leaky       bool    // the output goes through a leaky rectifier
+	slope       float64 // of the leaky rectifier
 }
 
 // NoInputGrad tells an op that its data input (x of E2E and E2N, h of
@@ -33,12 +36,44 @@ type options struct {
 // for that gradient is then an error.
 func NoInputGrad() Option { return func(o *options) { o.noInputGrad = true } }
 
-func collect(opts []Option) options {
+// WithLeakyReLU makes E2E apply the leaky rectifier of LeakyReLU to its
+// output in the same pass: E2E(x, wr, wc, b, WithLeakyReLU(s)) equals
+// LeakyReLU(E2E(x, wr, wc, b), s) and saves a pass over, and a buffer of,
+// the (B, O, p, p) output forward and backward. slope must be ≥ 0 (the
+// backward pass reads the sign of the input from the output). Only E2E
+// accepts it.
+func WithLeakyReLU(slope float64) Option {
+	return func(o *options) { o.leaky, o.slope = true, slope }
+}
+
+// collect applies opts for the op called name; leakyOK says whether it
+// accepts WithLeakyReLU.
+func collect(name string, opts []Option, leakyOK bool) (options, error) {
 	var o options
 	for _, f := range opts {
 		f(&o)
 	}
-	return o
+	if o.leaky {
+		if !leakyOK {
+			return o, fmt.Errorf("ops: %s does not accept WithLeakyReLU", name)
+		}
+		if !(o.slope >= 0) || math.IsInf(o.slope, 1) {
+			return o, fmt.Errorf("ops: %s: WithLeakyReLU slope %v, want a finite slope ≥ 0", name, o.slope)
+		}
+	}
+	return o, nil
+}
+
+// leakyFactors are the factors by which the leaky rectifier multiplies an
+// input whose sign bit is 0 (index 0) or 1 (index 1).
+func leakyFactors[T float](slope float64) [2]T { return [2]T{1, T(slope)} }
+
+// signBit is 1 if v has its sign bit set (v < 0 or v is -0), else 0.
+func signBit[T float](v T) uint64 {
+	if is64[T]() {
+		return math.Float64bits(float64(v)) >> 63
+	}
+	return uint64(math.Float32bits(float32(v)) >> 31)
 }
 
 // is64 reports whether T is float64.

@@ -30,10 +30,14 @@ func GraphConv(s, h, w *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if hs[0] != B || hs[1] != P || hs[2] != F {
 		return nil, fmt.Errorf("ops: GraphConv: h has shape %v, want (%d, %d, %d) (B, p, F) to match s %v and w %v", hs, B, P, F, ss, ws)
 	}
+	o, err := collect("GraphConv", opts, false)
+	if err != nil {
+		return nil, err
+	}
 	op := &graphConvOp{
 		base: newBase(fmt.Sprintf("GraphConv(%v·%v)", hs, ws), shapes, tensor.Shape{B, P, G}),
 		B:    B, P: P, F: F, G: G,
-		opts:     collect(opts),
+		opts:     o,
 		tmpShape: tensor.Shape{B, P, min(F, G)},
 	}
 	return gorgonia.ApplyOp(op, s, h, w)
@@ -152,10 +156,14 @@ func Dense(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if shapes[2][0] != G {
 		return nil, fmt.Errorf("ops: Dense: b has shape %v, want (%d)", shapes[2], G)
 	}
+	o, err := collect("Dense", opts, false)
+	if err != nil {
+		return nil, err
+	}
 	op := &denseOp{
 		base: newBase(fmt.Sprintf("Dense(%v·%v)", xs, ws), shapes, tensor.Shape{B, G}),
 		B:    B, F: F, G: G,
-		opts: collect(opts),
+		opts: o,
 	}
 	return gorgonia.ApplyOp(op, x, w, b)
 }

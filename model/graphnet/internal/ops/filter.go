@@ -16,7 +16,8 @@ import (
 // and wc are (O, C, p), b is (O); the result is (B, O, p, p). Each output
 // edge (i, j) sees row i and column j of every input channel. The inputs
 // need not be symmetric. It is differentiable with respect to all four
-// inputs (x only without NoInputGrad).
+// inputs (x only without NoInputGrad). With WithLeakyReLU(slope) the
+// result is put through the leaky rectifier in the same pass.
 func E2E(x, wr, wc, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	shapes, err := nodeShapes("E2E", []*gorgonia.Node{x, wr, wc, b}, 4, 3, 3, 1)
 	if err != nil {
@@ -35,10 +36,14 @@ func E2E(x, wr, wc, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if shapes[3][0] != O {
 		return nil, fmt.Errorf("ops: E2E: b has shape %v, want (%d)", shapes[3], O)
 	}
+	o, err := collect("E2E", opts, true)
+	if err != nil {
+		return nil, err
+	}
 	op := &e2eOp{
 		base:    newBase(fmt.Sprintf("E2E(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P, P}),
 		dims:    filterDims{B: B, C: C, O: O, P: P},
-		opts:    collect(opts),
+		opts:    o,
 		rcShape: tensor.Shape{2, O, B, P},
 	}
 	op.rows = newRowCache(op.dims)
@@ -69,10 +74,14 @@ func E2N(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if shapes[2][0] != O {
 		return nil, fmt.Errorf("ops: E2N: b has shape %v, want (%d)", shapes[2], O)
 	}
+	o, err := collect("E2N", opts, false)
+	if err != nil {
+		return nil, err
+	}
 	op := &e2nOp{
 		base:      newBase(fmt.Sprintf("E2N(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P}),
 		dims:      filterDims{B: B, C: C, O: O, P: P},
-		opts:      collect(opts),
+		opts:      o,
 		termShape: tensor.Shape{O, B, P},
 	}
 	op.rows = newRowCache(op.dims)
@@ -220,8 +229,9 @@ func biasGrad[T float](d filterDims, g, db []T) {
 }
 
 // e2eForward computes the row and column terms into rc (2, O, B, p) and
-// then, in one fused loop, H[n,o,i,j] = R[o,n,i] + Cc[o,n,j] + b[o].
-func e2eForward[T float](d filterDims, cache *rowCache, x, wr, wc, b, rc, h []T) {
+// then, in one fused loop, H[n,o,i,j] = R[o,n,i] + Cc[o,n,j] + b[o], put
+// through the leaky rectifier if opt.leaky.
+func e2eForward[T float](d filterDims, opt options, cache *rowCache, x, wr, wc, b, rc, h []T) {
 	rowTerm(d, fillRows(d, cache, x), wr, rc)
 	colTerm(d, x, wc, rc[d.termSize():])
 	B, O, P := d.B, d.O, d.P
@@ -234,6 +244,14 @@ func e2eForward[T float](d filterDims, cache *rowCache, x, wr, wc, b, rc, h []T)
 			for i, ri := range r {
 				ri += bo
 				row := blk[i*P:][:P]
+				if opt.leaky {
+					f := leakyFactors[T](opt.slope)
+					for j, cj := range cc {
+						v := ri + cj
+						row[j] = v * f[signBit(v)]
+					}
+					continue
+				}
 				for j, cj := range cc {
 					row[j] = ri + cj
 				}
@@ -243,20 +261,54 @@ func e2eForward[T float](d filterDims, cache *rowCache, x, wr, wc, b, rc, h []T)
 }
 
 // edgeSums sets s (2, O, B, p) to the row sums dR[o,n,i] = Σ_j G[n,o,i,j]
-// and the column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p).
-func edgeSums[T float](d filterDims, g, s []T) {
+// and the column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p). With
+// y (the output of an E2E with WithLeakyReLU, same shape as g), G is g
+// times the derivative of the rectifier, read from the sign of y.
+func edgeSums[T float](d filterDims, g, y []T, slope float64, s []T) {
 	B, O, P := d.B, d.O, d.P
+	f := leakyFactors[T](slope)
 	for n := 0; n < B; n++ {
 		for o := 0; o < O; o++ {
 			blk := g[(n*O+o)*P*P:][:P*P]
 			r := s[(o*B+n)*P:][:P]
 			cc := s[d.termSize()+(o*B+n)*P:][:P]
 			clear(cc)
+			if y == nil {
+				for i := range r {
+					r[i] = sumAndAccumulate(blk[i*P:][:P], cc)
+				}
+				continue
+			}
+			yblk := y[(n*O+o)*P*P:][:P*P]
 			for i := range r {
-				r[i] = sumAndAccumulate(blk[i*P:][:P], cc)
+				r[i] = sumAndAccumulateLeaky(blk[i*P:][:P], yblk[i*P:][:P], cc, f)
 			}
 		}
 	}
+}
+
+// sumAndAccumulateLeaky is sumAndAccumulate of row[j]·f[sign bit of y[j]].
+func sumAndAccumulateLeaky[T float](row, y, acc []T, f [2]T) T {
+	acc, y = acc[:len(row)], y[:len(row)]
+	var s0, s1 T
+	j := 0
+	for ; j+2 <= len(row); j += 2 {
+		v := row[j : j+2 : j+2]
+		w := y[j : j+2 : j+2]
+		a := acc[j : j+2 : j+2]
+		v0 := v[0] * f[signBit(w[0])]
+		v1 := v[1] * f[signBit(w[1])]
+		s0 += v0
+		s1 += v1
+		a[0] += v0
+		a[1] += v1
+	}
+	for ; j < len(row); j++ {
+		v := row[j] * f[signBit(y[j])]
+		s0 += v
+		acc[j] += v
+	}
+	return s0 + s1
 }
 
 // sumAndAccumulate returns Σ row and adds row to acc (len(acc) ≥ len(row)),
@@ -301,9 +353,9 @@ func (op *e2eOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	d := op.dims
 	rc := op.rc.get(dt, op.rcShape)
 	if dt == tensor.Float64 {
-		e2eForward(d, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
+		e2eForward(d, op.opts, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
 	} else {
-		e2eForward(d, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
+		e2eForward(d, op.opts, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
 	}
 	return out, nil
 }
@@ -317,7 +369,14 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	d := op.dims
 	x, wr, wc := inputs[0], inputs[1], inputs[2]
 	sumsShape := op.rcShape
-	sums, err := gorgonia.ApplyOp(&edgeSumsOp{base: newBase("E2ESums", []tensor.Shape{op.out}, sumsShape), dims: d}, grad)
+	var sums *gorgonia.Node
+	var err error
+	if op.opts.leaky {
+		es := &edgeSumsOp{base: newBase(fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope), []tensor.Shape{op.out, op.out}, sumsShape), dims: d, slope: op.opts.slope}
+		sums, err = gorgonia.ApplyOp(es, grad, output)
+	} else {
+		sums, err = gorgonia.ApplyOp(&edgeSumsOp{base: newBase("E2ESums", []tensor.Shape{op.out}, sumsShape), dims: d}, grad)
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -411,10 +470,20 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	return grads, nil
 }
 
-// edgeSumsOp: (B, O, p, p) -> (2, O, B, p), see edgeSums.
+// edgeSumsOp: inputs dH (B, O, p, p) and, after a fused leaky rectifier,
+// the output H; result (2, O, B, p), see edgeSums.
 type edgeSumsOp struct {
 	base
-	dims filterDims
+	dims  filterDims
+	slope float64
+}
+
+func sums[T float](op *edgeSumsOp, in []*tensor.Dense, out *tensor.Dense) {
+	var y []T
+	if len(in) == 2 {
+		y = slice[T](in[1])
+	}
+	edgeSums(op.dims, slice[T](in[0]), y, op.slope, slice[T](out))
 }
 
 func (op *edgeSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -423,9 +492,9 @@ func (op *edgeSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	if dt == tensor.Float64 {
-		edgeSums(op.dims, slice[float64](in[0]), slice[float64](out))
+		sums[float64](op, in, out)
 	} else {
-		edgeSums(op.dims, slice[float32](in[0]), slice[float32](out))
+		sums[float32](op, in, out)
 	}
 	return out, nil
 }

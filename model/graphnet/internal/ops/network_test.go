@@ -1,6 +1,7 @@
 package ops
 
 import (
+	"math"
 	"testing"
 
 	"gorgonia.org/gorgonia"
@@ -146,5 +147,24 @@ func TestNoInputGrad(t *testing.T) {
 	}
 	if _, err := gorgonia.Grad(cost, x); err == nil {
 		t.Error("gorgonia.Grad with respect to x succeeded with NoInputGrad")
+	}
+}
+
+// TestOptionErrors checks that options are refused where they do not apply.
+func TestOptionErrors(t *testing.T) {
+	g := gorgonia.NewGraph()
+	x := gorgonia.NewTensor(g, tensor.Float64, 4, gorgonia.WithShape(1, 1, 3, 3), gorgonia.WithName("x"), gorgonia.WithInit(gorgonia.Ones()))
+	w := gorgonia.NewTensor(g, tensor.Float64, 3, gorgonia.WithShape(2, 1, 3), gorgonia.WithName("w"), gorgonia.WithInit(gorgonia.Ones()))
+	b := gorgonia.NewVector(g, tensor.Float64, gorgonia.WithShape(2), gorgonia.WithName("b"), gorgonia.WithInit(gorgonia.Zeroes()))
+	if _, err := E2N(x, w, b, WithLeakyReLU(0.1)); err == nil {
+		t.Error("E2N accepted WithLeakyReLU")
+	}
+	for _, slope := range []float64{-0.1, math.NaN(), math.Inf(1)} {
+		if _, err := E2E(x, w, w, b, WithLeakyReLU(slope)); err == nil {
+			t.Errorf("E2E accepted WithLeakyReLU(%v)", slope)
+		}
+	}
+	if _, err := E2E(x, w, b, b); err == nil {
+		t.Error("E2E accepted a wc of shape (2)")
 	}
 }

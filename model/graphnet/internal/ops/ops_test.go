@@ -146,6 +146,17 @@ func opCases() []opCase {
 			})
 		}
 	}
+	for _, slope := range []float64{0.2, 0} {
+		const B, C, O, P = 2, 2, 3, 4
+		cases = append(cases, opCase{
+			name:   fmt.Sprintf("E2E/B%dC%dO%dp%d/WithLeakyReLU(%g)", B, C, O, P, slope),
+			shapes: []tensor.Shape{sh(B, C, P, P), sh(O, C, P), sh(O, C, P), sh(O)},
+			build: func(in gorgonia.Nodes) (*gorgonia.Node, error) {
+				return E2E(in[0], in[1], in[2], in[3], WithLeakyReLU(slope))
+			},
+			ref: func(in [][]float64) []float64 { return leakyRef(slope, e2eRef(B, C, O, P)(in)) },
+		})
+	}
 	for _, d := range []struct{ B, P, F, G int }{{2, 4, 3, 2}, {2, 5, 2, 3}, {1, 3, 1, 1}} {
 		B, P, F, G := d.B, d.P, d.F, d.G
 		cases = append(cases, opCase{

@@ -49,6 +49,9 @@ func TestAgainstPyTorch(t *testing.T) {
 	}{
 		{"e2e_c3", []string{"x", "wr", "wc", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2E(in[0], in[1], in[2], in[3]) }},
 		{"e2e_c1", []string{"x", "wr", "wc", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2E(in[0], in[1], in[2], in[3]) }},
+		{"e2e_leaky", []string{"x", "wr", "wc", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) {
+			return E2E(in[0], in[1], in[2], in[3], WithLeakyReLU(0.2))
+		}},
 		{"e2n_c3", []string{"x", "w", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2N(in[0], in[1], in[2]) }},
 		{"e2n_c1", []string{"x", "w", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2N(in[0], in[1], in[2]) }},
 		{"leaky", []string{"x"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return LeakyReLU(in[0], 0.2) }},
