@@ -48,9 +48,24 @@ func Load(src Source, pre Preprocess, baseDir string) (*Cohort, error) {
 // The statistics of the report and the outlier flags are computed on the
 // matrices as read, before preprocessing.
 func Check(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error) {
+	return check(src, pre, baseDir, false)
+}
+
+// CheckUnscored is Check for participants whose scores are unknown, such
+// as the ones a saved model is asked to predict: src.Targets is ignored,
+// the table needs no score columns, and nobody is excluded for lacking
+// scores. The cohort's Targets are empty and each Participant.Scores is
+// nil.
+func CheckUnscored(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error) {
+	src = src.clone()
+	src.Targets = nil
+	return check(src, pre, baseDir, true)
+}
+
+func check(src Source, pre Preprocess, baseDir string, unscored bool) (*Cohort, *Report, error) {
 	src = src.clone()
 	src.SetDefaults()
-	if err := src.Validate(); err != nil {
+	if err := src.validate(!unscored); err != nil {
 		return nil, nil, err
 	}
 	pre.SetDefaults()
@@ -174,7 +189,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 				reasons = append(reasons, reason)
 			}
 		}
-		if allNaN(r.scores) {
+		if len(l.src.Targets) > 0 && allNaN(r.scores) {
 			reasons = append(reasons, fmt.Sprintf("no value in any target column (%s)", strings.Join(l.src.Targets, ", ")))
 		}
 		if l.src.Group != "" && r.group == "" {

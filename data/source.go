@@ -134,14 +134,18 @@ func (s *Source) SetDefaults() {
 }
 
 // Validate reports the first setting that cannot work, naming its key.
-func (s Source) Validate() error {
+func (s Source) Validate() error { return s.validate(true) }
+
+// validate is Validate; needTargets is false for participants to be
+// predicted, whose scores are unknown.
+func (s Source) validate(needTargets bool) error {
 	if s.Participants == "" {
 		return errors.New(`cohort: key "participants" is required`)
 	}
 	if ext := strings.ToLower(filepath.Ext(s.Participants)); ext != ".tsv" && ext != ".csv" {
 		return fmt.Errorf("cohort.participants: %q must end in .tsv or .csv, found %q", s.Participants, ext)
 	}
-	if len(s.Targets) == 0 {
+	if needTargets && len(s.Targets) == 0 {
 		return errors.New(`cohort: key "targets" needs at least one score column`)
 	}
 	seen := map[string]string{}

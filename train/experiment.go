@@ -46,6 +46,10 @@ type Output struct {
 	// saved (graph networks), under models/NAME/rR-fF/ of the run folder,
 	// with the target scaling fitted on its training fold. Default true.
 	SaveModels *bool `toml:"save_models"`
+	// Refit also trains every model that can be saved on all
+	// participants after the cross-validation and keeps it under
+	// models/NAME/all/, for predicting new participants. Default false.
+	Refit bool `toml:"refit"`
 }
 
 // SetDefaults fills every unset field with its documented default.

@@ -316,12 +316,14 @@ func prepareFold(exp *Experiment, cohort *data.Cohort, split Split, y, cov *mat.
 		valid:      model.Dataset{Participants: pick(cohort, validIdx)},
 		test:       pick(cohort, split.Test),
 		testIdx:    split.Test,
-		observed:   prep.Observed(y, cov, split.Test),
 		innerSeed:  seed,
 		targetName: cohort.Targets,
 	}
 	if len(validIdx) > 0 {
 		fd.valid.Y = prep.Standardized(y, cov, validIdx)
+	}
+	if len(split.Test) > 0 {
+		fd.observed = prep.Observed(y, cov, split.Test)
 	}
 	return fd, nil
 }

@@ -48,6 +48,7 @@ func commands() []command {
 		{"check", "load and check the cohort of an experiment file", cmdCheck},
 		{"run", "cross-validate every model of an experiment file", cmdRun},
 		{"metrics", "score predictions in a CSV file", cmdMetrics},
+		{"predict", "predict new participants with a saved model", cmdPredict},
 	}
 }
 

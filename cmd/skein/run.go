@@ -127,6 +127,13 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		}
 		return err
 	}
+	if exp.Output.Refit {
+		fmt.Fprintln(cio.stderr, "skein run: refitting on all participants")
+		if err := runner.Refit(ctx); err != nil {
+			fileLog.Error("refit failed", "error", err.Error())
+			return err
+		}
+	}
 	if exp.Permutation.Count > 0 {
 		fmt.Fprintf(cio.stderr, "skein run: permutation test, %d permutations\n", exp.Permutation.Count)
 	}

@@ -1,0 +1,89 @@
+package train
+
+import (
+	"fmt"
+	"slices"
+
+	"github.com/skein-neuro/skein/model"
+)
+
+// The kinds of BatchUnit.
+const (
+	// BatchModel trains one model on one fold of one repeat (a Unit).
+	BatchModel = "model"
+	// BatchPermutations runs one model's whole cross-validation under a
+	// block of permutations of the scores.
+	BatchPermutations = "permutations"
+)
+
+// A BatchUnit is one piece of a run that a batch job runs on its own,
+// independently of every other: a Unit of the cross-validation, or a block
+// of the permutation test for one model.
+type BatchUnit struct {
+	Index int    // position in the plan, from 0
+	Kind  string // BatchModel or BatchPermutations
+	Model string // the model's name
+	// Unit and Select are set for BatchModel: the unit and its index
+	// into the list Runner.Units returns (Runner.Select).
+	Unit   Unit
+	Select int
+	// First and End are set for BatchPermutations: the block holds
+	// permutations First to End-1 (from 0) of Permutations' list.
+	First, End int
+}
+
+// BatchUnits splits the run of r into independent units: first every Unit
+// of Units, in its order, then, when the experiment has a permutation
+// test, each tested model's permutations in blocks of about block
+// permutations (block ≤ 0 means permutation.chunk). For models that fit
+// score columns together (model.ColumnWise) a block is rounded up to a
+// multiple of permutation.chunk, so that the blocks fit the same chunks of
+// permutations as a single-machine run and give the same numbers.
+func (r *Runner) BatchUnits(block int) ([]BatchUnit, error) {
+	units, err := r.Units()
+	if err != nil {
+		return nil, err
+	}
+	var plan []BatchUnit
+	for k, u := range units {
+		plan = append(plan, BatchUnit{Index: len(plan), Kind: BatchModel, Model: r.Experiment.Models[u.Model].Name, Unit: u, Select: k})
+	}
+	pc := r.Experiment.Permutation
+	if pc.Count == 0 {
+		return plan, nil
+	}
+	if block <= 0 {
+		block = pc.Chunk
+	}
+	for _, m := range r.Experiment.Models {
+		if len(pc.Models) > 0 && !slices.Contains(pc.Models, m.Name) {
+			continue
+		}
+		step, err := r.permutationStep(m)
+		if err != nil {
+			return nil, err
+		}
+		size := (block + step - 1) / step * step
+		for first := 0; first < pc.Count; first += size {
+			plan = append(plan, BatchUnit{Index: len(plan), Kind: BatchPermutations, Model: m.Name, First: first, End: min(first+size, pc.Count)})
+		}
+	}
+	return plan, nil
+}
+
+// permutationStep returns how many permutations RunPermutations fits at
+// once for m: permutation.chunk for a model.ColumnWise, else 1.
+func (r *Runner) permutationStep(m ModelConfig) (int, error) {
+	newModel := r.newModel
+	if newModel == nil {
+		newModel = buildModel
+	}
+	probe, err := newModel(m, r.Cohort.P(), len(r.Cohort.Targets), 0)
+	if err != nil {
+		return 0, fmt.Errorf("model %q: %w", m.Name, err)
+	}
+	if _, ok := probe.(model.ColumnWise); ok {
+		return max(1, r.Experiment.Permutation.Chunk), nil
+	}
+	return 1, nil
+}
