@@ -1,6 +1,8 @@
 // Package ops holds the fused gorgonia operations of the graph-filter
-// networks: edge-to-edge and edge-to-node filters, graph convolution, a
-// dense layer with its bias, leaky ReLU and inverted dropout.
+// networks: edge-to-edge and edge-to-node filters (E2E, optionally with its
+// leaky rectifier fused in, and E2N), graph convolution (GraphConv), a
+// dense layer with its bias (Dense), leaky ReLU, inverted dropout and a
+// batched transpose (SwapLastAxes).
 //
 // Each function returns a node of the caller's expression graph; each op
 // is differentiable by gorgonia's symbolic differentiation (gorgonia.Grad),

@@ -7,8 +7,7 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// E2E is the edge-to-edge cross-shaped filter of Kawahara et al. (2017,
-// BrainNetCNN):
+// E2E is the edge-to-edge cross-shaped filter of Kawahara et al. (2017):
 //
 //	H[n,o,i,j] = Σ_c Σ_k (Wr[o,c,k]·X[n,c,i,k] + Wc[o,c,k]·X[n,c,k,j]) + b[o]
 //
@@ -50,7 +49,7 @@ func E2E(x, wr, wc, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	return gorgonia.ApplyOp(op, x, wr, wc, b)
 }
 
-// E2N is the edge-to-node filter of Kawahara et al. (2017, BrainNetCNN):
+// E2N is the edge-to-node filter of Kawahara et al. (2017):
 //
 //	N[n,o,i] = Σ_c Σ_k W[o,c,k]·X[n,c,i,k] + b[o]
 //
