@@ -33,6 +33,10 @@ type Experiment struct {
 	Permutation Permutation `toml:"permutation"`
 	// Output says what a run keeps besides its predictions ([output]).
 	Output Output `toml:"output"`
+	// Drift is the rule a rerun is held to against an earlier run ([drift]).
+	Drift Drift `toml:"drift"`
+	// SampleSize asks for the sample-size curve ([sample_size]).
+	SampleSize SampleSize `toml:"sample_size"`
 
 	// Dir is the folder of the experiment file; relative paths in the file
 	// are taken from it. It is not read from the file.
@@ -107,6 +111,8 @@ func (e *Experiment) SetDefaults() {
 	e.CV.SetDefaults()
 	e.Permutation.SetDefaults()
 	e.Output.SetDefaults()
+	e.Drift.SetDefaults()
+	e.SampleSize.SetDefaults()
 	for i := range e.Models {
 		e.Models[i].SetDefaults()
 	}
@@ -124,6 +130,12 @@ func (e *Experiment) Validate() error {
 		return err
 	}
 	if err := e.Permutation.Validate(e.Models); err != nil {
+		return err
+	}
+	if err := e.Drift.Validate(e.Models); err != nil {
+		return err
+	}
+	if err := e.SampleSize.Validate(e.Models); err != nil {
 		return err
 	}
 	seen := make(map[string]bool)

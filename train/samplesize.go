@@ -1,0 +1,159 @@
+package train
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+
+	"github.com/skein-neuro/skein/model"
+)
+
+// SampleSize asks for the sample-size curve: each model is trained again on
+// nested subsets of every training fold and tested on the same test fold,
+// which shows how accuracy depends on the number of training participants
+// (small samples inflate and scatter brain–behaviour effects: Marek et al.
+// 2022, "Reproducible brain-wide association studies require thousands of
+// individuals", Nature). It is the [sample_size] table of an experiment
+// file.
+type SampleSize struct {
+	// Fractions are the sizes of the training subsets as fractions of the
+	// training fold, each in (0, 1], ascending. Empty (the default) draws
+	// no curve.
+	Fractions []float64 `toml:"fractions"`
+	// Models names the models trained on subsets; empty (the default)
+	// trains all.
+	Models []string `toml:"models"`
+}
+
+// SetDefaults fills every unset field with its documented default.
+func (s *SampleSize) SetDefaults() {
+	if s.Fractions == nil {
+		s.Fractions = []float64{}
+	}
+	if s.Models == nil {
+		s.Models = []string{}
+	}
+}
+
+// Validate reports the first setting that cannot work, naming its key.
+func (s SampleSize) Validate(models []ModelConfig) error {
+	for i, f := range s.Fractions {
+		if !(f > 0 && f <= 1) {
+			return fmt.Errorf("sample_size.fractions[%d]: want a fraction in (0, 1], found %v", i, f)
+		}
+		if i > 0 && f <= s.Fractions[i-1] {
+			return fmt.Errorf("sample_size.fractions[%d]: want ascending fractions, found %v after %v", i, f, s.Fractions[i-1])
+		}
+	}
+	for _, name := range s.Models {
+		if !slices.ContainsFunc(models, func(m ModelConfig) bool { return m.Name == name }) {
+			return fmt.Errorf("sample_size.models: no model is named %q", name)
+		}
+	}
+	return nil
+}
+
+// SampleSizeRun is the cross-validation of the chosen models with every
+// training fold cut down to one fraction.
+type SampleSizeRun struct {
+	Fraction float64
+	// Splits are the run's splits with Train cut to the subset; Test is
+	// the full test fold.
+	Splits []Split
+	// Predictions are ordered as Result.Predictions.
+	Predictions []model.Prediction
+}
+
+// SubsetSplits returns, for each fraction, the splits with every training
+// fold cut to a nested subset: the training participants' groups (single
+// participants without a grouping column) are shuffled once per split,
+// seeded by seed, repeat and fold, and the subset for fraction f is the
+// shortest prefix of that order whose size is closest to f times the
+// training fold (at least one group). Groups are never cut, each subset
+// holds the smaller ones, and a subset is never larger than its fold.
+// groups is as Folds.Groups (nil for none).
+func SubsetSplits(splits []Split, groups []string, fractions []float64, seed int64) [][]Split {
+	out := make([][]Split, len(fractions))
+	for _, s := range splits {
+		var units [][]int
+		index := make(map[string]int)
+		for _, i := range s.Train {
+			key := fmt.Sprint(i)
+			if groups != nil {
+				key = groups[i]
+			}
+			u, ok := index[key]
+			if !ok {
+				u = len(units)
+				index[key] = u
+				units = append(units, nil)
+			}
+			units[u] = append(units[u], i)
+		}
+		h := unitSeed(seed, "sample_size", s.Repeat, s.Fold)
+		rng := rand.New(rand.NewPCG(h, 0x5a3d1e))
+		rng.Shuffle(len(units), func(a, b int) { units[a], units[b] = units[b], units[a] })
+		cum := make([]int, len(units)+1) // cum[k]: participants in the first k units
+		for k, u := range units {
+			cum[k+1] = cum[k] + len(u)
+		}
+		for fi, f := range fractions {
+			want := f * float64(len(s.Train))
+			best := 1
+			for k := 2; k <= len(units); k++ {
+				if math.Abs(float64(cum[k])-want) < math.Abs(float64(cum[best])-want) {
+					best = k
+				}
+			}
+			var train []int
+			for _, u := range units[:best] {
+				train = append(train, u...)
+			}
+			slices.Sort(train)
+			out[fi] = append(out[fi], Split{Repeat: s.Repeat, Fold: s.Fold, Train: train, Test: s.Test})
+		}
+	}
+	return out
+}
+
+// RunSampleSizes cross-validates the models ss names (all when none) once
+// per fraction of ss, on the run's splits with each training fold cut to
+// the nested subsets of SubsetSplits. Target scaling, confound regression
+// and inner validation are fitted on each subset alone; units are seeded
+// as in Run, so the fraction 1 reproduces Run's predictions. Nothing is
+// checkpointed or saved.
+func (r *Runner) RunSampleSizes(ctx context.Context, ss SampleSize) ([]SampleSizeRun, error) {
+	exp := r.Experiment
+	splits, err := r.planSplits()
+	if err != nil {
+		return nil, err
+	}
+	var models []ModelConfig
+	for _, m := range exp.Models {
+		if len(ss.Models) == 0 || slices.Contains(ss.Models, m.Name) {
+			models = append(models, m)
+		}
+	}
+	subsets := SubsetSplits(splits, Groups(r.Cohort), ss.Fractions, exp.Seed)
+	runs := make([]SampleSizeRun, len(ss.Fractions))
+	for fi, f := range ss.Fractions {
+		sub := &Runner{
+			Experiment: &Experiment{Seed: exp.Seed, CV: exp.CV, Models: models, Output: exp.Output},
+			Cohort:     r.Cohort,
+			Jobs:       r.Jobs,
+			Logger:     r.Logger,
+			newModel:   r.newModel,
+			splits:     subsets[fi],
+
+			skipImportance: true,
+		}
+		res, err := sub.Run(ctx)
+		if err != nil {
+			return nil, fmt.Errorf("sample size %g of each training fold: %w", f, err)
+		}
+		runs[fi] = SampleSizeRun{Fraction: f, Splits: subsets[fi], Predictions: res.Predictions}
+	}
+	return runs, nil
+}
