@@ -30,14 +30,18 @@ type Report struct {
 	Rows        []Prediction
 	Summary     *Summary
 	Nulls       []NullDistribution // nil without a permutation test
+	// SampleSize is the sample-size curve; nil unless the experiment asks
+	// for one ([sample_size]).
+	SampleSize []SampleSizeRow
 	Comparisons []Comparison
 	// Participants and Excluded count the cohort.
 	Participants, Excluded int
 }
 
 // Evaluate scores the run r produced as res: metrics per model and target,
-// the permutation test when the experiment asks for one (which retrains
-// models, so it takes time), and the comparison with the best baseline.
+// the permutation test and the sample-size curve when the experiment asks
+// for them (both retrain models, so they take time), and the comparison
+// with the best baseline.
 // bins ≤ 0 means DefaultBins.
 func Evaluate(ctx context.Context, r *train.Runner, res *train.Result, bins int) (*Report, error) {
 	exp := r.Experiment
@@ -53,6 +57,13 @@ func Evaluate(ctx context.Context, r *train.Runner, res *train.Result, bins int)
 			return nil, fmt.Errorf("permutation test: %w", err)
 		}
 		rep.Nulls = nulls
+	}
+	if len(exp.SampleSize.Fractions) > 0 {
+		runs, err := r.RunSampleSizes(ctx, exp.SampleSize)
+		if err != nil {
+			return nil, fmt.Errorf("sample-size curve: %w", err)
+		}
+		rep.SampleSize = SampleSizeCurve(runs)
 	}
 	baselines := make(map[string]bool)
 	for _, m := range exp.Models {
@@ -76,7 +87,8 @@ func Evaluate(ctx context.Context, r *train.Runner, res *train.Result, bins int)
 }
 
 // Write writes predictions.csv, metrics.json, summary.md and, after a
-// permutation test, permutations.csv into the work folder of d; they
+// permutation test, permutations.csv and, with a sample-size curve,
+// sample_size.csv into the work folder of d; they
 // appear in the run folder when d is committed.
 func (rep *Report) Write(d *train.RunDir) error {
 	var buf bytes.Buffer
@@ -104,6 +116,15 @@ func (rep *Report) Write(d *train.RunDir) error {
 			return err
 		}
 		if err := d.WriteFile(PermutationFile, raw); err != nil {
+			return err
+		}
+	}
+	if rep.SampleSize != nil {
+		raw, err := sampleSizeBytes(rep.SampleSize)
+		if err != nil {
+			return err
+		}
+		if err := d.WriteFile(SampleSizeFile, raw); err != nil {
 			return err
 		}
 	}

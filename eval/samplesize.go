@@ -1,0 +1,163 @@
+package eval
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"sort"
+	"strconv"
+
+	"github.com/skein-neuro/skein/train"
+)
+
+// SampleSizeFile holds the sample-size curve of a run:
+// model,target,fraction,n_train,repeat,fold,pearson_r,mae, one line per
+// model, target, fraction and test fold (repeat and fold from 0 as in
+// predictions.csv; n_train counts the training subset, inner validation
+// part included; an undefined value is empty).
+const SampleSizeFile = "sample_size.csv"
+
+// A SampleSizeRow is one model's accuracy on one target and one test fold
+// after training on a subset of the training fold.
+type SampleSizeRow struct {
+	Model, Target string
+	Fraction      float64 // of the training fold
+	NTrain        int     // participants in the training subset
+	Repeat, Fold  int
+	Pearson, MAE  float64 // on the test fold; NaN when undefined
+}
+
+// SampleSizeCurve scores the runs of train.Runner.RunSampleSizes fold by
+// fold. Rows are ordered by model, target, fraction, repeat and fold.
+func SampleSizeCurve(runs []train.SampleSizeRun) []SampleSizeRow {
+	var rows []SampleSizeRow
+	for _, run := range runs {
+		nTrain := make(map[[2]int]int)
+		for _, s := range run.Splits {
+			nTrain[[2]int{s.Repeat, s.Fold}] = len(s.Train)
+		}
+		type key struct {
+			model, target string
+			repeat, fold  int
+		}
+		pairs := make(map[key][2][]float64)
+		var keys []key
+		for _, p := range run.Predictions {
+			k := key{p.Model, p.Target, p.Repeat, p.Fold}
+			v, ok := pairs[k]
+			if !ok {
+				keys = append(keys, k)
+			}
+			v[0] = append(v[0], p.Observed)
+			v[1] = append(v[1], p.Predicted)
+			pairs[k] = v
+		}
+		for _, k := range keys {
+			obs, pred, _ := CompletePairs(pairs[k][0], pairs[k][1])
+			rows = append(rows, SampleSizeRow{
+				Model: k.model, Target: k.target, Fraction: run.Fraction,
+				NTrain: nTrain[[2]int{k.repeat, k.fold}], Repeat: k.repeat, Fold: k.fold,
+				Pearson: Pearson(obs, pred), MAE: MAE(obs, pred),
+			})
+		}
+	}
+	sort.SliceStable(rows, func(a, b int) bool {
+		ra, rb := rows[a], rows[b]
+		switch {
+		case ra.Model != rb.Model:
+			return ra.Model < rb.Model
+		case ra.Target != rb.Target:
+			return ra.Target < rb.Target
+		case ra.Fraction != rb.Fraction:
+			return ra.Fraction < rb.Fraction
+		case ra.Repeat != rb.Repeat:
+			return ra.Repeat < rb.Repeat
+		}
+		return ra.Fold < rb.Fold
+	})
+	return rows
+}
+
+var sampleSizeColumns = []string{"model", "target", "fraction", "n_train", "repeat", "fold", "pearson_r", "mae"}
+
+// WriteSampleSizeCSV writes rows as sample_size.csv.
+func WriteSampleSizeCSV(w io.Writer, rows []SampleSizeRow) error {
+	cw := csv.NewWriter(w)
+	cw.Write(sampleSizeColumns)
+	for _, r := range rows {
+		cw.Write([]string{r.Model, r.Target, strconv.FormatFloat(r.Fraction, 'g', -1, 64), strconv.Itoa(r.NTrain),
+			strconv.Itoa(r.Repeat), strconv.Itoa(r.Fold), formatCell(r.Pearson), formatCell(r.MAE)})
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+func formatCell(x float64) string {
+	if math.IsNaN(x) {
+		return ""
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64)
+}
+
+// ReadSampleSizeCSV reads a file WriteSampleSizeCSV wrote; name is used in
+// errors, which are *ParseError values naming the line and column.
+func ReadSampleSizeCSV(r io.Reader, name string) ([]SampleSizeRow, error) {
+	cr := csv.NewReader(r)
+	header, err := cr.Read()
+	if err != nil {
+		return nil, csvError(name, err)
+	}
+	for c, want := range sampleSizeColumns {
+		if c >= len(header) || header[c] != want {
+			found := "nothing"
+			if c < len(header) {
+				found = strconv.Quote(header[c])
+			}
+			return nil, &ParseError{File: name, Line: 1, Column: c + 1, Err: fmt.Errorf("want column %q, found %s", want, found)}
+		}
+	}
+	var rows []SampleSizeRow
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			return rows, nil
+		}
+		if err != nil {
+			return nil, csvError(name, err)
+		}
+		line, _ := cr.FieldPos(0)
+		bad := func(c int, err error) error {
+			return &ParseError{File: name, Line: line, Column: c + 1, Name: sampleSizeColumns[c], Err: err}
+		}
+		row := SampleSizeRow{Model: rec[0], Target: rec[1]}
+		if row.Fraction, err = strconv.ParseFloat(rec[2], 64); err != nil || !(row.Fraction > 0 && row.Fraction <= 1) {
+			return nil, bad(2, fmt.Errorf("want a fraction in (0, 1], found %q", rec[2]))
+		}
+		for c, dst := range []*int{3: &row.NTrain, 4: &row.Repeat, 5: &row.Fold} {
+			if dst == nil {
+				continue
+			}
+			if *dst, err = strconv.Atoi(rec[c]); err != nil || *dst < 0 {
+				return nil, bad(c, fmt.Errorf("want a whole number ≥ 0, found %q", rec[c]))
+			}
+		}
+		for c, dst := range []*float64{6: &row.Pearson, 7: &row.MAE} {
+			if dst == nil {
+				continue
+			}
+			if *dst, err = parseValue(rec[c]); err != nil {
+				return nil, bad(c, err)
+			}
+		}
+		rows = append(rows, row)
+	}
+}
+
+// sampleSizeBytes returns rows as the content of sample_size.csv.
+func sampleSizeBytes(rows []SampleSizeRow) ([]byte, error) {
+	var buf bytes.Buffer
+	err := WriteSampleSizeCSV(&buf, rows)
+	return buf.Bytes(), err
+}
