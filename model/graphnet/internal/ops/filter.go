@@ -201,17 +201,28 @@ func colGradW[T float](d filterDims, g, x, dw []T) {
 	}
 }
 
-// rowGradX sets (or adds to) dXrow the value Gᵀ·W.
-func rowGradX[T float](d filterDims, g, w, dxr []T, add bool) {
+// rowGradX sets (or adds to) dXrow the value Gᵀ·W, from gt = Gᵀ as a
+// (B, p, O) tensor, so that the product has no transposed operand (gonum's
+// pure-Go Gemm is slowest with a transposed first operand).
+func rowGradX[T float](d filterDims, gt, w, dxr []T, add bool) {
 	B, C, O, P := d.B, d.C, d.O, d.P
-	gemm(true, false, B*P, C*P, O, 1, g, B*P, w, C*P, betaFor[T](!add), dxr, C*P)
+	gemm(false, false, B*P, C*P, O, 1, gt, O, w, C*P, betaFor[T](!add), dxr, C*P)
 }
 
-// colGradX sets dX_n = Wᵀ·G_n.
-func colGradX[T float](d filterDims, g, w, dx []T) {
+// colGradX sets dX_n = Wᵀ·G_n, from wt = Wᵀ (C·p × O).
+func colGradX[T float](d filterDims, g, wt, dx []T) {
 	B, C, O, P := d.B, d.C, d.O, d.P
 	for n := 0; n < B; n++ {
-		gemm(true, false, C*P, P, O, 1, w, C*P, g[n*P:], B*P, 0, dx[n*C*P*P:], P)
+		gemm(false, false, C*P, P, O, 1, wt, O, g[n*P:], B*P, 0, dx[n*C*P*P:], P)
+	}
+}
+
+// transposeInto sets dst (cols × rows) to the transpose of src (rows × cols).
+func transposeInto[T float](src []T, rows, cols int, dst []T) {
+	for r := 0; r < rows; r++ {
+		for c, v := range src[r*cols:][:cols] {
+			dst[c*rows+r] = v
+		}
 	}
 }
 
@@ -259,8 +270,9 @@ func e2eForward[T float](d filterDims, opt options, cache *rowCache, x, wr, wc, 
 	}
 }
 
-// edgeSums sets s (2, O, B, p) to the row sums dR[o,n,i] = Σ_j G[n,o,i,j]
-// and the column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p). With
+// edgeSums sets s (3, O, B, p) to the row sums dR[o,n,i] = Σ_j G[n,o,i,j],
+// the column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p), and the
+// row sums again laid out as (B, p, O), dRt[n,i,o] = dR[o,n,i]. With
 // y (the output of an E2E with WithLeakyReLU, same shape as g), G is g
 // times the derivative of the rectifier, read from the sign of y.
 func edgeSums[T float](d filterDims, g, y []T, slope float64, s []T) {
@@ -281,6 +293,12 @@ func edgeSums[T float](d filterDims, g, y []T, slope float64, s []T) {
 			yblk := y[(n*O+o)*P*P:][:P*P]
 			for i := range r {
 				r[i] = sumAndAccumulateLeaky(blk[i*P:][:P], yblk[i*P:][:P], cc, f)
+			}
+		}
+		rt := s[2*d.termSize()+n*P*O:][:P*O]
+		for o := 0; o < O; o++ {
+			for i, v := range s[(o*B+n)*P:][:P] {
+				rt[i*O+o] = v
 			}
 		}
 	}
@@ -367,7 +385,7 @@ func (op *e2eOp) DiffWRT(int) []bool { return []bool{!op.opts.noInputGrad, true,
 func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
 	d := op.dims
 	x, wr, wc := inputs[0], inputs[1], inputs[2]
-	sumsShape := op.rcShape
+	sumsShape := tensor.Shape{3, d.O, d.B, d.P}
 	var sums *gorgonia.Node
 	var err error
 	if op.opts.leaky {
@@ -381,7 +399,7 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	}
 	grads := make(gorgonia.Nodes, 4)
 	if !op.opts.noInputGrad {
-		gx := newGradXOp("E2EGradX", d, []tensor.Shape{sumsShape, op.in[1], op.in[2]}, op.in[0])
+		gx := newGradXOp("E2EGradX", d, []tensor.Shape{sumsShape, op.in[1], op.in[2]}, op.in[0], 2*d.termSize())
 		if grads[0], err = gorgonia.ApplyOp(gx, sums, wr, wc); err != nil {
 			return nil, err
 		}
@@ -453,8 +471,13 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	}
 	grads := make(gorgonia.Nodes, 3)
 	if !op.opts.noInputGrad {
-		gx := newGradXOp("E2NGradX", d, []tensor.Shape{op.termShape, op.in[1]}, op.in[0])
-		if grads[0], err = gorgonia.ApplyOp(gx, g, w); err != nil {
+		gtShape := tensor.Shape{d.B, d.P, d.O}
+		gt, err := gorgonia.ApplyOp(&swapOp{base: newBase("E2NGradTermT", []tensor.Shape{op.out}, gtShape)}, grad)
+		if err != nil {
+			return nil, err
+		}
+		gx := newGradXOp("E2NGradX", d, []tensor.Shape{gtShape, op.in[1]}, op.in[0], 0)
+		if grads[0], err = gorgonia.ApplyOp(gx, gt, w); err != nil {
 			return nil, err
 		}
 	}
@@ -525,33 +548,46 @@ func (op *transposeOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	return out, nil
 }
 
-// gradXOp: the gradient with respect to x of a row term (inputs g, w; E2N)
-// or of a row plus a column term (inputs g, wr, wc; E2E), g holding the
-// terms' gradients as (O, B, p) matrices (the row one first).
+// gradXOp: the gradient with respect to x of a row term (inputs g, w;
+// E2N) or of a row plus a column term (inputs g, wr, wc; E2E). g holds the
+// row term's gradient transposed, as (B, p, O), at g[rowsT:], and for E2E
+// the column term's gradient as (O, B, p) at g[O·B·p:] (see edgeSums).
 type gradXOp struct {
 	base
 	dims     filterDims
+	rowsT    int
 	dxr      buffer // dXrow, (B, p, C, p), when C > 1
 	dxrShape tensor.Shape
+	wt       buffer // Wcᵀ, (C·p, O), for E2E
+	wtShape  tensor.Shape
 }
 
-func newGradXOp(name string, d filterDims, in []tensor.Shape, out tensor.Shape) *gradXOp {
-	return &gradXOp{base: newBase(name, in, out), dims: d, dxrShape: tensor.Shape{d.B, d.P, d.C, d.P}}
+func newGradXOp(name string, d filterDims, in []tensor.Shape, out tensor.Shape, rowsT int) *gradXOp {
+	return &gradXOp{
+		base:     newBase(name, in, out),
+		dims:     d,
+		rowsT:    rowsT,
+		dxrShape: tensor.Shape{d.B, d.P, d.C, d.P},
+		wtShape:  tensor.Shape{d.C * d.P, d.O},
+	}
 }
 
 func gradX[T float](op *gradXOp, in []*tensor.Dense, out *tensor.Dense) {
 	d := op.dims
 	g, dx := slice[T](in[0]), slice[T](out)
+	gt := g[op.rowsT:]
 	withCols := len(in) == 3
 	if withCols {
-		colGradX(d, g[d.termSize():], slice[T](in[2]), dx)
+		wt := slice[T](op.wt.get(dtypeOf[T](), op.wtShape))
+		transposeInto(slice[T](in[2]), d.O, d.C*d.P, wt)
+		colGradX(d, g[d.termSize():], wt, dx)
 	}
 	if d.C == 1 { // Xrow is x
-		rowGradX(d, g, slice[T](in[1]), dx, withCols)
+		rowGradX(d, gt, slice[T](in[1]), dx, withCols)
 		return
 	}
 	dxr := slice[T](op.dxr.get(dtypeOf[T](), op.dxrShape))
-	rowGradX(d, g, slice[T](in[1]), dxr, false)
+	rowGradX(d, gt, slice[T](in[1]), dxr, false)
 	unpermute(d, dxr, dx, withCols)
 }
 

@@ -24,7 +24,7 @@ func TestTensorInnerAxisSum(t *testing.T) {
 	at := func(n, o, i, j int) float64 { return g[((n*O+o)*P+i)*P+j] }
 
 	d := filterDims{B: B, O: O, P: P, C: 1}
-	sums := make([]float64, 2*O*B*P)
+	sums := make([]float64, 3*O*B*P)
 	edgeSums(d, g, nil, 0, sums)
 	for n := 0; n < B; n++ {
 		for o := 0; o < O; o++ {
@@ -39,6 +39,9 @@ func TestTensorInnerAxisSum(t *testing.T) {
 				}
 				if got := sums[d.termSize()+(o*B+n)*P+k]; got != col {
 					t.Errorf("column sum [%d,%d,%d] = %v, want %v", n, o, k, got, col)
+				}
+				if got := sums[2*d.termSize()+(n*P+k)*O+o]; got != row {
+					t.Errorf("transposed row sum [%d,%d,%d] = %v, want %v", n, k, o, got, row)
 				}
 			}
 		}
