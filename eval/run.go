@@ -30,12 +30,12 @@ type Report struct {
 	Rows        []Prediction
 	Summary     *Summary
 	Nulls       []NullDistribution // nil without a permutation test
-	// SampleSize is the sample-size curve; nil unless the experiment asks
-	// for one ([sample_size]).
-	SampleSize []SampleSizeRow
 	Comparisons []Comparison
 	// Participants and Excluded count the cohort.
 	Participants, Excluded int
+	// SampleSize is the sample-size curve; nil unless the experiment asks
+	// for one ([sample_size]).
+	SampleSize []SampleSizeRow
 }
 
 // Evaluate scores the run r produced as res: metrics per model and target,
