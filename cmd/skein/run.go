@@ -39,8 +39,9 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	force := fs.Bool("force", false, "replace an existing run folder once the new run has finished")
 	resume := fs.Bool("resume", false, "finish an interrupted run in the same folder")
 	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins for NMI")
+	unit := fs.Int("unit", 0, "run only unit `K` of the plan in --out (skein plan); default $SLURM_ARRAY_TASK_ID when --out holds a plan")
 	fs.Usage = func() {
-		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume]")
+		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume] [--unit K]")
 		fs.PrintDefaults()
 	}
 	positional, err := parseArgs(fs, args)
@@ -52,6 +53,11 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		return badInput(errors.New("want one experiment file"))
 	}
 	expPath := positional[0]
+	if k, ok, err := unitIndex(fs, *unit, *out); err != nil {
+		return err
+	} else if ok {
+		return runUnit(ctx, cio, expPath, *out, k, *jobs)
+	}
 	exp, err := train.ReadExperiment(expPath)
 	if err != nil {
 		return badInput(err)

@@ -1,0 +1,204 @@
+package eval
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"slices"
+	"strconv"
+
+	"github.com/skein-neuro/skein/train"
+)
+
+// NullScores are one model's pooled scores on one target under one
+// permutation of the scores: one value of a NullDistribution. A
+// permutation test run in blocks (skein plan) writes them per block and
+// assembles them with AssembleNulls.
+type NullScores struct {
+	Model, Target string
+	Permutation   int // index into the permutations, from 0
+	Scores
+}
+
+// ScoreNullRun scores one model's predictions under one permutation as
+// PermutationTest does: pooled over all test predictions, per target, in
+// target order, with bins equal-frequency bins for the NMI.
+func ScoreNullRun(run train.NullRun, bins int) []NullScores {
+	rows := make([]Prediction, len(run.Predictions))
+	for i, p := range run.Predictions {
+		rows[i] = Prediction(p)
+	}
+	var out []NullScores
+	for _, g := range Summarize(rows, bins, false).Groups {
+		out = append(out, NullScores{Model: g.Model, Target: g.Target, Permutation: run.Permutation, Scores: g.Pooled})
+	}
+	return out
+}
+
+// nullColumns are the columns of WriteNullScores.
+func nullColumns() []string {
+	cols := []string{"model", "target", "permutation", "n", "missing", "bins"}
+	for _, m := range Metrics() {
+		cols = append(cols, string(m))
+	}
+	return cols
+}
+
+// WriteNullScores writes rows as CSV: model, target, permutation (from 0),
+// n, missing, bins, then one column per metric of Metrics, each float in
+// the shortest form that reads back to the same float64 (NaN for an
+// undefined value).
+func WriteNullScores(rows []NullScores) ([]byte, error) {
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	w.Write(nullColumns())
+	for _, r := range rows {
+		rec := []string{r.Model, r.Target, strconv.Itoa(r.Permutation), strconv.Itoa(r.N), strconv.Itoa(r.Missing), strconv.Itoa(r.Bins)}
+		for _, m := range Metrics() {
+			rec = append(rec, strconv.FormatFloat(r.Get(m), 'g', -1, 64))
+		}
+		w.Write(rec)
+	}
+	w.Flush()
+	return buf.Bytes(), w.Error()
+}
+
+// ReadNullScores reads what WriteNullScores wrote. A bad cell is a
+// *ParseError naming name, the line and the column.
+func ReadNullScores(r io.Reader, name string) ([]NullScores, error) {
+	cr := csv.NewReader(r)
+	want := nullColumns()
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, &ParseError{File: name, Line: 1, Err: errors.New("empty file: expected a header row")}
+	}
+	if err != nil {
+		return nil, csvError(name, err)
+	}
+	if !slices.Equal(header, want) {
+		return nil, &ParseError{File: name, Line: 1, Err: fmt.Errorf("header is %v, want %v", header, want)}
+	}
+	var rows []NullScores
+	for line := 2; ; line++ {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			return rows, nil
+		}
+		if err != nil {
+			return nil, csvError(name, err)
+		}
+		row := NullScores{Model: rec[0], Target: rec[1]}
+		for c, dst := range []*int{&row.Permutation, &row.N, &row.Missing, &row.Bins} {
+			v, err := strconv.Atoi(rec[2+c])
+			if err != nil || v < 0 {
+				return nil, &ParseError{File: name, Line: line, Column: 3 + c, Name: want[2+c], Err: fmt.Errorf("want a whole number ≥ 0, found %q", rec[2+c])}
+			}
+			*dst = v
+		}
+		for c, m := range Metrics() {
+			v, err := strconv.ParseFloat(rec[6+c], 64)
+			if err != nil {
+				return nil, &ParseError{File: name, Line: line, Column: 7 + c, Name: want[6+c], Err: fmt.Errorf("want a number or NaN, found %q", rec[6+c])}
+			}
+			row.Set(m, v)
+		}
+		rows = append(rows, row)
+	}
+}
+
+// AssembleNulls builds the null distributions of a permutation test run in
+// blocks, the same (same order, same numbers) as PermutationTest's on one
+// machine: for each group of observed, in its order, whose model has null
+// scores, the scores of permutations 0 to count-1 and the p-values. Every
+// model with null scores must have every permutation of every target of
+// its groups exactly once.
+func AssembleNulls(observed *Summary, rows []NullScores, count int) ([]NullDistribution, error) {
+	byKey := make(map[[2]string][]*Scores)
+	tested := make(map[string]bool)
+	for i := range rows {
+		r := &rows[i]
+		if r.Permutation < 0 || r.Permutation >= count {
+			return nil, fmt.Errorf("model %q, target %q: permutation %d is outside 0 to %d", r.Model, r.Target, r.Permutation, count-1)
+		}
+		key := [2]string{r.Model, r.Target}
+		if byKey[key] == nil {
+			byKey[key] = make([]*Scores, count)
+		}
+		if byKey[key][r.Permutation] != nil {
+			return nil, fmt.Errorf("model %q, target %q: permutation %d appears twice", r.Model, r.Target, r.Permutation)
+		}
+		byKey[key][r.Permutation] = &r.Scores
+		tested[r.Model] = true
+	}
+	var out []NullDistribution
+	for _, g := range observed.Groups {
+		if !tested[g.Model] {
+			continue
+		}
+		got := byKey[[2]string{g.Model, g.Target}]
+		nd := NullDistribution{Model: g.Model, Target: g.Target, Observed: g.Pooled, Null: make([]Scores, count)}
+		for k := range count {
+			if got == nil || got[k] == nil {
+				return nil, fmt.Errorf("model %q, target %q: no scores for permutation %d", g.Model, g.Target, k)
+			}
+			nd.Null[k] = *got[k]
+		}
+		for _, m := range Metrics() {
+			values := make([]float64, count)
+			for k, s := range nd.Null {
+				values[k] = s.Get(m)
+			}
+			nd.P.Set(m, PermutationPValue(g.Pooled.Get(m), values, m.LowerIsBetter()))
+		}
+		out = append(out, nd)
+	}
+	return out, nil
+}
+
+// EvaluateWithNulls is Evaluate for a run whose permutation test was run
+// elsewhere, in blocks: it scores res as Evaluate does, but takes the
+// null distributions from nulls (a function of the observed summary, such
+// as a call of AssembleNulls) instead of retraining. nulls is called only
+// when the experiment has a permutation test. The report equals
+// Evaluate's for the same run.
+func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, bins int,
+	nulls func(observed *Summary) ([]NullDistribution, error)) (*Report, error) {
+	exp := r.Experiment
+	noTest := *exp
+	noTest.Permutation.Count = 0
+	quiet := *r
+	quiet.Experiment = &noTest
+	rep, err := Evaluate(ctx, &quiet, res, bins)
+	if err != nil {
+		return nil, err
+	}
+	rep.Experiment = exp
+	if exp.Permutation.Count == 0 {
+		return rep, nil
+	}
+	if rep.Nulls, err = nulls(rep.Summary); err != nil {
+		return nil, fmt.Errorf("permutation test: %w", err)
+	}
+	// The comparisons use the permutation test; redo them as Evaluate does.
+	baselines := make(map[string]bool)
+	for _, m := range exp.Models {
+		baselines[m.Name] = m.Kind() != "network"
+	}
+	var nTrain, nTest float64
+	for _, s := range res.Splits {
+		nTrain += float64(len(s.Train))
+		nTest += float64(len(s.Test))
+	}
+	nTrain /= float64(len(res.Splits))
+	nTest /= float64(len(res.Splits))
+	rep.Comparisons, err = Compare(rep.Summary, rep.Rows, CompareOptions{
+		Baselines: baselines, NTrain: nTrain, NTest: nTest, Nulls: rep.Nulls, Seed: uint64(exp.Seed),
+	})
+	if err != nil {
+		return nil, err
+	}
+	return rep, nil
+}
