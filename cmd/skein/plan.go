@@ -24,12 +24,12 @@ import (
 // Files of a batch plan, written by skein plan into the work folder of the
 // run (DIR.partial) and kept in the merged run folder.
 const (
-	planFile  = "plan.json"  // what units and merge read back: planRecord
-	unitsFile = "units.tsv"  // the units, for people and scripts
-	jobFile   = "job.sh"     // the SLURM job-array script
-	logsDir   = "logs"       // one log per unit, and SLURM's output
-	nullsDir  = "nulls"      // null scores of each permutation block
-	failedDir = "failed"     // failed/K.txt holds the error of a failed unit
+	planFile  = "plan.json" // what units and merge read back: planRecord
+	unitsFile = "units.tsv" // the units, for people and scripts
+	jobFile   = "job.sh"    // the SLURM job-array script
+	logsDir   = "logs"      // one log per unit, and SLURM's output
+	nullsDir  = "nulls"     // null scores of each permutation block
+	failedDir = "failed"    // failed/K.txt holds the error of a failed unit
 	unitsTSV  = "index\tkind\tmodel\trepeat\tfold\tpermutations\tcommand\n"
 )
 
