@@ -36,7 +36,10 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 		flags.Usage()
 		return badInput(errors.New("want the run folder of one plan"))
 	}
-	out := filepath.Clean(positional[0])
+	out, err := filepath.Abs(positional[0])
+	if err != nil {
+		return err
+	}
 	rec, err := readPlan(out)
 	if err != nil {
 		return err
@@ -146,7 +149,7 @@ func reportMissing(cio commandIO, rd *train.RunDir, rec *planRecord, units, miss
 		}
 		fmt.Fprintf(cio.stderr, "  unit %d, %s: %s\n", u.Index, describeUnit(u), state)
 	}
-	list := strings.Join(indices, ",")
+	list := arrayRanges(missing)
 	fmt.Fprintf(cio.stderr, "Resubmit just these:  sbatch --array=%s %s\n", list, shellQuote(rd.WorkPath(jobFile)))
 	fmt.Fprintf(cio.stderr, "or run them here:     for k in %s; do skein run %s --out %s --unit $k; done\n",
 		strings.Join(indices, " "), shellQuote(rec.Experiment), shellQuote(rd.Final))
@@ -169,4 +172,23 @@ func mergedLog(rd *train.RunDir, units int) []byte {
 	line, _ := json.Marshal(map[string]any{"time": time.Now().Format(time.RFC3339Nano), "level": "INFO", "msg": "units merged", "units": units, "out": rd.Final})
 	buf.Write(append(line, '\n'))
 	return buf.Bytes()
+}
+
+// arrayRanges writes the indices of units as sbatch --array wants them,
+// runs of consecutive indices as ranges: 1-4,7,9-10.
+func arrayRanges(units []train.BatchUnit) string {
+	var parts []string
+	for i := 0; i < len(units); {
+		j := i
+		for j+1 < len(units) && units[j+1].Index == units[j].Index+1 {
+			j++
+		}
+		if j == i {
+			parts = append(parts, strconv.Itoa(units[i].Index))
+		} else {
+			parts = append(parts, strconv.Itoa(units[i].Index)+"-"+strconv.Itoa(units[j].Index))
+		}
+		i = j + 1
+	}
+	return strings.Join(parts, ",")
 }

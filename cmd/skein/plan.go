@@ -324,6 +324,11 @@ func runUnit(ctx context.Context, cio commandIO, expPath, out string, k, jobs in
 	if err != nil {
 		return err
 	}
+	// The cohort report names files as found from the experiment's path:
+	// make it the same as plan's.
+	if expPath, err = filepath.Abs(expPath); err != nil {
+		return err
+	}
 	b, err := openBatch(expPath)
 	if err != nil {
 		return err
