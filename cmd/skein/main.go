@@ -48,6 +48,7 @@ func commands() []command {
 		{"check", "load and check the cohort of an experiment file", cmdCheck},
 		{"run", "cross-validate every model of an experiment file", cmdRun},
 		{"metrics", "score predictions in a CSV file", cmdMetrics},
+		{"report", "draw the figures and report.html of a finished run folder", cmdReport},
 		{"plan", "split a run into units for a cluster's job array", cmdPlan},
 		{"merge", "combine the finished units of a plan into a run folder", cmdMerge},
 		{"predict", "predict new participants with a saved model", cmdPredict},

@@ -154,6 +154,12 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if err := rd.WriteFile(versionsFile, []byte(versions(exp))); err != nil {
 		return err
 	}
+	// Figures and report.html are a view of the files above: failing to
+	// draw them must not lose the run ("skein report" can draw them again).
+	if err := buildReport(rd.Partial, cohort.Regions); err != nil {
+		fileLog.Error("report failed", "error", err.Error())
+		fmt.Fprintf(cio.stderr, "skein run: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", err, rd.Final)
+	}
 	fileLog.Info("run finished")
 	if err := rd.Commit(); err != nil {
 		return err

@@ -1,0 +1,26 @@
+// Package report draws the figures of a finished run and writes its HTML
+// report.
+//
+// Build reads a run folder (the files skein run writes: experiment.toml,
+// cohort.json, predictions.csv, metrics.json, summary.md,
+// learning_curves.csv, permutations.csv, versions.txt, the unit
+// checkpoints under units/ and the saved fold networks under models/),
+// draws PNG figures with gonum.org/v1/plot into its figures/ folder and
+// writes report.html: one self-contained page, its images embedded as
+// data: URIs, that opens from disk in any browser without a network or
+// scripts. Nothing is retrained: every figure is computed from the files.
+//
+// The figures are
+//
+//	observed-MODEL-TARGET.png     observed against predicted scores, pooled test predictions
+//	comparison-TARGET.png         per-fold Pearson r and MAE of every model
+//	learning-MODEL.png            training and inner-validation loss per epoch of each fold
+//	null-MODEL-TARGET.png         permutation null distribution of Pearson r
+//	importance-MODEL-TARGET.png   fold-averaged edge importance, region × region
+//	filters-MODEL-bB.png          first-layer filters of branch B of a network, region × channel
+//	cohort.png                    functional mean connectivity and structural density of the cohort
+//
+// File names are made safe for any file system (see fileName).
+//
+// skein is research software: its reports are not a diagnostic device.
+package report

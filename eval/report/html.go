@@ -1,0 +1,304 @@
+package report
+
+import (
+	"bytes"
+	"encoding/base64"
+	"fmt"
+	"html/template"
+	"io"
+	"path/filepath"
+	"strings"
+
+	"github.com/skein-neuro/skein/eval"
+)
+
+// Cautions are the paragraphs every report ends its summary with.
+var Cautions = []string{
+	eval.Disclaimer,
+	"Predictions of clinical or behavioural scores from connectomes are group-level research findings. " +
+		"They need ethics approval, data-use agreements covering this analysis, and clinical judgement " +
+		"before anything is concluded about a person; follow the regulations that apply where you work.",
+	"Cross-validated accuracy estimates how a model would do on new participants drawn like these ones: " +
+		"other scanners, sites, ages or diagnoses may differ. Importance maps show what a model relies on, not causes.",
+}
+
+// page is what the HTML template reads.
+type page struct {
+	Title      string
+	Folder     string
+	Overview   []string
+	Models     []modelRow
+	Comparison template.HTML
+	Sections   []section
+	Importance []ModelImportance
+	Filters    []FilterSummary
+	Regions    []string
+	Cautions   []string
+	Seed       int64
+	Versions   string
+	Experiment string
+}
+
+type modelRow struct{ Name, Kind, Detail string }
+
+type section struct {
+	Title   string
+	Figures []htmlFigure
+}
+
+type htmlFigure struct {
+	Figure
+	Src template.URL
+}
+
+// WriteHTML writes the report of r with the given figures (embedded as
+// data: URIs), importance and filter summaries to w.
+func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filters []FilterSummary) error {
+	exp := r.Experiment
+	pg := page{
+		Title:      "skein run report — " + filepath.Base(filepath.Clean(r.Dir)),
+		Folder:     filepath.Base(filepath.Clean(r.Dir)),
+		Comparison: markdownHTML(r.SummaryMarkdown),
+		Importance: imp,
+		Filters:    filters,
+		Regions:    r.Regions,
+		Cautions:   Cautions,
+		Seed:       exp.Seed,
+		Versions:   r.Versions,
+		Experiment: r.ExperimentText,
+	}
+	if c := r.Cohort; c != nil {
+		pg.Overview = append(pg.Overview, fmt.Sprintf("Cohort: %d participants included of %d rows in %s (%d excluded), %d regions.",
+			c.Included, c.Rows, filepath.Base(c.Participants), len(c.Excluded), c.Regions))
+		if c.Group != nil {
+			pg.Overview = append(pg.Overview, fmt.Sprintf("Groups (column %q): %d, from %d to %d participants each; a group never spans training and test folds.",
+				c.Group.Column, c.Group.Groups, c.Group.Smallest, c.Group.Largest))
+		}
+		if len(c.Outliers) > 0 {
+			pg.Overview = append(pg.Overview, fmt.Sprintf("%d outlier flags on connectome quality (kept; see Cohort quality).", len(c.Outliers)))
+		}
+	}
+	pg.Overview = append(pg.Overview, fmt.Sprintf("Scores predicted: %s.", strings.Join(exp.Cohort.Targets, ", ")))
+	cv := fmt.Sprintf("Splits: %d-fold cross-validation repeated %d times", exp.CV.Folds, exp.CV.Repeats)
+	if len(exp.CV.Confounds) > 0 {
+		cv += fmt.Sprintf("; confounds %s regressed out of the scores within each training fold", strings.Join(exp.CV.Confounds, ", "))
+	}
+	pg.Overview = append(pg.Overview, cv+".")
+	if exp.Permutation.Count > 0 {
+		pg.Overview = append(pg.Overview, fmt.Sprintf("Permutation test: %d permutations of the scores.", exp.Permutation.Count))
+	}
+	pg.Overview = append(pg.Overview, fmt.Sprintf("Seed %d: the same experiment file, data and seed give the same results.", exp.Seed))
+	for _, m := range exp.Models {
+		row := modelRow{Name: m.Name, Kind: m.Kind()}
+		if m.Network != nil {
+			row.Detail = fmt.Sprintf("%d branches, up to %d epochs", len(m.Network.Branches), m.Network.Epochs)
+		}
+		pg.Models = append(pg.Models, row)
+	}
+	for _, title := range []string{SectionComparison, SectionPredictions, SectionLearning, SectionNulls, SectionImportance, SectionFilters, SectionCohort} {
+		s := section{Title: title}
+		for _, f := range figs {
+			if f.Section == title {
+				s.Figures = append(s.Figures, htmlFigure{f, template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(f.PNG))})
+			}
+		}
+		if len(s.Figures) > 0 || (title == SectionImportance && len(imp) > 0) || (title == SectionFilters && len(filters) > 0) {
+			pg.Sections = append(pg.Sections, s)
+		}
+	}
+	var buf bytes.Buffer
+	if err := pageTemplate.Execute(&buf, pg); err != nil {
+		return err
+	}
+	_, err := w.Write(buf.Bytes())
+	return err
+}
+
+var pageTemplate = template.Must(template.New("report").Funcs(template.FuncMap{
+	"num":    num,
+	"pct":    func(x float64) string { return fmt.Sprintf("%.0f%%", 100*x) },
+	"region": func(labels []string, i int) string { return labelOf(labels, i) },
+	"imp":    func(s string) bool { return s == SectionImportance },
+	"filt":   func(s string) bool { return s == SectionFilters },
+	"inc":    func(i int) int { return i + 1 },
+}).Parse(`<!DOCTYPE html>
+<html lang="en">
+<head>
+<meta charset="utf-8">
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>{{.Title}}</title>
+<style>
+body { font-family: system-ui, -apple-system, "Segoe UI", Helvetica, Arial, sans-serif; max-width: 72rem; margin: 1.5rem auto; padding: 0 1rem; color: #1d1d1f; line-height: 1.45; }
+h1 { font-size: 1.6rem; margin-bottom: .2rem; }
+h2 { border-bottom: 1px solid #ccd; padding-bottom: .2rem; margin-top: 2.2rem; }
+h3 { margin-top: 1.4rem; }
+table { border-collapse: collapse; margin: .6rem 0 1rem; font-size: .9rem; }
+th, td { border: 1px solid #c8c8d0; padding: .25rem .55rem; text-align: left; vertical-align: top; }
+td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
+th { background: #eef0f5; }
+.caution { background: #fff6e0; border-left: 4px solid #d99a00; padding: .5rem 1rem; margin: 1rem 0; }
+figure { display: inline-block; margin: .6rem 1rem 1.2rem 0; vertical-align: top; max-width: 100%; }
+figure img { max-width: 100%; height: auto; border: 1px solid #e0e0e6; }
+figcaption { font-size: .85rem; color: #444; max-width: 44rem; }
+pre { background: #f5f6f8; border: 1px solid #dde; padding: .6rem; overflow-x: auto; font-size: .8rem; }
+blockquote { margin: .5rem 0; padding: .3rem 1rem; border-left: 4px solid #d99a00; background: #fff6e0; }
+</style>
+</head>
+<body>
+<h1>skein run report</h1>
+<p>Run folder <code>{{.Folder}}</code>. Research software: not a diagnostic device.</p>
+
+<h2 id="summary">Summary</h2>
+<ul>
+{{range .Overview}}<li>{{.}}</li>
+{{end}}</ul>
+<table id="models">
+<tr><th>model</th><th>kind</th><th>details</th></tr>
+{{range .Models}}<tr><td>{{.Name}}</td><td>{{.Kind}}</td><td>{{.Detail}}</td></tr>
+{{end}}</table>
+
+<h2 id="comparison">Metrics and comparison</h2>
+<div class="tables">
+{{.Comparison}}
+</div>
+{{range .Sections}}
+<h2>{{.Title}}</h2>
+{{range .Figures}}<figure>
+<img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}">
+<figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption>
+</figure>
+{{end}}{{if imp .Title}}{{range $.Importance}}
+<h3>{{.Model}} — {{.Target}}: top edges</h3>
+<table class="edges">
+<tr><th class="num">rank</th><th>edge</th><th class="num">mean importance</th><th class="num">in top {{len .Top}} of a fold</th><th class="num">same sign</th></tr>
+{{range $k, $e := .Top}}<tr><td class="num">{{inc $k}}</td><td>{{region $.Regions $e.I}} – {{region $.Regions $e.J}}</td><td class="num">{{num $e.Mean}}</td><td class="num">{{pct $e.InTop}}</td><td class="num">{{pct $e.SameSign}}</td></tr>
+{{end}}</table>
+<p>Over {{.Folds}} folds. Strongest regions (sum of |importance| over their edges):
+{{range $k, $r := .Regions}}{{if $k}}, {{end}}{{region $.Regions $r.Region}} ({{num $r.Strength}}){{end}}.</p>
+{{end}}{{end}}{{if filt .Title}}
+<table class="filters">
+<tr><th>model</th><th>branch</th><th>array</th><th class="num">folds</th><th>consistency per channel</th></tr>
+{{range $.Filters}}<tr><td>{{.Model}}</td><td>{{inc .Branch}}</td><td>{{.Array}}</td><td class="num">{{.Folds}}</td><td>{{range $c, $v := .Consistency}}{{if $c}}, {{end}}{{num $v}}{{end}}</td></tr>
+{{end}}</table>
+{{end}}{{end}}
+<h2 id="cautions">Cautions</h2>
+{{range .Cautions}}<p class="caution">{{.}}</p>
+{{end}}
+<h2 id="reproduce">Reproducing this run</h2>
+<p>Seed {{.Seed}}. Versions (versions.txt):</p>
+<pre>{{.Versions}}</pre>
+<p>The experiment file with every default filled (experiment.toml):</p>
+<pre>{{.Experiment}}</pre>
+</body>
+</html>
+`))
+
+func labelOf(labels []string, i int) string {
+	if i < len(labels) {
+		return labels[i]
+	}
+	return fmt.Sprint(i + 1)
+}
+
+// markdownHTML renders the Markdown skein's summaries use — ATX headings,
+// pipe tables, block quotes and paragraphs — as escaped HTML. The first
+// level-1 heading is dropped (the report has its own); other headings move
+// down one level. Anything else is shown as text.
+func markdownHTML(md string) template.HTML {
+	var b strings.Builder
+	esc := template.HTMLEscapeString
+	lines := strings.Split(md, "\n")
+	var para []string
+	flush := func() {
+		if len(para) > 0 {
+			b.WriteString("<p>" + esc(strings.Join(para, " ")) + "</p>\n")
+			para = nil
+		}
+	}
+	droppedTitle := false
+	for i := 0; i < len(lines); i++ {
+		l := strings.TrimRight(lines[i], " ")
+		switch {
+		case l == "":
+			flush()
+		case strings.HasPrefix(l, "#"):
+			flush()
+			level := len(l) - len(strings.TrimLeft(l, "#"))
+			text := strings.TrimSpace(l[level:])
+			if level == 1 && !droppedTitle {
+				droppedTitle = true
+				continue
+			}
+			level = min(level+1, 6)
+			fmt.Fprintf(&b, "<h%d>%s</h%d>\n", level, esc(text), level)
+		case strings.HasPrefix(l, ">"):
+			flush()
+			b.WriteString("<blockquote>" + esc(strings.TrimSpace(strings.TrimPrefix(l, ">"))) + "</blockquote>\n")
+		case strings.HasPrefix(l, "|"):
+			flush()
+			var rows [][]string
+			var align []bool // right-aligned columns
+			for ; i < len(lines) && strings.HasPrefix(strings.TrimSpace(lines[i]), "|"); i++ {
+				cells := splitRow(strings.TrimSpace(lines[i]))
+				if isRule(cells) {
+					for _, c := range cells {
+						align = append(align, strings.HasSuffix(strings.TrimSpace(c), ":"))
+					}
+					continue
+				}
+				rows = append(rows, cells)
+			}
+			i--
+			b.WriteString("<table class=\"metrics\">\n")
+			for ri, row := range rows {
+				tag := "td"
+				if ri == 0 {
+					tag = "th"
+				}
+				b.WriteString("<tr>")
+				for ci, c := range row {
+					class := ""
+					if ci < len(align) && align[ci] {
+						class = ` class="num"`
+					}
+					fmt.Fprintf(&b, "<%s%s>%s</%s>", tag, class, esc(c), tag)
+				}
+				b.WriteString("</tr>\n")
+			}
+			b.WriteString("</table>\n")
+		default:
+			para = append(para, strings.TrimSpace(l))
+		}
+	}
+	flush()
+	return template.HTML(b.String())
+}
+
+// splitRow splits a Markdown table row into its cells, honouring \|.
+func splitRow(l string) []string {
+	l = strings.TrimSuffix(strings.TrimPrefix(l, "|"), "|")
+	var cells []string
+	var cur strings.Builder
+	for i := 0; i < len(l); i++ {
+		switch {
+		case l[i] == '\\' && i+1 < len(l) && l[i+1] == '|':
+			cur.WriteByte('|')
+			i++
+		case l[i] == '|':
+			cells = append(cells, strings.TrimSpace(cur.String()))
+			cur.Reset()
+		default:
+			cur.WriteByte(l[i])
+		}
+	}
+	return append(cells, strings.TrimSpace(cur.String()))
+}
+
+func isRule(cells []string) bool {
+	for _, c := range cells {
+		if strings.Trim(c, "-: ") != "" || !strings.Contains(c, "-") {
+			return false
+		}
+	}
+	return len(cells) > 0
+}
