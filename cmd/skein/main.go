@@ -27,6 +27,7 @@ const (
 	exitFailure     = 1 // an unexpected failure: a bug or the machine
 	exitBadInput    = 2 // bad command line, experiment file or cohort files
 	exitTraining    = 3 // training failed: a diverging loss or NaN
+	exitDrift       = 4 // skein run --against: the rerun broke the experiment's [drift] rule
 	exitInterrupted = 130
 )
 
@@ -49,6 +50,7 @@ func commands() []command {
 		{"run", "cross-validate every model of an experiment file", cmdRun},
 		{"metrics", "score predictions in a CSV file", cmdMetrics},
 		{"report", "draw the figures and report.html of a finished run folder", cmdReport},
+		{"compare", "set two finished runs side by side", cmdCompare},
 		{"plan", "split a run into units for a cluster's job array", cmdPlan},
 		{"merge", "combine the finished units of a plan into a run folder", cmdMerge},
 		{"predict", "predict new participants with a saved model", cmdPredict},

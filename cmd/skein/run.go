@@ -40,8 +40,11 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	resume := fs.Bool("resume", false, "finish an interrupted run in the same folder")
 	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins for NMI")
 	unit := fs.Int("unit", 0, "run only unit `K` of the plan in --out (skein plan); default $SLURM_ARRAY_TASK_ID when --out holds a plan")
+	against := fs.String("against", "", "compare with the earlier run folder `DIR` and apply the experiment's [drift] rule (exit 4 when broken)")
+	history := fs.String("history", "", "history `FILE` the run's headline figures are appended to (default history.csv beside the run folder)")
+	noHistory := fs.Bool("no-history", false, "do not append to the history file")
 	fs.Usage = func() {
-		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume] [--unit K]")
+		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume] [--unit K] [--against DIR]")
 		fs.PrintDefaults()
 	}
 	positional, err := parseArgs(fs, args)
@@ -64,6 +67,10 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	}
 	if len(exp.Models) == 0 {
 		return badInput(fmt.Errorf("%s: no [[model]] to run", expPath))
+	}
+	prev, err := readAgainst(cio, *against, exp)
+	if err != nil {
+		return err
 	}
 	cohort, cohortReport, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
 	if err != nil {
@@ -154,6 +161,10 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if err := rd.WriteFile(versionsFile, []byte(versions(exp))); err != nil {
 		return err
 	}
+	verdict, err := writeNightly(rd, report, prev, exp.Drift)
+	if err != nil {
+		return err
+	}
 	// Figures and report.html are a view of the files above: failing to
 	// draw them must not lose the run ("skein report" can draw them again).
 	if err := buildReport(rd.Partial, cohort.Regions); err != nil {
@@ -170,7 +181,12 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	}
 	cio.stdout.Write(summary.Bytes())
 	fmt.Fprintf(cio.stdout, "\nResults in %s\n", rd.Final)
-	return nil
+	if !*noHistory {
+		if err := recordHistory(cio, rd.Final, *history); err != nil {
+			return err
+		}
+	}
+	return driftError(cio, verdict, prev, rd.Final)
 }
 
 // versions records what made a run: skein's and its modules' versions, Go,
