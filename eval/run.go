@@ -6,6 +6,7 @@ import (
 	"encoding/csv"
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 
 	"github.com/skein-neuro/skein/train"
@@ -51,6 +52,7 @@ func Evaluate(ctx context.Context, r *train.Runner, res *train.Result, bins int)
 		rep.Rows[i] = Prediction(p)
 	}
 	rep.Summary = Summarize(rep.Rows, bins, true)
+	orderGroups(rep.Summary, exp, r.Cohort.Targets)
 	if exp.Permutation.Count > 0 {
 		nulls, err := PermutationTest(ctx, r, rep.Summary)
 		if err != nil {
@@ -177,4 +179,21 @@ func learningCSV(exp *train.Experiment, res *train.Result) []byte {
 	}
 	w.Flush()
 	return buf.Bytes()
+}
+
+// orderGroups puts the summary's groups in the order of the experiment's
+// models, then of the cohort's targets, the order a reader expects.
+func orderGroups(sum *Summary, exp *train.Experiment, targets []string) {
+	rank := func(g Group) (int, int) {
+		m := slices.IndexFunc(exp.Models, func(c train.ModelConfig) bool { return c.Name == g.Model })
+		return m, slices.Index(targets, g.Target)
+	}
+	slices.SortStableFunc(sum.Groups, func(a, b Group) int {
+		am, at := rank(a)
+		bm, bt := rank(b)
+		if am != bm {
+			return am - bm
+		}
+		return at - bt
+	})
 }
