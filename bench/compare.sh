@@ -1,0 +1,62 @@
+#!/usr/bin/env bash
+# Side-by-side benchmark: the reference network trained through skein
+# (float32; the pure-Go build and the OpenBLAS build) and through PyTorch,
+# in alternating runs, at each size in SIZES. Prints the median seconds per
+# epoch of each and the ratios skein / PyTorch.
+#
+# The PyTorch side is the shared script torch_reference.py, used as it is
+# from ${SHARED:-../shared}/bench/ (relative to the repository root), run
+# with Debian's python3-torch (/usr/bin/python3).
+#
+# usage: bench/compare.sh            (from the repository root)
+# knobs: SIZES="116 268" N=275 BATCH=16 EPOCHS=4 REPS=3 THREADS=2 SHARED=../shared
+#
+# Other work on the machine slows every side: run it on a quiet machine
+# (see uptime, printed before and after) and compare medians.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+SIZES=${SIZES:-"116 268"}
+N=${N:-275}
+BATCH=${BATCH:-16}
+EPOCHS=${EPOCHS:-4}
+REPS=${REPS:-3}
+THREADS=${THREADS:-2}
+SHARED=${SHARED:-../shared}
+TORCH_SCRIPT="$SHARED/bench/torch_reference.py"
+PYTHON=${PYTHON:-/usr/bin/python3}
+[[ -f $TORCH_SCRIPT ]] || { echo "compare.sh: $TORCH_SCRIPT not found (set SHARED)" >&2; exit 2; }
+
+bin=$(mktemp -d)
+trap 'rm -rf "$bin"' EXIT
+go build -o "$bin/refnet-gonum" ./bench/cmd/refnet
+CGO_LDFLAGS=-lopenblas go build -tags openblas -o "$bin/refnet-openblas" ./bench/cmd/refnet
+
+# epoch prints the median seconds per epoch from a result line of refnet or
+# of torch_reference.py ("... epoch median 1.234 s ...").
+epoch() { sed -n 's/.*epoch median \([0-9.]*\) s.*/\1/p'; }
+median() { sort -g | awk '{v[NR]=$1} END {print (NR%2 ? v[(NR+1)/2] : (v[NR/2]+v[NR/2+1])/2)}'; }
+
+echo "load before: $(uptime)"
+declare -A times
+for p in $SIZES; do
+  for ((r = 1; r <= REPS; r++)); do
+    for side in gonum openblas torch; do
+      if [[ $side == torch ]]; then
+        line=$("$PYTHON" "$TORCH_SCRIPT" "$p" "$N" "$BATCH" "$EPOCHS" "$THREADS" float32)
+      else
+        line=$("$bin/refnet-$side" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -threads "$THREADS" -dtype float32)
+      fi
+      echo "  run $r: $line"
+      times[$p,$side]+="$(echo "$line" | epoch) "
+    done
+  done
+done
+echo "load after: $(uptime)"
+echo
+printf '%-6s %12s %12s %12s %14s %14s\n' p "torch s" "openblas s" "pure-Go s" "openblas/torch" "pure-Go/torch"
+for p in $SIZES; do
+  t=$(echo "${times[$p,torch]}" | tr ' ' '\n' | grep . | median)
+  o=$(echo "${times[$p,openblas]}" | tr ' ' '\n' | grep . | median)
+  g=$(echo "${times[$p,gonum]}" | tr ' ' '\n' | grep . | median)
+  awk -v p="$p" -v t="$t" -v o="$o" -v g="$g" 'BEGIN {printf "%-6s %12.3f %12.3f %12.3f %14.2f %14.2f\n", p, t, o, g, o/t, g/t}'
+done
