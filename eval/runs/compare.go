@@ -314,9 +314,9 @@ func (c *Comparison) WriteText(w io.Writer) error {
 	writeChanges("Experiment settings", c.Settings)
 	writeChanges("Versions", c.Versions)
 	b.WriteString("Metrics (pooled; * = change larger than the fold-to-fold SD):\n")
-	fmt.Fprintln(tw, "  model\ttarget\tmetric\tA\tB\tchange\tfold SD\t")
+	fmt.Fprintln(tw, "  model\ttarget\tmetric\tA\tB\tchange\tfold SD")
 	for _, m := range c.Metrics {
-		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", m.Model, m.Target, m.Metric, num(m.A), num(m.B), signed(m.Change), num(m.Spread), star(m.BeyondSpread))
+		fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\t%s\t%s%s\t%s\n", m.Model, m.Target, m.Metric, num(m.A), num(m.B), signed(m.Change), star(m.BeyondSpread), num(m.Spread))
 	}
 	tw.Flush()
 	if len(c.PValues) > 0 {

@@ -61,6 +61,7 @@ func PlotHistory(w io.Writer, rows []HistoryRow) error {
 		p.X.Min -= 86400
 		p.X.Max += 86400
 	}
+	padAxes(p)
 	return writePNG(w, p)
 }
 
@@ -130,7 +131,19 @@ func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
 			p.Add(bars)
 		}
 	}
+	padAxes(p)
 	return writePNG(w, p)
+}
+
+// padAxes widens both ranges by 4% on each side (0.05 at least for y), so
+// that the outermost points and their bars are not cut by the frame.
+func padAxes(p *plot.Plot) {
+	pad := 0.04 * (p.X.Max - p.X.Min)
+	p.X.Min -= pad
+	p.X.Max += pad
+	pad = max(0.04*(p.Y.Max-p.Y.Min), 0.05)
+	p.Y.Min -= pad
+	p.Y.Max += pad
 }
 
 func addLine(p *plot.Plot, i int, label string, xys plotter.XYs) error {
