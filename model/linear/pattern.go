@@ -1,0 +1,111 @@
+package linear
+
+import (
+	"errors"
+	"fmt"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model"
+)
+
+var (
+	_ model.Interpreter = (*Ridge)(nil)
+	_ model.Interpreter = (*KernelRidge)(nil)
+	_ model.Interpreter = (*CPM)(nil)
+)
+
+// EdgeImportance returns, per target, the activation pattern of the fitted
+// ridge model over ps (Haufe et al. 2014, NeuroImage 87:96–110): for each
+// edge e,
+//
+//	a_e = cov(x_e, ŷ) = Σᵢ (x_ie − x̄_e)(ŷ_i − ȳ̂) / (n − 1)
+//
+// over the n participants of ps, x_ie the raw edge value and ŷ_i the
+// model's prediction. Unlike the weights, which a linear model also uses
+// to cancel noise shared by edges, a pattern shows how each edge varies
+// with the prediction. Each map is p × p and symmetric with a zero
+// diagonal, in the units of the edge times the units of Y. For input
+// "both" the maps show the functional edges only (the structural part of
+// the pattern is left out, since it is in other units). ps needs at least
+// two participants.
+func (r *Ridge) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	if r.intercept == nil {
+		return nil, errNotFitted
+	}
+	return activationPatterns(r, r.cfg.Input, r.p, ps)
+}
+
+// EdgeImportance returns, per target, the activation pattern of the fitted
+// kernel ridge model over ps, a_e = cov(x_e, ŷ) with x_e the raw edge (not
+// the normalized vector the correlation kernel compares), as for
+// Ridge.EdgeImportance.
+func (k *KernelRidge) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	if k.means == nil {
+		return nil, errNotFitted
+	}
+	return activationPatterns(k, k.cfg.Input, k.p, ps)
+}
+
+// EdgeImportance returns, per target, the edges CPM selected in its last
+// Fit: +1 for an edge of the positive network, −1 for one of the negative
+// network, 0 elsewhere (p × p, symmetric). The maps do not depend on ps,
+// which may be empty. For input "both" they show the functional edges only.
+func (c *CPM) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	if c.coef == nil {
+		return nil, errNotFitted
+	}
+	maps := make([]*mat.Dense, len(c.coef))
+	e := NumEdges(c.p)
+	for j := range c.coef {
+		m := mat.NewDense(c.p, c.p, nil)
+		for sign, edges := range map[float64][]int{1: c.positive[j], -1: c.negative[j]} {
+			for _, k := range edges {
+				if k >= e {
+					continue // a structural edge of input "both"
+				}
+				a, b := EdgePair(c.p, k)
+				m.Set(a, b, sign)
+				m.Set(b, a, sign)
+			}
+		}
+		maps[j] = m
+	}
+	return maps, nil
+}
+
+// activationPatterns returns cov(x_e, ŷ_j) over ps for every edge e of the
+// first connectome of input and every column j of reg's predictions, as
+// symmetric p × p maps.
+func activationPatterns(reg model.Regressor, input string, p int, ps []*data.Participant) ([]*mat.Dense, error) {
+	if len(ps) < 2 {
+		return nil, errors.New("linear: EdgeImportance needs at least two participants")
+	}
+	x, _, err := edgeMatrix(ps, input, p)
+	if err != nil {
+		return nil, fmt.Errorf("linear: EdgeImportance: %w", err)
+	}
+	yhat, err := reg.Predict(ps)
+	if err != nil {
+		return nil, fmt.Errorf("linear: EdgeImportance: %w", err)
+	}
+	n, t := yhat.Dims()
+	centreColumns(yhat)
+	var cov mat.Dense
+	cov.Mul(x.T(), yhat) // the column means of x cancel against centred ŷ
+	cov.Scale(1/float64(n-1), &cov)
+	maps := make([]*mat.Dense, t)
+	e := NumEdges(p)
+	for j := range t {
+		m := mat.NewDense(p, p, nil)
+		for k := range e {
+			a, b := EdgePair(p, k)
+			v := cov.At(k, j)
+			m.Set(a, b, v)
+			m.Set(b, a, v)
+		}
+		maps[j] = m
+	}
+	return maps, nil
+}
