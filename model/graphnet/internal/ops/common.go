@@ -68,14 +68,6 @@ func collect(name string, opts []Option, leakyOK bool) (options, error) {
 // input whose sign bit is 0 (index 0) or 1 (index 1).
 func leakyFactors[T float](slope float64) [2]T { return [2]T{1, T(slope)} }
 
-// signBit is 1 if v has its sign bit set (v < 0 or v is -0), else 0.
-func signBit[T float](v T) uint64 {
-	if is64[T]() {
-		return math.Float64bits(float64(v)) >> 63
-	}
-	return uint64(math.Float32bits(float32(v)) >> 31)
-}
-
 // is64 reports whether T is float64.
 func is64[T float]() bool {
 	var z T

@@ -2,6 +2,7 @@ package ops
 
 import (
 	"fmt"
+	"math"
 
 	"gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
@@ -255,11 +256,7 @@ func e2eForward[T float](d filterDims, opt options, cache *rowCache, x, wr, wc, 
 				ri += bo
 				row := blk[i*P:][:P]
 				if opt.leaky {
-					f := leakyFactors[T](opt.slope)
-					for j, cj := range cc {
-						v := ri + cj
-						row[j] = v * f[signBit(v)]
-					}
+					addLeaky(row, cc, ri, opt.slope)
 					continue
 				}
 				for j, cj := range cc {
@@ -305,27 +302,79 @@ func edgeSums[T float](d filterDims, g, y []T, slope float64, s []T) {
 }
 
 // sumAndAccumulateLeaky is sumAndAccumulate of row[j]·f[sign bit of y[j]].
+// It dispatches to loops on concrete types: generic code would reload
+// its dictionary for every element.
 func sumAndAccumulateLeaky[T float](row, y, acc []T, f [2]T) T {
+	if is64[T]() {
+		return T(sumAccLeaky64(as64(row), as64(y), as64(acc), [2]float64{float64(f[0]), float64(f[1])}))
+	}
+	return T(sumAccLeaky32(as32(row), as32(y), as32(acc), [2]float32{float32(f[0]), float32(f[1])}))
+}
+
+func sumAccLeaky64(row, y, acc []float64, f [2]float64) float64 {
 	acc, y = acc[:len(row)], y[:len(row)]
-	var s0, s1 T
+	var s0, s1 float64
 	j := 0
 	for ; j+2 <= len(row); j += 2 {
 		v := row[j : j+2 : j+2]
 		w := y[j : j+2 : j+2]
 		a := acc[j : j+2 : j+2]
-		v0 := v[0] * f[signBit(w[0])]
-		v1 := v[1] * f[signBit(w[1])]
+		v0 := v[0] * f[math.Float64bits(w[0])>>63]
+		v1 := v[1] * f[math.Float64bits(w[1])>>63]
 		s0 += v0
 		s1 += v1
 		a[0] += v0
 		a[1] += v1
 	}
 	for ; j < len(row); j++ {
-		v := row[j] * f[signBit(y[j])]
+		v := row[j] * f[math.Float64bits(y[j])>>63]
 		s0 += v
 		acc[j] += v
 	}
 	return s0 + s1
+}
+
+func sumAccLeaky32(row, y, acc []float32, f [2]float32) float32 {
+	acc, y = acc[:len(row)], y[:len(row)]
+	var s0, s1 float32
+	j := 0
+	for ; j+2 <= len(row); j += 2 {
+		v := row[j : j+2 : j+2]
+		w := y[j : j+2 : j+2]
+		a := acc[j : j+2 : j+2]
+		v0 := v[0] * f[math.Float32bits(w[0])>>31]
+		v1 := v[1] * f[math.Float32bits(w[1])>>31]
+		s0 += v0
+		s1 += v1
+		a[0] += v0
+		a[1] += v1
+	}
+	for ; j < len(row); j++ {
+		v := row[j] * f[math.Float32bits(y[j])>>31]
+		s0 += v
+		acc[j] += v
+	}
+	return s0 + s1
+}
+
+// addLeaky sets row[j] = leaky(ri + cc[j]), on concrete types (see
+// sumAndAccumulateLeaky).
+func addLeaky[T float](row, cc []T, ri T, slope float64) {
+	if is64[T]() {
+		f := [2]float64{1, slope}
+		r, c := as64(row)[:len(cc)], as64(cc)
+		for j, cj := range c {
+			v := float64(ri) + cj
+			r[j] = v * f[math.Float64bits(v)>>63]
+		}
+		return
+	}
+	f := [2]float32{1, float32(slope)}
+	r, c := as32(row)[:len(cc)], as32(cc)
+	for j, cj := range c {
+		v := float32(ri) + cj
+		r[j] = v * f[math.Float32bits(v)>>31]
+	}
 }
 
 // sumAndAccumulate returns Σ row and adds row to acc (len(acc) ≥ len(row)),
@@ -493,7 +542,7 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 }
 
 // edgeSumsOp: inputs dH (B, O, p, p) and, after a fused leaky rectifier,
-// the output H; result (2, O, B, p), see edgeSums.
+// the output H; result (3, O, B, p), see edgeSums.
 type edgeSumsOp struct {
 	base
 	dims  filterDims
