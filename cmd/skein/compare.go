@@ -66,6 +66,9 @@ func readAgainst(cio commandIO, dir string, exp *train.Experiment) (*runs.Run, e
 	if dir == "" {
 		return nil, nil
 	}
+	if real, err := filepath.EvalSymlinks(dir); err == nil {
+		dir = real // name the night a "latest" link points to
+	}
 	prev, err := runs.Read(dir)
 	if err != nil {
 		return nil, badInput(fmt.Errorf("--against: %w", err))
