@@ -123,10 +123,19 @@ type graph struct {
 
 	pred  *gorgonia.Node   // (batch, T)
 	grads []*gorgonia.Node // gradient of the loss for each param, training only
+
+	// Saliency graphs only: outputWeights (batch, T) weighs the outputs
+	// summed into the differentiated scalar, and inputGrads holds its
+	// gradient with respect to each branch's input, (batch, 1, p, p).
+	outputWeights *tensor.Dense
+	inputGrads    []*gorgonia.Node
 }
 
 // build returns the expression graph of the network for batch participants.
-func (n *Network) build(batch int, training bool) (*graph, error) {
+// With saliency (and not training) it differentiates Σ outputWeights ∘ pred
+// with respect to the branch inputs instead of the loss with respect to
+// the weights (see saliency.go).
+func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 	gr := &graph{batch: batch, training: training, g: gorgonia.NewGraph()}
 	g := gr.g
 	dt := n.dtype
@@ -161,13 +170,14 @@ func (n *Network) build(batch int, training bool) (*graph, error) {
 		return ops.Dropout(h, mask)
 	}
 	p := n.p
-	var outs []*gorgonia.Node
+	var outs, inputs []*gorgonia.Node
 	for bi, b := range n.cfg.Branches {
 		x, xv, err := constant(fmt.Sprintf("branch%d.input", bi), batch, 1, p, p)
 		if err != nil {
 			return nil, err
 		}
 		gr.inputs = append(gr.inputs, xv)
+		inputs = append(inputs, x)
 		var s *gorgonia.Node
 		var sv *tensor.Dense
 		if b.needsOperator() {
@@ -178,7 +188,7 @@ func (n *Network) build(batch int, training bool) (*graph, error) {
 		gr.operators = append(gr.operators, sv)
 		h := x
 		in := layerShape{form: edgeForm, width: size{1, 0}}
-		fromData := true // h depends on no weight: its gradient is never needed
+		fromData := !saliency // h depends on no weight: its gradient is never needed
 		for li, l := range b.Layers {
 			var opts []ops.Option
 			if fromData {
@@ -255,6 +265,11 @@ func (n *Network) build(batch int, training bool) (*graph, error) {
 		}
 		if gr.grads, err = gorgonia.Grad(loss, weights...); err != nil {
 			return nil, fmt.Errorf("graphnet: building the gradient: %w", err)
+		}
+	}
+	if saliency && !training {
+		if gr.inputGrads, gr.outputWeights, err = inputGradients(gr.pred, inputs, constant); err != nil {
+			return nil, fmt.Errorf("graphnet: building the saliency: %w", err)
 		}
 	}
 	gr.vm = gorgonia.NewTapeMachine(g)

@@ -40,6 +40,7 @@ type Network struct {
 type graphKey struct {
 	batch    int
 	training bool
+	saliency bool // gradients of the outputs with respect to the inputs
 }
 
 // divergenceFactor is how many times its first-epoch value the training
@@ -340,11 +341,11 @@ func (n *Network) Predict(ps []*data.Participant) (*mat.Dense, error) {
 // graph returns the expression graph for a batch size, building it on
 // first use.
 func (n *Network) graph(batch int, training bool) (*graph, error) {
-	key := graphKey{batch, training}
+	key := graphKey{batch: batch, training: training}
 	if g, ok := n.graphs[key]; ok {
 		return g, nil
 	}
-	g, err := n.build(batch, training)
+	g, err := n.build(batch, training, false)
 	if err != nil {
 		return nil, err
 	}

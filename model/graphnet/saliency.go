@@ -1,0 +1,141 @@
+package graphnet
+
+import (
+	"fmt"
+
+	"gonum.org/v1/gonum/mat"
+	"gorgonia.org/gorgonia"
+	"gorgonia.org/tensor"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model"
+)
+
+var _ model.Interpreter = (*Network)(nil)
+
+// EdgeImportance returns, per target t, the gradient × input saliency of
+// the network over ps (Simonyan et al. 2014; Shrikumar et al. 2017): for
+// each branch b with input matrix X_b (the functional or structural matrix,
+// or the propagated S·F, as the branch reads it),
+//
+//	M_t = (1/n) Σᵢ Σ_b X_bi ∘ ∂ŷ_it/∂X_bi
+//
+// averaged over the n participants of ps, computed without dropout, then
+// symmetrized, (M + Mᵀ)/2, with a zero diagonal. Entry (i, j) is how much
+// edge (i, j) contributes to prediction t to first order, in the units of
+// the Y the network was fitted on; the sign says whether the edge, at its
+// value, raises or lowers the prediction. Each map is p × p.
+func (n *Network) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	if len(ps) == 0 {
+		return nil, fmt.Errorf("graphnet: EdgeImportance: no participants")
+	}
+	set, err := n.prepare(model.Dataset{Participants: ps}, "saliency set", false)
+	if err != nil {
+		return nil, err
+	}
+	p, pp := n.p, n.p*n.p
+	sums := make([][]float64, n.targets)
+	for t := range sums {
+		sums[t] = make([]float64, pp)
+	}
+	for start := 0; start < set.len(); start += n.cfg.BatchSize {
+		idx := make([]int, 0, n.cfg.BatchSize)
+		for i := start; i < min(start+n.cfg.BatchSize, set.len()); i++ {
+			idx = append(idx, i)
+		}
+		g, err := n.saliencyGraph(len(idx))
+		if err != nil {
+			return nil, err
+		}
+		set.fill(g, idx)
+		for t := range n.targets {
+			w := make([]float64, len(idx)*n.targets)
+			for k := range idx {
+				w[k*n.targets+t] = 1
+			}
+			copyInto(g.outputWeights.Data(), 0, w)
+			if err := g.vm.RunAll(); err != nil {
+				g.vm.Reset()
+				return nil, fmt.Errorf("graphnet: EdgeImportance: %w", err)
+			}
+			for b, grad := range g.inputGrads {
+				gv := float64s(grad.Value().Data())
+				for k, i := range idx {
+					x := set.inputs[b][i]
+					for e := range pp {
+						sums[t][e] += x[e] * gv[k*pp+e]
+					}
+				}
+			}
+			g.vm.Reset()
+		}
+	}
+	maps := make([]*mat.Dense, n.targets)
+	inv := 1 / float64(set.len())
+	for t, s := range sums {
+		m := mat.NewDense(p, p, nil)
+		for i := range p {
+			for j := i + 1; j < p; j++ {
+				v := (s[i*p+j] + s[j*p+i]) / 2 * inv
+				m.Set(i, j, v)
+				m.Set(j, i, v)
+			}
+		}
+		maps[t] = m
+	}
+	return maps, nil
+}
+
+// saliencyGraph returns the evaluation graph for a batch size that also
+// computes the gradient of Σ outputWeights ∘ pred with respect to every
+// branch input, building it on first use.
+func (n *Network) saliencyGraph(batch int) (*graph, error) {
+	key := graphKey{batch: batch, saliency: true}
+	if g, ok := n.graphs[key]; ok {
+		return g, nil
+	}
+	g, err := n.build(batch, false, true)
+	if err != nil {
+		return nil, err
+	}
+	n.graphs[key] = g
+	return g, nil
+}
+
+// inputGradients adds to pred's graph the scalar Σ w ∘ pred, w a constant
+// of pred's shape made by constant, and its gradients with respect to
+// inputs.
+func inputGradients(pred *gorgonia.Node, inputs []*gorgonia.Node, constant func(string, ...int) (*gorgonia.Node, *tensor.Dense, error)) ([]*gorgonia.Node, *tensor.Dense, error) {
+	w, wv, err := constant("saliency.weights", pred.Shape()...)
+	if err != nil {
+		return nil, nil, err
+	}
+	weighted, err := gorgonia.HadamardProd(pred, w)
+	if err != nil {
+		return nil, nil, err
+	}
+	total, err := gorgonia.Sum(weighted)
+	if err != nil {
+		return nil, nil, err
+	}
+	grads, err := gorgonia.Grad(total, inputs...)
+	if err != nil {
+		return nil, nil, err
+	}
+	return grads, wv, nil
+}
+
+// float64s returns the values of a float32 or float64 slice as float64.
+func float64s(v any) []float64 {
+	switch d := v.(type) {
+	case []float64:
+		return d
+	case []float32:
+		out := make([]float64, len(d))
+		for i, x := range d {
+			out[i] = float64(x)
+		}
+		return out
+	}
+	panic(fmt.Sprintf("graphnet: values of type %T", v))
+}
