@@ -1,0 +1,16 @@
+// Package bench holds skein's whole-path benchmarks and the scripts of the
+// side-by-side comparison (see README.md, section "Speed"):
+//
+//   - compare.sh trains the reference network through skein (pure-Go and
+//     OpenBLAS builds) and through PyTorch, in alternating runs, and prints
+//     seconds per epoch and the ratios;
+//   - parallel.sh times a K-fold run of the reference network on one core
+//     and on two with each kind of parallelism (the numbers behind
+//     train.ChooseParallelism);
+//   - scaling.sh prints epoch time, FLOP count and GFLOP/s against p and N;
+//   - cmd/refnet is the driver the scripts run;
+//   - BenchmarkRidgePermutation times the permutation test of a
+//     cross-validated ridge at N = 275, p = 268.
+//
+// Nothing here runs in go test ./... without -bench.
+package bench

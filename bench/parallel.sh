@@ -1,0 +1,42 @@
+#!/usr/bin/env bash
+# Which parallelism suits a cross-validated run of the reference network:
+# a K-fold run (K networks, each trained on K−1 folds) timed on one core,
+# then on two cores with (a) folds in parallel and single-threaded BLAS,
+# (b) sequential folds and two-thread BLAS, and (c) both at once (the
+# oversubscribed case), for the pure-Go and the OpenBLAS builds. Prints
+# wall seconds and the speed-up of each over one core. The rule in
+# train/parallel.go is read off these numbers.
+#
+# usage: bench/parallel.sh   (from the repository root)
+# knobs: SIZES="68 116 268" N=275 BATCH=16 EPOCHS=2 FOLDS=5
+set -euo pipefail
+cd "$(dirname "$0")/.."
+SIZES=${SIZES:-"68 116 268"}
+N=${N:-275}
+BATCH=${BATCH:-16}
+EPOCHS=${EPOCHS:-2}
+FOLDS=${FOLDS:-5}
+
+bin=$(mktemp -d)
+trap 'rm -rf "$bin"' EXIT
+go build -o "$bin/refnet-gonum" ./bench/cmd/refnet
+CGO_LDFLAGS=-lopenblas go build -tags openblas -o "$bin/refnet-openblas" ./bench/cmd/refnet
+wall() { sed -n 's/.*wall \([0-9.]*\) s.*/\1/p'; }
+
+echo "load before: $(uptime)"
+printf '%-9s %-5s %-28s %10s %9s\n' build p layout "wall s" speed-up
+for p in $SIZES; do
+  for build in gonum openblas; do
+    one=$(taskset -c 0 "$bin/refnet-$build" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -folds "$FOLDS" -procs 1 -threads 1 -jobs 1 | wall)
+    printf '%-9s %-5s %-28s %10.2f %9s\n' "$build" "$p" "1 core" "$one" 1.00
+    layouts=("2 jobs, 1 BLAS thread:-jobs 2 -threads 1" "1 job, 2 BLAS threads:-jobs 1 -threads 2")
+    [[ $build == openblas ]] && layouts+=("2 jobs, 2 BLAS threads:-jobs 2 -threads 2")
+    for l in "${layouts[@]}"; do
+      name=${l%%:*}
+      # shellcheck disable=SC2086
+      t=$("$bin/refnet-$build" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -folds "$FOLDS" -procs 2 ${l#*:} | wall)
+      awk -v b="$build" -v p="$p" -v n="$name" -v t="$t" -v o="$one" 'BEGIN {printf "%-9s %-5s %-28s %10.2f %9.2f\n", b, p, n, t, o/t}'
+    done
+  done
+done
+echo "load after: $(uptime)"

@@ -1,0 +1,84 @@
+package bench
+
+import (
+	"context"
+	"fmt"
+	"sync"
+	"testing"
+	"time"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/data/synth"
+	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/internal/blas"
+	"github.com/skein-neuro/skein/model/linear"
+	"github.com/skein-neuro/skein/train"
+)
+
+// permutationCohort is an invented cohort of 275 participants with 268
+// regions (35,778 edges), preprocessed with the defaults.
+var permutationCohort = sync.OnceValues(func() (*data.Cohort, error) {
+	sc, err := synth.Generate(synth.Config{N: 275, P: 268, Seed: 7, Targets: 1})
+	if err != nil {
+		return nil, err
+	}
+	var pre data.Preprocess
+	pre.SetDefaults()
+	for _, p := range sc.Participants {
+		pre.Functional(p.Functional)
+		pre.Structural(p.Structural)
+	}
+	return sc.Cohort, nil
+})
+
+// BenchmarkRidgePermutation times the whole permutation-test path
+// (eval.PermutationTest: 1000 permutations of the score, each a 5-fold
+// cross-validated ridge with the default alpha grid and inner folds,
+// scored like the observed run) at N = 275, p = 268, for several chunk
+// sizes (permutations fitted at once as extra score columns) and for
+// units in parallel with single-threaded BLAS against sequential units
+// with threaded BLAS. Run it with -benchtime 1x; it reports seconds per
+// test and permutations per second. The goal is under 30 s.
+func BenchmarkRidgePermutation(b *testing.B) {
+	cohort, err := permutationCohort()
+	if err != nil {
+		b.Fatal(err)
+	}
+	const perms = 1000
+	layouts := []struct{ jobs, threads int }{{2, 1}, {1, 2}}
+	for _, chunk := range []int{250, 500, 1000} {
+		for _, l := range layouts {
+			b.Run(fmt.Sprintf("chunk=%d/jobs=%d/threads=%d", chunk, l.jobs, l.threads), func(b *testing.B) {
+				defer blas.SetThreads(blas.SetThreads(l.threads))
+				exp := &train.Experiment{
+					Seed:        1,
+					CV:          train.CV{Folds: 5, Repeats: 1},
+					Models:      []train.ModelConfig{{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}}},
+					Permutation: train.Permutation{Count: perms, Chunk: chunk},
+				}
+				exp.SetDefaults()
+				r := &train.Runner{Experiment: exp, Cohort: cohort, Jobs: l.jobs}
+				ctx := context.Background()
+				res, err := r.Run(ctx)
+				if err != nil {
+					b.Fatal(err)
+				}
+				rows := make([]eval.Prediction, len(res.Predictions))
+				for i, p := range res.Predictions {
+					rows[i] = eval.Prediction(p)
+				}
+				observed := eval.Summarize(rows, 0, true)
+				b.ResetTimer()
+				start := time.Now()
+				for b.Loop() {
+					if _, err := eval.PermutationTest(ctx, r, observed); err != nil {
+						b.Fatal(err)
+					}
+				}
+				per := time.Since(start).Seconds() / float64(b.N)
+				b.ReportMetric(per, "s/test")
+				b.ReportMetric(perms/per, "perms/s")
+			})
+		}
+	}
+}
