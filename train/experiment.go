@@ -37,6 +37,9 @@ type Experiment struct {
 	Drift Drift `toml:"drift"`
 	// SampleSize asks for the sample-size curve ([sample_size]).
 	SampleSize SampleSize `toml:"sample_size"`
+	// Sweeps vary settings of models ([[sweep]]); Expand turns them into
+	// models.
+	Sweeps []Sweep `toml:"sweep,omitempty"`
 
 	// Dir is the folder of the experiment file; relative paths in the file
 	// are taken from it. It is not read from the file.
@@ -136,6 +139,9 @@ func (e *Experiment) Validate() error {
 		return err
 	}
 	if err := e.SampleSize.Validate(e.Models); err != nil {
+		return err
+	}
+	if err := validateSweeps(e.Sweeps, e.Models); err != nil {
 		return err
 	}
 	seen := make(map[string]bool)

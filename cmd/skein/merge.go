@@ -118,6 +118,9 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	if err := report.Write(rd); err != nil {
 		return err
 	}
+	if err := writeSweep(rd, b.exp, b.variants, res); err != nil {
+		return err
+	}
 	if err := rd.WriteFile(versionsFile, []byte(versions(exp))); err != nil {
 		return err
 	}

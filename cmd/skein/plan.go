@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/csv"
 	"encoding/json"
 	"errors"
 	"flag"
@@ -185,7 +186,8 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 
 // batch is an experiment opened for planning, running a unit or merging.
 type batch struct {
-	exp        *train.Experiment
+	exp        *train.Experiment // sweeps expanded
+	variants   []train.Variant   // the sweeps' variants
 	cohort     *data.Cohort
 	resolved   []byte // the resolved experiment file
 	cohortJSON []byte // cohort.json
@@ -209,14 +211,17 @@ func openBatchExperiment(expPath string, exp *train.Experiment) (*batch, error) 
 	if err != nil {
 		return nil, badInput(err)
 	}
-	b := &batch{exp: exp, cohort: cohort}
+	b := &batch{cohort: cohort}
 	if b.resolved, err = toml.Marshal(exp); err != nil {
 		return nil, err
+	}
+	if b.exp, b.variants, err = exp.Expand(); err != nil {
+		return nil, badInput(fmt.Errorf("%s: %w", expPath, err))
 	}
 	if b.cohortJSON, err = json.MarshalIndent(report, "", "  "); err != nil {
 		return nil, err
 	}
-	b.runner = &train.Runner{Experiment: exp, Cohort: cohort}
+	b.runner = &train.Runner{Experiment: b.exp, Cohort: cohort}
 	return b, nil
 }
 
@@ -499,4 +504,52 @@ func shellQuote(s string) string {
 		return s
 	}
 	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
+}
+
+// Files of a run with sweeps.
+const sweepFile = "sweep.csv"
+
+// writeSweep writes the ranking of the sweeps' variants by inner
+// validation loss (train.RankSweep) as sweep.csv and as a section of
+// summary.md. It writes nothing without sweeps.
+func writeSweep(rd *train.RunDir, exp *train.Experiment, variants []train.Variant, res *train.Result) error {
+	if len(variants) == 0 {
+		return nil
+	}
+	ranks := train.RankSweep(variants, exp, res)
+	var csvBuf bytes.Buffer
+	w := csv.NewWriter(&csvBuf)
+	w.Write([]string{"model", "variant", "rank", "inner_valid_loss", "units", "settings"})
+	md := &strings.Builder{}
+	md.WriteString("\n## Sweep\n\nVariants ranked by inner validation loss alone: the mean, over repeats × folds, of the validation loss " +
+		"(standardized scores) of the epoch each network kept. The outer test folds never choose a setting; the variants' " +
+		"test scores are in the tables above. Baselines have no inner validation loss and are not ranked.\n\n")
+	md.WriteString("| model | rank | variant | inner validation loss | units |\n| --- | --- | --- | --- | --- |\n")
+	for _, r := range ranks {
+		rank, loss := "", ""
+		mdRank, mdLoss := "not ranked", "n/a"
+		if r.Rank > 0 {
+			rank, loss = strconv.Itoa(r.Rank), strconv.FormatFloat(r.InnerLoss, 'g', -1, 64)
+			mdRank, mdLoss = rank, strconv.FormatFloat(r.InnerLoss, 'g', 4, 64)
+		}
+		settings := make([]string, len(r.Keys))
+		for i, k := range r.Keys {
+			settings[i] = fmt.Sprintf("%s=%v", k, r.Values[i])
+		}
+		w.Write([]string{r.Base, r.Name, rank, loss, strconv.Itoa(r.Units), strings.Join(settings, ";")})
+		cell := strings.NewReplacer("|", "\\|", "\n", " ").Replace
+		fmt.Fprintf(md, "| %s | %s | %s | %s | %d |\n", cell(r.Base), mdRank, cell(r.Name), mdLoss, r.Units)
+	}
+	w.Flush()
+	if err := w.Error(); err != nil {
+		return err
+	}
+	if err := rd.WriteFile(sweepFile, csvBuf.Bytes()); err != nil {
+		return err
+	}
+	summary, err := os.ReadFile(rd.WorkPath(eval.SummaryFile))
+	if err != nil {
+		return err
+	}
+	return rd.WriteFile(eval.SummaryFile, append(summary, md.String()...))
 }

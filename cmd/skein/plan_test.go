@@ -237,3 +237,64 @@ func TestMergeListsFailedUnits(t *testing.T) {
 		t.Fatalf("merge after failed units: exit %d: %s", code, stderr)
 	}
 }
+
+func TestSweepRankedByInnerValidation(t *testing.T) {
+	exp := writeBatchExperiment(t, 40, batchExperiment+`
+[[sweep]]
+model = "net"
+key = "network.epochs"
+values = [2, 6]
+
+[[sweep]]
+model = "ridge"
+key = "ridge.input"
+values = ["functional", "both"]
+`)
+	single := filepath.Join(t.TempDir(), "single")
+	if code, _, stderr := runSkein(t, "run", exp, "--out", single); code != exitOK {
+		t.Fatalf("run: exit %d: %s", code, stderr)
+	}
+	out := filepath.Join(t.TempDir(), "batch")
+	code, stdout, stderr := runSkein(t, "plan", exp, "--out", out)
+	// mean, 2 ridge and 2 net variants: 5 models × 6 folds, and 3
+	// permutation blocks each.
+	if code != exitOK || !strings.Contains(stdout, "45 units (30 model × fold units, 15 permutation blocks)") {
+		t.Fatalf("plan: exit %d: %s%s", code, stdout, stderr)
+	}
+	for _, k := range planUnits(t, out) {
+		if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--unit", k); code != exitOK {
+			t.Fatalf("unit %s: exit %d: %s", k, code, stderr)
+		}
+	}
+	if code, _, stderr := runSkein(t, "merge", out); code != exitOK {
+		t.Fatalf("merge: exit %d: %s", code, stderr)
+	}
+	compareRuns(t, single, out, append(resultFiles, "sweep.csv"))
+
+	raw, err := os.ReadFile(filepath.Join(out, "sweep.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSpace(string(raw)), "\n")
+	if len(lines) != 5 || lines[0] != "model,variant,rank,inner_valid_loss,units,settings" {
+		t.Fatalf("sweep.csv:\n%s", raw)
+	}
+	ranked := 0
+	for _, l := range lines[1:] {
+		f := strings.Split(l, ",")
+		switch {
+		case strings.HasPrefix(l, "ridge,"):
+			if f[2] != "" || f[3] != "" {
+				t.Errorf("a baseline variant is ranked: %s", l)
+			}
+		case strings.HasPrefix(l, "net,"):
+			ranked++
+			if f[2] != strconv.Itoa(ranked) || f[4] != "6" {
+				t.Errorf("network variant %d: %s", ranked, l)
+			}
+		}
+	}
+	if ranked != 2 {
+		t.Errorf("%d network variants ranked, want 2:\n%s", ranked, raw)
+	}
+}

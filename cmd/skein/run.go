@@ -90,6 +90,10 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
+	exp, variants, err := exp.Expand() // [[sweep]] points become models
+	if err != nil {
+		return badInput(fmt.Errorf("%s: %w", expPath, err))
+	}
 	rd, err := train.OpenRunDir(*out, *force, *resume)
 	if err != nil {
 		return badInput(err)
@@ -156,6 +160,9 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		return err
 	}
 	if err := report.Write(rd); err != nil {
+		return err
+	}
+	if err := writeSweep(rd, exp, variants, res); err != nil {
 		return err
 	}
 	if err := rd.WriteFile(versionsFile, []byte(versions(exp))); err != nil {

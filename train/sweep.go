@@ -1,0 +1,344 @@
+package train
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/pelletier/go-toml/v2"
+
+	"github.com/skein-neuro/skein/model"
+)
+
+// A Sweep varies one setting of one model over a list of values: a
+// [[sweep]] table of an experiment file. Several sweeps of the same model
+// form a grid: every combination of their values is a variant of the
+// model, run as a model of its own (see Experiment.Expand).
+//
+//	[[sweep]]
+//	model = "net"                     # the name of a [[model]]
+//	key = "network.optimizer.rate"    # a key inside that [[model]] table
+//	values = [1e-3, 3e-3, 1e-2]
+type Sweep struct {
+	// Model names the [[model]] whose setting varies.
+	Model string `toml:"model"`
+	// Key is the dotted path of the setting inside the [[model]] table,
+	// starting with its kind table: "network.epochs",
+	// "network.optimizer.rate", "ridge.alphas".
+	Key string `toml:"key"`
+	// Values are the values the setting takes, each of the type the key
+	// wants.
+	Values []any `toml:"values"`
+}
+
+// A Variant is one point of a sweep grid: a model made from a swept
+// model by setting some of its keys.
+type Variant struct {
+	// Base is the name of the swept [[model]]; Name the variant's:
+	// BASE[key=value,...], with each key shortened to its last part.
+	Base, Name string
+	// Keys and Values are the settings of the variant, in sweep order.
+	Keys   []string
+	Values []any
+}
+
+func validateSweeps(sweeps []Sweep, models []ModelConfig) error {
+	seen := make(map[[2]string]bool)
+	for i, s := range sweeps {
+		switch {
+		case !slices.ContainsFunc(models, func(m ModelConfig) bool { return m.Name == s.Model }):
+			return fmt.Errorf("sweep[%d].model: no model is named %q", i, s.Model)
+		case s.Key == "" || s.Key == "name":
+			return fmt.Errorf("sweep[%d].key: want the dotted path of a setting such as \"network.epochs\", found %q", i, s.Key)
+		case len(s.Values) == 0:
+			return fmt.Errorf("sweep[%d].values: want at least one value", i)
+		case seen[[2]string{s.Model, s.Key}]:
+			return fmt.Errorf("sweep[%d]: model %q, key %q is swept twice", i, s.Model, s.Key)
+		}
+		seen[[2]string{s.Model, s.Key}] = true
+	}
+	return nil
+}
+
+// Expand returns the experiment with every swept model replaced, in its
+// place, by its variants (one per combination of the values of its
+// sweeps, the first sweep varying slowest) and no sweeps; model names in
+// permutation.models, drift.models and sample_size.models that name a
+// swept model name all its variants. Each variant is decoded, given
+// defaults and validated as a [[model]] table of the file would be; an
+// error names the sweep and the key. An experiment without sweeps is
+// returned as is. The variants are listed in Variants.
+func (e *Experiment) Expand() (*Experiment, []Variant, error) {
+	if len(e.Sweeps) == 0 {
+		return e, nil, nil
+	}
+	out := *e
+	out.Sweeps = nil
+	out.Models = nil
+	var variants []Variant
+	renamed := make(map[string][]string)
+	for _, m := range e.Models {
+		var mine []int
+		for i, s := range e.Sweeps {
+			if s.Model == m.Name {
+				mine = append(mine, i)
+			}
+		}
+		if len(mine) == 0 {
+			out.Models = append(out.Models, m)
+			continue
+		}
+		grid, err := expandModel(m, e.Sweeps, mine)
+		if err != nil {
+			return nil, nil, err
+		}
+		for _, v := range grid {
+			if slices.ContainsFunc(e.Models, func(o ModelConfig) bool { return o.Name == v.variant.Name }) {
+				return nil, nil, fmt.Errorf("sweep of model %q: variant %q has the name of a model of the file", m.Name, v.variant.Name)
+			}
+			out.Models = append(out.Models, v.config)
+			variants = append(variants, v.variant)
+			renamed[m.Name] = append(renamed[m.Name], v.variant.Name)
+		}
+	}
+	rename := func(names []string) []string {
+		var to []string
+		for _, n := range names {
+			if vs, ok := renamed[n]; ok {
+				to = append(to, vs...)
+			} else {
+				to = append(to, n)
+			}
+		}
+		if to == nil {
+			to = []string{}
+		}
+		return to
+	}
+	out.Permutation.Models = rename(e.Permutation.Models)
+	out.Drift.Models = rename(e.Drift.Models)
+	out.SampleSize.Models = rename(e.SampleSize.Models)
+	if err := out.Validate(); err != nil {
+		return nil, nil, fmt.Errorf("expanding the sweeps: %w", err)
+	}
+	return &out, variants, nil
+}
+
+type gridPoint struct {
+	config  ModelConfig
+	variant Variant
+}
+
+func expandModel(m ModelConfig, sweeps []Sweep, mine []int) ([]gridPoint, error) {
+	raw, err := toml.Marshal(m)
+	if err != nil {
+		return nil, err
+	}
+	short := make([]string, len(mine))
+	for j, i := range mine {
+		parts := strings.Split(sweeps[i].Key, ".")
+		short[j] = parts[len(parts)-1]
+	}
+	for j := range short {
+		if slices.Index(short, short[j]) != j {
+			for k, i := range mine { // ambiguous: name variants by the whole keys
+				short[k] = sweeps[i].Key
+			}
+			break
+		}
+	}
+	var grid []gridPoint
+	choice := make([]int, len(mine))
+	for {
+		var table map[string]any
+		if err := toml.Unmarshal(raw, &table); err != nil {
+			return nil, err
+		}
+		v := Variant{Base: m.Name}
+		var label []string
+		for j, i := range mine {
+			s := sweeps[i]
+			value := s.Values[choice[j]]
+			if err := setKey(table, strings.Split(s.Key, "."), value); err != nil {
+				return nil, fmt.Errorf("sweep[%d].key: %w", i, err)
+			}
+			v.Keys = append(v.Keys, s.Key)
+			v.Values = append(v.Values, value)
+			label = append(label, short[j]+"="+formatValue(value))
+		}
+		v.Name = m.Name + "[" + strings.Join(label, ",") + "]"
+		table["name"] = v.Name
+		cfg, err := decodeModel(table)
+		if err != nil {
+			return nil, fmt.Errorf("sweep of model %q, variant %s: %w", m.Name, v.Name, err)
+		}
+		grid = append(grid, gridPoint{cfg, v})
+		// Next combination, the last sweep varying fastest.
+		j := len(mine) - 1
+		for ; j >= 0; j-- {
+			if choice[j]++; choice[j] < len(sweeps[mine[j]].Values) {
+				break
+			}
+			choice[j] = 0
+		}
+		if j < 0 {
+			return grid, nil
+		}
+	}
+}
+
+// setKey sets the dotted key path of table, which must lead through
+// tables that exist.
+func setKey(table map[string]any, path []string, value any) error {
+	for i, part := range path[:len(path)-1] {
+		next, ok := table[part].(map[string]any)
+		if !ok {
+			return fmt.Errorf("%q is not a table of the model (set its kind table, such as [model.network], in the file)", strings.Join(path[:i+1], "."))
+		}
+		table = next
+	}
+	table[path[len(path)-1]] = value
+	return nil
+}
+
+func decodeModel(table map[string]any) (ModelConfig, error) {
+	raw, err := toml.Marshal(table)
+	if err != nil {
+		return ModelConfig{}, err
+	}
+	var cfg ModelConfig
+	dec := toml.NewDecoder(bytes.NewReader(raw))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&cfg); err != nil {
+		var strict *toml.StrictMissingError
+		if errors.As(err, &strict) && len(strict.Errors) > 0 {
+			return ModelConfig{}, fmt.Errorf("unknown key %q", strings.Join(strict.Errors[0].Key(), "."))
+		}
+		var de *toml.DecodeError
+		if errors.As(err, &de) {
+			return ModelConfig{}, fmt.Errorf("key %q: %s", strings.Join(de.Key(), "."), strings.TrimPrefix(de.Error(), "toml: "))
+		}
+		return ModelConfig{}, err
+	}
+	cfg.SetDefaults()
+	if err := cfg.Validate(); err != nil {
+		return ModelConfig{}, err
+	}
+	return cfg, nil
+}
+
+func formatValue(v any) string {
+	switch x := v.(type) {
+	case float64:
+		return strconv.FormatFloat(x, 'g', -1, 64)
+	case string:
+		return x
+	}
+	return fmt.Sprint(v)
+}
+
+// A SweepRank is one variant's inner-validation score.
+type SweepRank struct {
+	Variant
+	// Rank is 1 for the best variant of its base model, 0 when the
+	// variant could not be ranked.
+	Rank int
+	// InnerLoss is the mean over the variant's units of the best inner
+	// validation loss of its training (model.Epoch.ValidLoss of the
+	// epoch kept), on the standardized scores; NaN when the model has no
+	// inner validation loss (baselines, or cv.inner_validation = 0).
+	InnerLoss float64
+	// Units counts the units InnerLoss averages.
+	Units int
+}
+
+// RankSweep ranks the variants of each swept model by their inner
+// validation loss alone, never by the outer test folds: for each variant,
+// the mean over its units (repeat × fold) of the validation loss of the
+// epoch whose weights were kept, lowest first. Only iteratively trained
+// models (graph networks) have such a loss; other variants are listed
+// unranked. The result keeps variants of one base together, best first.
+func RankSweep(variants []Variant, exp *Experiment, res *Result) []SweepRank {
+	index := make(map[string]int)
+	for i, m := range exp.Models {
+		index[m.Name] = i
+	}
+	var out []SweepRank
+	for _, v := range variants {
+		r := SweepRank{Variant: v, InnerLoss: math.NaN()}
+		sum, n := 0.0, 0
+		for _, u := range res.Units {
+			if u.Model != index[v.Name] {
+				continue
+			}
+			if loss := keptValidLoss(res.Histories[u]); !math.IsNaN(loss) {
+				sum += loss
+				n++
+			} else {
+				n = -1
+				break
+			}
+		}
+		if n > 0 {
+			r.InnerLoss, r.Units = sum/float64(n), n
+		}
+		out = append(out, r)
+	}
+	baseOrder := make(map[string]int)
+	for _, v := range variants {
+		if _, ok := baseOrder[v.Base]; !ok {
+			baseOrder[v.Base] = len(baseOrder)
+		}
+	}
+	slices.SortStableFunc(out, func(a, b SweepRank) int {
+		if a.Base != b.Base {
+			return baseOrder[a.Base] - baseOrder[b.Base]
+		}
+		switch an, bn := math.IsNaN(a.InnerLoss), math.IsNaN(b.InnerLoss); {
+		case an && bn:
+			return 0
+		case an:
+			return 1
+		case bn:
+			return -1
+		}
+		return cmpFloat(a.InnerLoss, b.InnerLoss)
+	})
+	rank := make(map[string]int)
+	for i := range out {
+		if !math.IsNaN(out[i].InnerLoss) {
+			rank[out[i].Base]++
+			out[i].Rank = rank[out[i].Base]
+		}
+	}
+	return out
+}
+
+func cmpFloat(a, b float64) int {
+	switch {
+	case a < b:
+		return -1
+	case a > b:
+		return 1
+	}
+	return 0
+}
+
+// keptValidLoss returns the validation loss of the epoch marked Best, or
+// the lowest one when none is marked; NaN without validation losses.
+func keptValidLoss(h []model.Epoch) float64 {
+	best := math.NaN()
+	for _, e := range h {
+		if e.Best && !math.IsNaN(e.ValidLoss) {
+			return e.ValidLoss
+		}
+		if !math.IsNaN(e.ValidLoss) && (math.IsNaN(best) || e.ValidLoss < best) {
+			best = e.ValidLoss
+		}
+	}
+	return best
+}
