@@ -67,8 +67,9 @@ func PlotHistory(w io.Writer, rows []HistoryRow) error {
 
 // PlotSampleSize draws the sample-size curve: for every model and target,
 // the mean over test folds of Pearson r against the mean training-subset
-// size of each fraction, with bars of ± one sample SD over the folds, and
-// writes it to w as a PNG image. It is an error to pass no rows.
+// size of each fraction, with bars of ± one sample SD over the folds
+// (series shifted sideways by at most 1% of the size range so that bars
+// stay apart), and writes it to w as a PNG image. It is an error to pass no rows.
 func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
 	if len(rows) == 0 {
 		return errors.New("runs: no sample-size curve to plot")
@@ -93,6 +94,18 @@ func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
 		}
 	}
 	sortKeys(keys)
+	// Series are shifted sideways by up to ±1% of the size range so that
+	// their error bars do not hide one another.
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, r := range rows {
+		lo, hi = min(lo, float64(r.NTrain)), max(hi, float64(r.NTrain))
+	}
+	shift := func(i int) float64 {
+		if len(keys) < 2 {
+			return 0
+		}
+		return (float64(i)/float64(len(keys)-1) - 0.5) * 0.02 * (hi - lo)
+	}
 	p := plot.New()
 	p.Title.Text = "Accuracy against training-set size (research software, not a diagnostic device)"
 	p.X.Label.Text = "participants in the training subset (mean over folds)"
@@ -116,7 +129,7 @@ func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
 			}
 			mean, sd := meanSD(pt.r)
 			n, _ := meanSD(pt.n)
-			curve.XYs = append(curve.XYs, plotter.XY{X: n, Y: mean})
+			curve.XYs = append(curve.XYs, plotter.XY{X: n + shift(i), Y: mean})
 			curve.YErrors = append(curve.YErrors, struct{ Low, High float64 }{sd, sd})
 		}
 		if err := addLine(p, i, k[0]+" · "+k[1], curve.XYs); err != nil {
