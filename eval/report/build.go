@@ -8,8 +8,9 @@ import (
 )
 
 // Build reads the run folder dir (ReadRun), draws its figures into
-// dir/figures/ and writes dir/report.html, replacing earlier ones. It
-// returns the figures drawn.
+// dir/figures/, writes the fold-averaged edge importance as
+// dir/importance.csv (when some model reported importance) and writes
+// dir/report.html, replacing earlier ones. It returns the figures drawn.
 func Build(dir string) ([]Figure, error) {
 	r, err := ReadRun(dir)
 	if err != nil {
@@ -30,6 +31,11 @@ func Build(dir string) ([]Figure, error) {
 	}
 	for _, f := range figs {
 		if err := writeAtomic(filepath.Join(figDir, f.File), f.PNG); err != nil {
+			return nil, err
+		}
+	}
+	if len(r.Importance) > 0 {
+		if err := writeAtomic(filepath.Join(dir, ImportanceFile), r.importanceCSV()); err != nil {
 			return nil, err
 		}
 	}

@@ -1,9 +1,14 @@
 package report
 
 import (
+	"bytes"
+	"encoding/csv"
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
+
+	"gonum.org/v1/gonum/stat"
 )
 
 // TopEdges is how many edges the importance tables rank.
@@ -255,4 +260,70 @@ func (r *Run) FilterFigures(sums []FilterSummary) ([]Figure, error) {
 			Title: title, Caption: caption, Width: w, Height: h, PNG: png})
 	}
 	return figs, nil
+}
+
+// ImportanceFile is the table of fold-averaged edge importance Build
+// writes into the run folder: one line per model, target and edge i < j,
+// with the columns
+//
+//	model,target,region_i,region_j,mean,sd,folds,same_sign
+//
+// region_i and region_j are labels, mean and sd the mean and sample SD
+// (n − 1; empty for one fold) over the folds, same_sign the fraction of
+// folds whose importance has the sign of the mean.
+const ImportanceFile = "importance.csv"
+
+// importanceCSV returns the run's importance maps as ImportanceFile.
+func (r *Run) importanceCSV() []byte {
+	targets := r.Experiment.Cohort.Targets
+	type key struct {
+		model  string
+		target int
+	}
+	var keys []key
+	maps := make(map[key][][]float64)
+	for _, u := range r.Importance {
+		for t, m := range u.Maps {
+			k := key{u.Model, t}
+			if _, ok := maps[k]; !ok {
+				keys = append(keys, k)
+			}
+			maps[k] = append(maps[k], m)
+		}
+	}
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	w.Write([]string{"model", "target", "region_i", "region_j", "mean", "sd", "folds", "same_sign"})
+	format := func(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
+	for _, k := range keys {
+		ms := maps[k]
+		p := int(math.Round(math.Sqrt(float64(len(ms[0])))))
+		labels := r.Regions
+		if len(labels) != p {
+			labels = defaultLabels(p)
+		}
+		vals := make([]float64, len(ms))
+		for i := range p {
+			for j := i + 1; j < p; j++ {
+				for f, m := range ms {
+					vals[f] = m[i*p+j]
+				}
+				mean, sd := stat.MeanStdDev(vals, nil)
+				same := 0
+				for _, v := range vals {
+					if v != 0 && (v > 0) == (mean > 0) {
+						same++
+					}
+				}
+				sdText := ""
+				if len(vals) > 1 {
+					sdText = format(sd)
+				}
+				w.Write([]string{k.model, targets[k.target], labels[i], labels[j], format(mean), sdText,
+					strconv.Itoa(len(vals)), format(float64(same) / float64(len(vals)))})
+			}
+		}
+	}
+	w.Flush()
+	return buf.Bytes()
 }

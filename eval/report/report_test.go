@@ -166,6 +166,7 @@ func TestBuildDrawsEveryFigure(t *testing.T) {
 		"learning-net.png",
 		"null-ridge-recall.png", "null-ridge-fluency.png",
 		"filters-net-b1.png",
+		"importance-ridge-recall.png", "importance-net-fluency.png",
 		"cohort.png",
 	}
 	byName := make(map[string]Figure)
