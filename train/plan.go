@@ -34,11 +34,13 @@ type BatchUnit struct {
 
 // BatchUnits splits the run of r into independent units: first every Unit
 // of Units, in its order, then, when the experiment has a permutation
-// test, each tested model's permutations in blocks of about block
-// permutations (block ≤ 0 means permutation.chunk). For models that fit
-// score columns together (model.ColumnWise) a block is rounded up to a
-// multiple of permutation.chunk, so that the blocks fit the same chunks of
-// permutations as a single-machine run and give the same numbers.
+// test, each tested model's permutations, model by model, in blocks of
+// block permutations. For models that fit score columns together
+// (model.ColumnWise: the baselines) a block is rounded up to a multiple of
+// permutation.chunk, so that the blocks fit the same chunks of
+// permutations as a single-machine run and give the same numbers. block ≤
+// 0 means DefaultBlock for the other models (networks, which retrain for
+// every permutation) and one chunk for the baselines.
 func (r *Runner) BatchUnits(block int) ([]BatchUnit, error) {
 	units, err := r.Units()
 	if err != nil {
@@ -52,9 +54,6 @@ func (r *Runner) BatchUnits(block int) ([]BatchUnit, error) {
 	if pc.Count == 0 {
 		return plan, nil
 	}
-	if block <= 0 {
-		block = pc.Chunk
-	}
 	for _, m := range r.Experiment.Models {
 		if len(pc.Models) > 0 && !slices.Contains(pc.Models, m.Name) {
 			continue
@@ -63,13 +62,24 @@ func (r *Runner) BatchUnits(block int) ([]BatchUnit, error) {
 		if err != nil {
 			return nil, err
 		}
-		size := (block + step - 1) / step * step
+		size := block
+		switch {
+		case size <= 0 && step > 1:
+			size = step
+		case size <= 0:
+			size = DefaultBlock
+		}
+		size = (size + step - 1) / step * step
 		for first := 0; first < pc.Count; first += size {
 			plan = append(plan, BatchUnit{Index: len(plan), Kind: BatchPermutations, Model: m.Name, First: first, End: min(first+size, pc.Count)})
 		}
 	}
 	return plan, nil
 }
+
+// DefaultBlock is the number of permutations of a network in one unit of
+// BatchUnits when none is asked for: each is a whole cross-validation.
+const DefaultBlock = 10
 
 // permutationStep returns how many permutations RunPermutations fits at
 // once for m: permutation.chunk for a model.ColumnWise, else 1.

@@ -65,7 +65,7 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 	fs := flag.NewFlagSet("plan", flag.ContinueOnError)
 	fs.SetOutput(cio.stderr)
 	out := fs.String("out", "", "run folder merge will create; the plan goes into its work folder OUT.partial (required)")
-	block := fs.Int("block", 0, "permutations per unit (default permutation.chunk; rounded up to a multiple of it for baselines)")
+	block := fs.Int("block", 0, "permutations per unit (default 10 for networks, permutation.chunk for baselines, whose blocks are rounded up to a multiple of it)")
 	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins for NMI")
 	force := fs.Bool("force", false, "start the plan over, deleting finished units of an earlier plan, and let merge replace an existing run folder")
 	skein := fs.String("skein", "", "the skein program the job script runs (default this one)")
@@ -178,6 +178,9 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintf(cio.stdout, "The folder held this plan already: its finished units are kept and will be skipped.\n")
 	}
 	fmt.Fprintf(cio.stdout, "\nOn a SLURM cluster:    sbatch %s\n", shellQuote(rd.WorkPath(jobFile)))
+	if len(units) > 1000 {
+		fmt.Fprintf(cio.stdout, "                       (clusters often cap an array at 1001 tasks, MaxArraySize: submit it in parts with --array=0-999, --array=1000-1999, ...)\n")
+	}
 	fmt.Fprintf(cio.stdout, "Without a scheduler:   tail -n +2 %s | cut -f1 | xargs -P 2 -I{} %s run %s --out %s --jobs 1 --unit {}\n",
 		shellQuote(rd.WorkPath(unitsFile)), shellQuote(*skein), shellQuote(expPath), shellQuote(outAbs))
 	fmt.Fprintf(cio.stdout, "Then:                  %s merge %s\n", shellQuote(*skein), shellQuote(outAbs))

@@ -112,7 +112,7 @@ func TestPlanUnitsMergeEqualsSingleRun(t *testing.T) {
 	}
 
 	out := filepath.Join(t.TempDir(), "batch")
-	code, stdout, stderr := runSkein(t, "plan", exp, "--out", out, "--time", "00:10:00", "--mem", "1G", "--partition", "short", "--skein", "/opt/skein")
+	code, stdout, stderr := runSkein(t, "plan", exp, "--out", out, "--block", "4", "--time", "00:10:00", "--mem", "1G", "--partition", "short", "--skein", "/opt/skein")
 	if code != exitOK {
 		t.Fatalf("plan: exit %d: %s", code, stderr)
 	}
@@ -255,7 +255,7 @@ values = ["functional", "both"]
 		t.Fatalf("run: exit %d: %s", code, stderr)
 	}
 	out := filepath.Join(t.TempDir(), "batch")
-	code, stdout, stderr := runSkein(t, "plan", exp, "--out", out)
+	code, stdout, stderr := runSkein(t, "plan", exp, "--out", out, "--block", "4")
 	// mean, 2 ridge and 2 net variants: 5 models × 6 folds, and 3
 	// permutation blocks each.
 	if code != exitOK || !strings.Contains(stdout, "45 units (30 model × fold units, 15 permutation blocks)") {
