@@ -35,7 +35,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	fs := flag.NewFlagSet("run", flag.ContinueOnError)
 	fs.SetOutput(cio.stderr)
 	out := fs.String("out", "", "run folder to create (default runs/NAME-YYYYMMDD-HHMMSS)")
-	jobs := fs.Int("jobs", runtime.NumCPU(), "units trained at once; results do not depend on it")
+	jobs := fs.Int("jobs", 0, "units trained at once (default: from the number of units and cores, train.ChooseParallelism); results do not depend on it")
 	force := fs.Bool("force", false, "replace an existing run folder once the new run has finished")
 	resume := fs.Bool("resume", false, "finish an interrupted run in the same folder")
 	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins for NMI")
@@ -68,6 +68,14 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if len(exp.Models) == 0 {
 		return badInput(fmt.Errorf("%s: no [[model]] to run", expPath))
 	}
+	// One kind of parallelism at a time: units at once, the cores left
+	// over to the BLAS.
+	par := train.ChooseParallelism(runtime.NumCPU(), len(exp.Models)*exp.CV.Folds*exp.CV.Repeats)
+	if *jobs > 0 {
+		par = train.Parallelism{Jobs: *jobs, BLASThreads: train.BLASThreadsFor(runtime.NumCPU(), *jobs)}
+	}
+	*jobs = par.Jobs
+	blasThreads := train.ApplyBLASThreads(par.BLASThreads)
 	prev, err := readAgainst(cio, *against, exp)
 	if err != nil {
 		return err
@@ -118,7 +126,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	defer logOut.Close()
 	fileLog := slog.New(slog.NewJSONHandler(logOut, nil))
 	fileLog.Info("run started", "experiment", expPath, "out", rd.Final, "seed", exp.Seed,
-		"participants", len(cohort.Participants), "excluded", len(cohort.Excluded), "jobs", *jobs, "resume", *resume)
+		"participants", len(cohort.Participants), "excluded", len(cohort.Excluded), "jobs", *jobs, "blas_threads", blasThreads, "resume", *resume)
 	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), len(exp.Models)*exp.CV.Folds*exp.CV.Repeats)
 	fmt.Fprintf(cio.stderr, "skein run: %d participants (%d excluded), %d regions, %d models, %d-fold × %d\n",
 		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), exp.CV.Folds, exp.CV.Repeats)
