@@ -30,7 +30,7 @@ type page struct {
 	Models     []modelRow
 	Comparison template.HTML
 	Sections   []section
-	Importance []ModelImportance
+	Importance []importanceBlock
 	Filters    []FilterSummary
 	Regions    []string
 	Cautions   []string
@@ -40,6 +40,13 @@ type page struct {
 }
 
 type modelRow struct{ Name, Kind, Detail string }
+
+// importanceBlock is one model × target of the importance section: its
+// heat map and its ranked edges.
+type importanceBlock struct {
+	ModelImportance
+	Figure *htmlFigure
+}
 
 type section struct {
 	Title   string
@@ -59,7 +66,6 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 		Title:      "skein run report — " + filepath.Base(filepath.Clean(r.Dir)),
 		Folder:     filepath.Base(filepath.Clean(r.Dir)),
 		Comparison: markdownHTML(r.SummaryMarkdown),
-		Importance: imp,
 		Filters:    filters,
 		Regions:    r.Regions,
 		Cautions:   Cautions,
@@ -95,11 +101,25 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 		}
 		pg.Models = append(pg.Models, row)
 	}
+	embed := func(f Figure) htmlFigure {
+		return htmlFigure{f, template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(f.PNG))}
+	}
+	for _, m := range imp {
+		b := importanceBlock{ModelImportance: m}
+		name := fileName("importance", m.Model, m.Target)
+		for _, f := range figs {
+			if f.File == name {
+				hf := embed(f)
+				b.Figure = &hf
+			}
+		}
+		pg.Importance = append(pg.Importance, b)
+	}
 	for _, title := range []string{SectionComparison, SectionPredictions, SectionLearning, SectionNulls, SectionImportance, SectionFilters, SectionCohort} {
 		s := section{Title: title}
 		for _, f := range figs {
-			if f.Section == title {
-				s.Figures = append(s.Figures, htmlFigure{f, template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(f.PNG))})
+			if f.Section == title && title != SectionImportance {
+				s.Figures = append(s.Figures, embed(f))
 			}
 		}
 		if len(s.Figures) > 0 || (title == SectionImportance && len(imp) > 0) || (title == SectionFilters && len(filters) > 0) {
@@ -137,8 +157,10 @@ th, td { border: 1px solid #c8c8d0; padding: .25rem .55rem; text-align: left; ve
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
 th { background: #eef0f5; }
 .caution { background: #fff6e0; border-left: 4px solid #d99a00; padding: .5rem 1rem; margin: 1rem 0; }
-figure { display: inline-block; margin: .6rem 1rem 1.2rem 0; vertical-align: top; max-width: 100%; }
-figure img { max-width: 100%; height: auto; border: 1px solid #e0e0e6; }
+figure { display: inline-block; margin: .6rem 1.5% 1.2rem 0; vertical-align: top; box-sizing: border-box; }
+figure.half { width: 48%; }
+figure.wide { width: 98%; }
+figure img { width: 100%; height: auto; border: 1px solid #e0e0e6; box-sizing: border-box; }
 figcaption { font-size: .85rem; color: #444; max-width: 44rem; }
 pre { background: #f5f6f8; border: 1px solid #dde; padding: .6rem; overflow-x: auto; font-size: .8rem; }
 blockquote { margin: .5rem 0; padding: .3rem 1rem; border-left: 4px solid #d99a00; background: #fff6e0; }
@@ -163,12 +185,17 @@ blockquote { margin: .5rem 0; padding: .3rem 1rem; border-left: 4px solid #d99a0
 </div>
 {{range .Sections}}
 <h2>{{.Title}}</h2>
-{{range .Figures}}<figure>
+{{range .Figures}}<figure class="{{if gt .Width 700}}wide{{else}}half{{end}}" style="max-width: {{.Width}}px">
 <img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}">
 <figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption>
 </figure>
 {{end}}{{if imp .Title}}{{range $.Importance}}
-<h3>{{.Model}} — {{.Target}}: top edges</h3>
+<h3>{{.Model}} — {{.Target}}</h3>
+{{with .Figure}}<figure class="{{if gt .Width 700}}wide{{else}}half{{end}}" style="max-width: {{.Width}}px">
+<img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}">
+<figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption>
+</figure>
+{{end}}
 <table class="edges">
 <tr><th class="num">rank</th><th>edge</th><th class="num">mean importance</th><th class="num">in top {{len .Top}} of a fold</th><th class="num">same sign</th></tr>
 {{range $k, $e := .Top}}<tr><td class="num">{{inc $k}}</td><td>{{region $.Regions $e.I}} – {{region $.Regions $e.J}}</td><td class="num">{{num $e.Mean}}</td><td class="num">{{pct $e.InTop}}</td><td class="num">{{pct $e.SameSign}}</td></tr>
