@@ -114,12 +114,15 @@ func ReadNullScores(r io.Reader, name string) ([]NullScores, error) {
 // machine: for each group of observed, in its order, whose model has null
 // scores, the scores of permutations 0 to count-1 and the p-values. Every
 // model with null scores must have every permutation of every target of
-// its groups exactly once.
+// its groups exactly once, scored with the bins of observed.
 func AssembleNulls(observed *Summary, rows []NullScores, count int) ([]NullDistribution, error) {
 	byKey := make(map[[2]string][]*Scores)
 	tested := make(map[string]bool)
 	for i := range rows {
 		r := &rows[i]
+		if r.Bins != observed.Bins {
+			return nil, fmt.Errorf("model %q, target %q, permutation %d: NMI scored with %d bins, the run uses %d", r.Model, r.Target, r.Permutation, r.Bins, observed.Bins)
+		}
 		if r.Permutation < 0 || r.Permutation >= count {
 			return nil, fmt.Errorf("model %q, target %q: permutation %d is outside 0 to %d", r.Model, r.Target, r.Permutation, count-1)
 		}

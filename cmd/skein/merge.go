@@ -109,6 +109,13 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 		return reportMissing(cio, rd, rec, units, missing)
 	}
 
+	if exp.Output.Refit {
+		fmt.Fprintln(cio.stderr, "skein merge: refitting on all participants")
+		r.Models = rd.ModelsDir()
+		if err := r.Refit(ctx); err != nil {
+			return err
+		}
+	}
 	report, err := eval.EvaluateWithNulls(ctx, r, res, rec.Bins, func(observed *eval.Summary) ([]eval.NullDistribution, error) {
 		return eval.AssembleNulls(observed, nullRows, exp.Permutation.Count)
 	})

@@ -139,6 +139,13 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return badInput(err)
 	}
+	if old, err := readPlan(outAbs); resume && err == nil && old.Bins != *bins {
+		// Null scores of the earlier plan used other NMI bins.
+		if err := os.RemoveAll(rd.WorkPath(nullsDir)); err != nil {
+			return err
+		}
+		fmt.Fprintf(cio.stdout, "skein plan: --bins changed from %d to %d: the permutation blocks will run again\n", old.Bins, *bins)
+	}
 	rec := planRecord{Experiment: expPath, ExperimentDir: b.exp.Dir, Out: outAbs, Block: *block, Bins: *bins, Replace: *force, Units: len(units)}
 	recJSON, err := json.MarshalIndent(rec, "", "  ")
 	if err != nil {
@@ -487,6 +494,7 @@ func jobScript(units int, skein string, rec planRecord, rd *train.RunDir, so slu
 # Once all finished:  %s merge %s
 # A finished unit is skipped when it runs again.
 set -eu
+: "${SLURM_ARRAY_TASK_ID:?submit this script with sbatch, or run one unit with skein run --unit K}"
 exec %s run %s --out %s --jobs "${SLURM_CPUS_PER_TASK:-1}" --unit "$SLURM_ARRAY_TASK_ID"
 `, units, rec.Experiment, rd.WorkPath(jobFile), rd.WorkPath(jobFile), skein, rec.Out,
 		shellQuote(skein), shellQuote(rec.Experiment), shellQuote(rec.Out))

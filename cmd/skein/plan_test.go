@@ -298,3 +298,35 @@ values = ["functional", "both"]
 		t.Errorf("%d network variants ranked, want 2:\n%s", ranked, raw)
 	}
 }
+
+func TestPlanForceReplacesMergedRun(t *testing.T) {
+	exp := writeBatchExperiment(t, 30, "\n[cv]\nfolds = 3\n\n"+meanModel)
+	out := filepath.Join(t.TempDir(), "batch")
+	planAndMerge := func(args ...string) {
+		t.Helper()
+		if code, _, stderr := runSkein(t, append([]string{"plan", exp, "--out", out}, args...)...); code != exitOK {
+			t.Fatalf("plan %v: exit %d: %s", args, code, stderr)
+		}
+		for _, k := range planUnits(t, out) {
+			if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--unit", k); code != exitOK {
+				t.Fatalf("unit %s: exit %d: %s", k, code, stderr)
+			}
+		}
+		if code, _, stderr := runSkein(t, "merge", out); code != exitOK {
+			t.Fatalf("merge: exit %d: %s", code, stderr)
+		}
+	}
+	planAndMerge()
+	first, _ := os.ReadFile(filepath.Join(out, "predictions.csv"))
+	if code, _, stderr := runSkein(t, "plan", exp, "--out", out); code != exitBadInput || !strings.Contains(stderr, "--force") {
+		t.Fatalf("plan over a merged run: exit %d: %s", code, stderr)
+	}
+	planAndMerge("--force")
+	second, err := os.ReadFile(filepath.Join(out, "predictions.csv"))
+	if err != nil || !bytes.Equal(first, second) {
+		t.Fatalf("the replaced run differs: %v", err)
+	}
+	if _, err := os.Stat(out + ".partial"); err == nil {
+		t.Error("work folder left behind")
+	}
+}
