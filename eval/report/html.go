@@ -63,8 +63,8 @@ type htmlFigure struct {
 func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filters []FilterSummary) error {
 	exp := r.Experiment
 	pg := page{
-		Title:      "skein run report — " + filepath.Base(filepath.Clean(r.Dir)),
-		Folder:     filepath.Base(filepath.Clean(r.Dir)),
+		Title:      "skein run report — " + r.Name,
+		Folder:     r.Name,
 		Comparison: markdownHTML(r.SummaryMarkdown),
 		Filters:    filters,
 		Regions:    r.Regions,

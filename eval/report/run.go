@@ -39,6 +39,10 @@ const (
 // Run is what a finished run folder holds, read back from its files.
 type Run struct {
 	Dir string
+	// Name is the run folder's name: the base of Dir without the
+	// ".partial" suffix of a run's work folder, which becomes the run
+	// folder when the run is committed.
+	Name string
 	// Experiment is the resolved experiment file; ExperimentText its text.
 	Experiment     *train.Experiment
 	ExperimentText string
@@ -101,7 +105,7 @@ type UnitImportance struct {
 // part of Run empty when absent. A file that is present but malformed is
 // an error naming it and, where it applies, the line and column.
 func ReadRun(dir string) (*Run, error) {
-	r := &Run{Dir: dir}
+	r := &Run{Dir: dir, Name: strings.TrimSuffix(filepath.Base(filepath.Clean(dir)), ".partial")}
 	raw, err := os.ReadFile(filepath.Join(dir, ExperimentFile))
 	if err != nil {
 		return nil, fmt.Errorf("%w (is %s a run folder of skein run?)", err, dir)
