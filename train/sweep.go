@@ -50,8 +50,6 @@ func validateSweeps(sweeps []Sweep, models []ModelConfig) error {
 	seen := make(map[[2]string]bool)
 	for i, s := range sweeps {
 		switch {
-		case !slices.ContainsFunc(models, func(m ModelConfig) bool { return m.Name == s.Model }):
-			return fmt.Errorf("sweep[%d].model: no model is named %q", i, s.Model)
 		case s.Key == "" || s.Key == "name":
 			return fmt.Errorf("sweep[%d].key: want the dotted path of a setting such as \"network.epochs\", found %q", i, s.Key)
 		case len(s.Values) == 0:
@@ -61,61 +59,131 @@ func validateSweeps(sweeps []Sweep, models []ModelConfig) error {
 		}
 		seen[[2]string{s.Model, s.Key}] = true
 	}
+	for i, s := range sweeps {
+		if hasModel(models, s.Model) {
+			continue
+		}
+		// An expanded experiment (a run folder's experiment.toml) holds
+		// the variants instead.
+		for _, v := range sweepGrid(s.Model, sweeps) {
+			if !hasModel(models, v.Name) {
+				return fmt.Errorf("sweep[%d].model: no model is named %q", i, s.Model)
+			}
+		}
+	}
 	return nil
+}
+
+func hasModel(models []ModelConfig, name string) bool {
+	return slices.ContainsFunc(models, func(m ModelConfig) bool { return m.Name == name })
+}
+
+// sweepGrid returns the variants the sweeps of model base make, in grid
+// order: the first sweep varying slowest.
+func sweepGrid(base string, sweeps []Sweep) []Variant {
+	var mine []Sweep
+	for _, s := range sweeps {
+		if s.Model == base {
+			mine = append(mine, s)
+		}
+	}
+	short := make([]string, len(mine))
+	for j, s := range mine {
+		parts := strings.Split(s.Key, ".")
+		short[j] = parts[len(parts)-1]
+	}
+	for j := range short {
+		if slices.Index(short, short[j]) != j {
+			for k, s := range mine { // ambiguous: name variants by the whole keys
+				short[k] = s.Key
+			}
+			break
+		}
+	}
+	var grid []Variant
+	choice := make([]int, len(mine))
+	for {
+		v := Variant{Base: base}
+		label := make([]string, len(mine))
+		for j, s := range mine {
+			value := s.Values[choice[j]]
+			v.Keys = append(v.Keys, s.Key)
+			v.Values = append(v.Values, value)
+			label[j] = short[j] + "=" + formatValue(value)
+		}
+		v.Name = base + "[" + strings.Join(label, ",") + "]"
+		grid = append(grid, v)
+		j := len(mine) - 1
+		for ; j >= 0; j-- {
+			if choice[j]++; choice[j] < len(mine[j].Values) {
+				break
+			}
+			choice[j] = 0
+		}
+		if j < 0 {
+			return grid
+		}
+	}
 }
 
 // Expand returns the experiment with every swept model replaced, in its
 // place, by its variants (one per combination of the values of its
-// sweeps, the first sweep varying slowest) and no sweeps; model names in
-// permutation.models, drift.models and sample_size.models that name a
-// swept model name all its variants. Each variant is decoded, given
-// defaults and validated as a [[model]] table of the file would be; an
-// error names the sweep and the key. An experiment without sweeps is
-// returned as is. The variants are listed in Variants.
+// sweeps, the first sweep varying slowest), and the variants in the order
+// of the models. Model names in permutation.models, drift.models and
+// sample_size.models that name a swept model name all its variants. Each
+// variant is decoded, given defaults and validated as a [[model]] table of
+// the file would be; an error names the sweep and the key. The result
+// keeps the sweeps, and expanding it again changes nothing: written out,
+// it is the experiment.toml of a run folder, which reads back as the same
+// models and variants. An experiment without sweeps is returned as is.
 func (e *Experiment) Expand() (*Experiment, []Variant, error) {
 	if len(e.Sweeps) == 0 {
 		return e, nil, nil
 	}
 	out := *e
-	out.Sweeps = nil
 	out.Models = nil
-	var variants []Variant
+	swept := make(map[string]bool)
+	for _, s := range e.Sweeps {
+		swept[s.Model] = true
+	}
+	byName := make(map[string]Variant)
 	renamed := make(map[string][]string)
-	for _, m := range e.Models {
-		var mine []int
-		for i, s := range e.Sweeps {
-			if s.Model == m.Name {
-				mine = append(mine, i)
-			}
+	for base := range swept {
+		for _, v := range sweepGrid(base, e.Sweeps) {
+			byName[v.Name] = v
+			renamed[base] = append(renamed[base], v.Name)
 		}
-		if len(mine) == 0 {
+	}
+	for _, m := range e.Models {
+		if !swept[m.Name] {
 			out.Models = append(out.Models, m)
 			continue
 		}
-		grid, err := expandModel(m, e.Sweeps, mine)
-		if err != nil {
-			return nil, nil, err
-		}
-		for _, v := range grid {
-			if slices.ContainsFunc(e.Models, func(o ModelConfig) bool { return o.Name == v.variant.Name }) {
-				return nil, nil, fmt.Errorf("sweep of model %q: variant %q has the name of a model of the file", m.Name, v.variant.Name)
+		for _, v := range sweepGrid(m.Name, e.Sweeps) {
+			if hasModel(e.Models, v.Name) {
+				return nil, nil, fmt.Errorf("sweep of model %q: variant %q has the name of a model of the file", m.Name, v.Name)
 			}
-			out.Models = append(out.Models, v.config)
-			variants = append(variants, v.variant)
-			renamed[m.Name] = append(renamed[m.Name], v.variant.Name)
+			cfg, err := variantModel(m, v, e.Sweeps)
+			if err != nil {
+				return nil, nil, err
+			}
+			out.Models = append(out.Models, cfg)
+		}
+	}
+	var variants []Variant
+	for _, m := range out.Models {
+		if v, ok := byName[m.Name]; ok {
+			variants = append(variants, v)
 		}
 	}
 	rename := func(names []string) []string {
-		var to []string
+		to := []string{}
 		for _, n := range names {
-			if vs, ok := renamed[n]; ok {
+			if vs, ok := renamed[n]; ok && !hasModel(e.Models, vs[0]) {
 				to = append(to, vs...)
 			} else {
 				to = append(to, n)
 			}
-		}
-		if to == nil {
-			to = []string{}
 		}
 		return to
 	}
@@ -128,67 +196,28 @@ func (e *Experiment) Expand() (*Experiment, []Variant, error) {
 	return &out, variants, nil
 }
 
-type gridPoint struct {
-	config  ModelConfig
-	variant Variant
-}
-
-func expandModel(m ModelConfig, sweeps []Sweep, mine []int) ([]gridPoint, error) {
+// variantModel makes the model of variant v from the swept model m.
+func variantModel(m ModelConfig, v Variant, sweeps []Sweep) (ModelConfig, error) {
 	raw, err := toml.Marshal(m)
 	if err != nil {
-		return nil, err
+		return ModelConfig{}, err
 	}
-	short := make([]string, len(mine))
-	for j, i := range mine {
-		parts := strings.Split(sweeps[i].Key, ".")
-		short[j] = parts[len(parts)-1]
+	var table map[string]any
+	if err := toml.Unmarshal(raw, &table); err != nil {
+		return ModelConfig{}, err
 	}
-	for j := range short {
-		if slices.Index(short, short[j]) != j {
-			for k, i := range mine { // ambiguous: name variants by the whole keys
-				short[k] = sweeps[i].Key
-			}
-			break
+	for j, key := range v.Keys {
+		if err := setKey(table, strings.Split(key, "."), v.Values[j]); err != nil {
+			i := slices.IndexFunc(sweeps, func(s Sweep) bool { return s.Model == m.Name && s.Key == key })
+			return ModelConfig{}, fmt.Errorf("sweep[%d].key: %w", i, err)
 		}
 	}
-	var grid []gridPoint
-	choice := make([]int, len(mine))
-	for {
-		var table map[string]any
-		if err := toml.Unmarshal(raw, &table); err != nil {
-			return nil, err
-		}
-		v := Variant{Base: m.Name}
-		var label []string
-		for j, i := range mine {
-			s := sweeps[i]
-			value := s.Values[choice[j]]
-			if err := setKey(table, strings.Split(s.Key, "."), value); err != nil {
-				return nil, fmt.Errorf("sweep[%d].key: %w", i, err)
-			}
-			v.Keys = append(v.Keys, s.Key)
-			v.Values = append(v.Values, value)
-			label = append(label, short[j]+"="+formatValue(value))
-		}
-		v.Name = m.Name + "[" + strings.Join(label, ",") + "]"
-		table["name"] = v.Name
-		cfg, err := decodeModel(table)
-		if err != nil {
-			return nil, fmt.Errorf("sweep of model %q, variant %s: %w", m.Name, v.Name, err)
-		}
-		grid = append(grid, gridPoint{cfg, v})
-		// Next combination, the last sweep varying fastest.
-		j := len(mine) - 1
-		for ; j >= 0; j-- {
-			if choice[j]++; choice[j] < len(sweeps[mine[j]].Values) {
-				break
-			}
-			choice[j] = 0
-		}
-		if j < 0 {
-			return grid, nil
-		}
+	table["name"] = v.Name
+	cfg, err := decodeModel(table)
+	if err != nil {
+		return ModelConfig{}, fmt.Errorf("sweep of model %q, variant %s: %w", m.Name, v.Name, err)
 	}
+	return cfg, nil
 }
 
 // setKey sets the dotted key path of table, which must lead through

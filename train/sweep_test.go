@@ -69,8 +69,9 @@ func TestExpandSweepGrid(t *testing.T) {
 	if len(exp.Models) != 2 || exp.Models[1].Network.Epochs != 10 {
 		t.Error("Expand changed the experiment it expanded")
 	}
-	// The expanded experiment, written out, reads back as itself: a run
-	// folder's experiment.toml reruns the same models.
+	// The expanded experiment, written out, reads back as itself, with
+	// the same variants: a run folder's experiment.toml reruns the same
+	// models.
 	raw, err := toml.Marshal(expanded)
 	if err != nil {
 		t.Fatal(err)
@@ -80,8 +81,8 @@ func TestExpandSweepGrid(t *testing.T) {
 		t.Fatalf("expanded experiment does not read back: %v", err)
 	}
 	again2, vs, err := again.Expand()
-	if err != nil || vs != nil {
-		t.Fatalf("expanding again: %v, %d variants", err, len(vs))
+	if err != nil || len(vs) != 4 || vs[3].Name != names[4] || vs[3].Keys[1] != "network.optimizer.rate" {
+		t.Fatalf("expanding again: %v, variants %+v", err, vs)
 	}
 	raw2, _ := toml.Marshal(again2)
 	if !bytes.Equal(raw, raw2) {

@@ -222,11 +222,11 @@ func openBatchExperiment(expPath string, exp *train.Experiment) (*batch, error) 
 		return nil, badInput(err)
 	}
 	b := &batch{cohort: cohort}
-	if b.resolved, err = toml.Marshal(exp); err != nil {
-		return nil, err
-	}
 	if b.exp, b.variants, err = exp.Expand(); err != nil {
 		return nil, badInput(fmt.Errorf("%s: %w", expPath, err))
+	}
+	if b.resolved, err = toml.Marshal(b.exp); err != nil {
+		return nil, err
 	}
 	if b.cohortJSON, err = json.MarshalIndent(report, "", "  "); err != nil {
 		return nil, err

@@ -94,13 +94,13 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		}
 		*out = filepath.Join("runs", stem+"-"+time.Now().Format("20060102-150405"))
 	}
-	resolved, err := toml.Marshal(exp)
-	if err != nil {
-		return err
-	}
 	exp, variants, err := exp.Expand() // [[sweep]] points become models
 	if err != nil {
 		return badInput(fmt.Errorf("%s: %w", expPath, err))
+	}
+	resolved, err := toml.Marshal(exp)
+	if err != nil {
+		return err
 	}
 	rd, err := train.OpenRunDir(*out, *force, *resume)
 	if err != nil {
