@@ -135,6 +135,10 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 	if err := rd.CheckResume(resolvedFile, b.resolved); err != nil {
 		return badInput(fmt.Errorf("%w (its finished units would not belong to this plan)", err))
 	}
+	if old, err := os.ReadFile(rd.WorkPath(cohortFile)); resume && err == nil && !bytes.Equal(old, b.cohortJSON) {
+		return badInput(fmt.Errorf("%s: the cohort's files changed since its units ran (%s differs); pass --force to start over",
+			rd.Partial, cohortFile))
+	}
 	units, err := b.runner.BatchUnits(*block)
 	if err != nil {
 		return badInput(err)
@@ -182,7 +186,7 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 	}
 	fmt.Fprintf(cio.stdout, "skein plan: %d units (%d model × fold units, %d permutation blocks) in %s\n", len(units), models, perms, rd.Partial)
 	if resume {
-		fmt.Fprintf(cio.stdout, "The folder held this plan already: its finished units are kept and will be skipped.\n")
+		fmt.Fprintf(cio.stdout, "The work folder held this experiment already: its finished units are kept and will be skipped.\n")
 	}
 	fmt.Fprintf(cio.stdout, "\nOn a SLURM cluster:    sbatch %s\n", shellQuote(rd.WorkPath(jobFile)))
 	if len(units) > 1000 {
