@@ -192,6 +192,15 @@ func TestBuildDrawsEveryFigure(t *testing.T) {
 		if b.Dx() != f.Width || b.Dy() != f.Height || b.Dx() < 300 || b.Dy() < 250 {
 			t.Errorf("%s: %d × %d pixels, Figure says %d × %d (want at least 300 × 250)", f.File, b.Dx(), b.Dy(), f.Width, f.Height)
 		}
+		// Each kind of figure has a fixed size in inches at DPI (figures.go).
+		for prefix, size := range map[string][2]int{
+			"observed-": {6 * DPI, 5 * DPI}, "comparison-": {10 * DPI, 4.5 * DPI}, "learning-": {7 * DPI, 4.5 * DPI},
+			"null-": {6 * DPI, 4 * DPI}, "importance-": {7 * DPI, 6 * DPI},
+		} {
+			if strings.HasPrefix(f.File, prefix) && (b.Dx() != size[0] || b.Dy() != size[1]) {
+				t.Errorf("%s: %d × %d pixels, want %d × %d", f.File, b.Dx(), b.Dy(), size[0], size[1])
+			}
+		}
 		colours, ink := inkStats(img)
 		// A drawn plot has axes, text and data in several colours; the
 		// share of non-white pixels of a plot with axes, labels and data
