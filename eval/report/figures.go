@@ -17,6 +17,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
 
+	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
 )
 
@@ -557,13 +558,19 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 		p.Add(rangeLine, box, mean)
 		p.Legend.Add("range", rangeLine)
 		p.Legend.Add("mean ± SD", box)
-		var pts plotter.XYs
-		var labels []string
+		var flagged []data.Outlier
 		for _, o := range c.Outliers {
 			if o.Measure == name {
-				pts = append(pts, plotter.XY{X: o.Value, Y: 0.55})
-				labels = append(labels, o.ID)
+				flagged = append(flagged, o)
 			}
+		}
+		sort.Slice(flagged, func(a, b int) bool { return flagged[a].Value < flagged[b].Value })
+		var pts plotter.XYs
+		var labels []string
+		for k, o := range flagged {
+			// Staggered heights keep the labels of close outliers apart.
+			pts = append(pts, plotter.XY{X: o.Value, Y: 0.45 + 0.3*float64(k%4)})
+			labels = append(labels, o.ID)
 		}
 		if len(pts) > 0 {
 			sc, err := plotter.NewScatter(pts)
@@ -584,8 +591,7 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 			p.Add(sc, lb)
 			p.Legend.Add(fmt.Sprintf("flagged outlier (> %g robust SD)", c.OutlierSD), sc)
 		}
-		p.Y.Min, p.Y.Max = -1, 1.6
-		p.Legend.Top = true
+		p.Y.Min, p.Y.Max = -1.6, 2.2
 		row = append(row, p)
 	}
 	title := "Cohort quality"
