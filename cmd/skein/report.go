@@ -36,8 +36,11 @@ func cmdReport(ctx context.Context, cio commandIO, args []string) error {
 		return badInput(fmt.Errorf("%s is not a folder; want the run folder of skein run", dir))
 	}
 	figs, err := report.Build(dir)
-	if err != nil {
+	if err != nil && figs == nil {
 		return badInput(err)
+	}
+	if err != nil {
+		return fmt.Errorf("report.html written, but parts could not be made (listed at its top): %w", err)
 	}
 	fmt.Fprintf(cio.stdout, "%d figures in %s\nReport: %s\n", len(figs), filepath.Join(dir, report.FiguresDir), filepath.Join(dir, report.HTMLFile))
 	return nil

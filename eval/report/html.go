@@ -26,6 +26,7 @@ var Cautions = []string{
 type page struct {
 	Title      string
 	Folder     string
+	Problems   []string
 	Overview   []string
 	Models     []modelRow
 	Comparison template.HTML
@@ -59,8 +60,9 @@ type htmlFigure struct {
 }
 
 // WriteHTML writes the report of r with the given figures (embedded as
-// data: URIs), importance and filter summaries to w.
-func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filters []FilterSummary) error {
+// data: URIs), importance and filter summaries to w; problems, the
+// failures of figures that could not be drawn, are listed at its top.
+func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filters []FilterSummary, problems []error) error {
 	exp := r.Experiment
 	pg := page{
 		Title:      "skein run report — " + r.Name,
@@ -72,6 +74,9 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 		Seed:       exp.Seed,
 		Versions:   r.Versions,
 		Experiment: r.ExperimentText,
+	}
+	for _, p := range problems {
+		pg.Problems = append(pg.Problems, p.Error())
 	}
 	if c := r.Cohort; c != nil {
 		pg.Overview = append(pg.Overview, fmt.Sprintf("Cohort: %d participants included of %d rows in %s (%d excluded), %d regions.",
@@ -169,7 +174,10 @@ blockquote { margin: .5rem 0; padding: .3rem 1rem; border-left: 4px solid #d99a0
 <body>
 <h1>skein run report</h1>
 <p>Run folder <code>{{.Folder}}</code>. Research software: not a diagnostic device.</p>
-
+{{if .Problems}}<div class="caution" id="problems"><b>Parts of this report could not be made:</b>
+<ul>{{range .Problems}}<li>{{.}}</li>{{end}}</ul>
+Rebuild it with <code>skein report</code> once the cause is fixed.</div>
+{{end}}
 <h2 id="summary">Summary</h2>
 <ul>
 {{range .Overview}}<li>{{.}}</li>

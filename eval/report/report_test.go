@@ -358,3 +358,44 @@ document.getElementById("r").addEventListener("load", function () {
 		os.WriteFile(keep, raw, 0o644)
 	}
 }
+
+// TestBuildReportsBrokenPartsAndDrawsTheRest breaks the importance of one
+// unit checkpoint: Build must still draw the other figures and write
+// report.html, list the problem at its top and return it.
+func TestBuildReportsBrokenPartsAndDrawsTheRest(t *testing.T) {
+	src, _ := buildTiny(t)
+	dir := filepath.Join(t.TempDir(), "run")
+	if err := os.CopyFS(dir, os.DirFS(src)); err != nil {
+		t.Fatal(err)
+	}
+	unit := filepath.Join(dir, UnitsDir, "ridge", "r1-f1.json")
+	raw, err := os.ReadFile(unit)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var u map[string]any
+	if err := json.Unmarshal(raw, &u); err != nil {
+		t.Fatal(err)
+	}
+	maps := u["importance"].([]any)
+	u["importance"] = maps[:1] // one map for two targets
+	raw, _ = json.Marshal(u)
+	if err := os.WriteFile(unit, raw, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	os.Remove(filepath.Join(dir, HTMLFile))
+	figs, err := Build(dir)
+	if err == nil || !strings.Contains(err.Error(), "1 importance maps for 2 targets") {
+		t.Fatalf("Build: %v, want the broken importance named", err)
+	}
+	if len(figs) == 0 {
+		t.Fatal("no figures drawn")
+	}
+	page, err := os.ReadFile(filepath.Join(dir, HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(page), `id="problems"`) || !strings.Contains(string(page), "1 importance maps for 2 targets") {
+		t.Error("report.html does not list the problem")
+	}
+}
