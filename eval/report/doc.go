@@ -5,10 +5,13 @@
 // cohort.json, predictions.csv, metrics.json, summary.md,
 // learning_curves.csv, permutations.csv, versions.txt, the unit
 // checkpoints under units/ and the saved fold networks under models/),
-// draws PNG figures with gonum.org/v1/plot into its figures/ folder and
-// writes report.html: one self-contained page, its images embedded as
-// data: URIs, that opens from disk in any browser without a network or
-// scripts. Nothing is retrained: every figure is computed from the files.
+// draws PNG figures with gonum.org/v1/plot into its figures/ folder,
+// writes the fold-averaged edge importance as importance.csv, and writes
+// report.html: one self-contained page, its images embedded as data: URIs,
+// that opens from disk in any browser without a network or scripts.
+// Nothing is retrained: every figure is computed from the files. During a
+// run, WriteRegions first stores the region labels as regions.txt so that
+// maps rebuilt later are labelled.
 //
 // The figures are
 //
