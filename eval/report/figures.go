@@ -180,6 +180,10 @@ func (r *Run) ObservedFigures() ([]Figure, error) {
 		p.Y.Max = hi + 0.3*(hi-lo) // room for the legend
 		caption := fmt.Sprintf("%d test predictions of %s for %s, pooled over folds and repeats. "+
 			"Points on the dashed identity line are predicted exactly.", len(xys), k.model, k.target)
+		if c := r.Experiment.CV.Confounds; len(c) > 0 {
+			caption += fmt.Sprintf(" Scores are as in predictions.csv: residuals after regressing out %s, fitted on each training fold.",
+				strings.Join(c, ", "))
+		}
 		f, err := figure(fileName("observed", k.model, k.target), SectionPredictions, title, caption, 6, 5, p)
 		if err != nil {
 			return nil, err
