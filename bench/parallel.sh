@@ -8,10 +8,11 @@
 # train/parallel.go is read off these numbers.
 #
 # usage: bench/parallel.sh   (from the repository root)
-# knobs: SIZES="68 116 268" N=275 BATCH=16 EPOCHS=2 FOLDS=5
+# knobs: SIZES="68 116 268" BUILDS="gonum openblas" N=275 BATCH=16 EPOCHS=2 FOLDS=5
 set -euo pipefail
 cd "$(dirname "$0")/.."
 SIZES=${SIZES:-"68 116 268"}
+BUILDS=${BUILDS:-"gonum openblas"}
 N=${N:-275}
 BATCH=${BATCH:-16}
 EPOCHS=${EPOCHS:-2}
@@ -26,7 +27,7 @@ wall() { sed -n 's/.*wall \([0-9.]*\) s.*/\1/p'; }
 echo "load before: $(uptime)"
 printf '%-9s %-5s %-28s %10s %9s\n' build p layout "wall s" speed-up
 for p in $SIZES; do
-  for build in gonum openblas; do
+  for build in $BUILDS; do
     one=$(taskset -c 0 "$bin/refnet-$build" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -folds "$FOLDS" -procs 1 -threads 1 -jobs 1 | wall)
     printf '%-9s %-5s %-28s %10.2f %9s\n' "$build" "$p" "1 core" "$one" 1.00
     layouts=("2 jobs, 1 BLAS thread:-jobs 2 -threads 1" "1 job, 2 BLAS threads:-jobs 1 -threads 2")
