@@ -17,34 +17,28 @@ type Parallelism struct {
 // ChooseParallelism returns the parallelism of a run of units independent
 // units on cores cores: one kind of parallelism at a time, never both.
 //
-// The rule is units first: Jobs = min(cores, units) units at once, and
-// the cores left over, cores/Jobs of them per unit (at least 1), go to
-// the BLAS. With at least as many units as cores (any cross-validated run:
-// 5 folds on 2 cores) that is one unit per core and single-threaded BLAS.
+// The rule is units first, and always single-threaded BLAS: Jobs =
+// min(cores, units) units at once, BLASThreads = 1.
 //
-// It is read off bench/parallel.sh (README, "Speed"): for the reference
-// network at p = 68 to 268 with batches of 16, a 5-fold run on 2 cores
-// was fastest with folds in parallel and single-threaded OpenBLAS; two
-// OpenBLAS threads per product gained far less, because a third to a half
-// of a training step is elementwise Go work that one thread does, and
+// Units first is read off bench/parallel.sh (README, "Speed"): for the
+// reference network at p = 68 to 268 with batches of 16, a 5-fold run on 2
+// cores was fastest with folds in parallel and single-threaded OpenBLAS;
+// two OpenBLAS threads per product gained far less, because a third to a
+// half of a training step is elementwise Go work that one thread does, and
 // folds in parallel on top of two-thread OpenBLAS were slower than either
 // alone (OpenBLAS threads spin while they wait). The pure-Go BLAS spreads
 // a product over goroutines that share the Go scheduler with the units, so
-// it cannot oversubscribe the cores, and units in parallel keep every
-// core busy through the elementwise work as well. The same holds for the
-// baselines, whose products are large enough to run well on one thread
-// each.
+// it cannot oversubscribe the cores.
+//
+// The BLAS stays single-threaded even when there are fewer units than
+// cores, because results must not depend on the parallelism: OpenBLAS
+// splits some reductions across its threads, and two threads instead of
+// one change the last bits of a ridge solution (measured here: the demo's
+// predictions.csv differs between OPENBLAS_NUM_THREADS=1 and 2). A user
+// who sets OPENBLAS_NUM_THREADS gets that many threads (ApplyBLASThreads),
+// and results then repeat exactly only at the same setting.
 func ChooseParallelism(cores, units int) Parallelism {
-	cores = max(cores, 1)
-	jobs := max(min(cores, units), 1)
-	return Parallelism{Jobs: jobs, BLASThreads: BLASThreadsFor(cores, jobs)}
-}
-
-// BLASThreadsFor returns the BLAS threads per product when jobs units run
-// at once on cores cores: cores/jobs, at least 1, so that the units and
-// the BLAS together never ask for more threads than there are cores.
-func BLASThreadsFor(cores, jobs int) int {
-	return max(cores/max(jobs, 1), 1)
+	return Parallelism{Jobs: max(min(cores, units), 1), BLASThreads: 1}
 }
 
 // ApplyBLASThreads sets the number of threads of the BLAS in use for the

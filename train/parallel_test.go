@@ -2,9 +2,9 @@ package train
 
 import "testing"
 
-// TestChooseParallelism checks the documented rule: units first, the
-// cores left over to the BLAS, never more threads than cores (the rule
-// is this package's own, from bench/parallel.sh; no outside source).
+// TestChooseParallelism checks the documented rule: units first,
+// single-threaded BLAS, never more threads than cores (the rule is this
+// package's own, from bench/parallel.sh; no outside source).
 func TestChooseParallelism(t *testing.T) {
 	tests := []struct {
 		cores, units int
@@ -12,10 +12,10 @@ func TestChooseParallelism(t *testing.T) {
 	}{
 		{2, 10, Parallelism{Jobs: 2, BLASThreads: 1}},
 		{2, 2, Parallelism{Jobs: 2, BLASThreads: 1}},
-		{2, 1, Parallelism{Jobs: 1, BLASThreads: 2}},
-		{8, 3, Parallelism{Jobs: 3, BLASThreads: 2}},
+		{2, 1, Parallelism{Jobs: 1, BLASThreads: 1}},
+		{8, 3, Parallelism{Jobs: 3, BLASThreads: 1}},
 		{1, 5, Parallelism{Jobs: 1, BLASThreads: 1}},
-		{4, 0, Parallelism{Jobs: 1, BLASThreads: 4}},
+		{4, 0, Parallelism{Jobs: 1, BLASThreads: 1}},
 		{0, 5, Parallelism{Jobs: 1, BLASThreads: 1}},
 	}
 	for _, tt := range tests {

@@ -19,6 +19,8 @@ import (
 	"os"
 	"os/signal"
 	"syscall"
+
+	"github.com/skein-neuro/skein/train"
 )
 
 // Exit codes, documented in the README.
@@ -58,6 +60,10 @@ func commands() []command {
 }
 
 func main() {
+	// Single-threaded BLAS in every command unless OPENBLAS_NUM_THREADS
+	// says otherwise, so that no result depends on how work is spread
+	// (see train.ChooseParallelism).
+	train.ApplyBLASThreads(1)
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	code := run(ctx, os.Args[1:], commandIO{os.Stdout, os.Stderr})
 	stop()

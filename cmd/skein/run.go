@@ -68,11 +68,11 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if len(exp.Models) == 0 {
 		return badInput(fmt.Errorf("%s: no [[model]] to run", expPath))
 	}
-	// One kind of parallelism at a time: units at once, the cores left
-	// over to the BLAS.
+	// One kind of parallelism at a time: units at once, single-threaded
+	// BLAS (results do not depend on it; see train.ChooseParallelism).
 	par := train.ChooseParallelism(runtime.NumCPU(), len(exp.Models)*exp.CV.Folds*exp.CV.Repeats)
 	if *jobs > 0 {
-		par = train.Parallelism{Jobs: *jobs, BLASThreads: train.BLASThreadsFor(runtime.NumCPU(), *jobs)}
+		par = train.Parallelism{Jobs: *jobs, BLASThreads: 1}
 	}
 	*jobs = par.Jobs
 	blasThreads := train.ApplyBLASThreads(par.BLASThreads)

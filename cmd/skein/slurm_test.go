@@ -11,6 +11,8 @@ import (
 	"strings"
 	"testing"
 	"time"
+
+	"github.com/skein-neuro/skein/internal/blas"
 )
 
 // clusterExperiment is the experiment of the cluster tests: two baselines,
@@ -37,11 +39,16 @@ name = "ridge"
 var baselineFiles = []string{"predictions.csv", "metrics.json", "summary.md", "permutations.csv", "experiment.toml", "cohort.json"}
 
 // buildSkein builds the skein program into a temporary folder, for the
-// tests that run it as a batch job would.
+// tests that run it as a batch job would, with the BLAS of the test itself
+// so that its results can equal the in-process ones.
 func buildSkein(t *testing.T) string {
 	t.Helper()
 	bin := filepath.Join(t.TempDir(), "skein")
-	cmd := exec.Command("go", "build", "-o", bin, ".")
+	args := []string{"build", "-o", bin}
+	if blas.Name() == "openblas" {
+		args = append(args, "-tags", "openblas")
+	}
+	cmd := exec.Command("go", append(args, ".")...)
 	if out, err := cmd.CombinedOutput(); err != nil {
 		t.Fatalf("go build: %v\n%s", err, out)
 	}
