@@ -43,7 +43,8 @@ func runSkein(t *testing.T, args ...string) (code int, stdout, stderr string) {
 }
 
 func TestRunDeterministicAcrossJobs(t *testing.T) {
-	exp := synthExperiment(t, synth.Config{N: 40, P: 8, Seed: 3, FamilySize: 2}, meanModel)
+	exp := synthExperiment(t, synth.Config{N: 40, P: 8, Seed: 3, FamilySize: 2},
+		meanModel+"[[model]]\nname = \"ridge\"\n[model.ridge]\ninput = \"both\"\n")
 	var predictions [2][]byte
 	for j, jobs := range []string{"1", "2"} {
 		out := filepath.Join(t.TempDir(), "run")
