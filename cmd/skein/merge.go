@@ -134,6 +134,9 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	if err := rd.WriteFile(logFile, mergedLog(rd, len(units))); err != nil {
 		return err
 	}
+	if err := buildReport(rd.Partial, r.Cohort.Regions); err != nil {
+		fmt.Fprintf(cio.stderr, "skein merge: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", err, rd.Final)
+	}
 	if err := rd.Commit(); err != nil {
 		return err
 	}
