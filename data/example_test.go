@@ -81,5 +81,5 @@ func ExampleCheck() {
 	//   sex: text, coded "F" = 0, "M" = 1; n = 9, missing 0
 	// outliers (more than 3 robust SD from the median; flagged, not excluded): 1
 	//   sub-09: functional mean connectivity 0.9 (median 0.1203, robust SD 0.0814, robust z = +9.6)
-	// research software, not a diagnostic device
+	// research software, not a diagnostic device: results need ethics approval, data-use agreements and clinical judgement; defer to your local regulations
 }

@@ -12,7 +12,8 @@ import (
 )
 
 // Notice closes every summary skein writes.
-const Notice = "research software, not a diagnostic device"
+const Notice = "research software, not a diagnostic device: results need ethics approval, " +
+	"data-use agreements and clinical judgement; defer to your local regulations"
 
 // Report is what Check found in a cohort, for a person (WriteText) or a
 // script (encoding/json). Statistics describe the included participants'

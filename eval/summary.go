@@ -14,7 +14,7 @@ import (
 // Disclaimer is the sentence every report of skein carries.
 const Disclaimer = "skein is research software: it is not a diagnostic device and must not be used " +
 	"to make decisions about individuals. Any use on real participants needs ethics approval, " +
-	"data-use agreements and clinical judgement."
+	"data-use agreements and clinical judgement; defer to your local regulations."
 
 // A Summary holds the figures of every model × target of a set of
 // predictions. It is the content of metrics.json.

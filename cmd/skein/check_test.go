@@ -7,6 +7,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/skein-neuro/skein/data"
 )
 
 // runCheck runs "skein check ARGS" as main does and returns the exit code
@@ -107,7 +109,7 @@ func TestCheckJSON(t *testing.T) {
 		if rep.Included != 7 || len(rep.Excluded) != 3 || rep.Excluded[1].ID != "sub-08" || rep.Regions != 4 ||
 			rep.Covariates[1].Name != "sex" || strings.Join(rep.Covariates[1].Levels, ",") != "F,M" ||
 			len(rep.Outliers) != 1 || rep.Outliers[0].ID != "sub-09" ||
-			rep.Notice != "research software, not a diagnostic device" {
+			rep.Notice != data.Notice {
 			t.Errorf("%v: report %+v", args, rep)
 		}
 	}

@@ -86,7 +86,7 @@ func cmdPredict(ctx context.Context, cio commandIO, args []string) error {
 			return err
 		}
 	}
-	fmt.Fprintf(cio.stderr, "skein predict: %d participants × %d targets; research software, not a diagnostic device\n",
-		len(cohort.Participants), len(saved.Fitted.Targets))
+	fmt.Fprintf(cio.stderr, "skein predict: %d participants × %d targets; %s\n",
+		len(cohort.Participants), len(saved.Fitted.Targets), data.Notice)
 	return nil
 }

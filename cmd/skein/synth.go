@@ -5,6 +5,7 @@ import (
 	"errors"
 	"flag"
 	"fmt"
+	"github.com/skein-neuro/skein/data"
 	"path/filepath"
 
 	"github.com/skein-neuro/skein/data/synth"
@@ -117,6 +118,6 @@ func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintf(w, " edges; ceiling r = %.3f\n", pt.Ceiling)
 	}
 	fmt.Fprintf(w, "next: skein check %s\n", filepath.Join(*out, "experiment.toml"))
-	fmt.Fprintln(w, "The data are invented (no real participants). Research software: not a diagnostic device.")
+	fmt.Fprintln(w, "The data are invented (no real participants). skein is "+data.Notice+".")
 	return nil
 }
