@@ -2,7 +2,6 @@ package eval
 
 import (
 	"bytes"
-	"context"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -27,12 +26,8 @@ type NullScores struct {
 // PermutationTest does: pooled over all test predictions, per target, in
 // target order, with bins equal-frequency bins for the NMI.
 func ScoreNullRun(run train.NullRun, bins int) []NullScores {
-	rows := make([]Prediction, len(run.Predictions))
-	for i, p := range run.Predictions {
-		rows[i] = Prediction(p)
-	}
 	var out []NullScores
-	for _, g := range Summarize(rows, bins, false).Groups {
+	for _, g := range Summarize(run.Predictions, bins, false).Groups {
 		out = append(out, NullScores{Model: g.Model, Target: g.Target, Permutation: run.Permutation, Scores: g.Pooled})
 	}
 	return out
@@ -159,49 +154,4 @@ func AssembleNulls(observed *Summary, rows []NullScores, count int) ([]NullDistr
 		out = append(out, nd)
 	}
 	return out, nil
-}
-
-// EvaluateWithNulls is Evaluate for a run whose permutation test was run
-// elsewhere, in blocks: it scores res as Evaluate does, but takes the
-// null distributions from nulls (a function of the observed summary, such
-// as a call of AssembleNulls) instead of retraining. nulls is called only
-// when the experiment has a permutation test. The report equals
-// Evaluate's for the same run.
-func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, bins int,
-	nulls func(observed *Summary) ([]NullDistribution, error)) (*Report, error) {
-	exp := r.Experiment
-	noTest := *exp
-	noTest.Permutation.Count = 0
-	quiet := *r
-	quiet.Experiment = &noTest
-	rep, err := Evaluate(ctx, &quiet, res, bins)
-	if err != nil {
-		return nil, err
-	}
-	rep.Experiment = exp
-	if exp.Permutation.Count == 0 {
-		return rep, nil
-	}
-	if rep.Nulls, err = nulls(rep.Summary); err != nil {
-		return nil, fmt.Errorf("permutation test: %w", err)
-	}
-	// The comparisons use the permutation test; redo them as Evaluate does.
-	baselines := make(map[string]bool)
-	for _, m := range exp.Models {
-		baselines[m.Name] = m.Kind() != "network"
-	}
-	var nTrain, nTest float64
-	for _, s := range res.Splits {
-		nTrain += float64(len(s.Train))
-		nTest += float64(len(s.Test))
-	}
-	nTrain /= float64(len(res.Splits))
-	nTest /= float64(len(res.Splits))
-	rep.Comparisons, err = Compare(rep.Summary, rep.Rows, CompareOptions{
-		Baselines: baselines, NTrain: nTrain, NTest: nTest, Nulls: rep.Nulls, Seed: uint64(exp.Seed),
-	})
-	if err != nil {
-		return nil, err
-	}
-	return rep, nil
 }

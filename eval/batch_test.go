@@ -24,10 +24,7 @@ func TestAssembleNullsEqualsPermutationTest(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	rows := make([]Prediction, len(res.Predictions))
-	for i, p := range res.Predictions {
-		rows[i] = Prediction(p)
-	}
+	rows := res.Predictions
 	observed := Summarize(rows, 0, true)
 	want, err := PermutationTest(ctx, r, observed)
 	if err != nil {

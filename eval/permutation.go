@@ -37,11 +37,7 @@ func PermutationTest(ctx context.Context, r *train.Runner, observed *Summary) ([
 	perms := train.Permutations(len(r.Cohort.Participants), train.Groups(r.Cohort), pc.Blocks, pc.Count, uint64(exp.Seed))
 	nulls := make(map[[2]string][]Scores)
 	err := r.RunPermutations(ctx, perms, pc.Models, pc.Chunk, func(run train.NullRun) error {
-		rows := make([]Prediction, len(run.Predictions))
-		for i, p := range run.Predictions {
-			rows[i] = Prediction(p)
-		}
-		for _, g := range Summarize(rows, observed.Bins, false).Groups {
+		for _, g := range Summarize(run.Predictions, observed.Bins, false).Groups {
 			key := [2]string{g.Model, g.Target}
 			nulls[key] = append(nulls[key], g.Pooled)
 		}

@@ -50,10 +50,7 @@ func TestPermutationPValuesUniformUnderNull(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		rows := make([]Prediction, len(res.Predictions))
-		for i, p := range res.Predictions {
-			rows[i] = Prediction(p)
-		}
+		rows := res.Predictions
 		nulls, err := PermutationTest(context.Background(), r, Summarize(rows, 0, true))
 		if err != nil {
 			t.Fatal(err)
@@ -107,10 +104,7 @@ func TestPermutationChunksMatchRefits(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		rows := make([]Prediction, len(res.Predictions))
-		for i, p := range res.Predictions {
-			rows[i] = Prediction(p)
-		}
+		rows := res.Predictions
 		if nulls[k], err = PermutationTest(context.Background(), r, Summarize(rows, 0, true)); err != nil {
 			t.Fatal(err)
 		}

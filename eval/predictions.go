@@ -4,6 +4,7 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
+	"github.com/skein-neuro/skein/model"
 	"io"
 	"math"
 	"strconv"
@@ -11,16 +12,9 @@ import (
 )
 
 // A Prediction is one row of predictions.csv: the score a model predicted
-// for one participant when that participant was in the test fold.
-type Prediction struct {
-	ParticipantID string
-	Model         string
-	Target        string
-	Repeat        int // repeat of the cross-validation, from 0
-	Fold          int // test fold within the repeat, from 0
-	Observed      float64
-	Predicted     float64 // NaN when the model gave no prediction
-}
+// for one participant when that participant was in the test fold (see
+// model.Prediction; Predicted is NaN when the model gave no prediction).
+type Prediction = model.Prediction
 
 // The columns of predictions.csv, in the order WritePredictions writes them.
 const (

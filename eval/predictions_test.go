@@ -101,8 +101,8 @@ func TestParseErrorNamesColumn(t *testing.T) {
 func TestWritePredictionsFormat(t *testing.T) {
 	var buf bytes.Buffer
 	rows := []Prediction{
-		{"sub-01", "ridge", "memory", 0, 2, 0.1, 1e21},
-		{"sub-02", "ridge", "memory", 1, 0, -3, math.NaN()},
+		{ParticipantID: "sub-01", Model: "ridge", Target: "memory", Repeat: 0, Fold: 2, Observed: 0.1, Predicted: 1e21},
+		{ParticipantID: "sub-02", Model: "ridge", Target: "memory", Repeat: 1, Fold: 0, Observed: -3, Predicted: math.NaN()},
 	}
 	if err := WritePredictions(&buf, rows); err != nil {
 		t.Fatal(err)

@@ -45,20 +45,29 @@ type Report struct {
 // with the best baseline.
 // bins ≤ 0 means DefaultBins.
 func Evaluate(ctx context.Context, r *train.Runner, res *train.Result, bins int) (*Report, error) {
+	return EvaluateWithNulls(ctx, r, res, bins, func(observed *Summary) ([]NullDistribution, error) {
+		return PermutationTest(ctx, r, observed)
+	})
+}
+
+// EvaluateWithNulls is Evaluate for a run whose permutation test was run
+// elsewhere, in blocks: it scores res as Evaluate does, but takes the
+// null distributions from nulls (a function of the observed summary, such
+// as a call of AssembleNulls) instead of retraining. nulls is called only
+// when the experiment has a permutation test. The report equals
+// Evaluate's for the same run.
+func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, bins int,
+	nulls func(observed *Summary) ([]NullDistribution, error)) (*Report, error) {
 	exp := r.Experiment
 	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: len(r.Cohort.Excluded)}
-	rep.Rows = make([]Prediction, len(res.Predictions))
-	for i, p := range res.Predictions {
-		rep.Rows[i] = Prediction(p)
-	}
+	rep.Rows = res.Predictions
 	rep.Summary = Summarize(rep.Rows, bins, true)
 	orderGroups(rep.Summary, exp, r.Cohort.Targets)
 	if exp.Permutation.Count > 0 {
-		nulls, err := PermutationTest(ctx, r, rep.Summary)
-		if err != nil {
+		var err error
+		if rep.Nulls, err = nulls(rep.Summary); err != nil {
 			return nil, fmt.Errorf("permutation test: %w", err)
 		}
-		rep.Nulls = nulls
 	}
 	if len(exp.SampleSize.Fractions) > 0 {
 		runs, err := r.RunSampleSizes(ctx, exp.SampleSize)
