@@ -3,7 +3,6 @@ package main
 import (
 	"context"
 	"encoding/json"
-	"errors"
 	"flag"
 	"fmt"
 
@@ -24,16 +23,9 @@ func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(fs.Output(), "scores, covariate codings and outlier flags.")
 		fs.PrintDefaults()
 	}
-	positional, err := parseArgs(fs, args)
+	positional, err := positionalArgs(fs, args, 1, "one experiment file")
 	if err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
-		}
-		return badInput(err)
-	}
-	if len(positional) != 1 {
-		fs.Usage()
-		return badInput(fmt.Errorf("want one experiment file, got %d arguments", len(positional)))
+		return err
 	}
 	exp, err := train.ReadExperiment(positional[0])
 	if err != nil {

@@ -27,13 +27,9 @@ func cmdCompare(ctx context.Context, cio commandIO, args []string) error {
 			"change, marked when larger than the fold-to-fold SD.")
 		fs.PrintDefaults()
 	}
-	positional, err := parseArgs(fs, args)
+	positional, err := positionalArgs(fs, args, 2, "two run folders")
 	if err != nil {
-		return badInput(err)
-	}
-	if len(positional) != 2 {
-		fs.Usage()
-		return badInput(fmt.Errorf("want two run folders, found %d arguments", len(positional)))
+		return err
 	}
 	if *markdown && *asJSON {
 		return badInput(errors.New("choose one of --markdown and --json"))

@@ -83,7 +83,7 @@ func run(ctx context.Context, args []string, cio commandIO) int {
 			continue
 		}
 		err := c.run(ctx, cio, args[1:])
-		if err == nil {
+		if err == nil || errors.Is(err, flag.ErrHelp) {
 			return exitOK
 		}
 		fmt.Fprintf(cio.stderr, "skein %s: %v\n", c.name, err)
@@ -131,6 +131,25 @@ func exitCode(err error) int {
 	default:
 		return exitFailure
 	}
+}
+
+// positionalArgs parses args with fs (see parseArgs) and returns its
+// positional arguments, which must be exactly n; otherwise it prints the
+// usage and returns a bad-input error saying what is wanted. After -h it
+// returns flag.ErrHelp, which ends the command with exit code 0.
+func positionalArgs(fs *flag.FlagSet, args []string, n int, want string) ([]string, error) {
+	positional, err := parseArgs(fs, args)
+	if errors.Is(err, flag.ErrHelp) {
+		return nil, err
+	}
+	if err != nil {
+		return nil, badInput(err)
+	}
+	if len(positional) != n {
+		fs.Usage()
+		return nil, badInput(fmt.Errorf("want %s, got %d arguments", want, len(positional)))
+	}
+	return positional, nil
 }
 
 // parseArgs parses flags that may come before, between or after the

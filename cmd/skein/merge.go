@@ -28,13 +28,9 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(cio.stderr, "Combines the finished units of the plan in DIR.partial (skein plan) into the run folder DIR.")
 		flags.PrintDefaults()
 	}
-	positional, err := parseArgs(flags, args)
+	positional, err := positionalArgs(flags, args, 1, "the run folder of one plan")
 	if err != nil {
-		return badInput(err)
-	}
-	if len(positional) != 1 {
-		flags.Usage()
-		return badInput(errors.New("want the run folder of one plan"))
+		return err
 	}
 	out, err := filepath.Abs(positional[0])
 	if err != nil {

@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
 	"io"
@@ -33,16 +32,9 @@ func cmdMetrics(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(w, "Empty, NaN or NA cells are missing values: skipped and counted.")
 		fs.PrintDefaults()
 	}
-	positional, err := parseArgs(fs, args)
+	positional, err := positionalArgs(fs, args, 1, "one CSV file")
 	if err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return nil
-		}
-		return badInput(err)
-	}
-	if len(positional) != 1 {
-		fs.Usage()
-		return badInput(fmt.Errorf("want one CSV file, got %d arguments", len(positional)))
+		return err
 	}
 	if *bins < 1 {
 		return badInput(fmt.Errorf("--bins: want an integer ≥ 1, got %d", *bins))

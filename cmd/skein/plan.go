@@ -87,13 +87,9 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(cio.stderr, "usage: skein plan EXPERIMENT.toml --out DIR [--block N] [--time T] [--mem M] [--cpus C] [--partition P] [--force]")
 		fs.PrintDefaults()
 	}
-	positional, err := parseArgs(fs, args)
+	positional, err := positionalArgs(fs, args, 1, "one experiment file")
 	if err != nil {
-		return badInput(err)
-	}
-	if len(positional) != 1 {
-		fs.Usage()
-		return badInput(errors.New("want one experiment file"))
+		return err
 	}
 	if *out == "" {
 		return badInput(errors.New("--out is required: the plan's units and merge find each other through it"))

@@ -3,7 +3,6 @@ package main
 import (
 	"context"
 	"encoding/csv"
-	"errors"
 	"flag"
 	"fmt"
 	"os"
@@ -26,13 +25,9 @@ func cmdPredict(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(cio.stderr, "(score columns are not needed). Their matrices are preprocessed as at training time.")
 		fs.PrintDefaults()
 	}
-	positional, err := parseArgs(fs, args)
+	positional, err := positionalArgs(fs, args, 2, "a model folder and a cohort file")
 	if err != nil {
-		return badInput(err)
-	}
-	if len(positional) != 2 {
-		fs.Usage()
-		return badInput(errors.New("want a model folder and a cohort file"))
+		return err
 	}
 	saved, err := train.LoadModel(positional[0])
 	if err != nil {

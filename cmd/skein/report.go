@@ -2,7 +2,6 @@ package main
 
 import (
 	"context"
-	"errors"
 	"flag"
 	"fmt"
 	"os"
@@ -21,13 +20,9 @@ func cmdReport(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(cio.stderr, "Draws the figures of a finished run into RUN_DIR/figures and writes RUN_DIR/report.html.")
 		fs.PrintDefaults()
 	}
-	positional, err := parseArgs(fs, args)
+	positional, err := positionalArgs(fs, args, 1, "one run folder")
 	if err != nil {
-		return badInput(err)
-	}
-	if len(positional) != 1 {
-		fs.Usage()
-		return badInput(errors.New("want one run folder"))
+		return err
 	}
 	dir := positional[0]
 	if info, err := os.Stat(dir); err != nil {

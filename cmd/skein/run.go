@@ -47,13 +47,9 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume] [--unit K] [--against DIR]")
 		fs.PrintDefaults()
 	}
-	positional, err := parseArgs(fs, args)
+	positional, err := positionalArgs(fs, args, 1, "one experiment file")
 	if err != nil {
-		return badInput(err)
-	}
-	if len(positional) != 1 {
-		fs.Usage()
-		return badInput(errors.New("want one experiment file"))
+		return err
 	}
 	expPath := positional[0]
 	if k, ok, err := unitIndex(fs, *unit, *out); err != nil {
