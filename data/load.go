@@ -258,8 +258,12 @@ func (l *loader) describe(rep *Report, c *Cohort, mods []*modality, covReports [
 	rep.Excluded = c.Excluded
 	rep.Regions = l.p
 	rep.RegionLabels = l.labelsSrc
+	for _, p := range kept {
+		rep.IncludedIDs = append(rep.IncludedIDs, p.ID)
+	}
 	for _, m := range mods {
 		m.report.MeanConnectivity = describe(m.means)
+		m.report.ParticipantMeans = m.means
 		if m.name == "functional" {
 			rep.Functional = m.report
 			rep.Outliers = append(rep.Outliers, outliers(kept, m.means, "functional mean connectivity", l.src.OutlierSD)...)
@@ -267,6 +271,7 @@ func (l *loader) describe(rep *Report, c *Cohort, mods []*modality, covReports [
 		}
 		d := describe(m.densities)
 		m.report.Density = &d
+		m.report.ParticipantDensities = m.densities
 		rep.Structural = m.report
 		rep.Outliers = append(rep.Outliers, outliers(kept, m.densities, "structural density", l.src.OutlierSD)...)
 	}

@@ -19,10 +19,12 @@ const Notice = "research software, not a diagnostic device: results need ethics 
 // script (encoding/json). Statistics describe the included participants'
 // matrices as read, before preprocessing.
 type Report struct {
-	Participants string      `json:"participants_table"` // path of the participants table
-	Rows         int         `json:"table_rows"`         // participant rows in the table
-	Included     int         `json:"included"`
-	Excluded     []Exclusion `json:"excluded"`
+	Participants string `json:"participants_table"` // path of the participants table
+	Rows         int    `json:"table_rows"`         // participant rows in the table
+	Included     int    `json:"included"`
+	// IncludedIDs lists the included participants in cohort order.
+	IncludedIDs []string    `json:"included_ids"`
+	Excluded    []Exclusion `json:"excluded"`
 	// PartialScores counts included participants missing some, but not
 	// all, scores; they are kept with NaN there.
 	PartialScores int    `json:"participants_with_missing_scores"`
@@ -52,6 +54,11 @@ type ModalityReport struct {
 	// Density (structural only) describes each participant's fraction of
 	// region pairs i<j with a_ij > 0.
 	Density *Stat `json:"density,omitempty"`
+	// ParticipantMeans and ParticipantDensities hold each included
+	// participant's value, in the order of Report.IncludedIDs, for plots
+	// of the distributions.
+	ParticipantMeans     []float64 `json:"participant_mean_connectivity"`
+	ParticipantDensities []float64 `json:"participant_density,omitempty"`
 }
 
 // VariableReport describes one score or covariate column across the

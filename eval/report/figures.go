@@ -521,19 +521,19 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 	}
 	var names []string
 	var stats [][5]float64 // n, mean, sd, min, max
-	add := func(name string, n int, mean, sd, lo, hi float64) {
+	var values [][]float64 // each participant's value; nil in runs that did not keep them
+	add := func(name string, st data.Stat, v []float64) {
 		names = append(names, name)
-		stats = append(stats, [5]float64{float64(n), mean, sd, lo, hi})
+		stats = append(stats, [5]float64{float64(st.N), st.Mean, st.SD, st.Min, st.Max})
+		values = append(values, v)
 	}
 	if f := c.Functional; f != nil {
-		s := f.MeanConnectivity
-		add("functional mean connectivity", s.N, s.Mean, s.SD, s.Min, s.Max)
+		add("functional mean connectivity", f.MeanConnectivity, f.ParticipantMeans)
 	}
 	if s := c.Structural; s != nil {
-		m := s.MeanConnectivity
-		add("structural mean connectivity", m.N, m.Mean, m.SD, m.Min, m.Max)
+		add("structural mean connectivity", s.MeanConnectivity, s.ParticipantMeans)
 		if d := s.Density; d != nil {
-			add("structural density", d.N, d.Mean, d.SD, d.Min, d.Max)
+			add("structural density", *d, s.ParticipantDensities)
 		}
 	}
 	if len(names) == 0 {
@@ -542,6 +542,14 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 	var row []*plot.Plot
 	for i, name := range names {
 		st := stats[i]
+		if len(values[i]) > 1 {
+			p, err := cohortHistogram(name, values[i], c.Outliers, c.OutlierSD)
+			if err != nil {
+				return Figure{}, false, err
+			}
+			row = append(row, p)
+			continue
+		}
 		p := newPlot(name, name, "")
 		p.HideY()
 		rangeLine, err := line(st[3], 0, st[4], 0, colorGuide, false)
@@ -599,9 +607,10 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 		row = append(row, p)
 	}
 	title := "Cohort quality"
-	caption := fmt.Sprintf("Per-participant measures of the %d included participants, before preprocessing, as "+
-		"summarized in cohort.json (range, mean ± SD); red triangles mark the participants flagged as outliers "+
-		"(more than %g robust SDs from the median). Outliers are flagged, not excluded.", c.Included, c.OutlierSD)
+	caption := fmt.Sprintf("Per-participant measures of the %d included participants, before preprocessing "+
+		"(histograms; runs made before skein kept each participant's value show range and mean ± SD); red "+
+		"triangles mark the participants flagged as outliers (more than %g robust SDs from the median). "+
+		"Outliers are flagged, not excluded.", c.Included, c.OutlierSD)
 	png, w, h, err := render(3.6*float64(len(row)), 3.2, func(dc draw.Canvas) {
 		tiles := draw.Tiles{Rows: 1, Cols: len(row), PadX: vg.Millimeter * 6, PadTop: vg.Millimeter * 2, PadBottom: vg.Millimeter * 2, PadLeft: vg.Millimeter * 2, PadRight: vg.Millimeter * 4}
 		canvases := plot.Align([][]*plot.Plot{row}, tiles, dc)
@@ -613,6 +622,59 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 		return Figure{}, false, err
 	}
 	return Figure{File: "cohort.png", Section: SectionCohort, Title: title, Caption: caption, Width: w, Height: h, PNG: png}, true, nil
+}
+
+// cohortHistogram draws the distribution of one quality measure over the
+// participants with its flagged outliers marked and labelled.
+func cohortHistogram(name string, values []float64, outliers []data.Outlier, outlierSD float64) (*plot.Plot, error) {
+	p := newPlot(name, name, "participants")
+	hist, err := plotter.NewHist(plotter.Values(values), min(20, max(5, len(values)/5)))
+	if err != nil {
+		return nil, err
+	}
+	hist.FillColor = color.RGBA{R: 0xa6, G: 0xc4, B: 0xe6, A: 0xff}
+	p.Add(hist)
+	top := 0.0
+	for _, b := range hist.Bins {
+		top = math.Max(top, b.Weight)
+	}
+	var flagged []data.Outlier
+	for _, o := range outliers {
+		if o.Measure == name {
+			flagged = append(flagged, o)
+		}
+	}
+	sort.Slice(flagged, func(a, b int) bool { return flagged[a].Value < flagged[b].Value })
+	var pts plotter.XYs
+	var labels []string
+	for k, o := range flagged {
+		// Staggered heights keep the labels of close outliers apart.
+		pts = append(pts, plotter.XY{X: o.Value, Y: top * (1.08 + 0.12*float64(k%4))})
+		labels = append(labels, o.ID)
+	}
+	if len(pts) > 0 {
+		sc, err := plotter.NewScatter(pts)
+		if err != nil {
+			return nil, err
+		}
+		sc.GlyphStyle.Color = colorOutlier
+		sc.GlyphStyle.Shape = draw.TriangleGlyph{}
+		sc.GlyphStyle.Radius = vg.Points(4)
+		lb, err := plotter.NewLabels(plotter.XYLabels{XYs: pts, Labels: labels})
+		if err != nil {
+			return nil, err
+		}
+		for k := range lb.TextStyle {
+			lb.TextStyle[k].Font.Size = vg.Points(7)
+			lb.TextStyle[k].Rotation = math.Pi / 4
+		}
+		p.Add(sc, lb)
+		p.Legend.Add(fmt.Sprintf("flagged outlier (> %g robust SD)", outlierSD), sc)
+		p.Legend.Top, p.Legend.Left = true, true
+	}
+	p.Y.Min, p.Y.Max = 0, top*1.7
+	p.Y.Tick.Marker = plot.DefaultTicks{}
+	return p, nil
 }
 
 type floats []float64
