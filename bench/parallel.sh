@@ -3,7 +3,8 @@
 # a K-fold run (K networks, each trained on K−1 folds) timed on one core,
 # then on two cores with (a) folds in parallel and single-threaded BLAS,
 # (b) sequential folds and two-thread BLAS, and (c) both at once (the
-# oversubscribed case), for the pure-Go and the OpenBLAS builds. Prints
+# oversubscribed case, OpenBLAS only), for the pure-Go and the OpenBLAS
+# builds. Prints
 # wall seconds and the speed-up of each over one core. The rule in
 # train/parallel.go is read off these numbers.
 #
