@@ -9,7 +9,7 @@
 //
 // Usage:
 //
-//	refnet [-p 116] [-n 275] [-batch 16] [-epochs 5] [-dtype float32] [-threads T] [-cpuprofile FILE]
+//	refnet [-p 116] [-n 275] [-batch 16] [-epochs 5] [-dtype float32] [-threads T] [-cpuprofile FILE] [-memprofile FILE]
 //	refnet -folds K -jobs J [-threads T] [-procs C] ...
 //
 // The first form trains one network on all n participants and prints the
@@ -66,6 +66,7 @@ func main() {
 	folds := flag.Int("folds", 0, "train one network per fold of a K-fold split (0: one network on everyone)")
 	jobs := flag.Int("jobs", 1, "networks trained at once with -folds")
 	cpuprofile := flag.String("cpuprofile", "", "write a CPU profile to `FILE`")
+	memprofile := flag.String("memprofile", "", "write a heap profile to `FILE` at the end of training, while the network is alive")
 	flag.Parse()
 	if *procs > 0 {
 		runtime.GOMAXPROCS(*procs)
@@ -142,6 +143,17 @@ func main() {
 	})
 	if err := net.Fit(ctx, model.Dataset{Participants: ps, Y: y}, model.Dataset{}); err != nil {
 		fail(err)
+	}
+	if *memprofile != "" {
+		f, err := os.Create(*memprofile)
+		if err != nil {
+			fail(err)
+		}
+		runtime.GC()
+		if err := pprof.Lookup("heap").WriteTo(f, 0); err != nil {
+			fail(err)
+		}
+		f.Close()
 	}
 	timed := times
 	if len(times) > 1 {
