@@ -136,7 +136,7 @@ echo $! > "$state/slurmctld.pid"
 nohup slurmd -D -f "$SLURM_CONF" >>"$state/slurmd.out" 2>&1 &
 echo $! > "$state/slurmd.pid"
 
-for _ in $(seq 300); do
+for _ in $(seq 900); do
 	if [ "$(sinfo -h -o %t 2>/dev/null)" = idle ]; then
 		trap - ERR
 		echo "SLURM cluster up in $state: node $host idle"
@@ -147,7 +147,7 @@ for _ in $(seq 300); do
 	pid_alive "$state/slurmd.pid" || { echo "$0: slurmd stopped; see $state/slurmd.log and slurmd.out" >&2; tail -n 20 "$state/slurmd.log" "$state/slurmd.out" >&2 || true; stop; exit 1; }
 	sleep 0.1
 done
-echo "$0: the node did not become idle in 30 s; see the logs in $state" >&2
+echo "$0: the node did not become idle in 90 s; see the logs in $state" >&2
 sinfo >&2 || true
 tail -n 20 "$state/slurmctld.log" "$state/slurmd.log" >&2 || true
 stop
