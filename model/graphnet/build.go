@@ -180,7 +180,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 		inputs = append(inputs, x)
 		var s *gorgonia.Node
 		var sv *tensor.Dense
-		if b.needsOperator() {
+		if b.hasGraphConv() {
 			if s, sv, err = constant(fmt.Sprintf("branch%d.operator", bi), batch, p, p); err != nil {
 				return nil, err
 			}
@@ -195,8 +195,14 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 				opts = append(opts, ops.NoInputGrad())
 			}
 			fromData = fromData && l.Kind == kindDropout
+			// The rectifier fused into an e2e filter saves a batch-sized
+			// buffer forward and backward.
+			fusedE2E := l.Kind == kindE2E && l.Activation != activationNone && slope >= 0
 			switch l.Kind {
 			case kindE2E:
+				if fusedE2E {
+					opts = append(opts, ops.WithLeakyReLU(slope))
+				}
 				h, err = ops.E2E(h, take(), take(), take(), opts...)
 			case kindE2N:
 				h, err = ops.E2N(h, take(), take(), opts...)
@@ -215,7 +221,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 			case kindDropout:
 				h, err = dropout(h, l.Rate)
 			}
-			if err == nil && l.Kind != kindDropout {
+			if err == nil && l.Kind != kindDropout && !fusedE2E {
 				h, err = activate(h, l.Activation)
 			}
 			if err != nil {

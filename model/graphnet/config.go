@@ -322,6 +322,17 @@ func (c Config) clone() Config {
 	return c
 }
 
+// hasGraphConv reports whether a layer of the branch is a graph
+// convolution, the only layer that reads the operator at every step.
+func (b BranchConfig) hasGraphConv() bool {
+	for _, l := range b.Layers {
+		if l.Kind == kindGraphConv {
+			return true
+		}
+	}
+	return false
+}
+
 func (b BranchConfig) needsOperator() bool {
 	if b.Input == inputPropagated {
 		return true

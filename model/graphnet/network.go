@@ -399,8 +399,8 @@ func (n *Network) prepare(d model.Dataset, what string, needY bool) (*prepared, 
 			kind, _ = data.ParseOperatorKind(b.Operator)
 		}
 		in := make([][]float64, d.Len())
-		var opers [][]float64
-		if kind != "" {
+		var opers [][]float64 // kept only for graph convolutions, which read it at every step
+		if kind != "" && b.hasGraphConv() {
 			opers = make([][]float64, d.Len())
 		}
 		for i, pt := range d.Participants {
