@@ -22,11 +22,8 @@ var permutationCohort = sync.OnceValues(func() (*data.Cohort, error) {
 	if err != nil {
 		return nil, err
 	}
-	var pre data.Preprocess
-	pre.SetDefaults()
-	for _, p := range sc.Participants {
-		pre.Functional(p.Functional)
-		pre.Structural(p.Structural)
+	if err := sc.Preprocess(data.Preprocess{}); err != nil {
+		return nil, err
 	}
 	return sc.Cohort, nil
 })
@@ -63,11 +60,7 @@ func BenchmarkRidgePermutation(b *testing.B) {
 				if err != nil {
 					b.Fatal(err)
 				}
-				rows := make([]eval.Prediction, len(res.Predictions))
-				for i, p := range res.Predictions {
-					rows[i] = eval.Prediction(p)
-				}
-				observed := eval.Summarize(rows, 0, true)
+				observed := eval.Summarize(res.Predictions, 0, true)
 				b.ResetTimer()
 				start := time.Now()
 				for b.Loop() {

@@ -17,11 +17,8 @@ func nullRunner(t *testing.T, seed int64, perms int) *train.Runner {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var pre data.Preprocess
-	pre.SetDefaults()
-	for _, p := range sc.Participants {
-		pre.Functional(p.Functional)
-		pre.Structural(p.Structural)
+	if err := sc.Preprocess(data.Preprocess{}); err != nil {
+		t.Fatal(err)
 	}
 	exp := &train.Experiment{
 		Seed:        seed,

@@ -19,11 +19,8 @@ func ExampleRunner() {
 	if err != nil {
 		log.Fatal(err)
 	}
-	var pre data.Preprocess
-	pre.SetDefaults()
-	for _, p := range sc.Participants {
-		pre.Functional(p.Functional)
-		pre.Structural(p.Structural)
+	if err := sc.Preprocess(data.Preprocess{}); err != nil { // the defaults: Fisher z, log1p, scaled by the maximum
+		log.Fatal(err)
 	}
 	exp := &train.Experiment{
 		Seed: 7,

@@ -40,15 +40,8 @@ func preprocessed(t *testing.T, cfg synth.Config) *data.Cohort {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var pre data.Preprocess
-	pre.SetDefaults()
-	for _, p := range sc.Participants {
-		if err := pre.Functional(p.Functional); err != nil {
-			t.Fatal(err)
-		}
-		if err := pre.Structural(p.Structural); err != nil {
-			t.Fatal(err)
-		}
+	if err := sc.Preprocess(data.Preprocess{}); err != nil {
+		t.Fatal(err)
 	}
 	return sc.Cohort
 }

@@ -655,3 +655,23 @@ func (pl *plan) functional(counts *mat.Dense, traits []float64, motion float64, 
 	}
 	return fc
 }
+
+// Preprocess applies pre (its defaults filled in) to every participant's
+// matrices in place, as loading the written files with an experiment file
+// would: the cohort is then ready for a train.Runner. The error names the
+// first participant whose matrix failed.
+func (c *Cohort) Preprocess(pre data.Preprocess) error {
+	pre.SetDefaults()
+	if err := pre.Validate(); err != nil {
+		return err
+	}
+	for _, p := range c.Participants {
+		if err := pre.Functional(p.Functional); err != nil {
+			return fmt.Errorf("synth: participant %s: functional: %w", p.ID, err)
+		}
+		if err := pre.Structural(p.Structural); err != nil {
+			return fmt.Errorf("synth: participant %s: structural: %w", p.ID, err)
+		}
+	}
+	return nil
+}
