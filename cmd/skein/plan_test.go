@@ -47,22 +47,7 @@ layers = [{kind = "e2n", channels = 4}, {kind = "n2g", size = 4}]
 // experiment file extra and returns its path.
 func writeBatchExperiment(t *testing.T, n int, extra string) string {
 	t.Helper()
-	c, err := synth.Generate(synth.Config{N: n, P: 8, Seed: 11, FamilySize: 2})
-	if err != nil {
-		t.Fatal(err)
-	}
-	dir := filepath.Join(t.TempDir(), "cohort")
-	if err := synth.Write(dir, c, "tsv"); err != nil {
-		t.Fatal(err)
-	}
-	path := filepath.Join(dir, "experiment.toml")
-	f, err := os.OpenFile(path, os.O_APPEND|os.O_WRONLY, 0)
-	if err != nil {
-		t.Fatal(err)
-	}
-	defer f.Close()
-	f.WriteString(extra)
-	return path
+	return writeExperiment(t, synth.Config{N: n, P: 8, Seed: 11, FamilySize: 2}, extra)
 }
 
 // resultFiles are the files a merged run must share, byte for byte, with

@@ -11,9 +11,9 @@ import (
 	"github.com/skein-neuro/skein/data/synth"
 )
 
-// synthExperiment writes a small synthetic cohort and an experiment file
-// running the given [[model]] tables on it, and returns the file's path.
-func synthExperiment(t *testing.T, cfg synth.Config, models string) string {
+// writeExperiment writes the synthetic cohort cfg as a lab's files and
+// appends extra to its experiment file, whose path it returns.
+func writeExperiment(t *testing.T, cfg synth.Config, extra string) string {
 	t.Helper()
 	c, err := synth.Generate(cfg)
 	if err != nil {
@@ -29,8 +29,18 @@ func synthExperiment(t *testing.T, cfg synth.Config, models string) string {
 		t.Fatal(err)
 	}
 	defer f.Close()
-	f.WriteString("\n[cv]\nfolds = 4\nrepeats = 2\n\n" + models)
+	if _, err := f.WriteString(extra); err != nil {
+		t.Fatal(err)
+	}
 	return path
+}
+
+// synthExperiment writes a small synthetic cohort and an experiment file
+// running the given [[model]] tables on it under 4-fold × 2
+// cross-validation, and returns the file's path.
+func synthExperiment(t *testing.T, cfg synth.Config, models string) string {
+	t.Helper()
+	return writeExperiment(t, cfg, "\n[cv]\nfolds = 4\nrepeats = 2\n\n"+models)
 }
 
 const meanModel = "[[model]]\nname = \"mean\"\n[model.mean]\n"
