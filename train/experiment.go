@@ -50,8 +50,9 @@ type Experiment struct {
 // table of an experiment file.
 type Output struct {
 	// SaveModels keeps every fold's trained model, for models that can be
-	// saved (graph networks), under models/NAME/rR-fF/ of the run folder,
-	// with the target scaling fitted on its training fold. Default true.
+	// saved (graph networks, ridge, the mean predictor), under
+	// models/NAME/rR-fF/ of the run folder with the target scaling fitted
+	// on its training fold. Default true.
 	SaveModels *bool `toml:"save_models"`
 	// Refit also trains every model that can be saved on all
 	// participants after the cross-validation and keeps it under

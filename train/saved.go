@@ -14,6 +14,7 @@ import (
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/model/graphnet"
+	"github.com/skein-neuro/skein/model/linear"
 )
 
 // FittedFile is the file beside each saved fold model that holds what was
@@ -119,6 +120,10 @@ func LoadModel(dir string) (*SavedModel, error) {
 	switch f.Kind {
 	case "network":
 		if sm.Model, err = graphnet.Load(dir); err != nil {
+			return nil, err
+		}
+	case "mean", "ridge":
+		if sm.Model, err = linear.Load(dir); err != nil {
 			return nil, err
 		}
 	default:

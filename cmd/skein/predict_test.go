@@ -2,8 +2,10 @@ package main
 
 import (
 	"encoding/csv"
+	"math"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -85,4 +87,41 @@ func readCSV(t *testing.T, path string) [][]string {
 		t.Fatal(err)
 	}
 	return rows
+}
+
+// TestPredictWithSavedRidge: a saved ridge fold model predicts its test
+// fold as the run did, to rounding (saving folds the dual solution into
+// primal weights).
+func TestPredictWithSavedRidge(t *testing.T) {
+	exp := synthExperiment(t, synth.Config{N: 40, P: 10, Seed: 8}, "[[model]]\nname = \"ridge\"\n[model.ridge]\ninput = \"both\"\n")
+	out := filepath.Join(t.TempDir(), "run")
+	if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--no-history"); code != exitOK {
+		t.Fatalf("run: exit %d: %s", code, stderr)
+	}
+	recorded := make(map[string]float64)
+	for _, rec := range readCSV(t, filepath.Join(out, "predictions.csv"))[1:] {
+		if rec[3] == "1" && rec[4] == "2" {
+			v, _ := strconv.ParseFloat(rec[6], 64)
+			recorded[rec[0]+"|"+rec[2]] = v
+		}
+	}
+	predicted := filepath.Join(t.TempDir(), "new.csv")
+	if code, _, stderr := runSkein(t, "predict", filepath.Join(out, "models", "ridge", "r2-f3"), exp, "--out", predicted); code != exitOK {
+		t.Fatalf("predict: exit %d: %s", code, stderr)
+	}
+	matched := 0
+	for _, rec := range readCSV(t, predicted)[1:] {
+		want, ok := recorded[rec[0]+"|"+rec[2]]
+		if !ok {
+			continue
+		}
+		matched++
+		got, _ := strconv.ParseFloat(rec[4], 64)
+		if math.Abs(got-want) > 1e-9*math.Max(1, math.Abs(want)) {
+			t.Errorf("%s %s: predict gives %v, the run recorded %v", rec[0], rec[2], got, want)
+		}
+	}
+	if matched == 0 {
+		t.Fatal("no test participant of repeat 2, fold 3 was predicted")
+	}
 }
