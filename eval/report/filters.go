@@ -134,14 +134,7 @@ func readFilters(dir string) ([]SavedFilters, error) {
 		}
 	}
 	sort.Slice(out, func(a, b int) bool {
-		x, y := out[a], out[b]
-		if x.Model != y.Model {
-			return x.Model < y.Model
-		}
-		if x.Repeat != y.Repeat {
-			return x.Repeat < y.Repeat
-		}
-		return x.Fold < y.Fold
+		return unitLess(out[a].Model, out[a].Repeat, out[a].Fold, out[b].Model, out[b].Repeat, out[b].Fold)
 	})
 	return out, nil
 }

@@ -406,14 +406,7 @@ func readImportance(dir string) ([]UnitImportance, error) {
 		out = append(out, UnitImportance{Model: u.Model, Repeat: u.Repeat, Fold: u.Fold, Maps: u.Importance})
 	}
 	sort.Slice(out, func(a, b int) bool {
-		x, y := out[a], out[b]
-		if x.Model != y.Model {
-			return x.Model < y.Model
-		}
-		if x.Repeat != y.Repeat {
-			return x.Repeat < y.Repeat
-		}
-		return x.Fold < y.Fold
+		return unitLess(out[a].Model, out[a].Repeat, out[a].Fold, out[b].Model, out[b].Repeat, out[b].Fold)
 	})
 	return out, nil
 }
@@ -438,4 +431,15 @@ func writeAtomic(path string, raw []byte) error {
 		return err
 	}
 	return os.Rename(tmp.Name(), path)
+}
+
+// unitLess orders units by model name, then repeat, then fold.
+func unitLess(modelA string, repeatA, foldA int, modelB string, repeatB, foldB int) bool {
+	if modelA != modelB {
+		return modelA < modelB
+	}
+	if repeatA != repeatB {
+		return repeatA < repeatB
+	}
+	return foldA < foldB
 }
