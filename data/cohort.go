@@ -46,3 +46,27 @@ type Cohort struct {
 
 // P returns the number of regions.
 func (c *Cohort) P() int { return len(c.Regions) }
+
+// GroupIndices gathers the indices 0..len(labels)−1 by label, groups in
+// order of first appearance and indices ascending within a group; an
+// empty label stands alone. It is how participants sharing a family, a
+// site or an identity are kept together when folds or resamples are
+// drawn.
+func GroupIndices(labels []string) [][]int {
+	var groups [][]int
+	index := make(map[string]int)
+	for i, label := range labels {
+		if label == "" {
+			groups = append(groups, []int{i})
+			continue
+		}
+		g, ok := index[label]
+		if !ok {
+			g = len(groups)
+			index[label] = g
+			groups = append(groups, nil)
+		}
+		groups[g] = append(groups[g], i)
+	}
+	return groups
+}

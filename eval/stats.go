@@ -9,6 +9,8 @@ import (
 
 	"gonum.org/v1/gonum/stat"
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"github.com/skein-neuro/skein/data"
 )
 
 // PermutationPValue returns the permutation p-value of an observed statistic
@@ -140,25 +142,15 @@ func BootstrapCI(rows []Prediction, m Metric, bins, resamples int, level float64
 	if len(rows) == 0 {
 		return Interval{}, errors.New("eval: bootstrap of no predictions")
 	}
-	var units [][]int
-	unitOf := make(map[string]int)
+	ids := make([]string, len(rows))
 	for i, p := range rows {
 		if p.Model != rows[0].Model || p.Target != rows[0].Target {
 			return Interval{}, fmt.Errorf("eval: bootstrap rows mix model %q target %q with model %q target %q",
 				rows[0].Model, rows[0].Target, p.Model, p.Target)
 		}
-		if p.ParticipantID == "" {
-			units = append(units, []int{i})
-			continue
-		}
-		u, ok := unitOf[p.ParticipantID]
-		if !ok {
-			u = len(units)
-			unitOf[p.ParticipantID] = u
-			units = append(units, nil)
-		}
-		units[u] = append(units[u], i)
+		ids[i] = p.ParticipantID
 	}
+	units := data.GroupIndices(ids)
 
 	obs := make([]float64, len(rows))
 	pred := make([]float64, len(rows))

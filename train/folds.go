@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"slices"
 	"sort"
+
+	"github.com/skein-neuro/skein/data"
 )
 
 // Split is one cross-validation fold of one repeat: indices into the
@@ -82,24 +84,9 @@ func (f Folds) Splits(n int) ([]Split, error) {
 // participants when there are no groups, in order of first appearance.
 func (f Folds) units(n int) [][]int {
 	if f.Groups == nil {
-		units := make([][]int, n)
-		for i := range units {
-			units[i] = []int{i}
-		}
-		return units
+		return data.GroupIndices(make([]string, n))
 	}
-	index := make(map[string]int)
-	var units [][]int
-	for i, g := range f.Groups {
-		u, ok := index[g]
-		if !ok {
-			u = len(units)
-			index[g] = u
-			units = append(units, nil)
-		}
-		units[u] = append(units[u], i)
-	}
-	return units
+	return data.GroupIndices(f.Groups)
 }
 
 // deal assigns each unit a fold.

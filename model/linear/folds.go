@@ -16,21 +16,11 @@ import (
 // fold with the fewest participants so far. Fewer groups than folds is an
 // error naming key, the experiment key of the fold count.
 func innerFolds(ps []*data.Participant, k int, seed int64, key string) ([]int, error) {
-	var groups [][]int
-	index := make(map[string]int)
+	labels := make([]string, len(ps))
 	for i, p := range ps {
-		if p.Group == "" {
-			groups = append(groups, []int{i})
-			continue
-		}
-		g, ok := index[p.Group]
-		if !ok {
-			g = len(groups)
-			index[p.Group] = g
-			groups = append(groups, nil)
-		}
-		groups[g] = append(groups[g], i)
+		labels[i] = p.Group
 	}
+	groups := data.GroupIndices(labels)
 	if len(groups) < k {
 		return nil, fmt.Errorf("%s: %d inner folds, but the training fold has only %d participants or groups", key, k, len(groups))
 	}
