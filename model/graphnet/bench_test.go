@@ -70,7 +70,7 @@ func BenchmarkTrainStep(b *testing.B) {
 	for i, prm := range net.params {
 		ws[i], gs[i] = prm.value.Data(), prm.grad.Data()
 	}
-	opt := newOptimizer(net.cfg.Optimizer, ws, gs)
+	opt := newOptimizer(net.cfg.Optimizer, ws, gs, nil)
 	idx := make([]int, n)
 	for i := range idx {
 		idx[i] = i

@@ -151,11 +151,12 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 		return node, v, gorgonia.Let(node, v)
 	}
 	slope := *n.cfg.Slope
+	onPool := ops.WithPool(n.pool)
 	activate := func(h *gorgonia.Node, activation string) (*gorgonia.Node, error) {
 		if activation == activationNone {
 			return h, nil
 		}
-		return ops.LeakyReLU(h, slope)
+		return ops.LeakyReLU(h, slope, onPool)
 	}
 	dropout := func(h *gorgonia.Node, rate float64) (*gorgonia.Node, error) {
 		if !training || rate == 0 {
@@ -167,7 +168,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 		}
 		gr.masks = append(gr.masks, v)
 		gr.rates = append(gr.rates, rate)
-		return ops.Dropout(h, mask)
+		return ops.Dropout(h, mask, onPool)
 	}
 	p := n.p
 	var outs, inputs []*gorgonia.Node
@@ -189,10 +190,19 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 		h := x
 		in := layerShape{form: edgeForm, width: size{1, 0}}
 		fromData := !saliency // h depends on no weight: its gradient is never needed
+		nodeMajor := false    // h is an e2e output laid out for the e2n after it
 		for li, l := range b.Layers {
-			var opts []ops.Option
+			opts := []ops.Option{onPool}
 			if fromData {
 				opts = append(opts, ops.NoInputGrad())
+			}
+			switch {
+			case l.Kind == kindE2E && feedsE2N(b.Layers[li+1:]):
+				opts = append(opts, ops.NodeMajor())
+				nodeMajor = true
+			case l.Kind == kindE2N && nodeMajor:
+				opts = append(opts, ops.NodeMajor())
+				nodeMajor = false
 			}
 			fromData = fromData && l.Kind == kindDropout
 			// The rectifier fused into an e2e filter saves a batch-sized
@@ -247,7 +257,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 		}
 	}
 	for hi := range n.cfg.Head {
-		if h, err = ops.Dense(h, take(), take()); err == nil {
+		if h, err = ops.Dense(h, take(), take(), onPool); err == nil {
 			if h, err = activate(h, activationLeakyReLU); err == nil {
 				h, err = dropout(h, n.cfg.HeadDropout)
 			}
@@ -256,7 +266,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 			return nil, fmt.Errorf("graphnet: building model.network.head[%d]: %w", hi, err)
 		}
 	}
-	if gr.pred, err = ops.Dense(h, take(), take()); err != nil {
+	if gr.pred, err = ops.Dense(h, take(), take(), onPool); err != nil {
 		return nil, fmt.Errorf("graphnet: building the output layer: %w", err)
 	}
 	target, tv, err := constant("target", batch, n.targets)
@@ -280,6 +290,18 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 	}
 	gr.vm = gorgonia.NewTapeMachine(g)
 	return gr, nil
+}
+
+// feedsE2N reports whether the first of layers that is not a dropout is
+// an e2n: the e2e before them then hands its output over node-major
+// (ops.NodeMajor).
+func feedsE2N(layers []LayerConfig) bool {
+	for _, l := range layers {
+		if l.Kind != kindDropout {
+			return l.Kind == kindE2N
+		}
+	}
+	return false
 }
 
 // flatten reshapes a (B, …) node to (B, D).

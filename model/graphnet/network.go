@@ -6,11 +6,13 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 
 	"gonum.org/v1/gonum/mat"
 	"gorgonia.org/tensor"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/internal/parallel"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/model/graphnet/internal/ops"
 )
@@ -30,6 +32,7 @@ type Network struct {
 	graphs  map[graphKey]*graph
 	history []model.Epoch
 	onEpoch func(model.Epoch)
+	pool    *parallel.Pool // the ops' and the optimizer's helpers
 
 	// Fitted is free-form data a caller stores with the network in a
 	// saved model, such as what it fitted on the training data
@@ -76,7 +79,11 @@ func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 		loss:   newLossFunc(cfg.Loss),
 		rng:    rand.New(rand.NewPCG(uint64(seed), 0x736b65696e)), // "skein"
 		graphs: make(map[graphKey]*graph),
+		pool:   parallel.New(runtime.GOMAXPROCS(0) - 1),
 	}
+	// The helpers stop when the network is no longer reachable (they
+	// hold the pool, not the network).
+	runtime.AddCleanup(n, (*parallel.Pool).Close, n.pool)
 	if cfg.DType == "float64" {
 		n.dtype = tensor.Float64
 	}
@@ -131,7 +138,7 @@ func (n *Network) Fit(ctx context.Context, train, valid model.Dataset) error {
 	for i, p := range n.params {
 		ws[i], grads[i] = p.value.Data(), p.grad.Data()
 	}
-	opt := newOptimizer(n.cfg.Optimizer, ws, grads)
+	opt := newOptimizer(n.cfg.Optimizer, ws, grads, n.pool)
 	hasValid := validSet.len() > 0 && validSet.present() > 0
 	var best []*tensor.Dense
 	bestLoss := math.Inf(1)

@@ -2,6 +2,8 @@ package graphnet
 
 import (
 	"math"
+
+	"github.com/skein-neuro/skein/internal/parallel"
 )
 
 // An optimizer updates weights in place from their gradients. It holds the
@@ -14,18 +16,38 @@ type optimizer interface {
 
 // newOptimizer returns the optimizer of cfg over the weights ws and their
 // gradients gs: ws[i] and gs[i] are the backing slices of one weight array
-// and its gradient, all []float32 or all []float64.
-func newOptimizer(cfg OptimizerConfig, ws, gs []any) optimizer {
+// and its gradient, all []float32 or all []float64. Its updates run in
+// chunks on pool (nil: on the caller alone); each weight's update is the
+// same either way.
+func newOptimizer(cfg OptimizerConfig, ws, gs []any, pool *parallel.Pool) optimizer {
 	switch ws[0].(type) {
 	case []float32:
-		return newOptimizerOf[float32](cfg, ws, gs)
+		return newOptimizerOf[float32](cfg, ws, gs, pool)
 	case []float64:
-		return newOptimizerOf[float64](cfg, ws, gs)
+		return newOptimizerOf[float64](cfg, ws, gs, pool)
 	}
 	panic("graphnet: optimizer over weights that are not float32 or float64")
 }
 
-func newOptimizerOf[T float32 | float64](cfg OptimizerConfig, ws, gs []any) optimizer {
+// updateSize is the number of weights in a chunk of an update.
+const updateSize = 1 << 14
+
+// span is the weights lo…hi−1 of array i.
+type span struct{ i, lo, hi int }
+
+// spansOf splits the arrays of lengths len(w[i]) into chunks of at most
+// updateSize weights.
+func spansOf[T float32 | float64](w [][]T) []span {
+	var ss []span
+	for i, wi := range w {
+		for lo := 0; lo < len(wi); lo += updateSize {
+			ss = append(ss, span{i, lo, min(lo+updateSize, len(wi))})
+		}
+	}
+	return ss
+}
+
+func newOptimizerOf[T float32 | float64](cfg OptimizerConfig, ws, gs []any, pool *parallel.Pool) optimizer {
 	w := make([][]T, len(ws))
 	g := make([][]T, len(ws))
 	m := make([][]T, len(ws))
@@ -38,13 +60,13 @@ func newOptimizerOf[T float32 | float64](cfg OptimizerConfig, ws, gs []any) opti
 		m[i] = make([]T, len(w[i]))
 	}
 	if cfg.Kind == "sgd" {
-		return &sgd[T]{w: w, g: g, velocity: m, momentum: *cfg.Momentum, decay: cfg.WeightDecay, clip: cfg.ClipNorm}
+		return &sgd[T]{w: w, g: g, velocity: m, momentum: *cfg.Momentum, decay: cfg.WeightDecay, clip: cfg.ClipNorm, spans: spansOf(w), pool: pool}
 	}
 	v := make([][]T, len(ws))
 	for i := range ws {
 		v[i] = make([]T, len(w[i]))
 	}
-	return &adamW[T]{w: w, g: g, m: m, v: v, beta1: cfg.Beta1, beta2: cfg.Beta2, eps: cfg.Epsilon, decay: cfg.WeightDecay, clip: cfg.ClipNorm}
+	return &adamW[T]{w: w, g: g, m: m, v: v, beta1: cfg.Beta1, beta2: cfg.Beta2, eps: cfg.Epsilon, decay: cfg.WeightDecay, clip: cfg.ClipNorm, spans: spansOf(w), pool: pool}
 }
 
 // adamW is Adam with decoupled weight decay (Loshchilov & Hutter 2019,
@@ -59,25 +81,36 @@ type adamW[T float32 | float64] struct {
 	beta1, beta2, eps, decay float64
 	clip                     float64
 	t                        int
+	spans                    []span
+	pool                     *parallel.Pool
+
+	// The factors of the current step.
+	stepSize, keep T
+	invRootBC2     float64
 }
 
 func (o *adamW[T]) step(rate float64) {
 	clipGlobalNorm(o.g, o.clip)
 	o.t++
-	stepSize := T(rate / (1 - math.Pow(o.beta1, float64(o.t))))
-	invRootBC2 := 1 / math.Sqrt(1-math.Pow(o.beta2, float64(o.t)))
-	keep := T(1 - rate*o.decay)
+	o.stepSize = T(rate / (1 - math.Pow(o.beta1, float64(o.t))))
+	o.invRootBC2 = 1 / math.Sqrt(1-math.Pow(o.beta2, float64(o.t)))
+	o.keep = T(1 - rate*o.decay)
+	o.pool.Run(o, len(o.spans))
+}
+
+// Chunk updates the weights of span c.
+func (o *adamW[T]) Chunk(c int) {
+	s := o.spans[c]
+	w := o.w[s.i][s.lo:s.hi]
+	g, m, v := o.g[s.i][s.lo:s.hi], o.m[s.i][s.lo:s.hi], o.v[s.i][s.lo:s.hi]
+	g, m, v = g[:len(w)], m[:len(w)], v[:len(w)]
 	b1, b2 := T(o.beta1), T(o.beta2)
-	eps := T(o.eps)
-	for i, w := range o.w {
-		g, m, v := o.g[i], o.m[i], o.v[i]
-		g, m, v = g[:len(w)], m[:len(w)], v[:len(w)]
-		for j := range w {
-			m[j] = b1*m[j] + (1-b1)*g[j]
-			v[j] = b2*v[j] + (1-b2)*g[j]*g[j]
-			denom := T(math.Sqrt(float64(v[j]))*invRootBC2) + eps
-			w[j] = w[j]*keep - stepSize*m[j]/denom
-		}
+	eps, keep, stepSize, invRootBC2 := T(o.eps), o.keep, o.stepSize, o.invRootBC2
+	for j := range w {
+		m[j] = b1*m[j] + (1-b1)*g[j]
+		v[j] = b2*v[j] + (1-b2)*g[j]*g[j]
+		denom := T(math.Sqrt(float64(v[j]))*invRootBC2) + eps
+		w[j] = w[j]*keep - stepSize*m[j]/denom
 	}
 }
 
@@ -91,17 +124,27 @@ type sgd[T float32 | float64] struct {
 	w, g, velocity  [][]T
 	momentum, decay float64
 	clip            float64
+	spans           []span
+	pool            *parallel.Pool
+	rate            T // of the current step
 }
 
 func (o *sgd[T]) step(rate float64) {
 	clipGlobalNorm(o.g, o.clip)
-	mu, decay, eta := T(o.momentum), T(o.decay), T(rate)
-	for i, w := range o.w {
-		g, v := o.g[i][:len(w)], o.velocity[i][:len(w)]
-		for j := range w {
-			v[j] = mu*v[j] + g[j] + decay*w[j]
-			w[j] -= eta * v[j]
-		}
+	o.rate = T(rate)
+	o.pool.Run(o, len(o.spans))
+}
+
+// Chunk updates the weights of span c.
+func (o *sgd[T]) Chunk(c int) {
+	s := o.spans[c]
+	w := o.w[s.i][s.lo:s.hi]
+	g, v := o.g[s.i][s.lo:s.hi], o.velocity[s.i][s.lo:s.hi]
+	g, v = g[:len(w)], v[:len(w)]
+	mu, decay, eta := T(o.momentum), T(o.decay), o.rate
+	for j := range w {
+		v[j] = mu*v[j] + g[j] + decay*w[j]
+		w[j] -= eta * v[j]
 	}
 }
 

@@ -58,7 +58,7 @@ func TestOptimizersAgainstTorch(t *testing.T) {
 				w, g = append(w, wi), append(g, gi)
 				ws, gs = append(ws, wi), append(gs, gi)
 			}
-			opt := newOptimizer(cfg, ws, gs)
+			opt := newOptimizer(cfg, ws, gs, nil)
 			for s, want := range tc.Steps {
 				for i := range w {
 					for j := range w[i] {
@@ -96,8 +96,8 @@ func TestOptimizerFloat32(t *testing.T) {
 	cfg := OptimizerConfig{Kind: "adamw", Beta1: 0.9, Beta2: 0.999, Epsilon: 1e-8, WeightDecay: 0.01, Momentum: float64Ptr(0)}
 	w64, g64 := []float64{1, -2, 3}, []float64{0, 0, 0}
 	w32, g32 := []float32{1, -2, 3}, []float32{0, 0, 0}
-	o64 := newOptimizer(cfg, []any{w64}, []any{g64})
-	o32 := newOptimizer(cfg, []any{w32}, []any{g32})
+	o64 := newOptimizer(cfg, []any{w64}, []any{g64}, nil)
+	o32 := newOptimizer(cfg, []any{w32}, []any{g32}, nil)
 	for range 20 {
 		for j := range w64 {
 			g64[j] = 2 * w64[j]

@@ -14,6 +14,8 @@ import (
 	"gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
 
+	"github.com/skein-neuro/skein/internal/parallel"
+
 	// The openblas build tag makes blas64/blas32 use OpenBLAS.
 	_ "github.com/skein-neuro/skein/internal/blas"
 )
@@ -28,6 +30,8 @@ type options struct {
 	noInputGrad bool
 	leaky       bool    // the output goes through a leaky rectifier
 	slope       float64 // of the leaky rectifier
+	nodeMajor   bool    // E2E output, E2N input laid out (B, p, C, p)
+	pool        *parallel.Pool
 }
 
 // NoInputGrad tells an op that its data input (x of E2E and E2N, h of
@@ -46,12 +50,24 @@ func WithLeakyReLU(slope float64) Option {
 	return func(o *options) { o.leaky, o.slope = true, slope }
 }
 
+// NodeMajor lays out the edge tensor between an E2E and an E2N node
+// by node: E2E(…, NodeMajor()) returns H' of shape (B, p, O, p) with
+// H'[n,i,o,j] = H[n,o,i,j], and E2N(x, …, NodeMajor()) reads x as
+// (B, p, C, p) in that layout. An E2N needs row i of every channel
+// together, so the pair saves a permuted copy of the (batch-sized)
+// tensor forward and backward. Elementwise ops (LeakyReLU, Dropout) may
+// stand between them. Only E2E and E2N accept it.
+func NodeMajor() Option { return func(o *options) { o.nodeMajor = true } }
+
 // collect applies opts for the op called name; leakyOK says whether it
-// accepts WithLeakyReLU.
-func collect(name string, opts []Option, leakyOK bool) (options, error) {
+// accepts WithLeakyReLU, nodeMajorOK whether it accepts NodeMajor.
+func collect(name string, opts []Option, leakyOK, nodeMajorOK bool) (options, error) {
 	var o options
 	for _, f := range opts {
 		f(&o)
+	}
+	if o.nodeMajor && !nodeMajorOK {
+		return o, fmt.Errorf("ops: %s does not accept NodeMajor", name)
 	}
 	if o.leaky {
 		if !leakyOK {
@@ -67,6 +83,9 @@ func collect(name string, opts []Option, leakyOK bool) (options, error) {
 // leakyFactors are the factors by which the leaky rectifier multiplies an
 // input whose sign bit is 0 (index 0) or 1 (index 1).
 func leakyFactors[T float](slope float64) [2]T { return [2]T{1, T(slope)} }
+
+// ceilDiv returns ⌈a/b⌉ for a ≥ 0, b > 0.
+func ceilDiv(a, b int) int { return (a + b - 1) / b }
 
 // is64 reports whether T is float64.
 func is64[T float]() bool {
@@ -188,10 +207,17 @@ type base struct {
 	out   tensor.Shape
 	buf   buffer
 	inBuf [4]*tensor.Dense
+	ts    tasks
 }
 
-func newBase(name string, in []tensor.Shape, out tensor.Shape) base {
-	return base{name: name, in: in, out: out}
+// newBase returns the base of an op that runs its chunks on pool.
+func newBase(name string, in []tensor.Shape, out tensor.Shape, pool *parallel.Pool) base {
+	return base{name: name, in: in, out: out, ts: tasks{pool: pool}}
+}
+
+// derive returns the base of an op of b's gradient: on b's pool.
+func (b *base) derive(name string, in []tensor.Shape, out tensor.Shape) base {
+	return newBase(name, in, out, b.ts.pool)
 }
 
 func (b *base) Arity() int { return len(b.in) }

@@ -30,12 +30,12 @@ func GraphConv(s, h, w *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if hs[0] != B || hs[1] != P || hs[2] != F {
 		return nil, fmt.Errorf("ops: GraphConv: h has shape %v, want (%d, %d, %d) (B, p, F) to match s %v and w %v", hs, B, P, F, ss, ws)
 	}
-	o, err := collect("GraphConv", opts, false)
+	o, err := collect("GraphConv", opts, false, false)
 	if err != nil {
 		return nil, err
 	}
 	op := &graphConvOp{
-		base: newBase(fmt.Sprintf("GraphConv(%v·%v)", hs, ws), shapes, tensor.Shape{B, P, G}),
+		base: newBase(fmt.Sprintf("GraphConv(%v·%v)", hs, ws), shapes, tensor.Shape{B, P, G}, o.pool),
 		B:    B, P: P, F: F, G: G,
 		opts:     o,
 		tmpShape: tensor.Shape{B, P, min(F, G)},
@@ -54,16 +54,27 @@ type graphConvOp struct {
 func graphConvForward[T float](op *graphConvOp, s, h, w, tmp, y []T) {
 	B, P, F, G := op.B, op.P, op.F, op.G
 	if G <= F {
-		gemm(false, false, B*P, G, F, 1, h, F, w, G, 0, tmp, G) // tmp = H·W, all samples at once
-		for n := 0; n < B; n++ {
-			gemm(false, false, P, G, P, 1, s[n*P*P:], P, tmp[n*P*G:], G, 0, y[n*P*G:], G)
-		}
+		parallelGemm(&op.ts, false, false, B*P, G, F, 1, h, F, w, G, 0, tmp, G) // tmp = H·W, all samples at once
+		forEach(&op.ts, B, filterDims{B: B, P: P, C: G}, [2]T{}, kOperatorTimes, s, tmp, y)
 		return
 	}
-	for n := 0; n < B; n++ {
-		gemm(false, false, P, F, P, 1, s[n*P*P:], P, h[n*P*F:], F, 0, tmp[n*P*F:], F) // tmp = S·H
-	}
-	gemm(false, false, B*P, G, F, 1, tmp, F, w, G, 0, y, G)
+	forEach(&op.ts, B, filterDims{B: B, P: P, C: F}, [2]T{}, kOperatorTimes, s, h, tmp) // tmp = S·H
+	parallelGemm(&op.ts, false, false, B*P, G, F, 1, tmp, F, w, G, 0, y, G)
+}
+
+// operatorTimesOf sets Y[n] = S[n]·X[n] for sample n, with S[n] p × p and
+// X[n] p × d.C: s = s, x, y.
+func operatorTimesOf[T float](l *loop[T], n int) {
+	s, x, y := l.s[0], l.s[1], l.s[2]
+	P, K := l.d.P, l.d.C
+	serialGemm(false, false, P, K, P, 1, s[n*P*P:], P, x[n*P*K:], K, 0, y[n*P*K:], K)
+}
+
+// operatorTransposeTimesOf is operatorTimesOf with S[n]ᵀ.
+func operatorTransposeTimesOf[T float](l *loop[T], n int) {
+	s, x, y := l.s[0], l.s[1], l.s[2]
+	P, K := l.d.P, l.d.C
+	serialGemm(true, false, P, K, P, 1, s[n*P*P:], P, x[n*P*K:], K, 0, y[n*P*K:], K)
 }
 
 func (op *graphConvOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -86,18 +97,18 @@ func (op *graphConvOp) DiffWRT(int) []bool { return []bool{false, !op.opts.noInp
 func (op *graphConvOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
 	s, h, w := inputs[0], inputs[1], inputs[2]
 	B, P, F, G := op.B, op.P, op.F, op.G
-	adj := &adjointOp{base: newBase("GraphConvAdjoint", []tensor.Shape{op.in[0], op.out}, op.out), B: B, P: P, G: G}
+	adj := &adjointOp{base: op.derive("GraphConvAdjoint", []tensor.Shape{op.in[0], op.out}, op.out), B: B, P: P, G: G}
 	v, err := gorgonia.ApplyOp(adj, s, grad)
 	if err != nil {
 		return nil, err
 	}
 	grads := make(gorgonia.Nodes, 3)
 	if !op.opts.noInputGrad {
-		if grads[1], err = matMul("GraphConvGradH", v, w, false, true, B*P, F, G, op.in[1]); err != nil {
+		if grads[1], err = matMul(&op.base, "GraphConvGradH", v, w, false, true, B*P, F, G, op.in[1]); err != nil {
 			return nil, err
 		}
 	}
-	if grads[2], err = matMul("GraphConvGradW", h, v, true, false, F, G, B*P, op.in[2]); err != nil {
+	if grads[2], err = matMul(&op.base, "GraphConvGradW", h, v, true, false, F, G, B*P, op.in[2]); err != nil {
 		return nil, err
 	}
 	return grads, nil
@@ -110,10 +121,7 @@ type adjointOp struct {
 }
 
 func adjoint[T float](op *adjointOp, s, g, v []T) {
-	P, G := op.P, op.G
-	for n := 0; n < op.B; n++ {
-		gemm(true, false, P, G, P, 1, s[n*P*P:], P, g[n*P*G:], G, 0, v[n*P*G:], G)
-	}
+	forEach(&op.ts, op.B, filterDims{B: op.B, P: op.P, C: op.G}, [2]T{}, kOperatorTransposeTimes, s, g, v)
 }
 
 func (op *adjointOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -156,12 +164,12 @@ func Dense(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if shapes[2][0] != G {
 		return nil, fmt.Errorf("ops: Dense: b has shape %v, want (%d)", shapes[2], G)
 	}
-	o, err := collect("Dense", opts, false)
+	o, err := collect("Dense", opts, false, false)
 	if err != nil {
 		return nil, err
 	}
 	op := &denseOp{
-		base: newBase(fmt.Sprintf("Dense(%v·%v)", xs, ws), shapes, tensor.Shape{B, G}),
+		base: newBase(fmt.Sprintf("Dense(%v·%v)", xs, ws), shapes, tensor.Shape{B, G}, o.pool),
 		B:    B, F: F, G: G,
 		opts: o,
 	}
@@ -179,7 +187,7 @@ func denseForward[T float](op *denseOp, x, w, b, y []T) {
 	for n := 0; n < op.B; n++ {
 		copy(y[n*G:][:G], b[:G])
 	}
-	gemm(false, false, op.B, G, op.F, 1, x, op.F, w, G, 1, y, G)
+	parallelGemm(&op.ts, false, false, op.B, G, op.F, 1, x, op.F, w, G, 1, y, G)
 }
 
 func (op *denseOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -204,25 +212,25 @@ func (op *denseOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (
 	grads := make(gorgonia.Nodes, 3)
 	var err error
 	if !op.opts.noInputGrad {
-		if grads[0], err = matMul("DenseGradX", grad, w, false, true, B, F, G, op.in[0]); err != nil {
+		if grads[0], err = matMul(&op.base, "DenseGradX", grad, w, false, true, B, F, G, op.in[0]); err != nil {
 			return nil, err
 		}
 	}
-	if grads[1], err = matMul("DenseGradW", x, grad, true, false, F, G, B, op.in[1]); err != nil {
+	if grads[1], err = matMul(&op.base, "DenseGradW", x, grad, true, false, F, G, B, op.in[1]); err != nil {
 		return nil, err
 	}
-	cs := &colSumOp{base: newBase("DenseGradB", []tensor.Shape{op.out}, op.in[2]), rows: B, cols: G}
+	cs := &colSumOp{base: op.derive("DenseGradB", []tensor.Shape{op.out}, op.in[2]), rows: B, cols: G}
 	if grads[2], err = gorgonia.ApplyOp(cs, grad); err != nil {
 		return nil, err
 	}
 	return grads, nil
 }
 
-// matMul applies a matMulOp: the result, of shape out, holds the m×n
+// matMul applies a matMulOp of parent's gradient: the result, of shape out, holds the m×n
 // matrix op(A)·op(B), where op(A) is m×k and op(B) k×n, whatever the
 // shapes of a and b (their row-major data are read as those matrices).
-func matMul(name string, a, b *gorgonia.Node, ta, tb bool, m, n, k int, out tensor.Shape) (*gorgonia.Node, error) {
-	op := &matMulOp{base: newBase(name, []tensor.Shape{a.Shape(), b.Shape()}, out), ta: ta, tb: tb, m: m, n: n, k: k}
+func matMul(parent *base, name string, a, b *gorgonia.Node, ta, tb bool, m, n, k int, out tensor.Shape) (*gorgonia.Node, error) {
+	op := &matMulOp{base: parent.derive(name, []tensor.Shape{a.Shape(), b.Shape()}, out), ta: ta, tb: tb, m: m, n: n, k: k}
 	return gorgonia.ApplyOp(op, a, b)
 }
 
@@ -240,7 +248,7 @@ func matMulKernel[T float](op *matMulOp, a, b, c []T) {
 	if op.tb {
 		ldb = op.k
 	}
-	gemm(op.ta, op.tb, op.m, op.n, op.k, 1, a, lda, b, ldb, 0, c, op.n)
+	parallelGemm(&op.ts, op.ta, op.tb, op.m, op.n, op.k, 1, a, lda, b, ldb, 0, c, op.n)
 }
 
 func (op *matMulOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -290,13 +298,17 @@ func (op *colSumOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 // (B, p, features) node features of GraphConv, faster than gorgonia's
 // general Transpose and without allocating per step. Its gradient is
 // SwapLastAxes of the output gradient.
-func SwapLastAxes(x *gorgonia.Node) (*gorgonia.Node, error) {
+func SwapLastAxes(x *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	shapes, err := nodeShapes("SwapLastAxes", []*gorgonia.Node{x}, 3)
 	if err != nil {
 		return nil, err
 	}
+	o, err := collect("SwapLastAxes", opts, false, false)
+	if err != nil {
+		return nil, err
+	}
 	s := shapes[0]
-	op := &swapOp{base: newBase(fmt.Sprintf("SwapLastAxes%v", s), shapes, tensor.Shape{s[0], s[2], s[1]})}
+	op := &swapOp{base: newBase(fmt.Sprintf("SwapLastAxes%v", s), shapes, tensor.Shape{s[0], s[2], s[1]}, o.pool)}
 	return gorgonia.ApplyOp(op, x)
 }
 
@@ -330,7 +342,7 @@ func (op *swapOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 func (op *swapOp) DiffWRT(int) []bool { return []bool{true} }
 
 func (op *swapOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
-	back := &swapOp{base: newBase("SwapLastAxesGrad", []tensor.Shape{op.out}, op.in[0])}
+	back := &swapOp{base: op.derive("SwapLastAxesGrad", []tensor.Shape{op.out}, op.in[0])}
 	dx, err := gorgonia.ApplyOp(back, grad)
 	return gorgonia.Nodes{dx}, err
 }

@@ -13,27 +13,36 @@ import (
 // x < 0, element by element, on a tensor of any shape. The loop has no
 // branch: each element is multiplied by 1 or slope picked by its sign bit
 // (so -0 counts as negative and +0 as positive; the derivative at +0 is 1).
-func LeakyReLU(x *gorgonia.Node, slope float64) (*gorgonia.Node, error) {
+func LeakyReLU(x *gorgonia.Node, slope float64, opts ...Option) (*gorgonia.Node, error) {
 	if x == nil {
 		return nil, fmt.Errorf("ops: LeakyReLU: x is nil")
 	}
 	if math.IsNaN(slope) || math.IsInf(slope, 0) {
 		return nil, fmt.Errorf("ops: LeakyReLU: slope is %v, want a finite number", slope)
 	}
+	o, err := collect("LeakyReLU", opts, false, false)
+	if err != nil {
+		return nil, err
+	}
 	s := x.Shape()
-	op := &leakyOp{base: newBase(fmt.Sprintf("LeakyReLU(%g)", slope), []tensor.Shape{s}, s), slope: slope}
+	op := &leakyOp{base: newBase(fmt.Sprintf("LeakyReLU(%g)", slope), []tensor.Shape{s}, s, o.pool), slope: slope}
 	return gorgonia.ApplyOp(op, x)
 }
 
-// signFactor sets y[i] = x[i]·f[sign bit of x[i]] (fwd) or
-// y[i] = dy[i]·f[sign bit of x[i]] (given dy), branch-free.
-func signFactor[T float](x, dy, y []T, slope float64) {
-	f := [2]T{1, T(slope)}
+// signFactor sets y[i] = x[i]·f[sign bit of x[i]] (dy nil) or
+// y[i] = dy[i]·f[sign bit of x[i]], branch-free, with f = (1, slope).
+func signFactor[T float](ts *tasks, x, dy, y []T, slope float64) {
 	if dy == nil {
 		dy = x
 	}
-	dy = dy[:len(x)]
-	y = y[:len(x)]
+	forRanges(ts, len(x), [2]T{1, T(slope)}, kSignFactor, x, dy, y)
+}
+
+// signFactorOf does one range of signFactor: s = x, dy, y.
+func signFactorOf[T float](l *loop[T], i int) {
+	lo, hi := l.span(i)
+	x, dy, y := l.s[0][lo:hi], l.s[1][lo:hi], l.s[2][lo:hi]
+	f := l.f
 	if is64[T]() {
 		for i, v := range as64(x) {
 			y[i] = dy[i] * f[math.Float64bits(v)>>63]
@@ -56,9 +65,9 @@ func (op *leakyOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	if dt == tensor.Float64 {
-		signFactor(slice[float64](in[0]), nil, slice[float64](out), op.slope)
+		signFactor(&op.ts, slice[float64](in[0]), nil, slice[float64](out), op.slope)
 	} else {
-		signFactor(slice[float32](in[0]), nil, slice[float32](out), op.slope)
+		signFactor(&op.ts, slice[float32](in[0]), nil, slice[float32](out), op.slope)
 	}
 	return out, nil
 }
@@ -66,7 +75,7 @@ func (op *leakyOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 func (op *leakyOp) DiffWRT(int) []bool { return []bool{true} }
 
 func (op *leakyOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
-	g := &leakyGradOp{base: newBase(fmt.Sprintf("LeakyReLUGrad(%g)", op.slope), []tensor.Shape{op.out, op.out}, op.out), slope: op.slope}
+	g := &leakyGradOp{base: op.derive(fmt.Sprintf("LeakyReLUGrad(%g)", op.slope), []tensor.Shape{op.out, op.out}, op.out), slope: op.slope}
 	dx, err := gorgonia.ApplyOp(g, inputs[0], grad)
 	return gorgonia.Nodes{dx}, err
 }
@@ -83,9 +92,9 @@ func (op *leakyGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	if dt == tensor.Float64 {
-		signFactor(slice[float64](in[0]), slice[float64](in[1]), slice[float64](out), op.slope)
+		signFactor(&op.ts, slice[float64](in[0]), slice[float64](in[1]), slice[float64](out), op.slope)
 	} else {
-		signFactor(slice[float32](in[0]), slice[float32](in[1]), slice[float32](out), op.slope)
+		signFactor(&op.ts, slice[float32](in[0]), slice[float32](in[1]), slice[float32](out), op.slope)
 	}
 	return out, nil
 }
@@ -104,7 +113,7 @@ func (op *leakyGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 // allocates. To predict, fill the mask with rate 0 (all ones), or build
 // the prediction graph without Dropout. The gradient is dx = dy ⊙ mask;
 // there is none with respect to mask.
-func Dropout(x, mask *gorgonia.Node) (*gorgonia.Node, error) {
+func Dropout(x, mask *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if x == nil || mask == nil {
 		return nil, fmt.Errorf("ops: Dropout: nil input")
 	}
@@ -112,7 +121,11 @@ func Dropout(x, mask *gorgonia.Node) (*gorgonia.Node, error) {
 	if !mask.Shape().Eq(s) {
 		return nil, fmt.Errorf("ops: Dropout: mask %v has shape %v, want the shape of x %v", mask.Name(), mask.Shape(), s)
 	}
-	op := &maskOp{base: newBase("Dropout", []tensor.Shape{s, s}, s)}
+	o, err := collect("Dropout", opts, false, false)
+	if err != nil {
+		return nil, err
+	}
+	op := &maskOp{base: newBase("Dropout", []tensor.Shape{s, s}, s, o.pool)}
 	return gorgonia.ApplyOp(op, x, mask)
 }
 
@@ -154,8 +167,15 @@ func fillMask[T float](m []T, rate, keep float64, rng *rand.Rand) {
 // maskOp: y = x ⊙ mask, differentiable with respect to x only.
 type maskOp struct{ base }
 
-func mulInto[T float](a, b, y []T) {
-	b, y = b[:len(a)], y[:len(a)]
+// mulInto sets y = a ⊙ b.
+func mulInto[T float](ts *tasks, a, b, y []T) {
+	forRanges(ts, len(a), [2]T{}, kMulInto, a, b, y)
+}
+
+// mulIntoOf does one range of mulInto: s = a, b, y.
+func mulIntoOf[T float](l *loop[T], i int) {
+	lo, hi := l.span(i)
+	a, b, y := l.s[0][lo:hi], l.s[1][lo:hi], l.s[2][lo:hi]
 	for i, v := range a {
 		y[i] = v * b[i]
 	}
@@ -167,9 +187,9 @@ func (op *maskOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	if dt == tensor.Float64 {
-		mulInto(slice[float64](in[0]), slice[float64](in[1]), slice[float64](out))
+		mulInto(&op.ts, slice[float64](in[0]), slice[float64](in[1]), slice[float64](out))
 	} else {
-		mulInto(slice[float32](in[0]), slice[float32](in[1]), slice[float32](out))
+		mulInto(&op.ts, slice[float32](in[0]), slice[float32](in[1]), slice[float32](out))
 	}
 	return out, nil
 }
@@ -177,7 +197,7 @@ func (op *maskOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 func (op *maskOp) DiffWRT(int) []bool { return []bool{true, false} }
 
 func (op *maskOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
-	g := &maskOp{base: newBase("DropoutGrad", op.in, op.out)}
+	g := &maskOp{base: op.derive("DropoutGrad", op.in, op.out)}
 	dx, err := gorgonia.ApplyOp(g, grad, inputs[1])
 	return gorgonia.Nodes{dx, nil}, err
 }

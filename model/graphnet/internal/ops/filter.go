@@ -28,6 +28,10 @@ func E2E(x, wr, wc, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if xs[3] != P {
 		return nil, fmt.Errorf("ops: E2E: x has shape %v, want (B, C, p, p)", xs)
 	}
+	o, err := collect("E2E", opts, true, true)
+	if err != nil {
+		return nil, err
+	}
 	for i, name := range []string{"wr", "wc"} {
 		if s := shapes[1+i]; s[0] != O || s[1] != C || s[2] != P {
 			return nil, fmt.Errorf("ops: E2E: %s has shape %v, want (%d, %d, %d) (O, C, p) to match x %v and wr %v", name, s, O, C, P, xs, shapes[1])
@@ -36,13 +40,13 @@ func E2E(x, wr, wc, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if shapes[3][0] != O {
 		return nil, fmt.Errorf("ops: E2E: b has shape %v, want (%d)", shapes[3], O)
 	}
-	o, err := collect("E2E", opts, true)
-	if err != nil {
-		return nil, err
+	out := tensor.Shape{B, O, P, P}
+	if o.nodeMajor {
+		out = tensor.Shape{B, P, O, P}
 	}
 	op := &e2eOp{
-		base:    newBase(fmt.Sprintf("E2E(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P, P}),
-		dims:    filterDims{B: B, C: C, O: O, P: P},
+		base:    newBase(fmt.Sprintf("E2E(%v→%v)", xs, out), shapes, out, o.pool),
+		dims:    filterDims{B: B, C: C, O: O, P: P, outNodeMajor: o.nodeMajor},
 		opts:    o,
 		rcShape: tensor.Shape{2, O, B, P},
 	}
@@ -63,10 +67,21 @@ func E2N(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if err != nil {
 		return nil, err
 	}
+	o, err := collect("E2N", opts, false, true)
+	if err != nil {
+		return nil, err
+	}
 	xs := shapes[0]
 	B, C, P, O := xs[0], xs[1], xs[2], shapes[1][0]
-	if xs[3] != P {
-		return nil, fmt.Errorf("ops: E2N: x has shape %v, want (B, C, p, p)", xs)
+	if o.nodeMajor {
+		C, P = xs[2], xs[1]
+	}
+	if xs[3] != P || (o.nodeMajor && xs[1] != P) || (!o.nodeMajor && xs[2] != P) {
+		want := "(B, C, p, p)"
+		if o.nodeMajor {
+			want = "(B, p, C, p) (NodeMajor)"
+		}
+		return nil, fmt.Errorf("ops: E2N: x has shape %v, want %s", xs, want)
 	}
 	if s := shapes[1]; s[1] != C || s[2] != P {
 		return nil, fmt.Errorf("ops: E2N: w has shape %v, want (O, %d, %d) (O, C, p) to match x %v", s, C, P, xs)
@@ -74,13 +89,9 @@ func E2N(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	if shapes[2][0] != O {
 		return nil, fmt.Errorf("ops: E2N: b has shape %v, want (%d)", shapes[2], O)
 	}
-	o, err := collect("E2N", opts, false)
-	if err != nil {
-		return nil, err
-	}
 	op := &e2nOp{
-		base:      newBase(fmt.Sprintf("E2N(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P}),
-		dims:      filterDims{B: B, C: C, O: O, P: P},
+		base:      newBase(fmt.Sprintf("E2N(%v→%d)", xs, O), shapes, tensor.Shape{B, O, P}, o.pool),
+		dims:      filterDims{B: B, C: C, O: O, P: P, inNodeMajor: o.nodeMajor},
 		opts:      o,
 		termShape: tensor.Shape{O, B, P},
 	}
@@ -88,9 +99,28 @@ func E2N(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 	return gorgonia.ApplyOp(op, x, w, b)
 }
 
-// filterDims are the sizes of a filter: B samples, C input channels,
-// O output channels, p nodes.
-type filterDims struct{ B, C, O, P int }
+// filterDims are the sizes of a filter (B samples, C input channels,
+// O output channels, p nodes) and the layouts of its edge tensors:
+// (B, C, p, p), or node-major (B, p, C, p) for an E2E output or an E2N
+// input (see NodeMajor).
+type filterDims struct {
+	B, C, O, P   int
+	outNodeMajor bool // E2E: the output is (B, p, O, p)
+	inNodeMajor  bool // E2N: the input is (B, p, C, p), Xrow itself
+}
+
+// outRow returns the offset of row i of output channel o of sample n in
+// the output of an E2E.
+func (d filterDims) outRow(n, o, i int) int {
+	if d.outNodeMajor {
+		return ((n*d.P+i)*d.O + o) * d.P
+	}
+	return ((n*d.O+o)*d.P + i) * d.P
+}
+
+// rowsAreInput reports whether Xrow is x itself: one input channel, or a
+// node-major input.
+func (d filterDims) rowsAreInput() bool { return d.C == 1 || d.inNodeMajor }
 
 // Terms. A row or column term (R[n,o,i] = Σ_{c,k} Wr[o,c,k]·X[n,c,i,k],
 // Cc[n,o,j] = Σ_{c,k} Wc[o,c,k]·X[n,c,k,j]) and its gradient are kept as
@@ -119,26 +149,30 @@ func dtypeOf[T float]() tensor.Dtype {
 	return tensor.Float32
 }
 
-// fill sets Xrow[n,i,c,k] = X[n,c,i,k] and returns it; x itself when C = 1.
-func fillRows[T float](d filterDims, rc *rowCache, x []T) []T {
-	if d.C == 1 {
+// fillRows sets Xrow[n,i,c,k] = X[n,c,i,k] and returns it; x itself when C = 1.
+func fillRows[T float](ts *tasks, d filterDims, rc *rowCache, x []T) []T {
+	if d.rowsAreInput() {
 		return x
 	}
 	xr := slice[T](rc.buf.get(dtypeOf[T](), rc.shape))
-	B, C, P := d.B, d.C, d.P
-	for n := 0; n < B; n++ {
-		for c := 0; c < C; c++ {
-			for i := 0; i < P; i++ {
-				copy(xr[((n*P+i)*C+c)*P:][:P], x[((n*C+c)*P+i)*P:][:P])
-			}
+	forEach(ts, d.B, d, [2]T{}, kFillRows, x, xr)
+	return xr
+}
+
+// fillRowsOf permutes sample n: s = x, xr.
+func fillRowsOf[T float](l *loop[T], n int) {
+	x, xr := l.s[0], l.s[1]
+	C, P := l.d.C, l.d.P
+	for c := 0; c < C; c++ {
+		for i := 0; i < P; i++ {
+			copy(xr[((n*P+i)*C+c)*P:][:P], x[((n*C+c)*P+i)*P:][:P])
 		}
 	}
-	return xr
 }
 
 // rows returns Xrow as the forward pass filled it (x itself when C = 1).
 func rows[T float](d filterDims, rc *rowCache, x []T) ([]T, error) {
-	if d.C == 1 {
+	if d.rowsAreInput() {
 		return x, nil
 	}
 	if rc.buf.t == nil || rc.buf.t.Dtype() != dtypeOf[T]() {
@@ -147,21 +181,33 @@ func rows[T float](d filterDims, rc *rowCache, x []T) ([]T, error) {
 	return slice[T](rc.buf.t), nil
 }
 
-// unpermute sets (or adds to) dx[n,c,i,k] the value dxr[n,i,c,k].
-func unpermute[T float](d filterDims, dxr, dx []T, add bool) {
-	B, C, P := d.B, d.C, d.P
-	for n := 0; n < B; n++ {
-		for c := 0; c < C; c++ {
-			for i := 0; i < P; i++ {
-				src := dxr[((n*P+i)*C+c)*P:][:P]
-				dst := dx[((n*C+c)*P+i)*P:][:P]
-				if add {
-					for k, v := range src {
-						dst[k] += v
-					}
-				} else {
-					copy(dst, src)
+// unpermute sets (or, with add, adds to) dx[n,c,i,k] the value dxr[n,i,c,k].
+func unpermute[T float](ts *tasks, d filterDims, dxr, dx []T, add bool) {
+	if add {
+		forEach(ts, d.B, d, [2]T{}, kUnpermute, dxr, dx, nil)
+	} else {
+		forEach(ts, d.B, d, [2]T{}, kUnpermute, dxr, nil, dx)
+	}
+}
+
+// unpermuteOf does sample n: s = dxr, dx to add to, dx to set.
+func unpermuteOf[T float](l *loop[T], n int) {
+	dxr, dx := l.s[0], l.s[1]
+	add := dx != nil
+	if !add {
+		dx = l.s[2]
+	}
+	C, P := l.d.C, l.d.P
+	for c := 0; c < C; c++ {
+		for i := 0; i < P; i++ {
+			src := dxr[((n*P+i)*C+c)*P:][:P]
+			dst := dx[((n*C+c)*P+i)*P:][:P]
+			if add {
+				for k, v := range src {
+					dst[k] += v
 				}
+			} else {
+				copy(dst, src)
 			}
 		}
 	}
@@ -175,47 +221,64 @@ func betaFor[T float](first bool) T {
 }
 
 // rowTerm sets the (O, B, p) term out = W·Xrowᵀ.
-func rowTerm[T float](d filterDims, xr, w, out []T) {
+func rowTerm[T float](ts *tasks, d filterDims, xr, w, out []T) {
 	B, C, O, P := d.B, d.C, d.O, d.P
-	gemm(false, true, O, B*P, C*P, 1, w, C*P, xr, C*P, 0, out, B*P)
+	parallelGemm(ts, false, true, O, B*P, C*P, 1, w, C*P, xr, C*P, 0, out, B*P)
 }
 
 // colTerm sets the (O, B, p) term out, out_n = W·X_n.
-func colTerm[T float](d filterDims, x, w, out []T) {
-	B, C, O, P := d.B, d.C, d.O, d.P
-	for n := 0; n < B; n++ {
-		gemm(false, false, O, P, C*P, 1, w, C*P, x[n*C*P*P:], P, 0, out[n*P:], B*P)
-	}
+func colTerm[T float](ts *tasks, d filterDims, x, w, out []T) {
+	forEach(ts, d.B, d, [2]T{}, kColTerm, x, w, out)
+}
+
+// colTermOf does sample n: s = x, w, out.
+func colTermOf[T float](l *loop[T], n int) {
+	x, w, out := l.s[0], l.s[1], l.s[2]
+	B, C, O, P := l.d.B, l.d.C, l.d.O, l.d.P
+	serialGemm(false, false, O, P, C*P, 1, w, C*P, x[n*C*P*P:], P, 0, out[n*P:], B*P)
 }
 
 // rowGradW sets dW = G·Xrow, the gradient of Σ G ⊙ R with respect to W.
-func rowGradW[T float](d filterDims, g, xr, dw []T) {
+func rowGradW[T float](ts *tasks, d filterDims, g, xr, dw []T) {
 	B, C, O, P := d.B, d.C, d.O, d.P
-	gemm(false, false, O, C*P, B*P, 1, g, B*P, xr, C*P, 0, dw, C*P)
+	parallelGemm(ts, false, false, O, C*P, B*P, 1, g, B*P, xr, C*P, 0, dw, C*P)
 }
 
-// colGradW sets dW = Σ_n G_n·X_nᵀ.
-func colGradW[T float](d filterDims, g, x, dw []T) {
-	B, C, O, P := d.B, d.C, d.O, d.P
+// colGradW sets dW = Σ_n G_n·X_nᵀ, one chunk per tileShort columns of dW
+// (the sum over samples runs in order within each).
+func colGradW[T float](ts *tasks, d filterDims, g, x, dw []T) {
+	forEach(ts, (d.C*d.P+tileShort-1)/tileShort, d, [2]T{}, kColGradW, g, x, dw)
+}
+
+// colGradWOf does columns tileShort·t… of dW: s = g, x, dw.
+func colGradWOf[T float](l *loop[T], t int) {
+	g, x, dw := l.s[0], l.s[1], l.s[2]
+	B, C, O, P := l.d.B, l.d.C, l.d.O, l.d.P
+	j0 := t * tileShort
+	cols := min(tileShort, C*P-j0)
 	for n := 0; n < B; n++ {
-		gemm(false, true, O, C*P, P, 1, g[n*P:], B*P, x[n*C*P*P:], P, betaFor[T](n == 0), dw, C*P)
+		serialGemm(false, true, O, cols, P, 1, g[n*P:], B*P, x[n*C*P*P+j0*P:], P, betaFor[T](n == 0), dw[j0:], C*P)
 	}
 }
 
 // rowGradX sets (or adds to) dXrow the value Gᵀ·W, from gt = Gᵀ as a
 // (B, p, O) tensor, so that the product has no transposed operand (gonum's
 // pure-Go Gemm is slowest with a transposed first operand).
-func rowGradX[T float](d filterDims, gt, w, dxr []T, add bool) {
+func rowGradX[T float](ts *tasks, d filterDims, gt, w, dxr []T, add bool) {
 	B, C, O, P := d.B, d.C, d.O, d.P
-	gemm(false, false, B*P, C*P, O, 1, gt, O, w, C*P, betaFor[T](!add), dxr, C*P)
+	parallelGemm(ts, false, false, B*P, C*P, O, 1, gt, O, w, C*P, betaFor[T](!add), dxr, C*P)
 }
 
 // colGradX sets dX_n = Wᵀ·G_n, from wt = Wᵀ (C·p × O).
-func colGradX[T float](d filterDims, g, wt, dx []T) {
-	B, C, O, P := d.B, d.C, d.O, d.P
-	for n := 0; n < B; n++ {
-		gemm(false, false, C*P, P, O, 1, wt, O, g[n*P:], B*P, 0, dx[n*C*P*P:], P)
-	}
+func colGradX[T float](ts *tasks, d filterDims, g, wt, dx []T) {
+	forEach(ts, d.B, d, [2]T{}, kColGradX, g, wt, dx)
+}
+
+// colGradXOf does sample n: s = g, wt, dx.
+func colGradXOf[T float](l *loop[T], n int) {
+	g, wt, dx := l.s[0], l.s[1], l.s[2]
+	B, C, O, P := l.d.B, l.d.C, l.d.O, l.d.P
+	serialGemm(false, false, C*P, P, O, 1, wt, O, g[n*P:], B*P, 0, dx[n*C*P*P:], P)
 }
 
 // transposeInto sets dst (cols × rows) to the transpose of src (rows × cols).
@@ -242,27 +305,44 @@ func biasGrad[T float](d filterDims, g, db []T) {
 // e2eForward computes the row and column terms into rc (2, O, B, p) and
 // then, in one fused loop, H[n,o,i,j] = R[o,n,i] + Cc[o,n,j] + b[o], put
 // through the leaky rectifier if opt.leaky.
-func e2eForward[T float](d filterDims, opt options, cache *rowCache, x, wr, wc, b, rc, h []T) {
-	rowTerm(d, fillRows(d, cache, x), wr, rc)
-	colTerm(d, x, wc, rc[d.termSize():])
-	B, O, P := d.B, d.O, d.P
-	for n := 0; n < B; n++ {
-		for o := 0; o < O; o++ {
-			r := rc[(o*B+n)*P:][:P]
-			cc := rc[d.termSize()+(o*B+n)*P:][:P]
-			blk := h[(n*O+o)*P*P:][:P*P]
-			bo := b[o]
-			for i, ri := range r {
-				ri += bo
-				row := blk[i*P:][:P]
-				if opt.leaky {
-					addLeaky(row, cc, ri, opt.slope)
-					continue
-				}
-				for j, cj := range cc {
-					row[j] = ri + cj
-				}
+func e2eForward[T float](ts *tasks, d filterDims, opt options, cache *rowCache, x, wr, wc, b, rc, h []T) {
+	rowTerm(ts, d, fillRows(ts, d, cache, x), wr, rc)
+	colTerm(ts, d, x, wc, rc[d.termSize():])
+	f := [2]T{1, 1} // no rectifier: v·1 is v, bit for bit
+	if opt.leaky {
+		f = leakyFactors[T](opt.slope)
+	}
+	forEach(ts, d.B, d, f, kE2ESum, rc, b, h)
+}
+
+// e2eSumOf does sample n of the fused loop of e2eForward: s = rc, b, h.
+// It walks the rows of h in memory order (channel by channel, or node by
+// node when node-major).
+func e2eSumOf[T float](l *loop[T], n int) {
+	rc, b, h := l.s[0], l.s[1], l.s[2]
+	d := l.d
+	row := func(o, i int) {
+		r := rc[(o*d.B+n)*d.P+i]
+		cc := rc[d.termSize()+(o*d.B+n)*d.P:][:d.P]
+		addLeaky(h[d.outRow(n, o, i):][:d.P], cc, r+b[o], l.f)
+	}
+	forRows(d, row)
+}
+
+// forRows calls row(o, i) for every row of an E2E output sample in the
+// order the rows are stored.
+func forRows(d filterDims, row func(o, i int)) {
+	if d.outNodeMajor {
+		for i := 0; i < d.P; i++ {
+			for o := 0; o < d.O; o++ {
+				row(o, i)
 			}
+		}
+		return
+	}
+	for o := 0; o < d.O; o++ {
+		for i := 0; i < d.P; i++ {
+			row(o, i)
 		}
 	}
 }
@@ -272,31 +352,32 @@ func e2eForward[T float](d filterDims, opt options, cache *rowCache, x, wr, wc, 
 // row sums again laid out as (B, p, O), dRt[n,i,o] = dR[o,n,i]. With
 // y (the output of an E2E with WithLeakyReLU, same shape as g), G is g
 // times the derivative of the rectifier, read from the sign of y.
-func edgeSums[T float](d filterDims, g, y []T, slope float64, s []T) {
+func edgeSums[T float](ts *tasks, d filterDims, g, y []T, slope float64, s []T) {
+	forEach(ts, d.B, d, leakyFactors[T](slope), kEdgeSums, g, y, s)
+}
+
+// edgeSumsOf does sample n of edgeSums: s = g, y (nil without a fused
+// rectifier), sums.
+func edgeSumsOf[T float](l *loop[T], n int) {
+	g, y, s := l.s[0], l.s[1], l.s[2]
+	d := l.d
 	B, O, P := d.B, d.O, d.P
-	f := leakyFactors[T](slope)
-	for n := 0; n < B; n++ {
-		for o := 0; o < O; o++ {
-			blk := g[(n*O+o)*P*P:][:P*P]
-			r := s[(o*B+n)*P:][:P]
-			cc := s[d.termSize()+(o*B+n)*P:][:P]
-			clear(cc)
-			if y == nil {
-				for i := range r {
-					r[i] = sumAndAccumulate(blk[i*P:][:P], cc)
-				}
-				continue
-			}
-			yblk := y[(n*O+o)*P*P:][:P*P]
-			for i := range r {
-				r[i] = sumAndAccumulateLeaky(blk[i*P:][:P], yblk[i*P:][:P], cc, f)
-			}
+	for o := 0; o < O; o++ {
+		clear(s[d.termSize()+(o*B+n)*P:][:P])
+	}
+	forRows(d, func(o, i int) {
+		at := d.outRow(n, o, i)
+		cc := s[d.termSize()+(o*B+n)*P:][:P]
+		if y == nil {
+			s[(o*B+n)*P+i] = sumAndAccumulate(g[at:][:P], cc)
+		} else {
+			s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g[at:][:P], y[at:][:P], cc, l.f)
 		}
-		rt := s[2*d.termSize()+n*P*O:][:P*O]
-		for o := 0; o < O; o++ {
-			for i, v := range s[(o*B+n)*P:][:P] {
-				rt[i*O+o] = v
-			}
+	})
+	rt := s[2*d.termSize()+n*P*O:][:P*O]
+	for o := 0; o < O; o++ {
+		for i, v := range s[(o*B+n)*P:][:P] {
+			rt[i*O+o] = v
 		}
 	}
 }
@@ -357,11 +438,11 @@ func sumAccLeaky32(row, y, acc []float32, f [2]float32) float32 {
 	return s0 + s1
 }
 
-// addLeaky sets row[j] = leaky(ri + cc[j]), on concrete types (see
-// sumAndAccumulateLeaky).
-func addLeaky[T float](row, cc []T, ri T, slope float64) {
+// addLeaky sets row[j] = (ri + cc[j])·f[its sign bit], on concrete types
+// (see sumAndAccumulateLeaky).
+func addLeaky[T float](row, cc []T, ri T, factors [2]T) {
 	if is64[T]() {
-		f := [2]float64{1, slope}
+		f := [2]float64{float64(factors[0]), float64(factors[1])}
 		r, c := as64(row)[:len(cc)], as64(cc)
 		for j, cj := range c {
 			v := float64(ri) + cj
@@ -369,7 +450,7 @@ func addLeaky[T float](row, cc []T, ri T, slope float64) {
 		}
 		return
 	}
-	f := [2]float32{1, float32(slope)}
+	f := [2]float32{float32(factors[0]), float32(factors[1])}
 	r, c := as32(row)[:len(cc)], as32(cc)
 	for j, cj := range c {
 		v := float32(ri) + cj
@@ -419,9 +500,9 @@ func (op *e2eOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	d := op.dims
 	rc := op.rc.get(dt, op.rcShape)
 	if dt == tensor.Float64 {
-		e2eForward(d, op.opts, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
+		e2eForward(&op.ts, d, op.opts, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
 	} else {
-		e2eForward(d, op.opts, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
+		e2eForward(&op.ts, d, op.opts, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
 	}
 	return out, nil
 }
@@ -438,30 +519,30 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	var sums *gorgonia.Node
 	var err error
 	if op.opts.leaky {
-		es := &edgeSumsOp{base: newBase(fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope), []tensor.Shape{op.out, op.out}, sumsShape), dims: d, slope: op.opts.slope}
+		es := &edgeSumsOp{base: op.derive(fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope), []tensor.Shape{op.out, op.out}, sumsShape), dims: d, slope: op.opts.slope}
 		sums, err = gorgonia.ApplyOp(es, grad, output)
 	} else {
-		sums, err = gorgonia.ApplyOp(&edgeSumsOp{base: newBase("E2ESums", []tensor.Shape{op.out}, sumsShape), dims: d}, grad)
+		sums, err = gorgonia.ApplyOp(&edgeSumsOp{base: op.derive("E2ESums", []tensor.Shape{op.out}, sumsShape), dims: d}, grad)
 	}
 	if err != nil {
 		return nil, err
 	}
 	grads := make(gorgonia.Nodes, 4)
 	if !op.opts.noInputGrad {
-		gx := newGradXOp("E2EGradX", d, []tensor.Shape{sumsShape, op.in[1], op.in[2]}, op.in[0], 2*d.termSize())
+		gx := newGradXOp(&op.base, "E2EGradX", d, []tensor.Shape{sumsShape, op.in[1], op.in[2]}, op.in[0], 2*d.termSize())
 		if grads[0], err = gorgonia.ApplyOp(gx, sums, wr, wc); err != nil {
 			return nil, err
 		}
 	}
-	gwr := &gradWOp{base: newBase("E2EGradWr", []tensor.Shape{sumsShape, op.in[0]}, op.in[1]), dims: d, rows: op.rows}
+	gwr := &gradWOp{base: op.derive("E2EGradWr", []tensor.Shape{sumsShape, op.in[0]}, op.in[1]), dims: d, rows: op.rows}
 	if grads[1], err = gorgonia.ApplyOp(gwr, sums, x); err != nil {
 		return nil, err
 	}
-	gwc := &gradWOp{base: newBase("E2EGradWc", []tensor.Shape{sumsShape, op.in[0]}, op.in[2]), dims: d, off: d.termSize(), col: true}
+	gwc := &gradWOp{base: op.derive("E2EGradWc", []tensor.Shape{sumsShape, op.in[0]}, op.in[2]), dims: d, off: d.termSize(), col: true}
 	if grads[2], err = gorgonia.ApplyOp(gwc, sums, x); err != nil {
 		return nil, err
 	}
-	gb := &biasGradOp{base: newBase("E2EGradB", []tensor.Shape{sumsShape}, op.in[3]), dims: d}
+	gb := &biasGradOp{base: op.derive("E2EGradB", []tensor.Shape{sumsShape}, op.in[3]), dims: d}
 	if grads[3], err = gorgonia.ApplyOp(gb, sums); err != nil {
 		return nil, err
 	}
@@ -479,8 +560,8 @@ type e2nOp struct {
 
 // e2nForward computes the row term into t (O, B, p), then
 // N[n,o,i] = R[o,n,i] + b[o].
-func e2nForward[T float](d filterDims, cache *rowCache, x, w, b, t, out []T) {
-	rowTerm(d, fillRows(d, cache, x), w, t)
+func e2nForward[T float](ts *tasks, d filterDims, cache *rowCache, x, w, b, t, out []T) {
+	rowTerm(ts, d, fillRows(ts, d, cache, x), w, t)
 	B, O, P := d.B, d.O, d.P
 	for n := 0; n < B; n++ {
 		for o, bo := range b[:O] {
@@ -499,9 +580,9 @@ func (op *e2nOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	}
 	t := op.term.get(dt, op.termShape)
 	if dt == tensor.Float64 {
-		e2nForward(op.dims, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](t), slice[float64](out))
+		e2nForward(&op.ts, op.dims, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](t), slice[float64](out))
 	} else {
-		e2nForward(op.dims, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](t), slice[float32](out))
+		e2nForward(&op.ts, op.dims, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](t), slice[float32](out))
 	}
 	return out, nil
 }
@@ -513,7 +594,7 @@ func (op *e2nOp) DiffWRT(int) []bool { return []bool{!op.opts.noInputGrad, true,
 func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
 	d := op.dims
 	x, w := inputs[0], inputs[1]
-	tg := &transposeOp{base: newBase("E2NGradTerm", []tensor.Shape{op.out}, op.termShape), a: d.B, b: d.O, c: d.P}
+	tg := &transposeOp{base: op.derive("E2NGradTerm", []tensor.Shape{op.out}, op.termShape), a: d.B, b: d.O, c: d.P}
 	g, err := gorgonia.ApplyOp(tg, grad)
 	if err != nil {
 		return nil, err
@@ -521,20 +602,20 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	grads := make(gorgonia.Nodes, 3)
 	if !op.opts.noInputGrad {
 		gtShape := tensor.Shape{d.B, d.P, d.O}
-		gt, err := gorgonia.ApplyOp(&swapOp{base: newBase("E2NGradTermT", []tensor.Shape{op.out}, gtShape)}, grad)
+		gt, err := gorgonia.ApplyOp(&swapOp{base: op.derive("E2NGradTermT", []tensor.Shape{op.out}, gtShape)}, grad)
 		if err != nil {
 			return nil, err
 		}
-		gx := newGradXOp("E2NGradX", d, []tensor.Shape{gtShape, op.in[1]}, op.in[0], 0)
+		gx := newGradXOp(&op.base, "E2NGradX", d, []tensor.Shape{gtShape, op.in[1]}, op.in[0], 0)
 		if grads[0], err = gorgonia.ApplyOp(gx, gt, w); err != nil {
 			return nil, err
 		}
 	}
-	gw := &gradWOp{base: newBase("E2NGradW", []tensor.Shape{op.termShape, op.in[0]}, op.in[1]), dims: d, rows: op.rows}
+	gw := &gradWOp{base: op.derive("E2NGradW", []tensor.Shape{op.termShape, op.in[0]}, op.in[1]), dims: d, rows: op.rows}
 	if grads[1], err = gorgonia.ApplyOp(gw, g, x); err != nil {
 		return nil, err
 	}
-	gb := &biasGradOp{base: newBase("E2NGradB", []tensor.Shape{op.termShape}, op.in[2]), dims: d}
+	gb := &biasGradOp{base: op.derive("E2NGradB", []tensor.Shape{op.termShape}, op.in[2]), dims: d}
 	if grads[2], err = gorgonia.ApplyOp(gb, g); err != nil {
 		return nil, err
 	}
@@ -554,7 +635,7 @@ func sums[T float](op *edgeSumsOp, in []*tensor.Dense, out *tensor.Dense) {
 	if len(in) == 2 {
 		y = slice[T](in[1])
 	}
-	edgeSums(op.dims, slice[T](in[0]), y, op.slope, slice[T](out))
+	edgeSums(&op.ts, op.dims, slice[T](in[0]), y, op.slope, slice[T](out))
 }
 
 func (op *edgeSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -611,9 +692,9 @@ type gradXOp struct {
 	wtShape  tensor.Shape
 }
 
-func newGradXOp(name string, d filterDims, in []tensor.Shape, out tensor.Shape, rowsT int) *gradXOp {
+func newGradXOp(parent *base, name string, d filterDims, in []tensor.Shape, out tensor.Shape, rowsT int) *gradXOp {
 	return &gradXOp{
-		base:     newBase(name, in, out),
+		base:     parent.derive(name, in, out),
 		dims:     d,
 		rowsT:    rowsT,
 		dxrShape: tensor.Shape{d.B, d.P, d.C, d.P},
@@ -629,15 +710,15 @@ func gradX[T float](op *gradXOp, in []*tensor.Dense, out *tensor.Dense) {
 	if withCols {
 		wt := slice[T](op.wt.get(dtypeOf[T](), op.wtShape))
 		transposeInto(slice[T](in[2]), d.O, d.C*d.P, wt)
-		colGradX(d, g[d.termSize():], wt, dx)
+		colGradX(&op.ts, d, g[d.termSize():], wt, dx)
 	}
-	if d.C == 1 { // Xrow is x
-		rowGradX(d, gt, slice[T](in[1]), dx, withCols)
+	if d.rowsAreInput() {
+		rowGradX(&op.ts, d, gt, slice[T](in[1]), dx, withCols)
 		return
 	}
 	dxr := slice[T](op.dxr.get(dtypeOf[T](), op.dxrShape))
-	rowGradX(d, gt, slice[T](in[1]), dxr, false)
-	unpermute(d, dxr, dx, withCols)
+	rowGradX(&op.ts, d, gt, slice[T](in[1]), dxr, false)
+	unpermute(&op.ts, d, dxr, dx, withCols)
 }
 
 func (op *gradXOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -667,14 +748,14 @@ type gradWOp struct {
 func gradW[T float](op *gradWOp, in []*tensor.Dense, out *tensor.Dense) error {
 	g, x, dw := slice[T](in[0])[op.off:], slice[T](in[1]), slice[T](out)
 	if op.col {
-		colGradW(op.dims, g, x, dw)
+		colGradW(&op.ts, op.dims, g, x, dw)
 		return nil
 	}
 	xr, err := rows(op.dims, op.rows, x)
 	if err != nil {
 		return err
 	}
-	rowGradW(op.dims, g, xr, dw)
+	rowGradW(&op.ts, op.dims, g, xr, dw)
 	return nil
 }
 

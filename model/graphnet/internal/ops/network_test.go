@@ -22,9 +22,21 @@ func leakyRef(slope float64, x []float64) []float64 {
 // networkCases chain the ops as a network does, with one node read by two
 // ops, so that gradients flow from op to op and are summed by gorgonia.
 func networkCases() []opCase {
+	return []opCase{edgeNetwork(false), edgeNetwork(true), graphNetwork()}
+}
+
+// edgeNetwork chains E2E, E2E and two E2N (with nodeMajor, the hidden E2E
+// hands its output to both E2N node-major, through the rectifier).
+func edgeNetwork(nodeMajor bool) opCase {
 	const B, P, O1, O2, O3, G = 2, 4, 2, 2, 3, 2
-	edge := opCase{
-		name: "Network/E2E-E2E-E2N-Dense+E2N-Dense",
+	name := "Network/E2E-E2E-E2N-Dense+E2N-Dense"
+	var layout []Option
+	if nodeMajor {
+		name += "/NodeMajor"
+		layout = []Option{NodeMajor()}
+	}
+	return opCase{
+		name: name,
 		shapes: []tensor.Shape{
 			sh(B, 1, P, P),                     // 0 x
 			sh(O1, 1, P), sh(O1, 1, P), sh(O1), // 1-3 first E2E
@@ -43,18 +55,18 @@ func networkCases() []opCase {
 			if h1, err = LeakyReLU(h1, 0.1); err != nil {
 				return nil, err
 			}
-			h2, err := E2E(h1, in[4], in[5], in[6])
+			h2, err := E2E(h1, in[4], in[5], in[6], layout...)
 			if err != nil {
 				return nil, err
 			}
 			if h2, err = LeakyReLU(h2, 0.1); err != nil {
 				return nil, err
 			}
-			na, err := E2N(h2, in[7], in[8])
+			na, err := E2N(h2, in[7], in[8], layout...)
 			if err != nil {
 				return nil, err
 			}
-			nb, err := E2N(h2, in[9], in[10])
+			nb, err := E2N(h2, in[9], in[10], layout...)
 			if err != nil {
 				return nil, err
 			}
@@ -81,8 +93,12 @@ func networkCases() []opCase {
 			return ya
 		},
 	}
-	const F1, F2 = 3, 2
-	graph := opCase{
+}
+
+// graphNetwork chains two graph convolutions and a dense layer.
+func graphNetwork() opCase {
+	const B, P, F1, F2, G = 2, 4, 3, 2, 2
+	return opCase{
 		name: "Network/GraphConv-GraphConv-Dense",
 		shapes: []tensor.Shape{
 			sh(B, P, P), sh(B, P, F1), // 0 s, 1 h (data)
@@ -109,7 +125,6 @@ func networkCases() []opCase {
 			return denseRef(B, P*F2, G)([][]float64{h, in[4], in[5]})
 		},
 	}
-	return []opCase{edge, graph}
 }
 
 // TestNetwork checks chains of ops, forward against the composed plain
@@ -166,5 +181,14 @@ func TestOptionErrors(t *testing.T) {
 	}
 	if _, err := E2E(x, w, b, b); err == nil {
 		t.Error("E2E accepted a wc of shape (2)")
+	}
+	flat := gorgonia.NewMatrix(g, tensor.Float64, gorgonia.WithShape(9, 2), gorgonia.WithName("flat"), gorgonia.WithInit(gorgonia.Ones()))
+	if _, err := Dense(x, flat, b, NodeMajor()); err == nil {
+		t.Error("Dense accepted NodeMajor")
+	}
+	wide := gorgonia.NewTensor(g, tensor.Float64, 4, gorgonia.WithShape(1, 3, 2, 4), gorgonia.WithName("wide"), gorgonia.WithInit(gorgonia.Ones()))
+	w2 := gorgonia.NewTensor(g, tensor.Float64, 3, gorgonia.WithShape(2, 2, 3), gorgonia.WithName("w2"), gorgonia.WithInit(gorgonia.Ones()))
+	if _, err := E2N(wide, w2, b, NodeMajor()); err == nil {
+		t.Error("E2N NodeMajor accepted x of shape (1, 3, 2, 4)")
 	}
 }

@@ -25,7 +25,7 @@ func TestTensorInnerAxisSum(t *testing.T) {
 
 	d := filterDims{B: B, O: O, P: P, C: 1}
 	sums := make([]float64, 3*O*B*P)
-	edgeSums(d, g, nil, 0, sums)
+	edgeSums(&tasks{}, d, g, nil, 0, sums)
 	for n := 0; n < B; n++ {
 		for o := 0; o < O; o++ {
 			for k := 0; k < P; k++ {
