@@ -11,6 +11,10 @@
 # usage: bench/compare.sh            (from the repository root)
 # knobs: SIZES="116 268" N=275 BATCH=16 EPOCHS=4 REPS=3 THREADS=2 SHARED=../shared
 #
+# THREADS is PyTorch's thread count. skein uses every core (GOMAXPROCS)
+# through its own goroutines, with single-threaded OpenBLAS products:
+# OpenBLAS threads spin-wait between calls and would compete with them.
+#
 # Other work on the machine slows every side: run it on a quiet machine
 # (see uptime, printed before and after) and compare medians.
 set -euo pipefail
@@ -44,7 +48,7 @@ for p in $SIZES; do
       if [[ $side == torch ]]; then
         line=$("$PYTHON" "$TORCH_SCRIPT" "$p" "$N" "$BATCH" "$EPOCHS" "$THREADS" float32)
       else
-        line=$("$bin/refnet-$side" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -threads "$THREADS" -dtype float32)
+        line=$("$bin/refnet-$side" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -threads 1 -dtype float32)
       fi
       echo "  run $r: $line"
       times[$p,$side]+="$(echo "$line" | epoch) "

@@ -1,11 +1,13 @@
 #!/usr/bin/env bash
 # Which parallelism suits a cross-validated run of the reference network:
 # a K-fold run (K networks, each trained on K−1 folds) timed on one core,
-# then on two cores with (a) folds in parallel and single-threaded BLAS,
-# (b) sequential folds and two-thread BLAS, and (c) both at once (the
-# oversubscribed case, OpenBLAS only), for the pure-Go and the OpenBLAS
-# builds. Prints
-# wall seconds and the speed-up of each over one core. The rule in
+# then on two cores with (a) folds in parallel (each network's pool
+# helpers take the cores the other leaves idle), (b) sequential folds,
+# each network spread over both cores by its pool, and, OpenBLAS only,
+# (c) sequential folds with two-thread OpenBLAS as well (oversubscribed:
+# its threads spin-wait). Products inside OpenBLAS are single-threaded
+# in (a) and (b). For the pure-Go and the OpenBLAS builds; prints wall
+# seconds and the speed-up of each over one core. The rule in
 # train/parallel.go is read off these numbers.
 #
 # usage: bench/parallel.sh   (from the repository root)
@@ -31,8 +33,8 @@ for p in $SIZES; do
   for build in $BUILDS; do
     one=$(taskset -c 0 "$bin/refnet-$build" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -folds "$FOLDS" -procs 1 -threads 1 -jobs 1 | wall)
     printf '%-9s %-5s %-28s %10.2f %9s\n' "$build" "$p" "1 core" "$one" 1.00
-    layouts=("2 jobs, 1 BLAS thread:-jobs 2 -threads 1" "1 job, 2 BLAS threads:-jobs 1 -threads 2")
-    [[ $build == openblas ]] && layouts+=("2 jobs, 2 BLAS threads:-jobs 2 -threads 2")
+    layouts=("2 jobs:-jobs 2 -threads 1" "1 job:-jobs 1 -threads 1")
+    [[ $build == openblas ]] && layouts+=("1 job, 2 BLAS threads:-jobs 1 -threads 2")
     for l in "${layouts[@]}"; do
       name=${l%%:*}
       # shellcheck disable=SC2086

@@ -7,7 +7,9 @@
 #
 # usage: bench/scaling.sh   (from the repository root)
 # knobs: PS="68 116 268 400" NS="100 275 550" BUILDS="openblas gonum"
-#        EPOCHS=3 BATCH=16 THREADS=2
+#        EPOCHS=3 BATCH=16
+# skein runs its products single-threaded inside OpenBLAS and spreads
+# them, with its other loops, over GOMAXPROCS goroutines (all cores).
 set -euo pipefail
 cd "$(dirname "$0")/.."
 PS=${PS:-"68 116 268 400"}
@@ -15,7 +17,6 @@ NS=${NS:-"100 275 550"}
 BUILDS=${BUILDS:-"openblas gonum"}
 EPOCHS=${EPOCHS:-3}
 BATCH=${BATCH:-16}
-THREADS=${THREADS:-2}
 
 bin=$(mktemp -d)
 trap 'rm -rf "$bin"' EXIT
@@ -23,7 +24,7 @@ go build -o "$bin/refnet-gonum" ./bench/cmd/refnet
 CGO_LDFLAGS=-lopenblas go build -tags openblas -o "$bin/refnet-openblas" ./bench/cmd/refnet
 
 row() { # build p n
-  "$bin/refnet-$1" -p "$2" -n "$3" -batch "$BATCH" -epochs "$EPOCHS" -threads "$THREADS" |
+  "$bin/refnet-$1" -p "$2" -n "$3" -batch "$BATCH" -epochs "$EPOCHS" -threads 1 |
     sed -n 's/.*epoch median \([0-9.]*\) s.*; \([0-9.]*\) GFLOP an epoch, \([0-9.]*\) GFLOP\/s; \([0-9.]*\) allocations a step; max RSS \([0-9]*\) MiB.*/\1 \2 \3 \4 \5/p' |
     { read -r s g r a m; printf '| %s | %s | %s | %s | %s | %s | %s | %s |\n' "$1" "$2" "$3" "$g" "$s" "$r" "$a" "$m"; }
 }

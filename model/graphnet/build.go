@@ -113,7 +113,7 @@ type graph struct {
 	batch    int
 	training bool
 	g        *gorgonia.ExprGraph
-	vm       gorgonia.VM
+	m        *machine // runs g
 
 	inputs    []*tensor.Dense // per branch: (batch, 1, p, p)
 	operators []*tensor.Dense // per branch: (batch, p, p), nil without operator
@@ -125,8 +125,9 @@ type graph struct {
 	grads []*gorgonia.Node // gradient of the loss for each param, training only
 
 	// Saliency graphs only: outputWeights (batch, T) weighs the outputs
-	// summed into the differentiated scalar, and inputGrads holds its
-	// gradient with respect to each branch's input, (batch, 1, p, p).
+	// summed into the differentiated scalar Σ outputWeights ∘ pred, and
+	// inputGrads holds its gradient with respect to each branch's input,
+	// (batch, 1, p, p).
 	outputWeights *tensor.Dense
 	inputGrads    []*gorgonia.Node
 }
@@ -219,9 +220,9 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 			case kindGraphConv:
 				switch {
 				case in.form == edgeForm:
-					h, err = gorgonia.Reshape(h, tensor.Shape{batch, p, p})
+					h, err = ops.Reshape(h, tensor.Shape{batch, p, p})
 				case in.channelFirst:
-					h, err = gorgonia.Transpose(h, 0, 2, 1)
+					h, err = ops.SwapLastAxes(h)
 				}
 				if err == nil {
 					h, err = ops.GraphConv(s, h, take(), opts...)
@@ -246,15 +247,19 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 	}
 	h := outs[0]
 	var err error
-	for _, o := range outs[1:] {
-		if n.cfg.Merge == "product" {
-			h, err = gorgonia.HadamardProd(h, o)
-		} else {
-			h, err = gorgonia.Concat(1, h, o)
+	switch {
+	case len(outs) == 1:
+	case n.cfg.Merge == "product":
+		for _, o := range outs[1:] {
+			if h, err = ops.Product(h, o); err != nil {
+				break
+			}
 		}
-		if err != nil {
-			return nil, fmt.Errorf("graphnet: merging branches: %w", err)
-		}
+	default:
+		h, err = ops.Concat(outs...)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("graphnet: merging branches: %w", err)
 	}
 	for hi := range n.cfg.Head {
 		if h, err = ops.Dense(h, take(), take(), onPool); err == nil {
@@ -288,7 +293,9 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 			return nil, fmt.Errorf("graphnet: building the saliency: %w", err)
 		}
 	}
-	gr.vm = gorgonia.NewTapeMachine(g)
+	if gr.m, err = newMachine(g); err != nil {
+		return nil, err
+	}
 	return gr, nil
 }
 
@@ -304,11 +311,11 @@ func feedsE2N(layers []LayerConfig) bool {
 	return false
 }
 
-// flatten reshapes a (B, …) node to (B, D).
+// flatten reads a (B, …) node as (B, D), without copying.
 func flatten(h *gorgonia.Node) (*gorgonia.Node, error) {
 	s := h.Shape()
 	if s.Dims() == 2 {
 		return h, nil
 	}
-	return gorgonia.Reshape(h, tensor.Shape{s[0], s.TotalSize() / s[0]})
+	return ops.Reshape(h, tensor.Shape{s[0], s.TotalSize() / s[0]})
 }

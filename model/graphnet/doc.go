@@ -19,7 +19,11 @@
 //
 // Inputs and structural operators are computed once per participant at
 // the start of Fit and Predict. Each batch size has its own expression
-// graph, built at first use and reused; all graphs share the weights.
+// graph, built at first use and reused; all graphs share the weights. The
+// package runs a graph's ops itself, in a fixed topological order, and
+// every op reuses its output buffers: once a graph has run, a training
+// step allocates nothing (with the pure-Go BLAS, gonum's large matrix
+// products start goroutines, which allocate).
 //
 // # Training
 //

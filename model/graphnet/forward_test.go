@@ -53,7 +53,7 @@ func TestForwardAgainstNumPy(t *testing.T) {
 			if !ok || !slices.Equal(fix.Shapes[p.name], p.shape) {
 				t.Fatalf("array %s %v: fixture has shape %v", p.name, []int(p.shape), fix.Shapes[p.name])
 			}
-			copyInto(p.value.Data(), 0, w)
+			copyInto(p.value, 0, w)
 		}
 		var ps []*data.Participant
 		for _, fp := range fix.Participants {

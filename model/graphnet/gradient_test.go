@@ -3,8 +3,6 @@ package graphnet
 import (
 	"math"
 	"testing"
-
-	"gonum.org/v1/gonum/mat"
 )
 
 // TestGradientFiniteDifference checks the gradient of whole networks in
@@ -41,13 +39,7 @@ func TestGradientFiniteDifference(t *testing.T) {
 			cfg.SetDefaults()
 			const p, n = 6, 5
 			ps, y1 := plantedCohort(n, p, 0.5, 3)
-			// Two targets, one missing score.
-			y := mat.NewDense(n, 2, nil)
-			for i := range n {
-				y.Set(i, 0, y1.At(i, 0))
-				y.Set(i, 1, 0.5-y1.At(i, 0))
-			}
-			y.Set(2, 1, math.NaN())
+			y := withSecondTarget(y1, 2) // two targets, one missing score
 			net, err := New(cfg, p, 2, 11)
 			if err != nil {
 				t.Fatal(err)

@@ -58,6 +58,19 @@ func dataset(ps []*data.Participant, y *mat.Dense, from, to int) model.Dataset {
 	return model.Dataset{Participants: ps[from:to], Y: mat.DenseCopyOf(y.Slice(from, to, 0, c))}
 }
 
+// withSecondTarget returns the scores y (n × 1) with a second target
+// 0.5 − y, whose score of participant missing is missing (NaN).
+func withSecondTarget(y *mat.Dense, missing int) *mat.Dense {
+	n, _ := y.Dims()
+	out := mat.NewDense(n, 2, nil)
+	for i := range n {
+		out.Set(i, 0, y.At(i, 0))
+		out.Set(i, 1, 0.5-y.At(i, 0))
+	}
+	out.Set(missing, 1, math.NaN())
+	return out
+}
+
 // testConfig returns a defaulted config with the given branches.
 func testConfig(dtype string, branches ...BranchConfig) Config {
 	c := Config{Branches: branches, DType: dtype, BatchSize: 4, Epochs: 5}

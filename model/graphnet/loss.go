@@ -73,66 +73,97 @@ func (f lossFunc) mean(pred, target []float64) float64 {
 }
 
 // lossOp is the gorgonia op of lossFunc: (pred B×T, target B×T) -> scalar,
-// where NaN targets are missing. Only pred is differentiated.
+// where NaN targets are missing. Only pred is differentiated. It writes its
+// result into the same scalar at every run.
 type lossOp struct {
-	f lossFunc
+	f   lossFunc
+	out gorgonia.Value // *gorgonia.F64 or *gorgonia.F32, made at the first run
 }
 
 // maskedLoss returns the scalar loss node of pred against target.
 func maskedLoss(pred, target *gorgonia.Node, f lossFunc) (*gorgonia.Node, error) {
-	return gorgonia.ApplyOp(lossOp{f}, pred, target)
+	return gorgonia.ApplyOp(&lossOp{f: f}, pred, target)
 }
 
-func (op lossOp) Arity() int { return 2 }
-func (op lossOp) Type() hm.Type {
+func (op *lossOp) Arity() int { return 2 }
+func (op *lossOp) Type() hm.Type {
 	a := hm.TypeVariable('a')
 	m := gorgonia.TensorType{Dims: 2, Of: a}
 	return hm.NewFnType(m, m, a)
 }
-func (op lossOp) InferShape(...gorgonia.DimSizer) (tensor.Shape, error) {
+func (op *lossOp) InferShape(...gorgonia.DimSizer) (tensor.Shape, error) {
 	return tensor.ScalarShape(), nil
 }
-func (op lossOp) ReturnsPtr() bool     { return false }
-func (op lossOp) CallsExtern() bool    { return false }
-func (op lossOp) OverwritesInput() int { return -1 }
-func (op lossOp) WriteHash(h hash.Hash) {
-	fmt.Fprintf(h, "maskedLoss{%v,%v,%v,%v}", op.f.abs, op.f.squared, op.f.huber, op.f.delta)
-}
-func (op lossOp) Hashcode() uint32 { return hashOf(op) }
-func (op lossOp) String() string   { return "maskedLoss" }
+func (op *lossOp) ReturnsPtr() bool     { return false }
+func (op *lossOp) CallsExtern() bool    { return false }
+func (op *lossOp) OverwritesInput() int { return -1 }
 
-func (op lossOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
-	switch vals[0].Dtype() {
+// WriteHash writes the op's address too: each op owns its output, so
+// gorgonia must never merge two nodes built by two calls.
+func (op *lossOp) WriteHash(h hash.Hash) {
+	fmt.Fprintf(h, "maskedLoss{%v,%v,%v,%v}@%p", op.f.abs, op.f.squared, op.f.huber, op.f.delta, op)
+}
+func (op *lossOp) Hashcode() uint32 { return hashOf(op) }
+func (op *lossOp) String() string   { return "maskedLoss" }
+
+// Do returns the mean loss term over the present targets, 0 if there is
+// none.
+func (op *lossOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
+	pred, target, err := lossInputs(vals)
+	if err != nil {
+		return nil, err
+	}
+	mean := func(total float64, count int) float64 {
+		if count == 0 {
+			return 0
+		}
+		return total / float64(count)
+	}
+	switch pred.Dtype() {
 	case tensor.Float64:
-		return op.UsePreallocDo(gorgonia.NewF64(0), vals...)
+		out, ok := op.out.(*gorgonia.F64)
+		if !ok {
+			out = gorgonia.NewF64(0)
+			op.out = out
+		}
+		*out = gorgonia.F64(mean(sum(op.f, pred.Float64s(), target.Float64s())))
 	case tensor.Float32:
-		return op.UsePreallocDo(gorgonia.NewF32(0), vals...)
-	}
-	return nil, fmt.Errorf("graphnet: loss of dtype %v", vals[0].Dtype())
-}
-
-func (op lossOp) UsePreallocDo(prealloc gorgonia.Value, vals ...gorgonia.Value) (gorgonia.Value, error) {
-	var total float64
-	var count int
-	switch pred := vals[0].Data().(type) {
-	case []float64:
-		total, count = sum(op.f, pred, vals[1].Data().([]float64))
-	case []float32:
-		total, count = sum(op.f, pred, vals[1].Data().([]float32))
+		out, ok := op.out.(*gorgonia.F32)
+		if !ok {
+			out = gorgonia.NewF32(0)
+			op.out = out
+		}
+		*out = gorgonia.F32(mean(sum(op.f, pred.Float32s(), target.Float32s())))
 	default:
-		return nil, fmt.Errorf("graphnet: loss of %T", pred)
+		return nil, fmt.Errorf("graphnet: loss of dtype %v", pred.Dtype())
 	}
-	loss := 0.0
-	if count > 0 {
-		loss = total / float64(count)
-	}
-	return setScalar(prealloc, loss)
+	return op.out, nil
 }
 
-func (op lossOp) DiffWRT(int) []bool { return []bool{true, false} }
+// lossInputs returns the predictions and targets of a loss op's inputs,
+// dense tensors of one float dtype and one size.
+func lossInputs(vals []gorgonia.Value) (pred, target *tensor.Dense, err error) {
+	if len(vals) < 2 {
+		return nil, nil, fmt.Errorf("graphnet: loss: %d inputs, want at least 2", len(vals))
+	}
+	pred, ok := vals[0].(*tensor.Dense)
+	if !ok {
+		return nil, nil, fmt.Errorf("graphnet: loss: predictions are a %T, want a *tensor.Dense", vals[0])
+	}
+	target, ok = vals[1].(*tensor.Dense)
+	if !ok {
+		return nil, nil, fmt.Errorf("graphnet: loss: targets are a %T, want a *tensor.Dense", vals[1])
+	}
+	if pred.Dtype() != target.Dtype() || pred.DataSize() != target.DataSize() {
+		return nil, nil, fmt.Errorf("graphnet: loss: %d predictions of %v against %d targets of %v", pred.DataSize(), pred.Dtype(), target.DataSize(), target.Dtype())
+	}
+	return pred, target, nil
+}
 
-func (op lossOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
-	d, err := gorgonia.ApplyOp(lossGradOp(op), inputs[0], inputs[1], grad)
+func (op *lossOp) DiffWRT(int) []bool { return []bool{true, false} }
+
+func (op *lossOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (gorgonia.Nodes, error) {
+	d, err := gorgonia.ApplyOp(&lossGradOp{f: op.f}, inputs[0], inputs[1], grad)
 	if err != nil {
 		return nil, err
 	}
@@ -141,46 +172,58 @@ func (op lossOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 
 // lossGradOp is the derivative of lossOp with respect to pred:
 // (pred, target, upstream scalar) -> B×T, upstream·slope(e)/count at present
-// targets and 0 at missing ones.
-type lossGradOp lossOp
+// targets and 0 at missing ones. It writes into the same tensor at every
+// run.
+type lossGradOp struct {
+	f   lossFunc
+	out *tensor.Dense // made at the first run
+}
 
-func (op lossGradOp) Arity() int { return 3 }
-func (op lossGradOp) Type() hm.Type {
+func (op *lossGradOp) Arity() int { return 3 }
+func (op *lossGradOp) Type() hm.Type {
 	a := hm.TypeVariable('a')
 	m := gorgonia.TensorType{Dims: 2, Of: a}
 	return hm.NewFnType(m, m, a, m)
 }
-func (op lossGradOp) InferShape(in ...gorgonia.DimSizer) (tensor.Shape, error) {
+func (op *lossGradOp) InferShape(in ...gorgonia.DimSizer) (tensor.Shape, error) {
 	return in[0].(tensor.Shape).Clone(), nil
 }
-func (op lossGradOp) ReturnsPtr() bool     { return false }
-func (op lossGradOp) CallsExtern() bool    { return false }
-func (op lossGradOp) OverwritesInput() int { return -1 }
-func (op lossGradOp) WriteHash(h hash.Hash) {
-	fmt.Fprintf(h, "maskedLossGrad{%v,%v,%v,%v}", op.f.abs, op.f.squared, op.f.huber, op.f.delta)
-}
-func (op lossGradOp) Hashcode() uint32 { return hashOf(op) }
-func (op lossGradOp) String() string   { return "maskedLossGrad" }
+func (op *lossGradOp) ReturnsPtr() bool     { return false }
+func (op *lossGradOp) CallsExtern() bool    { return false }
+func (op *lossGradOp) OverwritesInput() int { return -1 }
 
-func (op lossGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
-	out := tensor.New(tensor.Of(vals[0].Dtype()), tensor.WithShape(vals[0].Shape().Clone()...))
-	return op.UsePreallocDo(out, vals...)
+// WriteHash writes the op's address too (see lossOp.WriteHash).
+func (op *lossGradOp) WriteHash(h hash.Hash) {
+	fmt.Fprintf(h, "maskedLossGrad{%v,%v,%v,%v}@%p", op.f.abs, op.f.squared, op.f.huber, op.f.delta, op)
 }
+func (op *lossGradOp) Hashcode() uint32 { return hashOf(op) }
+func (op *lossGradOp) String() string   { return "maskedLossGrad" }
 
-func (op lossGradOp) UsePreallocDo(prealloc gorgonia.Value, vals ...gorgonia.Value) (gorgonia.Value, error) {
+// Do returns upstream·∂loss/∂pred, of the shape of pred.
+func (op *lossGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
+	pred, target, err := lossInputs(vals)
+	if err != nil {
+		return nil, err
+	}
+	if len(vals) != 3 {
+		return nil, fmt.Errorf("graphnet: loss gradient: %d inputs, want 3", len(vals))
+	}
 	upstream, err := scalarOf(vals[2])
 	if err != nil {
 		return nil, err
 	}
-	switch pred := vals[0].Data().(type) {
-	case []float64:
-		lossGrad(op.f, upstream, pred, vals[1].Data().([]float64), prealloc.Data().([]float64))
-	case []float32:
-		lossGrad(op.f, upstream, pred, vals[1].Data().([]float32), prealloc.Data().([]float32))
-	default:
-		return nil, fmt.Errorf("graphnet: loss gradient of %T", pred)
+	if op.out == nil || op.out.Dtype() != pred.Dtype() || !op.out.Shape().Eq(pred.Shape()) {
+		op.out = tensor.New(tensor.Of(pred.Dtype()), tensor.WithShape(pred.Shape().Clone()...))
 	}
-	return prealloc, nil
+	switch pred.Dtype() {
+	case tensor.Float64:
+		lossGrad(op.f, upstream, pred.Float64s(), target.Float64s(), op.out.Float64s())
+	case tensor.Float32:
+		lossGrad(op.f, upstream, pred.Float32s(), target.Float32s(), op.out.Float32s())
+	default:
+		return nil, fmt.Errorf("graphnet: loss gradient of dtype %v", pred.Dtype())
+	}
+	return op.out, nil
 }
 
 // lossGrad writes upstream·∂loss/∂pred into dst.
@@ -204,32 +247,7 @@ func lossGrad[T float32 | float64](f lossFunc, upstream float64, pred, target, d
 	}
 }
 
-// setScalar stores v in a scalar value, as gorgonia allocates them (*F64,
-// *F32 or a 0-dimensional tensor).
-func setScalar(dst gorgonia.Value, v float64) (gorgonia.Value, error) {
-	switch d := dst.(type) {
-	case *gorgonia.F64:
-		*d = gorgonia.F64(v)
-	case *gorgonia.F32:
-		*d = gorgonia.F32(v)
-	case *tensor.Dense:
-		switch s := d.Data().(type) {
-		case []float64:
-			s[0] = v
-		case []float32:
-			s[0] = float32(v)
-		case float64:
-			d.Set(0, v)
-		case float32:
-			d.Set(0, float32(v))
-		}
-	default:
-		return nil, fmt.Errorf("graphnet: scalar value of type %T", dst)
-	}
-	return dst, nil
-}
-
-// scalarOf reads a scalar value.
+// scalarOf reads a scalar value as gorgonia makes them (*F64 or *F32).
 func scalarOf(v gorgonia.Value) (float64, error) {
 	switch d := v.(type) {
 	case *gorgonia.F64:
@@ -237,17 +255,7 @@ func scalarOf(v gorgonia.Value) (float64, error) {
 	case *gorgonia.F32:
 		return float64(*d), nil
 	}
-	switch s := v.Data().(type) {
-	case float64:
-		return s, nil
-	case float32:
-		return float64(s), nil
-	case []float64:
-		return s[0], nil
-	case []float32:
-		return float64(s[0]), nil
-	}
-	return 0, fmt.Errorf("graphnet: scalar value of type %T", v)
+	return 0, fmt.Errorf("graphnet: scalar value of type %T, want *gorgonia.F64 or *gorgonia.F32", v)
 }
 
 func hashOf(op gorgonia.Op) uint32 {

@@ -217,7 +217,7 @@ func (n *Network) snapshot(dst []*tensor.Dense) []*tensor.Dense {
 		return dst
 	}
 	for i, p := range n.params {
-		copyData(dst[i].Data(), p.value.Data())
+		copyDense(dst[i], p.value)
 	}
 	return dst
 }
@@ -225,17 +225,18 @@ func (n *Network) snapshot(dst []*tensor.Dense) []*tensor.Dense {
 // restore copies the weights back from a snapshot.
 func (n *Network) restore(src []*tensor.Dense) {
 	for i, p := range n.params {
-		copyData(p.value.Data(), src[i].Data())
+		copyDense(p.value, src[i])
 	}
 }
 
-func copyData(dst, src any) {
-	switch d := dst.(type) {
-	case []float64:
-		copy(d, src.([]float64))
-	case []float32:
-		copy(d, src.([]float32))
+// copyDense copies the values of src into dst; both are float32 or both
+// float64, of the same size.
+func copyDense(dst, src *tensor.Dense) {
+	if dst.Dtype() == tensor.Float64 {
+		copy(dst.Float64s(), src.Float64s())
+		return
 	}
+	copy(dst.Float32s(), src.Float32s())
 }
 
 // trainStep runs forward and backward on the participants idx of set,
@@ -252,25 +253,23 @@ func (n *Network) trainStep(set *prepared, idx []int) (float64, int, error) {
 			return 0, 0, err
 		}
 	}
-	defer g.vm.Reset()
-	if err := g.vm.RunAll(); err != nil {
+	if err := g.m.run(); err != nil {
 		return 0, 0, err
 	}
 	for i, p := range n.params {
-		copyData(p.grad.Data(), g.grads[i].Value().Data())
+		copyDense(p.grad, g.m.dense(g.grads[i]))
 	}
-	t, c := batchLoss(n.loss, g.pred.Value().Data(), g.target.Data())
+	t, c := batchLoss(n.loss, g.m.dense(g.pred), g.target)
 	return t, c, nil
 }
 
-func batchLoss(f lossFunc, pred, target any) (float64, int) {
-	switch p := pred.(type) {
-	case []float64:
-		return sum(f, p, target.([]float64))
-	case []float32:
-		return sum(f, p, target.([]float32))
+// batchLoss returns the summed loss terms of pred against target and the
+// number of present targets (see sum).
+func batchLoss(f lossFunc, pred, target *tensor.Dense) (float64, int) {
+	if pred.Dtype() == tensor.Float64 {
+		return sum(f, pred.Float64s(), target.Float64s())
 	}
-	panic(fmt.Sprintf("graphnet: predictions of type %T", pred))
+	return sum(f, pred.Float32s(), target.Float32s())
 }
 
 // evalLoss returns the loss of the network over all of set, without dropout:
@@ -279,7 +278,7 @@ func (n *Network) evalLoss(set *prepared) (float64, error) {
 	var total float64
 	var count int
 	err := n.forEachBatch(set, func(g *graph, idx []int) {
-		t, c := batchLoss(n.loss, g.pred.Value().Data(), g.target.Data())
+		t, c := batchLoss(n.loss, g.m.dense(g.pred), g.target)
 		total += t
 		count += c
 	})
@@ -303,12 +302,10 @@ func (n *Network) forEachBatch(set *prepared, f func(g *graph, idx []int)) error
 			return err
 		}
 		set.fill(g, idx)
-		if err := g.vm.RunAll(); err != nil {
-			g.vm.Reset()
+		if err := g.m.run(); err != nil {
 			return err
 		}
 		f(g, idx)
-		g.vm.Reset()
 	}
 	return nil
 }
@@ -325,18 +322,11 @@ func (n *Network) Predict(ps []*data.Participant) (*mat.Dense, error) {
 	}
 	out := mat.NewDense(len(ps), n.targets, nil)
 	err = n.forEachBatch(set, func(g *graph, idx []int) {
-		var row []float64
-		switch pred := g.pred.Value().Data().(type) {
-		case []float64:
-			row = pred
-		case []float32:
-			row = make([]float64, len(pred))
-			for i, v := range pred {
-				row[i] = float64(v)
-			}
-		}
+		pred := g.m.dense(g.pred)
 		for k, i := range idx {
-			out.SetRow(i, row[k*n.targets:(k+1)*n.targets])
+			for t := range n.targets {
+				out.Set(i, t, valueAt(pred, k*n.targets+t))
+			}
 		}
 	})
 	if err != nil {
@@ -500,43 +490,54 @@ func (s *prepared) fill(g *graph, idx []int) {
 	pp := s.p * s.p
 	for bi := range g.inputs {
 		for k, i := range idx {
-			copyInto(g.inputs[bi].Data(), k*pp, s.inputs[bi][i])
+			copyInto(g.inputs[bi], k*pp, s.inputs[bi][i])
 			if g.operators[bi] != nil {
-				copyInto(g.operators[bi].Data(), k*pp, s.operators[bi][i])
+				copyInto(g.operators[bi], k*pp, s.operators[bi][i])
 			}
 		}
 	}
 	nan := math.NaN()
 	for k, i := range idx {
 		if s.y == nil {
-			fillValue(g.target.Data(), k*s.targets, s.targets, nan)
+			fillValue(g.target, k*s.targets, s.targets, nan)
 			continue
 		}
-		copyInto(g.target.Data(), k*s.targets, s.y[i*s.targets:(i+1)*s.targets])
+		copyInto(g.target, k*s.targets, s.y[i*s.targets:(i+1)*s.targets])
 	}
 }
 
-func copyInto(dst any, off int, src []float64) {
-	switch d := dst.(type) {
-	case []float64:
-		copy(d[off:], src)
-	case []float32:
-		d = d[off : off+len(src)]
-		for i, v := range src {
-			d[i] = float32(v)
-		}
+// copyInto sets the values off, off+1, … of dst (float32 or float64) to
+// src.
+func copyInto(dst *tensor.Dense, off int, src []float64) {
+	if dst.Dtype() == tensor.Float64 {
+		copy(dst.Float64s()[off:], src)
+		return
+	}
+	d := dst.Float32s()[off : off+len(src)]
+	for i, v := range src {
+		d[i] = float32(v)
 	}
 }
 
-func fillValue(dst any, off, n int, v float64) {
-	switch d := dst.(type) {
-	case []float64:
-		for i := range n {
-			d[off+i] = v
+// fillValue sets the values off to off+n−1 of dst (float32 or float64) to v.
+func fillValue(dst *tensor.Dense, off, n int, v float64) {
+	if dst.Dtype() == tensor.Float64 {
+		d := dst.Float64s()[off : off+n]
+		for i := range d {
+			d[i] = v
 		}
-	case []float32:
-		for i := range n {
-			d[off+i] = float32(v)
-		}
+		return
 	}
+	d := dst.Float32s()[off : off+n]
+	for i := range d {
+		d[i] = float32(v)
+	}
+}
+
+// valueAt returns value i of t (float32 or float64) as a float64.
+func valueAt(t *tensor.Dense, i int) float64 {
+	if t.Dtype() == tensor.Float64 {
+		return t.Float64s()[i]
+	}
+	return float64(t.Float32s()[i])
 }

@@ -53,21 +53,19 @@ func (n *Network) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
 			for k := range idx {
 				w[k*n.targets+t] = 1
 			}
-			copyInto(g.outputWeights.Data(), 0, w)
-			if err := g.vm.RunAll(); err != nil {
-				g.vm.Reset()
+			copyInto(g.outputWeights, 0, w)
+			if err := g.m.run(); err != nil {
 				return nil, fmt.Errorf("graphnet: EdgeImportance: %w", err)
 			}
 			for b, grad := range g.inputGrads {
-				gv := float64s(grad.Value().Data())
+				gv := g.m.dense(grad)
 				for k, i := range idx {
 					x := set.inputs[b][i]
 					for e := range pp {
-						sums[t][e] += x[e] * gv[k*pp+e]
+						sums[t][e] += x[e] * valueAt(gv, k*pp+e)
 					}
 				}
 			}
-			g.vm.Reset()
 		}
 	}
 	maps := make([]*mat.Dense, n.targets)
@@ -102,40 +100,18 @@ func (n *Network) saliencyGraph(batch int) (*graph, error) {
 	return g, nil
 }
 
-// inputGradients adds to pred's graph the scalar Σ w ∘ pred, w a constant
-// of pred's shape made by constant, and its gradients with respect to
-// inputs.
+// inputGradients adds to pred's graph the gradients of the scalar
+// Σ w ∘ pred with respect to inputs, w a constant of pred's shape made by
+// constant. The gradient of that scalar with respect to pred is w, so the
+// backward pass starts from w itself; the scalar is never computed.
 func inputGradients(pred *gorgonia.Node, inputs []*gorgonia.Node, constant func(string, ...int) (*gorgonia.Node, *tensor.Dense, error)) ([]*gorgonia.Node, *tensor.Dense, error) {
 	w, wv, err := constant("saliency.weights", pred.Shape()...)
 	if err != nil {
 		return nil, nil, err
 	}
-	weighted, err := gorgonia.HadamardProd(pred, w)
-	if err != nil {
-		return nil, nil, err
-	}
-	total, err := gorgonia.Sum(weighted)
-	if err != nil {
-		return nil, nil, err
-	}
-	grads, err := gorgonia.Grad(total, inputs...)
+	grads, err := gorgonia.Backpropagate(gorgonia.Nodes{pred}, gorgonia.Nodes{w}, inputs)
 	if err != nil {
 		return nil, nil, err
 	}
 	return grads, wv, nil
-}
-
-// float64s returns the values of a float32 or float64 slice as float64.
-func float64s(v any) []float64 {
-	switch d := v.(type) {
-	case []float64:
-		return d
-	case []float32:
-		out := make([]float64, len(d))
-		for i, x := range d {
-			out[i] = float64(x)
-		}
-		return out
-	}
-	panic(fmt.Sprintf("graphnet: values of type %T", v))
 }

@@ -126,6 +126,9 @@ func TestNoAllocSteadyState(t *testing.T) {
 		{"Dense", []tensor.Shape{sh(2, 3, 4), sh(12, 5), sh(5)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Dense(in[0], in[1], in[2]) }},
 		{"Dropout", []tensor.Shape{sh(2, 3), sh(2, 3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Dropout(in[0], in[1]) }},
 		{"SwapLastAxes", []tensor.Shape{sh(2, 3, 4)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return SwapLastAxes(in[0]) }},
+		{"Reshape", []tensor.Shape{sh(2, 3, 4)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Reshape(in[0], sh(2, 12)) }},
+		{"Concat", []tensor.Shape{sh(2, 3), sh(2, 4)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Concat(in...) }},
+		{"Product", []tensor.Shape{sh(2, 3), sh(2, 3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Product(in[0], in[1]) }},
 	}
 	for _, c := range cases {
 		for _, dt := range []tensor.Dtype{tensor.Float32, tensor.Float64} {

@@ -1,8 +1,9 @@
 // Package ops holds the fused gorgonia operations of the graph-filter
 // networks: edge-to-edge and edge-to-node filters (E2E, optionally with its
 // leaky rectifier fused in, and E2N), graph convolution (GraphConv), a
-// dense layer with its bias (Dense), leaky ReLU, inverted dropout and a
-// batched transpose (SwapLastAxes).
+// dense layer with its bias (Dense), leaky ReLU, inverted dropout, a
+// batched transpose (SwapLastAxes), and the ops that reshape and merge
+// branch outputs: a zero-copy Reshape, Concat and the element-wise Product.
 //
 // Each function returns a node of the caller's expression graph; each op
 // is differentiable by gorgonia's symbolic differentiation (gorgonia.Grad),
@@ -16,7 +17,8 @@
 // the ops allocate nothing in steady state. (gonum's pure-Go Gemm starts
 // goroutines for large products, which allocate a little; OpenBLAS does
 // not. gorgonia's tape machine allocates a few small values per
-// instruction.) Consequences:
+// instruction; package graphnet runs its graphs with an executor of its
+// own that does not.) Consequences:
 //   - the value of a node after a run is only valid until the next run;
 //     copy it (or read it with gorgonia.Read) to keep it;
 //   - one graph must not be run by two machines at the same time;

@@ -230,6 +230,7 @@ func opCases() []opCase {
 			},
 		})
 	}
+	cases = append(cases, mergeCases()...)
 	return cases
 }
 

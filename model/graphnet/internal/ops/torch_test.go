@@ -59,6 +59,10 @@ func TestAgainstPyTorch(t *testing.T) {
 		{"gconv_wide", []string{"s", "h", "w"}, []bool{true, false, false}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return GraphConv(in[0], in[1], in[2]) }},
 		{"swap", []string{"x"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return SwapLastAxes(in[0]) }},
 		{"dense", []string{"x", "w", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Dense(in[0], in[1], in[2]) }},
+		// From make_merge_fixtures.py: torch's reshape, cat and mul.
+		{"reshape", []string{"x"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Reshape(in[0], tensor.Shape{3, 8}) }},
+		{"concat", []string{"a", "b", "c"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Concat(in...) }},
+		{"product", []string{"a", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Product(in[0], in[1]) }},
 	}
 	for _, fc := range cases {
 		for _, dt := range []tensor.Dtype{tensor.Float64, tensor.Float32} {
