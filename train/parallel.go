@@ -15,28 +15,28 @@ type Parallelism struct {
 }
 
 // ChooseParallelism returns the parallelism of a run of units independent
-// units on cores cores: one kind of parallelism at a time, never both.
+// units on cores cores.
 //
 // The rule is units first, and always single-threaded BLAS: Jobs =
-// min(cores, units) units at once, BLASThreads = 1.
+// min(cores, units) units at once, BLASThreads = 1. Within a unit a
+// network spreads its products and element loops over helper goroutines
+// that take work only when they are idle (package graphnet), so a unit
+// that runs alone, such as the last fold of a round, still gets the cores
+// the others left; baselines run on their unit's goroutine.
 //
-// Units first is read off bench/parallel.sh (README, "Speed"): for the
-// reference network at p = 68 to 268 with batches of 16, a 5-fold run on 2
-// cores was fastest with folds in parallel and single-threaded OpenBLAS;
-// two OpenBLAS threads per product gained far less, because a third to a
-// half of a training step is elementwise Go work that one thread does, and
-// folds in parallel on top of two-thread OpenBLAS were slower than either
-// alone (OpenBLAS threads spin while they wait). The pure-Go BLAS spreads
-// a product over goroutines that share the Go scheduler with the units, so
-// it cannot oversubscribe the cores.
+// This is read off bench/parallel.sh (README, "Speed"): for the reference
+// network with batches of 16, a 5-fold run on 2 cores ran 1.7–1.8 times
+// as fast as on one core with OpenBLAS, whether its folds ran two at a
+// time or one after another, and two OpenBLAS threads on top were slower
+// (OpenBLAS threads spin while they wait, competing with the goroutines).
 //
-// The BLAS stays single-threaded even when there are fewer units than
-// cores, because results must not depend on the parallelism: OpenBLAS
-// splits some reductions across its threads, and two threads instead of
-// one change the last bits of a ridge solution (measured here: the demo's
-// predictions.csv differs between OPENBLAS_NUM_THREADS=1 and 2). A user
-// who sets OPENBLAS_NUM_THREADS gets that many threads (ApplyBLASThreads),
-// and results then repeat exactly only at the same setting.
+// The BLAS stays single-threaded because results must not depend on the
+// parallelism: OpenBLAS splits some reductions across its threads, and two
+// threads instead of one change the last bits of a ridge solution
+// (measured here: the demo's predictions.csv differs between
+// OPENBLAS_NUM_THREADS=1 and 2). A user who sets OPENBLAS_NUM_THREADS gets
+// that many threads (ApplyBLASThreads), and results then repeat exactly
+// only at the same setting.
 func ChooseParallelism(cores, units int) Parallelism {
 	return Parallelism{Jobs: max(min(cores, units), 1), BLASThreads: 1}
 }

@@ -293,7 +293,8 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 			return nil, fmt.Errorf("graphnet: building the saliency: %w", err)
 		}
 	}
-	if gr.m, err = newMachine(g); err != nil {
+	outputs := append(append(gorgonia.Nodes{gr.pred}, gr.grads...), gr.inputGrads...)
+	if gr.m, err = newMachine(g, outputs...); err != nil {
 		return nil, err
 	}
 	return gr, nil

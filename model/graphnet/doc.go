@@ -22,8 +22,12 @@
 // graph, built at first use and reused; all graphs share the weights. The
 // package runs a graph's ops itself, in a fixed topological order, and
 // every op reuses its output buffers: once a graph has run, a training
-// step allocates nothing (with the pure-Go BLAS, gonum's large matrix
-// products start goroutines, which allocate).
+// step allocates nothing. A Network spreads its matrix products, element
+// loops and optimizer updates over runtime.GOMAXPROCS goroutines (helpers
+// that take work when they are idle, so networks trained side by side
+// share the cores); the work is cut in pieces fixed by the shapes, so
+// results do not depend on the number of cores. With OpenBLAS, leave its
+// own threads at one (skein's commands do).
 //
 // # Training
 //

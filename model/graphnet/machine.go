@@ -33,16 +33,22 @@ type step struct {
 }
 
 // newMachine returns the machine of g, whose nodes run in the order of
-// gorgonia's tape machine (the reverse of gorgonia.Sort). Every leaf node
-// must have a value.
-func newMachine(g *gorgonia.ExprGraph) (*machine, error) {
+// gorgonia's tape machine (the reverse of gorgonia.Sort). With outputs,
+// it runs only the ops whose values they need (a node that no output
+// reads, such as a gradient that a fused op computes itself, never runs);
+// without, every op of g. Every leaf node it reads must have a value.
+func newMachine(g *gorgonia.ExprGraph, outputs ...*gorgonia.Node) (*machine, error) {
 	sorted, err := gorgonia.Sort(g)
 	if err != nil {
 		return nil, fmt.Errorf("graphnet: ordering the graph: %w", err)
 	}
+	needed := neededBy(g, outputs)
 	m := &machine{index: make(map[*gorgonia.Node]int), fixed: make(map[*gorgonia.Node]gorgonia.Value)}
 	for i := len(sorted) - 1; i >= 0; i-- {
 		n := sorted[i]
+		if needed != nil && !needed[n] {
+			continue
+		}
 		children := g.From(n.ID()) // in the order of the op's inputs
 		if children.Len() == 0 {
 			v := n.Value()
@@ -74,6 +80,28 @@ func newMachine(g *gorgonia.ExprGraph) (*machine, error) {
 		m.steps = append(m.steps, s)
 	}
 	return m, nil
+}
+
+// neededBy returns the nodes of g that outputs read, directly or not,
+// with the outputs themselves; nil for no outputs.
+func neededBy(g *gorgonia.ExprGraph, outputs []*gorgonia.Node) map[*gorgonia.Node]bool {
+	if len(outputs) == 0 {
+		return nil
+	}
+	needed := make(map[*gorgonia.Node]bool)
+	stack := append([]*gorgonia.Node(nil), outputs...)
+	for len(stack) > 0 {
+		n := stack[len(stack)-1]
+		stack = stack[:len(stack)-1]
+		if n == nil || needed[n] {
+			continue
+		}
+		needed[n] = true
+		for it := g.From(n.ID()); it.Next(); {
+			stack = append(stack, it.Node().(*gorgonia.Node))
+		}
+	}
+	return needed
 }
 
 // run runs every op once, in order. An error names the node that failed.

@@ -12,13 +12,20 @@
 // the openblas build tag of package internal/blas selects OpenBLAS) and
 // branch-free element loops. All ops accept float32 and float64 tensors.
 //
+// Parallelism: with WithPool, an op runs its matrix products tile by tile
+// and its element loops sample by sample (or in fixed ranges) as the
+// chunks of a task on an internal/parallel.Pool. Tiles and chunks are
+// fixed by the shapes, never by the number of goroutines, so results are
+// the same whatever the pool. Tiles are small enough that gonum's
+// pure-Go Gemm computes each on the calling goroutine (it would
+// otherwise start goroutines of its own, which allocate); with OpenBLAS
+// they are few and large, and OpenBLAS should be left single-threaded.
+//
 // Buffers: every op allocates its output (and its scratch space) at its
 // first run and writes into the same buffers at every later run, so that
-// the ops allocate nothing in steady state. (gonum's pure-Go Gemm starts
-// goroutines for large products, which allocate a little; OpenBLAS does
-// not. gorgonia's tape machine allocates a few small values per
-// instruction; package graphnet runs its graphs with an executor of its
-// own that does not.) Consequences:
+// the ops allocate nothing in steady state. (gorgonia's tape machine
+// allocates a few small values per instruction; package graphnet runs its
+// graphs with an executor of its own that does not.) Consequences:
 //   - the value of a node after a run is only valid until the next run;
 //     copy it (or read it with gorgonia.Read) to keep it;
 //   - one graph must not be run by two machines at the same time;
@@ -32,5 +39,11 @@
 // Options: an op whose data input is participant data rather than the
 // output of another op does not need the gradient with respect to that
 // input; pass NoInputGrad() to skip building it (about half of the backward
-// cost of a first edge-to-edge layer).
+// cost of a first edge-to-edge layer). NodeMajor lays the tensor between
+// an E2E and the E2N that reads it out by node, so that neither pass
+// copies it into the order the E2N's product needs; when that E2N is the
+// E2E output's only reader, the E2E's backward pass sums the E2N's input
+// gradient block by block as it makes it, and the batch-sized gradient is
+// never stored (the E2N's own input-gradient node is then read by nobody:
+// run only what the outputs need).
 package ops

@@ -374,6 +374,13 @@ func edgeSumsOf[T float](l *loop[T], n int) {
 			s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g[at:][:P], y[at:][:P], cc, l.f)
 		}
 	})
+	transposeRowSums(d, s, n)
+}
+
+// transposeRowSums sets the row sums of sample n again, laid out as
+// (B, p, O) after the row and column sums in s (see edgeSums).
+func transposeRowSums[T float](d filterDims, s []T, n int) {
+	B, O, P := d.B, d.O, d.P
 	rt := s[2*d.termSize()+n*P*O:][:P*O]
 	for o := 0; o < O; o++ {
 		for i, v := range s[(o*B+n)*P:][:P] {
@@ -516,12 +523,14 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	d := op.dims
 	x, wr, wc := inputs[0], inputs[1], inputs[2]
 	sumsShape := tensor.Shape{3, d.O, d.B, d.P}
-	var sums *gorgonia.Node
-	var err error
-	if op.opts.leaky {
+	sums, err := op.fusedSums(output, grad, sumsShape)
+	switch {
+	case err != nil:
+	case sums != nil: // the gradient of a node-major E2N after this one, summed as it is made
+	case op.opts.leaky:
 		es := &edgeSumsOp{base: op.derive(fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope), []tensor.Shape{op.out, op.out}, sumsShape), dims: d, slope: op.opts.slope}
 		sums, err = gorgonia.ApplyOp(es, grad, output)
-	} else {
+	default:
 		sums, err = gorgonia.ApplyOp(&edgeSumsOp{base: op.derive("E2ESums", []tensor.Shape{op.out}, sumsShape), dims: d}, grad)
 	}
 	if err != nil {
@@ -548,6 +557,9 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	}
 	return grads, nil
 }
+
+// e2nGradXName names the input-gradient op of an E2N (see fusedSums).
+const e2nGradXName = "E2NGradX"
 
 type e2nOp struct {
 	base
@@ -606,7 +618,7 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 		if err != nil {
 			return nil, err
 		}
-		gx := newGradXOp(&op.base, "E2NGradX", d, []tensor.Shape{gtShape, op.in[1]}, op.in[0], 0)
+		gx := newGradXOp(&op.base, e2nGradXName, d, []tensor.Shape{gtShape, op.in[1]}, op.in[0], 0)
 		if grads[0], err = gorgonia.ApplyOp(gx, gt, w); err != nil {
 			return nil, err
 		}
@@ -620,6 +632,114 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 		return nil, err
 	}
 	return grads, nil
+}
+
+// fusedSums returns the edge sums of grad computed from the inputs of the
+// op that makes grad, when grad is the input gradient of a node-major E2N
+// that reads this E2E's output and nothing else does (gorgonia would
+// otherwise sum the gradients of the readers first). It returns nil
+// otherwise. The E2N's own input-gradient node is then read by nobody,
+// and an executor that runs only what its outputs need skips it.
+func (op *e2eOp) fusedSums(output, grad *gorgonia.Node, sumsShape tensor.Shape) (*gorgonia.Node, error) {
+	gx, ok := grad.Op().(*gradXOp)
+	d := op.dims
+	if !ok || gx.name != e2nGradXName || !gx.dims.inNodeMajor || !d.outNodeMajor || gx.dims.C != d.O || gx.dims.P != d.P || gx.dims.B != d.B {
+		return nil, nil
+	}
+	var in gorgonia.Nodes // gt (B, p, O2), w (O2, C, p)
+	for it := grad.Graph().From(grad.ID()); it.Next(); {
+		in = append(in, it.Node().(*gorgonia.Node))
+	}
+	if len(in) != 2 {
+		return nil, nil
+	}
+	shapes := []tensor.Shape{gx.in[0], gx.in[1]}
+	name := "E2ESumsOfE2NGrad"
+	if op.opts.leaky {
+		in = append(in, output)
+		shapes = append(shapes, op.out)
+		name += fmt.Sprintf("(LeakyReLU %g)", op.opts.slope)
+	}
+	es := &e2nSumsOp{
+		base:         op.derive(name, shapes, sumsShape),
+		dims:         d,
+		inner:        gx.dims.O,
+		slope:        op.opts.slope,
+		scratchShape: tensor.Shape{d.B, min(sumsRowBlock, d.P), d.O * d.P},
+	}
+	return gorgonia.ApplyOp(es, in...)
+}
+
+// sumsRowBlock is the number of rows of dH' an e2nSumsOp makes at a time.
+const sumsRowBlock = 16
+
+// e2nSumsOp is edgeSumsOp of dH' = Gt·W, the input gradient of a
+// node-major E2N (Gt (B, p, O2) its output gradient as gradXOp reads it,
+// W (O2, C·p) its weights): each sample's dH'_n is made sumsRowBlock
+// rows at a time into a scratch tile and summed at once, so that the
+// batch-sized dH' is never stored. Inputs gt, w and, after a fused leaky
+// rectifier, the E2E output y; result (3, O, B, p) as edgeSums.
+type e2nSumsOp struct {
+	base
+	dims         filterDims // of the E2E
+	inner        int        // O2, the E2N's output channels
+	slope        float64
+	scratch      buffer
+	scratchShape tensor.Shape
+}
+
+func e2nSums[T float](op *e2nSumsOp, in []*tensor.Dense, out *tensor.Dense) {
+	var y []T
+	if len(in) == 3 {
+		y = slice[T](in[2])
+	}
+	scratch := slice[T](op.scratch.get(dtypeOf[T](), op.scratchShape))
+	l := forEachSetup[T](&op.ts, op.dims, leakyFactors[T](op.slope), kE2NSums, slice[T](in[0]), slice[T](in[1]), y, slice[T](out), scratch)
+	l.inner = op.inner
+	op.ts.pool.Run(l, op.dims.B)
+	l.clear()
+}
+
+func (op *e2nSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
+	in, out, dt, err := op.inputs(vals)
+	if err != nil {
+		return nil, err
+	}
+	if dt == tensor.Float64 {
+		e2nSums[float64](op, in, out)
+	} else {
+		e2nSums[float32](op, in, out)
+	}
+	return out, nil
+}
+
+// e2nSumsOf does sample n of e2nSumsOp: s = gt, w, y (nil without a
+// fused rectifier), sums, scratch.
+func e2nSumsOf[T float](l *loop[T], n int) {
+	gt, w, y, s, scratch := l.s[0], l.s[1], l.s[2], l.s[3], l.s[4]
+	d := l.d
+	B, O, P, O2 := d.B, d.O, d.P, l.inner
+	OP := O * P
+	tile := scratch[n*min(sumsRowBlock, P)*OP:][:min(sumsRowBlock, P)*OP]
+	for o := 0; o < O; o++ {
+		clear(s[d.termSize()+(o*B+n)*P:][:P])
+	}
+	for i0 := 0; i0 < P; i0 += sumsRowBlock {
+		rows := min(sumsRowBlock, P-i0)
+		serialGemm(false, false, rows, OP, O2, 1, gt[(n*P+i0)*O2:], O2, w, OP, 0, tile, OP)
+		for i := i0; i < i0+rows; i++ {
+			for o := 0; o < O; o++ {
+				g := tile[(i-i0)*OP+o*P:][:P]
+				cc := s[d.termSize()+(o*B+n)*P:][:P]
+				if y == nil {
+					s[(o*B+n)*P+i] = sumAndAccumulate(g, cc)
+				} else {
+					s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g, y[d.outRow(n, o, i):][:P], cc, l.f)
+				}
+			}
+		}
+	}
+	transposeRowSums(d, s, n)
 }
 
 // edgeSumsOp: inputs dH (B, O, p, p) and, after a fused leaky rectifier,

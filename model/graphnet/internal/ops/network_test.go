@@ -2,6 +2,7 @@ package ops
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"gorgonia.org/gorgonia"
@@ -22,7 +23,49 @@ func leakyRef(slope float64, x []float64) []float64 {
 // networkCases chain the ops as a network does, with one node read by two
 // ops, so that gradients flow from op to op and are summed by gorgonia.
 func networkCases() []opCase {
-	return []opCase{edgeNetwork(false), edgeNetwork(true), graphNetwork()}
+	return []opCase{edgeNetwork(false), edgeNetwork(true), fusedNetwork(false), fusedNetwork(true), graphNetwork()}
+}
+
+// fusedNetwork is E2E-E2N-Dense with the E2E output node-major and read by
+// the E2N alone, so that the E2E's backward pass sums the E2N's input
+// gradient as it makes it (e2nSumsOp); with leaky, through the fused
+// rectifier.
+func fusedNetwork(leaky bool) opCase {
+	const B, C, P, O1, O2, G = 2, 2, 5, 3, 4, 2
+	name := "Network/E2E-E2N-Dense/fused"
+	e2eOpts := []Option{NodeMajor()}
+	if leaky {
+		name += "/WithLeakyReLU"
+		e2eOpts = append(e2eOpts, WithLeakyReLU(0.1))
+	}
+	return opCase{
+		name: name,
+		shapes: []tensor.Shape{
+			sh(B, C, P, P),                     // 0 x
+			sh(O1, C, P), sh(O1, C, P), sh(O1), // 1-3 E2E
+			sh(O2, O1, P), sh(O2), // 4-5 E2N
+			sh(O2*P, G), sh(G), // 6-7 Dense
+		},
+		build: func(in gorgonia.Nodes) (*gorgonia.Node, error) {
+			h, err := E2E(in[0], in[1], in[2], in[3], e2eOpts...)
+			if err != nil {
+				return nil, err
+			}
+			n, err := E2N(h, in[4], in[5], NodeMajor())
+			if err != nil {
+				return nil, err
+			}
+			return Dense(n, in[6], in[7])
+		},
+		ref: func(in [][]float64) []float64 {
+			h := e2eRef(B, C, O1, P)(in[0:4])
+			if leaky {
+				h = leakyRef(0.1, h)
+			}
+			n := e2nRef(B, O1, O2, P)([][]float64{h, in[4], in[5]})
+			return denseRef(B, O2*P, G)([][]float64{n, in[6], in[7]})
+		},
+	}
 }
 
 // edgeNetwork chains E2E, E2E and two E2N (with nodeMajor, the hidden E2E
@@ -136,6 +179,9 @@ func TestNetwork(t *testing.T) {
 			vals := c.values(9)
 			want := c.ref(vals)
 			h := newHarness(t, c, tensor.Float64, vals, randomWeights(len(want), 10))
+			if strings.Contains(c.name, "fused") && !hasOp[*e2nSumsOp](h.in[0].Graph()) {
+				t.Fatal("the backward pass has no e2nSumsOp")
+			}
 			h.run(t)
 			if e := maxRelErr(float64sOf(h.out), want); e > 1e-12 {
 				t.Errorf("forward: max relative error %g", e)
@@ -143,6 +189,16 @@ func TestNetwork(t *testing.T) {
 			checkGradients(t, h, c)
 		})
 	}
+}
+
+// hasOp reports whether g has a node whose op is an O.
+func hasOp[O gorgonia.Op](g *gorgonia.ExprGraph) bool {
+	for _, n := range g.AllNodes() {
+		if _, ok := n.Op().(O); ok {
+			return true
+		}
+	}
+	return false
 }
 
 // TestNoInputGrad checks that NoInputGrad builds no gradient for the data

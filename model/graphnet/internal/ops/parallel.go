@@ -114,8 +114,9 @@ type loop[T float] struct {
 	kernel kernel
 	d      filterDims
 	f      [2]T // factors of a leaky rectifier, when the body needs them
-	s      [4][]T
+	s      [5][]T
 	len    int // of the slices split by forRanges
+	inner  int // the inner size of a kernel's product, when it needs one
 }
 
 // kernel names the body of a loop. (A func value of a generic function
@@ -135,6 +136,7 @@ const (
 	kOperatorTransposeTimes
 	kSignFactor
 	kMulInto
+	kE2NSums
 )
 
 // Chunk runs unit i.
@@ -162,6 +164,8 @@ func (l *loop[T]) Chunk(i int) {
 		signFactorOf(l, i)
 	case kMulInto:
 		mulIntoOf(l, i)
+	case kE2NSums:
+		e2nSumsOf(l, i)
 	default:
 		panic("ops: unknown loop kernel")
 	}
@@ -169,12 +173,22 @@ func (l *loop[T]) Chunk(i int) {
 
 // forEach runs kernel k for units 0…n−1 on the op's pool, with operands s.
 func forEach[T float](ts *tasks, n int, d filterDims, f [2]T, k kernel, s ...[]T) {
+	l := forEachSetup(ts, d, f, k, s...)
+	ts.pool.Run(l, n)
+	l.clear()
+}
+
+// forEachSetup returns the op's loop record set for kernel k with
+// operands s, for a caller that sets more fields before running it.
+func forEachSetup[T float](ts *tasks, d filterDims, f [2]T, k kernel, s ...[]T) *loop[T] {
 	l := reuse[loop[T]](&ts.loop)
 	l.kernel, l.d, l.f = k, d, f
 	copy(l.s[:], s)
-	ts.pool.Run(l, n)
-	l.s = [4][]T{}
+	return l
 }
+
+// clear drops the loop's operands, so that it holds no buffer after a run.
+func (l *loop[T]) clear() { l.s = [5][]T{} }
 
 // rangeSize is the number of elements in a chunk of forRanges.
 const rangeSize = 1 << 14
