@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/internal/parallel"
 )
 
 // TestConcurrentNetworks trains networks in parallel goroutines, as the
@@ -46,5 +48,37 @@ func TestConcurrentNetworks(t *testing.T) {
 		if !mat.Equal(alone[i], together[i]) {
 			t.Errorf("seed %d: predictions differ when trained concurrently", i+1)
 		}
+	}
+}
+
+// TestHelpersDoNotChangeResults trains the same network with no pool
+// helpers and with three: the ops and the optimizer cut their work in
+// pieces fixed by the shapes, so predictions must be equal bit for bit.
+// The sizes make products of several tiles and e2e → e2n node-major with
+// the fused backward pass.
+func TestHelpersDoNotChangeResults(t *testing.T) {
+	const p = 70
+	ps, y := plantedCohort(20, p, 0.5, 3)
+	cfg := testConfig("float32", BranchConfig{Layers: layers(e2e(4), e2n(66), n2g(5))})
+	fit := func(helpers int) *mat.Dense {
+		net, err := New(cfg, p, 1, 7)
+		if err != nil {
+			t.Fatal(err)
+		}
+		net.pool.Close()
+		net.pool = parallel.New(helpers)
+		defer net.pool.Close()
+		if err := net.Fit(context.Background(), dataset(ps, y, 0, 16), dataset(ps, y, 16, 20)); err != nil {
+			t.Fatal(err)
+		}
+		pred, err := net.Predict(ps)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return pred
+	}
+	alone, helped := fit(0), fit(3)
+	if !mat.Equal(alone, helped) {
+		t.Errorf("predictions differ with 3 pool helpers:\n%v\nalone:\n%v", mat.Formatted(helped.T()), mat.Formatted(alone.T()))
 	}
 }
