@@ -2,8 +2,10 @@ package graphnet
 
 import (
 	"context"
+	"runtime"
 	"sync"
 	"testing"
+	"time"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -81,4 +83,27 @@ func TestHelpersDoNotChangeResults(t *testing.T) {
 	if !mat.Equal(alone, helped) {
 		t.Errorf("predictions differ with 3 pool helpers:\n%v\nalone:\n%v", mat.Formatted(helped.T()), mat.Formatted(alone.T()))
 	}
+}
+
+// TestHelpersStop checks that a network's pool helpers stop once the
+// network is unreachable: networks made and dropped one after another do
+// not pile up goroutines.
+func TestHelpersStop(t *testing.T) {
+	cfg := testConfig("float32", BranchConfig{Layers: layers(e2e(2), e2n(2), n2g(3))})
+	before := runtime.NumGoroutine()
+	for seed := range 40 {
+		net, err := New(cfg, 6, 1, int64(seed))
+		if err != nil {
+			t.Fatal(err)
+		}
+		_ = net
+	}
+	for range 20 {
+		runtime.GC()
+		if runtime.NumGoroutine() <= before+2 {
+			return
+		}
+		time.Sleep(10 * time.Millisecond)
+	}
+	t.Errorf("%d goroutines after dropping 40 networks, %d before", runtime.NumGoroutine(), before)
 }

@@ -247,7 +247,7 @@ func rowGradW[T float](ts *tasks, d filterDims, g, xr, dw []T) {
 // colGradW sets dW = Σ_n G_n·X_nᵀ, one chunk per tileShort columns of dW
 // (the sum over samples runs in order within each).
 func colGradW[T float](ts *tasks, d filterDims, g, x, dw []T) {
-	forEach(ts, (d.C*d.P+tileShort-1)/tileShort, d, [2]T{}, kColGradW, g, x, dw)
+	forEach(ts, ceilDiv(d.C*d.P, tileShort), d, [2]T{}, kColGradW, g, x, dw)
 }
 
 // colGradWOf does columns tileShort·t… of dW: s = g, x, dw.

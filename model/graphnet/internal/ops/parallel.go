@@ -36,7 +36,7 @@ func newGemmTask[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b [
 	t := gemmTask[T]{tA: tA, tB: tB, m: m, n: n, k: k, alpha: alpha, a: a, lda: lda, b: b, ldb: ldb, beta: beta, c: c, ldc: ldc}
 	t.tm, t.tn = tileSizes(m, n)
 	t.tm, t.tn = min(t.tm, max(m, 1)), min(t.tn, max(n, 1))
-	t.tilesAlong = (n + t.tn - 1) / t.tn
+	t.tilesAlong = ceilDiv(n, t.tn)
 	return t
 }
 
@@ -45,7 +45,7 @@ func (t *gemmTask[T]) tiles() int {
 	if t.m == 0 || t.n == 0 {
 		return 0
 	}
-	return ((t.m + t.tm - 1) / t.tm) * t.tilesAlong
+	return ceilDiv(t.m, t.tm) * t.tilesAlong
 }
 
 // Chunk computes tile i, row-major over the tiles. Within a tile each
@@ -199,7 +199,7 @@ const rangeSize = 1 << 14
 func forRanges[T float](ts *tasks, n int, f [2]T, k kernel, s ...[]T) {
 	l := reuse[loop[T]](&ts.loop)
 	l.len = n
-	forEach(ts, (n+rangeSize-1)/rangeSize, filterDims{}, f, k, s...)
+	forEach(ts, ceilDiv(n, rangeSize), filterDims{}, f, k, s...)
 }
 
 // span returns the bounds of chunk i of forRanges.
