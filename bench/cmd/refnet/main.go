@@ -16,8 +16,9 @@
 // median time of the epochs after the first (which builds the graphs). The
 // second trains K networks on the training parts of a K-fold split, J at a
 // time, and prints the wall time of the whole K-fold run. -threads sets the
-// OpenBLAS thread count (ignored by the pure-Go build); -procs sets
-// GOMAXPROCS.
+// OpenBLAS thread count (default 1, as skein's commands run it: each
+// network spreads its products over GOMAXPROCS goroutines itself;
+// ignored by the pure-Go build); -procs sets GOMAXPROCS.
 //
 // Arithmetic is counted as 2·m·n·k per matrix product, forward and backward,
 // for the e2e, e2n, n2g and head layers (elementwise work is not counted):
@@ -61,7 +62,7 @@ func main() {
 	batch := flag.Int("batch", 16, "batch size")
 	epochs := flag.Int("epochs", 5, "epochs (the first is not timed in the single-network form)")
 	dtype := flag.String("dtype", "float32", "float32 or float64")
-	threads := flag.Int("threads", 0, "OpenBLAS threads (0: leave as is)")
+	threads := flag.Int("threads", 1, "OpenBLAS threads (0: leave as OpenBLAS chose)")
 	procs := flag.Int("procs", 0, "GOMAXPROCS (0: leave as is)")
 	folds := flag.Int("folds", 0, "train one network per fold of a K-fold split (0: one network on everyone)")
 	jobs := flag.Int("jobs", 1, "networks trained at once with -folds")
