@@ -51,6 +51,9 @@ func E2E(x, wr, wc, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 		rcShape: tensor.Shape{2, O, B, P},
 	}
 	op.rows = newRowCache(op.dims)
+	if o.leaky {
+		op.signs = new(signs)
+	}
 	return gorgonia.ApplyOp(op, x, wr, wc, b)
 }
 
@@ -305,14 +308,42 @@ func biasGrad[T float](d filterDims, g, db []T) {
 // e2eForward computes the row and column terms into rc (2, O, B, p) and
 // then, in one fused loop, H[n,o,i,j] = R[o,n,i] + Cc[o,n,j] + b[o], put
 // through the leaky rectifier if opt.leaky.
-func e2eForward[T float](ts *tasks, d filterDims, opt options, cache *rowCache, x, wr, wc, b, rc, h []T) {
+func e2eForward[T float](ts *tasks, d filterDims, opt options, cache *rowCache, sg *signs, x, wr, wc, b, rc, h []T) {
 	rowTerm(ts, d, fillRows(ts, d, cache, x), wr, rc)
 	colTerm(ts, d, x, wc, rc[d.termSize():])
 	f := [2]T{1, 1} // no rectifier: v·1 is v, bit for bit
 	if opt.leaky {
 		f = leakyFactors[T](opt.slope)
 	}
-	forEach(ts, d.B, d, f, kE2ESum, rc, b, h)
+	l := forEachSetup(ts, d, f, kE2ESum, rc, b, h)
+	if opt.leaky {
+		l.mask = sg.fill(len(h))
+	}
+	ts.pool.Run(l, d.B)
+	l.clear()
+}
+
+// signs holds the sign bits of an E2E output put through its fused
+// rectifier, one byte a value: the forward op writes them and the
+// backward op reads them for the rectifier's derivative, a quarter of the
+// memory traffic of reading the output itself. (The output has the sign
+// of the rectifier's input, for any slope ≥ 0.)
+type signs struct{ b []uint8 }
+
+// fill returns the buffer for n signs, to be filled.
+func (s *signs) fill(n int) []uint8 {
+	if len(s.b) != n {
+		s.b = make([]uint8, n)
+	}
+	return s.b
+}
+
+// read returns the n signs the forward pass filled.
+func (s *signs) read(n int) ([]uint8, error) {
+	if len(s.b) != n {
+		return nil, fmt.Errorf("ops: backward pass run before its forward pass")
+	}
+	return s.b, nil
 }
 
 // e2eSumOf does sample n of the fused loop of e2eForward: s = rc, b, h.
@@ -324,7 +355,12 @@ func e2eSumOf[T float](l *loop[T], n int) {
 	row := func(o, i int) {
 		r := rc[(o*d.B+n)*d.P+i]
 		cc := rc[d.termSize()+(o*d.B+n)*d.P:][:d.P]
-		addLeaky(h[d.outRow(n, o, i):][:d.P], cc, r+b[o], l.f)
+		at := d.outRow(n, o, i)
+		if l.mask == nil {
+			addLeaky(h[at:][:d.P], cc, r+b[o], l.f)
+		} else {
+			addLeakySigns(h[at:][:d.P], l.mask[at:][:d.P], cc, r+b[o], l.f)
+		}
 	}
 	forRows(d, row)
 }
@@ -350,16 +386,19 @@ func forRows(d filterDims, row func(o, i int)) {
 // edgeSums sets s (3, O, B, p) to the row sums dR[o,n,i] = Σ_j G[n,o,i,j],
 // the column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p), and the
 // row sums again laid out as (B, p, O), dRt[n,i,o] = dR[o,n,i]. With
-// y (the output of an E2E with WithLeakyReLU, same shape as g), G is g
-// times the derivative of the rectifier, read from the sign of y.
-func edgeSums[T float](ts *tasks, d filterDims, g, y []T, slope float64, s []T) {
-	forEach(ts, d.B, d, leakyFactors[T](slope), kEdgeSums, g, y, s)
+// mask (the signs of the output of an E2E with WithLeakyReLU, laid out as
+// g), G is g times the derivative of the rectifier.
+func edgeSums[T float](ts *tasks, d filterDims, g []T, mask []uint8, slope float64, s []T) {
+	l := forEachSetup(ts, d, leakyFactors[T](slope), kEdgeSums, g, s)
+	l.mask = mask
+	ts.pool.Run(l, d.B)
+	l.clear()
 }
 
-// edgeSumsOf does sample n of edgeSums: s = g, y (nil without a fused
-// rectifier), sums.
+// edgeSumsOf does sample n of edgeSums: s = g, sums; the signs in mask
+// (nil without a fused rectifier).
 func edgeSumsOf[T float](l *loop[T], n int) {
-	g, y, s := l.s[0], l.s[1], l.s[2]
+	g, s, mask := l.s[0], l.s[1], l.mask
 	d := l.d
 	B, O, P := d.B, d.O, d.P
 	for o := 0; o < O; o++ {
@@ -368,10 +407,10 @@ func edgeSumsOf[T float](l *loop[T], n int) {
 	forRows(d, func(o, i int) {
 		at := d.outRow(n, o, i)
 		cc := s[d.termSize()+(o*B+n)*P:][:P]
-		if y == nil {
+		if mask == nil {
 			s[(o*B+n)*P+i] = sumAndAccumulate(g[at:][:P], cc)
 		} else {
-			s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g[at:][:P], y[at:][:P], cc, l.f)
+			s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g[at:][:P], mask[at:][:P], cc, l.f)
 		}
 	})
 	transposeRowSums(d, s, n)
@@ -389,56 +428,56 @@ func transposeRowSums[T float](d filterDims, s []T, n int) {
 	}
 }
 
-// sumAndAccumulateLeaky is sumAndAccumulate of row[j]·f[sign bit of y[j]].
-// It dispatches to loops on concrete types: generic code would reload
-// its dictionary for every element.
-func sumAndAccumulateLeaky[T float](row, y, acc []T, f [2]T) T {
+// sumAndAccumulateLeaky is sumAndAccumulate of row[j]·f[mask[j]]. It
+// dispatches to loops on concrete types: generic code would reload its
+// dictionary for every element.
+func sumAndAccumulateLeaky[T float](row []T, mask []uint8, acc []T, f [2]T) T {
 	if is64[T]() {
-		return T(sumAccLeaky64(as64(row), as64(y), as64(acc), [2]float64{float64(f[0]), float64(f[1])}))
+		return T(sumAccLeaky64(as64(row), mask, as64(acc), [2]float64{float64(f[0]), float64(f[1])}))
 	}
-	return T(sumAccLeaky32(as32(row), as32(y), as32(acc), [2]float32{float32(f[0]), float32(f[1])}))
+	return T(sumAccLeaky32(as32(row), mask, as32(acc), [2]float32{float32(f[0]), float32(f[1])}))
 }
 
-func sumAccLeaky64(row, y, acc []float64, f [2]float64) float64 {
-	acc, y = acc[:len(row)], y[:len(row)]
+func sumAccLeaky64(row []float64, mask []uint8, acc []float64, f [2]float64) float64 {
+	acc, mask = acc[:len(row)], mask[:len(row)]
 	var s0, s1 float64
 	j := 0
 	for ; j+2 <= len(row); j += 2 {
 		v := row[j : j+2 : j+2]
-		w := y[j : j+2 : j+2]
+		m := mask[j : j+2 : j+2]
 		a := acc[j : j+2 : j+2]
-		v0 := v[0] * f[math.Float64bits(w[0])>>63]
-		v1 := v[1] * f[math.Float64bits(w[1])>>63]
+		v0 := v[0] * f[m[0]&1]
+		v1 := v[1] * f[m[1]&1]
 		s0 += v0
 		s1 += v1
 		a[0] += v0
 		a[1] += v1
 	}
 	for ; j < len(row); j++ {
-		v := row[j] * f[math.Float64bits(y[j])>>63]
+		v := row[j] * f[mask[j]&1]
 		s0 += v
 		acc[j] += v
 	}
 	return s0 + s1
 }
 
-func sumAccLeaky32(row, y, acc []float32, f [2]float32) float32 {
-	acc, y = acc[:len(row)], y[:len(row)]
+func sumAccLeaky32(row []float32, mask []uint8, acc []float32, f [2]float32) float32 {
+	acc, mask = acc[:len(row)], mask[:len(row)]
 	var s0, s1 float32
 	j := 0
 	for ; j+2 <= len(row); j += 2 {
 		v := row[j : j+2 : j+2]
-		w := y[j : j+2 : j+2]
+		m := mask[j : j+2 : j+2]
 		a := acc[j : j+2 : j+2]
-		v0 := v[0] * f[math.Float32bits(w[0])>>31]
-		v1 := v[1] * f[math.Float32bits(w[1])>>31]
+		v0 := v[0] * f[m[0]&1]
+		v1 := v[1] * f[m[1]&1]
 		s0 += v0
 		s1 += v1
 		a[0] += v0
 		a[1] += v1
 	}
 	for ; j < len(row); j++ {
-		v := row[j] * f[math.Float32bits(y[j])>>31]
+		v := row[j] * f[mask[j]&1]
 		s0 += v
 		acc[j] += v
 	}
@@ -462,6 +501,30 @@ func addLeaky[T float](row, cc []T, ri T, factors [2]T) {
 	for j, cj := range c {
 		v := float32(ri) + cj
 		r[j] = v * f[math.Float32bits(v)>>31]
+	}
+}
+
+// addLeakySigns is addLeaky that also sets mask[j] to the sign bit of
+// ri + cc[j].
+func addLeakySigns[T float](row []T, mask []uint8, cc []T, ri T, factors [2]T) {
+	if is64[T]() {
+		f := [2]float64{float64(factors[0]), float64(factors[1])}
+		r, m, c := as64(row)[:len(cc)], mask[:len(cc)], as64(cc)
+		for j, cj := range c {
+			v := float64(ri) + cj
+			sign := math.Float64bits(v) >> 63
+			r[j] = v * f[sign]
+			m[j] = uint8(sign)
+		}
+		return
+	}
+	f := [2]float32{float32(factors[0]), float32(factors[1])}
+	r, m, c := as32(row)[:len(cc)], mask[:len(cc)], as32(cc)
+	for j, cj := range c {
+		v := float32(ri) + cj
+		sign := math.Float32bits(v) >> 31
+		r[j] = v * f[sign]
+		m[j] = uint8(sign)
 	}
 }
 
@@ -497,6 +560,7 @@ type e2eOp struct {
 	rc      buffer // row and column terms, (2, O, B, p)
 	rcShape tensor.Shape
 	rows    *rowCache // shared with the backward op of Wr
+	signs   *signs    // with the fused rectifier; shared with the backward op of the sums
 }
 
 func (op *e2eOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -507,9 +571,9 @@ func (op *e2eOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	d := op.dims
 	rc := op.rc.get(dt, op.rcShape)
 	if dt == tensor.Float64 {
-		e2eForward(&op.ts, d, op.opts, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
+		e2eForward(&op.ts, d, op.opts, op.rows, op.signs, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
 	} else {
-		e2eForward(&op.ts, d, op.opts, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
+		e2eForward(&op.ts, d, op.opts, op.rows, op.signs, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
 	}
 	return out, nil
 }
@@ -523,13 +587,13 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	d := op.dims
 	x, wr, wc := inputs[0], inputs[1], inputs[2]
 	sumsShape := tensor.Shape{3, d.O, d.B, d.P}
-	sums, err := op.fusedSums(output, grad, sumsShape)
+	sums, err := op.fusedSums(grad, sumsShape)
 	switch {
 	case err != nil:
 	case sums != nil: // the gradient of a node-major E2N after this one, summed as it is made
 	case op.opts.leaky:
-		es := &edgeSumsOp{base: op.derive(fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope), []tensor.Shape{op.out, op.out}, sumsShape), dims: d, slope: op.opts.slope}
-		sums, err = gorgonia.ApplyOp(es, grad, output)
+		es := &edgeSumsOp{base: op.derive(fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope), []tensor.Shape{op.out}, sumsShape), dims: d, slope: op.opts.slope, signs: op.signs}
+		sums, err = gorgonia.ApplyOp(es, grad)
 	default:
 		sums, err = gorgonia.ApplyOp(&edgeSumsOp{base: op.derive("E2ESums", []tensor.Shape{op.out}, sumsShape), dims: d}, grad)
 	}
@@ -640,7 +704,7 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 // otherwise sum the gradients of the readers first). It returns nil
 // otherwise. The E2N's own input-gradient node is then read by nobody,
 // and an executor that runs only what its outputs need skips it.
-func (op *e2eOp) fusedSums(output, grad *gorgonia.Node, sumsShape tensor.Shape) (*gorgonia.Node, error) {
+func (op *e2eOp) fusedSums(grad *gorgonia.Node, sumsShape tensor.Shape) (*gorgonia.Node, error) {
 	gx, ok := grad.Op().(*gradXOp)
 	d := op.dims
 	if !ok || gx.name != e2nGradXName || !gx.dims.inNodeMajor || !d.outNodeMajor || gx.dims.C != d.O || gx.dims.P != d.P || gx.dims.B != d.B {
@@ -656,8 +720,6 @@ func (op *e2eOp) fusedSums(output, grad *gorgonia.Node, sumsShape tensor.Shape) 
 	shapes := []tensor.Shape{gx.in[0], gx.in[1]}
 	name := "E2ESumsOfE2NGrad"
 	if op.opts.leaky {
-		in = append(in, output)
-		shapes = append(shapes, op.out)
 		name += fmt.Sprintf("(LeakyReLU %g)", op.opts.slope)
 	}
 	es := &e2nSumsOp{
@@ -665,6 +727,7 @@ func (op *e2eOp) fusedSums(output, grad *gorgonia.Node, sumsShape tensor.Shape) 
 		dims:         d,
 		inner:        gx.dims.O,
 		slope:        op.opts.slope,
+		signs:        op.signs,
 		scratchShape: tensor.Shape{d.B, min(sumsRowBlock, d.P), d.O * d.P},
 	}
 	return gorgonia.ApplyOp(es, in...)
@@ -677,27 +740,34 @@ const sumsRowBlock = 16
 // node-major E2N (Gt (B, p, O2) its output gradient as gradXOp reads it,
 // W (O2, C·p) its weights): each sample's dH'_n is made sumsRowBlock
 // rows at a time into a scratch tile and summed at once, so that the
-// batch-sized dH' is never stored. Inputs gt, w and, after a fused leaky
-// rectifier, the E2E output y; result (3, O, B, p) as edgeSums.
+// batch-sized dH' is never stored. Inputs gt and w (after a fused leaky
+// rectifier, the signs come from the forward op); result (3, O, B, p) as
+// edgeSums.
 type e2nSumsOp struct {
 	base
 	dims         filterDims // of the E2E
 	inner        int        // O2, the E2N's output channels
 	slope        float64
+	signs        *signs // of the forward op's fused rectifier, nil without
 	scratch      buffer
 	scratchShape tensor.Shape
 }
 
-func e2nSums[T float](op *e2nSumsOp, in []*tensor.Dense, out *tensor.Dense) {
-	var y []T
-	if len(in) == 3 {
-		y = slice[T](in[2])
+func e2nSums[T float](op *e2nSumsOp, in []*tensor.Dense, out *tensor.Dense) error {
+	var mask []uint8
+	if op.signs != nil {
+		d := op.dims
+		var err error
+		if mask, err = op.signs.read(d.B * d.O * d.P * d.P); err != nil {
+			return err
+		}
 	}
 	scratch := slice[T](op.scratch.get(dtypeOf[T](), op.scratchShape))
-	l := forEachSetup[T](&op.ts, op.dims, leakyFactors[T](op.slope), kE2NSums, slice[T](in[0]), slice[T](in[1]), y, slice[T](out), scratch)
-	l.inner = op.inner
+	l := forEachSetup[T](&op.ts, op.dims, leakyFactors[T](op.slope), kE2NSums, slice[T](in[0]), slice[T](in[1]), slice[T](out), scratch)
+	l.inner, l.mask = op.inner, mask
 	op.ts.pool.Run(l, op.dims.B)
 	l.clear()
+	return nil
 }
 
 func (op *e2nSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -706,17 +776,20 @@ func (op *e2nSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	if dt == tensor.Float64 {
-		e2nSums[float64](op, in, out)
+		err = e2nSums[float64](op, in, out)
 	} else {
-		e2nSums[float32](op, in, out)
+		err = e2nSums[float32](op, in, out)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("%v: %w", op, err)
 	}
 	return out, nil
 }
 
-// e2nSumsOf does sample n of e2nSumsOp: s = gt, w, y (nil without a
-// fused rectifier), sums, scratch.
+// e2nSumsOf does sample n of e2nSumsOp: s = gt, w, sums, scratch; the
+// signs in mask (nil without a fused rectifier).
 func e2nSumsOf[T float](l *loop[T], n int) {
-	gt, w, y, s, scratch := l.s[0], l.s[1], l.s[2], l.s[3], l.s[4]
+	gt, w, s, scratch, mask := l.s[0], l.s[1], l.s[2], l.s[3], l.mask
 	d := l.d
 	B, O, P, O2 := d.B, d.O, d.P, l.inner
 	OP := O * P
@@ -731,10 +804,10 @@ func e2nSumsOf[T float](l *loop[T], n int) {
 			for o := 0; o < O; o++ {
 				g := tile[(i-i0)*OP+o*P:][:P]
 				cc := s[d.termSize()+(o*B+n)*P:][:P]
-				if y == nil {
+				if mask == nil {
 					s[(o*B+n)*P+i] = sumAndAccumulate(g, cc)
 				} else {
-					s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g, y[d.outRow(n, o, i):][:P], cc, l.f)
+					s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g, mask[d.outRow(n, o, i):][:P], cc, l.f)
 				}
 			}
 		}
@@ -742,20 +815,26 @@ func e2nSumsOf[T float](l *loop[T], n int) {
 	transposeRowSums(d, s, n)
 }
 
-// edgeSumsOp: inputs dH (B, O, p, p) and, after a fused leaky rectifier,
-// the output H; result (3, O, B, p), see edgeSums.
+// edgeSumsOp: input dH (B, O, p, p) (after a fused leaky rectifier, the
+// signs of the output come from the forward op); result (3, O, B, p), see
+// edgeSums.
 type edgeSumsOp struct {
 	base
 	dims  filterDims
 	slope float64
+	signs *signs // of the forward op's fused rectifier, nil without
 }
 
-func sums[T float](op *edgeSumsOp, in []*tensor.Dense, out *tensor.Dense) {
-	var y []T
-	if len(in) == 2 {
-		y = slice[T](in[1])
+func sums[T float](op *edgeSumsOp, in []*tensor.Dense, out *tensor.Dense) error {
+	var mask []uint8
+	if op.signs != nil {
+		var err error
+		if mask, err = op.signs.read(in[0].Shape().TotalSize()); err != nil {
+			return err
+		}
 	}
-	edgeSums(&op.ts, op.dims, slice[T](in[0]), y, op.slope, slice[T](out))
+	edgeSums(&op.ts, op.dims, slice[T](in[0]), mask, op.slope, slice[T](out))
+	return nil
 }
 
 func (op *edgeSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -764,9 +843,12 @@ func (op *edgeSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	if dt == tensor.Float64 {
-		sums[float64](op, in, out)
+		err = sums[float64](op, in, out)
 	} else {
-		sums[float32](op, in, out)
+		err = sums[float32](op, in, out)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("%v: %w", op, err)
 	}
 	return out, nil
 }
