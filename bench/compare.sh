@@ -2,7 +2,9 @@
 # Side-by-side benchmark: the reference network trained through skein
 # (float32; the pure-Go build and the OpenBLAS build) and through PyTorch,
 # in alternating runs, at each size in SIZES. Prints the median seconds per
-# epoch of each and the ratios skein / PyTorch.
+# epoch of each and the ratios skein / PyTorch, and the arithmetic floor of
+# an epoch: its GFLOP over the rate of one large OpenBLAS sgemm on THREADS
+# threads (refnet -sgemm), measured in the same alternation.
 #
 # The PyTorch side is the shared script torch_reference.py, used as it is
 # from ${SHARED:-../shared}/bench/ (relative to the repository root), run
@@ -41,26 +43,36 @@ epoch() { sed -n 's/.*epoch median \([0-9.]*\) s.*/\1/p'; }
 median() { sort -g | awk '{v[NR]=$1} END {print (NR%2 ? v[(NR+1)/2] : (v[NR/2]+v[NR/2+1])/2)}'; }
 
 echo "load before: $(uptime)"
-declare -A times
+declare -A times gflop
+rates=""
 for p in $SIZES; do
   for ((r = 1; r <= REPS; r++)); do
-    for side in gonum openblas torch; do
+    for side in gonum openblas torch sgemm; do
       if [[ $side == torch ]]; then
         line=$("$PYTHON" "$TORCH_SCRIPT" "$p" "$N" "$BATCH" "$EPOCHS" "$THREADS" float32)
+      elif [[ $side == sgemm ]]; then
+        line=$("$bin/refnet-openblas" -sgemm -threads "$THREADS")
+        echo "  run $r: $line"
+        rates+="$(echo "$line" | sed -n 's/.*: \([0-9.]*\) GFLOP\/s.*/\1/p') "
+        continue
       else
         line=$("$bin/refnet-$side" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -threads 1 -dtype float32)
       fi
       echo "  run $r: $line"
       times[$p,$side]+="$(echo "$line" | epoch) "
+      [[ $side == openblas ]] && gflop[$p]=$(echo "$line" | sed -n 's/.*; \([0-9.]*\) GFLOP an epoch.*/\1/p')
     done
   done
 done
 echo "load after: $(uptime)"
 echo
-printf '%-6s %12s %12s %12s %14s %14s\n' p "torch s" "openblas s" "pure-Go s" "openblas/torch" "pure-Go/torch"
+rate=$(echo "$rates" | tr ' ' '\n' | grep . | median)
+echo "OpenBLAS sgemm on $THREADS threads: median $rate GFLOP/s"
+printf '%-6s %12s %12s %12s %14s %14s %10s %14s\n' p "torch s" "openblas s" "pure-Go s" "openblas/torch" "pure-Go/torch" "floor s" "openblas/floor"
 for p in $SIZES; do
   t=$(echo "${times[$p,torch]}" | tr ' ' '\n' | grep . | median)
   o=$(echo "${times[$p,openblas]}" | tr ' ' '\n' | grep . | median)
   g=$(echo "${times[$p,gonum]}" | tr ' ' '\n' | grep . | median)
-  awk -v p="$p" -v t="$t" -v o="$o" -v g="$g" 'BEGIN {printf "%-6s %12.3f %12.3f %12.3f %14.2f %14.2f\n", p, t, o, g, o/t, g/t}'
+  awk -v p="$p" -v t="$t" -v o="$o" -v g="$g" -v f="${gflop[$p]}" -v r="$rate" \
+    'BEGIN {printf "%-6s %12.3f %12.3f %12.3f %14.2f %14.2f %10.3f %14.2f\n", p, t, o, g, o/t, g/t, f/r, o/(f/r)}'
 done

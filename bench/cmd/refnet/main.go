@@ -11,6 +11,7 @@
 //
 //	refnet [-p 116] [-n 275] [-batch 16] [-epochs 5] [-dtype float32] [-threads T] [-cpuprofile FILE] [-memprofile FILE]
 //	refnet -folds K -jobs J [-threads T] [-procs C] ...
+//	refnet -sgemm [-threads T]
 //
 // The first form trains one network on all n participants and prints the
 // median time of the epochs after the first (which builds the graphs). The
@@ -19,6 +20,11 @@
 // OpenBLAS thread count (default 1, as skein's commands run it: each
 // network spreads its products over GOMAXPROCS goroutines itself;
 // ignored by the pure-Go build); -procs sets GOMAXPROCS.
+//
+// The third prints the rate of the BLAS in use on one large float32
+// product (2048 × 2048 × 2048, the median of 9 after one warm-up) with T
+// OpenBLAS threads: the rate from which bench/compare.sh computes the
+// arithmetic floor of an epoch in the same run.
 //
 // Arithmetic is counted as 2·m·n·k per matrix product, forward and backward,
 // for the e2e, e2n, n2g and head layers (elementwise work is not counted):
@@ -39,6 +45,8 @@ import (
 	"syscall"
 	"time"
 
+	gonumblas "gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas32"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/skein-neuro/skein/data"
@@ -64,6 +72,7 @@ func main() {
 	dtype := flag.String("dtype", "float32", "float32 or float64")
 	threads := flag.Int("threads", 1, "OpenBLAS threads (0: leave as OpenBLAS chose)")
 	procs := flag.Int("procs", 0, "GOMAXPROCS (0: leave as is)")
+	sgemm := flag.Bool("sgemm", false, "print the rate of one large float32 product instead of training")
 	folds := flag.Int("folds", 0, "train one network per fold of a K-fold split (0: one network on everyone)")
 	jobs := flag.Int("jobs", 1, "networks trained at once with -folds")
 	cpuprofile := flag.String("cpuprofile", "", "write a CPU profile to `FILE`")
@@ -84,6 +93,11 @@ func main() {
 			fail(err)
 		}
 		defer pprof.StopCPUProfile()
+	}
+	if *sgemm {
+		const size = 2048
+		fmt.Printf("sgemm blas=%s n=%d threads=%d: %.1f GFLOP/s\n", blas.Name(), size, blas.Threads(), sgemmRate(size))
+		return
 	}
 	ps, y := cohort(*n, *p, 1)
 	cfg := graphnet.Config{
@@ -168,6 +182,27 @@ func main() {
 		"%.0f allocations a step; max RSS %.0f MiB, data %.0f MiB, model %.0f MiB\n",
 		label, med, *epochs, times[0], gflop, gflop/med,
 		float64(after.Mallocs-before.Mallocs)/steps, maxRSS(), dataMiB, modelMiB(*p, *batch, *dtype))
+}
+
+// sgemmRate returns the GFLOP/s of C = A·B on size × size float32
+// matrices through the BLAS in use: the median of 9 products after one
+// that warms up.
+func sgemmRate(size int) float64 {
+	a := make([]float32, size*size)
+	for i := range a {
+		a[i] = float32(i%7) - 3
+	}
+	b, c := slices.Clone(a), make([]float32, size*size)
+	impl := blas32.Implementation()
+	var rates []float64
+	for r := range 10 {
+		start := time.Now()
+		impl.Sgemm(gonumblas.NoTrans, gonumblas.NoTrans, size, size, size, 1, a, size, b, size, 0, c, size)
+		if r > 0 {
+			rates = append(rates, 2*math.Pow(float64(size), 3)/time.Since(start).Seconds()/1e9)
+		}
+	}
+	return median(rates)
 }
 
 // flopsPerParticipant counts the multiply-adds (2 flops each) of one

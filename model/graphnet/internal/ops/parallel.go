@@ -48,11 +48,8 @@ func (t *gemmTask[T]) tiles() int {
 	return ceilDiv(t.m, t.tm) * t.tilesAlong
 }
 
-// Chunk computes tile i, row-major over the tiles. A tile is computed
-// the same way whoever runs it. (Gonum's serial kernels do not block the
-// sum over k as its parallel Gemm does, which changes the last bits of
-// some products against an untiled product, but not between runs; making
-// the tiles block k as well was measured slower.)
+// Chunk computes tile i, row-major over the tiles (see gemmTile). A tile
+// is computed the same way whoever runs it.
 func (t *gemmTask[T]) Chunk(i int) {
 	i0, j0 := (i/t.tilesAlong)*t.tm, (i%t.tilesAlong)*t.tn
 	m, n := min(t.tm, t.m-i0), min(t.tn, t.n-j0)
@@ -67,7 +64,7 @@ func (t *gemmTask[T]) Chunk(i int) {
 	} else {
 		b = t.b[j0:] // columns j0… of op(B) = B
 	}
-	gemm(t.tA, t.tB, m, n, t.k, t.alpha, a, t.lda, b, t.ldb, t.beta, t.c[i0*t.ldc+j0:], t.ldc)
+	gemmTile(t.tA, t.tB, m, n, t.k, t.alpha, a, t.lda, b, t.ldb, t.beta, t.c[i0*t.ldc+j0:], t.ldc)
 }
 
 // serial computes every tile on the calling goroutine: the product inside

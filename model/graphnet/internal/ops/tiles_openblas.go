@@ -21,3 +21,8 @@ func tileSizes(m, n int) (tm, tn int) {
 	}
 	return m, piece(n)
 }
+
+// gemmTile computes one tile of a product: OpenBLAS blocks it itself.
+func gemmTile[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
+	gemm(tA, tB, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
+}
