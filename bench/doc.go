@@ -2,8 +2,10 @@
 // side-by-side comparison (see README.md, section "Speed"):
 //
 //   - compare.sh trains the reference network through skein (pure-Go and
-//     OpenBLAS builds) and through PyTorch, in alternating runs, and prints
-//     seconds per epoch and the ratios;
+//     OpenBLAS builds) and through PyTorch, in alternating runs, times one
+//     large OpenBLAS sgemm in the same alternation (refnet -sgemm), and
+//     prints seconds per epoch, the ratios to PyTorch and to the
+//     arithmetic floor;
 //   - parallel.sh times a K-fold run of the reference network on one core
 //     and on two with each kind of parallelism (the numbers behind
 //     train.ChooseParallelism);
