@@ -33,8 +33,10 @@
 //     have other shapes (another batch size) fails with an error naming the
 //     op; build one graph per batch size;
 //   - the backward op of the weights of E2E and E2N reads the permuted copy
-//     of x made by its forward op, so it must run after that forward op in
-//     the same step (gorgonia's order always does this).
+//     of x made by its forward op, and the backward sums of an E2E with a
+//     fused rectifier read the signs its forward op kept, so they must run
+//     after that forward op in the same step (any topological order does:
+//     they read its output's gradient).
 //
 // Options: an op whose data input is participant data rather than the
 // output of another op does not need the gradient with respect to that

@@ -591,11 +591,13 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 	switch {
 	case err != nil:
 	case sums != nil: // the gradient of a node-major E2N after this one, summed as it is made
-	case op.opts.leaky:
-		es := &edgeSumsOp{base: op.derive(fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope), []tensor.Shape{op.out}, sumsShape), dims: d, slope: op.opts.slope, signs: op.signs}
-		sums, err = gorgonia.ApplyOp(es, grad)
 	default:
-		sums, err = gorgonia.ApplyOp(&edgeSumsOp{base: op.derive("E2ESums", []tensor.Shape{op.out}, sumsShape), dims: d}, grad)
+		name := "E2ESums"
+		if op.opts.leaky {
+			name = fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope)
+		}
+		es := &edgeSumsOp{base: op.derive(name, []tensor.Shape{op.out}, sumsShape), dims: d, slope: op.opts.slope, signs: op.signs}
+		sums, err = gorgonia.ApplyOp(es, grad)
 	}
 	if err != nil {
 		return nil, err
