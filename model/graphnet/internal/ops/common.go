@@ -257,6 +257,24 @@ func (b *base) Hashcode() uint32 {
 	return h.Sum32()
 }
 
+// runKernel checks vals against op's shapes and runs the float64 or the
+// float32 instance of a kernel on them and op's output buffer, which it
+// returns; a kernel's error is wrapped with op's name.
+func runKernel[O fmt.Stringer](op O, b *base, vals []gorgonia.Value, k64, k32 func(O, []*tensor.Dense, *tensor.Dense) error) (gorgonia.Value, error) {
+	in, out, dt, err := b.inputs(vals)
+	if err != nil {
+		return nil, err
+	}
+	k := k32
+	if dt == tensor.Float64 {
+		k = k64
+	}
+	if err := k(op, in, out); err != nil {
+		return nil, fmt.Errorf("%v: %w", op, err)
+	}
+	return out, nil
+}
+
 // inputs checks vals and returns them with the output buffer.
 func (b *base) inputs(vals []gorgonia.Value) ([]*tensor.Dense, *tensor.Dense, tensor.Dtype, error) {
 	in := b.inBuf[:len(b.in)]

@@ -773,19 +773,7 @@ func e2nSums[T float](op *e2nSumsOp, in []*tensor.Dense, out *tensor.Dense) erro
 }
 
 func (op *e2nSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
-	in, out, dt, err := op.inputs(vals)
-	if err != nil {
-		return nil, err
-	}
-	if dt == tensor.Float64 {
-		err = e2nSums[float64](op, in, out)
-	} else {
-		err = e2nSums[float32](op, in, out)
-	}
-	if err != nil {
-		return nil, fmt.Errorf("%v: %w", op, err)
-	}
-	return out, nil
+	return runKernel(op, &op.base, vals, e2nSums[float64], e2nSums[float32])
 }
 
 // e2nSumsOf does sample n of e2nSumsOp: s = gt, w, sums, scratch; the
@@ -840,19 +828,7 @@ func sums[T float](op *edgeSumsOp, in []*tensor.Dense, out *tensor.Dense) error 
 }
 
 func (op *edgeSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
-	in, out, dt, err := op.inputs(vals)
-	if err != nil {
-		return nil, err
-	}
-	if dt == tensor.Float64 {
-		err = sums[float64](op, in, out)
-	} else {
-		err = sums[float32](op, in, out)
-	}
-	if err != nil {
-		return nil, fmt.Errorf("%v: %w", op, err)
-	}
-	return out, nil
+	return runKernel(op, &op.base, vals, sums[float64], sums[float32])
 }
 
 // transposeOp: (a, b, c) -> (b, a, c).
@@ -906,7 +882,7 @@ func newGradXOp(parent *base, name string, d filterDims, in []tensor.Shape, out 
 	}
 }
 
-func gradX[T float](op *gradXOp, in []*tensor.Dense, out *tensor.Dense) {
+func gradX[T float](op *gradXOp, in []*tensor.Dense, out *tensor.Dense) error {
 	d := op.dims
 	g, dx := slice[T](in[0]), slice[T](out)
 	gt := g[op.rowsT:]
@@ -918,24 +894,16 @@ func gradX[T float](op *gradXOp, in []*tensor.Dense, out *tensor.Dense) {
 	}
 	if d.rowsAreInput() {
 		rowGradX(&op.ts, d, gt, slice[T](in[1]), dx, withCols)
-		return
+		return nil
 	}
 	dxr := slice[T](op.dxr.get(dtypeOf[T](), op.dxrShape))
 	rowGradX(&op.ts, d, gt, slice[T](in[1]), dxr, false)
 	unpermute(&op.ts, d, dxr, dx, withCols)
+	return nil
 }
 
 func (op *gradXOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
-	in, out, dt, err := op.inputs(vals)
-	if err != nil {
-		return nil, err
-	}
-	if dt == tensor.Float64 {
-		gradX[float64](op, in, out)
-	} else {
-		gradX[float32](op, in, out)
-	}
-	return out, nil
+	return runKernel(op, &op.base, vals, gradX[float64], gradX[float32])
 }
 
 // gradWOp: the gradient with respect to the weights of a row term (reading
@@ -964,19 +932,7 @@ func gradW[T float](op *gradWOp, in []*tensor.Dense, out *tensor.Dense) error {
 }
 
 func (op *gradWOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
-	in, out, dt, err := op.inputs(vals)
-	if err != nil {
-		return nil, err
-	}
-	if dt == tensor.Float64 {
-		err = gradW[float64](op, in, out)
-	} else {
-		err = gradW[float32](op, in, out)
-	}
-	if err != nil {
-		return nil, fmt.Errorf("%v: %w", op, err)
-	}
-	return out, nil
+	return runKernel(op, &op.base, vals, gradW[float64], gradW[float32])
 }
 
 // biasGradOp: the gradient with respect to a per-channel bias; input g,
