@@ -4,6 +4,7 @@ import (
 	"math"
 
 	"github.com/skein-neuro/skein/internal/parallel"
+	"github.com/skein-neuro/skein/internal/vec"
 )
 
 // An optimizer updates weights in place from their gradients. It holds the
@@ -76,6 +77,8 @@ func newOptimizerOf[T float32 | float64](cfg OptimizerConfig, ws, gs []any, pool
 //	m ← β1·m + (1 − β1)·g
 //	v ← β2·v + (1 − β2)·g²
 //	w ← w − (η/(1 − β1^t))·m / (sqrt(v)/sqrt(1 − β2^t) + ε)
+//
+// in the weights' own arithmetic, as vec.Adam.Step orders it.
 type adamW[T float32 | float64] struct {
 	w, g, m, v               [][]T
 	beta1, beta2, eps, decay float64
@@ -83,35 +86,27 @@ type adamW[T float32 | float64] struct {
 	t                        int
 	spans                    []span
 	pool                     *parallel.Pool
-
-	// The factors of the current step.
-	stepSize, keep T
-	invRootBC2     float64
+	factors                  vec.Adam[T] // of the current step
 }
 
 func (o *adamW[T]) step(rate float64) {
 	clipGlobalNorm(o.g, o.clip)
 	o.t++
-	o.stepSize = T(rate / (1 - math.Pow(o.beta1, float64(o.t))))
-	o.invRootBC2 = 1 / math.Sqrt(1-math.Pow(o.beta2, float64(o.t)))
-	o.keep = T(1 - rate*o.decay)
+	o.factors = vec.Adam[T]{
+		Beta1:      T(o.beta1),
+		Beta2:      T(o.beta2),
+		Eps:        T(o.eps),
+		Keep:       T(1 - rate*o.decay),
+		StepSize:   T(rate / (1 - math.Pow(o.beta1, float64(o.t)))),
+		InvRootBC2: T(1 / math.Sqrt(1-math.Pow(o.beta2, float64(o.t)))),
+	}
 	o.pool.Run(o, len(o.spans))
 }
 
 // Chunk updates the weights of span c.
 func (o *adamW[T]) Chunk(c int) {
 	s := o.spans[c]
-	w := o.w[s.i][s.lo:s.hi]
-	g, m, v := o.g[s.i][s.lo:s.hi], o.m[s.i][s.lo:s.hi], o.v[s.i][s.lo:s.hi]
-	g, m, v = g[:len(w)], m[:len(w)], v[:len(w)]
-	b1, b2 := T(o.beta1), T(o.beta2)
-	eps, keep, stepSize, invRootBC2 := T(o.eps), o.keep, o.stepSize, o.invRootBC2
-	for j := range w {
-		m[j] = b1*m[j] + (1-b1)*g[j]
-		v[j] = b2*v[j] + (1-b2)*g[j]*g[j]
-		denom := T(math.Sqrt(float64(v[j]))*invRootBC2) + eps
-		w[j] = w[j]*keep - stepSize*m[j]/denom
-	}
+	o.factors.Step(o.w[s.i][s.lo:s.hi], o.g[s.i][s.lo:s.hi], o.m[s.i][s.lo:s.hi], o.v[s.i][s.lo:s.hi])
 }
 
 // sgd is stochastic gradient descent with momentum μ and L2 weight decay λ,

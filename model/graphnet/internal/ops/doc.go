@@ -34,7 +34,8 @@
 //     op; build one graph per batch size;
 //   - the backward op of the weights of E2E and E2N reads the permuted copy
 //     of x made by its forward op, and the backward sums of an E2E with a
-//     fused rectifier read the signs its forward op kept, so they must run
+//     fused rectifier read the row and column terms its forward op kept
+//     (to recompute the signs of the rectifier's input), so they must run
 //     after that forward op in the same step (any topological order does:
 //     they read its output's gradient).
 //

@@ -2,10 +2,11 @@ package ops
 
 import (
 	"fmt"
-	"math"
 
 	"gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
+
+	"github.com/skein-neuro/skein/internal/vec"
 )
 
 // E2E is the edge-to-edge cross-shaped filter of Kawahara et al. (2017):
@@ -48,12 +49,10 @@ func E2E(x, wr, wc, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 		base:    newBase(fmt.Sprintf("E2E(%v→%v)", xs, out), shapes, out, o.pool),
 		dims:    filterDims{B: B, C: C, O: O, P: P, outNodeMajor: o.nodeMajor},
 		opts:    o,
+		terms:   new(buffer),
 		rcShape: tensor.Shape{2, O, B, P},
 	}
 	op.rows = newRowCache(op.dims)
-	if o.leaky {
-		op.signs = new(signs)
-	}
 	return gorgonia.ApplyOp(op, x, wr, wc, b)
 }
 
@@ -305,64 +304,49 @@ func biasGrad[T float](d filterDims, g, db []T) {
 	}
 }
 
-// e2eForward computes the row and column terms into rc (2, O, B, p) and
-// then, in one fused loop, H[n,o,i,j] = R[o,n,i] + Cc[o,n,j] + b[o], put
-// through the leaky rectifier if opt.leaky.
-func e2eForward[T float](ts *tasks, d filterDims, opt options, cache *rowCache, sg *signs, x, wr, wc, b, rc, h []T) {
+// e2eForward computes the row and column terms into rc (2, O, B, p), adds
+// the bias to the row terms, R'[o,n,i] = R[o,n,i] + b[o], and then, in one
+// loop, H[n,o,i,j] = R'[o,n,i] + Cc[o,n,j], put through the leaky
+// rectifier if opt.leaky. The backward pass of the rectifier recomputes
+// the signs of its input from rc.
+func e2eForward[T float](ts *tasks, d filterDims, opt options, cache *rowCache, x, wr, wc, b, rc, h []T) {
 	rowTerm(ts, d, fillRows(ts, d, cache, x), wr, rc)
 	colTerm(ts, d, x, wc, rc[d.termSize():])
+	BP := d.B * d.P
+	for o, bo := range b[:d.O] {
+		for i := range rc[o*BP:][:BP] {
+			rc[o*BP+i] += bo
+		}
+	}
 	f := [2]T{1, 1} // no rectifier: v·1 is v, bit for bit
 	if opt.leaky {
 		f = leakyFactors[T](opt.slope)
 	}
-	l := forEachSetup(ts, d, f, kE2ESum, rc, b, h)
-	if opt.leaky {
-		l.mask = sg.fill(len(h))
-	}
-	ts.pool.Run(l, d.B)
-	l.clear()
+	forEach(ts, d.B, d, f, kE2ESum, rc, h)
 }
 
-// signs holds the sign bits of an E2E output put through its fused
-// rectifier, one byte a value: the forward op writes them and the
-// backward op reads them for the rectifier's derivative, a quarter of the
-// memory traffic of reading the output itself. (The output has the sign
-// of the rectifier's input, for any slope ≥ 0.)
-type signs struct{ b []uint8 }
-
-// fill returns the buffer for n signs, to be filled.
-func (s *signs) fill(n int) []uint8 {
-	if len(s.b) != n {
-		s.b = make([]uint8, n)
-	}
-	return s.b
-}
-
-// read returns the n signs the forward pass filled.
-func (s *signs) read(n int) ([]uint8, error) {
-	if len(s.b) != n {
+// preActivations returns the terms (2, O, B, p) of an E2E's forward pass
+// (row terms with the bias, then column terms) from which the backward
+// pass of its fused rectifier recomputes the rectifier's input
+// R'[o,n,i] + Cc[o,n,j]: the same sum, so the same sign, as the forward
+// pass saw.
+func preActivations[T float](terms *buffer, d filterDims) ([]T, error) {
+	if terms.t == nil || terms.t.Dtype() != dtypeOf[T]() || terms.t.Shape().TotalSize() != 2*d.termSize() {
 		return nil, fmt.Errorf("ops: backward pass run before its forward pass")
 	}
-	return s.b, nil
+	return slice[T](terms.t), nil
 }
 
-// e2eSumOf does sample n of the fused loop of e2eForward: s = rc, b, h.
-// It walks the rows of h in memory order (channel by channel, or node by
+// e2eSumOf does sample n of the fused loop of e2eForward: s = rc, h. It
+// walks the rows of h in memory order (channel by channel, or node by
 // node when node-major).
 func e2eSumOf[T float](l *loop[T], n int) {
-	rc, b, h := l.s[0], l.s[1], l.s[2]
+	rc, h := l.s[0], l.s[1]
 	d := l.d
-	row := func(o, i int) {
-		r := rc[(o*d.B+n)*d.P+i]
-		cc := rc[d.termSize()+(o*d.B+n)*d.P:][:d.P]
+	forRows(d, func(o, i int) {
 		at := d.outRow(n, o, i)
-		if l.mask == nil {
-			addLeaky(h[at:][:d.P], cc, r+b[o], l.f)
-		} else {
-			addLeakySigns(h[at:][:d.P], l.mask[at:][:d.P], cc, r+b[o], l.f)
-		}
-	}
-	forRows(d, row)
+		vec.LeakyRow(h[at:][:d.P], rc[d.termSize()+(o*d.B+n)*d.P:][:d.P], rc[(o*d.B+n)*d.P+i], l.f)
+	})
 }
 
 // forRows calls row(o, i) for every row of an E2E output sample in the
@@ -383,35 +367,38 @@ func forRows(d filterDims, row func(o, i int)) {
 	}
 }
 
-// edgeSums sets s (3, O, B, p) to the row sums dR[o,n,i] = Σ_j G[n,o,i,j],
-// the column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p), and the
-// row sums again laid out as (B, p, O), dRt[n,i,o] = dR[o,n,i]. With
-// mask (the signs of the output of an E2E with WithLeakyReLU, laid out as
-// g), G is g times the derivative of the rectifier.
-func edgeSums[T float](ts *tasks, d filterDims, g []T, mask []uint8, slope float64, s []T) {
-	l := forEachSetup(ts, d, leakyFactors[T](slope), kEdgeSums, g, s)
-	l.mask = mask
-	ts.pool.Run(l, d.B)
-	l.clear()
+// rowSums returns the sum of row i of channel o of sample n of an E2E
+// output gradient, g, and adds the row to that channel's column sums cc.
+// With pre (the forward pass's terms, see preActivations) the gradient is
+// first multiplied by the fused rectifier's derivative, f[s] with s the
+// sign bit of its input.
+func rowSums[T float](d filterDims, n, o, i int, g, cc, pre []T, f [2]T) T {
+	if pre == nil {
+		return sumAndAccumulate(g, cc)
+	}
+	return vec.LeakySumAcc(g, pre[d.termSize()+(o*d.B+n)*d.P:][:d.P], pre[(o*d.B+n)*d.P+i], f, cc)
 }
 
-// edgeSumsOf does sample n of edgeSums: s = g, sums; the signs in mask
-// (nil without a fused rectifier).
+// edgeSums sets s (3, O, B, p) to the row sums dR[o,n,i] = Σ_j G[n,o,i,j],
+// the column sums dC[o,n,j] = Σ_i G[n,o,i,j] of g (B, O, p, p), and the
+// row sums again laid out as (B, p, O), dRt[n,i,o] = dR[o,n,i]. With pre
+// (the terms of the forward pass of an E2E with WithLeakyReLU, see
+// preActivations), G is g times the derivative of the rectifier.
+func edgeSums[T float](ts *tasks, d filterDims, g, pre []T, slope float64, s []T) {
+	forEach(ts, d.B, d, leakyFactors[T](slope), kEdgeSums, g, s, pre)
+}
+
+// edgeSumsOf does sample n of edgeSums: s = g, sums, pre (nil without a
+// fused rectifier).
 func edgeSumsOf[T float](l *loop[T], n int) {
-	g, s, mask := l.s[0], l.s[1], l.mask
+	g, s, pre := l.s[0], l.s[1], l.s[2]
 	d := l.d
 	B, O, P := d.B, d.O, d.P
 	for o := 0; o < O; o++ {
 		clear(s[d.termSize()+(o*B+n)*P:][:P])
 	}
 	forRows(d, func(o, i int) {
-		at := d.outRow(n, o, i)
-		cc := s[d.termSize()+(o*B+n)*P:][:P]
-		if mask == nil {
-			s[(o*B+n)*P+i] = sumAndAccumulate(g[at:][:P], cc)
-		} else {
-			s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g[at:][:P], mask[at:][:P], cc, l.f)
-		}
+		s[(o*B+n)*P+i] = rowSums(d, n, o, i, g[d.outRow(n, o, i):][:P], s[d.termSize()+(o*B+n)*P:][:P], pre, l.f)
 	})
 	transposeRowSums(d, s, n)
 }
@@ -425,106 +412,6 @@ func transposeRowSums[T float](d filterDims, s []T, n int) {
 		for i, v := range s[(o*B+n)*P:][:P] {
 			rt[i*O+o] = v
 		}
-	}
-}
-
-// sumAndAccumulateLeaky is sumAndAccumulate of row[j]·f[mask[j]]. It
-// dispatches to loops on concrete types: generic code would reload its
-// dictionary for every element.
-func sumAndAccumulateLeaky[T float](row []T, mask []uint8, acc []T, f [2]T) T {
-	if is64[T]() {
-		return T(sumAccLeaky64(as64(row), mask, as64(acc), [2]float64{float64(f[0]), float64(f[1])}))
-	}
-	return T(sumAccLeaky32(as32(row), mask, as32(acc), [2]float32{float32(f[0]), float32(f[1])}))
-}
-
-func sumAccLeaky64(row []float64, mask []uint8, acc []float64, f [2]float64) float64 {
-	acc, mask = acc[:len(row)], mask[:len(row)]
-	var s0, s1 float64
-	j := 0
-	for ; j+2 <= len(row); j += 2 {
-		v := row[j : j+2 : j+2]
-		m := mask[j : j+2 : j+2]
-		a := acc[j : j+2 : j+2]
-		v0 := v[0] * f[m[0]&1]
-		v1 := v[1] * f[m[1]&1]
-		s0 += v0
-		s1 += v1
-		a[0] += v0
-		a[1] += v1
-	}
-	for ; j < len(row); j++ {
-		v := row[j] * f[mask[j]&1]
-		s0 += v
-		acc[j] += v
-	}
-	return s0 + s1
-}
-
-func sumAccLeaky32(row []float32, mask []uint8, acc []float32, f [2]float32) float32 {
-	acc, mask = acc[:len(row)], mask[:len(row)]
-	var s0, s1 float32
-	j := 0
-	for ; j+2 <= len(row); j += 2 {
-		v := row[j : j+2 : j+2]
-		m := mask[j : j+2 : j+2]
-		a := acc[j : j+2 : j+2]
-		v0 := v[0] * f[m[0]&1]
-		v1 := v[1] * f[m[1]&1]
-		s0 += v0
-		s1 += v1
-		a[0] += v0
-		a[1] += v1
-	}
-	for ; j < len(row); j++ {
-		v := row[j] * f[mask[j]&1]
-		s0 += v
-		acc[j] += v
-	}
-	return s0 + s1
-}
-
-// addLeaky sets row[j] = (ri + cc[j])·f[its sign bit], on concrete types
-// (see sumAndAccumulateLeaky).
-func addLeaky[T float](row, cc []T, ri T, factors [2]T) {
-	if is64[T]() {
-		f := [2]float64{float64(factors[0]), float64(factors[1])}
-		r, c := as64(row)[:len(cc)], as64(cc)
-		for j, cj := range c {
-			v := float64(ri) + cj
-			r[j] = v * f[math.Float64bits(v)>>63]
-		}
-		return
-	}
-	f := [2]float32{float32(factors[0]), float32(factors[1])}
-	r, c := as32(row)[:len(cc)], as32(cc)
-	for j, cj := range c {
-		v := float32(ri) + cj
-		r[j] = v * f[math.Float32bits(v)>>31]
-	}
-}
-
-// addLeakySigns is addLeaky that also sets mask[j] to the sign bit of
-// ri + cc[j].
-func addLeakySigns[T float](row []T, mask []uint8, cc []T, ri T, factors [2]T) {
-	if is64[T]() {
-		f := [2]float64{float64(factors[0]), float64(factors[1])}
-		r, m, c := as64(row)[:len(cc)], mask[:len(cc)], as64(cc)
-		for j, cj := range c {
-			v := float64(ri) + cj
-			sign := math.Float64bits(v) >> 63
-			r[j] = v * f[sign]
-			m[j] = uint8(sign)
-		}
-		return
-	}
-	f := [2]float32{float32(factors[0]), float32(factors[1])}
-	r, m, c := as32(row)[:len(cc)], mask[:len(cc)], as32(cc)
-	for j, cj := range c {
-		v := float32(ri) + cj
-		sign := math.Float32bits(v) >> 31
-		r[j] = v * f[sign]
-		m[j] = uint8(sign)
 	}
 }
 
@@ -557,10 +444,9 @@ type e2eOp struct {
 	base
 	dims    filterDims
 	opts    options
-	rc      buffer // row and column terms, (2, O, B, p)
+	terms   *buffer // row terms with the bias and column terms, (2, O, B, p); read by the backward sums of a fused rectifier
 	rcShape tensor.Shape
 	rows    *rowCache // shared with the backward op of Wr
-	signs   *signs    // with the fused rectifier; shared with the backward op of the sums
 }
 
 func (op *e2eOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -569,11 +455,11 @@ func (op *e2eOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		return nil, err
 	}
 	d := op.dims
-	rc := op.rc.get(dt, op.rcShape)
+	rc := op.terms.get(dt, op.rcShape)
 	if dt == tensor.Float64 {
-		e2eForward(&op.ts, d, op.opts, op.rows, op.signs, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
+		e2eForward(&op.ts, d, op.opts, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](in[3]), slice[float64](rc), slice[float64](out))
 	} else {
-		e2eForward(&op.ts, d, op.opts, op.rows, op.signs, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
+		e2eForward(&op.ts, d, op.opts, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](in[3]), slice[float32](rc), slice[float32](out))
 	}
 	return out, nil
 }
@@ -596,7 +482,7 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 		if op.opts.leaky {
 			name = fmt.Sprintf("E2ESums(LeakyReLU %g)", op.opts.slope)
 		}
-		es := &edgeSumsOp{base: op.derive(name, []tensor.Shape{op.out}, sumsShape), dims: d, slope: op.opts.slope, signs: op.signs}
+		es := &edgeSumsOp{base: op.derive(name, []tensor.Shape{op.out}, sumsShape), dims: d, slope: op.opts.slope, pre: op.preTerms()}
 		sums, err = gorgonia.ApplyOp(es, grad)
 	}
 	if err != nil {
@@ -622,6 +508,15 @@ func (op *e2eOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 		return nil, err
 	}
 	return grads, nil
+}
+
+// preTerms returns the buffer of terms the backward pass of the fused
+// rectifier reads, nil without a rectifier.
+func (op *e2eOp) preTerms() *buffer {
+	if !op.opts.leaky {
+		return nil
+	}
+	return op.terms
 }
 
 // e2nGradXName names the input-gradient op of an E2N (see fusedSums).
@@ -729,7 +624,7 @@ func (op *e2eOp) fusedSums(grad *gorgonia.Node, sumsShape tensor.Shape) (*gorgon
 		dims:         d,
 		inner:        gx.dims.O,
 		slope:        op.opts.slope,
-		signs:        op.signs,
+		pre:          op.preTerms(),
 		scratchShape: tensor.Shape{d.B, d.P, sumsChannelBlock(d.O, d.P) * d.P},
 	}
 	return gorgonia.ApplyOp(es, in...)
@@ -765,23 +660,22 @@ type e2nSumsOp struct {
 	dims         filterDims // of the E2E
 	inner        int        // O2, the E2N's output channels
 	slope        float64
-	signs        *signs // of the forward op's fused rectifier, nil without
+	pre          *buffer // the forward op's terms, with a fused rectifier (see preActivations); nil without
 	scratch      buffer
 	scratchShape tensor.Shape
 }
 
 func e2nSums[T float](op *e2nSumsOp, in []*tensor.Dense, out *tensor.Dense) error {
-	var mask []uint8
-	if op.signs != nil {
-		d := op.dims
+	var pre []T
+	if op.pre != nil {
 		var err error
-		if mask, err = op.signs.read(d.B * d.O * d.P * d.P); err != nil {
+		if pre, err = preActivations[T](op.pre, op.dims); err != nil {
 			return err
 		}
 	}
 	scratch := slice[T](op.scratch.get(dtypeOf[T](), op.scratchShape))
-	l := forEachSetup[T](&op.ts, op.dims, leakyFactors[T](op.slope), kE2NSums, slice[T](in[0]), slice[T](in[1]), slice[T](out), scratch)
-	l.inner, l.mask = op.inner, mask
+	l := forEachSetup(&op.ts, op.dims, leakyFactors[T](op.slope), kE2NSums, slice[T](in[0]), slice[T](in[1]), slice[T](out), scratch, pre)
+	l.inner = op.inner
 	op.ts.pool.Run(l, op.dims.B)
 	l.clear()
 	return nil
@@ -791,11 +685,11 @@ func (op *e2nSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	return runKernel(op, &op.base, vals, e2nSums[float64], e2nSums[float32])
 }
 
-// e2nSumsOf does sample n of e2nSumsOp: s = gt, w, sums, scratch; the
-// signs in mask (nil without a fused rectifier). Each column sum adds the
-// rows in order, as edgeSumsOf does.
+// e2nSumsOf does sample n of e2nSumsOp: s = gt, w, sums, scratch, pre
+// (nil without a fused rectifier). Each column sum adds the rows in
+// order, as edgeSumsOf does.
 func e2nSumsOf[T float](l *loop[T], n int) {
-	gt, w, s, scratch, mask := l.s[0], l.s[1], l.s[2], l.s[3], l.mask
+	gt, w, s, scratch, pre := l.s[0], l.s[1], l.s[2], l.s[3], l.s[4]
 	d := l.d
 	B, O, P, O2 := d.B, d.O, d.P, l.inner
 	block := sumsChannelBlock(O, P)
@@ -808,13 +702,7 @@ func e2nSumsOf[T float](l *loop[T], n int) {
 		serialGemm(false, false, P, cols, O2, 1, gt[n*P*O2:], O2, w[o0*P:], O*P, 0, tile, cols)
 		for i := 0; i < P; i++ {
 			for o := o0; o < o0+cols/P; o++ {
-				g := tile[i*cols+(o-o0)*P:][:P]
-				cc := s[d.termSize()+(o*B+n)*P:][:P]
-				if mask == nil {
-					s[(o*B+n)*P+i] = sumAndAccumulate(g, cc)
-				} else {
-					s[(o*B+n)*P+i] = sumAndAccumulateLeaky(g, mask[d.outRow(n, o, i):][:P], cc, l.f)
-				}
+				s[(o*B+n)*P+i] = rowSums(d, n, o, i, tile[i*cols+(o-o0)*P:][:P], s[d.termSize()+(o*B+n)*P:][:P], pre, l.f)
 			}
 		}
 	}
@@ -828,18 +716,18 @@ type edgeSumsOp struct {
 	base
 	dims  filterDims
 	slope float64
-	signs *signs // of the forward op's fused rectifier, nil without
+	pre   *buffer // the forward op's terms, with a fused rectifier (see preActivations); nil without
 }
 
 func sums[T float](op *edgeSumsOp, in []*tensor.Dense, out *tensor.Dense) error {
-	var mask []uint8
-	if op.signs != nil {
+	var pre []T
+	if op.pre != nil {
 		var err error
-		if mask, err = op.signs.read(in[0].Shape().TotalSize()); err != nil {
+		if pre, err = preActivations[T](op.pre, op.dims); err != nil {
 			return err
 		}
 	}
-	edgeSums(&op.ts, op.dims, slice[T](in[0]), mask, op.slope, slice[T](out))
+	edgeSums(&op.ts, op.dims, slice[T](in[0]), pre, op.slope, slice[T](out))
 	return nil
 }
 

@@ -115,9 +115,8 @@ type loop[T float] struct {
 	d      filterDims
 	f      [2]T // factors of a leaky rectifier, when the body needs them
 	s      [5][]T
-	len    int     // of the slices split by forRanges
-	inner  int     // the inner size of a kernel's product, when it needs one
-	mask   []uint8 // signs of a fused rectifier, when the kernel needs them
+	len    int // of the slices split by forRanges
+	inner  int // the inner size of a kernel's product, when it needs one
 }
 
 // kernel names the body of a loop. (A func value of a generic function
@@ -189,7 +188,7 @@ func forEachSetup[T float](ts *tasks, d filterDims, f [2]T, k kernel, s ...[]T) 
 }
 
 // clear drops the loop's operands, so that it holds no buffer after a run.
-func (l *loop[T]) clear() { l.s, l.mask = [5][]T{}, nil }
+func (l *loop[T]) clear() { l.s = [5][]T{} }
 
 // rangeSize is the number of elements in a chunk of forRanges.
 const rangeSize = 1 << 14

@@ -1,0 +1,13 @@
+//go:build !(goexperiment.simd && amd64)
+
+package vec
+
+const simd = false
+
+func leakyRow32(h, c []float32, r float32, f [2]float32) { leakyRowPlain(h, c, r, f) }
+
+func leakySumAcc32(g, c []float32, r float32, f [2]float32, acc []float32) float32 {
+	return leakySumAccPlain(g, c, r, f, acc)
+}
+
+func adam32(a Adam[float32], w, g, m, v []float32) { adamPlain(a, w, g, m, v) }

@@ -1,0 +1,93 @@
+//go:build goexperiment.simd && amd64
+
+package vec
+
+import "simd/archsimd"
+
+// simd: the float32 loops run on Float32x8 vectors (AVX2).
+var simd = archsimd.X86.AVX2()
+
+// leakyRow32 is LeakyRow on float32, eight columns a vector, the columns
+// left in one vector padded with zeros.
+func leakyRow32(h, c []float32, r float32, f [2]float32) {
+	if !simd {
+		leakyRowPlain(h, c, r, f)
+		return
+	}
+	h = h[:len(c)]
+	rv := archsimd.BroadcastFloat32x8(r)
+	one, slope := archsimd.BroadcastFloat32x8(f[0]), archsimd.BroadcastFloat32x8(f[1])
+	rectify := func(c archsimd.Float32x8) archsimd.Float32x8 {
+		v := rv.Add(c)
+		return v.Mul(slope.Merge(one, v.AsInt32x8().Less(archsimd.Int32x8{})))
+	}
+	j := 0
+	for ; j+8 <= len(c); j += 8 {
+		rectify(archsimd.LoadFloat32x8Slice(c[j:])).StoreSlice(h[j:])
+	}
+	if j < len(c) {
+		rectify(archsimd.LoadFloat32x8SlicePart(c[j:])).StoreSlicePart(h[j:])
+	}
+}
+
+// leakySumAcc32 is LeakySumAcc on float32: lane k of the vector sum is
+// partial sum k, eight columns a vector; the columns left are one vector
+// padded with zeros, as LeakySumAcc states.
+func leakySumAcc32(g, c []float32, r float32, f [2]float32, acc []float32) float32 {
+	if !simd {
+		return leakySumAccPlain(g, c, r, f, acc)
+	}
+	c, acc = c[:len(g)], acc[:len(g)]
+	rv := archsimd.BroadcastFloat32x8(r)
+	one, slope := archsimd.BroadcastFloat32x8(f[0]), archsimd.BroadcastFloat32x8(f[1])
+	terms := func(g, c archsimd.Float32x8) archsimd.Float32x8 {
+		return g.Mul(slope.Merge(one, rv.Add(c).AsInt32x8().Less(archsimd.Int32x8{})))
+	}
+	var sum archsimd.Float32x8
+	j := 0
+	for ; j+8 <= len(g); j += 8 {
+		v := terms(archsimd.LoadFloat32x8Slice(g[j:]), archsimd.LoadFloat32x8Slice(c[j:]))
+		sum = sum.Add(v)
+		archsimd.LoadFloat32x8Slice(acc[j:]).Add(v).StoreSlice(acc[j:])
+	}
+	if j < len(g) {
+		v := terms(archsimd.LoadFloat32x8SlicePart(g[j:]), archsimd.LoadFloat32x8SlicePart(c[j:]))
+		sum = sum.Add(v)
+		archsimd.LoadFloat32x8SlicePart(acc[j:]).Add(v).StoreSlicePart(acc[j:])
+	}
+	var s [8]float32
+	sum.Store(&s)
+	return reduce8(s)
+}
+
+// adam32 is Adam.Step on float32, eight weights a vector, the weights left
+// in one vector padded with zeros (whose results are not stored).
+func adam32(a Adam[float32], w, g, m, v []float32) {
+	if !simd {
+		adamPlain(a, w, g, m, v)
+		return
+	}
+	g, m, v = g[:len(w)], m[:len(w)], v[:len(w)]
+	b1, b2 := archsimd.BroadcastFloat32x8(a.Beta1), archsimd.BroadcastFloat32x8(a.Beta2)
+	omb1, omb2 := archsimd.BroadcastFloat32x8(1-a.Beta1), archsimd.BroadcastFloat32x8(1-a.Beta2)
+	eps, keep := archsimd.BroadcastFloat32x8(a.Eps), archsimd.BroadcastFloat32x8(a.Keep)
+	stepSize, invRootBC2 := archsimd.BroadcastFloat32x8(a.StepSize), archsimd.BroadcastFloat32x8(a.InvRootBC2)
+	update := func(w, g, m, v archsimd.Float32x8) (archsimd.Float32x8, archsimd.Float32x8, archsimd.Float32x8) {
+		m = b1.Mul(m).Add(omb1.Mul(g))
+		v = b2.Mul(v).Add(omb2.Mul(g).Mul(g))
+		return w.Mul(keep).Sub(stepSize.Mul(m).Div(v.Sqrt().Mul(invRootBC2).Add(eps))), m, v
+	}
+	j := 0
+	for ; j+8 <= len(w); j += 8 {
+		wj, mj, vj := update(archsimd.LoadFloat32x8Slice(w[j:]), archsimd.LoadFloat32x8Slice(g[j:]), archsimd.LoadFloat32x8Slice(m[j:]), archsimd.LoadFloat32x8Slice(v[j:]))
+		wj.StoreSlice(w[j:])
+		mj.StoreSlice(m[j:])
+		vj.StoreSlice(v[j:])
+	}
+	if j < len(w) {
+		wj, mj, vj := update(archsimd.LoadFloat32x8SlicePart(w[j:]), archsimd.LoadFloat32x8SlicePart(g[j:]), archsimd.LoadFloat32x8SlicePart(m[j:]), archsimd.LoadFloat32x8SlicePart(v[j:]))
+		wj.StoreSlicePart(w[j:])
+		mj.StoreSlicePart(m[j:])
+		vj.StoreSlicePart(v[j:])
+	}
+}
