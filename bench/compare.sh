@@ -1,6 +1,7 @@
 #!/usr/bin/env bash
 # Side-by-side benchmark: the reference network trained through skein
-# (float32; the pure-Go build and the OpenBLAS build) and through PyTorch,
+# (float32; the pure-Go build and the fast build, OpenBLAS with the vector
+# loops of GOEXPERIMENT=simd: see bench/build.sh) and through PyTorch,
 # in alternating runs, at each size in SIZES. Prints the median seconds per
 # epoch of each and the ratios skein / PyTorch, and the arithmetic floor of
 # an epoch: its GFLOP over the rate of one large OpenBLAS sgemm on THREADS
@@ -12,6 +13,7 @@
 #
 # usage: bench/compare.sh            (from the repository root)
 # knobs: SIZES="116 268" N=275 BATCH=16 EPOCHS=4 REPS=3 THREADS=2 SHARED=../shared
+#        VECTOR=0 (the OpenBLAS build without the vector loops)
 #
 # THREADS is PyTorch's thread count. skein uses every core (GOMAXPROCS)
 # through its own goroutines, with single-threaded OpenBLAS products:
@@ -34,8 +36,9 @@ PYTHON=${PYTHON:-/usr/bin/python3}
 
 bin=$(mktemp -d)
 trap 'rm -rf "$bin"' EXIT
-go build -o "$bin/refnet-gonum" ./bench/cmd/refnet
-CGO_LDFLAGS=-lopenblas go build -tags openblas -o "$bin/refnet-openblas" ./bench/cmd/refnet
+# shellcheck source=bench/build.sh
+source bench/build.sh
+build_refnet "$bin"
 
 # epoch prints the median seconds per epoch from a result line of refnet or
 # of torch_reference.py ("... epoch median 1.234 s ...").

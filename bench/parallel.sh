@@ -12,6 +12,7 @@
 #
 # usage: bench/parallel.sh   (from the repository root)
 # knobs: SIZES="68 116 268" BUILDS="gonum openblas" N=275 BATCH=16 EPOCHS=2 FOLDS=5
+#        VECTOR=0 (the OpenBLAS build without the vector loops, see bench/build.sh)
 set -euo pipefail
 cd "$(dirname "$0")/.."
 SIZES=${SIZES:-"68 116 268"}
@@ -23,8 +24,9 @@ FOLDS=${FOLDS:-5}
 
 bin=$(mktemp -d)
 trap 'rm -rf "$bin"' EXIT
-go build -o "$bin/refnet-gonum" ./bench/cmd/refnet
-CGO_LDFLAGS=-lopenblas go build -tags openblas -o "$bin/refnet-openblas" ./bench/cmd/refnet
+# shellcheck source=bench/build.sh
+source bench/build.sh
+build_refnet "$bin"
 wall() { sed -n 's/.*wall \([0-9.]*\) s.*/\1/p'; }
 
 echo "load before: $(uptime)"

@@ -7,6 +7,7 @@
 #
 # usage: bench/scaling.sh   (from the repository root)
 # knobs: PS="68 116 268 400" NS="100 275 550" BUILDS="openblas gonum"
+#        VECTOR=0 (the OpenBLAS build without the vector loops, see bench/build.sh)
 #        EPOCHS=3 BATCH=16
 # skein runs its products single-threaded inside OpenBLAS and spreads
 # them, with its other loops, over GOMAXPROCS goroutines (all cores).
@@ -20,8 +21,9 @@ BATCH=${BATCH:-16}
 
 bin=$(mktemp -d)
 trap 'rm -rf "$bin"' EXIT
-go build -o "$bin/refnet-gonum" ./bench/cmd/refnet
-CGO_LDFLAGS=-lopenblas go build -tags openblas -o "$bin/refnet-openblas" ./bench/cmd/refnet
+# shellcheck source=bench/build.sh
+source bench/build.sh
+build_refnet "$bin"
 
 row() { # build p n
   "$bin/refnet-$1" -p "$2" -n "$3" -batch "$BATCH" -epochs "$EPOCHS" -threads 1 |

@@ -7,6 +7,10 @@
 // e2e 32 channels, e2n 64, n2g 128, head 64 → 32 → 1, leaky ReLU 0.2, loss
 // mean|e| + mean e², Adam at rate 1e-3, batches of 16.
 //
+// It names the BLAS in use and whether the element loops run on vectors
+// (a build with GOEXPERIMENT=simd on a processor with AVX2; see package
+// internal/vec).
+//
 // Usage:
 //
 //	refnet [-p 116] [-n 275] [-batch 16] [-epochs 5] [-dtype float32] [-threads T] [-cpuprofile FILE] [-memprofile FILE]
@@ -51,6 +55,7 @@ import (
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/internal/blas"
+	"github.com/skein-neuro/skein/internal/vec"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/model/graphnet"
 )
@@ -123,7 +128,7 @@ func main() {
 		fail(err)
 	}
 	ctx := context.Background()
-	label := fmt.Sprintf("skein blas=%s p=%d n=%d batch=%d threads=%d procs=%d %s", blas.Name(), *p, *n, *batch, blas.Threads(), runtime.GOMAXPROCS(0), *dtype)
+	label := fmt.Sprintf("skein blas=%s vector=%t p=%d n=%d batch=%d threads=%d procs=%d %s", blas.Name(), vec.SIMD(), *p, *n, *batch, blas.Threads(), runtime.GOMAXPROCS(0), *dtype)
 	flops := flopsPerParticipant(*p)
 	if *folds > 0 {
 		start := time.Now()
