@@ -10,4 +10,8 @@ func leakySumAcc32(g, c []float32, r float32, f [2]float32, acc []float32) float
 	return leakySumAccPlain(g, c, r, f, acc)
 }
 
+func leakySumsAcc32(g []float32, ld int, c, r []float32, f [2]float32, acc, sums []float32) {
+	leakySumsAccPlain(g, ld, c, r, f, acc, sums)
+}
+
 func adam32(a Adam[float32], w, g, m, v []float32) { adamPlain(a, w, g, m, v) }

@@ -71,6 +71,20 @@ func LeakySumAcc[T Float](g, c []T, r T, f [2]T, acc []T) T {
 	return T(reduce8(s))
 }
 
+// LeakySumsAcc is LeakySumAcc for the rows of a matrix, added to acc in
+// order, row 0 first: row i is g[i·ld:][:len(c)], its rectifier's input
+// r[i] + c[j], and sums[i] is set to its sum. len(sums) must be at least
+// len(r).
+func LeakySumsAcc[T Float](g []T, ld int, c, r []T, f [2]T, acc, sums []T) {
+	if is32[T]() {
+		leakySumsAcc32(as32(g), ld, as32(c), as32(r), [2]float32{float32(f[0]), float32(f[1])}, as32(acc), as32(sums))
+		return
+	}
+	for i, ri := range r {
+		sums[i] = LeakySumAcc(g[i*ld:][:len(c)], c, ri, f, acc)
+	}
+}
+
 // Adam holds the factors of one step of Adam with decoupled weight decay
 // (see Step).
 type Adam[T Float] struct {
@@ -145,6 +159,13 @@ func leakySumAccPlain(g, c []float32, r float32, f [2]float32, acc []float32) fl
 		s7 += term(j + 7)
 	}
 	return reduce8([8]float32{s0, s1, s2, s3, s4, s5, s6, s7})
+}
+
+// leakySumsAccPlain is LeakySumsAcc on float32, one row at a time.
+func leakySumsAccPlain(g []float32, ld int, c, r []float32, f [2]float32, acc, sums []float32) {
+	for i, ri := range r {
+		sums[i] = leakySumAccPlain(g[i*ld:][:len(c)], c, ri, f, acc)
+	}
 }
 
 // reduce8 adds the eight partial sums in the order LeakySumAcc states.

@@ -69,6 +69,24 @@ func TestLeakySumAccSameAsPlain(t *testing.T) {
 	}
 }
 
+func TestLeakySumsAccSameAsPlain(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 14))
+	f := [2]float32{1, 0.2}
+	for _, n := range lengths {
+		for _, rows := range []int{0, 1, 3, 4, 5, 9} {
+			ld := n + 3 // rows that are not contiguous
+			g, c, acc, r := randomRow(rng, rows*ld), randomRow(rng, n), randomRow(rng, n), randomRow(rng, rows)
+			gotAcc, wantAcc := append([]float32(nil), acc...), append([]float32(nil), acc...)
+			got, want := make([]float32, rows), make([]float32, rows)
+			LeakySumsAcc(g, ld, c, r, f, gotAcc, got)
+			leakySumsAccPlain(g, ld, c, r, f, wantAcc, want)
+			if !same32(got, want) || !same32(gotAcc, wantAcc) {
+				t.Errorf("n = %d, %d rows: got %v and %v, want %v and %v", n, rows, got, gotAcc, want, wantAcc)
+			}
+		}
+	}
+}
+
 func TestAdamSameAsPlain(t *testing.T) {
 	rng := rand.New(rand.NewPCG(5, 6))
 	a := Adam[float32]{Beta1: 0.9, Beta2: 0.999, Eps: 1e-8, Keep: 1 - 1e-3*1e-2, StepSize: 1e-3 / (1 - 0.9*0.9), InvRootBC2: float32(1 / math.Sqrt(1-0.999*0.999))}
@@ -121,6 +139,16 @@ func BenchmarkLeakySumAcc(b *testing.B) {
 	}
 }
 
+func BenchmarkLeakySumsAcc(b *testing.B) {
+	const p = 116
+	rng := rand.New(rand.NewPCG(7, 8))
+	g, c, r, acc, sums := randomRow(rng, p*p), randomRow(rng, p), randomRow(rng, p), make([]float32, p), make([]float32, p)
+	b.SetBytes(p * p * 4)
+	for b.Loop() {
+		LeakySumsAcc(g, p, c, r, [2]float32{1, 0.2}, acc, sums)
+	}
+}
+
 func BenchmarkLeakyRow(b *testing.B) {
 	rng := rand.New(rand.NewPCG(9, 10))
 	h, c := make([]float32, 116), randomRow(rng, 116)
@@ -140,3 +168,7 @@ func BenchmarkAdam(b *testing.B) {
 		a.Step(w, g, m, v)
 	}
 }
+
+// TestVectorLoopsInUse says whether this build runs the float32 loops on
+// vectors, so that CI can check that its fast build tested them.
+func TestVectorLoopsInUse(t *testing.T) { t.Logf("vector loops: %t", SIMD()) }

@@ -12,7 +12,8 @@ import (
 // one-channel p × p input, e2e 32, e2n 64, n2g 128, head 64 → 32 → 1,
 // leaky ReLU 0.2, loss mean|e| + mean e², AdamW at rate 1e-3, batches of
 // 16, N = 275 invented participants, p = 116. Run it with -benchmem, and
-// with -tags openblas (CGO_LDFLAGS=-lopenblas) for OpenBLAS.
+// with -tags openblas (CGO_LDFLAGS=-lopenblas) for OpenBLAS and
+// GOEXPERIMENT=simd for the vector loops of package internal/vec.
 func BenchmarkEpoch(b *testing.B) {
 	const n, p = 275, 116
 	ps, y := plantedCohort(n, p, 0.5, 1)

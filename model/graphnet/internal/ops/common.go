@@ -43,10 +43,10 @@ func NoInputGrad() Option { return func(o *options) { o.noInputGrad = true } }
 // WithLeakyReLU makes E2E apply the leaky rectifier of LeakyReLU to its
 // output in the same pass: E2E(x, wr, wc, b, WithLeakyReLU(s)) equals
 // LeakyReLU(E2E(x, wr, wc, b), s) and saves a pass over, and a buffer of,
-// the (B, O, p, p) output forward and backward; the forward pass keeps
-// the sign of each value, a byte each, for the backward pass. slope must
-// be ≥ 0 (so that the output has the sign of the input). Only E2E
-// accepts it.
+// the (B, O, p, p) output forward and backward; the backward pass
+// recomputes the sign of each of the rectifier's inputs from the row and
+// column terms the forward pass kept (2·O·B·p values). slope must be ≥ 0.
+// Only E2E accepts it.
 func WithLeakyReLU(slope float64) Option {
 	return func(o *options) { o.leaky, o.slope = true, slope }
 }

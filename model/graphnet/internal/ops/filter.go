@@ -120,6 +120,15 @@ func (d filterDims) outRow(n, o, i int) int {
 	return ((n*d.O+o)*d.P + i) * d.P
 }
 
+// outRowStride returns the distance between rows i and i+1 of one channel
+// of an E2E output.
+func (d filterDims) outRowStride() int {
+	if d.outNodeMajor {
+		return d.O * d.P
+	}
+	return d.P
+}
+
 // rowsAreInput reports whether Xrow is x itself: one input channel, or a
 // node-major input.
 func (d filterDims) rowsAreInput() bool { return d.C == 1 || d.inNodeMajor }
@@ -367,16 +376,22 @@ func forRows(d filterDims, row func(o, i int)) {
 	}
 }
 
-// rowSums returns the sum of row i of channel o of sample n of an E2E
-// output gradient, g, and adds the row to that channel's column sums cc.
-// With pre (the forward pass's terms, see preActivations) the gradient is
-// first multiplied by the fused rectifier's derivative, f[s] with s the
-// sign bit of its input.
-func rowSums[T float](d filterDims, n, o, i int, g, cc, pre []T, f [2]T) T {
+// channelSums sets the row sums and the column sums (the rows added in
+// order) of channel o of sample n of an E2E output gradient, whose row i
+// is g[i·ld:][:p], in s (3, O, B, p) as edgeSums lays them out. With pre (the forward pass's terms, see preActivations)
+// the gradient is first multiplied by the fused rectifier's derivative,
+// f[s] with s the sign bit of its input.
+func channelSums[T float](d filterDims, n, o int, g []T, ld int, s, pre []T, f [2]T) {
+	at := (o*d.B + n) * d.P
+	cc, sums := s[d.termSize()+at:][:d.P], s[at:][:d.P]
+	clear(cc)
 	if pre == nil {
-		return sumAndAccumulate(g, cc)
+		for i := range sums {
+			sums[i] = sumAndAccumulate(g[i*ld:][:d.P], cc)
+		}
+		return
 	}
-	return vec.LeakySumAcc(g, pre[d.termSize()+(o*d.B+n)*d.P:][:d.P], pre[(o*d.B+n)*d.P+i], f, cc)
+	vec.LeakySumsAcc(g, ld, pre[d.termSize()+at:][:d.P], pre[at:][:d.P], f, cc, sums)
 }
 
 // edgeSums sets s (3, O, B, p) to the row sums dR[o,n,i] = Σ_j G[n,o,i,j],
@@ -393,13 +408,9 @@ func edgeSums[T float](ts *tasks, d filterDims, g, pre []T, slope float64, s []T
 func edgeSumsOf[T float](l *loop[T], n int) {
 	g, s, pre := l.s[0], l.s[1], l.s[2]
 	d := l.d
-	B, O, P := d.B, d.O, d.P
-	for o := 0; o < O; o++ {
-		clear(s[d.termSize()+(o*B+n)*P:][:P])
+	for o := 0; o < d.O; o++ {
+		channelSums(d, n, o, g[d.outRow(n, o, 0):], d.outRowStride(), s, pre, l.f)
 	}
-	forRows(d, func(o, i int) {
-		s[(o*B+n)*P+i] = rowSums(d, n, o, i, g[d.outRow(n, o, i):][:P], s[d.termSize()+(o*B+n)*P:][:P], pre, l.f)
-	})
 	transposeRowSums(d, s, n)
 }
 
@@ -653,8 +664,8 @@ func sumsChannelBlock(O, P int) int {
 // W (O2, C·p) its weights): each sample's dH'_n is made a few channels at
 // a time (sumsChannelBlock) into a scratch tile and summed at once, so
 // that the batch-sized dH' is never stored. Inputs gt and w (after a
-// fused leaky rectifier, the signs come from the forward op); result
-// (3, O, B, p) as edgeSums.
+// fused leaky rectifier, the rectifier's inputs come from the forward
+// op's terms); result (3, O, B, p) as edgeSums.
 type e2nSumsOp struct {
 	base
 	dims         filterDims // of the E2E
@@ -691,27 +702,22 @@ func (op *e2nSumsOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 func e2nSumsOf[T float](l *loop[T], n int) {
 	gt, w, s, scratch, pre := l.s[0], l.s[1], l.s[2], l.s[3], l.s[4]
 	d := l.d
-	B, O, P, O2 := d.B, d.O, d.P, l.inner
+	O, P, O2 := d.O, d.P, l.inner
 	block := sumsChannelBlock(O, P)
 	tile := scratch[n*P*block*P:][:P*block*P]
-	for o := 0; o < O; o++ {
-		clear(s[d.termSize()+(o*B+n)*P:][:P])
-	}
 	for o0 := 0; o0 < O; o0 += block {
 		cols := min(block, O-o0) * P
 		serialGemm(false, false, P, cols, O2, 1, gt[n*P*O2:], O2, w[o0*P:], O*P, 0, tile, cols)
-		for i := 0; i < P; i++ {
-			for o := o0; o < o0+cols/P; o++ {
-				s[(o*B+n)*P+i] = rowSums(d, n, o, i, tile[i*cols+(o-o0)*P:][:P], s[d.termSize()+(o*B+n)*P:][:P], pre, l.f)
-			}
+		for o := o0; o < o0+cols/P; o++ {
+			channelSums(d, n, o, tile[(o-o0)*P:], cols, s, pre, l.f)
 		}
 	}
 	transposeRowSums(d, s, n)
 }
 
 // edgeSumsOp: input dH (B, O, p, p) (after a fused leaky rectifier, the
-// signs of the output come from the forward op); result (3, O, B, p), see
-// edgeSums.
+// rectifier's inputs come from the forward op's terms); result
+// (3, O, B, p), see edgeSums.
 type edgeSumsOp struct {
 	base
 	dims  filterDims
