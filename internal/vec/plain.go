@@ -6,10 +6,6 @@ const simd = false
 
 func leakyRow32(h, c []float32, r float32, f [2]float32) { leakyRowPlain(h, c, r, f) }
 
-func leakySumAcc32(g, c []float32, r float32, f [2]float32, acc []float32) float32 {
-	return leakySumAccPlain(g, c, r, f, acc)
-}
-
 func leakySumsAcc32(g []float32, ld int, c, r []float32, f [2]float32, acc, sums []float32) {
 	leakySumsAccPlain(g, ld, c, r, f, acc, sums)
 }

@@ -30,9 +30,9 @@ func leakyRow32(h, c []float32, r float32, f [2]float32) {
 	}
 }
 
-// leakySumAcc32 is LeakySumAcc on float32: lane k of the vector sum is
-// partial sum k, eight columns a vector; the columns left are one vector
-// padded with zeros, as LeakySumAcc states.
+// leakySumAcc32 is LeakySumsAcc of one row on float32: lane k of the
+// vector sum is partial sum k, eight columns a vector; the columns left
+// are one vector padded with zeros, as LeakySumsAcc states.
 func leakySumAcc32(g, c []float32, r float32, f [2]float32, acc []float32) float32 {
 	if !simd {
 		return leakySumAccPlain(g, c, r, f, acc)

@@ -41,48 +41,43 @@ func LeakyRow[T Float](h, c []T, r T, f [2]T) {
 	}
 }
 
-// LeakySumAcc returns Σ_j g[j]·f[s_j], s_j the sign bit of r + c[j], and
-// adds each term to acc[j]: the sums of the gradient g of one row of a
-// leaky rectifier's output over its columns and over its rows, the
-// rectifier's input being r + c[j] (as for LeakyRow). len(c) and len(acc)
-// must be at least len(g).
+// LeakySumsAcc takes the gradient g of the rows of a leaky rectifier's
+// output and, for row i (g[i·ld:][:len(c)], the rectifier's input being
+// r[i] + c[j]), sets sums[i] = Σ_j g[i,j]·f[s_ij], s_ij the sign bit of
+// r[i] + c[j], and adds each term to acc[j], row 0 first: the row and
+// column sums of one channel of an edge-to-edge layer's output gradient.
+// len(acc) must be at least len(c), len(sums) at least len(r).
 //
-// The sum is kept in eight partial sums, term j in sum j mod 8, as the
-// eight lanes of a vector would keep it. When len(g) is not a multiple of
-// 8, the row is padded to one with g = c = 0, whose terms 0·f[s] go into
-// the sums as well (they are zeros, but their signs can matter when a sum
-// is zero). The partial sums are added at the end as
+// A row's sum is kept in eight partial sums, term j in sum j mod 8, as
+// the eight lanes of a vector would keep it. When len(c) is not a
+// multiple of 8, the row is padded to one with g = c = 0, whose terms
+// 0·f[s] go into the sums as well (they are zeros, but their signs can
+// matter when a sum is zero). The partial sums are added at the end as
 // ((s0+s4)+(s2+s6))+((s1+s5)+(s3+s7)).
-func LeakySumAcc[T Float](g, c []T, r T, f [2]T, acc []T) T {
-	if is32[T]() {
-		return T(leakySumAcc32(as32(g), as32(c), float32(r), [2]float32{float32(f[0]), float32(f[1])}, as32(acc)))
-	}
-	g64, c64, acc64 := as64(g), as64(c)[:len(g)], as64(acc)[:len(g)]
-	r64, f64 := float64(r), [2]float64{float64(f[0]), float64(f[1])}
-	var s [8]float64
-	for j, gj := range g64 {
-		v := gj * f64[math.Float64bits(r64+c64[j])>>63]
-		s[j&7] += v
-		acc64[j] += v
-	}
-	for j := len(g); j&7 != 0; j++ { // the padding
-		s[j&7] += 0 * f64[math.Float64bits(r64+0)>>63]
-	}
-	return T(reduce8(s))
-}
-
-// LeakySumsAcc is LeakySumAcc for the rows of a matrix, added to acc in
-// order, row 0 first: row i is g[i·ld:][:len(c)], its rectifier's input
-// r[i] + c[j], and sums[i] is set to its sum. len(sums) must be at least
-// len(r).
 func LeakySumsAcc[T Float](g []T, ld int, c, r []T, f [2]T, acc, sums []T) {
 	if is32[T]() {
 		leakySumsAcc32(as32(g), ld, as32(c), as32(r), [2]float32{float32(f[0]), float32(f[1])}, as32(acc), as32(sums))
 		return
 	}
 	for i, ri := range r {
-		sums[i] = LeakySumAcc(g[i*ld:][:len(c)], c, ri, f, acc)
+		sums[i] = T(leakySumAcc64(as64(g[i*ld:][:len(c)]), as64(c), float64(ri), [2]float64{float64(f[0]), float64(f[1])}, as64(acc)))
 	}
+}
+
+// leakySumAcc64 is LeakySumsAcc of one row on float64: it returns the
+// row's sum.
+func leakySumAcc64(g, c []float64, r float64, f [2]float64, acc []float64) float64 {
+	c, acc = c[:len(g)], acc[:len(g)]
+	var s [8]float64
+	for j, gj := range g {
+		v := gj * f[math.Float64bits(r+c[j])>>63]
+		s[j&7] += v
+		acc[j] += v
+	}
+	for j := len(g); j&7 != 0; j++ { // the padding
+		s[j&7] += 0 * f[math.Float64bits(r+0)>>63]
+	}
+	return reduce8(s)
 }
 
 // Adam holds the factors of one step of Adam with decoupled weight decay
@@ -135,8 +130,9 @@ func leakyRowPlain(h, c []float32, r float32, f [2]float32) {
 	}
 }
 
-// leakySumAccPlain is LeakySumAcc on float32, one element at a time,
-// eight to a round so that the partial sums stay in registers.
+// leakySumAccPlain is LeakySumsAcc of one row on float32, one element at
+// a time, eight to a round so that the partial sums stay in registers; it
+// returns the row's sum.
 func leakySumAccPlain(g, c []float32, r float32, f [2]float32, acc []float32) float32 {
 	c, acc = c[:len(g)], acc[:len(g)]
 	term := func(j int) float32 {
@@ -168,7 +164,7 @@ func leakySumsAccPlain(g []float32, ld int, c, r []float32, f [2]float32, acc, s
 	}
 }
 
-// reduce8 adds the eight partial sums in the order LeakySumAcc states.
+// reduce8 adds the eight partial sums in the order LeakySumsAcc states.
 func reduce8[T Float](s [8]T) T {
 	return ((s[0] + s[4]) + (s[2] + s[6])) + ((s[1] + s[5]) + (s[3] + s[7]))
 }
