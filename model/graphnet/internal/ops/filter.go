@@ -338,8 +338,11 @@ func e2eForward[T float](ts *tasks, d filterDims, opt options, cache *rowCache, 
 // (row terms with the bias, then column terms) from which the backward
 // pass of its fused rectifier recomputes the rectifier's input
 // R'[o,n,i] + Cc[o,n,j]: the same sum, so the same sign, as the forward
-// pass saw.
+// pass saw. It returns nil for nil terms (no fused rectifier).
 func preActivations[T float](terms *buffer, d filterDims) ([]T, error) {
+	if terms == nil {
+		return nil, nil
+	}
 	if terms.t == nil || terms.t.Dtype() != dtypeOf[T]() || terms.t.Shape().TotalSize() != 2*d.termSize() {
 		return nil, fmt.Errorf("ops: backward pass run before its forward pass")
 	}
@@ -677,12 +680,9 @@ type e2nSumsOp struct {
 }
 
 func e2nSums[T float](op *e2nSumsOp, in []*tensor.Dense, out *tensor.Dense) error {
-	var pre []T
-	if op.pre != nil {
-		var err error
-		if pre, err = preActivations[T](op.pre, op.dims); err != nil {
-			return err
-		}
+	pre, err := preActivations[T](op.pre, op.dims)
+	if err != nil {
+		return err
 	}
 	scratch := slice[T](op.scratch.get(dtypeOf[T](), op.scratchShape))
 	l := forEachSetup(&op.ts, op.dims, leakyFactors[T](op.slope), kE2NSums, slice[T](in[0]), slice[T](in[1]), slice[T](out), scratch, pre)
@@ -726,12 +726,9 @@ type edgeSumsOp struct {
 }
 
 func sums[T float](op *edgeSumsOp, in []*tensor.Dense, out *tensor.Dense) error {
-	var pre []T
-	if op.pre != nil {
-		var err error
-		if pre, err = preActivations[T](op.pre, op.dims); err != nil {
-			return err
-		}
+	pre, err := preActivations[T](op.pre, op.dims)
+	if err != nil {
+		return err
 	}
 	edgeSums(&op.ts, op.dims, slice[T](in[0]), pre, op.slope, slice[T](out))
 	return nil
