@@ -36,12 +36,12 @@ func ExamplePearson() {
 // JSON of metrics.json.
 func ExampleSummarize() {
 	csv := `participant_id,model,target,repeat,fold,observed,predicted
-sub-01,ridge,attention,0,0,12,13
-sub-02,ridge,attention,0,0,15,14
-sub-03,ridge,attention,0,0,9,11
-sub-04,ridge,attention,0,1,20,17
-sub-05,ridge,attention,0,1,17,18
-sub-06,ridge,attention,0,1,11,10
+sub-01,ridge,attention,1,1,12,13
+sub-02,ridge,attention,1,1,15,14
+sub-03,ridge,attention,1,1,9,11
+sub-04,ridge,attention,1,2,20,17
+sub-05,ridge,attention,1,2,17,18
+sub-06,ridge,attention,1,2,11,10
 `
 	rows, header, err := eval.ReadPredictions(strings.NewReader(csv), "predictions.csv")
 	if err != nil {

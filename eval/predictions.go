@@ -47,7 +47,7 @@ func (h Header) Has(column string) bool {
 
 // HasFolds reports whether the file has a fold column, so that per-fold
 // figures can be computed. Without a repeat column every fold belongs to
-// repeat 0.
+// the first repeat.
 func (h Header) HasFolds() bool { return h.Has(ColumnFold) }
 
 // Extra returns the columns ReadPredictions does not read, in file order.
@@ -107,7 +107,9 @@ func (e *ParseError) Unwrap() error { return e.Err }
 // observed and predicted cells are numbers as strconv.ParseFloat reads them;
 // an empty cell, "NaN" or "NA" (any case) is a missing value, read as NaN
 // and later skipped and counted by the metrics. Infinite values are
-// errors. repeat and fold cells are integers ≥ 0. Every bad cell is a
+// errors. repeat and fold cells are integers ≥ 1: files number repeats
+// and folds from 1, as run folders, logs and messages do, and the rows
+// read hold them from 0 (see model.Prediction). Every bad cell is a
 // *ParseError naming name, the line and the column; a malformed row is a
 // *ParseError wrapping the *csv.ParseError.
 func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
@@ -184,10 +186,10 @@ func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
 				continue
 			}
 			v, err := strconv.Atoi(strings.TrimSpace(s))
-			if err != nil || v < 0 {
-				return nil, nil, bad(col, f.column, fmt.Errorf("expected an integer ≥ 0, found %q", s))
+			if err != nil || v < 1 {
+				return nil, nil, bad(col, f.column, fmt.Errorf("expected an integer ≥ 1 (repeats and folds are numbered from 1), found %q", s))
 			}
-			*f.dst = v
+			*f.dst = v - 1
 		}
 		for _, f := range []struct {
 			column string
@@ -206,7 +208,7 @@ func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
 				col := index[ColumnParticipant]
 				return nil, nil, bad(col, ColumnParticipant, fmt.Errorf(
 					"participant %q already has a prediction of model %q, target %q, repeat %d on line %d: expected one per repeat",
-					p.ParticipantID, p.Model, p.Target, p.Repeat, first))
+					p.ParticipantID, p.Model, p.Target, p.Repeat+1, first))
 			}
 			firstLine[k] = line
 		}
@@ -271,8 +273,8 @@ func WritePredictions(w io.Writer, rows []Prediction) error {
 		record[0] = p.ParticipantID
 		record[1] = p.Model
 		record[2] = p.Target
-		record[3] = strconv.Itoa(p.Repeat)
-		record[4] = strconv.Itoa(p.Fold)
+		record[3] = strconv.Itoa(p.Repeat + 1)
+		record[4] = strconv.Itoa(p.Fold + 1)
 		record[5] = strconv.FormatFloat(p.Observed, 'g', -1, 64)
 		record[6] = strconv.FormatFloat(p.Predicted, 'g', -1, 64)
 		if err := cw.Write(record); err != nil {

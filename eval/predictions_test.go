@@ -68,11 +68,12 @@ func TestReadPredictionsErrors(t *testing.T) {
 		{"empty column name", "observed,,predicted\n1,2,3\n", 1, 2, "empty column name"},
 		{"not a number", "observed,predicted\n1,2\n3,abc\n", 3, 2, `expected a number (or empty, NaN or NA for a missing value), found "abc"`},
 		{"infinite", "observed,predicted\n+Inf,2\n", 2, 1, "expected a finite number"},
-		{"bad fold", "observed,predicted,repeat,fold\n1,2,0,x\n", 2, 4, `expected an integer ≥ 0, found "x"`},
-		{"negative repeat", "observed,predicted,repeat,fold\n1,2,-1,0\n", 2, 3, "expected an integer ≥ 0"},
+		{"bad fold", "observed,predicted,repeat,fold\n1,2,1,x\n", 2, 4, `expected an integer ≥ 1 (repeats and folds are numbered from 1), found "x"`},
+		{"repeat from 0", "observed,predicted,repeat,fold\n1,2,0,1\n", 2, 3, `expected an integer ≥ 1 (repeats and folds are numbered from 1), found "0"`},
+		{"negative repeat", "observed,predicted,repeat,fold\n1,2,-1,1\n", 2, 3, "expected an integer ≥ 1"},
 		{"short row", "observed,predicted\n1,2\n3\n", 3, 1, "wrong number of fields"},
-		{"participant twice in a repeat", "participant_id,repeat,observed,predicted\ns1,0,1,2\ns2,0,1,2\ns1,1,1,2\ns1,0,3,4\n", 5, 1,
-			`participant "s1" already has a prediction of model "", target "", repeat 0 on line 2`},
+		{"participant twice in a repeat", "participant_id,repeat,observed,predicted\ns1,1,1,2\ns2,1,1,2\ns1,2,1,2\ns1,1,3,4\n", 5, 1,
+			`participant "s1" already has a prediction of model "", target "", repeat 1 on line 2`},
 		{"bad quote", "observed,predicted\n1,\"2\n", 2, 0, "extraneous or missing"},
 	}
 	for _, tt := range tests {
@@ -108,8 +109,8 @@ func TestWritePredictionsFormat(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := "participant_id,model,target,repeat,fold,observed,predicted\n" +
-		"sub-01,ridge,memory,0,2,0.1,1e+21\n" +
-		"sub-02,ridge,memory,1,0,-3,NaN\n"
+		"sub-01,ridge,memory,1,3,0.1,1e+21\n" +
+		"sub-02,ridge,memory,2,1,-3,NaN\n"
 	if buf.String() != want {
 		t.Errorf("got\n%s\nwant\n%s", buf.String(), want)
 	}

@@ -19,7 +19,7 @@ const (
 	SummaryFile     = "summary.md"
 	// LearningFile holds the epochs of every iteratively trained unit:
 	// model,repeat,fold,epoch,train_loss,valid_loss,best (repeat and fold
-	// from 0 as in predictions.csv; valid_loss empty without inner
+	// from 1 as in predictions.csv; valid_loss empty without inner
 	// validation; best is 1 on the epoch whose weights were kept).
 	LearningFile = "learning_curves.csv"
 )
@@ -182,7 +182,7 @@ func learningCSV(exp *train.Experiment, res *train.Result) []byte {
 			if !math.IsNaN(e.ValidLoss) {
 				valid = strconv.FormatFloat(e.ValidLoss, 'g', -1, 64)
 			}
-			w.Write([]string{exp.Models[u.Model].Name, strconv.Itoa(u.Repeat), strconv.Itoa(u.Fold), strconv.Itoa(e.Epoch),
+			w.Write([]string{exp.Models[u.Model].Name, strconv.Itoa(u.Repeat+1), strconv.Itoa(u.Fold+1), strconv.Itoa(e.Epoch),
 				strconv.FormatFloat(e.TrainLoss, 'g', -1, 64), valid, best[e.Best]})
 		}
 	}

@@ -14,7 +14,7 @@ import (
 
 // SampleSizeFile holds the sample-size curve of a run:
 // model,target,fraction,n_train,repeat,fold,pearson_r,mae, one line per
-// model, target, fraction and test fold (repeat and fold from 0 as in
+// model, target, fraction and test fold (repeat and fold from 1 as in
 // predictions.csv; n_train counts the training subset, inner validation
 // part included; an undefined value is empty).
 const SampleSizeFile = "sample_size.csv"
@@ -88,7 +88,7 @@ func WriteSampleSizeCSV(w io.Writer, rows []SampleSizeRow) error {
 	cw.Write(sampleSizeColumns)
 	for _, r := range rows {
 		cw.Write([]string{r.Model, r.Target, strconv.FormatFloat(r.Fraction, 'g', -1, 64), strconv.Itoa(r.NTrain),
-			strconv.Itoa(r.Repeat), strconv.Itoa(r.Fold), formatCell(r.Pearson), formatCell(r.MAE)})
+			strconv.Itoa(r.Repeat+1), strconv.Itoa(r.Fold+1), formatCell(r.Pearson), formatCell(r.MAE)})
 	}
 	cw.Flush()
 	return cw.Error()
@@ -139,8 +139,15 @@ func ReadSampleSizeCSV(r io.Reader, name string) ([]SampleSizeRow, error) {
 			if dst == nil {
 				continue
 			}
-			if *dst, err = strconv.Atoi(rec[c]); err != nil || *dst < 0 {
-				return nil, bad(c, fmt.Errorf("want a whole number ≥ 0, found %q", rec[c]))
+			min := 0
+			if c > 3 {
+				min = 1 // repeats and folds are numbered from 1
+			}
+			if *dst, err = strconv.Atoi(rec[c]); err != nil || *dst < min {
+				return nil, bad(c, fmt.Errorf("want a whole number ≥ %d, found %q", min, rec[c]))
+			}
+			if c > 3 {
+				*dst--
 			}
 		}
 		for c, dst := range []*float64{6: &row.Pearson, 7: &row.MAE} {

@@ -29,7 +29,7 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 //	      "model": "ridge", "target": "memory",
 //	      "pooled": SCORES,             // all test predictions of all repeats together
 //	      "folds": [                    // one per repeat × fold, sorted by repeat then fold;
-//	        {"repeat": 0, "fold": 0, SCORES...}, ...   // absent without fold columns
+//	        {"repeat": 1, "fold": 1, SCORES...}, ...   // from 1; absent without fold columns
 //	      ],
 //	      "fold_mean": VALUES,          // mean over the folds of each metric; absent without folds
 //	      "fold_sd": VALUES,            // sample SD (n − 1) over the folds; absent without folds
@@ -322,11 +322,12 @@ func (s *Scores) UnmarshalJSON(b []byte) error {
 	return s.Values.fromRaw(raw, map[string]any{"n": &s.N, "missing": &s.Missing, "bins": &s.Bins})
 }
 
-// MarshalJSON writes {"repeat", "fold", then the scores}.
+// MarshalJSON writes {"repeat", "fold", then the scores}, repeat and fold
+// numbered from 1 as in predictions.csv.
 func (f FoldScores) MarshalJSON() ([]byte, error) {
 	var o jsonObject
-	o.add("repeat", f.Repeat)
-	o.add("fold", f.Fold)
+	o.add("repeat", f.Repeat+1)
+	o.add("fold", f.Fold+1)
 	f.Scores.addTo(&o)
 	return o.bytes()
 }
@@ -337,9 +338,17 @@ func (f *FoldScores) UnmarshalJSON(b []byte) error {
 	if err := json.Unmarshal(b, &raw); err != nil {
 		return err
 	}
-	return f.Values.fromRaw(raw, map[string]any{
+	if err := f.Values.fromRaw(raw, map[string]any{
 		"repeat": &f.Repeat, "fold": &f.Fold, "n": &f.N, "missing": &f.Missing, "bins": &f.Bins,
-	})
+	}); err != nil {
+		return err
+	}
+	if f.Repeat < 1 || f.Fold < 1 {
+		return fmt.Errorf("eval: fold scores of repeat %d, fold %d: repeats and folds are numbered from 1", f.Repeat, f.Fold)
+	}
+	f.Repeat--
+	f.Fold--
+	return nil
 }
 
 // groupJSON is the JSON form of a Group; Values and the scores types encode

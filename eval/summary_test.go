@@ -49,7 +49,8 @@ func TestSummarizeAgainstFixture(t *testing.T) {
 		}
 		for j, wf := range w.Folds {
 			f := g.Folds[j]
-			if f.Repeat != wf.Repeat || f.Fold != wf.Fold || f.N != wf.N {
+			// The fixture numbers repeats and folds from 1, as files do.
+			if f.Repeat+1 != wf.Repeat || f.Fold+1 != wf.Fold || f.N != wf.N {
 				t.Errorf("%s fold %d: repeat, fold, N = %d, %d, %d; want %d, %d, %d", name, j, f.Repeat, f.Fold, f.N, wf.Repeat, wf.Fold, wf.N)
 			}
 			checkValues(t, name+" fold", f.Values, wf.values(), 1e-10)
@@ -164,8 +165,8 @@ func TestSummaryJSONLayout(t *testing.T) {
 	}
 	want := `{"note":` + strconvQuote(Disclaimer) + `,"bins":2,"groups":[{"model":"m","target":"t",` +
 		`"pooled":{"n":4,"missing":0,"bins":2,"pearson_r":0.8944271909999159,"spearman_rho":0.8944271909999159,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.6,"nmi":1},` +
-		`"folds":[{"repeat":0,"fold":0,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1},` +
-		`{"repeat":0,"fold":1,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1}],` +
+		`"folds":[{"repeat":1,"fold":1,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1},` +
+		`{"repeat":1,"fold":2,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1}],` +
 		`"fold_mean":{"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1},` +
 		`"fold_sd":{"pearson_r":0,"spearman_rho":0,"mae":0,"median_ae":0,"rmse":0,"r2":0,"nmi":0}}]}`
 	if string(b) != want {

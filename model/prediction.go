@@ -7,8 +7,8 @@ type Prediction struct {
 	ParticipantID string
 	Model         string
 	Target        string
-	Repeat        int // repeat of the cross-validation, from 0
-	Fold          int // test fold within the repeat, from 0
+	Repeat        int // repeat of the cross-validation, from 0 (files and messages count from 1)
+	Fold          int // test fold within the repeat, from 0 (files and messages count from 1)
 	// Observed is the participant's score in score units, with the
 	// training fold's confound fit removed when confounds are regressed out.
 	Observed float64

@@ -30,8 +30,8 @@ type Fitted struct {
 	Version    int             `json:"version"`
 	Model      string          `json:"model"`
 	Kind       string          `json:"kind"`
-	Repeat     int             `json:"repeat"` // from 0
-	Fold       int             `json:"fold"`   // from 0
+	Repeat     int             `json:"repeat"` // from 1, as in predictions.csv; 0 when refitted on all participants
+	Fold       int             `json:"fold"`   // from 1; 0 when refitted on all participants
 	Targets    []string        `json:"targets"`
 	Regions    []string        `json:"regions"`
 	Confounds  []string        `json:"confounds"`
@@ -55,7 +55,7 @@ func saveModel(dir string, m model.Saver, fd *foldData, c *data.Cohort, exp *Exp
 	}
 	f := Fitted{
 		Format: "skein-fitted", Version: 1, Model: cfg.Name, Kind: cfg.Kind(),
-		Repeat: fd.split.Repeat, Fold: fd.split.Fold,
+		Repeat: fd.split.Repeat + 1, Fold: fd.split.Fold + 1,
 		Targets: c.Targets, Regions: c.Regions, Confounds: exp.CV.Confounds, Preprocess: exp.Preprocess,
 		TargetPrep: fd.prep,
 	}

@@ -44,9 +44,9 @@ func TestPredictReproducesTestFold(t *testing.T) {
 	if _, err := os.Stat(filepath.Join(out, "models", "net", "all", "fitted.json")); err != nil {
 		t.Fatalf("refit model missing: %v", err)
 	}
-	recorded := make(map[string]string) // participant|target -> predicted, fold 0 of repeat 0
+	recorded := make(map[string]string) // participant|target -> predicted, fold 1 of repeat 1 (r1-f1)
 	for _, rec := range readCSV(t, filepath.Join(out, "predictions.csv"))[1:] {
-		if rec[3] == "0" && rec[4] == "0" {
+		if rec[3] == "1" && rec[4] == "1" {
 			recorded[rec[0]+"|"+rec[2]] = rec[6]
 		}
 	}
@@ -100,7 +100,7 @@ func TestPredictWithSavedRidge(t *testing.T) {
 	}
 	recorded := make(map[string]float64)
 	for _, rec := range readCSV(t, filepath.Join(out, "predictions.csv"))[1:] {
-		if rec[3] == "1" && rec[4] == "2" {
+		if rec[3] == "2" && rec[4] == "3" {
 			v, _ := strconv.ParseFloat(rec[6], 64)
 			recorded[rec[0]+"|"+rec[2]] = v
 		}

@@ -82,7 +82,8 @@ func readFilters(dir string) ([]SavedFilters, error) {
 			if err := json.Unmarshal(raw, &f); err != nil {
 				return nil, fmt.Errorf("%s: %w", fpath, err)
 			}
-			s.Model, s.Repeat, s.Fold, s.Regions = f.Model, f.Repeat, f.Fold, f.Regions
+			// fitted.json numbers repeats and folds from 1.
+			s.Model, s.Repeat, s.Fold, s.Regions = f.Model, f.Repeat-1, f.Fold-1, f.Regions
 		} else if !errors.Is(err, fs.ErrNotExist) {
 			return nil, err
 		} else if _, err := fmt.Sscanf(filepath.Base(unit), "r%d-f%d", &s.Repeat, &s.Fold); err == nil {

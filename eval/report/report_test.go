@@ -273,7 +273,7 @@ func TestReadRunErrorsNameTheFile(t *testing.T) {
 	if _, err := ReadRun(dir); err == nil || !strings.Contains(err.Error(), "experiment.toml") {
 		t.Errorf("empty folder: %v, want an error naming experiment.toml", err)
 	}
-	bad := []byte("model,repeat,fold,epoch,train_loss,valid_loss,best\nnet,0,0,1,0.5,,2\n")
+	bad := []byte("model,repeat,fold,epoch,train_loss,valid_loss,best\nnet,1,1,1,0.5,,2\n")
 	if _, err := parseCurves(bad, "learning_curves.csv"); err == nil ||
 		!strings.Contains(err.Error(), `learning_curves.csv: line 2, column "best": want 0 or 1, found "2"`) {
 		t.Errorf("bad best: %v", err)

@@ -273,6 +273,16 @@ func (t *csvTable) cellError(row int, col, want string) error {
 
 func (t *csvTable) str(row int, col string) string { return t.rows[row][t.header[col]] }
 
+// number reads a repeat or fold number, from 1 in files, and returns it
+// from 0 as skein holds it in memory.
+func (t *csvTable) number(row int, col string) (int, error) {
+	v, err := strconv.Atoi(t.str(row, col))
+	if err != nil || v < 1 {
+		return 0, t.cellError(row, col, "a whole number ≥ 1")
+	}
+	return v - 1, nil
+}
+
 func (t *csvTable) int(row int, col string) (int, error) {
 	v, err := strconv.Atoi(t.str(row, col))
 	if err != nil || v < 0 {
@@ -302,8 +312,8 @@ func parseCurves(raw []byte, name string) ([]CurvePoint, error) {
 	out := make([]CurvePoint, len(t.rows))
 	for i := range t.rows {
 		c := CurvePoint{Model: t.str(i, "model")}
-		if c.Repeat, err = t.int(i, "repeat"); err == nil {
-			if c.Fold, err = t.int(i, "fold"); err == nil {
+		if c.Repeat, err = t.number(i, "repeat"); err == nil {
+			if c.Fold, err = t.number(i, "fold"); err == nil {
 				if c.Epoch, err = t.int(i, "epoch"); err == nil {
 					if c.TrainLoss, err = t.float(i, "train_loss", false); err == nil {
 						c.ValidLoss, err = t.float(i, "valid_loss", true)

@@ -227,7 +227,8 @@ def predictions(rng):
                 for i in range(24):
                     pred = float(np.mean(y) + 0.5 * (y[i] - np.mean(y)) + rng.normal(0, noise * sd))
                     obs = float(y[i])
-                    rows.append([ids[i], model, target, repeat, fold_of[i], obs, pred])
+                    # Files number repeats and folds from 1.
+                    rows.append([ids[i], model, target, repeat + 1, fold_of[i] + 1, obs, pred])
     # One missing prediction and one missing observation.
     rows[5][6] = float("nan")
     rows[30][5] = float("nan")
@@ -238,8 +239,8 @@ def predictions(rng):
             g = [r for r in rows if r[1] == model and r[2] == target]
             pooled = reference_metrics([r[5] for r in g], [r[6] for r in g])
             folds = []
-            for repeat in range(2):
-                for fold in range(3):
+            for repeat in (1, 2):
+                for fold in (1, 2, 3):
                     f = [r for r in g if r[3] == repeat and r[4] == fold]
                     m = reference_metrics([r[5] for r in f], [r[6] for r in f])
                     m.update({"repeat": repeat, "fold": fold})
