@@ -7,7 +7,6 @@ import (
 	"math/rand/v2"
 	"sort"
 
-	"gonum.org/v1/gonum/stat"
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/skein-neuro/skein/data"
@@ -131,7 +130,8 @@ type Interval struct {
 // repeats of one participant, which are not independent, stay together.
 // Rows with an empty ParticipantID are each their own participant. The
 // bounds are the empirical (1 − level)/2 and (1 + level)/2 quantiles of the
-// resampled metric, over the resamples where it is defined.
+// resampled metric (EmpiricalQuantile), over the resamples where it is
+// defined.
 func BootstrapCI(rows []Prediction, m Metric, bins, resamples int, level float64, rng *rand.Rand) (Interval, error) {
 	if resamples < 1 {
 		panic(fmt.Sprintf("eval: %d bootstrap resamples", resamples))
@@ -180,9 +180,30 @@ func BootstrapCI(rows []Prediction, m Metric, bins, resamples int, level float64
 		return iv, nil
 	}
 	sort.Float64s(stats)
-	iv.Lower = stat.Quantile((1-level)/2, stat.Empirical, stats, nil)
-	iv.Upper = stat.Quantile((1+level)/2, stat.Empirical, stats, nil)
+	iv.Lower = EmpiricalQuantile((1-level)/2, stats)
+	iv.Upper = EmpiricalQuantile((1+level)/2, stats)
 	return iv, nil
+}
+
+// EmpiricalQuantile returns the q-quantile of the ascending values sorted
+// by the inverse of their empirical distribution function: the k-th
+// smallest value, k = ⌈q·n⌉ (at least 1), the definition of the percentile
+// interval (Efron & Tibshirani 1993, An Introduction to the Bootstrap,
+// §13.3: with 1000 resamples the 95% interval runs from the 25th to the
+// 975th ordered value). q·n within rounding of a whole number counts as
+// that number, so that (1 − 0.95)/2 · 1000, which is 25.000000000000025 in
+// floating point, picks the 25th value and not the 26th. sorted must not
+// be empty; q outside [0, 1] panics.
+func EmpiricalQuantile(q float64, sorted []float64) float64 {
+	if !(q >= 0 && q <= 1) || len(sorted) == 0 {
+		panic(fmt.Sprintf("eval: quantile %v of %d values", q, len(sorted)))
+	}
+	x := q * float64(len(sorted))
+	if whole := math.Round(x); math.Abs(x-whole) <= 1e-9*math.Max(1, x) {
+		x = whole
+	}
+	k := min(max(int(math.Ceil(x)), 1), len(sorted))
+	return sorted[k-1]
 }
 
 // KSUniform returns the Kolmogorov–Smirnov statistic of the sample x against

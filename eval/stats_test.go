@@ -198,3 +198,36 @@ func TestKSUniformEdgeCases(t *testing.T) {
 		t.Errorf("empty sample: %v, %v", d, p)
 	}
 }
+
+// The percentile interval takes fixed order statistics of the sorted
+// resamples: Efron & Tibshirani 1993, An Introduction to the Bootstrap,
+// §13.3 (from memory): with B = 1000 the 95% interval is the 25th and the
+// 975th value. numpy 1.24's quantile(x, q, method="inverted_cdf") picks
+// the same values when q is written as the exact decimal (0.025, 0.975,
+// 0.05, 0.005, 0.995); given q as (1 − level)/2 in floating point it too
+// takes the 26th value of 1000, the defect this guards against.
+func TestEmpiricalQuantileOrderStatistics(t *testing.T) {
+	tests := []struct {
+		level        float64
+		n            int
+		lower, upper float64 // 1-based ranks of the bounds
+	}{
+		{0.95, 1000, 25, 975},
+		{0.90, 2000, 100, 1900},
+		{0.95, 200, 5, 195},
+		{0.99, 1000, 5, 995},
+		{0.95, 10, 1, 10}, // ⌈0.25⌉ = 1 and ⌈9.75⌉ = 10
+	}
+	for _, tt := range tests {
+		sorted := make([]float64, tt.n)
+		for i := range sorted {
+			sorted[i] = float64(i + 1)
+		}
+		lo := EmpiricalQuantile((1-tt.level)/2, sorted)
+		hi := EmpiricalQuantile((1+tt.level)/2, sorted)
+		if lo != tt.lower || hi != tt.upper {
+			t.Errorf("level %v, %d resamples: bounds are the %vth and %vth values, want the %vth and %vth",
+				tt.level, tt.n, lo, hi, tt.lower, tt.upper)
+		}
+	}
+}
