@@ -11,8 +11,8 @@ import (
 
 // A Comparison is one model's line in the comparison table of a run: its
 // figures on one target, its permutation p-values, bootstrap intervals of
-// pooled r and MAE, and its difference from the best baseline on the same
-// folds.
+// pooled r and MAE, and its difference from the reference baseline on the
+// same folds.
 type Comparison struct {
 	Model, Target string
 	Baseline      bool // whether the model is a baseline (not a network)
@@ -21,19 +21,30 @@ type Comparison struct {
 	P *Values
 	// R and MAE are percentile bootstrap intervals of the pooled values.
 	R, MAE Interval
-	// Against names the best baseline on this target ("" for the best
-	// baseline itself, or when there is none): the baseline with the
-	// highest mean Pearson r over folds.
-	Against string
-	// DiffR and DiffMAE compare this model with Against over the same
-	// folds by the corrected resampled t-test (this model minus Against).
+	// Reference names the reference baseline of this target that the
+	// model is compared with ("" for the reference itself, or when the
+	// target has none); IsReference marks the reference itself.
+	Reference   string
+	IsReference bool
+	// DiffR and DiffMAE compare this model with Reference over the same
+	// folds by the corrected resampled t-test (this model minus
+	// Reference). A fold whose test participants repeat those of an
+	// earlier fold is counted once (see DuplicateFolds), so DiffR.J counts
+	// distinct folds.
 	DiffR, DiffMAE TTest
+	// RepeatedFolds counts the folds left out of the t-tests because they
+	// repeat an earlier fold's test participants.
+	RepeatedFolds int
 }
 
 // CompareOptions are the settings of Compare.
 type CompareOptions struct {
 	// Baselines names the models that are baselines.
 	Baselines map[string]bool
+	// Reference names, per target, the baseline every other model is
+	// compared with (ChooseReference chooses one without looking at the
+	// test folds). A target without one gets no differences.
+	Reference map[string]string
 	// NTrain and NTest are the mean numbers of participants in a training
 	// and a test fold, for the corrected t-test.
 	NTrain, NTest float64
@@ -55,16 +66,6 @@ func Compare(sum *Summary, rows []Prediction, opt CompareOptions) ([]Comparison,
 	if opt.Level == 0 {
 		opt.Level = 0.95
 	}
-	best := make(map[string]*Group) // target -> best baseline
-	for i := range sum.Groups {
-		g := &sum.Groups[i]
-		if !opt.Baselines[g.Model] {
-			continue
-		}
-		if b := best[g.Target]; b == nil || better(g.FoldMean.Pearson, b.FoldMean.Pearson) {
-			best[g.Target] = g
-		}
-	}
 	byGroup := make(map[[2]string][]Prediction)
 	for _, r := range rows {
 		key := [2]string{r.Model, r.Target}
@@ -73,7 +74,8 @@ func Compare(sum *Summary, rows []Prediction, opt CompareOptions) ([]Comparison,
 	var out []Comparison
 	for i := range sum.Groups {
 		g := &sum.Groups[i]
-		c := Comparison{Model: g.Model, Target: g.Target, Baseline: opt.Baselines[g.Model], Group: g}
+		c := Comparison{Model: g.Model, Target: g.Target, Baseline: opt.Baselines[g.Model], Group: g,
+			IsReference: opt.Reference[g.Target] == g.Model}
 		for j := range opt.Nulls {
 			if nd := &opt.Nulls[j]; nd.Model == g.Model && nd.Target == g.Target {
 				c.P = &nd.P
@@ -88,33 +90,136 @@ func Compare(sum *Summary, rows []Prediction, opt CompareOptions) ([]Comparison,
 		if c.MAE, err = BootstrapCI(groupRows, MetricMAE, sum.Bins, opt.Resamples, opt.Level, rng); err != nil {
 			return nil, err
 		}
-		if b := best[g.Target]; b != nil && b != g && len(g.Folds) > 0 {
-			c.Against = b.Model
-			diff, err := FoldDifferences(g, b, MetricPearson)
-			if err != nil {
+		ref := sum.Group(opt.Reference[g.Target], g.Target)
+		if ref != nil && ref != g && len(g.Folds) > 0 {
+			c.Reference = ref.Model
+			repeated := DuplicateFolds(groupRows)
+			c.RepeatedFolds = len(repeated)
+			if c.DiffR, err = foldTTest(g, ref, MetricPearson, repeated, opt); err != nil {
 				return nil, err
 			}
-			c.DiffR = CorrectedTTest(diff, opt.NTrain, opt.NTest)
-			if diff, err = FoldDifferences(g, b, MetricMAE); err != nil {
+			if c.DiffMAE, err = foldTTest(g, ref, MetricMAE, repeated, opt); err != nil {
 				return nil, err
 			}
-			c.DiffMAE = CorrectedTTest(diff, opt.NTrain, opt.NTest)
 		}
 		out = append(out, c)
 	}
 	return out, nil
 }
 
-// better reports whether r beats best, NaN losing to anything.
-func better(r, best float64) bool {
-	return !math.IsNaN(r) && (math.IsNaN(best) || r > best)
+// ChooseReference returns the reference baseline of each target, chosen
+// without looking at the test folds, and a sentence saying how:
+//
+//   - named, when not "", is the reference of every target (the
+//     experiment's comparison.reference);
+//   - else the baseline with the lowest inner-validation loss on the
+//     target, where innerLoss holds, per model, one loss per target (the
+//     mean over its units of the mean squared error of standardized scores
+//     on each training fold's inner validation part, fitted on the rest of
+//     the training fold; NaN where undefined);
+//   - else, when no baseline has a defined loss, the first of baselines,
+//     which lists the baselines in the experiment's order.
+//
+// A target gets no reference when there is no baseline.
+func ChooseReference(targets, baselines []string, named string, innerLoss map[string][]float64) (map[string]string, string) {
+	ref := make(map[string]string, len(targets))
+	switch {
+	case named != "":
+		for _, t := range targets {
+			ref[t] = named
+		}
+		return ref, fmt.Sprintf("the reference baseline %s is named in the experiment (comparison.reference)", named)
+	case len(baselines) == 0:
+		return ref, ""
+	case len(baselines) == 1:
+		for _, t := range targets {
+			ref[t] = baselines[0]
+		}
+		return ref, fmt.Sprintf("the reference baseline is %s, the only baseline", baselines[0])
+	}
+	chosen := false
+	for ti, t := range targets {
+		best, bestLoss := baselines[0], math.NaN()
+		for _, b := range baselines {
+			if loss := innerLoss[b]; ti < len(loss) && !math.IsNaN(loss[ti]) && (math.IsNaN(bestLoss) || loss[ti] < bestLoss) {
+				best, bestLoss = b, loss[ti]
+			}
+		}
+		chosen = chosen || !math.IsNaN(bestLoss)
+		ref[t] = best
+	}
+	if !chosen {
+		return ref, fmt.Sprintf("the reference baseline is %s, the first baseline of the experiment (there was no inner "+
+			"validation to choose on; name one with comparison.reference)", baselines[0])
+	}
+	return ref, "the reference baseline of each target is the baseline with the lowest inner-validation error " +
+		"(mean squared error of standardized scores on each training fold's inner validation part, fitted on the rest " +
+		"of the training fold): the test folds played no part in the choice"
+}
+
+// foldTTest compares g with ref on m over the folds that are not repeated.
+func foldTTest(g, ref *Group, m Metric, repeated map[[2]int]bool, opt CompareOptions) (TTest, error) {
+	diff, err := FoldDifferences(g, ref, m)
+	if err != nil {
+		return TTest{}, err
+	}
+	distinct := diff[:0]
+	for i, f := range g.Folds {
+		if !repeated[[2]int{f.Repeat, f.Fold}] {
+			distinct = append(distinct, diff[i])
+		}
+	}
+	return CorrectedTTest(distinct, opt.NTrain, opt.NTest), nil
+}
+
+// DuplicateFolds returns the folds of rows, as (repeat, fold) from 0, whose
+// test participants are exactly those of an earlier fold (in order of
+// repeat, then fold). A repeat of k-fold cross-validation that deals the
+// same groups to the same folds again (as it must when there are as many
+// groups as folds) adds no information, and counting its folds as new
+// would shrink the corrected t-test's variance. Rows without participant
+// ids are never duplicates.
+func DuplicateFolds(rows []Prediction) map[[2]int]bool {
+	members := make(map[[2]int][]string)
+	for _, p := range rows {
+		if p.ParticipantID == "" {
+			return nil
+		}
+		k := [2]int{p.Repeat, p.Fold}
+		members[k] = append(members[k], p.ParticipantID)
+	}
+	keys := make([][2]int, 0, len(members))
+	for k, ids := range members {
+		keys = append(keys, k)
+		slices.Sort(ids)
+	}
+	slices.SortFunc(keys, func(a, b [2]int) int {
+		if a[0] != b[0] {
+			return a[0] - b[0]
+		}
+		return a[1] - b[1]
+	})
+	seen := make(map[string]bool)
+	var dup map[[2]int]bool
+	for _, k := range keys {
+		set := strings.Join(slices.Compact(members[k]), "\x00")
+		if seen[set] {
+			if dup == nil {
+				dup = make(map[[2]int]bool)
+			}
+			dup[k] = true
+		}
+		seen[set] = true
+	}
+	return dup
 }
 
 // WriteComparisonMarkdown writes the comparison table: per target, every
 // model with Pearson r and MAE (mean ± SD over folds), their pooled 95%
 // bootstrap intervals, permutation p-values, and the difference from the
-// best baseline with the corrected resampled t-test.
-func WriteComparisonMarkdown(w io.Writer, comps []Comparison) error {
+// reference baseline with the corrected resampled t-test. referenceRule
+// says how the reference was chosen (ChooseReference).
+func WriteComparisonMarkdown(w io.Writer, comps []Comparison, referenceRule string) error {
 	var b strings.Builder
 	var targets []string
 	for _, c := range comps {
@@ -124,7 +229,7 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison) error {
 	}
 	for _, target := range targets {
 		fmt.Fprintf(&b, "\n### %s: comparison\n\n", escapeMarkdown(target))
-		b.WriteString("| model | Pearson r | CI of pooled r | p (r) | MAE | CI of pooled MAE | p (MAE) | Δr vs best baseline (t-test p) | ΔMAE (t-test p) |\n")
+		b.WriteString("| model | Pearson r | CI of pooled r | p (r) | MAE | CI of pooled MAE | p (MAE) | Δr vs reference (t-test p) | ΔMAE (t-test p) |\n")
 		b.WriteString("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |\n")
 		for _, c := range comps {
 			if c.Target == target {
@@ -135,8 +240,8 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison) error {
 	if len(comps) > 0 {
 		fmt.Fprintf(&b, "\nPearson r and MAE: mean ± SD over test folds [pooled]. CI: %.0f%% percentile bootstrap"+
 			" over participants (%d resamples). p: permutation p-value, (1 + #{null at least as good}) / (1 + permutations). "+
-			"Δ: mean difference from the best baseline (highest mean r over folds) over the same folds, tested by the "+
-			"corrected resampled t-test (Nadeau & Bengio 2003).\n", 100*comps[0].R.Level, comps[0].R.Resamples)
+			"Δ: mean difference from the reference baseline over the same folds, tested by the "+
+			"corrected resampled t-test (Nadeau & Bengio 2003); %s.\n", 100*comps[0].R.Level, comps[0].R.Resamples, referenceRule)
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
@@ -152,11 +257,11 @@ func writeComparisonRow(b *strings.Builder, c Comparison) {
 		pr, pm = formatP(c.P.Pearson), formatP(c.P.MAE)
 	}
 	vsR, vsMAE := "–", "–"
-	if c.Against != "" {
-		vsR = fmt.Sprintf("%s vs %s (p %s)", formatDiff(c.DiffR.MeanDiff), escapeMarkdown(c.Against), formatP(c.DiffR.P))
+	if c.Reference != "" {
+		vsR = fmt.Sprintf("%s vs %s (p %s)", formatDiff(c.DiffR.MeanDiff), escapeMarkdown(c.Reference), formatP(c.DiffR.P))
 		vsMAE = fmt.Sprintf("%s (p %s)", formatDiff(c.DiffMAE.MeanDiff), formatP(c.DiffMAE.P))
-	} else if c.Baseline {
-		vsR = "best baseline"
+	} else if c.IsReference {
+		vsR = "reference"
 	}
 	fmt.Fprintf(b, "| %s | %s | [%s, %s] | %s | %s | [%s, %s] | %s | %s | %s |\n", name,
 		c.Group.cell(MetricPearson), formatNumber(c.R.Lower), formatNumber(c.R.Upper), pr,

@@ -32,6 +32,9 @@ type Report struct {
 	Summary     *Summary
 	Nulls       []NullDistribution // nil without a permutation test
 	Comparisons []Comparison
+	// ReferenceRule says how the reference baseline of the comparisons
+	// was chosen (ChooseReference).
+	ReferenceRule string
 	// Participants and Excluded count the cohort.
 	Participants, Excluded int
 	// SampleSize is the sample-size curve; nil unless the experiment asks
@@ -76,10 +79,16 @@ func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, 
 		}
 		rep.SampleSize = SampleSizeCurve(runs)
 	}
-	baselines := make(map[string]bool)
+	isBaseline := make(map[string]bool)
+	var baselines []string
 	for _, m := range exp.Models {
-		baselines[m.Name] = m.Kind() != "network"
+		if m.Kind() != "network" {
+			isBaseline[m.Name] = true
+			baselines = append(baselines, m.Name)
+		}
 	}
+	reference, rule := ChooseReference(r.Cohort.Targets, baselines, "", nil)
+	rep.ReferenceRule = rule
 	var nTrain, nTest float64
 	for _, s := range res.Splits {
 		nTrain += float64(len(s.Train))
@@ -88,7 +97,7 @@ func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, 
 	nTrain /= float64(len(res.Splits))
 	nTest /= float64(len(res.Splits))
 	comps, err := Compare(rep.Summary, rep.Rows, CompareOptions{
-		Baselines: baselines, NTrain: nTrain, NTest: nTest, Nulls: rep.Nulls, Seed: uint64(exp.Seed),
+		Baselines: isBaseline, Reference: reference, NTrain: nTrain, NTest: nTest, Nulls: rep.Nulls, Seed: uint64(exp.Seed),
 	})
 	if err != nil {
 		return nil, err
@@ -163,7 +172,7 @@ func (rep *Report) WriteMarkdown(buf *bytes.Buffer) error {
 		return err
 	}
 	buf.WriteString("\n## Comparison\n")
-	return WriteComparisonMarkdown(buf, rep.Comparisons)
+	return WriteComparisonMarkdown(buf, rep.Comparisons, rep.ReferenceRule)
 }
 
 // learningCSV returns the learning curves of res as CSV, or nil when no
