@@ -191,7 +191,7 @@ func learningCSV(exp *train.Experiment, res *train.Result) []byte {
 			if !math.IsNaN(e.ValidLoss) {
 				valid = strconv.FormatFloat(e.ValidLoss, 'g', -1, 64)
 			}
-			w.Write([]string{exp.Models[u.Model].Name, strconv.Itoa(u.Repeat+1), strconv.Itoa(u.Fold+1), strconv.Itoa(e.Epoch),
+			w.Write([]string{exp.Models[u.Model].Name, strconv.Itoa(u.Repeat + 1), strconv.Itoa(u.Fold + 1), strconv.Itoa(e.Epoch),
 				strconv.FormatFloat(e.TrainLoss, 'g', -1, 64), valid, best[e.Best]})
 		}
 	}

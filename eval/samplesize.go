@@ -88,7 +88,7 @@ func WriteSampleSizeCSV(w io.Writer, rows []SampleSizeRow) error {
 	cw.Write(sampleSizeColumns)
 	for _, r := range rows {
 		cw.Write([]string{r.Model, r.Target, strconv.FormatFloat(r.Fraction, 'g', -1, 64), strconv.Itoa(r.NTrain),
-			strconv.Itoa(r.Repeat+1), strconv.Itoa(r.Fold+1), formatCell(r.Pearson), formatCell(r.MAE)})
+			strconv.Itoa(r.Repeat + 1), strconv.Itoa(r.Fold + 1), formatCell(r.Pearson), formatCell(r.MAE)})
 	}
 	cw.Flush()
 	return cw.Error()
