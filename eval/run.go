@@ -9,6 +9,7 @@ import (
 	"slices"
 	"strconv"
 
+	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -35,6 +36,9 @@ type Report struct {
 	// ReferenceRule says how the reference baseline of the comparisons
 	// was chosen (ChooseReference).
 	ReferenceRule string
+	// Cautions are the statistical cautions this run triggered, each a
+	// sentence for the summary and the report.
+	Cautions []string
 	// Participants and Excluded count the cohort.
 	Participants, Excluded int
 	// SampleSize is the sample-size curve; nil unless the experiment asks
@@ -103,7 +107,56 @@ func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, 
 		return nil, err
 	}
 	rep.Comparisons = comps
+	rep.Cautions = runCautions(rep, r)
 	return rep, nil
+}
+
+// smallFold is the test-fold size below which fold-level figures are too
+// noisy to read alone (common practice, no source: the SD of r over n
+// pairs is about 1/√n, 0.22 at n = 20).
+const smallFold = 20
+
+// runCautions returns the cautions the run of r triggered, in a fixed
+// order.
+func runCautions(rep *Report, r *train.Runner) []string {
+	var out []string
+	splits := rep.Result.Splits
+	smallest := -1
+	seen := make(map[string]bool)
+	repeated := 0
+	for _, s := range splits {
+		if smallest < 0 || len(s.Test) < smallest {
+			smallest = len(s.Test)
+		}
+		key := fmt.Sprint(s.Test)
+		if seen[key] {
+			repeated++
+		}
+		seen[key] = true
+	}
+	if smallest >= 0 && smallest < smallFold {
+		out = append(out, fmt.Sprintf("Small test folds: the smallest holds %d participants. A fold's r over n "+
+			"participants has an SD of about 1/√n (%.2f here), so single folds say little; read the pooled figures "+
+			"and their intervals.", smallest, 1/math.Sqrt(float64(smallest))))
+	}
+	if repeated > 0 {
+		out = append(out, fmt.Sprintf("Repeated splits: %d of %d folds have exactly the test participants of an "+
+			"earlier fold (repeats re-deal the same groups when there are few), so they add no information. The "+
+			"corrected t-tests count each distinct fold once.", repeated, len(splits)))
+	}
+	if groups := train.Groups(r.Cohort); groups != nil {
+		distinct := len(data.GroupIndices(groups))
+		if k := rep.Experiment.CV.Folds; distinct < 4*k {
+			out = append(out, fmt.Sprintf("Few groups: the %d participants fall in %d groups of the grouping column "+
+				"for %d folds. Whole groups move between folds and permutations, so fold sizes vary and fewer "+
+				"distinct splits and permutations exist.", len(r.Cohort.Participants), distinct, k))
+		}
+	}
+	if count := rep.Experiment.Permutation.Count; count > 0 && count < 99 {
+		out = append(out, fmt.Sprintf("Few permutations: with %d permutations the smallest possible p-value is "+
+			"1/%d = %.3f.", count, count+1, 1/float64(count+1)))
+	}
+	return out
 }
 
 // Write writes predictions.csv, metrics.json, summary.md and, after a
@@ -172,7 +225,16 @@ func (rep *Report) WriteMarkdown(buf *bytes.Buffer) error {
 		return err
 	}
 	buf.WriteString("\n## Comparison\n")
-	return WriteComparisonMarkdown(buf, rep.Comparisons, rep.ReferenceRule)
+	if err := WriteComparisonMarkdown(buf, rep.Comparisons, rep.ReferenceRule); err != nil {
+		return err
+	}
+	if len(rep.Cautions) > 0 {
+		buf.WriteString("\n## Cautions for this run\n\n")
+		for _, c := range rep.Cautions {
+			buf.WriteString("- " + escapeMarkdown(c) + "\n")
+		}
+	}
+	return nil
 }
 
 // learningCSV returns the learning curves of res as CSV, or nil when no

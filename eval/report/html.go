@@ -236,7 +236,7 @@ func labelOf(labels []string, i int) string {
 }
 
 // markdownHTML renders the Markdown skein's summaries use — ATX headings,
-// pipe tables, block quotes and paragraphs — as escaped HTML. The first
+// pipe tables, block quotes, "- " lists and paragraphs — as escaped HTML. The first
 // level-1 heading is dropped (the report has its own); other headings move
 // down one level. Anything else is shown as text.
 func markdownHTML(md string) template.HTML {
@@ -266,6 +266,14 @@ func markdownHTML(md string) template.HTML {
 			}
 			level = min(level+1, 6)
 			fmt.Fprintf(&b, "<h%d>%s</h%d>\n", level, esc(text), level)
+		case strings.HasPrefix(l, "- "):
+			flush()
+			b.WriteString("<ul>\n")
+			for ; i < len(lines) && strings.HasPrefix(lines[i], "- "); i++ {
+				b.WriteString("<li>" + esc(strings.TrimSpace(lines[i][2:])) + "</li>\n")
+			}
+			i--
+			b.WriteString("</ul>\n")
 		case strings.HasPrefix(l, ">"):
 			flush()
 			b.WriteString("<blockquote>" + esc(strings.TrimSpace(strings.TrimPrefix(l, ">"))) + "</blockquote>\n")

@@ -40,13 +40,14 @@ func TestSummarizeImportance(t *testing.T) {
 }
 
 func TestMarkdownHTMLEscapes(t *testing.T) {
-	md := "# title\n\nA <b>paragraph</b>\n\n| model | n |\n| --- | ---: |\n| a\\|b <script> | 3 |\n\n> note & caution\n"
+	md := "# title\n\nA <b>paragraph</b>\n\n| model | n |\n| --- | ---: |\n| a\\|b <script> | 3 |\n\n> note & caution\n\n- first <i>\n- second\n"
 	got := string(markdownHTML(md))
 	for _, want := range []string{
 		"<p>A &lt;b&gt;paragraph&lt;/b&gt;</p>",
 		"<th>model</th><th class=\"num\">n</th>",
 		"<td>a|b &lt;script&gt;</td><td class=\"num\">3</td>",
 		"<blockquote>note &amp; caution</blockquote>",
+		"<ul>\n<li>first &lt;i&gt;</li>\n<li>second</li>\n</ul>",
 	} {
 		if !strings.Contains(got, want) {
 			t.Errorf("markdownHTML lacks %q:\n%s", want, got)
