@@ -28,7 +28,9 @@ import (
 // the covariates that came with them, just as the observed run does.
 // (Permuting the scores alone would regress them on covariates they no
 // longer depend on, leaving residuals wider than the observed ones, and
-// every error metric would look better than chance on null data.)
+// every error metric would look better than chance on null data.) A
+// connectome that depends on a covariate (head motion) but carries
+// nothing about the scores departs from this null as well.
 type Permutation struct {
 	// Count is the number of permutations; 0 (the default) runs no test.
 	Count int `toml:"count"`
@@ -49,16 +51,17 @@ type Permutation struct {
 	//   - "whole": whole groups of the same size are exchanged, their order
 	//     inside the group kept, and nothing is shuffled within a group.
 	//
-	// "auto" is valid and powerful for both kinds of grouping column.
-	// Families must be exchanged as wholes, since siblings share scores and
-	// connectomes beyond the tested effect; shuffling inside a family
-	// assumes its members are alike to each other (siblings; a family that
-	// mixes identical and non-identical twins needs "whole"). Sites are
-	// kept in place because site differences in scores and connectomes
-	// (scanner, recruitment) are a nuisance that exchanging whole sites
-	// would count as signal, and few sites share a size. AutoWholeMax
-	// separates the two: above nearly every family, below any site large
-	// enough to be a site.
+	// "auto" is valid and keeps power for both kinds of grouping column.
+	// Families must move as wholes: siblings' scores are alike, and a
+	// permutation that split them would make null data unlike the
+	// observed. Shuffling inside a family as well assumes its members are
+	// alike to each other (siblings; a family that mixes identical and
+	// non-identical twins needs "whole"). Sites stay in place: site
+	// differences in scores and connectomes (scanner, recruitment) are a
+	// nuisance that exchanging whole sites would count as signal, and few
+	// sites share a size. AutoWholeMax = 8 separates the two kinds, being
+	// larger than nearly every family and smaller than a site worth
+	// modelling (a judgement, common practice, no source).
 	Blocks string `toml:"blocks"`
 	// Models names the models to test; empty (the default) tests all.
 	Models []string `toml:"models"`
@@ -189,7 +192,7 @@ func Permutations(n int, groups []string, blocks string, count int, seed uint64)
 }
 
 // NullRun is one model's cross-validated predictions under one permutation
-// of the scores.
+// of the participants' rows.
 type NullRun struct {
 	Model       string
 	Permutation int // index into the permutations
