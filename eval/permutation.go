@@ -28,7 +28,8 @@ type NullDistribution struct {
 
 // PermutationTest runs the permutation test of the experiment of r:
 // the whole cross-validation repeated under each of exp.Permutation.Count
-// permutations of the scores, and scored as the observed run was, pooled
+// permutations of the participants' rows (scores and covariates together,
+// train.Permutation), and scored as the observed run was, pooled
 // over all test predictions. observed is the summary of the observed run.
 // The result is ordered as observed.Groups.
 func PermutationTest(ctx context.Context, r *train.Runner, observed *Summary) ([]NullDistribution, error) {

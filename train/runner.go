@@ -97,6 +97,9 @@ type Runner struct {
 	splits   []Split // when set, used instead of the experiment's folds
 	// skipImportance leaves out edge importance (permuted runs need none).
 	skipImportance bool
+	// prepBlocks, when above 1, is the number of blocks of a permuted
+	// cohort's scores and confounds (FitTargetPrepBlocks).
+	prepBlocks int
 
 	// Select, when not nil, restricts the run to these units: indices
 	// into the list Units returns. The Result then holds only theirs.
@@ -174,7 +177,7 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	}
 	folds := make([]*foldData, len(splits))
 	for s, split := range splits {
-		if folds[s], err = prepareFold(exp, cohort, split, y, cov); err != nil {
+		if folds[s], err = prepareFold(exp, cohort, split, y, cov, max(1, r.prepBlocks)); err != nil {
 			return nil, fmt.Errorf("repeat %d, fold %d: %w", split.Repeat+1, split.Fold+1, err)
 		}
 	}
@@ -302,8 +305,10 @@ type foldData struct {
 	targetName []string
 }
 
-func prepareFold(exp *Experiment, cohort *data.Cohort, split Split, y, cov *mat.Dense) (*foldData, error) {
-	prep, err := FitTargetPrep(y, cov, split.Train)
+// prepareFold fits the target preparation of split, in blocks blocks
+// (FitTargetPrepBlocks), and gathers what every model of the split shares.
+func prepareFold(exp *Experiment, cohort *data.Cohort, split Split, y, cov *mat.Dense, blocks int) (*foldData, error) {
+	prep, err := FitTargetPrepBlocks(y, cov, split.Train, blocks)
 	if err != nil {
 		return nil, err
 	}

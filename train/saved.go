@@ -196,7 +196,7 @@ func (r *Runner) Refit(ctx context.Context) error {
 	for i := range cohort.Participants {
 		all.Train = append(all.Train, i)
 	}
-	fd, err := prepareFold(exp, cohort, all, y, cov)
+	fd, err := prepareFold(exp, cohort, all, y, cov, 1)
 	if err != nil {
 		return fmt.Errorf("refit on all participants: %w", err)
 	}

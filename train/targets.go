@@ -21,24 +21,54 @@ import (
 // rows (β_t = 0 without confounds) and μ_t, σ_t are the mean and SD of the
 // residuals over the training rows. Missing scores (NaN) are left out of
 // every fit; a missing covariate is replaced by its training mean.
+//
+// A TargetPrep fitted in B blocks (FitTargetPrepBlocks) holds B
+// independent problems side by side, as a permutation test fits them: y
+// has T·B columns and cov C·B, and target column t is regressed on
+// covariate block b = t / T only (columns b·C to b·C + C − 1), so c_i
+// above is participant i's covariates of block b.
 type TargetPrep struct {
 	// Confounds holds (1 + C) × T coefficients, row 0 the intercept; nil
-	// without confound regression.
+	// without confound regression. Fitted in blocks, row 1 + c of target
+	// column t belongs to covariate c of the target's block.
 	Confounds *mat.Dense `json:"-"`
-	// CovariateMean holds the training means of the C confound columns,
-	// used to fill missing covariates.
+	// CovariateMean holds the training means of the confound columns
+	// (C, or C·B fitted in blocks), used to fill missing covariates.
 	CovariateMean []float64 `json:"covariate_mean,omitempty"`
 	// Mean and SD standardize each target's residuals.
 	Mean []float64 `json:"mean"`
 	SD   []float64 `json:"sd"`
+
+	// blocks is B of FitTargetPrepBlocks; 0 means 1.
+	blocks int
 }
 
 // FitTargetPrep fits a TargetPrep on the given rows of y (n × T, NaN where
-// missing) and cov (n × C confound columns; nil for none).
+// missing) and cov (n × C confound columns; nil for none). It is
+// FitTargetPrepBlocks with one block.
 func FitTargetPrep(y, cov *mat.Dense, rows []int) (*TargetPrep, error) {
+	return FitTargetPrepBlocks(y, cov, rows, 1)
+}
+
+// FitTargetPrepBlocks fits a TargetPrep on the given rows of y (n × T·B,
+// NaN where missing) and cov (n × C·B; nil for none) made of B blocks side
+// by side: target column t is regressed on covariate columns b·C to
+// b·C + C − 1 with b = t / T, and standardized on its own. The result is
+// that of B separate FitTargetPrep calls, one per block, with their
+// columns side by side; B = 1 is FitTargetPrep. It is how a permutation
+// test fits a chunk of permutations at once, each with its own permuted
+// covariates. The number of columns of y and of cov must be multiples of
+// blocks.
+func FitTargetPrepBlocks(y, cov *mat.Dense, rows []int, blocks int) (*TargetPrep, error) {
 	_, T := y.Dims()
-	tp := &TargetPrep{Mean: make([]float64, T), SD: make([]float64, T)}
+	if blocks < 1 || T%blocks != 0 {
+		return nil, fmt.Errorf("%d score columns do not make %d blocks", T, blocks)
+	}
+	tp := &TargetPrep{Mean: make([]float64, T), SD: make([]float64, T), blocks: blocks}
 	if cov != nil {
+		if _, C := cov.Dims(); C%blocks != 0 {
+			return nil, fmt.Errorf("%d confound columns do not make %d blocks", C, blocks)
+		}
 		if err := tp.fitConfounds(y, cov, rows); err != nil {
 			return nil, err
 		}
@@ -74,9 +104,10 @@ func FitTargetPrep(y, cov *mat.Dense, rows []int) (*TargetPrep, error) {
 
 func (tp *TargetPrep) fitConfounds(y, cov *mat.Dense, rows []int) error {
 	_, T := y.Dims()
-	_, C := cov.Dims()
-	tp.CovariateMean = make([]float64, C)
-	for c := 0; c < C; c++ {
+	_, CB := cov.Dims()
+	C := CB / tp.numBlocks()
+	tp.CovariateMean = make([]float64, CB)
+	for c := 0; c < CB; c++ {
 		var sum float64
 		var n int
 		for _, i := range rows {
@@ -103,10 +134,11 @@ func (tp *TargetPrep) fitConfounds(y, cov *mat.Dense, rows []int) error {
 		}
 		design := mat.NewDense(len(present), 1+C, nil)
 		obs := mat.NewVecDense(len(present), nil)
+		first := tp.firstCovariate(t, T)
 		for r, i := range present {
 			design.Set(r, 0, 1)
 			for c := 0; c < C; c++ {
-				design.Set(r, 1+c, tp.covariate(cov, i, c))
+				design.Set(r, 1+c, tp.covariate(cov, i, first+c))
 			}
 			obs.SetVec(r, y.At(i, t))
 		}
@@ -117,6 +149,15 @@ func (tp *TargetPrep) fitConfounds(y, cov *mat.Dense, rows []int) error {
 		tp.Confounds.SetCol(t, beta.RawVector().Data)
 	}
 	return nil
+}
+
+func (tp *TargetPrep) numBlocks() int { return max(1, tp.blocks) }
+
+// firstCovariate returns the first covariate column of the block of
+// target column t of T.
+func (tp *TargetPrep) firstCovariate(t, T int) int {
+	B := tp.numBlocks()
+	return t / (T / B) * (len(tp.CovariateMean) / B)
 }
 
 func (tp *TargetPrep) covariate(cov *mat.Dense, i, c int) float64 {
@@ -132,10 +173,11 @@ func (tp *TargetPrep) residual(y, cov *mat.Dense, i, t int) float64 {
 	if tp.Confounds == nil || math.IsNaN(v) {
 		return v
 	}
-	C := len(tp.CovariateMean)
+	C := len(tp.CovariateMean) / tp.numBlocks()
+	first := tp.firstCovariate(t, len(tp.Mean))
 	v -= tp.Confounds.At(0, t)
 	for c := 0; c < C; c++ {
-		v -= tp.Confounds.At(1+c, t) * tp.covariate(cov, i, c)
+		v -= tp.Confounds.At(1+c, t) * tp.covariate(cov, i, first+c)
 	}
 	return v
 }

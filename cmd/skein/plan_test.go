@@ -13,12 +13,13 @@ import (
 )
 
 // batchExperiment is a small experiment with every kind of unit: two
-// baselines and a small network, 3 folds × 2 repeats and a permutation test whose chunks of 4
-// split 10 permutations unevenly.
+// baselines and a small network, 3 folds × 2 repeats with confounds and a
+// permutation test whose chunks of 4 split 10 permutations unevenly.
 const batchExperiment = `
 [cv]
 folds = 3
 repeats = 2
+confounds = ["age", "sex"]
 
 [permutation]
 count = 10
