@@ -41,6 +41,8 @@ type Report struct {
 	Cautions []string
 	// Participants and Excluded count the cohort.
 	Participants, Excluded int
+	// Grouped says whether the cohort has a grouping column.
+	Grouped bool
 	// SampleSize is the sample-size curve; nil unless the experiment asks
 	// for one ([sample_size]).
 	SampleSize []SampleSizeRow
@@ -66,7 +68,8 @@ func Evaluate(ctx context.Context, r *train.Runner, res *train.Result, bins int)
 func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, bins int,
 	nulls func(observed *Summary) ([]NullDistribution, error)) (*Report, error) {
 	exp := r.Experiment
-	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: len(r.Cohort.Excluded)}
+	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: len(r.Cohort.Excluded),
+		Grouped: train.Groups(r.Cohort) != nil}
 	rep.Rows = res.Predictions
 	rep.Summary = Summarize(rep.Rows, bins, true)
 	orderGroups(rep.Summary, exp, r.Cohort.Targets)
@@ -109,6 +112,19 @@ func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, 
 	rep.Comparisons = comps
 	rep.Cautions = runCautions(rep, r)
 	return rep, nil
+}
+
+// blocksSentence says how a permutation exchanges the rows of grouped
+// participants.
+func blocksSentence(blocks string) string {
+	switch blocks {
+	case "within":
+		return "rows shuffled within each group"
+	case "whole":
+		return "groups exchanged whole among groups of the same size"
+	}
+	return fmt.Sprintf("blocks = \"auto\": groups of at most %d, such as families, exchanged whole among groups of the "+
+		"same size and shuffled within; larger groups, such as sites, shuffled within only", train.AutoWholeMax)
 }
 
 // smallFold is the test-fold size below which fold-level figures are too
@@ -218,7 +234,10 @@ func (rep *Report) WriteMarkdown(buf *bytes.Buffer) error {
 		fmt.Fprintf(buf, ", confounds %v regressed out of the scores within each training fold", exp.CV.Confounds)
 	}
 	if rep.Nulls != nil {
-		fmt.Fprintf(buf, ", %d permutations", exp.Permutation.Count)
+		fmt.Fprintf(buf, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
+		if rep.Grouped {
+			fmt.Fprintf(buf, " (%s)", blocksSentence(exp.Permutation.Blocks))
+		}
 	}
 	buf.WriteString(".\n\n## Metrics\n\n")
 	if err := rep.Summary.WriteMarkdown(buf); err != nil {
