@@ -83,3 +83,35 @@ type Saver interface {
 	Regressor
 	Save(dir string) error
 }
+
+// A Choice is a setting that a model chose on its training fold, for one
+// target, from a grid of candidate values by inner cross-validation, such
+// as the penalty of ridge regression from its alphas grid.
+type Choice struct {
+	// Setting is the experiment key of the grid inside the model's kind
+	// table, such as "alphas".
+	Setting string
+	// Value is the chosen value, as written in the grid.
+	Value float64
+	// Min and Max are the smallest and the largest value of the grid.
+	// A grid of one value gives Min = Max = Value.
+	Min, Max float64
+}
+
+// AtEdge reports whether Value is the smallest or the largest value of a
+// grid of at least two distinct values: Min < Max and Value ∈ {Min, Max}.
+// A choice at the edge says the best value may lie outside the grid; a
+// grid of one value chooses nothing and is never at its edge.
+func (c Choice) AtEdge() bool {
+	return c.Min < c.Max && (c.Value == c.Min || c.Value == c.Max)
+}
+
+// Tuned is implemented by regressors that choose settings from grids by
+// inner cross-validation on their training fold.
+type Tuned interface {
+	Regressor
+	// Choices returns, for each target (column of the Y of the last Fit),
+	// the choices made for it, one per grid, in the order of the model's
+	// settings; nil before Fit. The caller must not modify the result.
+	Choices() [][]Choice
+}

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 
 	"github.com/pelletier/go-toml/v2"
@@ -37,6 +38,9 @@ type Experiment struct {
 	Drift Drift `toml:"drift"`
 	// SampleSize asks for the sample-size curve ([sample_size]).
 	SampleSize SampleSize `toml:"sample_size"`
+	// Comparison says which baseline the models are compared with
+	// ([comparison]).
+	Comparison Comparison `toml:"comparison"`
 	// Sweeps vary settings of models ([[sweep]]); Expand turns them into
 	// models.
 	Sweeps []Sweep `toml:"sweep,omitempty"`
@@ -157,6 +161,51 @@ func (e *Experiment) Validate() error {
 		if err := m.Validate(); err != nil {
 			return fmt.Errorf("model %q: %w", m.Name, err)
 		}
+	}
+	return e.Comparison.Validate(e.Models, e.Sweeps)
+}
+
+// Comparison says how the models of an experiment are compared: the
+// [comparison] table of an experiment file.
+type Comparison struct {
+	// Reference names the baseline every model is compared with: a
+	// [[model]] that is not a network (a variant of a swept model is named
+	// as the run names it, such as "ridge[alphas=10]"). "" (the default)
+	// leaves the choice to the run, which makes it on the inner validation
+	// parts of the training folds, never on the test folds: a run without
+	// a reference records each baseline's inner validation error when it
+	// has at least two baselines (see Result.InnerLoss).
+	Reference string `toml:"reference"`
+}
+
+// Validate reports a reference that names no model of models, a network,
+// or a swept model (which the run replaces by its variants); the error
+// names the key comparison.reference.
+func (c Comparison) Validate(models []ModelConfig, sweeps []Sweep) error {
+	const key = "comparison.reference"
+	if c.Reference == "" {
+		return nil
+	}
+	swept := func(name string) bool {
+		return slices.ContainsFunc(sweeps, func(s Sweep) bool { return s.Model == name })
+	}
+	kind := ""
+	if i := slices.IndexFunc(models, func(m ModelConfig) bool { return m.Name == c.Reference }); i >= 0 {
+		if swept(c.Reference) {
+			return fmt.Errorf("%s: model %q is swept into variants; name one of them, such as %q", key, c.Reference, sweepGrid(c.Reference, sweeps)[0].Name)
+		}
+		kind = models[i].Kind()
+	}
+	for _, m := range models { // a variant of a swept model, before Expand
+		if swept(m.Name) && slices.ContainsFunc(sweepGrid(m.Name, sweeps), func(v Variant) bool { return v.Name == c.Reference }) {
+			kind = m.Kind()
+		}
+	}
+	switch kind {
+	case "":
+		return fmt.Errorf("%s: no model is named %q", key, c.Reference)
+	case "network":
+		return fmt.Errorf("%s: model %q is a network; the reference must be a baseline (mean, ridge, kernel_ridge or cpm)", key, c.Reference)
 	}
 	return nil
 }

@@ -154,7 +154,8 @@ type Checkpoints struct {
 
 // unitFile is the JSON form of a finished unit. Floats survive the round
 // trip exactly (encoding/json writes the shortest representation that
-// parses back to the same float64).
+// parses back to the same float64). Fields added later are optional, so
+// older checkpoints still load.
 type unitFile struct {
 	Model       string           `json:"model"`
 	Repeat      int              `json:"repeat"`
@@ -163,6 +164,18 @@ type unitFile struct {
 	History     []unitEpoch      `json:"history,omitempty"`
 	// Importance holds one row-major p × p map per target.
 	Importance [][]float64 `json:"importance,omitempty"`
+	// Choices holds, per target, the settings a tuned model chose.
+	Choices [][]unitChoice `json:"choices,omitempty"`
+	// InnerLoss holds a baseline's inner validation error per target,
+	// null for NaN (see Result.InnerLoss).
+	InnerLoss []*float64 `json:"inner_loss,omitempty"`
+}
+
+type unitChoice struct {
+	Setting string  `json:"setting"`
+	Value   float64 `json:"value"`
+	Min     float64 `json:"min"`
+	Max     float64 `json:"max"`
 }
 
 type unitPrediction struct {
@@ -215,6 +228,20 @@ func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
 	for _, m := range out.importance {
 		f.Importance = append(f.Importance, m.RawMatrix().Data)
 	}
+	for _, cs := range out.choices {
+		uc := make([]unitChoice, len(cs))
+		for k, c := range cs {
+			uc[k] = unitChoice{c.Setting, c.Value, c.Min, c.Max}
+		}
+		f.Choices = append(f.Choices, uc)
+	}
+	for _, v := range out.innerLoss {
+		var p *float64
+		if !math.IsNaN(v) {
+			p = &v
+		}
+		f.InnerLoss = append(f.InnerLoss, p)
+	}
 	raw, err := json.Marshal(f)
 	if err != nil {
 		return fmt.Errorf("checkpoint of model %q, repeat %d, fold %d: %w", name, u.Repeat+1, u.Fold+1, err)
@@ -263,6 +290,20 @@ func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 			return unitOutput{}, false, fmt.Errorf("%s: an importance map of %d values is not square", path, len(flat))
 		}
 		out.importance = append(out.importance, mat.NewDense(p, p, flat))
+	}
+	for _, uc := range f.Choices {
+		cs := make([]model.Choice, len(uc))
+		for k, c := range uc {
+			cs[k] = model.Choice{Setting: c.Setting, Value: c.Value, Min: c.Min, Max: c.Max}
+		}
+		out.choices = append(out.choices, cs)
+	}
+	for _, p := range f.InnerLoss {
+		v := math.NaN()
+		if p != nil {
+			v = *p
+		}
+		out.innerLoss = append(out.innerLoss, v)
 	}
 	return out, true, nil
 }

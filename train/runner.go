@@ -67,6 +67,25 @@ type Result struct {
 	// Importance holds, per unit of a model.Interpreter, one p × p edge
 	// importance map per target, computed on the unit's test fold.
 	Importance map[Unit][]*mat.Dense
+	// Choices holds, per unit of a model.Tuned, the settings the model
+	// chose on its training fold from grids: one list per target (cohort
+	// order), as model.Tuned.Choices returns them.
+	Choices map[Unit][][]model.Choice
+	// InnerLoss holds, per unit of a baseline (a model that is not a
+	// network), the baseline's error on the fold's inner validation part,
+	// by which a run may choose the reference of its comparison without
+	// looking at the test folds. A fresh instance of the model, seeded as
+	// the unit's, is fitted on the training part without the inner
+	// validation part; InnerLoss[u][t] is its mean squared error
+	//
+	//	(1/nₜ) Σᵢ (ŷᵢₜ − zᵢₜ)²
+	//
+	// over the nₜ validation participants i with a score zᵢₜ for target
+	// t, in standardized score units (the units the models learn), and
+	// NaN when nₜ = 0. It is only computed when the experiment names no
+	// comparison.reference and has at least two baselines, and only for
+	// folds with an inner validation part (cv.inner_validation > 0).
+	InnerLoss map[Unit][]float64
 	// Units lists every unit of the run in order.
 	Units []Unit
 }
@@ -95,7 +114,9 @@ type Runner struct {
 
 	newModel func(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error)
 	splits   []Split // when set, used instead of the experiment's folds
-	// skipImportance leaves out edge importance (permuted runs need none).
+	// skipImportance leaves out what only the report of a full run
+	// needs: edge importance, grid choices and inner validation errors
+	// (permuted and sample-size runs need none).
 	skipImportance bool
 	// prepBlocks, when above 1, is the number of blocks of a permuted
 	// cohort's scores and confounds (FitTargetPrepBlocks).
@@ -182,7 +203,8 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		}
 	}
 
-	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense)}
+	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense),
+		Choices: make(map[Unit][][]model.Choice), InnerLoss: make(map[Unit][]float64)}
 	all := unitsOf(len(exp.Models), splits)
 	res.Units = all
 	if r.Select != nil {
@@ -270,6 +292,12 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		if outputs[u].importance != nil {
 			res.Importance[unit] = outputs[u].importance
 		}
+		if outputs[u].choices != nil {
+			res.Choices[unit] = outputs[u].choices
+		}
+		if outputs[u].innerLoss != nil {
+			res.InnerLoss[unit] = outputs[u].innerLoss
+		}
 	}
 	return res, nil
 }
@@ -337,6 +365,8 @@ type unitOutput struct {
 	predictions []model.Prediction
 	history     []model.Epoch
 	importance  []*mat.Dense
+	choices     [][]model.Choice
+	innerLoss   []float64
 }
 
 func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *foldData,
@@ -389,6 +419,20 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 	if it, ok := reg.(model.Iterative); ok {
 		out.history = it.History()
 	}
+	if tuned, ok := reg.(model.Tuned); ok && !r.skipImportance {
+		if out.choices = tuned.Choices(); len(out.choices) != len(fd.targetName) {
+			return unitOutput{}, false, fmt.Errorf("choices for %d targets, want %d", len(out.choices), len(fd.targetName))
+		}
+	}
+	if wantsInnerLoss(r.Experiment, cfg) && fd.valid.Len() > 0 && !r.skipImportance {
+		fresh, err := newModel(cfg, r.Cohort.P(), len(r.Cohort.Targets), seed)
+		if err != nil {
+			return unitOutput{}, false, err
+		}
+		if out.innerLoss, err = innerLoss(ctx, fresh, fd); err != nil {
+			return unitOutput{}, false, fmt.Errorf("inner validation error of the baseline (name comparison.reference to skip it): %w", err)
+		}
+	}
 	if in, ok := reg.(model.Interpreter); ok && !r.skipImportance {
 		if out.importance, err = in.EdgeImportance(fd.test); err != nil {
 			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
@@ -405,6 +449,62 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 		}
 	}
 	return out, false, nil
+}
+
+// wantsInnerLoss reports whether a run of exp records the inner
+// validation error of model cfg: cfg is a baseline, and exp names no
+// comparison.reference and has at least two baselines to choose from.
+func wantsInnerLoss(exp *Experiment, cfg ModelConfig) bool {
+	if cfg.Kind() == "network" || exp.Comparison.Reference != "" {
+		return false
+	}
+	baselines := 0
+	for _, m := range exp.Models {
+		if m.Kind() != "network" {
+			baselines++
+		}
+	}
+	return baselines >= 2
+}
+
+// innerLoss fits reg, a fresh model, on the training part of fd alone and
+// returns its mean squared error on the inner validation part per target,
+// in standardized score units; NaN for a target without a validation
+// score (see Result.InnerLoss).
+func innerLoss(ctx context.Context, reg model.Regressor, fd *foldData) ([]float64, error) {
+	if err := reg.Fit(ctx, fd.train, model.Dataset{}); err != nil {
+		return nil, err
+	}
+	pred, err := reg.Predict(fd.valid.Participants)
+	if err != nil {
+		return nil, err
+	}
+	T := len(fd.targetName)
+	if rows, cols := pred.Dims(); rows != fd.valid.Len() || cols != T {
+		return nil, fmt.Errorf("predictions are %d × %d, want %d × %d", rows, cols, fd.valid.Len(), T)
+	}
+	loss := make([]float64, T)
+	for t, target := range fd.targetName {
+		var sum float64
+		var n int
+		for i, p := range fd.valid.Participants {
+			z := fd.valid.Y.At(i, t)
+			if math.IsNaN(z) {
+				continue
+			}
+			v := pred.At(i, t)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("participant %s, target %s: prediction is %v: %w", p.ID, target, v, model.ErrDiverged)
+			}
+			sum += (v - z) * (v - z)
+			n++
+		}
+		loss[t] = math.NaN()
+		if n > 0 {
+			loss[t] = sum / float64(n)
+		}
+	}
+	return loss, nil
 }
 
 func pick(c *data.Cohort, idx []int) []*data.Participant {

@@ -156,6 +156,13 @@ func TestPlanUnitsMergeEqualsSingleRun(t *testing.T) {
 		t.Fatalf("merge: exit %d: %s%s", code, stdout, stderr)
 	}
 	compareRuns(t, single, out, resultFiles)
+	// The unit checkpoints too, with the baselines' grid choices and inner
+	// validation errors.
+	units := []string{"units/mean/r2-f3.json", "units/ridge/r1-f2.json"}
+	compareRuns(t, single, out, units)
+	if raw, _ := os.ReadFile(filepath.Join(out, units[1])); !bytes.Contains(raw, []byte(`"choices":`)) || !bytes.Contains(raw, []byte(`"inner_loss":`)) {
+		t.Errorf("%s lacks the choices or the inner validation error:\n%.600s", units[1], raw)
+	}
 	if _, err := os.Stat(out + ".partial"); err == nil {
 		t.Error("merge left the work folder behind")
 	}

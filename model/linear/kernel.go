@@ -173,6 +173,10 @@ func (k *KernelRidge) Predict(ps []*data.Participant) (*mat.Dense, error) {
 // (nil before Fit).
 func (k *KernelRidge) Alphas() []float64 { return k.alphas }
 
+// Choices makes KernelRidge a model.Tuned: for each column of the last
+// Fit, the penalty chosen from the alphas grid (nil before Fit).
+func (k *KernelRidge) Choices() [][]model.Choice { return alphaChoices(k.cfg.Alphas, k.alphas) }
+
 // Weights returns the primal weights w = Xᵀα, d × T, of the fitted model
 // in the space the kernel is linear in: the raw edges for "linear", the
 // per-participant centred and unit-length edges for "correlation". The

@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -71,65 +72,85 @@ func (c fixtureCohort) dataset(rows []int) model.Dataset {
 	return model.Dataset{Participants: ps, Y: denseOf(y)}
 }
 
+// TestAgainstScikitLearn fits every case of the fixtures of
+// testdata/linear/make_fixtures.py (sklearn.json) and make_grid_edges.py
+// (grid_edges.json) and compares the predictions, and the penalties chosen
+// by inner cross-validation, with scikit-learn's.
 func TestAgainstScikitLearn(t *testing.T) {
-	var fixture struct {
-		Cohorts []fixtureCohort `json:"cohorts"`
+	for _, file := range []string{"sklearn.json", "grid_edges.json"} {
+		var fixture struct {
+			Cohorts []fixtureCohort `json:"cohorts"`
+		}
+		readJSON(t, file, &fixture)
+		for ci, c := range fixture.Cohorts {
+			testFixtureCohort(t, fmt.Sprintf("%s/cohort%d", file, ci), c)
+		}
 	}
-	readJSON(t, "sklearn.json", &fixture)
-	for ci, c := range fixture.Cohorts {
-		train, test := c.dataset(c.Train), c.dataset(c.Test)
-		for _, tc := range c.Cases {
-			t.Run(fmt.Sprintf("cohort%d/%s", ci, tc.Name), func(t *testing.T) {
-				var set struct {
-					Input       string    `json:"input"`
-					Standardize string    `json:"standardize"`
-					Kernel      string    `json:"kernel"`
-					Alphas      []float64 `json:"alphas"`
-					AlphaScale  string    `json:"alpha_scale"`
-					InnerFolds  int       `json:"inner_folds"`
+}
+
+func testFixtureCohort(t *testing.T, name string, c fixtureCohort) {
+	train, test := c.dataset(c.Train), c.dataset(c.Test)
+	for _, tc := range c.Cases {
+		t.Run(name+"/"+tc.Name, func(t *testing.T) {
+			var set struct {
+				Input       string    `json:"input"`
+				Standardize string    `json:"standardize"`
+				Kernel      string    `json:"kernel"`
+				Alphas      []float64 `json:"alphas"`
+				AlphaScale  string    `json:"alpha_scale"`
+				InnerFolds  int       `json:"inner_folds"`
+			}
+			if err := json.Unmarshal(tc.Settings, &set); err != nil {
+				t.Fatal(err)
+			}
+			var cfg Config
+			switch tc.Model {
+			case "ridge":
+				cfg.Ridge = &RidgeConfig{Input: set.Input, Standardize: set.Standardize,
+					Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds}
+			case "kernel_ridge":
+				cfg.KernelRidge = &KernelRidgeConfig{Input: set.Input, Kernel: set.Kernel,
+					Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds}
+			}
+			cfg.SetDefaults()
+			if err := cfg.Validate(); err != nil {
+				t.Fatal(err)
+			}
+			reg, err := cfg.New(2, 1)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if err := reg.Fit(context.Background(), train, model.Dataset{}); err != nil {
+				t.Fatal(err)
+			}
+			if tc.ChosenAlphas != nil {
+				// GridSearchCV's best_params_ is the value chosen; it is at
+				// the grid's edge when it is the grid's min or max.
+				lo, hi := slices.Min(set.Alphas), slices.Max(set.Alphas)
+				got := reg.(model.Tuned).Choices()
+				if len(got) != len(tc.ChosenAlphas) {
+					t.Fatalf("choices for %d columns, want %d", len(got), len(tc.ChosenAlphas))
 				}
-				if err := json.Unmarshal(tc.Settings, &set); err != nil {
-					t.Fatal(err)
-				}
-				var cfg Config
-				switch tc.Model {
-				case "ridge":
-					cfg.Ridge = &RidgeConfig{Input: set.Input, Standardize: set.Standardize,
-						Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds}
-				case "kernel_ridge":
-					cfg.KernelRidge = &KernelRidgeConfig{Input: set.Input, Kernel: set.Kernel,
-						Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds}
-				}
-				cfg.SetDefaults()
-				if err := cfg.Validate(); err != nil {
-					t.Fatal(err)
-				}
-				reg, err := cfg.New(2, 1)
-				if err != nil {
-					t.Fatal(err)
-				}
-				if err := reg.Fit(context.Background(), train, model.Dataset{}); err != nil {
-					t.Fatal(err)
-				}
-				if tc.ChosenAlphas != nil {
-					got := reg.(interface{ Alphas() []float64 }).Alphas()
-					for j, want := range tc.ChosenAlphas {
-						if got[j] != want {
-							t.Errorf("column %d: inner CV chose alpha %v, GridSearchCV chose %v", j, got[j], want)
-						}
+				for j, want := range tc.ChosenAlphas {
+					wantChoice := []model.Choice{{Setting: "alphas", Value: want, Min: lo, Max: hi}}
+					if !slices.Equal(got[j], wantChoice) {
+						t.Errorf("column %d: choices %+v, want %+v (GridSearchCV's)", j, got[j], wantChoice)
+					}
+					if edge := want == lo || want == hi; got[j][0].AtEdge() != edge {
+						t.Errorf("column %d: AtEdge() = %v for alpha %v of grid %v", j, !edge, want, set.Alphas)
 					}
 				}
-				pred, err := reg.Predict(test.Participants)
-				if err != nil {
-					t.Fatal(err)
-				}
-				want := denseOf(tc.Predictions)
-				assertClose(t, pred, want, 1e-8)
-				var diff mat.Dense
-				diff.Sub(pred, want)
-				t.Logf("largest difference from scikit-learn %.2g", mat.Norm(&diff, math.Inf(1)))
-			})
-		}
+			}
+			pred, err := reg.Predict(test.Participants)
+			if err != nil {
+				t.Fatal(err)
+			}
+			want := denseOf(tc.Predictions)
+			assertClose(t, pred, want, 1e-8)
+			var diff mat.Dense
+			diff.Sub(pred, want)
+			t.Logf("largest difference from scikit-learn %.2g", mat.Norm(&diff, math.Inf(1)))
+		})
 	}
 }
 

@@ -3,6 +3,7 @@ package linear
 import (
 	"context"
 	"fmt"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -286,6 +287,25 @@ func addToColumns(m *mat.Dense, v []float64) {
 // Alphas returns the grid value chosen for each column by the last Fit
 // (nil before Fit).
 func (r *Ridge) Alphas() []float64 { return r.alphas }
+
+// Choices makes Ridge a model.Tuned: for each column of the last Fit, the
+// penalty chosen from the alphas grid. It is nil before Fit and for a
+// model read back from a folder, which keeps no grid.
+func (r *Ridge) Choices() [][]model.Choice { return alphaChoices(r.cfg.Alphas, r.alphas) }
+
+// alphaChoices returns, for each column, the choice of chosen[j] from the
+// alphas grid; nil when either is.
+func alphaChoices(grid, chosen []float64) [][]model.Choice {
+	if chosen == nil || len(grid) == 0 {
+		return nil
+	}
+	lo, hi := slices.Min(grid), slices.Max(grid)
+	out := make([][]model.Choice, len(chosen))
+	for j, a := range chosen {
+		out[j] = []model.Choice{{Setting: "alphas", Value: a, Min: lo, Max: hi}}
+	}
+	return out
+}
 
 // Weights returns the fitted weights on the scale of the raw edges, d × T
 // (d the number of input edges, in the order of Edges, functional before
