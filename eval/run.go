@@ -8,6 +8,7 @@ import (
 	"math"
 	"slices"
 	"strconv"
+	"strings"
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/train"
@@ -94,7 +95,7 @@ func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, 
 			baselines = append(baselines, m.Name)
 		}
 	}
-	reference, rule := ChooseReference(r.Cohort.Targets, baselines, "", nil)
+	reference, rule := ChooseReference(r.Cohort.Targets, baselines, exp.Comparison.Reference, meanInnerLoss(exp, res, len(r.Cohort.Targets)))
 	rep.ReferenceRule = rule
 	var nTrain, nTest float64
 	for _, s := range res.Splits {
@@ -114,6 +115,31 @@ func EvaluateWithNulls(ctx context.Context, r *train.Runner, res *train.Result, 
 	return rep, nil
 }
 
+// meanInnerLoss returns, per model, the mean over its units of the
+// inner-validation loss of each target (NaN where no unit has one).
+func meanInnerLoss(exp *train.Experiment, res *train.Result, targets int) map[string][]float64 {
+	sums := make(map[string][]float64)
+	counts := make(map[string][]int)
+	for u, losses := range res.InnerLoss {
+		name := exp.Models[u.Model].Name
+		if sums[name] == nil {
+			sums[name], counts[name] = make([]float64, targets), make([]int, targets)
+		}
+		for t, v := range losses {
+			if !math.IsNaN(v) {
+				sums[name][t] += v
+				counts[name][t]++
+			}
+		}
+	}
+	for name, s := range sums {
+		for t := range s {
+			s[t] /= float64(counts[name][t]) // 0/0 is NaN: no unit had a loss
+		}
+	}
+	return sums
+}
+
 // blocksSentence says how a permutation exchanges the rows of grouped
 // participants.
 func blocksSentence(blocks string) string {
@@ -125,6 +151,62 @@ func blocksSentence(blocks string) string {
 	}
 	return fmt.Sprintf("blocks = \"auto\": groups of at most %d, such as families, exchanged whole among groups of the "+
 		"same size and shuffled within; larger groups, such as sites, shuffled within only", train.AutoWholeMax)
+}
+
+// gridEdgeCautions returns one caution per model, target and setting whose
+// grid choice fell on an edge of its grid in some fold.
+func gridEdgeCautions(exp *train.Experiment, res *train.Result, targets []string) []string {
+	type key struct {
+		model, target int
+		setting       string
+	}
+	type count struct {
+		low, high, folds int
+		min, max         float64
+	}
+	counts := make(map[key]*count)
+	var keys []key
+	for _, u := range res.Units {
+		for t, choices := range res.Choices[u] {
+			for _, c := range choices {
+				k := key{u.Model, t, c.Setting}
+				n := counts[k]
+				if n == nil {
+					n = &count{min: c.Min, max: c.Max}
+					counts[k] = n
+					keys = append(keys, k)
+				}
+				n.folds++
+				if c.AtEdge() && c.Value == c.Min {
+					n.low++
+				} else if c.AtEdge() {
+					n.high++
+				}
+			}
+		}
+	}
+	var out []string
+	for _, k := range keys {
+		n := counts[k]
+		if n.low+n.high == 0 {
+			continue
+		}
+		var where []string
+		if n.high > 0 {
+			where = append(where, fmt.Sprintf("the largest %s value (%g) in %d", k.setting, n.max, n.high))
+		}
+		if n.low > 0 {
+			where = append(where, fmt.Sprintf("the smallest %s value (%g) in %d", k.setting, n.min, n.low))
+		}
+		text := fmt.Sprintf("Grid edge: for %s, %s chose %s of %d folds, so the best value may lie beyond the grid; "+
+			"widen %s in [model.%s].", targets[k.target], exp.Models[k.model].Name, strings.Join(where, " and "),
+			n.folds, k.setting, exp.Models[k.model].Kind())
+		if n.high > 0 {
+			text += " A penalty at the top of its grid makes predictions close to constant."
+		}
+		out = append(out, text)
+	}
+	return out
 }
 
 // smallFold is the test-fold size below which fold-level figures are too
@@ -168,6 +250,7 @@ func runCautions(rep *Report, r *train.Runner) []string {
 				"distinct splits and permutations exist.", len(r.Cohort.Participants), distinct, k))
 		}
 	}
+	out = append(out, gridEdgeCautions(rep.Experiment, rep.Result, r.Cohort.Targets)...)
 	if count := rep.Experiment.Permutation.Count; count > 0 && count < 99 {
 		out = append(out, fmt.Sprintf("Few permutations: with %d permutations the smallest possible p-value is "+
 			"1/%d = %.3f.", count, count+1, 1/float64(count+1)))

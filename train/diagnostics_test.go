@@ -128,7 +128,7 @@ func TestInnerLossOnlyWhenNeeded(t *testing.T) {
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			res, err := (&Runner{Experiment: tt.exp(), Cohort: cohort, skipImportance: tt.sub}).Run(context.Background())
+			res, err := (&Runner{Experiment: tt.exp(), Cohort: cohort, scoresOnly: tt.sub}).Run(context.Background())
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -251,8 +251,8 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 				newModel:   newModel,
 				splits:     splits,
 
-				skipImportance: true,
-				prepBlocks:     len(batch),
+				scoresOnly: true,
+				prepBlocks: len(batch),
 			}
 			res, err := sub.Run(ctx)
 			if err != nil {

@@ -114,10 +114,10 @@ type Runner struct {
 
 	newModel func(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error)
 	splits   []Split // when set, used instead of the experiment's folds
-	// skipImportance leaves out what only the report of a full run
+	// scoresOnly leaves out what only the report of a full run
 	// needs: edge importance, grid choices and inner validation errors
 	// (permuted and sample-size runs need none).
-	skipImportance bool
+	scoresOnly bool
 	// prepBlocks, when above 1, is the number of blocks of a permuted
 	// cohort's scores and confounds (FitTargetPrepBlocks).
 	prepBlocks int
@@ -419,12 +419,12 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 	if it, ok := reg.(model.Iterative); ok {
 		out.history = it.History()
 	}
-	if tuned, ok := reg.(model.Tuned); ok && !r.skipImportance {
+	if tuned, ok := reg.(model.Tuned); ok && !r.scoresOnly {
 		if out.choices = tuned.Choices(); len(out.choices) != len(fd.targetName) {
 			return unitOutput{}, false, fmt.Errorf("choices for %d targets, want %d", len(out.choices), len(fd.targetName))
 		}
 	}
-	if wantsInnerLoss(r.Experiment, cfg) && fd.valid.Len() > 0 && !r.skipImportance {
+	if wantsInnerLoss(r.Experiment, cfg) && fd.valid.Len() > 0 && !r.scoresOnly {
 		fresh, err := newModel(cfg, r.Cohort.P(), len(r.Cohort.Targets), seed)
 		if err != nil {
 			return unitOutput{}, false, err
@@ -433,7 +433,7 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 			return unitOutput{}, false, fmt.Errorf("inner validation error of the baseline (name comparison.reference to skip it): %w", err)
 		}
 	}
-	if in, ok := reg.(model.Interpreter); ok && !r.skipImportance {
+	if in, ok := reg.(model.Interpreter); ok && !r.scoresOnly {
 		if out.importance, err = in.EdgeImportance(fd.test); err != nil {
 			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
 		}

@@ -147,7 +147,7 @@ func (r *Runner) RunSampleSizes(ctx context.Context, ss SampleSize) ([]SampleSiz
 			newModel:   r.newModel,
 			splits:     subsets[fi],
 
-			skipImportance: true,
+			scoresOnly: true,
 		}
 		res, err := sub.Run(ctx)
 		if err != nil {
