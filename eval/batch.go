@@ -39,13 +39,13 @@ func nullColumns() []string {
 	for _, m := range Metrics() {
 		cols = append(cols, string(m))
 	}
-	return cols
+	return append(cols, "nmi_chance")
 }
 
 // WriteNullScores writes rows as CSV: model, target, permutation (from 0),
-// n, missing, bins, then one column per metric of Metrics, each float in
-// the shortest form that reads back to the same float64 (NaN for an
-// undefined value).
+// n, missing, bins, then one column per metric of Metrics and nmi_chance,
+// each float in the shortest form that reads back to the same float64 (NaN
+// for an undefined value).
 func WriteNullScores(rows []NullScores) ([]byte, error) {
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
@@ -55,6 +55,7 @@ func WriteNullScores(rows []NullScores) ([]byte, error) {
 		for _, m := range Metrics() {
 			rec = append(rec, strconv.FormatFloat(r.Get(m), 'g', -1, 64))
 		}
+		rec = append(rec, strconv.FormatFloat(r.NMIChance, 'g', -1, 64))
 		w.Write(rec)
 	}
 	w.Flush()
@@ -93,12 +94,12 @@ func ReadNullScores(r io.Reader, name string) ([]NullScores, error) {
 			}
 			*dst = v
 		}
-		for c, m := range Metrics() {
+		for c, dst := range append(row.Values.fields(), &row.NMIChance) {
 			v, err := strconv.ParseFloat(rec[6+c], 64)
 			if err != nil {
 				return nil, &ParseError{File: name, Line: line, Column: 7 + c, Name: want[6+c], Err: fmt.Errorf("want a number or NaN, found %q", rec[6+c])}
 			}
-			row.Set(m, v)
+			*dst = v
 		}
 		rows = append(rows, row)
 	}

@@ -62,3 +62,18 @@ func BenchmarkBootstrapCI(b *testing.B) {
 		})
 	}
 }
+
+// E[I] of ten equal-frequency bins a side, the extra work AMI and the
+// chance level of NMI add to Score.
+func BenchmarkExpectedMILabels(b *testing.B) {
+	for _, n := range []int{100, 1000, 10000} {
+		rows := benchRows(n, 1)[:n]
+		a := EqualFrequencyBins(obsOf(rows), DefaultBins)
+		p := EqualFrequencyBins(predOf(rows), DefaultBins)
+		b.Run(fmt.Sprint(n), func(b *testing.B) {
+			for b.Loop() {
+				ExpectedMILabels(a, p)
+			}
+		})
+	}
+}

@@ -48,12 +48,17 @@ type refMetrics struct {
 	RMSE     fnum `json:"rmse"`
 	R2       fnum `json:"r2"`
 	NMI      fnum `json:"nmi"`
+	AMI      fnum `json:"ami"`
+	// NMIChance is absent (so 0) from fold_mean and fold_sd, which hold
+	// metrics only.
+	NMIChance fnum `json:"nmi_chance"`
 }
 
 func (r refMetrics) values() Values {
 	return Values{
 		Pearson: float64(r.Pearson), Spearman: float64(r.Spearman), MAE: float64(r.MAE),
 		MedianAE: float64(r.MedianAE), RMSE: float64(r.RMSE), R2: float64(r.R2), NMI: float64(r.NMI),
+		AMI: float64(r.AMI),
 	}
 }
 
@@ -70,6 +75,21 @@ type fixtures struct {
 		Bins int       `json:"bins"`
 		Want []int     `json:"want"`
 	} `json:"binning"`
+	AMI []struct {
+		Name       string  `json:"name"`
+		A          []int   `json:"a"`
+		B          []int   `json:"b"`
+		AMISklearn float64 `json:"ami_sklearn"`
+		AMI        float64 `json:"ami"`
+		NMI        float64 `json:"nmi"`
+		EMISklearn float64 `json:"emi_sklearn"`
+		EMIMpmath  *fnum   `json:"emi_mpmath"`
+		NMIChance  float64 `json:"nmi_chance"`
+		// Monte Carlo mean NMI over random pairings and its standard
+		// error; absent for most cases.
+		NMIChanceMC   *fnum `json:"nmi_chance_monte_carlo"`
+		NMIChanceMCSE *fnum `json:"nmi_chance_monte_carlo_se"`
+	} `json:"ami"`
 	Anscombe []struct {
 		Set     string    `json:"set"`
 		X       []float64 `json:"x"`

@@ -45,10 +45,15 @@ func checkLengths(observed, predicted []float64) {
 //	r = Σ (yᵢ − ȳ)(ŷᵢ − mean ŷ) / sqrt(Σ (yᵢ − ȳ)² · Σ (ŷᵢ − mean ŷ)²),
 //
 // computed in two passes (means first, then centred sums) so that large
-// offsets do not cost precision. It is NaN for fewer than two pairs or when
-// either side is constant.
+// offsets do not cost precision. It is NaN for fewer than two pairs, when
+// the observed values are constant, and when the predictions are constant
+// on the scale of the observed values (ConstantPredictions): a correlation
+// of rounding noise is not reported.
 func Pearson(observed, predicted []float64) float64 {
 	obs, pred, _ := CompletePairs(observed, predicted)
+	if constantPredictions(obs, pred) {
+		return math.NaN()
+	}
 	return pearson(obs, pred)
 }
 
@@ -69,12 +74,60 @@ func isConstant(x []float64) bool {
 	return true
 }
 
+// ConstantTolerance is the spread of predictions, relative to the standard
+// deviation of the observed values, at or below which ConstantPredictions
+// calls them constant.
+const ConstantTolerance = 1e-9
+
+// ConstantPredictions reports whether the predictions of the complete pairs
+// are constant on the scale of the observed values of the same pairs:
+//
+//	max |ŷᵢ − mean ŷ| ≤ ConstantTolerance · SD(y),
+//	SD(y) = sqrt((1/n) Σ (yᵢ − ȳ)²).
+//
+// Predictions that are equal are constant, whatever the observed values. A
+// model that predicts the mean of its training scores, after confounds were
+// regressed out of them, predicts values such as −4e−14 to 4e−15 for scores
+// of SD 10: rounding noise, whose order carries nothing. For such
+// predictions Pearson and Spearman are NaN, and NMI and AMI put them in one
+// bin (both are 0); MAE, median AE, RMSE and R² do not depend on the order
+// of the predictions and are computed as usual. It is true for fewer than
+// two complete pairs.
+func ConstantPredictions(observed, predicted []float64) bool {
+	obs, pred, _ := CompletePairs(observed, predicted)
+	return constantPredictions(obs, pred)
+}
+
+// constantPredictions is ConstantPredictions of complete pairs.
+func constantPredictions(obs, pred []float64) bool {
+	if len(pred) < 2 || isConstant(pred) {
+		return true
+	}
+	meanPred := stat.Mean(pred, nil)
+	var spread float64
+	for _, p := range pred {
+		spread = math.Max(spread, math.Abs(p-meanPred))
+	}
+	meanObs := stat.Mean(obs, nil)
+	var ss float64
+	for _, o := range obs {
+		d := o - meanObs
+		ss += d * d
+	}
+	return spread <= ConstantTolerance*math.Sqrt(ss/float64(len(obs)))
+}
+
 // Spearman returns Spearman's rank correlation ρ of the complete pairs: the
 // Pearson correlation of their ranks, where tied values share the mean of
 // the ranks they span (1-based average ranks). It is NaN for fewer than two
-// pairs or when either side is constant.
+// pairs, when the observed values are constant, and when the predictions
+// are constant on the scale of the observed values (ConstantPredictions):
+// the ranks of rounding noise are not reported.
 func Spearman(observed, predicted []float64) float64 {
 	obs, pred, _ := CompletePairs(observed, predicted)
+	if constantPredictions(obs, pred) {
+		return math.NaN()
+	}
 	return pearson(AverageRanks(obs), AverageRanks(pred))
 }
 
@@ -217,11 +270,12 @@ const (
 	MetricRMSE     Metric = "rmse"
 	MetricR2       Metric = "r2"
 	MetricNMI      Metric = "nmi"
+	MetricAMI      Metric = "ami"
 )
 
 // Metrics returns every metric, in the order tables show them.
 func Metrics() []Metric {
-	return []Metric{MetricPearson, MetricSpearman, MetricMAE, MetricMedianAE, MetricRMSE, MetricR2, MetricNMI}
+	return []Metric{MetricPearson, MetricSpearman, MetricMAE, MetricMedianAE, MetricRMSE, MetricR2, MetricNMI, MetricAMI}
 }
 
 // ParseMetric returns the metric named s, or an error listing the names.
@@ -262,12 +316,14 @@ func (m Metric) Label() string {
 		return "R²"
 	case MetricNMI:
 		return "NMI"
+	case MetricAMI:
+		return "AMI"
 	}
 	return string(m)
 }
 
-// Compute returns m of the pairs; bins is used by NMI only (≤ 0 means
-// DefaultBins). An unknown metric panics.
+// Compute returns m of the pairs; bins is used by NMI and AMI only (≤ 0
+// means DefaultBins). An unknown metric panics.
 func (m Metric) Compute(observed, predicted []float64, bins int) float64 {
 	switch m {
 	case MetricPearson:
@@ -284,6 +340,8 @@ func (m Metric) Compute(observed, predicted []float64, bins int) float64 {
 		return R2(observed, predicted)
 	case MetricNMI:
 		return NMI(observed, predicted, bins)
+	case MetricAMI:
+		return AMI(observed, predicted, bins)
 	}
 	panic(fmt.Sprintf("eval: unknown metric %q", string(m)))
 }
@@ -298,6 +356,7 @@ type Values struct {
 	RMSE     float64 // root mean squared error, in score units
 	R2       float64 // out-of-sample R²
 	NMI      float64 // NMI of equal-frequency bins
+	AMI      float64 // adjusted mutual information of the same bins
 }
 
 // Get returns the value of m. An unknown metric panics.
@@ -308,6 +367,15 @@ func (v Values) Get(m Metric) float64 {
 // Set sets the value of m. An unknown metric panics.
 func (v *Values) Set(m Metric, x float64) {
 	*v.field(m) = x
+}
+
+// fields returns a pointer to each value, in the order of Metrics.
+func (v *Values) fields() []*float64 {
+	out := make([]*float64, 0, len(Metrics()))
+	for _, m := range Metrics() {
+		out = append(out, v.field(m))
+	}
+	return out
 }
 
 func (v *Values) field(m Metric) *float64 {
@@ -326,6 +394,8 @@ func (v *Values) field(m Metric) *float64 {
 		return &v.R2
 	case MetricNMI:
 		return &v.NMI
+	case MetricAMI:
+		return &v.AMI
 	}
 	panic(fmt.Sprintf("eval: unknown metric %q", string(m)))
 }
@@ -334,27 +404,42 @@ func (v *Values) field(m Metric) *float64 {
 type Scores struct {
 	N       int // complete pairs scored
 	Missing int // pairs skipped because a value was NaN
-	Bins    int // equal-frequency bins of the NMI
+	Bins    int // equal-frequency bins of the NMI and AMI
 	Values
+	// NMIChance is the expected NMI of the same bins under random pairing
+	// of the observed values with the predictions (ExpectedNMILabels):
+	// compare NMI with it, for it is not 0 in small samples. NaN when no
+	// pair is complete.
+	NMIChance float64
 }
 
-// Score computes every metric of the pairs. bins is the number of
-// equal-frequency bins for NMI; bins ≤ 0 means DefaultBins.
+// Score computes every metric of the pairs and the chance level of NMI.
+// bins is the number of equal-frequency bins for NMI and AMI; bins ≤ 0
+// means DefaultBins. Each value is that of the metric's own function
+// (Pearson, …, AMI), constant predictions (ConstantPredictions) included.
 func Score(observed, predicted []float64, bins int) Scores {
 	if bins <= 0 {
 		bins = DefaultBins
 	}
 	obs, pred, skipped := CompletePairs(observed, predicted)
 	s := Scores{N: len(obs), Missing: skipped, Bins: bins}
-	for _, m := range []Metric{MetricPearson, MetricMAE, MetricMedianAE, MetricRMSE, MetricR2} {
+	for _, m := range []Metric{MetricMAE, MetricMedianAE, MetricRMSE, MetricR2} {
 		s.Set(m, m.Compute(obs, pred, bins))
 	}
-	// Spearman and NMI share one sort of each side.
-	orderObs, orderPred := sortedOrder(obs), sortedOrder(pred)
-	s.Spearman = pearson(averageRanks(obs, orderObs), averageRanks(pred, orderPred))
-	s.NMI = math.NaN()
-	if len(obs) > 0 {
-		s.NMI = NMILabels(binsOf(orderObs, bins), binsOf(orderPred, bins))
+	s.Pearson, s.Spearman = math.NaN(), math.NaN()
+	s.NMI, s.AMI, s.NMIChance = math.NaN(), math.NaN(), math.NaN()
+	if len(obs) == 0 {
+		return s
 	}
+	constant := constantPredictions(obs, pred)
+	// Spearman and the binned metrics share one sort of each side.
+	orderObs, orderPred := sortedOrder(obs), sortedOrder(pred)
+	if !constant {
+		s.Pearson = pearson(obs, pred)
+		s.Spearman = pearson(averageRanks(obs, orderObs), averageRanks(pred, orderPred))
+	}
+	c := newContingency(binsOf(obs, orderObs, bins), predictionBins(pred, orderPred, bins, constant))
+	emi := c.expectedMI()
+	s.NMI, s.AMI, s.NMIChance = c.nmi(), c.ami(emi), c.expectedNMI(emi)
 	return s
 }

@@ -7,9 +7,14 @@ import (
 
 // Each metric against scipy.stats.pearsonr / spearmanr and scikit-learn's
 // mean_absolute_error, median_absolute_error, mean_squared_error (square
-// root taken), r2_score and normalized_mutual_info_score
-// (average_method="arithmetic") on labels binned by the script with skein's
-// rule (testdata/eval/make_fixtures.py, metric_cases).
+// root taken), r2_score, normalized_mutual_info_score and
+// adjusted_mutual_info_score (average_method="arithmetic") on labels binned
+// by the script with skein's rule (scipy.stats.rankdata, method "min"), and
+// the chance level of NMI as 2·expected_mutual_information / (sum of the
+// scipy.stats.entropy of the label counts) (testdata/eval/make_fixtures.py,
+// metric_cases and constant_metric_cases). For predictions that skein calls
+// constant, the script hands scipy constant predictions, which give NaN,
+// and scikit-learn one bin.
 func TestScoreAgainstScipySklearn(t *testing.T) {
 	f := loadFixtures(t)
 	if len(f.Metrics) == 0 {
@@ -23,10 +28,14 @@ func TestScoreAgainstScipySklearn(t *testing.T) {
 				t.Errorf("N, Missing, Bins = %d, %d, %d; want %d, %d, %d", got.N, got.Missing, got.Bins, c.Want.N, c.Want.Missing, c.Bins)
 			}
 			checkValues(t, c.Name, got.Values, c.Want.values(), 1e-10)
+			if want := float64(c.Want.NMIChance); !near(got.NMIChance, want, 1e-12) {
+				t.Errorf("NMIChance = %.17g, want %.17g", got.NMIChance, want)
+			}
 			// The single-metric functions agree with Score.
 			single := Values{
 				Pearson: Pearson(obs, pred), Spearman: Spearman(obs, pred), MAE: MAE(obs, pred),
 				MedianAE: MedianAE(obs, pred), RMSE: RMSE(obs, pred), R2: R2(obs, pred), NMI: NMI(obs, pred, c.Bins),
+				AMI: AMI(obs, pred, c.Bins),
 			}
 			checkValues(t, c.Name+" single", single, got.Values, 0)
 		})
@@ -93,7 +102,8 @@ func TestNMILabelsIIR(t *testing.T) {
 	}
 }
 
-// skein's binning rule, reproduced in the fixture script.
+// skein's binning rule, reproduced in the fixture script with
+// scipy.stats.rankdata(method="min") (make_fixtures.py, binning_cases).
 func TestEqualFrequencyBins(t *testing.T) {
 	for _, c := range loadFixtures(t).Binning {
 		got := EqualFrequencyBins(c.X, c.Bins)
@@ -107,7 +117,8 @@ func TestEqualFrequencyBins(t *testing.T) {
 }
 
 // Hand-checked edge cases (common practice, no source): undefined metrics
-// are NaN, NMILabels of constant labelings is 0 by skein's definition.
+// are NaN, NMILabels of constant labelings is 0 by skein's definition, and
+// labelings that match one to one have AMI 1.
 func TestMetricEdgeCases(t *testing.T) {
 	nan := math.NaN()
 	tests := []struct {
@@ -129,6 +140,11 @@ func TestMetricEdgeCases(t *testing.T) {
 		{"r2 mean prediction", []float64{1, 2, 3}, []float64{2, 2, 2}, MetricR2, 0},
 		{"nmi empty", nil, nil, MetricNMI, nan},
 		{"nmi perfect", []float64{1, 2, 3, 4}, []float64{10, 20, 30, 40}, MetricNMI, 1},
+		{"nmi constant prediction", []float64{1, 2, 3, 4}, []float64{5, 5, 5, 5}, MetricNMI, 0},
+		{"ami empty", nil, nil, MetricAMI, nan},
+		{"ami all missing", []float64{nan}, []float64{1}, MetricAMI, nan},
+		{"ami perfect", []float64{1, 2, 3, 4}, []float64{10, 20, 30, 40}, MetricAMI, 1},
+		{"ami constant prediction", []float64{1, 2, 3, 4}, []float64{5, 5, 5, 5}, MetricAMI, 0},
 	}
 	for _, tt := range tests {
 		got := tt.metric.Compute(tt.obs, tt.pred, 2)

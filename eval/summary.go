@@ -39,8 +39,9 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 //	}
 //
 // where SCORES is {"n": complete pairs, "missing": pairs skipped, "bins": B,
-// then VALUES} and VALUES is {"pearson_r", "spearman_rho", "mae",
-// "median_ae", "rmse", "r2", "nmi"}, numbers in the units of the score. An
+// then VALUES, then "nmi_chance": Scores.NMIChance} and VALUES is
+// {"pearson_r", "spearman_rho", "mae", "median_ae", "rmse", "r2", "nmi",
+// "ami"}, numbers in the units of the score. An
 // undefined value (NaN) is written as null and read back as NaN; so would be
 // an infinite one, which finite predictions cannot produce.
 type Summary struct {
@@ -311,6 +312,7 @@ func (s Scores) addTo(o *jsonObject) {
 	o.add("missing", s.Missing)
 	o.add("bins", s.Bins)
 	o.addValues(s.Values)
+	o.add("nmi_chance", s.NMIChance)
 }
 
 // UnmarshalJSON reads what MarshalJSON writes.
@@ -319,7 +321,8 @@ func (s *Scores) UnmarshalJSON(b []byte) error {
 	if err := json.Unmarshal(b, &raw); err != nil {
 		return err
 	}
-	return s.Values.fromRaw(raw, map[string]any{"n": &s.N, "missing": &s.Missing, "bins": &s.Bins})
+	s.NMIChance = math.NaN() // when null or absent
+	return s.Values.fromRaw(raw, map[string]any{"n": &s.N, "missing": &s.Missing, "bins": &s.Bins, "nmi_chance": &s.NMIChance})
 }
 
 // MarshalJSON writes {"repeat", "fold", then the scores}, repeat and fold
@@ -338,8 +341,9 @@ func (f *FoldScores) UnmarshalJSON(b []byte) error {
 	if err := json.Unmarshal(b, &raw); err != nil {
 		return err
 	}
+	f.NMIChance = math.NaN() // when null or absent
 	if err := f.Values.fromRaw(raw, map[string]any{
-		"repeat": &f.Repeat, "fold": &f.Fold, "n": &f.N, "missing": &f.Missing, "bins": &f.Bins,
+		"repeat": &f.Repeat, "fold": &f.Fold, "n": &f.N, "missing": &f.Missing, "bins": &f.Bins, "nmi_chance": &f.NMIChance,
 	}); err != nil {
 		return err
 	}
@@ -498,7 +502,7 @@ func (s *Summary) SmallFoldNote() string {
 		return ""
 	}
 	return fmt.Sprintf("Some folds have fewer than %d pairs (the smallest has %d): their NMI is biased "+
-		"upwards, and is 1 by construction at %d pairs or fewer; compare the pooled NMI.", 2*s.Bins, small, s.Bins)
+		"upwards, and is 1 by construction at %d untied pairs or fewer; compare the pooled NMI.", 2*s.Bins, small, s.Bins)
 }
 
 // smallestFold returns the fewest pairs of any fold, −1 without folds.

@@ -25,9 +25,12 @@ func readFixturePredictions(t *testing.T) []Prediction {
 	return rows
 }
 
-// Pooled and per-fold figures and their mean and SD (numpy.std, ddof=1)
-// against the fixture script's scipy/scikit-learn values for the invented
-// run in predictions.csv (make_fixtures.py, predictions).
+// Pooled and per-fold figures, NMI's chance level, and the mean and SD
+// (numpy.std, ddof=1) of the figures against the fixture script's
+// scipy/scikit-learn values for the invented run in predictions.csv
+// (make_fixtures.py, predictions). Folds of memory have 8 distinct values
+// a side, each in a bin of its own: their AMI is 0 by skein's convention
+// (make_fixtures.py, ami_reference).
 func TestSummarizeAgainstFixture(t *testing.T) {
 	want := loadFixtures(t).PredictionsSummary
 	got := Summarize(readFixturePredictions(t), 0, true)
@@ -44,6 +47,9 @@ func TestSummarizeAgainstFixture(t *testing.T) {
 			t.Errorf("%s pooled: N, Missing = %d, %d; want %d, %d", name, g.Pooled.N, g.Pooled.Missing, w.Pooled.N, w.Pooled.Missing)
 		}
 		checkValues(t, name+" pooled", g.Pooled.Values, w.Pooled.values(), 1e-10)
+		if !near(g.Pooled.NMIChance, float64(w.Pooled.NMIChance), 1e-12) {
+			t.Errorf("%s pooled: NMIChance = %.17g, want %.17g", name, g.Pooled.NMIChance, float64(w.Pooled.NMIChance))
+		}
 		if len(g.Folds) != len(w.Folds) {
 			t.Fatalf("%s: %d folds, want %d", name, len(g.Folds), len(w.Folds))
 		}
@@ -54,6 +60,9 @@ func TestSummarizeAgainstFixture(t *testing.T) {
 				t.Errorf("%s fold %d: repeat, fold, N = %d, %d, %d; want %d, %d, %d", name, j, f.Repeat, f.Fold, f.N, wf.Repeat, wf.Fold, wf.N)
 			}
 			checkValues(t, name+" fold", f.Values, wf.values(), 1e-10)
+			if !near(f.NMIChance, float64(wf.NMIChance), 1e-12) {
+				t.Errorf("%s fold %d: NMIChance = %.17g, want %.17g", name, j, f.NMIChance, float64(wf.NMIChance))
+			}
 		}
 		checkValues(t, name+" fold mean", g.FoldMean, w.FoldMean.values(), 1e-10)
 		checkValues(t, name+" fold SD", g.FoldSD, w.FoldSD.values(), 1e-10)
@@ -131,7 +140,7 @@ func TestWriteMarkdown(t *testing.T) {
 	}
 	md := buf.String()
 	for _, want := range []string{
-		"### anxiety\n\n| model | n | folds | Pearson r | Spearman ρ | MAE | median AE | RMSE | R² | NMI |\n",
+		"### anxiety\n\n| model | n | folds | Pearson r | Spearman ρ | MAE | median AE | RMSE | R² | NMI | AMI |\n",
 		"| graphnet | 48 | 6 |",
 		"| ridge | 47 | 6 |",
 		"folds have fewer than 20 pairs",
@@ -152,6 +161,13 @@ func TestWriteMarkdown(t *testing.T) {
 // whose figures are worked by hand: fold 0 pairs (1, 2), (3, 3); fold 1
 // pairs (2, 2), (4, 3). Pooled r = ρ = 2/√5 by hand (scipy.stats.pearsonr
 // gives 0.894427190999916, one unit in the last place away), R² = 0.6.
+// With 2 bins both sides pool as {1, 2} | {3, 4}, so NMI = AMI = 1; by hand
+// each of the four cells has nᵢⱼ = 2 with probability 1/6 under random
+// pairing, E[I] = 4 · (1/6)(2/4) ln 2 = ln(2)/3 and the chance level of NMI
+// is E[I]/ln 2 = 1/3 (scikit-learn's expected_mutual_information gives
+// 0.3333333333333331 for it). Each fold is two
+// pairs in bins of their own: NMI 1, chance level 1, AMI 0 by skein's
+// convention.
 func TestSummaryJSONLayout(t *testing.T) {
 	rows := []Prediction{
 		{ParticipantID: "a", Model: "m", Target: "t", Fold: 0, Observed: 1, Predicted: 2},
@@ -159,16 +175,20 @@ func TestSummaryJSONLayout(t *testing.T) {
 		{ParticipantID: "c", Model: "m", Target: "t", Fold: 1, Observed: 2, Predicted: 2},
 		{ParticipantID: "d", Model: "m", Target: "t", Fold: 1, Observed: 4, Predicted: 3},
 	}
-	b, err := json.Marshal(Summarize(rows, 2, true))
+	s := Summarize(rows, 2, true)
+	if got := s.Groups[0].Pooled.NMIChance; !near(got, 1.0/3, 1e-15) {
+		t.Errorf("pooled NMIChance = %.17g, want 1/3", got)
+	}
+	b, err := json.Marshal(s)
 	if err != nil {
 		t.Fatal(err)
 	}
 	want := `{"note":` + strconvQuote(Disclaimer) + `,"bins":2,"groups":[{"model":"m","target":"t",` +
-		`"pooled":{"n":4,"missing":0,"bins":2,"pearson_r":0.8944271909999159,"spearman_rho":0.8944271909999159,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.6,"nmi":1},` +
-		`"folds":[{"repeat":1,"fold":1,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1},` +
-		`{"repeat":1,"fold":2,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1}],` +
-		`"fold_mean":{"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1},` +
-		`"fold_sd":{"pearson_r":0,"spearman_rho":0,"mae":0,"median_ae":0,"rmse":0,"r2":0,"nmi":0}}]}`
+		`"pooled":{"n":4,"missing":0,"bins":2,"pearson_r":0.8944271909999159,"spearman_rho":0.8944271909999159,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.6,"nmi":1,"ami":1,"nmi_chance":0.3333333333333333},` +
+		`"folds":[{"repeat":1,"fold":1,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0,"nmi_chance":1},` +
+		`{"repeat":1,"fold":2,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0,"nmi_chance":1}],` +
+		`"fold_mean":{"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0},` +
+		`"fold_sd":{"pearson_r":0,"spearman_rho":0,"mae":0,"median_ae":0,"rmse":0,"r2":0,"nmi":0,"ami":0}}]}`
 	if string(b) != want {
 		t.Errorf("metrics.json\n got %s\nwant %s", b, want)
 	}

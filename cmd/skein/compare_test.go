@@ -132,7 +132,7 @@ func TestCompareShowsExactlyTheChanges(t *testing.T) {
 	if len(got.Versions) != 0 {
 		t.Errorf("versions differ within one test binary: %v", got.Versions)
 	}
-	if want := 2 * 2 * 7; len(got.Metrics) != want { // models × targets × metrics
+	if want := 2 * 2 * 8; len(got.Metrics) != want { // models × targets × metrics
 		t.Errorf("%d metric rows, want %d", len(got.Metrics), want)
 	}
 	if !strings.Contains(got.Note, "not a diagnostic device") {

@@ -91,12 +91,12 @@ func TestCheckDrift(t *testing.T) {
 // 2010), worked by hand: observed r 0.5 against 0.1, 0.6, 0.2, 0.3 gives
 // 2/5; observed MAE 2 against 3, 1, 4, 5 (lower is better) gives 2/5.
 func TestReadPValues(t *testing.T) {
-	csv := "model,target,permutation,pearson_r,spearman_rho,mae,median_ae,rmse,r2,nmi\n" +
-		"ridge,recall,0,0.5,0.5,2,2,2,0.1,0.2\n" +
-		"ridge,recall,1,0.1,0.1,3,3,3,0,0.1\n" +
-		"ridge,recall,2,0.6,0.6,1,1,1,0,0.1\n" +
-		"ridge,recall,3,0.2,0.2,4,4,4,0,0.1\n" +
-		"ridge,recall,4,0.3,0.3,5,5,5,0,NaN\n"
+	csv := "model,target,permutation,pearson_r,spearman_rho,mae,median_ae,rmse,r2,nmi,ami\n" +
+		"ridge,recall,0,0.5,0.5,2,2,2,0.1,0.2,0.1\n" +
+		"ridge,recall,1,0.1,0.1,3,3,3,0,0.1,0\n" +
+		"ridge,recall,2,0.6,0.6,1,1,1,0,0.1,0\n" +
+		"ridge,recall,3,0.2,0.2,4,4,4,0,0.1,0\n" +
+		"ridge,recall,4,0.3,0.3,5,5,5,0,NaN,NaN\n"
 	p, err := readPValues(strings.NewReader(csv), "permutations.csv")
 	if err != nil {
 		t.Fatal(err)

@@ -7,26 +7,34 @@ Run with Debian's Python, which has numpy, scipy and scikit-learn:
 
 It writes fixtures.json and predictions.csv beside itself. Every number in
 them comes from numpy 1.24, scipy 1.10 or scikit-learn 1.2 (or, for the
-published data sets, from the publication as noted). The scores are invented:
-a fictional cohort, no real participant's data.
+published data sets, from the publication as noted); the exact expected
+mutual information of a few labelings comes from mpmath 1.2 (Debian's
+python3-mpmath). Where skein has a convention of its own (the binning of
+ties, constant predictions, AMI and NMI of degenerate labelings), the
+script applies it in numpy before calling scipy or scikit-learn, and says
+so. The scores are invented: a fictional cohort, no real participant's data.
 """
 
 import json
 import math
 import os
+import warnings
 
+import mpmath
 import numpy as np
 import scipy
 import scipy.special
 import scipy.stats
 import sklearn
 from sklearn.metrics import (
+    adjusted_mutual_info_score,
     mean_absolute_error,
     mean_squared_error,
     median_absolute_error,
     normalized_mutual_info_score,
     r2_score,
 )
+from sklearn.metrics.cluster import contingency_matrix, expected_mutual_information
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 
@@ -43,14 +51,67 @@ def nan_to_none(x):
 
 
 def equal_frequency_bins(x, bins):
-    """skein's rule: rank 1..n ascending, ties in order of appearance
-    (a stable sort), bin = floor(bins*(rank-1)/n)."""
-    n = len(x)
-    order = np.argsort(np.asarray(x), kind="stable")
-    labels = np.empty(n, dtype=int)
-    for k, i in enumerate(order):
-        labels[i] = (bins * k) // n
-    return labels
+    """skein's rule (eval.EqualFrequencyBins): rank 1..n ascending, every
+    member of a run of ties given the first rank of the run (scipy's
+    rankdata method "min"), bin = floor(bins*(rank-1)/n)."""
+    x = np.asarray(x, dtype=float)
+    ranks = scipy.stats.rankdata(x, method="min").astype(int)
+    return (bins * (ranks - 1)) // len(x)
+
+
+# skein's eval.ConstantTolerance: predictions whose largest distance from
+# their mean is at most this times the (population) SD of the observed
+# values are constant.
+CONSTANT_TOLERANCE = 1e-9
+
+
+def constant_predictions(o, p):
+    """skein's rule (eval.ConstantPredictions), in numpy."""
+    if len(p) < 2 or np.all(p == p[0]):
+        return True
+    return float(np.max(np.abs(p - np.mean(p)))) <= CONSTANT_TOLERANCE * float(np.std(o))
+
+
+def nmi_reference(a, b):
+    """scikit-learn's NMI (arithmetic mean), except that two constant
+    labelings score 0 by skein's definition (scikit-learn returns 1)."""
+    if len(np.unique(a)) == 1 and len(np.unique(b)) == 1:
+        return 0.0
+    return float(normalized_mutual_info_score(a, b, average_method="arithmetic"))
+
+
+def ami_reference(a, b):
+    """scikit-learn's adjusted_mutual_info_score (arithmetic mean), except
+    where every pairing of the labels gives the same mutual information
+    (both labelings constant, or both with one item per label): skein
+    returns 0 there, scikit-learn 1 for the first and rounding error over
+    machine epsilon for the second."""
+    n = len(a)
+    ka, kb = len(np.unique(a)), len(np.unique(b))
+    if (ka == 1 and kb == 1) or (ka == n and kb == n):
+        return 0.0
+    return float(adjusted_mutual_info_score(a, b, average_method="arithmetic"))
+
+
+def expected_mi(a, b):
+    """E[MI] under the permutation model, by scikit-learn."""
+    return float(expected_mutual_information(contingency_matrix(a, b), len(a)))
+
+
+def entropy_nat(labels):
+    """Entropy of a labeling in nats, by scipy.stats.entropy of the label
+    counts."""
+    return float(scipy.stats.entropy(np.unique(labels, return_counts=True)[1]))
+
+
+def nmi_chance_reference(a, b):
+    """Expected NMI under random pairing: 2 E[MI] / (H(A) + H(B)), exact
+    because pairing keeps both sets of label counts; 0 when both entropies
+    are 0, as skein's NMI is."""
+    h = entropy_nat(a) + entropy_nat(b)
+    if h == 0:
+        return 0.0
+    return 2 * expected_mi(a, b) / h
 
 
 def reference_metrics(obs, pred, bins=10):
@@ -58,22 +119,32 @@ def reference_metrics(obs, pred, bins=10):
     pred = np.asarray(pred, dtype=float)
     keep = ~(np.isnan(obs) | np.isnan(pred))
     o, p = obs[keep], pred[keep]
+    constant = constant_predictions(o, p)
+    a = equal_frequency_bins(o, bins)
+    if constant:
+        # skein treats the predictions as one value: scipy then gives NaN
+        # (ConstantInputWarning) and the predictions are one bin.
+        p_order = np.full(len(p), float(np.mean(p)))
+        b = np.zeros(len(p), dtype=int)
+    else:
+        p_order = p
+        b = equal_frequency_bins(p, bins)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        r = float(scipy.stats.pearsonr(o, p_order)[0])
+        rho = float(scipy.stats.spearmanr(o, p_order)[0])
     return {
         "n": int(keep.sum()),
         "missing": int((~keep).sum()),
-        "pearson_r": float(scipy.stats.pearsonr(o, p)[0]),
-        "spearman_rho": float(scipy.stats.spearmanr(o, p)[0]),
+        "pearson_r": r,
+        "spearman_rho": rho,
         "mae": float(mean_absolute_error(o, p)),
         "median_ae": float(median_absolute_error(o, p)),
         "rmse": float(math.sqrt(mean_squared_error(o, p))),
         "r2": float(r2_score(o, p)),
-        "nmi": float(
-            normalized_mutual_info_score(
-                equal_frequency_bins(o, bins),
-                equal_frequency_bins(p, bins),
-                average_method="arithmetic",
-            )
-        ),
+        "nmi": nmi_reference(a, b),
+        "ami": ami_reference(a, b),
+        "nmi_chance": nmi_chance_reference(a, b),
     }
 
 
@@ -119,13 +190,113 @@ def metric_cases(rng):
     return cases
 
 
+def constant_metric_cases(rng):
+    """Cases added for constant and near-constant predictions, drawn from
+    their own generator so that the cases above keep their numbers."""
+    cases = []
+
+    # The mean predictor after confound regression: rounding noise around 0
+    # for scores of SD 10. skein calls it constant (no r, no rho, NMI 0).
+    obs = rng.normal(30, 10, 40)
+    pred = rng.uniform(-4e-14, 4e-15, 40)
+    cases.append({"name": "near_constant_n40", "bins": 10, "observed": obs.tolist(), "predicted": pred.tolist()})
+
+    # An exactly constant predictor on integer scores with ties, the pairs
+    # sorted by score.
+    obs = np.sort(rng.integers(0, 31, 36)).astype(float)
+    pred = np.full(36, 14.5)
+    cases.append({"name": "constant_sorted_n36", "bins": 6, "observed": obs.tolist(), "predicted": pred.tolist()})
+
+    # Small but real spread (1e-6 of the SD): not constant.
+    obs = rng.normal(0, 1, 30)
+    pred = 5 + 1e-6 * (obs + rng.normal(0, 1, 30))
+    cases.append({"name": "small_spread_n30", "bins": 5, "observed": obs.tolist(), "predicted": pred.tolist()})
+
+    for c in cases:
+        c["want"] = reference_metrics(c["observed"], c["predicted"], c["bins"])
+    return cases
+
+
+def exact_expected_mi(a, b, digits=40):
+    """E[MI] of the permutation model by the formula of Vinh, Epps & Bailey
+    (2010, JMLR 11:2837, eq. 24a) in mpmath with the given decimal digits:
+    a reference independent of floating-point lgamma."""
+    mpmath.mp.dps = digits
+    n = len(a)
+    ca = np.unique(a, return_counts=True)[1]
+    cb = np.unique(b, return_counts=True)[1]
+    lf = [mpmath.loggamma(k + 1) for k in range(n + 1)]
+    emi = mpmath.mpf(0)
+    for ai in ca:
+        for bj in cb:
+            ai, bj = int(ai), int(bj)
+            fixed = lf[ai] + lf[bj] + lf[n - ai] + lf[n - bj] - lf[n]
+            for k in range(max(1, ai + bj - n), min(ai, bj) + 1):
+                logp = fixed - lf[k] - lf[ai - k] - lf[bj - k] - lf[n - ai - bj + k]
+                emi += mpmath.mpf(k) / n * mpmath.log(mpmath.mpf(n) * k / (ai * bj)) * mpmath.exp(logp)
+    return float(emi)
+
+
+def ami_cases():
+    """Labelings for AMILabels, ExpectedMILabels and ExpectedNMILabels."""
+    rng = np.random.default_rng(20260415)
+    out = []
+
+    def add(name, a, b, exact=False, monte_carlo=0):
+        a = np.asarray(a, dtype=int)
+        b = np.asarray(b, dtype=int)
+        c = {
+            "name": name,
+            "a": a.tolist(),
+            "b": b.tolist(),
+            "ami_sklearn": float(adjusted_mutual_info_score(a, b, average_method="arithmetic")),
+            "ami": ami_reference(a, b),
+            "nmi": nmi_reference(a, b),
+            "emi_sklearn": expected_mi(a, b),
+            "nmi_chance": nmi_chance_reference(a, b),
+        }
+        if exact:
+            c["emi_mpmath"] = exact_expected_mi(a, b)
+        if monte_carlo:
+            # Mean NMI over random pairings (numpy permutations), with its
+            # standard error: a sanity check of the chance level.
+            vals = np.array([nmi_reference(a, rng.permutation(b)) for _ in range(monte_carlo)])
+            c["nmi_chance_monte_carlo"] = float(vals.mean())
+            c["nmi_chance_monte_carlo_se"] = float(vals.std(ddof=1) / math.sqrt(monte_carlo))
+        out.append(c)
+
+    add("random_n50", rng.integers(0, 4, 50), rng.integers(0, 5, 50), monte_carlo=20000)
+    x = rng.normal(0, 1, 80)
+    add("related_n80", equal_frequency_bins(x, 5), equal_frequency_bins(x + rng.normal(0, 1, 80), 6), monte_carlo=20000)
+    # Binned integer scores with many ties, so bins are uneven.
+    y = rng.integers(0, 12, 60)
+    add("ties_n60", equal_frequency_bins(y, 10), equal_frequency_bins(np.round(y / 2 + rng.normal(0, 2, 60)), 10))
+    add("one_constant", rng.integers(0, 3, 20), np.zeros(20))
+    add("both_constant", np.full(12, 3), np.full(12, 7))
+    add("both_singletons_same", np.arange(8), np.arange(8))
+    add("both_singletons_reversed", np.arange(8), np.arange(8)[::-1])
+    add("one_singletons", np.arange(10), rng.integers(0, 3, 10))
+    add("identical_n30", np.repeat([0, 1, 2], 10), np.repeat([5, 6, 7], 10))
+    add("tiny_n5", [0, 0, 1, 1, 2], [0, 1, 0, 1, 1], exact=True)
+    # n = 2000, ten equal-frequency bins of related scores, and unequal
+    # labels from scores with ties.
+    x = rng.normal(0, 1, 2000)
+    add("bins_n2000", equal_frequency_bins(x, 10), equal_frequency_bins(0.3 * x + rng.normal(0, 1, 2000), 10), exact=True)
+    z = rng.integers(0, 40, 2000)
+    add("ties_n2000", equal_frequency_bins(z, 10), rng.integers(0, 7, 2000), exact=True)
+    return out
+
+
 def binning_cases():
-    # Ties are binned in order of appearance.
+    # Ties share the bin of the first rank of their run.
     x = [5.0, 1.0, 5.0, 5.0, 2.0, 5.0, 0.0, 3.0, 5.0, 4.0]
+    y = [2.0, 2.0, 1.0, 3.0, 1.0, 2.0, 2.0, 4.0, 1.0, 2.0, 3.0, 0.5]
     return [
         {"x": x, "bins": 3, "want": equal_frequency_bins(x, 3).tolist()},
         {"x": x, "bins": 4, "want": equal_frequency_bins(x, 4).tolist()},
         {"x": x, "bins": 10, "want": equal_frequency_bins(x, 10).tolist()},
+        {"x": y, "bins": 4, "want": equal_frequency_bins(y, 4).tolist()},
+        {"x": [7.0] * 6, "bins": 3, "want": equal_frequency_bins([7.0] * 6, 3).tolist()},
     ]
 
 
@@ -245,7 +416,7 @@ def predictions(rng):
                     m = reference_metrics([r[5] for r in f], [r[6] for r in f])
                     m.update({"repeat": repeat, "fold": fold})
                     folds.append(m)
-            names = ["pearson_r", "spearman_rho", "mae", "median_ae", "rmse", "r2", "nmi"]
+            names = ["pearson_r", "spearman_rho", "mae", "median_ae", "rmse", "r2", "nmi", "ami"]
             mean = {k: float(np.mean([f[k] for f in folds])) for k in names}
             sd = {k: float(np.std([f[k] for f in folds], ddof=1)) for k in names}
             summary.append({"model": model, "target": target, "pooled": pooled,
@@ -271,9 +442,11 @@ def main():
     rows, summary = predictions(rng)
     fixtures = {
         "generator": "testdata/eval/make_fixtures.py",
-        "versions": {"numpy": np.__version__, "scipy": scipy.__version__, "sklearn": sklearn.__version__},
-        "metrics": metric_cases(rng),
+        "versions": {"numpy": np.__version__, "scipy": scipy.__version__, "sklearn": sklearn.__version__,
+                     "mpmath": mpmath.__version__},
+        "metrics": metric_cases(rng) + constant_metric_cases(np.random.default_rng(20260414)),
         "binning": binning_cases(),
+        "ami": ami_cases(),
         "anscombe": anscombe(),
         "iir_nmi": iir_nmi(),
         "ttest": ttest_cases(rng),
