@@ -19,7 +19,8 @@ type Comparison struct {
 	Group         *Group
 	// P holds permutation p-values; nil without a permutation test.
 	P *Values
-	// R and MAE are percentile bootstrap intervals of the pooled values.
+	// R and MAE are percentile bootstrap intervals of the pooled values;
+	// R is of the headline r, r within folds (MetricPearsonWithin).
 	R, MAE Interval
 	// Reference names the reference baseline of this target that the
 	// model is compared with ("" for the reference itself, or when the
@@ -84,7 +85,7 @@ func Compare(sum *Summary, rows []Prediction, opt CompareOptions) ([]Comparison,
 		groupRows := byGroup[[2]string{g.Model, g.Target}]
 		rng := rand.New(rand.NewPCG(opt.Seed, uint64(i)))
 		var err error
-		if c.R, err = BootstrapCI(groupRows, MetricPearson, sum.Bins, opt.Resamples, opt.Level, rng); err != nil {
+		if c.R, err = BootstrapCI(groupRows, MetricPearsonWithin, sum.Bins, opt.Resamples, opt.Level, rng); err != nil {
 			return nil, err
 		}
 		if c.MAE, err = BootstrapCI(groupRows, MetricMAE, sum.Bins, opt.Resamples, opt.Level, rng); err != nil {
@@ -229,7 +230,7 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison, referenceRule stri
 	}
 	for _, target := range targets {
 		fmt.Fprintf(&b, "\n### %s: comparison\n\n", escapeMarkdown(target))
-		b.WriteString("| model | Pearson r | CI of pooled r | p (r) | MAE | CI of pooled MAE | p (MAE) | Δr vs reference (t-test p) | ΔMAE (t-test p) |\n")
+		b.WriteString("| model | r within folds | CI of r | p (r) | MAE | CI of MAE | p (MAE) | Δr vs reference (t-test p) | ΔMAE (t-test p) |\n")
 		b.WriteString("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |\n")
 		for _, c := range comps {
 			if c.Target == target {
@@ -238,7 +239,11 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison, referenceRule stri
 		}
 	}
 	if len(comps) > 0 {
-		fmt.Fprintf(&b, "\nPearson r and MAE: mean ± SD over test folds [pooled]. CI: %.0f%% percentile bootstrap"+
+		fmt.Fprintf(&b, "\nr within folds and MAE: mean ± SD over test folds [pooled]. The headline figure is r within "+
+			"folds: Pearson's r of all test predictions after centring each test fold's scores and predictions on their "+
+			"own means. Plain pooled r (in the metrics table) also correlates the folds' training means with their test "+
+			"scores, which are anti-correlated, and so is biased downwards, below 0 for a model that knows nothing. "+
+			"CI: %.0f%% percentile bootstrap"+
 			" over participants (%d resamples). p: permutation p-value, (1 + #{null at least as good}) / (1 + permutations). "+
 			"Δ: mean difference from the reference baseline over the same folds, tested by the "+
 			"corrected resampled t-test (Nadeau & Bengio 2003); %s.\n", 100*comps[0].R.Level, comps[0].R.Resamples, referenceRule)
@@ -254,7 +259,7 @@ func writeComparisonRow(b *strings.Builder, c Comparison) {
 	}
 	pr, pm := "–", "–"
 	if c.P != nil {
-		pr, pm = formatP(c.P.Pearson), formatP(c.P.MAE)
+		pr, pm = formatP(c.P.PearsonWithin), formatP(c.P.MAE)
 	}
 	vsR, vsMAE := "–", "–"
 	if c.Reference != "" {
@@ -264,7 +269,7 @@ func writeComparisonRow(b *strings.Builder, c Comparison) {
 		vsR = "reference"
 	}
 	fmt.Fprintf(b, "| %s | %s | [%s, %s] | %s | %s | [%s, %s] | %s | %s | %s |\n", name,
-		c.Group.cell(MetricPearson), formatNumber(c.R.Lower), formatNumber(c.R.Upper), pr,
+		c.Group.cell(MetricPearsonWithin), formatNumber(c.R.Lower), formatNumber(c.R.Upper), pr,
 		c.Group.cell(MetricMAE), formatNumber(c.MAE.Lower), formatNumber(c.MAE.Upper), pm,
 		vsR, vsMAE)
 }

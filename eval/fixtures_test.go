@@ -41,6 +41,7 @@ type refMetrics struct {
 	Missing  int  `json:"missing"`
 	Repeat   int  `json:"repeat"`
 	Fold     int  `json:"fold"`
+	Within   fnum `json:"pearson_r_within"`
 	Pearson  fnum `json:"pearson_r"`
 	Spearman fnum `json:"spearman_rho"`
 	MAE      fnum `json:"mae"`
@@ -56,7 +57,7 @@ type refMetrics struct {
 
 func (r refMetrics) values() Values {
 	return Values{
-		Pearson: float64(r.Pearson), Spearman: float64(r.Spearman), MAE: float64(r.MAE),
+		PearsonWithin: float64(r.Within), Pearson: float64(r.Pearson), Spearman: float64(r.Spearman), MAE: float64(r.MAE),
 		MedianAE: float64(r.MedianAE), RMSE: float64(r.RMSE), R2: float64(r.R2), NMI: float64(r.NMI),
 		AMI: float64(r.AMI),
 	}

@@ -263,6 +263,12 @@ type Metric string
 
 // The metrics Score computes.
 const (
+	// MetricPearsonWithin is the headline r: over one fold it is Pearson's
+	// r; pooled over the folds of a run it is PearsonWithinFolds, which is
+	// free of the bias that the folds' training means give pooled r.
+	MetricPearsonWithin Metric = "pearson_r_within"
+	// MetricPearson is Pearson's r; pooled over the folds of a run it
+	// carries the bias PearsonWithinFolds describes.
 	MetricPearson  Metric = "pearson_r"
 	MetricSpearman Metric = "spearman_rho"
 	MetricMAE      Metric = "mae"
@@ -275,7 +281,7 @@ const (
 
 // Metrics returns every metric, in the order tables show them.
 func Metrics() []Metric {
-	return []Metric{MetricPearson, MetricSpearman, MetricMAE, MetricMedianAE, MetricRMSE, MetricR2, MetricNMI, MetricAMI}
+	return []Metric{MetricPearsonWithin, MetricPearson, MetricSpearman, MetricMAE, MetricMedianAE, MetricRMSE, MetricR2, MetricNMI, MetricAMI}
 }
 
 // ParseMetric returns the metric named s, or an error listing the names.
@@ -302,6 +308,8 @@ func (m Metric) LowerIsBetter() bool {
 // "Pearson r".
 func (m Metric) Label() string {
 	switch m {
+	case MetricPearsonWithin:
+		return "r within folds"
 	case MetricPearson:
 		return "Pearson r"
 	case MetricSpearman:
@@ -322,11 +330,13 @@ func (m Metric) Label() string {
 	return string(m)
 }
 
-// Compute returns m of the pairs; bins is used by NMI and AMI only (≤ 0
-// means DefaultBins). An unknown metric panics.
+// Compute returns m of the pairs, taken as one fold (so that
+// MetricPearsonWithin is Pearson's r; PearsonWithinFolds pools folds);
+// bins is used by NMI and AMI only (≤ 0 means DefaultBins). An unknown
+// metric panics.
 func (m Metric) Compute(observed, predicted []float64, bins int) float64 {
 	switch m {
-	case MetricPearson:
+	case MetricPearson, MetricPearsonWithin:
 		return Pearson(observed, predicted)
 	case MetricSpearman:
 		return Spearman(observed, predicted)
@@ -349,14 +359,16 @@ func (m Metric) Compute(observed, predicted []float64, bins int) float64 {
 // Values holds one value of each metric. NaN marks a metric that is
 // undefined for the pairs scored.
 type Values struct {
-	Pearson  float64 // Pearson r
-	Spearman float64 // Spearman ρ
-	MAE      float64 // mean absolute error, in score units
-	MedianAE float64 // median absolute error, in score units
-	RMSE     float64 // root mean squared error, in score units
-	R2       float64 // out-of-sample R²
-	NMI      float64 // NMI of equal-frequency bins
-	AMI      float64 // adjusted mutual information of the same bins
+	// PearsonWithin is the headline r (MetricPearsonWithin).
+	PearsonWithin float64
+	Pearson       float64 // Pearson r
+	Spearman      float64 // Spearman ρ
+	MAE           float64 // mean absolute error, in score units
+	MedianAE      float64 // median absolute error, in score units
+	RMSE          float64 // root mean squared error, in score units
+	R2            float64 // out-of-sample R²
+	NMI           float64 // NMI of equal-frequency bins
+	AMI           float64 // adjusted mutual information of the same bins
 }
 
 // Get returns the value of m. An unknown metric panics.
@@ -380,6 +392,8 @@ func (v *Values) fields() []*float64 {
 
 func (v *Values) field(m Metric) *float64 {
 	switch m {
+	case MetricPearsonWithin:
+		return &v.PearsonWithin
 	case MetricPearson:
 		return &v.Pearson
 	case MetricSpearman:
@@ -426,7 +440,7 @@ func Score(observed, predicted []float64, bins int) Scores {
 	for _, m := range []Metric{MetricMAE, MetricMedianAE, MetricRMSE, MetricR2} {
 		s.Set(m, m.Compute(obs, pred, bins))
 	}
-	s.Pearson, s.Spearman = math.NaN(), math.NaN()
+	s.PearsonWithin, s.Pearson, s.Spearman = math.NaN(), math.NaN(), math.NaN()
 	s.NMI, s.AMI, s.NMIChance = math.NaN(), math.NaN(), math.NaN()
 	if len(obs) == 0 {
 		return s
@@ -436,6 +450,7 @@ func Score(observed, predicted []float64, bins int) Scores {
 	orderObs, orderPred := sortedOrder(obs), sortedOrder(pred)
 	if !constant {
 		s.Pearson = pearson(obs, pred)
+		s.PearsonWithin = s.Pearson
 		s.Spearman = pearson(averageRanks(obs, orderObs), averageRanks(pred, orderPred))
 	}
 	c := newContingency(binsOf(obs, orderObs, bins), predictionBins(pred, orderPred, bins, constant))

@@ -33,7 +33,7 @@ func TestScoreAgainstScipySklearn(t *testing.T) {
 			}
 			// The single-metric functions agree with Score.
 			single := Values{
-				Pearson: Pearson(obs, pred), Spearman: Spearman(obs, pred), MAE: MAE(obs, pred),
+				PearsonWithin: MetricPearsonWithin.Compute(obs, pred, c.Bins), Pearson: Pearson(obs, pred), Spearman: Spearman(obs, pred), MAE: MAE(obs, pred),
 				MedianAE: MedianAE(obs, pred), RMSE: RMSE(obs, pred), R2: R2(obs, pred), NMI: NMI(obs, pred, c.Bins),
 				AMI: AMI(obs, pred, c.Bins),
 			}

@@ -122,7 +122,9 @@ type Interval struct {
 
 // BootstrapCI returns a percentile bootstrap confidence interval at level
 // (0 < level < 1) for the pooled metric m of rows, which must all belong to
-// one model and one target. bins is used by NMI (≤ 0 means DefaultBins).
+// one model and one target, pooled as Summarize pools them (for
+// MetricPearsonWithin, each fold of a resample centred on its own
+// members). bins is used by NMI and AMI (≤ 0 means DefaultBins).
 //
 // What is resampled is participants: each of resamples draws as many
 // participants as rows holds, uniformly with replacement from rng, and
@@ -152,23 +154,18 @@ func BootstrapCI(rows []Prediction, m Metric, bins, resamples int, level float64
 	}
 	units := data.GroupIndices(ids)
 
-	obs := make([]float64, len(rows))
-	pred := make([]float64, len(rows))
-	for i, p := range rows {
-		obs[i], pred[i] = p.Observed, p.Predicted
-	}
-	iv := Interval{Estimate: m.Compute(obs, pred, bins), Level: level, Resamples: resamples}
+	iv := Interval{Estimate: metricOfRows(rows, m, bins), Level: level, Resamples: resamples}
 
 	stats := make([]float64, 0, resamples)
+	resample := make([]Prediction, 0, len(rows))
 	for range resamples {
-		obs, pred = obs[:0], pred[:0]
+		resample = resample[:0]
 		for range units {
 			for _, i := range units[rng.IntN(len(units))] {
-				obs = append(obs, rows[i].Observed)
-				pred = append(pred, rows[i].Predicted)
+				resample = append(resample, rows[i])
 			}
 		}
-		v := m.Compute(obs, pred, bins)
+		v := metricOfRows(resample, m, bins)
 		if math.IsNaN(v) {
 			iv.Undefined++
 			continue
@@ -183,6 +180,21 @@ func BootstrapCI(rows []Prediction, m Metric, bins, resamples int, level float64
 	iv.Lower = EmpiricalQuantile((1-level)/2, stats)
 	iv.Upper = EmpiricalQuantile((1+level)/2, stats)
 	return iv, nil
+}
+
+// metricOfRows returns m of the rows of one model and target, pooled as in
+// Summarize: PearsonWithinFolds for MetricPearsonWithin, m.Compute of the
+// pairs otherwise.
+func metricOfRows(rows []Prediction, m Metric, bins int) float64 {
+	if m == MetricPearsonWithin {
+		return PearsonWithinFolds(rows)
+	}
+	obs := make([]float64, len(rows))
+	pred := make([]float64, len(rows))
+	for i, p := range rows {
+		obs[i], pred[i] = p.Observed, p.Predicted
+	}
+	return m.Compute(obs, pred, bins)
 }
 
 // EmpiricalQuantile returns the q-quantile of the ascending values sorted

@@ -54,7 +54,8 @@ type Group struct {
 	Model  string
 	Target string
 	// Pooled scores all test predictions of all repeats at once: each
-	// participant counts once per repeat.
+	// participant counts once per repeat. Its PearsonWithin is
+	// PearsonWithinFolds of the rows, the headline r.
 	Pooled Scores
 	// Folds scores each repeat × fold alone; empty when the predictions
 	// carry no fold.
@@ -105,6 +106,11 @@ func Summarize(rows []Prediction, bins int, perFold bool) *Summary {
 	for _, k := range keys {
 		idx := members[k]
 		g := Group{Model: k.model, Target: k.target, Pooled: scoreRows(rows, idx, bins)}
+		groupRows := make([]Prediction, len(idx))
+		for j, i := range idx {
+			groupRows[j] = rows[i]
+		}
+		g.Pooled.PearsonWithin = PearsonWithinFolds(groupRows)
 		if perFold {
 			var folds []foldKey
 			byFold := make(map[foldKey][]int)
@@ -455,10 +461,16 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 		b.WriteString("| model | n | folds |")
 		for _, m := range Metrics() {
 			fmt.Fprintf(&b, " %s |", m.Label())
+			if m == MetricNMI {
+				b.WriteString(" NMI by chance |")
+			}
 		}
 		b.WriteString("\n| --- | ---: | ---: |")
-		for range Metrics() {
+		for _, m := range Metrics() {
 			b.WriteString(" ---: |")
+			if m == MetricNMI {
+				b.WriteString(" ---: |")
+			}
 		}
 		b.WriteString("\n")
 		for _, g := range s.Groups {
@@ -472,19 +484,29 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 			fmt.Fprintf(&b, "| %s | %d | %d |", escapeMarkdown(model), g.Pooled.N, len(g.Folds))
 			for _, m := range Metrics() {
 				fmt.Fprintf(&b, " %s |", g.cell(m))
+				if m == MetricNMI {
+					fmt.Fprintf(&b, " %s |", g.chanceCell())
+				}
 			}
 			b.WriteString("\n")
 		}
 	}
 	b.WriteString("\n")
 	if hasFolds {
-		fmt.Fprintf(&b, "Each cell is the mean ± SD over test folds (all repeats), then in brackets the value "+
-			"pooled over all test predictions. n counts pooled pairs (a participant once per repeat); "+
-			"NMI uses %d equal-frequency bins. R² is out of sample and may be negative.\n", s.Bins)
+		b.WriteString("Each cell is the mean ± SD over test folds (all repeats), then in brackets the value " +
+			"pooled over all test predictions; n counts pooled pairs (a participant once per repeat). " +
+			"r within folds, the headline r, pools the predictions after centring each test fold's scores and " +
+			"predictions on their own means. Pearson r pooled without centring (in brackets) also correlates each " +
+			"fold's training mean with its test scores, which are anti-correlated: it is biased downwards, below 0 " +
+			"for a model that knows nothing, and pooled Spearman ρ shares the bias. ")
 	} else {
-		fmt.Fprintf(&b, "Each cell is the value over all predictions; n counts pairs. NMI uses %d "+
-			"equal-frequency bins. R² is out of sample and may be negative.\n", s.Bins)
+		b.WriteString("Each cell is the value over all predictions; n counts pairs. ")
 	}
+	fmt.Fprintf(&b, "NMI and AMI use %d equal-frequency bins, tied values sharing a bin. NMI is above 0 even "+
+		"when predictions carry no information: compare it with NMI by chance, its expected value under random "+
+		"pairing of the same bins. AMI is NMI corrected for chance (0 at chance, 1 for matching bins). The chance "+
+		"level of r, ρ and AMI is 0; R² is out of sample and slightly below 0 at chance; the mean predictor's MAE "+
+		"and RMSE are the chance level of the errors. Predictions constant to rounding have no r or ρ (–).\n", s.Bins)
 	if note := s.SmallFoldNote(); note != "" {
 		b.WriteString("\n" + note + "\n")
 	}
@@ -518,13 +540,36 @@ func (s *Summary) smallestFold() int {
 	return smallest
 }
 
-// cell formats one metric of g for a table: "mean ± SD [pooled]".
+// cell formats one metric of g for a table: "mean ± SD [pooled]". Pearson
+// r's folds are those of r within folds, so its cell holds only its
+// pooled value, in brackets.
 func (g *Group) cell(m Metric) string {
 	pooled := formatNumber(g.Pooled.Get(m))
 	if len(g.Folds) == 0 {
 		return pooled
 	}
+	if m == MetricPearson {
+		return "[" + pooled + "]"
+	}
 	return fmt.Sprintf("%s ± %s [%s]", formatNumber(g.FoldMean.Get(m)), formatNumber(g.FoldSD.Get(m)), pooled)
+}
+
+// chanceCell formats g's chance level of NMI as cell does a metric: the
+// mean over folds [pooled]; the SD is left out.
+func (g *Group) chanceCell() string {
+	pooled := formatNumber(g.Pooled.NMIChance)
+	if len(g.Folds) == 0 {
+		return pooled
+	}
+	var sum float64
+	var n int
+	for _, f := range g.Folds {
+		if !math.IsNaN(f.NMIChance) {
+			sum += f.NMIChance
+			n++
+		}
+	}
+	return fmt.Sprintf("%s [%s]", formatNumber(sum/float64(n)), pooled)
 }
 
 // formatNumber writes x with three decimals, "–" for NaN.

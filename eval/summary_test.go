@@ -91,8 +91,9 @@ func TestSummarizeUndefinedFold(t *testing.T) {
 		{Fold: 2, Observed: 1, Predicted: 2}, {Fold: 2, Observed: 2, Predicted: 1},
 	}
 	g := Summarize(rows, 2, true).Groups[0]
-	if g.FoldUndefined[MetricPearson] != 1 || g.FoldUndefined[MetricSpearman] != 1 || len(g.FoldUndefined) != 2 {
-		t.Errorf("undefined %v, want pearson_r: 1, spearman_rho: 1", g.FoldUndefined)
+	if g.FoldUndefined[MetricPearsonWithin] != 1 || g.FoldUndefined[MetricPearson] != 1 || g.FoldUndefined[MetricSpearman] != 1 ||
+		len(g.FoldUndefined) != 3 {
+		t.Errorf("undefined %v, want pearson_r_within: 1, pearson_r: 1, spearman_rho: 1", g.FoldUndefined)
 	}
 	if g.FoldMean.Pearson != 0 || g.FoldSD.Pearson != math.Sqrt2 {
 		t.Errorf("r mean, SD = %v, %v; want 0, √2", g.FoldMean.Pearson, g.FoldSD.Pearson)
@@ -140,7 +141,7 @@ func TestWriteMarkdown(t *testing.T) {
 	}
 	md := buf.String()
 	for _, want := range []string{
-		"### anxiety\n\n| model | n | folds | Pearson r | Spearman ρ | MAE | median AE | RMSE | R² | NMI | AMI |\n",
+		"### anxiety\n\n| model | n | folds | r within folds | Pearson r | Spearman ρ | MAE | median AE | RMSE | R² | NMI | NMI by chance | AMI |\n",
 		"| graphnet | 48 | 6 |",
 		"| ridge | 47 | 6 |",
 		"folds have fewer than 20 pairs",
@@ -184,11 +185,11 @@ func TestSummaryJSONLayout(t *testing.T) {
 		t.Fatal(err)
 	}
 	want := `{"note":` + strconvQuote(Disclaimer) + `,"bins":2,"groups":[{"model":"m","target":"t",` +
-		`"pooled":{"n":4,"missing":0,"bins":2,"pearson_r":0.8944271909999159,"spearman_rho":0.8944271909999159,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.6,"nmi":1,"ami":1,"nmi_chance":0.3333333333333333},` +
-		`"folds":[{"repeat":1,"fold":1,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0,"nmi_chance":1},` +
-		`{"repeat":1,"fold":2,"n":2,"missing":0,"bins":2,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0,"nmi_chance":1}],` +
-		`"fold_mean":{"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0},` +
-		`"fold_sd":{"pearson_r":0,"spearman_rho":0,"mae":0,"median_ae":0,"rmse":0,"r2":0,"nmi":0,"ami":0}}]}`
+		`"pooled":{"n":4,"missing":0,"bins":2,"pearson_r_within":1,"pearson_r":0.8944271909999159,"spearman_rho":0.8944271909999159,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.6,"nmi":1,"ami":1,"nmi_chance":0.3333333333333333},` +
+		`"folds":[{"repeat":1,"fold":1,"n":2,"missing":0,"bins":2,"pearson_r_within":1,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0,"nmi_chance":1},` +
+		`{"repeat":1,"fold":2,"n":2,"missing":0,"bins":2,"pearson_r_within":1,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0,"nmi_chance":1}],` +
+		`"fold_mean":{"pearson_r_within":1,"pearson_r":1,"spearman_rho":1,"mae":0.5,"median_ae":0.5,"rmse":0.7071067811865476,"r2":0.5,"nmi":1,"ami":0},` +
+		`"fold_sd":{"pearson_r_within":0,"pearson_r":0,"spearman_rho":0,"mae":0,"median_ae":0,"rmse":0,"r2":0,"nmi":0,"ami":0}}]}`
 	if string(b) != want {
 		t.Errorf("metrics.json\n got %s\nwant %s", b, want)
 	}

@@ -132,7 +132,7 @@ func TestCompareShowsExactlyTheChanges(t *testing.T) {
 	if len(got.Versions) != 0 {
 		t.Errorf("versions differ within one test binary: %v", got.Versions)
 	}
-	if want := 2 * 2 * 8; len(got.Metrics) != want { // models × targets × metrics
+	if want := 2 * 2 * 9; len(got.Metrics) != want { // models × targets × metrics
 		t.Errorf("%d metric rows, want %d", len(got.Metrics), want)
 	}
 	if !strings.Contains(got.Note, "not a diagnostic device") {
@@ -222,7 +222,7 @@ name = "ridge"
 		t.Fatal(err)
 	}
 	lines := strings.Split(strings.TrimSpace(string(raw)), "\n")
-	if lines[0] != "date,run,model,target,pearson_r,mae,permutation_p,n" || len(lines) != 1+3*2 {
+	if lines[0] != "date,run,model,target,r_within_folds,mae,permutation_p,n" || len(lines) != 1+3*2 {
 		t.Errorf("history.csv: want a header and 3 nights × 2 targets, found\n%s", raw)
 	}
 	if png, err := os.ReadFile(filepath.Join(root, "history.png")); err != nil || !bytes.HasPrefix(png, []byte("\x89PNG")) {

@@ -378,24 +378,25 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 }
 
 // NullFigures draws, for every model and target of the permutation test,
-// the histogram of Pearson r under permuted scores with the observed r as
-// a vertical line and its permutation p-value in the title.
+// the histogram of the headline r (r within folds) under permutation with
+// the observed r as a vertical line and its permutation p-value in the
+// title.
 func (r *Run) NullFigures() ([]Figure, error) {
 	var figs []Figure
 	for _, n := range r.Nulls {
 		var vals plotter.Values
 		for _, v := range n.Permuted {
-			if x := v.Get(eval.MetricPearson); !math.IsNaN(x) {
+			if x := v.Get(eval.MetricPearsonWithin); !math.IsNaN(x) {
 				vals = append(vals, x)
 			}
 		}
 		if len(vals) == 0 {
 			continue
 		}
-		obs := n.Observed.Get(eval.MetricPearson)
-		pv := n.P(eval.MetricPearson)
+		obs := n.Observed.Get(eval.MetricPearsonWithin)
+		pv := n.P(eval.MetricPearsonWithin)
 		title := fmt.Sprintf("%s — %s: observed r = %s, p = %s", n.Model, n.Target, num(obs), pValue(pv))
-		p := newPlot(title, "pooled Pearson r", "permutations")
+		p := newPlot(title, "r within folds", "permutations")
 		bins := max(5, min(30, len(vals)/5))
 		h, err := plotter.NewHist(vals, bins)
 		if err != nil {

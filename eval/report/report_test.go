@@ -278,7 +278,7 @@ func TestReadRunErrorsNameTheFile(t *testing.T) {
 		!strings.Contains(err.Error(), `learning_curves.csv: line 2, column "best": want 0 or 1, found "2"`) {
 		t.Errorf("bad best: %v", err)
 	}
-	bad = []byte("model,target,permutation,pearson_r,spearman_rho,mae,median_ae,rmse,r2,nmi,ami\nm,t,1,0,0,0,0,0,0,0,0\n")
+	bad = []byte("model,target,permutation,pearson_r_within,pearson_r,spearman_rho,mae,median_ae,rmse,r2,nmi,ami\nm,t,1,0,0,0,0,0,0,0,0,0\n")
 	if _, err := parseNulls(bad, "permutations.csv"); err == nil || !strings.Contains(err.Error(), "line 2") {
 		t.Errorf("null without observed row: %v", err)
 	}

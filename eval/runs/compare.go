@@ -35,7 +35,8 @@ type Comparison struct {
 	// metric's pooled value in both runs, sorted by model, target and
 	// metric order (eval.Metrics).
 	Metrics []MetricChange
-	// PValues lists the permutation p-values of Pearson r, for the models
+	// PValues lists the permutation p-values of the headline r (r within
+	// folds), for the models
 	// and targets that either run tested; Spread is NaN.
 	PValues []MetricChange
 }
@@ -119,12 +120,12 @@ func Compare(a, b *Run) *Comparison {
 		pa, okA := a.P[k]
 		pb, okB := b.P[k]
 		if okA || okB {
-			mc := MetricChange{Model: k[0], Target: k[1], Metric: eval.MetricPearson, A: math.NaN(), B: math.NaN(), Spread: math.NaN()}
+			mc := MetricChange{Model: k[0], Target: k[1], Metric: eval.MetricPearsonWithin, A: math.NaN(), B: math.NaN(), Spread: math.NaN()}
 			if okA {
-				mc.A = pa.Pearson
+				mc.A = pa.PearsonWithin
 			}
 			if okB {
-				mc.B = pb.Pearson
+				mc.B = pb.PearsonWithin
 			}
 			mc.Change = mc.B - mc.A
 			c.PValues = append(c.PValues, mc)
@@ -320,7 +321,7 @@ func (c *Comparison) WriteText(w io.Writer) error {
 	}
 	tw.Flush()
 	if len(c.PValues) > 0 {
-		b.WriteString("\nPermutation p-values of Pearson r:\n")
+		b.WriteString("\nPermutation p-values of r within folds:\n")
 		fmt.Fprintln(tw, "  model\ttarget\tA\tB")
 		for _, m := range c.PValues {
 			fmt.Fprintf(tw, "  %s\t%s\t%s\t%s\n", m.Model, m.Target, num(m.A), num(m.B))
@@ -363,7 +364,7 @@ func (c *Comparison) WriteMarkdown(w io.Writer) error {
 		fmt.Fprintf(&b, "| %s | %s | %s | %s | %s | %s | %s |\n", md(m.Model), md(m.Target), m.Metric.Label(), num(m.A), num(m.B), change, num(m.Spread))
 	}
 	if len(c.PValues) > 0 {
-		b.WriteString("\n## Permutation p-values of Pearson r\n\n| model | target | A | B |\n| --- | --- | ---: | ---: |\n")
+		b.WriteString("\n## Permutation p-values of r within folds\n\n| model | target | A | B |\n| --- | --- | ---: | ---: |\n")
 		for _, m := range c.PValues {
 			fmt.Fprintf(&b, "| %s | %s | %s | %s |\n", md(m.Model), md(m.Target), num(m.A), num(m.B))
 		}
@@ -423,7 +424,7 @@ func (c *Comparison) WriteJSON(w io.Writer) error {
 		Settings      []change `json:"settings"`
 		Versions      []change `json:"versions"`
 		Metrics       []metric `json:"metrics"`
-		PValues       []metric `json:"permutation_p_pearson_r"`
+		PValues       []metric `json:"permutation_p_r_within_folds"`
 	}{
 		Note: eval.Disclaimer, A: c.A, B: c.B, ParticipantsA: c.ParticipantsA, ParticipantsB: c.ParticipantsB,
 		ExcludedA: intOrNil(c.ExcludedA), ExcludedB: intOrNil(c.ExcludedB),

@@ -21,22 +21,23 @@ import (
 const HistoryFile = "history.csv"
 
 // historyColumns is the header of the history file.
-var historyColumns = []string{"date", "run", "model", "target", "pearson_r", "mae", "permutation_p", "n"}
+var historyColumns = []string{"date", "run", "model", "target", "r_within_folds", "mae", "permutation_p", "n"}
 
 // A HistoryRow is the headline of one model on one target in one run: a
 // line of the history file
-// date,run,model,target,pearson_r,mae,permutation_p,n where date is the
-// time the run finished (RFC 3339, UTC), run the run folder's name,
-// pearson_r and mae the pooled figures, permutation_p the permutation
-// p-value of Pearson r (empty without a permutation test) and n the
+// date,run,model,target,r_within_folds,mae,permutation_p,n where date is
+// the time the run finished (RFC 3339, UTC), run the run folder's name,
+// r_within_folds (the headline r, eval.PearsonWithinFolds) and mae the
+// pooled figures, permutation_p the permutation p-value of r within folds
+// (empty without a permutation test) and n the
 // participants with a prediction. An undefined value is empty.
 type HistoryRow struct {
-	Date          time.Time
-	Run           string
-	Model, Target string
-	PearsonR, MAE float64
-	PermutationP  float64 // NaN without a permutation test
-	N             int
+	Date              time.Time
+	Run               string
+	Model, Target     string
+	RWithinFolds, MAE float64
+	PermutationP      float64 // NaN without a permutation test
+	N                 int
 }
 
 // HistoryRows returns the headline rows of run, dated date, in the order
@@ -47,10 +48,10 @@ func HistoryRows(run *Run, date time.Time) []HistoryRow {
 		k := [2]string{g.Model, g.Target}
 		p := math.NaN()
 		if v, ok := run.P[k]; ok {
-			p = v.Pearson
+			p = v.PearsonWithin
 		}
 		rows = append(rows, HistoryRow{Date: date.UTC(), Run: filepath.Base(run.Dir), Model: g.Model, Target: g.Target,
-			PearsonR: g.Pooled.Pearson, MAE: g.Pooled.MAE, PermutationP: p, N: run.Scored[k]})
+			RWithinFolds: g.Pooled.PearsonWithin, MAE: g.Pooled.MAE, PermutationP: p, N: run.Scored[k]})
 	}
 	return rows
 }
@@ -85,7 +86,7 @@ func AppendHistory(path string, rows []HistoryRow) error {
 	}
 	for _, r := range rows {
 		w.Write([]string{r.Date.UTC().Format(time.RFC3339), r.Run, r.Model, r.Target,
-			cell(r.PearsonR), cell(r.MAE), cell(r.PermutationP), strconv.Itoa(r.N)})
+			cell(r.RWithinFolds), cell(r.MAE), cell(r.PermutationP), strconv.Itoa(r.N)})
 	}
 	w.Flush()
 	if err := w.Error(); err != nil {
@@ -138,6 +139,10 @@ func ReadHistory(r io.Reader, name string) ([]HistoryRow, error) {
 		return nil, fmt.Errorf("%s: %w", name, err)
 	}
 	if !slices.Equal(header, historyColumns) {
+		if slices.Contains(header, "pearson_r") {
+			return nil, fmt.Errorf("%s:1: a history of an older skein, which recorded pooled Pearson r (biased in "+
+				"cross-validation) where it now records r within folds: move it aside to start a new history", name)
+		}
 		return nil, fmt.Errorf("%s:1: want the header %v, found %v", name, historyColumns, header)
 	}
 	var rows []HistoryRow
@@ -157,7 +162,7 @@ func ReadHistory(r io.Reader, name string) ([]HistoryRow, error) {
 		if row.Date, err = time.Parse(time.RFC3339, rec[0]); err != nil {
 			return nil, bad(0, "an RFC 3339 time such as 2026-03-01T02:00:00Z")
 		}
-		for c, dst := range []*float64{4: &row.PearsonR, 5: &row.MAE, 6: &row.PermutationP} {
+		for c, dst := range []*float64{4: &row.RWithinFolds, 5: &row.MAE, 6: &row.PermutationP} {
 			if dst == nil {
 				continue
 			}

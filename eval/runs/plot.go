@@ -22,7 +22,7 @@ const (
 	plotHeight = 4.5 * vg.Inch
 )
 
-// PlotHistory draws the pooled Pearson r of every model and target of the
+// PlotHistory draws the headline r (r within folds) of every model and target of the
 // history over the run dates, one line per model and target, and writes it
 // to w as a PNG image (8 × 4.5 in at 96 dpi). Rows with an undefined r are
 // left out of the lines. It is an error to pass no rows.
@@ -38,13 +38,13 @@ func PlotHistory(w io.Writer, rows []HistoryRow) error {
 			keys = append(keys, k)
 			series[k] = plotter.XYs{}
 		}
-		if !math.IsNaN(r.PearsonR) {
-			series[k] = append(series[k], plotter.XY{X: float64(r.Date.Unix()), Y: r.PearsonR})
+		if !math.IsNaN(r.RWithinFolds) {
+			series[k] = append(series[k], plotter.XY{X: float64(r.Date.Unix()), Y: r.RWithinFolds})
 		}
 	}
 	sortKeys(keys)
 	p := plot.New()
-	p.Title.Text = "Pooled Pearson r of each run (research software, not a diagnostic device)"
+	p.Title.Text = "r within folds of each run (research software, not a diagnostic device)"
 	p.X.Label.Text = "run date (UTC)"
 	p.Y.Label.Text = "pooled Pearson r"
 	p.X.Tick.Marker = plot.TimeTicks{Format: "2006-01-02"}

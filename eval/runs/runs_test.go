@@ -28,7 +28,7 @@ func fakeRun(dir string, r, mae map[string]float64, p map[string]float64) *Run {
 	for _, k := range keys {
 		model, target, _ := strings.Cut(k, "/")
 		g := eval.Group{Model: model, Target: target}
-		g.Pooled.Values = eval.Values{Pearson: r[k], MAE: mae[k], Spearman: math.NaN(), MedianAE: math.NaN(), RMSE: math.NaN(), R2: math.NaN(), NMI: math.NaN()}
+		g.Pooled.Values = eval.Values{PearsonWithin: r[k], Pearson: r[k], MAE: mae[k], Spearman: math.NaN(), MedianAE: math.NaN(), RMSE: math.NaN(), R2: math.NaN(), NMI: math.NaN()}
 		g.Pooled.N = 50
 		run.Summary.Groups = append(run.Summary.Groups, g)
 		run.Scored[[2]string{model, target}] = 50
@@ -36,7 +36,7 @@ func fakeRun(dir string, r, mae map[string]float64, p map[string]float64) *Run {
 			if run.P == nil {
 				run.P = map[[2]string]eval.Values{}
 			}
-			run.P[[2]string{model, target}] = eval.Values{Pearson: p[k]}
+			run.P[[2]string{model, target}] = eval.Values{PearsonWithin: p[k], Pearson: p[k]}
 		}
 	}
 	return run
@@ -91,22 +91,22 @@ func TestCheckDrift(t *testing.T) {
 // 2010), worked by hand: observed r 0.5 against 0.1, 0.6, 0.2, 0.3 gives
 // 2/5; observed MAE 2 against 3, 1, 4, 5 (lower is better) gives 2/5.
 func TestReadPValues(t *testing.T) {
-	csv := "model,target,permutation,pearson_r,spearman_rho,mae,median_ae,rmse,r2,nmi,ami\n" +
-		"ridge,recall,0,0.5,0.5,2,2,2,0.1,0.2,0.1\n" +
-		"ridge,recall,1,0.1,0.1,3,3,3,0,0.1,0\n" +
-		"ridge,recall,2,0.6,0.6,1,1,1,0,0.1,0\n" +
-		"ridge,recall,3,0.2,0.2,4,4,4,0,0.1,0\n" +
-		"ridge,recall,4,0.3,0.3,5,5,5,0,NaN,NaN\n"
+	csv := "model,target,permutation,pearson_r_within,pearson_r,spearman_rho,mae,median_ae,rmse,r2,nmi,ami\n" +
+		"ridge,recall,0,0.5,0.5,0.5,2,2,2,0.1,0.2,0.1\n" +
+		"ridge,recall,1,0.1,0.1,0.1,3,3,3,0,0.1,0\n" +
+		"ridge,recall,2,0.6,0.6,0.6,1,1,1,0,0.1,0\n" +
+		"ridge,recall,3,0.2,0.2,0.2,4,4,4,0,0.1,0\n" +
+		"ridge,recall,4,0.3,0.3,0.3,5,5,5,0,NaN,NaN\n"
 	p, err := readPValues(strings.NewReader(csv), "permutations.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
 	v := p[[2]string{"ridge", "recall"}]
-	if v.Pearson != 0.4 || v.MAE != 0.4 {
+	if v.PearsonWithin != 0.4 || v.Pearson != 0.4 || v.MAE != 0.4 {
 		t.Errorf("p of r %v, of MAE %v; want 0.4 and 0.4", v.Pearson, v.MAE)
 	}
-	_, err = readPValues(strings.NewReader(strings.Replace(csv, "0.6,0.6", "high,0.6", 1)), "permutations.csv")
-	if err == nil || !strings.Contains(err.Error(), "permutations.csv:4: column 4 (pearson_r)") {
+	_, err = readPValues(strings.NewReader(strings.Replace(csv, "0.6,0.6,0.6", "0.6,high,0.6", 1)), "permutations.csv")
+	if err == nil || !strings.Contains(err.Error(), "permutations.csv:4: column 5 (pearson_r)") {
 		t.Errorf("bad cell: %v", err)
 	}
 }
@@ -167,7 +167,7 @@ func TestHistoryAppendReadPlot(t *testing.T) {
 		t.Fatal(err)
 	}
 	if len(rows) != 14 || !rows[13].Date.Equal(start.AddDate(0, 0, 6)) || rows[13].Model != "ridge" ||
-		math.Abs(rows[13].PearsonR-0.42) > 1e-12 || !math.IsNaN(rows[12].PearsonR) || !math.IsNaN(rows[13].PermutationP) || rows[13].N != 50 {
+		math.Abs(rows[13].RWithinFolds-0.42) > 1e-12 || !math.IsNaN(rows[12].RWithinFolds) || !math.IsNaN(rows[13].PermutationP) || rows[13].N != 50 {
 		t.Fatalf("history read back: %d rows, last %+v", len(rows), rows[len(rows)-1])
 	}
 	png, err := os.ReadFile(HistoryPlotPath(path))
@@ -183,9 +183,13 @@ func TestHistoryAppendReadPlot(t *testing.T) {
 	if err := AppendHistory(path, nil); err == nil || !strings.Contains(err.Error(), "history.csv:1: want the header") {
 		t.Errorf("foreign file: %v", err)
 	}
-	bad := "date,run,model,target,pearson_r,mae,permutation_p,n\n2026-03-01,n1,ridge,recall,0.3,5,,50\n"
+	bad := "date,run,model,target,r_within_folds,mae,permutation_p,n\n2026-03-01,n1,ridge,recall,0.3,5,,50\n"
 	if _, err := ReadHistory(strings.NewReader(bad), "h.csv"); err == nil || !strings.Contains(err.Error(), "h.csv:2: column 1 (date)") {
 		t.Errorf("bad date: %v", err)
+	}
+	older := "date,run,model,target,pearson_r,mae,permutation_p,n\n"
+	if _, err := ReadHistory(strings.NewReader(older), "h.csv"); err == nil || !strings.Contains(err.Error(), "move it aside") {
+		t.Errorf("history of an older skein: %v", err)
 	}
 }
 
