@@ -209,6 +209,48 @@ func gridEdgeCautions(exp *train.Experiment, res *train.Result, targets []string
 	return out
 }
 
+// pooledBiasShown is the gap between pooled r and r within folds from which
+// the summary cautions that the two differ (common practice, no source).
+const pooledBiasShown = 0.05
+
+// predictionCautions names the models whose pooled predictions are
+// constant to rounding, and the largest gap between pooled r and the
+// headline r within folds when it is large enough to mislead.
+func predictionCautions(sum *Summary, rows []Prediction) []string {
+	byGroup := make(map[[2]string][2][]float64)
+	for _, p := range rows {
+		k := [2]string{p.Model, p.Target}
+		v := byGroup[k]
+		v[0], v[1] = append(v[0], p.Observed), append(v[1], p.Predicted)
+		byGroup[k] = v
+	}
+	var constant []string
+	worst, gap := "", 0.0
+	for _, g := range sum.Groups {
+		v := byGroup[[2]string{g.Model, g.Target}]
+		if obs, pred, _ := CompletePairs(v[0], v[1]); len(obs) > 0 && ConstantPredictions(obs, pred) {
+			constant = append(constant, fmt.Sprintf("%s on %s", g.Model, g.Target))
+			continue
+		}
+		if d := math.Abs(g.Pooled.Pearson - g.Pooled.PearsonWithin); d > gap {
+			worst, gap = fmt.Sprintf("%s on %s (pooled r %.3f, r within folds %.3f)", g.Model, g.Target,
+				g.Pooled.Pearson, g.Pooled.PearsonWithin), d
+		}
+	}
+	var out []string
+	if len(constant) > 0 {
+		out = append(out, fmt.Sprintf("Constant predictions: %s predicted the same value, to rounding, for "+
+			"everyone (as the mean predictor does once confounds are regressed out). Their r, ρ, intervals and "+
+			"p-values of r are undefined and shown as –; their errors are the chance level.", strings.Join(constant, ", ")))
+	}
+	if gap > pooledBiasShown {
+		out = append(out, fmt.Sprintf("Pooled r differs from r within folds by up to %.3f: %s. Pooled r mixes in "+
+			"the folds' training means, which run against their test scores, so it is biased downwards; the "+
+			"headline figure is r within folds.", gap, worst))
+	}
+	return out
+}
+
 // smallFold is the test-fold size below which fold-level figures are too
 // noisy to read alone (common practice, no source: the SD of r over n
 // pairs is about 1/√n, 0.22 at n = 20).
@@ -251,6 +293,7 @@ func runCautions(rep *Report, r *train.Runner) []string {
 		}
 	}
 	out = append(out, gridEdgeCautions(rep.Experiment, rep.Result, r.Cohort.Targets)...)
+	out = append(out, predictionCautions(rep.Summary, rep.Rows)...)
 	if count := rep.Experiment.Permutation.Count; count > 0 && count < 99 {
 		out = append(out, fmt.Sprintf("Few permutations: with %d permutations the smallest possible p-value is "+
 			"1/%d = %.3f.", count, count+1, 1/float64(count+1)))

@@ -13,18 +13,18 @@ import (
 // and any target, a pooled figure worsened by more than Worsen allows, or
 // the permutation p-value rose above PLevel.
 type Drift struct {
-	// Worsen maps a metric name (pearson_r, spearman_rho, mae, median_ae,
-	// rmse, r2, nmi) to the largest worsening of a model's pooled value
-	// allowed from the earlier run, in the metric's units: a drop for
-	// pearson_r, spearman_rho, r2 and nmi, a rise for the errors mae,
-	// median_ae and rmse. Default none.
+	// Worsen maps a metric name (pearson_r_within, pearson_r,
+	// spearman_rho, mae, median_ae, rmse, r2, nmi, ami) to the largest
+	// worsening of a model's pooled value allowed from the earlier run, in
+	// the metric's units: a drop for the correlations, r2, nmi and ami, a
+	// rise for the errors mae, median_ae and rmse. Default none.
 	Worsen map[string]float64 `toml:"worsen"`
 	// PLevel breaks the rule when a model's permutation p-value of PMetric
 	// was at most PLevel in the earlier run and is above it now. 0 (the
 	// default) checks no p-value; both runs need a permutation test.
 	PLevel float64 `toml:"p_level"`
 	// PMetric is the metric whose permutation p-value PLevel checks.
-	// Default "pearson_r".
+	// Default "pearson_r_within", the headline r.
 	PMetric string `toml:"p_metric"`
 	// Models names the models the rule checks; empty (the default) checks
 	// all.
@@ -33,7 +33,7 @@ type Drift struct {
 
 // driftMetrics lists the metric names Drift accepts: those of eval's
 // metrics.json.
-var driftMetrics = []string{"pearson_r", "spearman_rho", "mae", "median_ae", "rmse", "r2", "nmi"}
+var driftMetrics = []string{"pearson_r_within", "pearson_r", "spearman_rho", "mae", "median_ae", "rmse", "r2", "nmi", "ami"}
 
 // SetDefaults fills every unset field with its documented default.
 func (d *Drift) SetDefaults() {
@@ -41,7 +41,7 @@ func (d *Drift) SetDefaults() {
 		d.Worsen = map[string]float64{}
 	}
 	if d.PMetric == "" {
-		d.PMetric = "pearson_r"
+		d.PMetric = "pearson_r_within"
 	}
 	if d.Models == nil {
 		d.Models = []string{}

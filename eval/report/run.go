@@ -337,11 +337,9 @@ func parseCurves(raw []byte, name string) ([]CurvePoint, error) {
 }
 
 func parseNulls(raw []byte, name string) ([]Null, error) {
-	want := []string{"model", "target", "permutation"}
-	for _, m := range eval.Metrics() {
-		want = append(want, string(m))
-	}
-	t, err := readCSV(raw, name, want...)
+	// A metric column may be absent (a run of an older skein, before the
+	// metric existed): its values are then NaN.
+	t, err := readCSV(raw, name, "model", "target", "permutation")
 	if err != nil {
 		return nil, err
 	}
@@ -355,9 +353,11 @@ func parseNulls(raw []byte, name string) ([]Null, error) {
 		}
 		var v eval.Values
 		for _, m := range eval.Metrics() {
-			x, err := t.float(i, string(m), false)
-			if err != nil {
-				return nil, err
+			x := math.NaN()
+			if _, ok := t.header[string(m)]; ok {
+				if x, err = t.float(i, string(m), false); err != nil {
+					return nil, err
+				}
 			}
 			v.Set(m, x)
 		}

@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -180,12 +181,9 @@ func readPValues(r io.Reader, name string) (map[[2]string]eval.Values, error) {
 			return nil, fmt.Errorf("%s:1: no %q column (found %v)", name, need, header)
 		}
 	}
+	// A metric column may be absent (a run of an older skein, before the
+	// metric existed): its p-values are then NaN.
 	metrics := eval.Metrics()
-	for _, m := range metrics {
-		if _, ok := col[string(m)]; !ok {
-			return nil, fmt.Errorf("%s:1: no %q column (found %v)", name, m, header)
-		}
-	}
 	type dist struct {
 		observed []float64
 		null     [][]float64
@@ -214,7 +212,11 @@ func readPValues(r io.Reader, name string) (map[[2]string]eval.Values, error) {
 		}
 		values := make([]float64, len(metrics))
 		for j, m := range metrics {
-			c := col[string(m)]
+			c, ok := col[string(m)]
+			if !ok {
+				values[j] = math.NaN()
+				continue
+			}
 			if values[j], err = strconv.ParseFloat(rec[c], 64); err != nil {
 				return nil, fmt.Errorf("%s:%d: column %d (%s): want a number, found %q", name, line, c+1, m, rec[c])
 			}

@@ -105,6 +105,13 @@ func TestReadPValues(t *testing.T) {
 	if v.PearsonWithin != 0.4 || v.Pearson != 0.4 || v.MAE != 0.4 {
 		t.Errorf("p of r %v, of MAE %v; want 0.4 and 0.4", v.Pearson, v.MAE)
 	}
+	// A run of an older skein has no pearson_r_within or ami column: their
+	// p-values are NaN, the others are read.
+	older := "model,target,permutation,pearson_r,mae\nridge,recall,0,0.5,2\nridge,recall,1,0.6,1\n"
+	p, err = readPValues(strings.NewReader(older), "permutations.csv")
+	if v := p[[2]string{"ridge", "recall"}]; err != nil || !math.IsNaN(v.PearsonWithin) || !math.IsNaN(v.AMI) || v.Pearson != 1 || v.MAE != 1 {
+		t.Errorf("older permutations.csv: %+v, %v", v, err)
+	}
 	_, err = readPValues(strings.NewReader(strings.Replace(csv, "0.6,0.6,0.6", "0.6,high,0.6", 1)), "permutations.csv")
 	if err == nil || !strings.Contains(err.Error(), "permutations.csv:4: column 5 (pearson_r)") {
 		t.Errorf("bad cell: %v", err)
