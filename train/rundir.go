@@ -158,8 +158,8 @@ type Checkpoints struct {
 // older checkpoints still load.
 type unitFile struct {
 	Model       string           `json:"model"`
-	Repeat      int              `json:"repeat"`
-	Fold        int              `json:"fold"`
+	Repeat      int              `json:"repeat"` // from 1, as in the file's name
+	Fold        int              `json:"fold"`   // from 1
 	Predictions []unitPrediction `json:"predictions"`
 	History     []unitEpoch      `json:"history,omitempty"`
 	// Importance holds one row-major p × p map per target.
@@ -213,7 +213,7 @@ func unitPath(name string, u Unit) string {
 func (d *RunDir) ModelsDir() string { return filepath.Join(d.Partial, "models") }
 
 func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
-	f := unitFile{Model: name, Repeat: u.Repeat, Fold: u.Fold, Predictions: make([]unitPrediction, len(out.predictions))}
+	f := unitFile{Model: name, Repeat: u.Repeat + 1, Fold: u.Fold + 1, Predictions: make([]unitPrediction, len(out.predictions))}
 	for i, p := range out.predictions {
 		f.Predictions[i] = unitPrediction{p.ParticipantID, p.Target, p.Observed, p.Predicted}
 	}
@@ -267,8 +267,8 @@ func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 	if err := json.Unmarshal(raw, &f); err != nil {
 		return unitOutput{}, false, fmt.Errorf("%s: %w (delete it to retrain the unit)", path, err)
 	}
-	if f.Model != name || f.Repeat != u.Repeat || f.Fold != u.Fold {
-		return unitOutput{}, false, fmt.Errorf("%s: holds model %q repeat %d fold %d", path, f.Model, f.Repeat+1, f.Fold+1)
+	if f.Model != name || f.Repeat != u.Repeat+1 || f.Fold != u.Fold+1 {
+		return unitOutput{}, false, fmt.Errorf("%s: holds model %q repeat %d fold %d (delete it to retrain the unit)", path, f.Model, f.Repeat, f.Fold)
 	}
 	var out unitOutput
 	for _, p := range f.Predictions {

@@ -177,7 +177,7 @@ func TestCheckpointDiagnostics(t *testing.T) {
 		&Result{Choices: map[Unit][][]model.Choice{u: got.choices}, InnerLoss: map[Unit][]float64{u: got.innerLoss}},
 		&Result{Choices: map[Unit][][]model.Choice{u: out.choices}, InnerLoss: map[Unit][]float64{u: out.innerLoss}})
 
-	old := `{"model":"ridge","repeat":0,"fold":2,"predictions":[{"participant_id":"sub-1","target":"alpha","observed":1.5,"predicted":0.1}]}`
+	old := `{"model":"ridge","repeat":1,"fold":3,"predictions":[{"participant_id":"sub-1","target":"alpha","observed":1.5,"predicted":0.1}]}`
 	if err := os.WriteFile(c.path("ridge", u), []byte(old), 0o644); err != nil {
 		t.Fatal(err)
 	}

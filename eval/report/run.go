@@ -413,7 +413,8 @@ func readImportance(dir string) ([]UnitImportance, error) {
 				return nil, fmt.Errorf("%s: importance map %d has %d values, want p × p like the first", path, k+1, len(m))
 			}
 		}
-		out = append(out, UnitImportance{Model: u.Model, Repeat: u.Repeat, Fold: u.Fold, Maps: u.Importance})
+		// Checkpoints number repeats and folds from 1.
+		out = append(out, UnitImportance{Model: u.Model, Repeat: u.Repeat - 1, Fold: u.Fold - 1, Maps: u.Importance})
 	}
 	sort.Slice(out, func(a, b int) bool {
 		return unitLess(out[a].Model, out[a].Repeat, out[a].Fold, out[b].Model, out[b].Repeat, out[b].Fold)
