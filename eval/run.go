@@ -5,6 +5,7 @@ import (
 	"context"
 	"encoding/csv"
 	"fmt"
+	"io"
 	"math"
 	"slices"
 	"strconv"
@@ -352,25 +353,26 @@ func (rep *Report) Write(d *train.RunDir) error {
 
 // WriteMarkdown writes summary.md: the run in one paragraph, the metrics
 // tables, the comparison tables and the cautions.
-func (rep *Report) WriteMarkdown(buf *bytes.Buffer) error {
+func (rep *Report) WriteMarkdown(w io.Writer) error {
+	var buf bytes.Buffer
 	exp := rep.Experiment
-	fmt.Fprintf(buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
+	fmt.Fprintf(&buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
 		rep.Participants, rep.Excluded, len(exp.Models), exp.CV.Folds, exp.CV.Repeats, exp.Seed)
 	if len(exp.CV.Confounds) > 0 {
-		fmt.Fprintf(buf, ", confounds %v regressed out of the scores within each training fold", exp.CV.Confounds)
+		fmt.Fprintf(&buf, ", confounds %v regressed out of the scores within each training fold", exp.CV.Confounds)
 	}
 	if rep.Nulls != nil {
-		fmt.Fprintf(buf, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
+		fmt.Fprintf(&buf, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
 		if rep.Grouped {
-			fmt.Fprintf(buf, " (%s)", blocksSentence(exp.Permutation.Blocks))
+			fmt.Fprintf(&buf, " (%s)", blocksSentence(exp.Permutation.Blocks))
 		}
 	}
 	buf.WriteString(".\n\n## Metrics\n\n")
-	if err := rep.Summary.WriteMarkdown(buf); err != nil {
+	if err := rep.Summary.WriteMarkdown(&buf); err != nil {
 		return err
 	}
 	buf.WriteString("\n## Comparison\n")
-	if err := WriteComparisonMarkdown(buf, rep.Comparisons, rep.ReferenceRule); err != nil {
+	if err := WriteComparisonMarkdown(&buf, rep.Comparisons, rep.ReferenceRule); err != nil {
 		return err
 	}
 	if len(rep.Cautions) > 0 {
@@ -379,7 +381,8 @@ func (rep *Report) WriteMarkdown(buf *bytes.Buffer) error {
 			buf.WriteString("- " + escapeMarkdown(c) + "\n")
 		}
 	}
-	return nil
+	_, err := w.Write(buf.Bytes())
+	return err
 }
 
 // learningCSV returns the learning curves of res as CSV, or nil when no
