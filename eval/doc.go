@@ -1,21 +1,27 @@
-// Package eval scores predictions: Pearson and Spearman correlation, MAE,
+// Package eval scores predictions: Pearson correlation within folds (the
+// headline r, PearsonWithinFolds) and pooled, Spearman correlation, MAE,
 // median absolute error, RMSE, R², and normalized and adjusted mutual
 // information (NMI, AMI) of equal-frequency bins, with NMI's chance level,
 // pooled and per fold (Score, Summarize), and the statistics that say
 // whether a result beats chance or another model: permutation p-values
 // (PermutationPValue, and PermutationTest, which reruns a train.Runner
-// under permuted scores), the corrected resampled t-test (CorrectedTTest),
-// bootstrap intervals (BootstrapCI) and the comparison of every model with
-// the best baseline (Compare). The metrics are usable alone, on predictions
+// with the participants table permuted against the connectomes), the
+// corrected resampled t-test over distinct folds (CorrectedTTest,
+// DuplicateFolds), bootstrap intervals (BootstrapCI) and the comparison of
+// every model with a reference baseline chosen without the test folds
+// (ChooseReference, Compare). The metrics are usable alone, on predictions
 // made anywhere (ReadPredictions); Evaluate and Report turn a finished run
-// into the files of its run folder.
+// into the files of its run folder, with the statistical cautions the run
+// triggered.
 //
-// Binning keeps tied values together (EqualFrequencyBins), so NMI and AMI
-// do not depend on the order of the rows. NMI is biased upwards in small
-// samples: compare it with Scores.NMIChance, its mean under random pairing,
-// or read AMI, which subtracts that chance agreement. Predictions that are
-// constant up to rounding on the scale of the scores (ConstantPredictions)
-// have no correlation (NaN) and NMI and AMI 0.
+// Pooled Pearson r of cross-validated predictions is biased downwards by
+// the folds' training means; r within folds is not. Binning keeps tied
+// values together (EqualFrequencyBins), so NMI and AMI do not depend on
+// the order of the rows. NMI is biased upwards in small samples: compare
+// it with Scores.NMIChance, its mean under random pairing, or read AMI,
+// which subtracts that chance agreement. Predictions that are constant up
+// to rounding on the scale of the scores (ConstantPredictions) have no
+// correlation (NaN) and NMI and AMI 0.
 //
 // Figures and the HTML report are in eval/report; comparisons of runs and
 // drift rules in eval/runs.
