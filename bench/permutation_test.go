@@ -10,6 +10,7 @@ import (
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/data/synth"
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/internal/blas"
 	"github.com/skein-neuro/skein/model/linear"
 	"github.com/skein-neuro/skein/train"
@@ -47,14 +48,14 @@ func BenchmarkRidgePermutation(b *testing.B) {
 		for _, l := range layouts {
 			b.Run(fmt.Sprintf("chunk=%d/jobs=%d/threads=%d", chunk, l.jobs, l.threads), func(b *testing.B) {
 				defer blas.SetThreads(blas.SetThreads(l.threads))
-				exp := &train.Experiment{
+				exp := &experiment.Experiment{
 					Seed:        1,
 					CV:          train.CV{Folds: 5, Repeats: 1},
 					Models:      []train.ModelConfig{{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}}},
-					Permutation: train.Permutation{Count: perms, Chunk: chunk},
+					Permutation: experiment.Permutation{Count: perms, Chunk: chunk},
 				}
 				exp.SetDefaults()
-				r := &train.Runner{Experiment: exp, Cohort: cohort, Jobs: l.jobs}
+				r := &train.Runner{Design: exp.Design(), Cohort: cohort, Jobs: l.jobs}
 				ctx := context.Background()
 				res, err := r.Run(ctx)
 				if err != nil {
@@ -64,7 +65,7 @@ func BenchmarkRidgePermutation(b *testing.B) {
 				b.ResetTimer()
 				start := time.Now()
 				for b.Loop() {
-					if _, err := eval.PermutationTest(ctx, r, observed); err != nil {
+					if _, err := experiment.PermutationTest(ctx, r, exp.Permutation, observed); err != nil {
 						b.Fatal(err)
 					}
 				}

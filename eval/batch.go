@@ -8,8 +8,6 @@ import (
 	"io"
 	"slices"
 	"strconv"
-
-	"github.com/skein-neuro/skein/train"
 )
 
 // NullScores are one model's pooled scores on one target under one
@@ -22,13 +20,14 @@ type NullScores struct {
 	Scores
 }
 
-// ScoreNullRun scores one model's predictions under one permutation as
-// PermutationTest does: pooled over all test predictions, per target, in
-// target order, with bins equal-frequency bins for the NMI.
-func ScoreNullRun(run train.NullRun, bins int) []NullScores {
+// ScoreNull scores one model's cross-validated predictions under
+// permutation k as a permutation test does: pooled over all test
+// predictions, per target, in target order, with bins equal-frequency
+// bins for NMI and AMI.
+func ScoreNull(predictions []Prediction, k, bins int) []NullScores {
 	var out []NullScores
-	for _, g := range Summarize(run.Predictions, bins, false).Groups {
-		out = append(out, NullScores{Model: g.Model, Target: g.Target, Permutation: run.Permutation, Scores: g.Pooled})
+	for _, g := range Summarize(predictions, bins, false).Groups {
+		out = append(out, NullScores{Model: g.Model, Target: g.Target, Permutation: k, Scores: g.Pooled})
 	}
 	return out
 }

@@ -4,11 +4,12 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
-	"github.com/skein-neuro/skein/model"
 	"io"
 	"math"
 	"strconv"
 	"strings"
+
+	"github.com/skein-neuro/skein/model"
 )
 
 // A Prediction is one row of predictions.csv: the score a model predicted

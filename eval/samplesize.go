@@ -1,23 +1,12 @@
 package eval
 
 import (
-	"bytes"
 	"encoding/csv"
 	"fmt"
 	"io"
 	"math"
-	"sort"
 	"strconv"
-
-	"github.com/skein-neuro/skein/train"
 )
-
-// SampleSizeFile holds the sample-size curve of a run:
-// model,target,fraction,n_train,repeat,fold,pearson_r,mae, one line per
-// model, target, fraction and test fold (repeat and fold from 1 as in
-// predictions.csv; n_train counts the training subset, inner validation
-// part included; an undefined value is empty).
-const SampleSizeFile = "sample_size.csv"
 
 // A SampleSizeRow is one model's accuracy on one target and one test fold
 // after training on a subset of the training fold.
@@ -27,57 +16,6 @@ type SampleSizeRow struct {
 	NTrain        int     // participants in the training subset
 	Repeat, Fold  int
 	Pearson, MAE  float64 // on the test fold; NaN when undefined
-}
-
-// SampleSizeCurve scores the runs of train.Runner.RunSampleSizes fold by
-// fold. Rows are ordered by model, target, fraction, repeat and fold.
-func SampleSizeCurve(runs []train.SampleSizeRun) []SampleSizeRow {
-	var rows []SampleSizeRow
-	for _, run := range runs {
-		nTrain := make(map[[2]int]int)
-		for _, s := range run.Splits {
-			nTrain[[2]int{s.Repeat, s.Fold}] = len(s.Train)
-		}
-		type key struct {
-			model, target string
-			repeat, fold  int
-		}
-		pairs := make(map[key][2][]float64)
-		var keys []key
-		for _, p := range run.Predictions {
-			k := key{p.Model, p.Target, p.Repeat, p.Fold}
-			v, ok := pairs[k]
-			if !ok {
-				keys = append(keys, k)
-			}
-			v[0] = append(v[0], p.Observed)
-			v[1] = append(v[1], p.Predicted)
-			pairs[k] = v
-		}
-		for _, k := range keys {
-			obs, pred, _ := CompletePairs(pairs[k][0], pairs[k][1])
-			rows = append(rows, SampleSizeRow{
-				Model: k.model, Target: k.target, Fraction: run.Fraction,
-				NTrain: nTrain[[2]int{k.repeat, k.fold}], Repeat: k.repeat, Fold: k.fold,
-				Pearson: Pearson(obs, pred), MAE: MAE(obs, pred),
-			})
-		}
-	}
-	sort.SliceStable(rows, func(a, b int) bool {
-		ra, rb := rows[a], rows[b]
-		switch {
-		case ra.Model != rb.Model:
-			return ra.Model < rb.Model
-		case ra.Target != rb.Target:
-			return ra.Target < rb.Target
-		case ra.Fraction != rb.Fraction:
-			return ra.Fraction < rb.Fraction
-		case ra.Repeat != rb.Repeat:
-			return ra.Repeat < rb.Repeat
-		}
-		return ra.Fold < rb.Fold
-	})
-	return rows
 }
 
 var sampleSizeColumns = []string{"model", "target", "fraction", "n_train", "repeat", "fold", "pearson_r", "mae"}
@@ -160,11 +98,4 @@ func ReadSampleSizeCSV(r io.Reader, name string) ([]SampleSizeRow, error) {
 		}
 		rows = append(rows, row)
 	}
-}
-
-// sampleSizeBytes returns rows as the content of sample_size.csv.
-func sampleSizeBytes(rows []SampleSizeRow) ([]byte, error) {
-	var buf bytes.Buffer
-	err := WriteSampleSizeCSV(&buf, rows)
-	return buf.Bytes(), err
 }

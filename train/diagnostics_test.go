@@ -27,8 +27,8 @@ import (
 // ridge fitted on the whole training fold (both parts, as the runner fits).
 func TestInnerLossByHand(t *testing.T) {
 	cohort := toyCohort(40, 6, 5, true)
-	exp := toyExperiment(ridgeAndMean()...)
-	res, err := (&Runner{Experiment: exp, Cohort: cohort}).Run(context.Background())
+	exp := toyDesign(ridgeAndMean()...)
+	res, err := (&Runner{Design: exp, Cohort: cohort}).Run(context.Background())
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -99,36 +99,36 @@ func TestInnerLossByHand(t *testing.T) {
 }
 
 // TestInnerLossOnlyWhenNeeded: the inner validation error is recorded
-// only when the run has to choose its reference among at least two
-// baselines, on folds with an inner validation part, and never in
-// permuted or sample-size runs.
+// only when the design asks for it (the experiment does when it has to
+// choose its reference among at least two baselines), for baselines, on
+// folds with an inner validation part, and never in permuted or
+// sample-size runs.
 func TestInnerLossOnlyWhenNeeded(t *testing.T) {
 	cohort := toyCohort(40, 6, 6, false)
 	tests := []struct {
 		name  string
-		exp   func() *Experiment
+		exp   func() *Design
 		sub   bool // a permuted or sample-size run
 		want  int  // units with an inner loss
 		tuned int  // units with choices
 	}{
-		{"two baselines", func() *Experiment { return toyExperiment(ridgeAndMean()...) }, false, 16, 8},
-		{"reference named", func() *Experiment {
-			e := toyExperiment(ridgeAndMean()...)
-			e.Comparison.Reference = "mean"
+		{"two baselines", func() *Design { return toyDesign(ridgeAndMean()...) }, false, 16, 8},
+		{"not asked for", func() *Design {
+			e := toyDesign(ridgeAndMean()...)
+			e.InnerLoss = false
 			return e
 		}, false, 0, 8},
-		{"one baseline", func() *Experiment { return toyExperiment(ridgeAndMean()[1:]...) }, false, 0, 8},
-		{"no inner validation", func() *Experiment {
-			e := toyExperiment(ridgeAndMean()...)
+		{"no inner validation", func() *Design {
+			e := toyDesign(ridgeAndMean()...)
 			zero := 0.0
 			e.CV.InnerValidation = &zero
 			return e
 		}, false, 0, 8},
-		{"sub-run", func() *Experiment { return toyExperiment(ridgeAndMean()...) }, true, 0, 0},
+		{"sub-run", func() *Design { return toyDesign(ridgeAndMean()...) }, true, 0, 0},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
-			res, err := (&Runner{Experiment: tt.exp(), Cohort: cohort, scoresOnly: tt.sub}).Run(context.Background())
+			res, err := (&Runner{Design: tt.exp(), Cohort: cohort, scoresOnly: tt.sub}).Run(context.Background())
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -22,7 +22,7 @@ func ExampleRunner() {
 	if err := sc.Preprocess(data.Preprocess{}); err != nil { // the defaults: Fisher z, log1p, scaled by the maximum
 		log.Fatal(err)
 	}
-	exp := &train.Experiment{
+	exp := &train.Design{
 		Seed: 7,
 		CV:   train.CV{Folds: 5},
 		Models: []train.ModelConfig{
@@ -31,7 +31,7 @@ func ExampleRunner() {
 		},
 	}
 	exp.SetDefaults()
-	runner := &train.Runner{Experiment: exp, Cohort: sc.Cohort}
+	runner := &train.Runner{Design: exp, Cohort: sc.Cohort}
 	res, err := runner.Run(context.Background())
 	if err != nil {
 		log.Fatal(err)

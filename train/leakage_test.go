@@ -18,9 +18,9 @@ import (
 // first target's pooled test predictions.
 func pooledR(t *testing.T, c *data.Cohort, cfg ModelConfig, seed int64) float64 {
 	t.Helper()
-	exp := &Experiment{Seed: seed, CV: CV{Folds: 5, Repeats: 1}, Models: []ModelConfig{cfg}}
+	exp := &Design{Seed: seed, CV: CV{Folds: 5, Repeats: 1}, Models: []ModelConfig{cfg}}
 	exp.SetDefaults()
-	res, err := (&Runner{Experiment: exp, Cohort: c}).Run(context.Background())
+	res, err := (&Runner{Design: exp, Cohort: c}).Run(context.Background())
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"math"
 	"slices"
-	"strings"
 	"testing"
 
 	"github.com/skein-neuro/skein/data"
@@ -144,34 +143,6 @@ func TestPermutationsWithoutGroups(t *testing.T) {
 	}
 }
 
-func TestPermutationValidate(t *testing.T) {
-	tests := []struct {
-		p    Permutation
-		want string // part of the error; "" for none
-	}{
-		{Permutation{}, ""},
-		{Permutation{Blocks: "auto"}, ""},
-		{Permutation{Blocks: "within"}, ""},
-		{Permutation{Blocks: "whole"}, ""},
-		{Permutation{Blocks: "families"}, `permutation.blocks: "families" is not one of "auto", "within", "whole"`},
-		{Permutation{Count: -1}, "permutation.count"},
-	}
-	for _, tt := range tests {
-		p := tt.p
-		p.SetDefaults()
-		if tt.p.Blocks == "" && p.Blocks != "auto" {
-			t.Errorf("default blocks %q, want auto", p.Blocks)
-		}
-		err := p.Validate(nil)
-		switch {
-		case tt.want == "" && err != nil:
-			t.Errorf("%+v: %v", tt.p, err)
-		case tt.want != "" && (err == nil || !strings.Contains(err.Error(), tt.want)):
-			t.Errorf("%+v: error %v, want one containing %q", tt.p, err, tt.want)
-		}
-	}
-}
-
 // TestRunPermutationsMovesWholeRows: a permuted run, alone or in a chunk
 // of column-wise fits, gives the predictions of an ordinary run on the
 // cohort whose participants took the scores and the covariates of
@@ -185,10 +156,10 @@ func TestRunPermutationsMovesWholeRows(t *testing.T) {
 		p.Covariates = append(p.Covariates, float64(i%3))
 	}
 	cohort.Participants[4].Covariates[0] = math.NaN() // filled with its block's training mean
-	exp := toyExperiment(ridgeAndMean()...)
+	exp := toyDesign(ridgeAndMean()...)
 	exp.CV.Confounds = []string{"site", "age"}
 	perms := Permutations(len(cohort.Participants), Groups(cohort), "auto", 5, 9)
-	r := &Runner{Experiment: exp, Cohort: cohort, Jobs: 1}
+	r := &Runner{Design: exp, Cohort: cohort, Jobs: 1}
 
 	for _, chunk := range []int{1, 3, 5} {
 		got := make(map[[2]any][]model.Prediction) // (model, permutation) -> predictions
@@ -206,7 +177,7 @@ func TestRunPermutationsMovesWholeRows(t *testing.T) {
 				q.Scores, q.Covariates = cohort.Participants[perm[i]].Scores, cohort.Participants[perm[i]].Covariates
 				moved.Participants = append(moved.Participants, &q)
 			}
-			res, err := (&Runner{Experiment: exp, Cohort: moved, Jobs: 1}).Run(context.Background())
+			res, err := (&Runner{Design: exp, Cohort: moved, Jobs: 1}).Run(context.Background())
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -23,7 +23,7 @@ import (
 // Unit identifies one model trained on one fold of one repeat: the
 // smallest piece of a run, independent of every other.
 type Unit struct {
-	Model  int // index into Experiment.Models
+	Model  int // index into Design.Models
 	Split  int // index into the run's splits
 	Repeat int
 	Fold   int
@@ -94,8 +94,8 @@ type Result struct {
 // models see the same splits, inner validation parts and target
 // preparation, so their results are paired.
 type Runner struct {
-	Experiment *Experiment
-	Cohort     *data.Cohort
+	Design *Design
+	Cohort *data.Cohort
 	// Jobs is how many units run at once; 0 means the number of CPUs.
 	// Results do not depend on it.
 	Jobs int
@@ -149,7 +149,7 @@ func (r *Runner) Units() ([]Unit, error) {
 	if err != nil {
 		return nil, err
 	}
-	return unitsOf(len(r.Experiment.Models), splits), nil
+	return unitsOf(len(r.Design.Models), splits), nil
 }
 
 func unitsOf(models int, splits []Split) []Unit {
@@ -167,7 +167,7 @@ func (r *Runner) planSplits() ([]Split, error) {
 	if r.splits != nil {
 		return r.splits, nil
 	}
-	exp := r.Experiment
+	exp := r.Design
 	if err := exp.CV.checkAgainst(r.Cohort); err != nil {
 		return nil, err
 	}
@@ -179,7 +179,7 @@ func (r *Runner) planSplits() ([]Split, error) {
 // is cancelled, finished units are kept in the checkpoints and Run returns
 // an error wrapping ctx.Err().
 func (r *Runner) Run(ctx context.Context) (*Result, error) {
-	exp, cohort := r.Experiment, r.Cohort
+	exp, cohort := r.Design, r.Cohort
 	logger := r.Logger
 	if logger == nil {
 		logger = slog.New(slog.DiscardHandler)
@@ -308,7 +308,7 @@ func (r *Runner) checkCheckpoints(all, units []Unit) error {
 	}
 	missing := &MissingUnitsError{}
 	for _, unit := range units {
-		name := r.Experiment.Models[unit.Model].Name
+		name := r.Design.Models[unit.Model].Name
 		if !r.Checkpoints.has(name, unit) {
 			missing.Units = append(missing.Units, slices.Index(all, unit))
 			missing.Names = append(missing.Names, fmt.Sprintf("%s repeat %d fold %d", name, unit.Repeat+1, unit.Fold+1))
@@ -335,7 +335,7 @@ type foldData struct {
 
 // prepareFold fits the target preparation of split, in blocks blocks
 // (FitTargetPrepBlocks), and gathers what every model of the split shares.
-func prepareFold(exp *Experiment, cohort *data.Cohort, split Split, y, cov *mat.Dense, blocks int) (*foldData, error) {
+func prepareFold(exp *Design, cohort *data.Cohort, split Split, y, cov *mat.Dense, blocks int) (*foldData, error) {
 	prep, err := FitTargetPrepBlocks(y, cov, split.Train, blocks)
 	if err != nil {
 		return nil, err
@@ -380,7 +380,7 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 		return unitOutput{}, false, err
 	}
 	emit(Event{Kind: UnitStarted, Model: cfg.Name, Unit: unit})
-	seed := int64(unitSeed(r.Experiment.Seed, cfg.Name, unit.Repeat, unit.Fold) >> 1)
+	seed := int64(unitSeed(r.Design.Seed, cfg.Name, unit.Repeat, unit.Fold) >> 1)
 	reg, err := newModel(cfg, r.Cohort.P(), len(r.Cohort.Targets), seed)
 	if err != nil {
 		return unitOutput{}, false, err
@@ -424,7 +424,7 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 			return unitOutput{}, false, fmt.Errorf("choices for %d targets, want %d", len(out.choices), len(fd.targetName))
 		}
 	}
-	if wantsInnerLoss(r.Experiment, cfg) && fd.valid.Len() > 0 && !r.scoresOnly {
+	if wantsInnerLoss(r.Design, cfg) && fd.valid.Len() > 0 && !r.scoresOnly {
 		fresh, err := newModel(cfg, r.Cohort.P(), len(r.Cohort.Targets), seed)
 		if err != nil {
 			return unitOutput{}, false, err
@@ -438,8 +438,8 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
 		}
 	}
-	if saver, ok := reg.(model.Saver); ok && r.Models != "" && *r.Experiment.Output.SaveModels {
-		if err := saveModel(filepath.Join(r.Models, unitPath(cfg.Name, unit)), saver, fd, r.Cohort, r.Experiment, cfg); err != nil {
+	if saver, ok := reg.(model.Saver); ok && r.Models != "" && r.Design.SaveModels {
+		if err := saveModel(filepath.Join(r.Models, unitPath(cfg.Name, unit)), saver, fd, r.Cohort, r.Design, cfg); err != nil {
 			return unitOutput{}, false, fmt.Errorf("saving the model: %w", err)
 		}
 	}
@@ -454,17 +454,8 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 // wantsInnerLoss reports whether a run of exp records the inner
 // validation error of model cfg: cfg is a baseline, and exp names no
 // comparison.reference and has at least two baselines to choose from.
-func wantsInnerLoss(exp *Experiment, cfg ModelConfig) bool {
-	if cfg.Kind() == "network" || exp.Comparison.Reference != "" {
-		return false
-	}
-	baselines := 0
-	for _, m := range exp.Models {
-		if m.Kind() != "network" {
-			baselines++
-		}
-	}
-	return baselines >= 2
+func wantsInnerLoss(d *Design, cfg ModelConfig) bool {
+	return d.InnerLoss && cfg.Kind() != "network"
 }
 
 // innerLoss fits reg, a fresh model, on the training part of fd alone and

@@ -50,8 +50,10 @@ func toyCohort(n, p int, seed uint64, grouped bool) *data.Cohort {
 	return c
 }
 
-func toyExperiment(models ...ModelConfig) *Experiment {
-	exp := &Experiment{Seed: 11, CV: CV{Folds: 4, Repeats: 2}, Models: models}
+// toyDesign is a 4-fold × 2 design of models that records baselines'
+// inner-validation errors.
+func toyDesign(models ...ModelConfig) *Design {
+	exp := &Design{Seed: 11, CV: CV{Folds: 4, Repeats: 2}, Models: models, InnerLoss: true}
 	exp.SetDefaults()
 	return exp
 }
@@ -65,10 +67,10 @@ func ridgeAndMean() []ModelConfig {
 
 func TestRunDeterministicAcrossJobs(t *testing.T) {
 	cohort := toyCohort(40, 6, 1, true)
-	exp := toyExperiment(ridgeAndMean()[:1]...)
+	exp := toyDesign(ridgeAndMean()[:1]...)
 	var results [2]*Result
 	for j, jobs := range []int{1, 2} {
-		res, err := (&Runner{Experiment: exp, Cohort: cohort, Jobs: jobs}).Run(context.Background())
+		res, err := (&Runner{Design: exp, Cohort: cohort, Jobs: jobs}).Run(context.Background())
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -96,10 +98,10 @@ func TestRunDeterministicAcrossJobs(t *testing.T) {
 // regression and model fitting see the training part only.
 func TestRunNoLeakage(t *testing.T) {
 	cohort := toyCohort(40, 6, 2, false)
-	exp := toyExperiment(ModelConfig{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}})
+	exp := toyDesign(ModelConfig{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}})
 	exp.CV.Repeats = 1
 	exp.CV.Confounds = []string{"age"}
-	base, err := (&Runner{Experiment: exp, Cohort: cohort, Jobs: 1}).Run(context.Background())
+	base, err := (&Runner{Design: exp, Cohort: cohort, Jobs: 1}).Run(context.Background())
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -112,7 +114,7 @@ func TestRunNoLeakage(t *testing.T) {
 				p.Scores[t] = p.Scores[t]*50 - 7
 			}
 		}
-		res, err := (&Runner{Experiment: exp, Cohort: changed, Jobs: 1}).Run(context.Background())
+		res, err := (&Runner{Design: exp, Cohort: changed, Jobs: 1}).Run(context.Background())
 		if err != nil {
 			t.Fatal(err)
 		}

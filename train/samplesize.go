@@ -10,51 +10,6 @@ import (
 	"github.com/skein-neuro/skein/model"
 )
 
-// SampleSize asks for the sample-size curve: each model is trained again on
-// nested subsets of every training fold and tested on the same test fold,
-// which shows how accuracy depends on the number of training participants
-// (small samples inflate and scatter brain–behaviour effects: Marek et al.
-// 2022, "Reproducible brain-wide association studies require thousands of
-// individuals", Nature). It is the [sample_size] table of an experiment
-// file.
-type SampleSize struct {
-	// Fractions are the sizes of the training subsets as fractions of the
-	// training fold, each in (0, 1], ascending. Empty (the default) draws
-	// no curve.
-	Fractions []float64 `toml:"fractions"`
-	// Models names the models trained on subsets; empty (the default)
-	// trains all.
-	Models []string `toml:"models"`
-}
-
-// SetDefaults fills every unset field with its documented default.
-func (s *SampleSize) SetDefaults() {
-	if s.Fractions == nil {
-		s.Fractions = []float64{}
-	}
-	if s.Models == nil {
-		s.Models = []string{}
-	}
-}
-
-// Validate reports the first setting that cannot work, naming its key.
-func (s SampleSize) Validate(models []ModelConfig) error {
-	for i, f := range s.Fractions {
-		if !(f > 0 && f <= 1) {
-			return fmt.Errorf("sample_size.fractions[%d]: want a fraction in (0, 1], found %v", i, f)
-		}
-		if i > 0 && f <= s.Fractions[i-1] {
-			return fmt.Errorf("sample_size.fractions[%d]: want ascending fractions, found %v after %v", i, f, s.Fractions[i-1])
-		}
-	}
-	for _, name := range s.Models {
-		if !slices.ContainsFunc(models, func(m ModelConfig) bool { return m.Name == name }) {
-			return fmt.Errorf("sample_size.models: no model is named %q", name)
-		}
-	}
-	return nil
-}
-
 // SampleSizeRun is the cross-validation of the chosen models with every
 // training fold cut down to one fraction.
 type SampleSizeRun struct {
@@ -118,34 +73,34 @@ func SubsetSplits(splits []Split, groups []string, fractions []float64, seed int
 	return out
 }
 
-// RunSampleSizes cross-validates the models ss names (all when none) once
-// per fraction of ss, on the run's splits with each training fold cut to
+// RunSampleSizes cross-validates the named models (all when names is
+// empty) once per fraction, on the run's splits with each training fold cut to
 // the nested subsets of SubsetSplits. Target scaling, confound regression
 // and inner validation are fitted on each subset alone; units are seeded
 // as in Run, so the fraction 1 reproduces Run's predictions. Nothing is
 // checkpointed or saved.
-func (r *Runner) RunSampleSizes(ctx context.Context, ss SampleSize) ([]SampleSizeRun, error) {
-	exp := r.Experiment
+func (r *Runner) RunSampleSizes(ctx context.Context, fractions []float64, names []string) ([]SampleSizeRun, error) {
+	exp := r.Design
 	splits, err := r.planSplits()
 	if err != nil {
 		return nil, err
 	}
 	var models []ModelConfig
 	for _, m := range exp.Models {
-		if len(ss.Models) == 0 || slices.Contains(ss.Models, m.Name) {
+		if len(names) == 0 || slices.Contains(names, m.Name) {
 			models = append(models, m)
 		}
 	}
-	subsets := SubsetSplits(splits, Groups(r.Cohort), ss.Fractions, exp.Seed)
-	runs := make([]SampleSizeRun, len(ss.Fractions))
-	for fi, f := range ss.Fractions {
+	subsets := SubsetSplits(splits, Groups(r.Cohort), fractions, exp.Seed)
+	runs := make([]SampleSizeRun, len(fractions))
+	for fi, f := range fractions {
 		sub := &Runner{
-			Experiment: &Experiment{Seed: exp.Seed, CV: exp.CV, Models: models, Output: exp.Output},
-			Cohort:     r.Cohort,
-			Jobs:       r.Jobs,
-			Logger:     r.Logger,
-			newModel:   r.newModel,
-			splits:     subsets[fi],
+			Design:   &Design{Seed: exp.Seed, CV: exp.CV, Models: models},
+			Cohort:   r.Cohort,
+			Jobs:     r.Jobs,
+			Logger:   r.Logger,
+			newModel: r.newModel,
+			splits:   subsets[fi],
 
 			scoresOnly: true,
 		}

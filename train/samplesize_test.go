@@ -4,7 +4,6 @@ import (
 	"context"
 	"reflect"
 	"slices"
-	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/stat"
@@ -74,15 +73,15 @@ func TestSubsetSplitsNestedAndGroupsWhole(t *testing.T) {
 func TestSampleSizeCurveRises(t *testing.T) {
 	c := preprocessed(t, synth.Config{N: 90, P: 10, Seed: 21, Ceiling: 0.9})
 	ridge := ModelConfig{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}}
-	exp := &Experiment{Seed: 4, CV: CV{Folds: 3, Repeats: 1}, Models: []ModelConfig{ridge}}
+	exp := &Design{Seed: 4, CV: CV{Folds: 3, Repeats: 1}, Models: []ModelConfig{ridge}}
 	exp.SetDefaults()
-	r := &Runner{Experiment: exp, Cohort: c}
+	r := &Runner{Design: exp, Cohort: c}
 	full, err := r.Run(context.Background())
 	if err != nil {
 		t.Fatal(err)
 	}
-	ss := SampleSize{Fractions: []float64{0.25, 0.5, 1}}
-	runs, err := r.RunSampleSizes(context.Background(), ss)
+	fractions := []float64{0.25, 0.5, 1}
+	runs, err := r.RunSampleSizes(context.Background(), fractions, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -105,46 +104,13 @@ func TestSampleSizeCurveRises(t *testing.T) {
 			}
 		}
 	}
-	t.Logf("pooled r by fraction %v: %.3f", ss.Fractions, rs)
+	t.Logf("pooled r by fraction %v: %.3f", fractions, rs)
 	for k := 1; k < len(rs); k++ {
 		if rs[k] < rs[k-1]-0.1 {
-			t.Errorf("pooled r fell from %.3f (fraction %g) to %.3f (fraction %g)", rs[k-1], ss.Fractions[k-1], rs[k], ss.Fractions[k])
+			t.Errorf("pooled r fell from %.3f (fraction %g) to %.3f (fraction %g)", rs[k-1], fractions[k-1], rs[k], fractions[k])
 		}
 	}
 	if rs[len(rs)-1] < 0.3 {
 		t.Errorf("pooled r on the whole training folds is %.3f: the planted signal did not show", rs[len(rs)-1])
-	}
-}
-
-func TestSampleSizeAndDriftValidate(t *testing.T) {
-	models := ridgeAndMean()
-	cases := []struct {
-		ss   SampleSize
-		d    Drift
-		want string
-	}{
-		{ss: SampleSize{Fractions: []float64{0.5, 0.25}}, want: "sample_size.fractions[1]"},
-		{ss: SampleSize{Fractions: []float64{0, 1}}, want: "sample_size.fractions[0]"},
-		{ss: SampleSize{Fractions: []float64{1.5}}, want: "sample_size.fractions[0]"},
-		{ss: SampleSize{Models: []string{"nope"}}, want: "sample_size.models"},
-		{d: Drift{Worsen: map[string]float64{"accuracy": 0.1}}, want: "drift.worsen"},
-		{d: Drift{Worsen: map[string]float64{"mae": -1}}, want: "drift.worsen.mae"},
-		{d: Drift{PLevel: 1.5}, want: "drift.p_level"},
-		{d: Drift{PMetric: "auc"}, want: "drift.p_metric"},
-		{d: Drift{Models: []string{"nope"}}, want: "drift.models"},
-		{ss: SampleSize{Fractions: []float64{0.25, 1}}, d: Drift{Worsen: map[string]float64{"pearson_r": 0.1}, PLevel: 0.05}},
-	}
-	for _, tc := range cases {
-		errSS, errD := tc.ss.Validate(models), tc.d.Validate(models)
-		err := errSS
-		if err == nil {
-			err = errD
-		}
-		switch {
-		case tc.want == "" && err != nil:
-			t.Errorf("%+v %+v: %v", tc.ss, tc.d, err)
-		case tc.want != "" && (err == nil || !strings.Contains(err.Error(), tc.want)):
-			t.Errorf("%+v %+v: error %v, want one naming %s", tc.ss, tc.d, err, tc.want)
-		}
 	}
 }

@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/internal/atomicfile"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/model/graphnet"
 	"github.com/skein-neuro/skein/model/linear"
@@ -46,7 +47,7 @@ type Fitted struct {
 	Valid []string `json:"valid"`
 }
 
-func saveModel(dir string, m model.Saver, fd *foldData, c *data.Cohort, exp *Experiment, cfg ModelConfig) error {
+func saveModel(dir string, m model.Saver, fd *foldData, c *data.Cohort, exp *Design, cfg ModelConfig) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
@@ -75,7 +76,7 @@ func saveModel(dir string, m model.Saver, fd *foldData, c *data.Cohort, exp *Exp
 	if err != nil {
 		return fmt.Errorf("%s: %w", FittedFile, err)
 	}
-	return writeAtomic(filepath.Join(dir, FittedFile), raw)
+	return atomicfile.WriteFile(filepath.Join(dir, FittedFile), raw)
 }
 
 // SavedModel is a trained model read back from a run folder with what was
@@ -187,7 +188,7 @@ func (r *Runner) Refit(ctx context.Context) error {
 	if r.Models == "" {
 		return errors.New("train: Refit without a Models folder")
 	}
-	exp, cohort := r.Experiment, r.Cohort
+	exp, cohort := r.Design, r.Cohort
 	y, cov, err := scoresAndConfounds(exp.CV, cohort)
 	if err != nil {
 		return err

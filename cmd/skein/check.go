@@ -7,7 +7,7 @@ import (
 	"fmt"
 
 	"github.com/skein-neuro/skein/data"
-	"github.com/skein-neuro/skein/train"
+	"github.com/skein-neuro/skein/experiment"
 )
 
 // cmdCheck loads and checks the cohort of an experiment file and prints
@@ -27,7 +27,7 @@ func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	exp, err := train.ReadExperiment(positional[0])
+	exp, err := experiment.ReadExperiment(positional[0])
 	if err != nil {
 		return badInput(err)
 	}

@@ -10,9 +10,7 @@ import (
 	"strings"
 	"time"
 
-	"github.com/skein-neuro/skein/eval"
-	"github.com/skein-neuro/skein/eval/runs"
-	"github.com/skein-neuro/skein/train"
+	"github.com/skein-neuro/skein/experiment"
 )
 
 func cmdCompare(ctx context.Context, cio commandIO, args []string) error {
@@ -34,13 +32,13 @@ func cmdCompare(ctx context.Context, cio commandIO, args []string) error {
 	if *markdown && *asJSON {
 		return badInput(errors.New("choose one of --markdown and --json"))
 	}
-	var read [2]*runs.Run
+	var read [2]*experiment.Folder
 	for i, dir := range positional {
-		if read[i], err = runs.Read(dir); err != nil {
+		if read[i], err = experiment.ReadFolder(dir); err != nil {
 			return badInput(err)
 		}
 	}
-	c := runs.Compare(read[0], read[1])
+	c := experiment.CompareRuns(read[0], read[1])
 	switch {
 	case *markdown:
 		return c.WriteMarkdown(cio.stdout)
@@ -58,14 +56,14 @@ const (
 
 // readAgainst reads the earlier run of --against before anything is
 // trained, so that a wrong folder fails at once; nil when dir is "".
-func readAgainst(cio commandIO, dir string, exp *train.Experiment) (*runs.Run, error) {
+func readAgainst(cio commandIO, dir string, exp *experiment.Experiment) (*experiment.Folder, error) {
 	if dir == "" {
 		return nil, nil
 	}
 	if real, err := filepath.EvalSymlinks(dir); err == nil {
 		dir = real // name the night a "latest" link points to
 	}
-	prev, err := runs.Read(dir)
+	prev, err := experiment.ReadFolder(dir)
 	if err != nil {
 		return nil, badInput(fmt.Errorf("--against: %w", err))
 	}
@@ -78,10 +76,10 @@ func readAgainst(cio commandIO, dir string, exp *train.Experiment) (*runs.Run, e
 // writeNightly adds to the work folder of rd the plot of the sample-size
 // curve and, with an earlier run, drift.md: the drift verdict and the
 // comparison. It returns the verdict (nil without an earlier run).
-func writeNightly(rd *train.RunDir, report *eval.Report, prev *runs.Run, rule train.Drift) (*runs.DriftReport, error) {
+func writeNightly(rd *experiment.RunDir, report *experiment.Report, prev *experiment.Folder, rule experiment.Drift) (*experiment.DriftReport, error) {
 	if report.SampleSize != nil {
 		var png bytes.Buffer
-		if err := runs.PlotSampleSize(&png, report.SampleSize); err != nil {
+		if err := experiment.PlotSampleSize(&png, report.SampleSize); err != nil {
 			return nil, fmt.Errorf("sample-size plot: %w", err)
 		}
 		if err := rd.WriteFile(sampleSizePlotFile, png.Bytes()); err != nil {
@@ -91,12 +89,12 @@ func writeNightly(rd *train.RunDir, report *eval.Report, prev *runs.Run, rule tr
 	if prev == nil {
 		return nil, nil
 	}
-	cur, err := runs.Read(rd.Partial)
+	cur, err := experiment.ReadFolder(rd.Partial)
 	if err != nil {
 		return nil, err
 	}
 	cur.Dir = rd.Final
-	verdict := runs.CheckDrift(rule, prev, cur)
+	verdict := experiment.CheckDrift(rule, prev, cur)
 	var md bytes.Buffer
 	fmt.Fprintf(&md, "# Drift against %s\n\n", prev.Dir)
 	switch {
@@ -117,7 +115,7 @@ func writeNightly(rd *train.RunDir, report *eval.Report, prev *runs.Run, rule tr
 		}
 	}
 	md.WriteString("\n")
-	if err := runs.Compare(prev, cur).WriteMarkdown(&md); err != nil {
+	if err := experiment.CompareRuns(prev, cur).WriteMarkdown(&md); err != nil {
 		return nil, err
 	}
 	return verdict, rd.WriteFile(driftFile, md.Bytes())
@@ -128,22 +126,22 @@ func writeNightly(rd *train.RunDir, report *eval.Report, prev *runs.Run, rule tr
 // plot.
 func recordHistory(cio commandIO, final, path string) error {
 	if path == "" {
-		path = filepath.Join(filepath.Dir(final), runs.HistoryFile)
+		path = filepath.Join(filepath.Dir(final), experiment.HistoryFile)
 	}
-	cur, err := runs.Read(final)
+	cur, err := experiment.ReadFolder(final)
 	if err != nil {
 		return err
 	}
-	if err := runs.UpdateHistory(path, cur, time.Now()); err != nil {
+	if err := experiment.UpdateHistory(path, cur, time.Now()); err != nil {
 		return fmt.Errorf("history (the run itself is complete in %s): %w", final, err)
 	}
-	fmt.Fprintf(cio.stderr, "skein run: history %s, plot %s\n", path, runs.HistoryPlotPath(path))
+	fmt.Fprintf(cio.stderr, "skein run: history %s, plot %s\n", path, experiment.HistoryPlotPath(path))
 	return nil
 }
 
 // driftError returns the exit-4 error for a broken drift rule, after
 // printing what the rule could not check; nil when the rule held.
-func driftError(cio commandIO, verdict *runs.DriftReport, prev *runs.Run, final string) error {
+func driftError(cio commandIO, verdict *experiment.DriftReport, prev *experiment.Folder, final string) error {
 	if verdict == nil {
 		return nil
 	}

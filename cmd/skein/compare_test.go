@@ -158,7 +158,7 @@ func TestCompareShowsExactlyTheChanges(t *testing.T) {
 
 // TestRunAgainstDrift: an identical rerun keeps to the drift rule; a rerun
 // whose scores were shuffled breaks it with exit code 4, its results still
-// committed; every run adds its rows to the history beside the runs.
+// committed; every run adds its rows to the history beside the experiment.
 func TestRunAgainstDrift(t *testing.T) {
 	dir := nightlyCohort(t, synth.Config{N: 80, P: 10, Seed: 8, Ceiling: 0.9})
 	exp := experimentFile(t, dir, "nightly.toml", `[cv]

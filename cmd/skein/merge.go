@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -47,7 +48,7 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	exp, err := train.ParseExperiment(raw)
+	exp, err := experiment.ParseExperiment(raw)
 	if err != nil {
 		return fmt.Errorf("%s: %w", resolvedPath, err)
 	}
@@ -56,14 +57,14 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	rd, err := train.OpenRunDir(out, rec.Replace || *force, true)
+	rd, err := experiment.OpenRunDir(out, rec.Replace || *force, true)
 	if err != nil {
 		return badInput(err)
 	}
 	if err := b.checkPlanned(rd, rec); err != nil {
 		return err
 	}
-	units, err := b.runner.BatchUnits(rec.Block)
+	units, err := experiment.BatchUnits(b.runner, b.exp.Permutation, rec.Block)
 	if err != nil {
 		return err
 	}
@@ -76,15 +77,15 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	if runErr != nil && !errors.As(runErr, &missingModels) {
 		return runErr
 	}
-	var missing []train.BatchUnit
+	var missing []experiment.BatchUnit
 	var nullRows []eval.NullScores
 	for _, u := range units {
 		switch u.Kind {
-		case train.BatchModel:
+		case experiment.BatchModel:
 			if missingModels != nil && slices.Contains(missingModels.Units, u.Select) {
 				missing = append(missing, u)
 			}
-		case train.BatchPermutations:
+		case experiment.BatchPermutations:
 			path := rd.WorkPath(nullFile(u))
 			raw, err := os.ReadFile(path)
 			if errors.Is(err, fs.ErrNotExist) {
@@ -112,7 +113,7 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 			return err
 		}
 	}
-	report, err := eval.EvaluateWithNulls(ctx, r, res, rec.Bins, func(observed *eval.Summary) ([]eval.NullDistribution, error) {
+	report, err := experiment.EvaluateWithNulls(ctx, b.exp, r, res, rec.Bins, func(observed *eval.Summary) ([]eval.NullDistribution, error) {
 		return eval.AssembleNulls(observed, nullRows, exp.Permutation.Count)
 	})
 	if err != nil {
@@ -147,7 +148,7 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 
 // reportMissing lists the units that have not finished, with the error of
 // those that failed, and the commands that run just those again.
-func reportMissing(cio commandIO, rd *train.RunDir, rec *planRecord, units, missing []train.BatchUnit) error {
+func reportMissing(cio commandIO, rd *experiment.RunDir, rec *planRecord, units, missing []experiment.BatchUnit) error {
 	fmt.Fprintf(cio.stderr, "skein merge: %d of %d units have not finished:\n", len(missing), len(units))
 	indices := make([]string, len(missing))
 	for i, u := range missing {
@@ -168,7 +169,7 @@ func reportMissing(cio commandIO, rd *train.RunDir, rec *planRecord, units, miss
 
 // mergedLog is run.log of a merged run: the log of an earlier run in the
 // work folder, if any, each unit's log in unit order, and the merge.
-func mergedLog(rd *train.RunDir, units int) []byte {
+func mergedLog(rd *experiment.RunDir, units int) []byte {
 	var buf bytes.Buffer
 	if old, err := os.ReadFile(rd.WorkPath(logFile)); err == nil {
 		buf.Write(old)
@@ -185,7 +186,7 @@ func mergedLog(rd *train.RunDir, units int) []byte {
 
 // arrayRanges writes the indices of units as sbatch --array wants them,
 // runs of consecutive indices as ranges: 1-4,7,9-10.
-func arrayRanges(units []train.BatchUnit) string {
+func arrayRanges(units []experiment.BatchUnit) string {
 	var parts []string
 	for i := 0; i < len(units); {
 		j := i

@@ -19,6 +19,7 @@ import (
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -124,7 +125,7 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 	partial := outAbs + ".partial"
 	_, statErr := os.Stat(partial)
 	resume := statErr == nil && !*force
-	rd, err := train.OpenRunDir(outAbs, *force, resume)
+	rd, err := experiment.OpenRunDir(outAbs, *force, resume)
 	if err != nil {
 		return badInput(err)
 	}
@@ -135,7 +136,7 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 		return badInput(fmt.Errorf("%s: the cohort's files changed since its units ran (%s differs); pass --force to start over",
 			rd.Partial, cohortFile))
 	}
-	units, err := b.runner.BatchUnits(*block)
+	units, err := experiment.BatchUnits(b.runner, b.exp.Permutation, *block)
 	if err != nil {
 		return badInput(err)
 	}
@@ -174,7 +175,7 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 	}
 	models, perms := 0, 0
 	for _, u := range units {
-		if u.Kind == train.BatchModel {
+		if u.Kind == experiment.BatchModel {
 			models++
 		} else {
 			perms++
@@ -196,8 +197,8 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 
 // batch is an experiment opened for planning, running a unit or merging.
 type batch struct {
-	exp        *train.Experiment // sweeps expanded
-	variants   []train.Variant   // the sweeps' variants
+	exp        *experiment.Experiment // sweeps expanded
+	variants   []experiment.Variant   // the sweeps' variants
 	cohort     *data.Cohort
 	resolved   []byte // the resolved experiment file
 	cohortJSON []byte // cohort.json
@@ -206,14 +207,14 @@ type batch struct {
 
 // openBatch reads and checks the experiment at expPath.
 func openBatch(expPath string) (*batch, error) {
-	exp, err := train.ReadExperiment(expPath)
+	exp, err := experiment.ReadExperiment(expPath)
 	if err != nil {
 		return nil, badInput(err)
 	}
 	return openBatchExperiment(expPath, exp)
 }
 
-func openBatchExperiment(expPath string, exp *train.Experiment) (*batch, error) {
+func openBatchExperiment(expPath string, exp *experiment.Experiment) (*batch, error) {
 	if len(exp.Models) == 0 {
 		return nil, badInput(fmt.Errorf("%s: no [[model]] to run", expPath))
 	}
@@ -231,7 +232,7 @@ func openBatchExperiment(expPath string, exp *train.Experiment) (*batch, error) 
 	if b.cohortJSON, err = json.MarshalIndent(report, "", "  "); err != nil {
 		return nil, err
 	}
-	b.runner = &train.Runner{Experiment: b.exp, Cohort: cohort}
+	b.runner = &train.Runner{Design: b.exp.Design(), Cohort: cohort}
 	return b, nil
 }
 
@@ -263,7 +264,7 @@ func hasPlan(out string) bool {
 
 // checkPlanned makes sure the work folder holds the plan of this very
 // experiment and cohort.
-func (b *batch) checkPlanned(rd *train.RunDir, rec *planRecord) error {
+func (b *batch) checkPlanned(rd *experiment.RunDir, rec *planRecord) error {
 	if err := rd.CheckResume(resolvedFile, b.resolved); err != nil {
 		return badInput(fmt.Errorf("the experiment differs from the one planned: %w", err))
 	}
@@ -275,7 +276,7 @@ func (b *batch) checkPlanned(rd *train.RunDir, rec *planRecord) error {
 		return badInput(fmt.Errorf("the cohort's files changed since %s was planned (%s differs); plan again with --force",
 			rd.Final, rd.WorkPath(cohortFile)))
 	}
-	units, err := b.runner.BatchUnits(rec.Block)
+	units, err := experiment.BatchUnits(b.runner, b.exp.Permutation, rec.Block)
 	if err != nil {
 		return err
 	}
@@ -286,7 +287,7 @@ func (b *batch) checkPlanned(rd *train.RunDir, rec *planRecord) error {
 }
 
 // nullFile names the null scores of a permutation block.
-func nullFile(u train.BatchUnit) string {
+func nullFile(u experiment.BatchUnit) string {
 	return filepath.Join(nullsDir, safeName(u.Model), fmt.Sprintf("p%d-%d.csv", u.First+1, u.End))
 }
 
@@ -348,7 +349,7 @@ func runUnit(ctx context.Context, cio commandIO, expPath, out string, k, jobs in
 	if err != nil {
 		return err
 	}
-	rd, err := train.OpenRunDir(out, rec.Replace, true)
+	rd, err := experiment.OpenRunDir(out, rec.Replace, true)
 	if err != nil {
 		return badInput(err)
 	}
@@ -358,7 +359,7 @@ func runUnit(ctx context.Context, cio commandIO, expPath, out string, k, jobs in
 	if k >= rec.Units {
 		return badInput(fmt.Errorf("--unit %d: the plan in %s has units 0 to %d", k, rd.Partial, rec.Units-1))
 	}
-	units, err := b.runner.BatchUnits(rec.Block)
+	units, err := experiment.BatchUnits(b.runner, b.exp.Permutation, rec.Block)
 	if err != nil {
 		return err
 	}
@@ -372,7 +373,7 @@ func runUnit(ctx context.Context, cio commandIO, expPath, out string, k, jobs in
 	log.Info("unit started", "kind", u.Kind, "model", u.Model, "experiment", expPath, "jobs", jobs)
 	r := b.runner
 	r.Jobs, r.Logger = jobs, log
-	resumed, err := runPlannedUnit(ctx, rd, r, u, rec.Bins)
+	resumed, err := runPlannedUnit(ctx, rd, r, b.exp.Permutation, u, rec.Bins)
 	if err != nil {
 		log.Error("unit failed", "error", err.Error())
 		if werr := rd.WriteFile(failedFile(k), []byte(err.Error()+"\n")); werr != nil {
@@ -394,8 +395,8 @@ func runUnit(ctx context.Context, cio commandIO, expPath, out string, k, jobs in
 
 // runPlannedUnit runs u, unless it has finished already (then it reports
 // true).
-func runPlannedUnit(ctx context.Context, rd *train.RunDir, r *train.Runner, u train.BatchUnit, bins int) (bool, error) {
-	if u.Kind == train.BatchModel {
+func runPlannedUnit(ctx context.Context, rd *experiment.RunDir, r *train.Runner, pc experiment.Permutation, u experiment.BatchUnit, bins int) (bool, error) {
+	if u.Kind == experiment.BatchModel {
 		resumed := false
 		r.Select = []int{u.Select}
 		r.Checkpoints = rd.Checkpoints()
@@ -408,15 +409,7 @@ func runPlannedUnit(ctx context.Context, rd *train.RunDir, r *train.Runner, u tr
 	if _, err := os.Stat(rd.WorkPath(name)); err == nil {
 		return true, nil
 	}
-	exp, cohort := r.Experiment, r.Cohort
-	pc := exp.Permutation
-	perms := train.Permutations(len(cohort.Participants), train.Groups(cohort), pc.Blocks, pc.Count, uint64(exp.Seed))
-	var rows []eval.NullScores
-	err := r.RunPermutations(ctx, perms[u.First:u.End], []string{u.Model}, pc.Chunk, func(run train.NullRun) error {
-		run.Permutation += u.First
-		rows = append(rows, eval.ScoreNullRun(run, bins)...)
-		return nil
-	})
+	rows, err := experiment.PermutationBlock(ctx, r, pc, []string{u.Model}, u.First, u.End, bins)
 	if err != nil {
 		return false, err
 	}
@@ -427,8 +420,8 @@ func runPlannedUnit(ctx context.Context, rd *train.RunDir, r *train.Runner, u tr
 	return false, rd.WriteFile(name, raw)
 }
 
-func describeUnit(u train.BatchUnit) string {
-	if u.Kind == train.BatchModel {
+func describeUnit(u experiment.BatchUnit) string {
+	if u.Kind == experiment.BatchModel {
 		return fmt.Sprintf("model %q, repeat %d, fold %d", u.Model, u.Unit.Repeat+1, u.Unit.Fold+1)
 	}
 	return fmt.Sprintf("model %q, permutations %d to %d", u.Model, u.First+1, u.End)
@@ -438,12 +431,12 @@ func describeUnit(u train.BatchUnit) string {
 // model, repeat and fold (from 1; empty for a permutation block), the
 // permutations of a block (FIRST-LAST, from 1) and the command that runs
 // the unit.
-func unitsTable(units []train.BatchUnit, skein string, rec planRecord) []byte {
+func unitsTable(units []experiment.BatchUnit, skein string, rec planRecord) []byte {
 	var b strings.Builder
 	b.WriteString(unitsTSV)
 	for _, u := range units {
 		repeat, fold, perms := "", "", ""
-		if u.Kind == train.BatchModel {
+		if u.Kind == experiment.BatchModel {
 			repeat, fold = strconv.Itoa(u.Unit.Repeat+1), strconv.Itoa(u.Unit.Fold+1)
 		} else {
 			perms = fmt.Sprintf("%d-%d", u.First+1, u.End)
@@ -460,7 +453,7 @@ func tsvCell(s string) string {
 
 // jobScript writes the SLURM job-array script: one array task per unit,
 // each running skein run --unit with SLURM_ARRAY_TASK_ID.
-func jobScript(units int, skein string, rec planRecord, rd *train.RunDir, so slurmOptions) []byte {
+func jobScript(units int, skein string, rec planRecord, rd *experiment.RunDir, so slurmOptions) []byte {
 	var b strings.Builder
 	b.WriteString("#!/bin/bash\n")
 	name := strings.TrimSuffix(filepath.Base(rec.Out), filepath.Ext(rec.Out))
@@ -521,13 +514,13 @@ func shellQuote(s string) string {
 const sweepFile = "sweep.csv"
 
 // writeSweep writes the ranking of the sweeps' variants by inner
-// validation loss (train.RankSweep) as sweep.csv and as a section of
+// validation loss (experiment.RankSweep) as sweep.csv and as a section of
 // summary.md. It writes nothing without sweeps.
-func writeSweep(rd *train.RunDir, exp *train.Experiment, variants []train.Variant, res *train.Result) error {
+func writeSweep(rd *experiment.RunDir, exp *experiment.Experiment, variants []experiment.Variant, res *train.Result) error {
 	if len(variants) == 0 {
 		return nil
 	}
-	ranks := train.RankSweep(variants, exp, res)
+	ranks := experiment.RankSweep(variants, exp, res)
 	var csvBuf bytes.Buffer
 	w := csv.NewWriter(&csvBuf)
 	w.Write([]string{"model", "variant", "rank", "inner_valid_loss", "units", "settings"})
@@ -558,9 +551,9 @@ func writeSweep(rd *train.RunDir, exp *train.Experiment, variants []train.Varian
 	if err := rd.WriteFile(sweepFile, csvBuf.Bytes()); err != nil {
 		return err
 	}
-	summary, err := os.ReadFile(rd.WorkPath(eval.SummaryFile))
+	summary, err := os.ReadFile(rd.WorkPath(experiment.SummaryFile))
 	if err != nil {
 		return err
 	}
-	return rd.WriteFile(eval.SummaryFile, append(summary, md.String()...))
+	return rd.WriteFile(experiment.SummaryFile, append(summary, md.String()...))
 }

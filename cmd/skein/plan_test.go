@@ -9,7 +9,7 @@ import (
 	"testing"
 
 	"github.com/skein-neuro/skein/data/synth"
-	"github.com/skein-neuro/skein/train"
+	"github.com/skein-neuro/skein/experiment"
 )
 
 // batchExperiment is a small experiment with every kind of unit: two
@@ -334,9 +334,9 @@ func TestArrayRangesAndQuoting(t *testing.T) {
 		{[]int{3, 7, 12}, "3,7,12"},
 		{[]int{0, 1, 2, 3, 5, 8, 9}, "0-3,5,8-9"},
 	} {
-		var units []train.BatchUnit
+		var units []experiment.BatchUnit
 		for _, k := range tt.indices {
-			units = append(units, train.BatchUnit{Index: k})
+			units = append(units, experiment.BatchUnit{Index: k})
 		}
 		if got := arrayRanges(units); got != tt.want {
 			t.Errorf("arrayRanges(%v) = %q, want %q", tt.indices, got, tt.want)

@@ -11,6 +11,7 @@ import (
 	"strconv"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -33,7 +34,7 @@ func cmdPredict(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return badInput(err)
 	}
-	exp, err := train.ReadExperiment(positional[1])
+	exp, err := experiment.ReadExperiment(positional[1])
 	if err != nil {
 		return badInput(err)
 	}

@@ -7,7 +7,8 @@ import (
 	"os"
 	"path/filepath"
 
-	"github.com/skein-neuro/skein/eval/report"
+	"github.com/skein-neuro/skein/experiment"
+	"github.com/skein-neuro/skein/experiment/report"
 )
 
 // cmdReport rebuilds the figures and report.html of a finished run folder
@@ -37,7 +38,7 @@ func cmdReport(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return fmt.Errorf("report.html written, but parts could not be made (listed at its top): %w", err)
 	}
-	fmt.Fprintf(cio.stdout, "%d figures in %s\nReport: %s\n", len(figs), filepath.Join(dir, report.FiguresDir), filepath.Join(dir, report.HTMLFile))
+	fmt.Fprintf(cio.stdout, "%d figures in %s\nReport: %s\n", len(figs), filepath.Join(dir, experiment.FiguresDir), filepath.Join(dir, experiment.HTMLFile))
 	return nil
 }
 

@@ -19,6 +19,7 @@ import (
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/train"
 )
@@ -57,7 +58,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	} else if ok {
 		return runUnit(ctx, cio, expPath, *out, k, *jobs)
 	}
-	exp, err := train.ReadExperiment(expPath)
+	exp, err := experiment.ReadExperiment(expPath)
 	if err != nil {
 		return badInput(err)
 	}
@@ -98,7 +99,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	rd, err := train.OpenRunDir(*out, *force, *resume)
+	rd, err := experiment.OpenRunDir(*out, *force, *resume)
 	if err != nil {
 		return badInput(err)
 	}
@@ -128,7 +129,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), exp.CV.Folds, exp.CV.Repeats)
 
 	runner := &train.Runner{
-		Experiment:  exp,
+		Design:      exp.Design(),
 		Cohort:      cohort,
 		Jobs:        *jobs,
 		Logger:      fileLog,
@@ -158,7 +159,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if exp.Permutation.Count > 0 {
 		fmt.Fprintf(cio.stderr, "skein run: permutation test, %d permutations\n", exp.Permutation.Count)
 	}
-	report, err := eval.Evaluate(ctx, runner, res, *bins)
+	report, err := experiment.Evaluate(ctx, exp, runner, res, *bins)
 	if err != nil {
 		fileLog.Error("evaluation failed", "error", err.Error())
 		return err
@@ -202,7 +203,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 
 // versions records what made a run: skein's and its modules' versions, Go,
 // the machine and the seed.
-func versions(exp *train.Experiment) string {
+func versions(exp *experiment.Experiment) string {
 	var b strings.Builder
 	fmt.Fprintf(&b, "go %s %s/%s, %d CPUs\nseed %d\n", runtime.Version(), runtime.GOOS, runtime.GOARCH, runtime.NumCPU(), exp.Seed)
 	if info, ok := debug.ReadBuildInfo(); ok {

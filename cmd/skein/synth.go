@@ -5,8 +5,9 @@ import (
 	"errors"
 	"flag"
 	"fmt"
-	"github.com/skein-neuro/skein/data"
 	"path/filepath"
+
+	"github.com/skein-neuro/skein/data"
 
 	"github.com/skein-neuro/skein/data/synth"
 )

@@ -1,0 +1,420 @@
+package experiment
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/train"
+)
+
+// A Report is everything skein concludes from a finished run.
+type Report struct {
+	Experiment  *Experiment
+	Result      *train.Result
+	Rows        []eval.Prediction
+	Summary     *eval.Summary
+	Nulls       []eval.NullDistribution // nil without a permutation test
+	Comparisons []eval.Comparison
+	// ReferenceRule says how the reference baseline of the comparisons
+	// was chosen (ChooseReference).
+	ReferenceRule string
+	// Cautions are the statistical cautions this run triggered, each a
+	// sentence for the summary and the report.
+	Cautions []string
+	// Participants and Excluded count the cohort.
+	Participants, Excluded int
+	// Grouped says whether the cohort has a grouping column.
+	Grouped bool
+	// SampleSize is the sample-size curve; nil unless the experiment asks
+	// for one ([sample_size]).
+	SampleSize []eval.SampleSizeRow
+}
+
+// Evaluate scores the run of exp that r produced as res: metrics per model
+// and target, the permutation test and the sample-size curve when the
+// experiment asks for them (both retrain models, so they take time), the
+// comparison with the reference baseline and the cautions the run
+// triggered. bins ≤ 0 means eval.DefaultBins.
+func Evaluate(ctx context.Context, exp *Experiment, r *train.Runner, res *train.Result, bins int) (*Report, error) {
+	return EvaluateWithNulls(ctx, exp, r, res, bins, func(observed *eval.Summary) ([]eval.NullDistribution, error) {
+		return PermutationTest(ctx, r, exp.Permutation, observed)
+	})
+}
+
+// EvaluateWithNulls is Evaluate for a run whose permutation test was run
+// elsewhere, in blocks: it scores res as Evaluate does, but takes the
+// null distributions from nulls (a function of the observed summary, such
+// as a call of AssembleNulls) instead of retraining. nulls is called only
+// when the experiment has a permutation test. The report equals
+// Evaluate's for the same run.
+func EvaluateWithNulls(ctx context.Context, exp *Experiment, r *train.Runner, res *train.Result, bins int,
+	nulls func(observed *eval.Summary) ([]eval.NullDistribution, error)) (*Report, error) {
+	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: len(r.Cohort.Excluded),
+		Grouped: train.Groups(r.Cohort) != nil}
+	rep.Rows = res.Predictions
+	rep.Summary = eval.Summarize(rep.Rows, bins, true)
+	orderGroups(rep.Summary, exp, r.Cohort.Targets)
+	if exp.Permutation.Count > 0 {
+		var err error
+		if rep.Nulls, err = nulls(rep.Summary); err != nil {
+			return nil, fmt.Errorf("permutation test: %w", err)
+		}
+	}
+	if len(exp.SampleSize.Fractions) > 0 {
+		runs, err := r.RunSampleSizes(ctx, exp.SampleSize.Fractions, exp.SampleSize.Models)
+		if err != nil {
+			return nil, fmt.Errorf("sample-size curve: %w", err)
+		}
+		rep.SampleSize = SampleSizeCurve(runs)
+	}
+	isBaseline := make(map[string]bool)
+	var baselines []string
+	for _, m := range exp.Models {
+		if m.Kind() != "network" {
+			isBaseline[m.Name] = true
+			baselines = append(baselines, m.Name)
+		}
+	}
+	reference, rule := eval.ChooseReference(r.Cohort.Targets, baselines, exp.Comparison.Reference, meanInnerLoss(exp, res, len(r.Cohort.Targets)))
+	rep.ReferenceRule = rule
+	var nTrain, nTest float64
+	for _, s := range res.Splits {
+		nTrain += float64(len(s.Train))
+		nTest += float64(len(s.Test))
+	}
+	nTrain /= float64(len(res.Splits))
+	nTest /= float64(len(res.Splits))
+	comps, err := eval.Compare(rep.Summary, rep.Rows, eval.CompareOptions{
+		Baselines: isBaseline, Reference: reference, NTrain: nTrain, NTest: nTest, Nulls: rep.Nulls, Seed: uint64(exp.Seed),
+	})
+	if err != nil {
+		return nil, err
+	}
+	rep.Comparisons = comps
+	rep.Cautions = runCautions(rep, r)
+	return rep, nil
+}
+
+// meanInnerLoss returns, per model, the mean over its units of the
+// inner-validation loss of each target (NaN where no unit has one).
+func meanInnerLoss(exp *Experiment, res *train.Result, targets int) map[string][]float64 {
+	sums := make(map[string][]float64)
+	counts := make(map[string][]int)
+	for u, losses := range res.InnerLoss {
+		name := exp.Models[u.Model].Name
+		if sums[name] == nil {
+			sums[name], counts[name] = make([]float64, targets), make([]int, targets)
+		}
+		for t, v := range losses {
+			if !math.IsNaN(v) {
+				sums[name][t] += v
+				counts[name][t]++
+			}
+		}
+	}
+	for name, s := range sums {
+		for t := range s {
+			s[t] /= float64(counts[name][t]) // 0/0 is NaN: no unit had a loss
+		}
+	}
+	return sums
+}
+
+// blocksSentence says how a permutation exchanges the rows of grouped
+// participants.
+func blocksSentence(blocks string) string {
+	switch blocks {
+	case "within":
+		return "rows shuffled within each group"
+	case "whole":
+		return "groups exchanged whole among groups of the same size"
+	}
+	return fmt.Sprintf("blocks = \"auto\": groups of at most %d, such as families, exchanged whole among groups of the "+
+		"same size and shuffled within; larger groups, such as sites, shuffled within only", train.AutoWholeMax)
+}
+
+// gridEdgeCautions returns one caution per model, target and setting whose
+// grid choice fell on an edge of its grid in some fold.
+func gridEdgeCautions(exp *Experiment, res *train.Result, targets []string) []string {
+	type key struct {
+		model, target int
+		setting       string
+	}
+	type count struct {
+		low, high, folds int
+		min, max         float64
+	}
+	counts := make(map[key]*count)
+	var keys []key
+	for _, u := range res.Units {
+		for t, choices := range res.Choices[u] {
+			for _, c := range choices {
+				k := key{u.Model, t, c.Setting}
+				n := counts[k]
+				if n == nil {
+					n = &count{min: c.Min, max: c.Max}
+					counts[k] = n
+					keys = append(keys, k)
+				}
+				n.folds++
+				if c.AtEdge() && c.Value == c.Min {
+					n.low++
+				} else if c.AtEdge() {
+					n.high++
+				}
+			}
+		}
+	}
+	var out []string
+	for _, k := range keys {
+		n := counts[k]
+		if n.low+n.high == 0 {
+			continue
+		}
+		var where []string
+		if n.high > 0 {
+			where = append(where, fmt.Sprintf("the largest %s value (%g) in %d", k.setting, n.max, n.high))
+		}
+		if n.low > 0 {
+			where = append(where, fmt.Sprintf("the smallest %s value (%g) in %d", k.setting, n.min, n.low))
+		}
+		text := fmt.Sprintf("Grid edge: for %s, %s chose %s of %d folds, so the best value may lie beyond the grid; "+
+			"widen %s in [model.%s].", targets[k.target], exp.Models[k.model].Name, strings.Join(where, " and "),
+			n.folds, k.setting, exp.Models[k.model].Kind())
+		if n.high > 0 {
+			text += " A penalty at the top of its grid makes predictions close to constant."
+		}
+		out = append(out, text)
+	}
+	return out
+}
+
+// pooledBiasShown is the gap between pooled r and r within folds from which
+// the summary cautions that the two differ (common practice, no source).
+const pooledBiasShown = 0.05
+
+// predictionCautions names the models whose pooled predictions are
+// constant to rounding, and the largest gap between pooled r and the
+// headline r within folds when it is large enough to mislead.
+func predictionCautions(sum *eval.Summary, rows []eval.Prediction) []string {
+	byGroup := make(map[[2]string][2][]float64)
+	for _, p := range rows {
+		k := [2]string{p.Model, p.Target}
+		v := byGroup[k]
+		v[0], v[1] = append(v[0], p.Observed), append(v[1], p.Predicted)
+		byGroup[k] = v
+	}
+	var constant []string
+	worst, gap := "", 0.0
+	for _, g := range sum.Groups {
+		v := byGroup[[2]string{g.Model, g.Target}]
+		if obs, pred, _ := eval.CompletePairs(v[0], v[1]); len(obs) > 0 && eval.ConstantPredictions(obs, pred) {
+			constant = append(constant, fmt.Sprintf("%s on %s", g.Model, g.Target))
+			continue
+		}
+		if d := math.Abs(g.Pooled.Pearson - g.Pooled.PearsonWithin); d > gap {
+			worst, gap = fmt.Sprintf("%s on %s (pooled r %.3f, r within folds %.3f)", g.Model, g.Target,
+				g.Pooled.Pearson, g.Pooled.PearsonWithin), d
+		}
+	}
+	var out []string
+	if len(constant) > 0 {
+		out = append(out, fmt.Sprintf("Constant predictions: %s predicted the same value, to rounding, for "+
+			"everyone (as the mean predictor does once confounds are regressed out). Their r, ρ, intervals and "+
+			"p-values of r are undefined and shown as –; their errors are the chance level.", strings.Join(constant, ", ")))
+	}
+	if gap > pooledBiasShown {
+		out = append(out, fmt.Sprintf("Pooled r differs from r within folds by up to %.3f: %s. Pooled r mixes in "+
+			"the folds' training means, which run against their test scores, so it is biased downwards; the "+
+			"headline figure is r within folds.", gap, worst))
+	}
+	return out
+}
+
+// smallFold is the test-fold size below which fold-level figures are too
+// noisy to read alone (common practice, no source: the SD of r over n
+// pairs is about 1/√n, 0.22 at n = 20).
+const smallFold = 20
+
+// runCautions returns the cautions the run of r triggered, in a fixed
+// order.
+func runCautions(rep *Report, r *train.Runner) []string {
+	var out []string
+	splits := rep.Result.Splits
+	smallest := -1
+	seen := make(map[string]bool)
+	repeated := 0
+	for _, s := range splits {
+		if smallest < 0 || len(s.Test) < smallest {
+			smallest = len(s.Test)
+		}
+		key := fmt.Sprint(s.Test)
+		if seen[key] {
+			repeated++
+		}
+		seen[key] = true
+	}
+	if smallest >= 0 && smallest < smallFold {
+		out = append(out, fmt.Sprintf("Small test folds: the smallest holds %d participants. A fold's r over n "+
+			"participants has an SD of about 1/√n (%.2f here), so single folds say little; read the pooled figures "+
+			"and their intervals.", smallest, 1/math.Sqrt(float64(smallest))))
+	}
+	if repeated > 0 {
+		out = append(out, fmt.Sprintf("Repeated splits: %d of %d folds have exactly the test participants of an "+
+			"earlier fold (repeats re-deal the same groups when there are few), so they add no information. The "+
+			"corrected t-tests count each distinct fold once.", repeated, len(splits)))
+	}
+	if groups := train.Groups(r.Cohort); groups != nil {
+		distinct := len(data.GroupIndices(groups))
+		if k := rep.Experiment.CV.Folds; distinct < 4*k {
+			out = append(out, fmt.Sprintf("Few groups: the %d participants fall in %d groups of the grouping column "+
+				"for %d folds. Whole groups move between folds and permutations, so fold sizes vary and fewer "+
+				"distinct splits and permutations exist.", len(r.Cohort.Participants), distinct, k))
+		}
+	}
+	out = append(out, gridEdgeCautions(rep.Experiment, rep.Result, r.Cohort.Targets)...)
+	out = append(out, predictionCautions(rep.Summary, rep.Rows)...)
+	if count := rep.Experiment.Permutation.Count; count > 0 && count < 99 {
+		out = append(out, fmt.Sprintf("Few permutations: with %d permutations the smallest possible p-value is "+
+			"1/%d = %.3f.", count, count+1, 1/float64(count+1)))
+	}
+	return out
+}
+
+// Write writes predictions.csv, metrics.json, summary.md and, after a
+// permutation test, permutations.csv and, with a sample-size curve,
+// sample_size.csv into the work folder of d; they
+// appear in the run folder when d is committed.
+func (rep *Report) Write(d *RunDir) error {
+	var buf bytes.Buffer
+	if err := eval.WritePredictions(&buf, rep.Rows); err != nil {
+		return err
+	}
+	if err := d.WriteFile(PredictionsFile, buf.Bytes()); err != nil {
+		return err
+	}
+	buf.Reset()
+	if err := rep.Summary.WriteJSON(&buf); err != nil {
+		return err
+	}
+	if err := d.WriteFile(MetricsFile, buf.Bytes()); err != nil {
+		return err
+	}
+	if raw := learningCSV(rep.Experiment, rep.Result); raw != nil {
+		if err := d.WriteFile(LearningFile, raw); err != nil {
+			return err
+		}
+	}
+	if rep.Nulls != nil {
+		raw, err := eval.WriteNullCSV(rep.Nulls)
+		if err != nil {
+			return err
+		}
+		if err := d.WriteFile(PermutationFile, raw); err != nil {
+			return err
+		}
+	}
+	if rep.SampleSize != nil {
+		var raw bytes.Buffer
+		if err := eval.WriteSampleSizeCSV(&raw, rep.SampleSize); err != nil {
+			return err
+		}
+		if err := d.WriteFile(SampleSizeFile, raw.Bytes()); err != nil {
+			return err
+		}
+	}
+	buf.Reset()
+	if err := rep.WriteMarkdown(&buf); err != nil {
+		return err
+	}
+	return d.WriteFile(SummaryFile, buf.Bytes())
+}
+
+// WriteMarkdown writes summary.md: the run in one paragraph, the metrics
+// tables, the comparison tables and the cautions.
+func (rep *Report) WriteMarkdown(w io.Writer) error {
+	var buf bytes.Buffer
+	exp := rep.Experiment
+	fmt.Fprintf(&buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
+		rep.Participants, rep.Excluded, len(exp.Models), exp.CV.Folds, exp.CV.Repeats, exp.Seed)
+	if len(exp.CV.Confounds) > 0 {
+		fmt.Fprintf(&buf, ", confounds %v regressed out of the scores within each training fold", exp.CV.Confounds)
+	}
+	if rep.Nulls != nil {
+		fmt.Fprintf(&buf, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
+		if rep.Grouped {
+			fmt.Fprintf(&buf, " (%s)", blocksSentence(exp.Permutation.Blocks))
+		}
+	}
+	buf.WriteString(".\n\n## Metrics\n\n")
+	if err := rep.Summary.WriteMarkdown(&buf); err != nil {
+		return err
+	}
+	buf.WriteString("\n## Comparison\n")
+	if err := eval.WriteComparisonMarkdown(&buf, rep.Comparisons, rep.ReferenceRule); err != nil {
+		return err
+	}
+	if len(rep.Cautions) > 0 {
+		buf.WriteString("\n## Cautions for this run\n\n")
+		for _, c := range rep.Cautions {
+			buf.WriteString("- " + markdownText(c) + "\n")
+		}
+	}
+	_, err := w.Write(buf.Bytes())
+	return err
+}
+
+// learningCSV returns the learning curves of res as CSV, or nil when no
+// unit trained in epochs.
+func learningCSV(exp *Experiment, res *train.Result) []byte {
+	if len(res.Histories) == 0 {
+		return nil
+	}
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	w.Write([]string{"model", "repeat", "fold", "epoch", "train_loss", "valid_loss", "best"})
+	best := map[bool]string{false: "0", true: "1"}
+	for _, u := range res.Units {
+		for _, e := range res.Histories[u] {
+			valid := ""
+			if !math.IsNaN(e.ValidLoss) {
+				valid = strconv.FormatFloat(e.ValidLoss, 'g', -1, 64)
+			}
+			w.Write([]string{exp.Models[u.Model].Name, strconv.Itoa(u.Repeat + 1), strconv.Itoa(u.Fold + 1), strconv.Itoa(e.Epoch),
+				strconv.FormatFloat(e.TrainLoss, 'g', -1, 64), valid, best[e.Best]})
+		}
+	}
+	w.Flush()
+	return buf.Bytes()
+}
+
+// orderGroups puts the summary's groups in the order of the experiment's
+// models, then of the cohort's targets, the order a reader expects.
+func orderGroups(sum *eval.Summary, exp *Experiment, targets []string) {
+	rank := func(g eval.Group) (int, int) {
+		m := slices.IndexFunc(exp.Models, func(c train.ModelConfig) bool { return c.Name == g.Model })
+		return m, slices.Index(targets, g.Target)
+	}
+	slices.SortStableFunc(sum.Groups, func(a, b eval.Group) int {
+		am, at := rank(a)
+		bm, bt := rank(b)
+		if am != bm {
+			return am - bm
+		}
+		return at - bt
+	})
+}
+
+// markdownText makes s safe inside a Markdown table cell or list item.
+func markdownText(s string) string {
+	return strings.NewReplacer("|", `\|`, "\n", " ").Replace(s)
+}

@@ -1,0 +1,243 @@
+package experiment
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+
+	"github.com/pelletier/go-toml/v2"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/train"
+)
+
+// Experiment is one experiment file: the cohort and its preprocessing, the
+// models to compare, the cross-validation and the seed.
+type Experiment struct {
+	// Seed drives every random choice of the run: splits, initial
+	// weights, minibatches, dropout and permutations.
+	Seed int64 `toml:"seed"`
+	// Cohort says where the files are ([cohort]).
+	Cohort data.Source `toml:"cohort"`
+	// Preprocess says how each matrix is transformed ([preprocess]).
+	Preprocess data.Preprocess `toml:"preprocess"`
+	// train.CV is the cross-validation scheme ([cv]).
+	CV train.CV `toml:"cv"`
+	// Models lists the models to compare ([[model]]).
+	Models []train.ModelConfig `toml:"model"`
+	// Permutation is the permutation test ([permutation]).
+	Permutation Permutation `toml:"permutation"`
+	// Output says what a run keeps besides its predictions ([output]).
+	Output Output `toml:"output"`
+	// Drift is the rule a rerun is held to against an earlier run ([drift]).
+	Drift Drift `toml:"drift"`
+	// SampleSize asks for the sample-size curve ([sample_size]).
+	SampleSize SampleSize `toml:"sample_size"`
+	// Comparison says which baseline the models are compared with
+	// ([comparison]).
+	Comparison Comparison `toml:"comparison"`
+	// Sweeps vary settings of models ([[sweep]]); Expand turns them into
+	// models.
+	Sweeps []Sweep `toml:"sweep,omitempty"`
+
+	// Dir is the folder of the experiment file; relative paths in the file
+	// are taken from it. It is not read from the file.
+	Dir string `toml:"-"`
+}
+
+// Output says what a run keeps besides its predictions: the [output]
+// table of an experiment file.
+type Output struct {
+	// SaveModels keeps every fold's trained model, for models that can be
+	// saved (graph networks, ridge, the mean predictor), under
+	// models/NAME/rR-fF/ of the run folder with the target scaling fitted
+	// on its training fold. Default true.
+	SaveModels *bool `toml:"save_models"`
+	// Refit also trains every model that can be saved on all
+	// participants after the cross-validation and keeps it under
+	// models/NAME/all/, for predicting new participants. Default false.
+	Refit bool `toml:"refit"`
+}
+
+// SetDefaults fills every unset field with its documented default.
+func (o *Output) SetDefaults() {
+	if o.SaveModels == nil {
+		t := true
+		o.SaveModels = &t
+	}
+}
+
+// ReadExperiment reads and checks the experiment file at path. Unknown keys
+// and values of the wrong type are errors naming the key and its line.
+func ReadExperiment(path string) (*Experiment, error) {
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	exp, err := ParseExperiment(raw)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	exp.Dir = filepath.Dir(path)
+	return exp, nil
+}
+
+// ParseExperiment decodes an experiment file's text, fills defaults and
+// validates it.
+func ParseExperiment(raw []byte) (*Experiment, error) {
+	var exp Experiment
+	dec := toml.NewDecoder(bytes.NewReader(raw))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(&exp); err != nil {
+		return nil, describeTOMLError(err)
+	}
+	exp.SetDefaults()
+	if err := exp.Validate(); err != nil {
+		return nil, err
+	}
+	return &exp, nil
+}
+
+// SetDefaults fills every unset field with its documented default.
+func (e *Experiment) SetDefaults() {
+	e.Cohort.SetDefaults()
+	e.Preprocess.SetDefaults()
+	e.CV.SetDefaults()
+	e.Permutation.SetDefaults()
+	e.Output.SetDefaults()
+	e.Drift.SetDefaults()
+	e.SampleSize.SetDefaults()
+	for i := range e.Models {
+		e.Models[i].SetDefaults()
+	}
+}
+
+// Validate reports the first setting that cannot work, naming its key.
+func (e *Experiment) Validate() error {
+	if err := e.Cohort.Validate(); err != nil {
+		return err
+	}
+	if err := e.Preprocess.Validate(); err != nil {
+		return err
+	}
+	if err := e.CV.Validate(); err != nil {
+		return err
+	}
+	if err := e.Permutation.Validate(e.Models); err != nil {
+		return err
+	}
+	if err := e.Drift.Validate(e.Models); err != nil {
+		return err
+	}
+	if err := e.SampleSize.Validate(e.Models); err != nil {
+		return err
+	}
+	if err := validateSweeps(e.Sweeps, e.Models); err != nil {
+		return err
+	}
+	seen := make(map[string]bool)
+	for i, m := range e.Models {
+		if m.Name == "" {
+			return fmt.Errorf("model[%d]: key \"name\" is required", i)
+		}
+		if seen[m.Name] {
+			return fmt.Errorf("model[%d]: name %q is used twice", i, m.Name)
+		}
+		seen[m.Name] = true
+		if err := m.Validate(); err != nil {
+			return fmt.Errorf("model %q: %w", m.Name, err)
+		}
+	}
+	return e.Comparison.Validate(e.Models, e.Sweeps)
+}
+
+// Comparison says how the models of an experiment are compared: the
+// [comparison] table of an experiment file.
+type Comparison struct {
+	// Reference names the baseline every model is compared with: a
+	// [[model]] that is not a network (a variant of a swept model is named
+	// as the run names it, such as "ridge[alphas=10]"). "" (the default)
+	// leaves the choice to the run, which makes it on the inner validation
+	// parts of the training folds, never on the test folds: a run without
+	// a reference records each baseline's inner validation error when it
+	// has at least two baselines (see train.Result.InnerLoss).
+	Reference string `toml:"reference"`
+}
+
+// Validate reports a reference that names no model of models, a network,
+// or a swept model (which the run replaces by its variants); the error
+// names the key comparison.reference.
+func (c Comparison) Validate(models []train.ModelConfig, sweeps []Sweep) error {
+	const key = "comparison.reference"
+	if c.Reference == "" {
+		return nil
+	}
+	swept := func(name string) bool {
+		return slices.ContainsFunc(sweeps, func(s Sweep) bool { return s.Model == name })
+	}
+	kind := ""
+	if i := slices.IndexFunc(models, func(m train.ModelConfig) bool { return m.Name == c.Reference }); i >= 0 {
+		if swept(c.Reference) {
+			return fmt.Errorf("%s: model %q is swept into variants; name one of them, such as %q", key, c.Reference, sweepGrid(c.Reference, sweeps)[0].Name)
+		}
+		kind = models[i].Kind()
+	}
+	for _, m := range models { // a variant of a swept model, before Expand
+		if swept(m.Name) && slices.ContainsFunc(sweepGrid(m.Name, sweeps), func(v Variant) bool { return v.Name == c.Reference }) {
+			kind = m.Kind()
+		}
+	}
+	switch kind {
+	case "":
+		return fmt.Errorf("%s: no model is named %q", key, c.Reference)
+	case "network":
+		return fmt.Errorf("%s: model %q is a network; the reference must be a baseline (mean, ridge, kernel_ridge or cpm)", key, c.Reference)
+	}
+	return nil
+}
+
+// describeTOMLError rewrites go-toml's errors to name the key and its line.
+func describeTOMLError(err error) error {
+	var strict *toml.StrictMissingError
+	if errors.As(err, &strict) {
+		msgs := make([]string, len(strict.Errors))
+		for i, e := range strict.Errors {
+			row, _ := e.Position()
+			msgs[i] = fmt.Sprintf("line %d: unknown key %q", row, strings.Join(e.Key(), "."))
+		}
+		return errors.New(strings.Join(msgs, "; "))
+	}
+	var de *toml.DecodeError
+	if errors.As(err, &de) {
+		row, col := de.Position()
+		key := strings.Join(de.Key(), ".")
+		if key != "" {
+			return fmt.Errorf("line %d, column %d: key %q: %s", row, col, key, strings.TrimPrefix(de.Error(), "toml: "))
+		}
+		return fmt.Errorf("line %d, column %d: %s", row, col, strings.TrimPrefix(de.Error(), "toml: "))
+	}
+	return err
+}
+
+// Design returns what a train.Runner needs of e: its seed, cross-validation
+// scheme and models, whether fold models are kept, and whether baselines
+// record the inner-validation error that the reference baseline is chosen
+// on (when no comparison.reference is named and there are two baselines
+// or more).
+func (e *Experiment) Design() *train.Design {
+	baselines := 0
+	for _, m := range e.Models {
+		if m.Kind() != "network" {
+			baselines++
+		}
+	}
+	return &train.Design{
+		Seed: e.Seed, CV: e.CV, Models: e.Models, SaveModels: *e.Output.SaveModels,
+		InnerLoss:  e.Comparison.Reference == "" && baselines >= 2,
+		Preprocess: e.Preprocess,
+	}
+}

@@ -1,0 +1,77 @@
+package experiment
+
+// The files and folders of a run folder. Each is written by one function
+// of this package and read back by one (see Folder), except the figures
+// and report.html, which package experiment/report draws from the others.
+const (
+	// ExperimentFile is the experiment file with every default filled in
+	// and sweeps expanded: what the run ran.
+	ExperimentFile = "experiment.toml"
+	// CohortFile is the cohort report of skein check --json.
+	CohortFile = "cohort.json"
+	// VersionsFile records what made the run: Go, the machine, the seed,
+	// skein's and its modules' versions.
+	VersionsFile = "versions.txt"
+	// LogFile is the run's structured log, one JSON record a line.
+	LogFile = "run.log"
+	// RegionsFile holds the region labels, one a line in matrix order.
+	RegionsFile = "regions.txt"
+	// PredictionsFile holds every test prediction (eval.WritePredictions).
+	PredictionsFile = "predictions.csv"
+	// MetricsFile holds the metrics of every model and target
+	// (eval.Summary's JSON).
+	MetricsFile = "metrics.json"
+	// SummaryFile is the summary a person reads (Report.WriteMarkdown).
+	SummaryFile = "summary.md"
+	// LearningFile holds the epochs of every iteratively trained unit:
+	// model,repeat,fold,epoch,train_loss,valid_loss,best (repeat and fold
+	// from 1 as in predictions.csv; valid_loss empty without inner
+	// validation; best is 1 on the epoch whose weights were kept).
+	LearningFile = "learning_curves.csv"
+	// PermutationFile holds the null distributions of the permutation
+	// test (eval.WriteNullCSV): permutation 0 is the observed run.
+	PermutationFile = "permutations.csv"
+	// SampleSizeFile holds the sample-size curve
+	// (eval.WriteSampleSizeCSV).
+	SampleSizeFile = "sample_size.csv"
+	// SampleSizePlotFile draws SampleSizeFile.
+	SampleSizePlotFile = "sample_size.png"
+	// SweepFile ranks the variants of swept models.
+	SweepFile = "sweep.csv"
+	// DriftFile holds the comparison with an earlier run and the drift
+	// verdict.
+	DriftFile = "drift.md"
+	// UnitsDir holds one checkpoint a finished unit (train.Checkpoints).
+	UnitsDir = "units"
+	// ModelsDir holds the saved fold models, NAME/rR-fF/.
+	ModelsDir = "models"
+	// FiguresDir holds the figures of the report.
+	FiguresDir = "figures"
+	// HTMLFile is the report.
+	HTMLFile = "report.html"
+	// ImportanceFile is the table of fold-averaged edge importance that
+	// package experiment/report writes: one line per model, target and
+	// edge i < j, with the columns
+	//
+	//	model,target,region_i,region_j,mean,sd,folds,same_sign
+	//
+	// region_i and region_j are labels, mean and sd the mean and sample
+	// SD (n − 1; empty for one fold) over the folds, same_sign the
+	// fraction of folds whose importance has the sign of the mean.
+	ImportanceFile = "importance.csv"
+
+	// The files of a batch plan (Plan), kept in the merged run folder.
+
+	// PlanFile is what units and merge read back of the plan.
+	PlanFile = "plan.json"
+	// UnitsFile lists the units, for people and scripts.
+	UnitsFile = "units.tsv"
+	// JobFile is the SLURM job-array script.
+	JobFile = "job.sh"
+	// LogsDir holds one log a unit, and SLURM's output.
+	LogsDir = "logs"
+	// NullsDir holds the null scores of each permutation block.
+	NullsDir = "nulls"
+	// FailedDir holds FailedDir/K.txt, the error of failed unit K.
+	FailedDir = "failed"
+)

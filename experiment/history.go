@@ -1,0 +1,215 @@
+package experiment
+
+import (
+	"bytes"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+	"time"
+)
+
+// HistoryFile is the name of the history file in the output root (the
+// folder holding the run folders).
+const HistoryFile = "history.csv"
+
+// historyColumns is the header of the history file.
+var historyColumns = []string{"date", "run", "model", "target", "r_within_folds", "mae", "permutation_p", "n"}
+
+// A HistoryRow is the headline of one model on one target in one run: a
+// line of the history file
+// date,run,model,target,r_within_folds,mae,permutation_p,n where date is
+// the time the run finished (RFC 3339, UTC), run the run folder's name,
+// r_within_folds (the headline r, eval.PearsonWithinFolds) and mae the
+// pooled figures, permutation_p the permutation p-value of r within folds
+// (empty without a permutation test) and n the
+// participants with a prediction. An undefined value is empty.
+type HistoryRow struct {
+	Date              time.Time
+	Run               string
+	Model, Target     string
+	RWithinFolds, MAE float64
+	PermutationP      float64 // NaN without a permutation test
+	N                 int
+}
+
+// HistoryRows returns the headline rows of run, dated date, in the order
+// of its summary.
+func HistoryRows(run *Folder, date time.Time) []HistoryRow {
+	rows := make([]HistoryRow, 0, len(run.Summary.Groups))
+	for _, g := range run.Summary.Groups {
+		k := [2]string{g.Model, g.Target}
+		p := math.NaN()
+		if v, ok := run.P[k]; ok {
+			p = v.PearsonWithin
+		}
+		rows = append(rows, HistoryRow{Date: date.UTC(), Run: filepath.Base(run.Dir), Model: g.Model, Target: g.Target,
+			RWithinFolds: g.Pooled.PearsonWithin, MAE: g.Pooled.MAE, PermutationP: p, N: run.Scored[k]})
+	}
+	return rows
+}
+
+// AppendHistory appends rows to the history file at path, creating it
+// with its header when it does not exist. The file is replaced whole: read,
+// appended to, written to a temporary file beside it and renamed over it,
+// so a reader never sees half a line. An existing file whose header is not
+// the history header is an error and is left alone. Two processes
+// appending at the same moment may lose one's rows: run one nightly job
+// per output root.
+func AppendHistory(path string, rows []HistoryRow) error {
+	old, err := os.ReadFile(path)
+	switch {
+	case errors.Is(err, fs.ErrNotExist):
+		old = nil
+	case err != nil:
+		return err
+	default:
+		if _, err := ReadHistory(bytes.NewReader(old), path); err != nil {
+			return fmt.Errorf("not appending to the history: %w", err)
+		}
+	}
+	var buf bytes.Buffer
+	buf.Write(old)
+	if len(old) > 0 && old[len(old)-1] != '\n' {
+		buf.WriteByte('\n')
+	}
+	w := csv.NewWriter(&buf)
+	if len(old) == 0 {
+		w.Write(historyColumns)
+	}
+	for _, r := range rows {
+		w.Write([]string{r.Date.UTC().Format(time.RFC3339), r.Run, r.Model, r.Target,
+			cell(r.RWithinFolds), cell(r.MAE), cell(r.PermutationP), strconv.Itoa(r.N)})
+	}
+	w.Flush()
+	if err := w.Error(); err != nil {
+		return err
+	}
+	return writeAtomic(path, buf.Bytes())
+}
+
+// writeAtomic writes content to a temporary file in path's folder and
+// renames it to path.
+func writeAtomic(path string, content []byte) error {
+	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
+	if err != nil {
+		return err
+	}
+	defer os.Remove(tmp.Name())
+	if _, err := tmp.Write(content); err != nil {
+		tmp.Close()
+		return err
+	}
+	if err := tmp.Sync(); err != nil {
+		tmp.Close()
+		return err
+	}
+	if err := tmp.Close(); err != nil {
+		return err
+	}
+	if err := os.Chmod(tmp.Name(), 0o644); err != nil {
+		return err
+	}
+	return os.Rename(tmp.Name(), path)
+}
+
+func cell(x float64) string {
+	if math.IsNaN(x) {
+		return ""
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64)
+}
+
+// ReadHistory reads a history file; name is used in errors, which name the
+// line and column.
+func ReadHistory(r io.Reader, name string) ([]HistoryRow, error) {
+	cr := csv.NewReader(r)
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, fmt.Errorf("%s: empty file, want the header %v", name, historyColumns)
+	}
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", name, err)
+	}
+	if !slices.Equal(header, historyColumns) {
+		if slices.Contains(header, "pearson_r") {
+			return nil, fmt.Errorf("%s:1: a history of an older skein, which recorded pooled Pearson r (biased in "+
+				"cross-validation) where it now records r within folds: move it aside to start a new history", name)
+		}
+		return nil, fmt.Errorf("%s:1: want the header %v, found %v", name, historyColumns, header)
+	}
+	var rows []HistoryRow
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			return rows, nil
+		}
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", name, err)
+		}
+		line, _ := cr.FieldPos(0)
+		bad := func(c int, want string) error {
+			return fmt.Errorf("%s:%d: column %d (%s): want %s, found %q", name, line, c+1, historyColumns[c], want, rec[c])
+		}
+		row := HistoryRow{Run: rec[1], Model: rec[2], Target: rec[3]}
+		if row.Date, err = time.Parse(time.RFC3339, rec[0]); err != nil {
+			return nil, bad(0, "an RFC 3339 time such as 2026-03-01T02:00:00Z")
+		}
+		for c, dst := range []*float64{4: &row.RWithinFolds, 5: &row.MAE, 6: &row.PermutationP} {
+			if dst == nil {
+				continue
+			}
+			if rec[c] == "" {
+				*dst = math.NaN()
+			} else if *dst, err = strconv.ParseFloat(rec[c], 64); err != nil {
+				return nil, bad(c, "a number or an empty cell")
+			}
+		}
+		if row.N, err = strconv.Atoi(rec[7]); err != nil || row.N < 0 {
+			return nil, bad(7, "a whole number ≥ 0")
+		}
+		rows = append(rows, row)
+	}
+}
+
+// ReadHistoryFile reads the history file at path.
+func ReadHistoryFile(path string) ([]HistoryRow, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	return ReadHistory(f, path)
+}
+
+// UpdateHistory appends the headline rows of run, dated date, to the
+// history file at path (AppendHistory) and redraws the plot of the whole
+// history (PlotHistory) beside it: path with the extension .png, replaced
+// atomically too.
+func UpdateHistory(path string, run *Folder, date time.Time) error {
+	if err := AppendHistory(path, HistoryRows(run, date)); err != nil {
+		return err
+	}
+	rows, err := ReadHistoryFile(path)
+	if err != nil {
+		return err
+	}
+	var png bytes.Buffer
+	if err := PlotHistory(&png, rows); err != nil {
+		return err
+	}
+	return writeAtomic(HistoryPlotPath(path), png.Bytes())
+}
+
+// HistoryPlotPath returns where UpdateHistory draws the plot of the history
+// file at path.
+func HistoryPlotPath(path string) string {
+	return strings.TrimSuffix(path, filepath.Ext(path)) + ".png"
+}

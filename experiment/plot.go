@@ -1,0 +1,213 @@
+package experiment
+
+import (
+	"errors"
+	"fmt"
+	"image/color"
+	"io"
+	"math"
+	"sort"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/plotutil"
+	"gonum.org/v1/plot/vg"
+
+	"github.com/skein-neuro/skein/eval"
+)
+
+// Size of the PNG images.
+const (
+	plotWidth  = 8 * vg.Inch
+	plotHeight = 4.5 * vg.Inch
+)
+
+// PlotHistory draws the headline r (r within folds) of every model and target of the
+// history over the run dates, one line per model and target, and writes it
+// to w as a PNG image (8 × 4.5 in at 96 dpi). Rows with an undefined r are
+// left out of the lines. It is an error to pass no rows.
+func PlotHistory(w io.Writer, rows []HistoryRow) error {
+	if len(rows) == 0 {
+		return errors.New("runs: no history to plot")
+	}
+	series := make(map[[2]string]plotter.XYs)
+	var keys [][2]string
+	for _, r := range rows {
+		k := [2]string{r.Model, r.Target}
+		if _, ok := series[k]; !ok {
+			keys = append(keys, k)
+			series[k] = plotter.XYs{}
+		}
+		if !math.IsNaN(r.RWithinFolds) {
+			series[k] = append(series[k], plotter.XY{X: float64(r.Date.Unix()), Y: r.RWithinFolds})
+		}
+	}
+	sortKeys(keys)
+	p := plot.New()
+	p.Title.Text = "r within folds of each run (research software, not a diagnostic device)"
+	p.X.Label.Text = "run date (UTC)"
+	p.Y.Label.Text = "pooled Pearson r"
+	p.X.Tick.Marker = plot.TimeTicks{Format: "2006-01-02"}
+	p.Add(plotter.NewGrid())
+	p.Legend.Top, p.Legend.Left = false, true
+	for i, k := range keys {
+		xys := series[k]
+		sort.SliceStable(xys, func(a, b int) bool { return xys[a].X < xys[b].X })
+		if err := addLine(p, i, k[0]+" · "+k[1], xys); err != nil {
+			return err
+		}
+	}
+	if p.X.Max-p.X.Min < 86400 { // one night: show a day either side
+		p.X.Min -= 86400
+		p.X.Max += 86400
+	}
+	padAxes(p)
+	return writePNG(w, p)
+}
+
+// PlotSampleSize draws the sample-size curve: for every model and target,
+// the mean over test folds of Pearson r against the mean training-subset
+// size of each fraction, with bars of ± one sample SD over the folds
+// (series shifted sideways by at most 1% of the size range so that bars
+// stay apart), and writes it to w as a PNG image. It is an error to pass no rows.
+func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
+	if len(rows) == 0 {
+		return errors.New("runs: no sample-size curve to plot")
+	}
+	type point struct{ n, r []float64 }
+	points := make(map[[2]string]map[float64]*point)
+	var keys [][2]string
+	for _, r := range rows {
+		k := [2]string{r.Model, r.Target}
+		if points[k] == nil {
+			points[k] = make(map[float64]*point)
+			keys = append(keys, k)
+		}
+		pt := points[k][r.Fraction]
+		if pt == nil {
+			pt = &point{}
+			points[k][r.Fraction] = pt
+		}
+		pt.n = append(pt.n, float64(r.NTrain))
+		if !math.IsNaN(r.Pearson) {
+			pt.r = append(pt.r, r.Pearson)
+		}
+	}
+	sortKeys(keys)
+	// Series are shifted sideways by up to ±1% of the size range so that
+	// their error bars do not hide one another.
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, r := range rows {
+		lo, hi = min(lo, float64(r.NTrain)), max(hi, float64(r.NTrain))
+	}
+	shift := func(i int) float64 {
+		if len(keys) < 2 {
+			return 0
+		}
+		return (float64(i)/float64(len(keys)-1) - 0.5) * 0.02 * (hi - lo)
+	}
+	p := plot.New()
+	p.Title.Text = "Accuracy against training-set size (research software, not a diagnostic device)"
+	p.X.Label.Text = "participants in the training subset (mean over folds)"
+	p.Y.Label.Text = "Pearson r on the test folds (mean ± SD)"
+	p.Add(plotter.NewGrid())
+	p.Legend.Top, p.Legend.Left = false, false
+	for i, k := range keys {
+		var fractions []float64
+		for f := range points[k] {
+			fractions = append(fractions, f)
+		}
+		sort.Float64s(fractions)
+		var curve struct {
+			plotter.XYs
+			plotter.YErrors
+		}
+		for _, f := range fractions {
+			pt := points[k][f]
+			if len(pt.r) == 0 {
+				continue
+			}
+			mean, sd := meanSD(pt.r)
+			n, _ := meanSD(pt.n)
+			curve.XYs = append(curve.XYs, plotter.XY{X: n + shift(i), Y: mean})
+			curve.YErrors = append(curve.YErrors, struct{ Low, High float64 }{sd, sd})
+		}
+		if err := addLine(p, i, k[0]+" · "+k[1], curve.XYs); err != nil {
+			return err
+		}
+		if len(curve.XYs) > 0 {
+			bars, err := plotter.NewYErrorBars(curve)
+			if err != nil {
+				return err
+			}
+			bars.Color = plotutil.Color(i)
+			p.Add(bars)
+		}
+	}
+	padAxes(p)
+	return writePNG(w, p)
+}
+
+// padAxes widens both ranges by 4% on each side (0.05 at least for y), so
+// that the outermost points and their bars are not cut by the frame.
+func padAxes(p *plot.Plot) {
+	pad := 0.04 * (p.X.Max - p.X.Min)
+	p.X.Min -= pad
+	p.X.Max += pad
+	pad = max(0.04*(p.Y.Max-p.Y.Min), 0.05)
+	p.Y.Min -= pad
+	p.Y.Max += pad
+}
+
+func addLine(p *plot.Plot, i int, label string, xys plotter.XYs) error {
+	if len(xys) == 0 {
+		return nil
+	}
+	line, points, err := plotter.NewLinePoints(xys)
+	if err != nil {
+		return fmt.Errorf("runs: %s: %w", label, err)
+	}
+	c := plotutil.Color(i)
+	line.Color = c
+	line.Dashes = plotutil.Dashes(i / 7)
+	points.Color = c
+	points.Shape = plotutil.Shape(i)
+	p.Add(line, points)
+	p.Legend.Add(label, line, points)
+	return nil
+}
+
+func writePNG(w io.Writer, p *plot.Plot) error {
+	p.BackgroundColor = color.White
+	wt, err := p.WriterTo(plotWidth, plotHeight, "png")
+	if err != nil {
+		return err
+	}
+	_, err = wt.WriteTo(w)
+	return err
+}
+
+func sortKeys(keys [][2]string) {
+	sort.Slice(keys, func(i, j int) bool {
+		if keys[i][0] != keys[j][0] {
+			return keys[i][0] < keys[j][0]
+		}
+		return keys[i][1] < keys[j][1]
+	})
+}
+
+// meanSD returns the mean and the sample SD (n − 1), 0 for one value.
+func meanSD(x []float64) (mean, sd float64) {
+	for _, v := range x {
+		mean += v
+	}
+	mean /= float64(len(x))
+	if len(x) < 2 {
+		return mean, 0
+	}
+	var ss float64
+	for _, v := range x {
+		ss += (v - mean) * (v - mean)
+	}
+	return mean, math.Sqrt(ss / float64(len(x)-1))
+}

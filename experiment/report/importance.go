@@ -1,0 +1,324 @@
+package report
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+
+	"gonum.org/v1/gonum/stat"
+)
+
+// TopEdges is how many edges the importance tables rank.
+const TopEdges = 15
+
+// ModelImportance is one model's edge importance on one target, summarized
+// over the folds that reported it.
+type ModelImportance struct {
+	Model, Target string
+	P             int
+	// Mean is the p × p row-major mean over folds.
+	Mean []float64
+	// Folds counts the maps averaged.
+	Folds int
+	// Top ranks the TopEdges edges of largest |mean|.
+	Top []EdgeStability
+	// Regions ranks regions by strength: the sum of |mean| over the
+	// region's edges, largest first (at most TopEdges).
+	Regions []RegionStrength
+}
+
+// EdgeStability is one edge of a ranking with its stability over folds.
+type EdgeStability struct {
+	I, J int     // regions, I < J
+	Mean float64 // mean importance over folds
+	// InTop is the fraction of folds in which the edge is among the
+	// TopEdges edges of largest |importance|.
+	InTop float64
+	// SameSign is the fraction of folds whose importance has the sign
+	// of Mean.
+	SameSign float64
+}
+
+// RegionStrength is a region's summed absolute importance.
+type RegionStrength struct {
+	Region   int
+	Strength float64
+}
+
+// ImportanceSummaries averages the run's importance maps over folds, per
+// model and target, and ranks edges and regions. Targets are named from the
+// experiment's targets, in order.
+func (r *Run) ImportanceSummaries() ([]ModelImportance, error) {
+	targets := r.Experiment.Cohort.Targets
+	type key struct {
+		model  string
+		target int
+	}
+	var keys []key
+	maps := make(map[key][][]float64)
+	for _, u := range r.Importance {
+		if len(u.Maps) != len(targets) {
+			return nil, fmt.Errorf("units/%s: repeat %d, fold %d: %d importance maps for %d targets", u.Model, u.Repeat+1, u.Fold+1, len(u.Maps), len(targets))
+		}
+		for t, m := range u.Maps {
+			k := key{u.Model, t}
+			if _, ok := maps[k]; !ok {
+				keys = append(keys, k)
+			}
+			maps[k] = append(maps[k], m)
+		}
+	}
+	var out []ModelImportance
+	for _, k := range keys {
+		ms := maps[k]
+		out = append(out, summarizeImportance(k.model, targets[k.target], ms))
+	}
+	return out, nil
+}
+
+func summarizeImportance(model, target string, maps [][]float64) ModelImportance {
+	p := int(math.Round(math.Sqrt(float64(len(maps[0])))))
+	mi := ModelImportance{Model: model, Target: target, P: p, Folds: len(maps), Mean: make([]float64, p*p)}
+	for _, m := range maps {
+		for i, v := range m {
+			mi.Mean[i] += v / float64(len(maps))
+		}
+	}
+	type edge struct{ i, j int }
+	var edges []edge
+	for i := range p {
+		for j := i + 1; j < p; j++ {
+			edges = append(edges, edge{i, j})
+		}
+	}
+	rank := func(m []float64) []edge {
+		e := append([]edge(nil), edges...)
+		sort.SliceStable(e, func(a, b int) bool {
+			return math.Abs(m[e[a].i*p+e[a].j]) > math.Abs(m[e[b].i*p+e[b].j])
+		})
+		return e[:min(TopEdges, len(e))]
+	}
+	inTop := make(map[edge]int)
+	for _, m := range maps {
+		for _, e := range rank(m) {
+			inTop[e]++
+		}
+	}
+	for _, e := range rank(mi.Mean) {
+		mean := mi.Mean[e.i*p+e.j]
+		same := 0
+		for _, m := range maps {
+			if v := m[e.i*p+e.j]; v != 0 && (v > 0) == (mean > 0) {
+				same++
+			}
+		}
+		mi.Top = append(mi.Top, EdgeStability{I: e.i, J: e.j, Mean: mean,
+			InTop: float64(inTop[e]) / float64(len(maps)), SameSign: float64(same) / float64(len(maps))})
+	}
+	strength := make([]RegionStrength, p)
+	for i := range p {
+		strength[i].Region = i
+		for j := range p {
+			if j != i {
+				strength[i].Strength += math.Abs(mi.Mean[i*p+j])
+			}
+		}
+	}
+	sort.SliceStable(strength, func(a, b int) bool { return strength[a].Strength > strength[b].Strength })
+	mi.Regions = strength[:min(TopEdges, p)]
+	return mi
+}
+
+// ImportanceFigures draws each summary's fold-averaged map as a region ×
+// region heat map in region-label order.
+func (r *Run) ImportanceFigures(sums []ModelImportance) ([]Figure, error) {
+	var figs []Figure
+	for _, s := range sums {
+		labels := r.Regions
+		if len(labels) != s.P {
+			labels = defaultLabels(s.P)
+		}
+		title := fmt.Sprintf("%s — %s: edge importance, mean of %d folds", s.Model, s.Target, s.Folds)
+		png, w, h, err := heatMap(title, "region", "region", labels, labels, s.P, s.P, s.Mean, 7, 6)
+		if err != nil {
+			return nil, fmt.Errorf("importance figure of %s, %s: %w", s.Model, s.Target, err)
+		}
+		caption := fmt.Sprintf("%s, averaged over the %d test folds; red edges raise the predicted %s, blue ones lower it. %s",
+			r.importanceKind(s.Model), s.Folds, s.Target, "Importance shows what the model uses, not a cause.")
+		figs = append(figs, Figure{File: fileName("importance", s.Model, s.Target), Section: SectionImportance,
+			Title: title, Caption: caption, Width: w, Height: h, PNG: png})
+	}
+	return figs, nil
+}
+
+// importanceKind says how a model's importance is defined.
+func (r *Run) importanceKind(model string) string {
+	for _, m := range r.Experiment.Models {
+		if m.Name != model {
+			continue
+		}
+		switch m.Kind() {
+		case "network":
+			return "Gradient × input saliency of the test participants, summed over branches"
+		case "ridge", "kernel_ridge":
+			return "Activation pattern cov(edge, prediction) over the test participants (Haufe et al. 2014)"
+		case "cpm":
+			return "Selected edges, +1 in the positive and −1 in the negative network"
+		}
+	}
+	return "Edge importance"
+}
+
+func defaultLabels(p int) []string {
+	out := make([]string, p)
+	for i := range out {
+		out[i] = fmt.Sprint(i + 1)
+	}
+	return out
+}
+
+// FilterSummary is one branch's first-layer filters of one model,
+// matched and averaged over its saved fold networks (MatchFilters).
+type FilterSummary struct {
+	Model  string
+	Branch int
+	Array  string
+	Folds  int
+	// Mean[c] is the mean over folds of the filters matched to channel c
+	// of the first fold, channels × p.
+	Mean [][]float64
+	// Consistency[c] is the mean Pearson correlation between each fold's
+	// filter matched to channel c and the mean of the other folds' (NaN
+	// with one fold); near 1 when every fold learnt the same filter.
+	Consistency []float64
+}
+
+// FilterSummaries matches and averages the first-layer filters of every
+// saved network model, branch by branch.
+func (r *Run) FilterSummaries() []FilterSummary {
+	type key struct {
+		model  string
+		branch int
+	}
+	var keys []key
+	folds := make(map[key][][][]float64)
+	arrays := make(map[key]string)
+	for _, n := range r.Networks {
+		for _, b := range n.Branches {
+			k := key{n.Model, b.Branch}
+			if _, ok := folds[k]; !ok {
+				keys = append(keys, k)
+				arrays[k] = b.Array
+			}
+			if len(folds[k]) > 0 && (len(folds[k][0]) != len(b.Weights) || len(folds[k][0][0]) != len(b.Weights[0])) {
+				continue
+			}
+			folds[k] = append(folds[k], b.Weights)
+		}
+	}
+	var out []FilterSummary
+	for _, k := range keys {
+		mean, cons := MatchFilters(folds[k])
+		out = append(out, FilterSummary{Model: k.model, Branch: k.branch, Array: arrays[k], Folds: len(folds[k]), Mean: mean, Consistency: cons})
+	}
+	return out
+}
+
+// FilterFigures draws each filter summary as a region × channel heat map,
+// the channels labelled with their consistency over folds.
+func (r *Run) FilterFigures(sums []FilterSummary) ([]Figure, error) {
+	var figs []Figure
+	for _, s := range sums {
+		o, p := len(s.Mean), len(s.Mean[0])
+		z := make([]float64, p*o)
+		var channels []string
+		var meanCons float64
+		for c := range o {
+			for i := range p {
+				z[i*o+c] = s.Mean[c][i]
+			}
+			channels = append(channels, fmt.Sprintf("%d (%s)", c+1, num(s.Consistency[c])))
+			meanCons += s.Consistency[c] / float64(o)
+		}
+		labels := r.Regions
+		if len(labels) != p {
+			labels = defaultLabels(p)
+		}
+		title := fmt.Sprintf("%s, branch %d: first-layer filters, %d folds", s.Model, s.Branch+1, s.Folds)
+		png, w, h, err := heatMap(title, "channel (consistency over folds)", "region", channels, labels, p, o, z, 3+0.35*float64(o), 6)
+		if err != nil {
+			return nil, fmt.Errorf("filter figure of %s: %w", s.Model, err)
+		}
+		caption := fmt.Sprintf("Weights of %s (averaged over input channels) of each fold's network, matched to the "+
+			"first fold's channels by correlation (Hungarian method) and averaged. In brackets the consistency of each "+
+			"channel: the mean correlation of a fold's filter with the mean of the other folds' (mean %s; 1 = identical).",
+			s.Array, num(meanCons))
+		figs = append(figs, Figure{File: fileName("filters", s.Model, fmt.Sprintf("b%d", s.Branch+1)), Section: SectionFilters,
+			Title: title, Caption: caption, Width: w, Height: h, PNG: png})
+	}
+	return figs, nil
+}
+
+// experiment.ImportanceFile is the table of fold-averaged edge importance Build
+// writes into the run folder: one line per model, target and edge i < j,
+// with the columns
+//
+//	model,target,region_i,region_j,mean,sd,folds,same_sign
+//
+// importanceCSV returns the run's importance maps as experiment.ImportanceFile.
+func (r *Run) importanceCSV() []byte {
+	targets := r.Experiment.Cohort.Targets
+	type key struct {
+		model  string
+		target int
+	}
+	var keys []key
+	maps := make(map[key][][]float64)
+	for _, u := range r.Importance {
+		for t, m := range u.Maps {
+			k := key{u.Model, t}
+			if _, ok := maps[k]; !ok {
+				keys = append(keys, k)
+			}
+			maps[k] = append(maps[k], m)
+		}
+	}
+	var buf bytes.Buffer
+	w := csv.NewWriter(&buf)
+	w.Write([]string{"model", "target", "region_i", "region_j", "mean", "sd", "folds", "same_sign"})
+	format := func(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
+	for _, k := range keys {
+		ms := maps[k]
+		p := int(math.Round(math.Sqrt(float64(len(ms[0])))))
+		labels := r.Regions
+		if len(labels) != p {
+			labels = defaultLabels(p)
+		}
+		vals := make([]float64, len(ms))
+		for i := range p {
+			for j := i + 1; j < p; j++ {
+				for f, m := range ms {
+					vals[f] = m[i*p+j]
+				}
+				mean, sd := stat.MeanStdDev(vals, nil)
+				same := 0
+				for _, v := range vals {
+					if v != 0 && (v > 0) == (mean > 0) {
+						same++
+					}
+				}
+				sdText := ""
+				if len(vals) > 1 {
+					sdText = format(sd)
+				}
+				w.Write([]string{k.model, targets[k.target], labels[i], labels[j], format(mean), sdText,
+					strconv.Itoa(len(vals)), format(float64(same) / float64(len(vals)))})
+			}
+		}
+	}
+	w.Flush()
+	return buf.Bytes()
+}

@@ -1,0 +1,421 @@
+package report
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"io/fs"
+	"math"
+	"os"
+	"path/filepath"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/experiment"
+	"github.com/skein-neuro/skein/internal/atomicfile"
+)
+
+// Run is what a finished run folder holds, read back from its files.
+type Run struct {
+	Dir string
+	// Name is the run folder's name: the base of Dir without the
+	// ".partial" suffix of a run's work folder, which becomes the run
+	// folder when the run is committed.
+	Name string
+	// Experiment is the resolved experiment file; ExperimentText its text.
+	Experiment     *experiment.Experiment
+	ExperimentText string
+	// Cohort is cohort.json; nil when the file is absent.
+	Cohort *data.Report
+	// Regions holds the p region labels (nil when p is unknown).
+	Regions []string
+	// Rows are predictions.csv, Summary metrics.json.
+	Rows    []eval.Prediction
+	Summary *eval.Summary
+	// SummaryMarkdown is summary.md.
+	SummaryMarkdown string
+	// Curves are the rows of learning_curves.csv (nil without the file).
+	Curves []CurvePoint
+	// Nulls are permutations.csv (nil without a permutation test).
+	Nulls []Null
+	// Versions is versions.txt.
+	Versions string
+	// Importance holds the edge-importance maps of the unit checkpoints.
+	Importance []UnitImportance
+	// Networks holds the first-layer filters of the saved fold networks.
+	Networks []SavedFilters
+}
+
+// A CurvePoint is one row of learning_curves.csv.
+type CurvePoint struct {
+	Model                string
+	Repeat, Fold, Epoch  int
+	TrainLoss, ValidLoss float64 // ValidLoss NaN without inner validation
+	Best                 bool
+}
+
+// Null is one model × target of permutations.csv: the observed Pearson r
+// and MAE and their values under each permutation.
+type Null struct {
+	Model, Target string
+	Observed      eval.Values
+	Permuted      []eval.Values // permutations 1, 2, …
+}
+
+// P returns the permutation p-value of metric m (eval.PermutationPValue).
+func (n Null) P(m eval.Metric) float64 {
+	null := make([]float64, len(n.Permuted))
+	for i, v := range n.Permuted {
+		null[i] = v.Get(m)
+	}
+	return eval.PermutationPValue(n.Observed.Get(m), null, m.LowerIsBetter())
+}
+
+// UnitImportance is the edge importance one fitted unit reported: one
+// p × p row-major map per target, in the order of the experiment's targets.
+type UnitImportance struct {
+	Model        string
+	Repeat, Fold int
+	Maps         [][]float64
+}
+
+// ReadRun reads the run folder dir. experiment.toml, predictions.csv and
+// metrics.json are required; every other file is optional and leaves its
+// part of Run empty when absent. A file that is present but malformed is
+// an error naming it and, where it applies, the line and column.
+func ReadRun(dir string) (*Run, error) {
+	r := &Run{Dir: dir, Name: strings.TrimSuffix(filepath.Base(filepath.Clean(dir)), ".partial")}
+	raw, err := os.ReadFile(filepath.Join(dir, experiment.ExperimentFile))
+	if err != nil {
+		return nil, fmt.Errorf("%w (is %s a run folder of skein run?)", err, dir)
+	}
+	r.ExperimentText = string(raw)
+	if r.Experiment, err = experiment.ParseExperiment(raw); err != nil {
+		return nil, fmt.Errorf("%s: %w", filepath.Join(dir, experiment.ExperimentFile), err)
+	}
+	r.Experiment.Dir = dir
+
+	path := filepath.Join(dir, experiment.PredictionsFile)
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	r.Rows, _, err = eval.ReadPredictions(f, path)
+	f.Close()
+	if err != nil {
+		return nil, err
+	}
+	path = filepath.Join(dir, experiment.MetricsFile)
+	if raw, err = os.ReadFile(path); err != nil {
+		return nil, err
+	}
+	r.Summary = new(eval.Summary)
+	if err := json.Unmarshal(raw, r.Summary); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+
+	if raw, ok, err := optional(dir, experiment.CohortFile); err != nil {
+		return nil, err
+	} else if ok {
+		r.Cohort = new(data.Report)
+		if err := json.Unmarshal(raw, r.Cohort); err != nil {
+			return nil, fmt.Errorf("%s: %w", filepath.Join(dir, experiment.CohortFile), err)
+		}
+	}
+	if raw, ok, err := optional(dir, experiment.SummaryFile); err != nil {
+		return nil, err
+	} else if ok {
+		r.SummaryMarkdown = string(raw)
+	}
+	if raw, ok, err := optional(dir, experiment.VersionsFile); err != nil {
+		return nil, err
+	} else if ok {
+		r.Versions = string(raw)
+	}
+	if raw, ok, err := optional(dir, experiment.LearningFile); err != nil {
+		return nil, err
+	} else if ok {
+		if r.Curves, err = parseCurves(raw, filepath.Join(dir, experiment.LearningFile)); err != nil {
+			return nil, err
+		}
+	}
+	if raw, ok, err := optional(dir, experiment.PermutationFile); err != nil {
+		return nil, err
+	} else if ok {
+		if r.Nulls, err = parseNulls(raw, filepath.Join(dir, experiment.PermutationFile)); err != nil {
+			return nil, err
+		}
+	}
+	if r.Importance, err = readImportance(filepath.Join(dir, experiment.UnitsDir)); err != nil {
+		return nil, err
+	}
+	if r.Networks, err = readFilters(filepath.Join(dir, experiment.ModelsDir)); err != nil {
+		return nil, err
+	}
+	if err := r.readRegions(); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// optional reads dir/name, reporting ok = false when it does not exist.
+func optional(dir, name string) ([]byte, bool, error) {
+	raw, err := os.ReadFile(filepath.Join(dir, name))
+	if errors.Is(err, fs.ErrNotExist) {
+		return nil, false, nil
+	}
+	return raw, err == nil, err
+}
+
+// P returns the number of regions of the run, 0 when unknown.
+func (r *Run) P() int {
+	if r.Cohort != nil && r.Cohort.Regions > 0 {
+		return r.Cohort.Regions
+	}
+	for _, u := range r.Importance {
+		if len(u.Maps) > 0 {
+			return int(math.Round(math.Sqrt(float64(len(u.Maps[0])))))
+		}
+	}
+	return 0
+}
+
+// readRegions fills Regions from regions.txt, else a saved network's
+// fitted.json, else the default labels.
+func (r *Run) readRegions() error {
+	p := r.P()
+	raw, ok, err := optional(r.Dir, experiment.RegionsFile)
+	if err != nil {
+		return err
+	}
+	if ok {
+		labels := strings.Split(strings.TrimRight(string(raw), "\n"), "\n")
+		if p > 0 && len(labels) != p {
+			return fmt.Errorf("%s: %d labels, but the run has %d regions", filepath.Join(r.Dir, experiment.RegionsFile), len(labels), p)
+		}
+		r.Regions = labels
+		return nil
+	}
+	for _, n := range r.Networks {
+		if len(n.Regions) == p && p > 0 {
+			r.Regions = n.Regions
+			return nil
+		}
+	}
+	if p > 0 {
+		r.Regions = data.DefaultRegions(p)
+	}
+	return nil
+}
+
+// WriteRegions writes the cohort's region labels as regions.txt into dir
+// (a run's work folder), so that a report rebuilt later labels its maps.
+func WriteRegions(dir string, labels []string) error {
+	return atomicfile.WriteFile(filepath.Join(dir, experiment.RegionsFile), []byte(strings.Join(labels, "\n")+"\n"))
+}
+
+// csvTable reads a CSV file with a header and checks its columns.
+type csvTable struct {
+	name   string
+	header map[string]int
+	rows   [][]string
+}
+
+func readCSV(raw []byte, name string, want ...string) (*csvTable, error) {
+	cr := csv.NewReader(bytes.NewReader(raw))
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, fmt.Errorf("%s: empty file, want a header line with %s", name, strings.Join(want, ","))
+	}
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", name, err)
+	}
+	t := &csvTable{name: name, header: make(map[string]int)}
+	for i, h := range header {
+		t.header[h] = i
+	}
+	for _, w := range want {
+		if _, ok := t.header[w]; !ok {
+			return nil, fmt.Errorf("%s: line 1: no column %q (found %s)", name, w, strings.Join(header, ","))
+		}
+	}
+	if t.rows, err = cr.ReadAll(); err != nil {
+		return nil, fmt.Errorf("%s: %w", name, err)
+	}
+	return t, nil
+}
+
+// cellError describes a bad cell: the file, 1-based line, column name.
+func (t *csvTable) cellError(row int, col, want string) error {
+	return fmt.Errorf("%s: line %d, column %q: want %s, found %q", t.name, row+2, col, want, t.rows[row][t.header[col]])
+}
+
+func (t *csvTable) str(row int, col string) string { return t.rows[row][t.header[col]] }
+
+// number reads a repeat or fold number, from 1 in files, and returns it
+// from 0 as skein holds it in memory.
+func (t *csvTable) number(row int, col string) (int, error) {
+	v, err := strconv.Atoi(t.str(row, col))
+	if err != nil || v < 1 {
+		return 0, t.cellError(row, col, "a whole number ≥ 1")
+	}
+	return v - 1, nil
+}
+
+func (t *csvTable) int(row int, col string) (int, error) {
+	v, err := strconv.Atoi(t.str(row, col))
+	if err != nil || v < 0 {
+		return 0, t.cellError(row, col, "a whole number ≥ 0")
+	}
+	return v, nil
+}
+
+// float parses a number; empty (when allowed) and "NaN" give NaN.
+func (t *csvTable) float(row int, col string, emptyOK bool) (float64, error) {
+	s := t.str(row, col)
+	if s == "" && emptyOK {
+		return math.NaN(), nil
+	}
+	v, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		return 0, t.cellError(row, col, "a number")
+	}
+	return v, nil
+}
+
+func parseCurves(raw []byte, name string) ([]CurvePoint, error) {
+	t, err := readCSV(raw, name, "model", "repeat", "fold", "epoch", "train_loss", "valid_loss", "best")
+	if err != nil {
+		return nil, err
+	}
+	out := make([]CurvePoint, len(t.rows))
+	for i := range t.rows {
+		c := CurvePoint{Model: t.str(i, "model")}
+		if c.Repeat, err = t.number(i, "repeat"); err == nil {
+			if c.Fold, err = t.number(i, "fold"); err == nil {
+				if c.Epoch, err = t.int(i, "epoch"); err == nil {
+					if c.TrainLoss, err = t.float(i, "train_loss", false); err == nil {
+						c.ValidLoss, err = t.float(i, "valid_loss", true)
+					}
+				}
+			}
+		}
+		if err != nil {
+			return nil, err
+		}
+		switch t.str(i, "best") {
+		case "1":
+			c.Best = true
+		case "0":
+		default:
+			return nil, t.cellError(i, "best", "0 or 1")
+		}
+		out[i] = c
+	}
+	return out, nil
+}
+
+func parseNulls(raw []byte, name string) ([]Null, error) {
+	// A metric column may be absent (a run of an older skein, before the
+	// metric existed): its values are then NaN.
+	t, err := readCSV(raw, name, "model", "target", "permutation")
+	if err != nil {
+		return nil, err
+	}
+	var out []Null
+	index := make(map[[2]string]int)
+	for i := range t.rows {
+		key := [2]string{t.str(i, "model"), t.str(i, "target")}
+		k, err := t.int(i, "permutation")
+		if err != nil {
+			return nil, err
+		}
+		var v eval.Values
+		for _, m := range eval.Metrics() {
+			x := math.NaN()
+			if _, ok := t.header[string(m)]; ok {
+				if x, err = t.float(i, string(m), false); err != nil {
+					return nil, err
+				}
+			}
+			v.Set(m, x)
+		}
+		j, seen := index[key]
+		if !seen {
+			if k != 0 {
+				return nil, fmt.Errorf("%s: line %d: model %q, target %q starts at permutation %d, want 0 (the observed run)", name, i+2, key[0], key[1], k)
+			}
+			index[key] = len(out)
+			out = append(out, Null{Model: key[0], Target: key[1], Observed: v})
+			continue
+		}
+		if k != len(out[j].Permuted)+1 {
+			return nil, fmt.Errorf("%s: line %d: model %q, target %q: permutation %d, want %d", name, i+2, key[0], key[1], k, len(out[j].Permuted)+1)
+		}
+		out[j].Permuted = append(out[j].Permuted, v)
+	}
+	return out, nil
+}
+
+// unitCheckpoint is the part of a unit checkpoint (units/NAME/rR-fF.json,
+// written by train) that a report reads.
+type unitCheckpoint struct {
+	Model      string      `json:"model"`
+	Repeat     int         `json:"repeat"`
+	Fold       int         `json:"fold"`
+	Importance [][]float64 `json:"importance"`
+}
+
+// readImportance reads the importance maps of every unit checkpoint under
+// dir, sorted by model, repeat and fold.
+func readImportance(dir string) ([]UnitImportance, error) {
+	files, err := filepath.Glob(filepath.Join(dir, "*", "*.json"))
+	if err != nil {
+		return nil, err
+	}
+	var out []UnitImportance
+	for _, path := range files {
+		raw, err := os.ReadFile(path)
+		if err != nil {
+			return nil, err
+		}
+		var u unitCheckpoint
+		if err := json.Unmarshal(raw, &u); err != nil {
+			return nil, fmt.Errorf("%s: %w", path, err)
+		}
+		if len(u.Importance) == 0 {
+			continue
+		}
+		for k, m := range u.Importance {
+			p := int(math.Round(math.Sqrt(float64(len(m)))))
+			if p*p != len(m) || p == 0 || len(m) != len(u.Importance[0]) {
+				return nil, fmt.Errorf("%s: importance map %d has %d values, want p × p like the first", path, k+1, len(m))
+			}
+		}
+		// Checkpoints number repeats and folds from 1.
+		out = append(out, UnitImportance{Model: u.Model, Repeat: u.Repeat - 1, Fold: u.Fold - 1, Maps: u.Importance})
+	}
+	sort.Slice(out, func(a, b int) bool {
+		return unitLess(out[a].Model, out[a].Repeat, out[a].Fold, out[b].Model, out[b].Repeat, out[b].Fold)
+	})
+	return out, nil
+}
+
+// writeAtomic writes raw to path through a temporary file and a rename.
+
+// unitLess orders units by model name, then repeat, then fold.
+func unitLess(modelA string, repeatA, foldA int, modelB string, repeatB, foldB int) bool {
+	if modelA != modelB {
+		return modelA < modelB
+	}
+	if repeatA != repeatB {
+		return repeatA < repeatB
+	}
+	return foldA < foldB
+}

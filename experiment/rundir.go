@@ -1,0 +1,122 @@
+package experiment
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io/fs"
+	"os"
+	"path/filepath"
+	"time"
+
+	"github.com/skein-neuro/skein/internal/atomicfile"
+	"github.com/skein-neuro/skein/train"
+)
+
+// RunDir is the output folder of one run. Everything is first written into
+// a sibling work folder, Final + ".partial", and the work folder becomes
+// Final only when the run has finished, so a failed or interrupted run
+// never touches earlier results. An interrupted run's work folder keeps
+// its finished units for OpenRunDir's resume.
+type RunDir struct {
+	Final   string
+	Partial string
+	force   bool
+}
+
+// ErrRunExists is wrapped by OpenRunDir's error when the output folder
+// exists and replacing it was not asked for.
+var ErrRunExists = errors.New("output folder exists")
+
+// OpenRunDir prepares the work folder of a run whose results go to final.
+// An existing final folder is an error unless force is set, in which case
+// it is replaced only when the new run commits. An existing work folder
+// (an interrupted run) is an error unless resume is set, which continues
+// it, or force, which starts over.
+func OpenRunDir(final string, force, resume bool) (*RunDir, error) {
+	d := &RunDir{Final: filepath.Clean(final), force: force}
+	d.Partial = d.Final + ".partial"
+	if _, err := os.Stat(d.Final); err == nil && !force {
+		return nil, fmt.Errorf("%s: %w; choose another --out or pass --force to replace it", d.Final, ErrRunExists)
+	}
+	switch _, err := os.Stat(d.Partial); {
+	case err == nil && resume:
+	case err == nil && force:
+		if err := os.RemoveAll(d.Partial); err != nil {
+			return nil, err
+		}
+	case err == nil:
+		return nil, fmt.Errorf("%s holds an interrupted run: pass --resume to finish it or --force to start over", d.Partial)
+	case !errors.Is(err, fs.ErrNotExist):
+		return nil, err
+	case resume:
+		return nil, fmt.Errorf("--resume: %s holds no interrupted run", d.Partial)
+	}
+	if err := os.MkdirAll(filepath.Join(d.Partial, "units"), 0o755); err != nil {
+		return nil, err
+	}
+	return d, nil
+}
+
+// WriteFile writes name (a path relative to the run folder) atomically in
+// the work folder: into a temporary file, then renamed.
+func (d *RunDir) WriteFile(name string, content []byte) error {
+	return atomicfile.WriteFile(filepath.Join(d.Partial, name), content)
+}
+
+// Path returns where name will be found once the run is committed.
+func (d *RunDir) Path(name string) string { return filepath.Join(d.Final, name) }
+
+// WorkPath returns where name is while the run is being written.
+func (d *RunDir) WorkPath(name string) string { return filepath.Join(d.Partial, name) }
+
+// train.Checkpoints returns the unit checkpoints of the work folder.
+func (d *RunDir) Checkpoints() *train.Checkpoints {
+	return train.NewCheckpoints(filepath.Join(d.Partial, "units"))
+}
+
+// ModelsDir returns the folder of the work folder where fold models are
+// saved.
+func (d *RunDir) ModelsDir() string { return filepath.Join(d.Partial, "models") }
+
+// CheckResume makes sure a resumed run continues the same experiment: the
+// resolved experiment file of the work folder, when present, must equal
+// resolved.
+func (d *RunDir) CheckResume(resolvedName string, resolved []byte) error {
+	old, err := os.ReadFile(filepath.Join(d.Partial, resolvedName))
+	if errors.Is(err, fs.ErrNotExist) {
+		return nil
+	}
+	if err != nil {
+		return err
+	}
+	if !bytes.Equal(old, resolved) {
+		return fmt.Errorf("%s: the interrupted run used another experiment file; pass --force to start over", d.Partial)
+	}
+	return nil
+}
+
+// Commit makes the work folder the run's folder, replacing an earlier one
+// when the run was opened with force.
+func (d *RunDir) Commit() error {
+	var old string
+	if _, err := os.Stat(d.Final); err == nil {
+		if !d.force {
+			return fmt.Errorf("%s: %w", d.Final, ErrRunExists)
+		}
+		old = fmt.Sprintf("%s.old-%d", d.Final, time.Now().UnixNano())
+		if err := os.Rename(d.Final, old); err != nil {
+			return err
+		}
+	}
+	if err := os.Rename(d.Partial, d.Final); err != nil {
+		if old != "" {
+			os.Rename(old, d.Final)
+		}
+		return err
+	}
+	if old != "" {
+		return os.RemoveAll(old)
+	}
+	return nil
+}

@@ -1,0 +1,179 @@
+package train
+
+import (
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io/fs"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"github.com/skein-neuro/skein/internal/atomicfile"
+	"github.com/skein-neuro/skein/model"
+	"gonum.org/v1/gonum/mat"
+)
+
+// Checkpoints stores finished units, one JSON file each, so that an
+// interrupted run can resume where it stopped.
+type Checkpoints struct {
+	dir string
+}
+
+// NewCheckpoints returns the checkpoints kept in dir (a run's units
+// folder): one file NAME/rR-fF.json per finished unit.
+func NewCheckpoints(dir string) *Checkpoints { return &Checkpoints{dir: dir} }
+
+// unitFile is the JSON form of a finished unit. Floats survive the round
+// trip exactly (encoding/json writes the shortest representation that
+// parses back to the same float64). Fields added later are optional, so
+// older checkpoints still load.
+type unitFile struct {
+	Model       string           `json:"model"`
+	Repeat      int              `json:"repeat"` // from 1, as in the file's name
+	Fold        int              `json:"fold"`   // from 1
+	Predictions []unitPrediction `json:"predictions"`
+	History     []unitEpoch      `json:"history,omitempty"`
+	// Importance holds one row-major p × p map per target.
+	Importance [][]float64 `json:"importance,omitempty"`
+	// Choices holds, per target, the settings a tuned model chose.
+	Choices [][]unitChoice `json:"choices,omitempty"`
+	// InnerLoss holds a baseline's inner validation error per target,
+	// null for NaN (see Result.InnerLoss).
+	InnerLoss []*float64 `json:"inner_loss,omitempty"`
+}
+
+type unitChoice struct {
+	Setting string  `json:"setting"`
+	Value   float64 `json:"value"`
+	Min     float64 `json:"min"`
+	Max     float64 `json:"max"`
+}
+
+type unitPrediction struct {
+	ID        string  `json:"participant_id"`
+	Target    string  `json:"target"`
+	Observed  float64 `json:"observed"`
+	Predicted float64 `json:"predicted"`
+}
+
+type unitEpoch struct {
+	Epoch     int      `json:"epoch"`
+	TrainLoss float64  `json:"train_loss"`
+	ValidLoss *float64 `json:"valid_loss"` // nil for NaN: no inner validation
+	Best      bool     `json:"best"`
+}
+
+func (c *Checkpoints) path(name string, u Unit) string {
+	return filepath.Join(c.dir, unitPath(name, u)+".json")
+}
+
+// unitPath names a unit in file paths: NAME/rR-fF with 1-based repeat and
+// fold, the model name made safe for a file name.
+func unitPath(name string, u Unit) string {
+	safe := strings.Map(func(r rune) rune {
+		if r == '/' || r == '\\' || r == ':' || r < ' ' {
+			return '_'
+		}
+		return r
+	}, name)
+	return filepath.Join(safe, "r"+strconv.Itoa(u.Repeat+1)+"-f"+strconv.Itoa(u.Fold+1))
+}
+
+func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
+	f := unitFile{Model: name, Repeat: u.Repeat + 1, Fold: u.Fold + 1, Predictions: make([]unitPrediction, len(out.predictions))}
+	for i, p := range out.predictions {
+		f.Predictions[i] = unitPrediction{p.ParticipantID, p.Target, p.Observed, p.Predicted}
+	}
+	for _, e := range out.history {
+		ue := unitEpoch{Epoch: e.Epoch, TrainLoss: e.TrainLoss, Best: e.Best}
+		if !math.IsNaN(e.ValidLoss) {
+			v := e.ValidLoss
+			ue.ValidLoss = &v
+		}
+		f.History = append(f.History, ue)
+	}
+	for _, m := range out.importance {
+		f.Importance = append(f.Importance, m.RawMatrix().Data)
+	}
+	for _, cs := range out.choices {
+		uc := make([]unitChoice, len(cs))
+		for k, c := range cs {
+			uc[k] = unitChoice{c.Setting, c.Value, c.Min, c.Max}
+		}
+		f.Choices = append(f.Choices, uc)
+	}
+	for _, v := range out.innerLoss {
+		var p *float64
+		if !math.IsNaN(v) {
+			p = &v
+		}
+		f.InnerLoss = append(f.InnerLoss, p)
+	}
+	raw, err := json.Marshal(f)
+	if err != nil {
+		return fmt.Errorf("checkpoint of model %q, repeat %d, fold %d: %w", name, u.Repeat+1, u.Fold+1, err)
+	}
+	return atomicfile.WriteFile(c.path(name, u), raw)
+}
+
+func (c *Checkpoints) has(name string, u Unit) bool {
+	_, err := os.Stat(c.path(name, u))
+	return err == nil
+}
+
+func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
+	path := c.path(name, u)
+	raw, err := os.ReadFile(path)
+	if errors.Is(err, fs.ErrNotExist) {
+		return unitOutput{}, false, nil
+	}
+	if err != nil {
+		return unitOutput{}, false, err
+	}
+	var f unitFile
+	if err := json.Unmarshal(raw, &f); err != nil {
+		return unitOutput{}, false, fmt.Errorf("%s: %w (delete it to retrain the unit)", path, err)
+	}
+	if f.Model != name || f.Repeat != u.Repeat+1 || f.Fold != u.Fold+1 {
+		return unitOutput{}, false, fmt.Errorf("%s: holds model %q repeat %d fold %d (delete it to retrain the unit)", path, f.Model, f.Repeat, f.Fold)
+	}
+	var out unitOutput
+	for _, p := range f.Predictions {
+		out.predictions = append(out.predictions, model.Prediction{
+			ParticipantID: p.ID, Model: name, Target: p.Target,
+			Repeat: u.Repeat, Fold: u.Fold, Observed: p.Observed, Predicted: p.Predicted,
+		})
+	}
+	for _, e := range f.History {
+		me := model.Epoch{Epoch: e.Epoch, TrainLoss: e.TrainLoss, ValidLoss: math.NaN(), Best: e.Best}
+		if e.ValidLoss != nil {
+			me.ValidLoss = *e.ValidLoss
+		}
+		out.history = append(out.history, me)
+	}
+	for _, flat := range f.Importance {
+		p := int(math.Round(math.Sqrt(float64(len(flat)))))
+		if p*p != len(flat) {
+			return unitOutput{}, false, fmt.Errorf("%s: an importance map of %d values is not square", path, len(flat))
+		}
+		out.importance = append(out.importance, mat.NewDense(p, p, flat))
+	}
+	for _, uc := range f.Choices {
+		cs := make([]model.Choice, len(uc))
+		for k, c := range uc {
+			cs[k] = model.Choice{Setting: c.Setting, Value: c.Value, Min: c.Min, Max: c.Max}
+		}
+		out.choices = append(out.choices, cs)
+	}
+	for _, p := range f.InnerLoss {
+		v := math.NaN()
+		if p != nil {
+			v = *p
+		}
+		out.innerLoss = append(out.innerLoss, v)
+	}
+	return out, true, nil
+}
