@@ -1,7 +1,6 @@
 package eval
 
 import (
-	"bytes"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -45,9 +44,8 @@ func nullColumns() []string {
 // n, missing, bins, then one column per metric of Metrics and nmi_chance,
 // each float in the shortest form that reads back to the same float64 (NaN
 // for an undefined value).
-func WriteNullScores(rows []NullScores) ([]byte, error) {
-	var buf bytes.Buffer
-	w := csv.NewWriter(&buf)
+func WriteNullScores(out io.Writer, rows []NullScores) error {
+	w := csv.NewWriter(out)
 	w.Write(nullColumns())
 	for _, r := range rows {
 		rec := []string{r.Model, r.Target, strconv.Itoa(r.Permutation), strconv.Itoa(r.N), strconv.Itoa(r.Missing), strconv.Itoa(r.Bins)}
@@ -58,7 +56,7 @@ func WriteNullScores(rows []NullScores) ([]byte, error) {
 		w.Write(rec)
 	}
 	w.Flush()
-	return buf.Bytes(), w.Error()
+	return w.Error()
 }
 
 // ReadNullScores reads what WriteNullScores wrote. A bad cell is a

@@ -1,8 +1,8 @@
 package eval
 
 import (
-	"bytes"
 	"encoding/csv"
+	"io"
 	"strconv"
 )
 
@@ -22,9 +22,8 @@ type NullDistribution struct {
 // WriteNullCSV writes null distributions as CSV: one line per model,
 // target and permutation (numbered from 1; permutation 0 is the observed
 // run), one column per metric.
-func WriteNullCSV(nulls []NullDistribution) ([]byte, error) {
-	var buf bytes.Buffer
-	w := csv.NewWriter(&buf)
+func WriteNullCSV(out io.Writer, nulls []NullDistribution) error {
+	w := csv.NewWriter(out)
 	header := []string{"model", "target", "permutation"}
 	for _, m := range Metrics() {
 		header = append(header, string(m))
@@ -44,5 +43,5 @@ func WriteNullCSV(nulls []NullDistribution) ([]byte, error) {
 		}
 	}
 	w.Flush()
-	return buf.Bytes(), w.Error()
+	return w.Error()
 }

@@ -295,48 +295,27 @@ func runCautions(rep *Report, r *train.Runner) []string {
 // sample_size.csv into the work folder of d; they
 // appear in the run folder when d is committed.
 func (rep *Report) Write(d *RunDir) error {
-	var buf bytes.Buffer
-	if err := eval.WritePredictions(&buf, rep.Rows); err != nil {
-		return err
+	files := []struct {
+		name  string
+		write func(io.Writer) error
+		skip  bool
+	}{
+		{PredictionsFile, func(w io.Writer) error { return eval.WritePredictions(w, rep.Rows) }, false},
+		{MetricsFile, rep.Summary.WriteJSON, false},
+		{LearningFile, func(w io.Writer) error { return writeLearningCSV(w, rep.Experiment, rep.Result) }, len(rep.Result.Histories) == 0},
+		{PermutationFile, func(w io.Writer) error { return eval.WriteNullCSV(w, rep.Nulls) }, rep.Nulls == nil},
+		{SampleSizeFile, func(w io.Writer) error { return eval.WriteSampleSizeCSV(w, rep.SampleSize) }, rep.SampleSize == nil},
+		{SummaryFile, rep.WriteMarkdown, false},
 	}
-	if err := d.WriteFile(PredictionsFile, buf.Bytes()); err != nil {
-		return err
-	}
-	buf.Reset()
-	if err := rep.Summary.WriteJSON(&buf); err != nil {
-		return err
-	}
-	if err := d.WriteFile(MetricsFile, buf.Bytes()); err != nil {
-		return err
-	}
-	if raw := learningCSV(rep.Experiment, rep.Result); raw != nil {
-		if err := d.WriteFile(LearningFile, raw); err != nil {
+	for _, f := range files {
+		if f.skip {
+			continue
+		}
+		if err := d.WriteWith(f.name, f.write); err != nil {
 			return err
 		}
 	}
-	if rep.Nulls != nil {
-		raw, err := eval.WriteNullCSV(rep.Nulls)
-		if err != nil {
-			return err
-		}
-		if err := d.WriteFile(PermutationFile, raw); err != nil {
-			return err
-		}
-	}
-	if rep.SampleSize != nil {
-		var raw bytes.Buffer
-		if err := eval.WriteSampleSizeCSV(&raw, rep.SampleSize); err != nil {
-			return err
-		}
-		if err := d.WriteFile(SampleSizeFile, raw.Bytes()); err != nil {
-			return err
-		}
-	}
-	buf.Reset()
-	if err := rep.WriteMarkdown(&buf); err != nil {
-		return err
-	}
-	return d.WriteFile(SummaryFile, buf.Bytes())
+	return nil
 }
 
 // WriteMarkdown writes summary.md: the run in one paragraph, the metrics
@@ -373,14 +352,9 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 	return err
 }
 
-// learningCSV returns the learning curves of res as CSV, or nil when no
-// unit trained in epochs.
-func learningCSV(exp *Experiment, res *train.Result) []byte {
-	if len(res.Histories) == 0 {
-		return nil
-	}
-	var buf bytes.Buffer
-	w := csv.NewWriter(&buf)
+// writeLearningCSV writes the learning curves of res as LearningFile.
+func writeLearningCSV(out io.Writer, exp *Experiment, res *train.Result) error {
+	w := csv.NewWriter(out)
 	w.Write([]string{"model", "repeat", "fold", "epoch", "train_loss", "valid_loss", "best"})
 	best := map[bool]string{false: "0", true: "1"}
 	for _, u := range res.Units {
@@ -394,7 +368,7 @@ func learningCSV(exp *Experiment, res *train.Result) []byte {
 		}
 	}
 	w.Flush()
-	return buf.Bytes()
+	return w.Error()
 }
 
 // orderGroups puts the summary's groups in the order of the experiment's

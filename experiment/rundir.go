@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -62,6 +63,17 @@ func OpenRunDir(final string, force, resume bool) (*RunDir, error) {
 // the work folder: into a temporary file, then renamed.
 func (d *RunDir) WriteFile(name string, content []byte) error {
 	return atomicfile.WriteFile(filepath.Join(d.Partial, name), content)
+}
+
+// WriteWith writes name (a path relative to the run folder) atomically in
+// the work folder with what write writes; nothing is written when write
+// fails.
+func (d *RunDir) WriteWith(name string, write func(io.Writer) error) error {
+	var buf bytes.Buffer
+	if err := write(&buf); err != nil {
+		return fmt.Errorf("%s: %w", name, err)
+	}
+	return d.WriteFile(name, buf.Bytes())
 }
 
 // Path returns where name will be found once the run is committed.

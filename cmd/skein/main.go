@@ -20,6 +20,7 @@ import (
 	"os/signal"
 	"syscall"
 
+	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -126,6 +127,8 @@ func exitCode(err error) int {
 	switch {
 	case errors.As(err, &ee):
 		return ee.code
+	case errors.Is(err, experiment.ErrInput):
+		return exitBadInput
 	case errors.Is(err, context.Canceled):
 		return exitInterrupted
 	default:
