@@ -1,11 +1,13 @@
 package data
 
 import (
+	"errors"
 	"fmt"
 	"strings"
 )
 
-// FileError is a problem found in one of a cohort's files, with its place,
+// FileError is a problem found in one of the files skein reads (a cohort's
+// files, a predictions file, a run folder's files), with its place,
 // modelled on encoding/csv's ParseError. Its message reads like
 //
 //	fc/sub-03_fc.tsv: line 4, column 7: value "abc" is not a number
@@ -42,6 +44,14 @@ func (e *FileError) Error() string {
 }
 
 func (e *FileError) Unwrap() error { return e.Err }
+
+// Is reports whether target is ErrBadFile: every FileError is one.
+func (e *FileError) Is(target error) bool { return target == ErrBadFile }
+
+// ErrBadFile is matched (errors.Is) by every *FileError, whichever file
+// of the tool it is in: a cohort's files, predictions, null scores,
+// sample-size curves, a run folder's files. errors.As gives the place.
+var ErrBadFile = errors.New("bad file")
 
 // fileErrorf is a FileError at path, line and column with a formatted message.
 func fileErrorf(path string, line, column int, format string, args ...any) *FileError {

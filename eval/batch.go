@@ -7,6 +7,8 @@ import (
 	"io"
 	"slices"
 	"strconv"
+
+	"github.com/skein-neuro/skein/data"
 )
 
 // NullScores are one model's pooled scores on one target under one
@@ -60,19 +62,19 @@ func WriteNullScores(out io.Writer, rows []NullScores) error {
 }
 
 // ReadNullScores reads what WriteNullScores wrote. A bad cell is a
-// *ParseError naming name, the line and the column.
+// *data.FileError naming name, the line and the column.
 func ReadNullScores(r io.Reader, name string) ([]NullScores, error) {
 	cr := csv.NewReader(r)
 	want := nullColumns()
 	header, err := cr.Read()
 	if err == io.EOF {
-		return nil, &ParseError{File: name, Line: 1, Err: errors.New("empty file: expected a header row")}
+		return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row")}
 	}
 	if err != nil {
 		return nil, csvError(name, err)
 	}
 	if !slices.Equal(header, want) {
-		return nil, &ParseError{File: name, Line: 1, Err: fmt.Errorf("header is %v, want %v", header, want)}
+		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("header is %v, want %v", header, want)}
 	}
 	var rows []NullScores
 	for line := 2; ; line++ {
@@ -87,14 +89,14 @@ func ReadNullScores(r io.Reader, name string) ([]NullScores, error) {
 		for c, dst := range []*int{&row.Permutation, &row.N, &row.Missing, &row.Bins} {
 			v, err := strconv.Atoi(rec[2+c])
 			if err != nil || v < 0 {
-				return nil, &ParseError{File: name, Line: line, Column: 3 + c, Name: want[2+c], Err: fmt.Errorf("want a whole number ≥ 0, found %q", rec[2+c])}
+				return nil, &data.FileError{Path: name, Line: line, Column: 3 + c, ColumnName: want[2+c], Err: fmt.Errorf("want a whole number ≥ 0, found %q", rec[2+c])}
 			}
 			*dst = v
 		}
 		for c, dst := range append(row.Values.fields(), &row.NMIChance) {
 			v, err := strconv.ParseFloat(rec[6+c], 64)
 			if err != nil {
-				return nil, &ParseError{File: name, Line: line, Column: 7 + c, Name: want[6+c], Err: fmt.Errorf("want a number or NaN, found %q", rec[6+c])}
+				return nil, &data.FileError{Path: name, Line: line, Column: 7 + c, ColumnName: want[6+c], Err: fmt.Errorf("want a number or NaN, found %q", rec[6+c])}
 			}
 			*dst = v
 		}

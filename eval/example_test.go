@@ -65,5 +65,5 @@ func ExamplePermutationPValue() {
 func ExampleReadPredictions_error() {
 	_, _, err := eval.ReadPredictions(strings.NewReader("observed,predicted\n12,thirteen\n"), "scores.csv")
 	fmt.Fprintln(os.Stdout, err)
-	// Output: scores.csv:2: column 2 (predicted): expected a number (or empty, NaN or NA for a missing value), found "thirteen"
+	// Output: scores.csv: line 2, column 2 ("predicted"): expected a number (or empty, NaN or NA for a missing value), found "thirteen"
 }

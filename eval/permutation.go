@@ -2,8 +2,14 @@ package eval
 
 import (
 	"encoding/csv"
+	"errors"
+	"fmt"
 	"io"
+	"math"
 	"strconv"
+	"strings"
+
+	"github.com/skein-neuro/skein/data"
 )
 
 // A NullDistribution is one model's pooled scores on one target under
@@ -44,4 +50,88 @@ func WriteNullCSV(out io.Writer, nulls []NullDistribution) error {
 	}
 	w.Flush()
 	return w.Error()
+}
+
+// ReadNullCSV reads what WriteNullCSV wrote: per model and target, the
+// observed scores (permutation 0) and the scores of permutations 1, 2, …
+// in order, with the permutation p-value of each metric. A metric column
+// may be absent (a file of an older skein, before the metric existed): its
+// values and p-values are then NaN. Scores carry metric values only (N,
+// Missing and Bins are not in the file). A bad cell or a permutation out of
+// order is a *data.FileError naming name, the line and the column.
+func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, error) {
+	cr := csv.NewReader(r)
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row")}
+	}
+	if err != nil {
+		return nil, csvError(name, err)
+	}
+	col := make(map[string]int)
+	for c, h := range header {
+		col[h] = c
+	}
+	for _, need := range []string{"model", "target", "permutation"} {
+		if _, ok := col[need]; !ok {
+			return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("no %q column (found %s)", need, strings.Join(header, ","))}
+		}
+	}
+	var out []NullDistribution
+	index := make(map[[2]string]int)
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return nil, csvError(name, err)
+		}
+		line, _ := cr.FieldPos(0)
+		bad := func(column string, err error) error {
+			return &data.FileError{Path: name, Line: line, Column: col[column] + 1, ColumnName: column, Err: err}
+		}
+		key := [2]string{rec[col["model"]], rec[col["target"]]}
+		k, err := strconv.Atoi(rec[col["permutation"]])
+		if err != nil || k < 0 {
+			return nil, bad("permutation", fmt.Errorf("want a whole number ≥ 0, found %q", rec[col["permutation"]]))
+		}
+		var s Scores
+		s.NMIChance = math.NaN()
+		for _, m := range Metrics() {
+			c, ok := col[string(m)]
+			if !ok {
+				s.Set(m, math.NaN())
+				continue
+			}
+			v, err := strconv.ParseFloat(rec[c], 64)
+			if err != nil {
+				return nil, bad(string(m), fmt.Errorf("want a number or NaN, found %q", rec[c]))
+			}
+			s.Set(m, v)
+		}
+		j, seen := index[key]
+		switch {
+		case !seen && k != 0:
+			return nil, bad("permutation", fmt.Errorf("model %q, target %q starts at permutation %d, want 0 (the observed run)", key[0], key[1], k))
+		case !seen:
+			index[key] = len(out)
+			out = append(out, NullDistribution{Model: key[0], Target: key[1], Observed: s})
+		case k != len(out[j].Null)+1:
+			return nil, bad("permutation", fmt.Errorf("model %q, target %q: permutation %d, want %d", key[0], key[1], k, len(out[j].Null)+1))
+		default:
+			out[j].Null = append(out[j].Null, s)
+		}
+	}
+	for i := range out {
+		nd := &out[i]
+		for _, m := range Metrics() {
+			values := make([]float64, len(nd.Null))
+			for k, s := range nd.Null {
+				values[k] = s.Get(m)
+			}
+			nd.P.Set(m, PermutationPValue(nd.Observed.Get(m), values, m.LowerIsBetter()))
+		}
+	}
+	return out, nil
 }

@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/model"
 )
 
@@ -71,27 +72,6 @@ func contains(list []string, s string) bool {
 	return false
 }
 
-// A ParseError is a bad cell or row of a predictions file.
-type ParseError struct {
-	File   string // name of the file, as given to ReadPredictions
-	Line   int    // line of the row, from 1 (the header is line 1)
-	Column int    // column of the cell, from 1; 0 when the row as a whole is bad
-	Name   string // name of the column, when known
-	Err    error
-}
-
-func (e *ParseError) Error() string {
-	switch {
-	case e.Column == 0:
-		return fmt.Sprintf("%s:%d: %v", e.File, e.Line, e.Err)
-	case e.Name == "":
-		return fmt.Sprintf("%s:%d: column %d: %v", e.File, e.Line, e.Column, e.Err)
-	}
-	return fmt.Sprintf("%s:%d: column %d (%s): %v", e.File, e.Line, e.Column, e.Name, e.Err)
-}
-
-func (e *ParseError) Unwrap() error { return e.Err }
-
 // ReadPredictions reads a predictions file: comma-separated values with a
 // header row, as WritePredictions writes and as other tools can make. The
 // columns are found by name, in any order. observed and predicted are
@@ -103,7 +83,7 @@ func (e *ParseError) Unwrap() error { return e.Err }
 // id) may appear only once for each model, target and repeat: in
 // cross-validation every participant is tested once per repeat, and a
 // second row would count twice in the pooled figures. A repeated
-// participant is a *ParseError naming both lines.
+// participant is a *data.FileError naming both lines.
 //
 // observed and predicted cells are numbers as strconv.ParseFloat reads them;
 // an empty cell, "NaN" or "NA" (any case) is a missing value, read as NaN
@@ -111,14 +91,14 @@ func (e *ParseError) Unwrap() error { return e.Err }
 // errors. repeat and fold cells are integers ≥ 1: files number repeats
 // and folds from 1, as run folders, logs and messages do, and the rows
 // read hold them from 0 (see model.Prediction). Every bad cell is a
-// *ParseError naming name, the line and the column; a malformed row is a
-// *ParseError wrapping the *csv.ParseError.
+// *data.FileError naming name, the line and the column; a malformed row is a
+// *data.FileError wrapping the *csv.ParseError.
 func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
 	cr := csv.NewReader(r)
 	cr.ReuseRecord = false
 	header, err := cr.Read()
 	if err == io.EOF {
-		return nil, nil, &ParseError{File: name, Line: 1, Err: errors.New("empty file: expected a header row naming the columns observed and predicted")}
+		return nil, nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row naming the columns observed and predicted")}
 	}
 	if err != nil {
 		return nil, nil, csvError(name, err)
@@ -129,16 +109,16 @@ func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
 	index := make(map[string]int)
 	for i, c := range header {
 		if c == "" {
-			return nil, nil, &ParseError{File: name, Line: 1, Column: i + 1, Err: errors.New("empty column name in header")}
+			return nil, nil, &data.FileError{Path: name, Line: 1, Column: i + 1, Err: errors.New("empty column name in header")}
 		}
 		if j, dup := index[c]; dup {
-			return nil, nil, &ParseError{File: name, Line: 1, Column: i + 1, Name: c, Err: fmt.Errorf("column %q appears twice (columns %d and %d)", c, j+1, i+1)}
+			return nil, nil, &data.FileError{Path: name, Line: 1, Column: i + 1, ColumnName: c, Err: fmt.Errorf("column %q appears twice (columns %d and %d)", c, j+1, i+1)}
 		}
 		index[c] = i
 	}
 	for _, c := range []string{ColumnObserved, ColumnPredicted} {
 		if _, ok := index[c]; !ok {
-			return nil, nil, &ParseError{File: name, Line: 1, Err: fmt.Errorf("no %q column: the header has %s", c, strings.Join(quoteAll(header), ", "))}
+			return nil, nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("no %q column: the header has %s", c, strings.Join(quoteAll(header), ", "))}
 		}
 	}
 
@@ -167,7 +147,7 @@ func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
 			return record[i], i, true
 		}
 		bad := func(col int, column string, err error) error {
-			return &ParseError{File: name, Line: line, Column: col + 1, Name: column, Err: err}
+			return &data.FileError{Path: name, Line: line, Column: col + 1, ColumnName: column, Err: err}
 		}
 		var p Prediction
 		for _, f := range []struct {
@@ -238,7 +218,7 @@ func parseValue(s string) (float64, error) {
 func csvError(name string, err error) error {
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
-		return &ParseError{File: name, Line: pe.Line, Column: pe.Column, Err: pe.Err}
+		return &data.FileError{Path: name, Line: pe.Line, Column: pe.Column, Err: pe.Err}
 	}
 	return fmt.Errorf("%s: %w", name, err)
 }

@@ -8,6 +8,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/skein-neuro/skein/data"
 )
 
 func TestReadPredictionsFixture(t *testing.T) {
@@ -78,13 +80,13 @@ func TestReadPredictionsErrors(t *testing.T) {
 	}
 	for _, tt := range tests {
 		_, _, err := ReadPredictions(strings.NewReader(tt.in), "run/predictions.csv")
-		var pe *ParseError
+		var pe *data.FileError
 		if !errors.As(err, &pe) {
-			t.Errorf("%s: error %v is not a *ParseError", tt.name, err)
+			t.Errorf("%s: error %v is not a *data.FileError", tt.name, err)
 			continue
 		}
-		if pe.File != "run/predictions.csv" || pe.Line != tt.line || (tt.col != 0 && pe.Column != tt.col) {
-			t.Errorf("%s: file, line, column = %s, %d, %d; want run/predictions.csv, %d, %d", tt.name, pe.File, pe.Line, pe.Column, tt.line, tt.col)
+		if pe.Path != "run/predictions.csv" || pe.Line != tt.line || (tt.col != 0 && pe.Column != tt.col) {
+			t.Errorf("%s: file, line, column = %s, %d, %d; want run/predictions.csv, %d, %d", tt.name, pe.Path, pe.Line, pe.Column, tt.line, tt.col)
 		}
 		if !strings.Contains(err.Error(), tt.contains) || !strings.HasPrefix(err.Error(), "run/predictions.csv:") {
 			t.Errorf("%s: error %q, want it to start with the file and contain %q", tt.name, err, tt.contains)
@@ -94,7 +96,7 @@ func TestReadPredictionsErrors(t *testing.T) {
 
 func TestParseErrorNamesColumn(t *testing.T) {
 	_, _, err := ReadPredictions(strings.NewReader("participant_id,observed,predicted\nsub-01,1,x\n"), "p.csv")
-	if want := `p.csv:2: column 3 (predicted): expected a number`; err == nil || !strings.HasPrefix(err.Error(), want) {
+	if want := `p.csv: line 2, column 3 ("predicted"): expected a number`; err == nil || !strings.HasPrefix(err.Error(), want) {
 		t.Errorf("error %q, want prefix %q", err, want)
 	}
 }
@@ -124,7 +126,7 @@ func TestWritePredictionsRefusesInfinity(t *testing.T) {
 }
 
 // FuzzReadPredictions checks that the reader never panics, that every
-// failure is a *ParseError naming the file, and that what it reads survives
+// failure is a *data.FileError naming the file, and that what it reads survives
 // a write and a second read. The seeds run as ordinary tests.
 func FuzzReadPredictions(f *testing.F) {
 	for _, seed := range []string{
@@ -143,9 +145,9 @@ func FuzzReadPredictions(f *testing.F) {
 	f.Fuzz(func(t *testing.T, in string) {
 		rows, _, err := ReadPredictions(strings.NewReader(in), "fuzz.csv")
 		if err != nil {
-			var pe *ParseError
-			if !errors.As(err, &pe) || pe.File != "fuzz.csv" {
-				t.Fatalf("error %v is not a *ParseError naming the file", err)
+			var pe *data.FileError
+			if !errors.As(err, &pe) || pe.Path != "fuzz.csv" {
+				t.Fatalf("error %v is not a *data.FileError naming the file", err)
 			}
 			return
 		}

@@ -6,6 +6,8 @@ import (
 	"io"
 	"math"
 	"strconv"
+
+	"github.com/skein-neuro/skein/data"
 )
 
 // A SampleSizeRow is one model's accuracy on one target and one test fold
@@ -40,7 +42,7 @@ func formatCell(x float64) string {
 }
 
 // ReadSampleSizeCSV reads a file WriteSampleSizeCSV wrote; name is used in
-// errors, which are *ParseError values naming the line and column.
+// errors, which are *data.FileError values naming the line and column.
 func ReadSampleSizeCSV(r io.Reader, name string) ([]SampleSizeRow, error) {
 	cr := csv.NewReader(r)
 	header, err := cr.Read()
@@ -53,7 +55,7 @@ func ReadSampleSizeCSV(r io.Reader, name string) ([]SampleSizeRow, error) {
 			if c < len(header) {
 				found = strconv.Quote(header[c])
 			}
-			return nil, &ParseError{File: name, Line: 1, Column: c + 1, Err: fmt.Errorf("want column %q, found %s", want, found)}
+			return nil, &data.FileError{Path: name, Line: 1, Column: c + 1, Err: fmt.Errorf("want column %q, found %s", want, found)}
 		}
 	}
 	var rows []SampleSizeRow
@@ -67,7 +69,7 @@ func ReadSampleSizeCSV(r io.Reader, name string) ([]SampleSizeRow, error) {
 		}
 		line, _ := cr.FieldPos(0)
 		bad := func(c int, err error) error {
-			return &ParseError{File: name, Line: line, Column: c + 1, Name: sampleSizeColumns[c], Err: err}
+			return &data.FileError{Path: name, Line: line, Column: c + 1, ColumnName: sampleSizeColumns[c], Err: err}
 		}
 		row := SampleSizeRow{Model: rec[0], Target: rec[1]}
 		if row.Fraction, err = strconv.ParseFloat(rec[2], 64); err != nil || !(row.Fraction > 0 && row.Fraction <= 1) {

@@ -3,17 +3,14 @@ package experiment
 import (
 	"bufio"
 	"bytes"
-	"encoding/csv"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"io/fs"
-	"math"
 	"os"
 	"path/filepath"
 	"slices"
-	"strconv"
 	"strings"
 
 	"github.com/pelletier/go-toml/v2"
@@ -156,85 +153,16 @@ func parseVersions(raw []byte) [][2]string {
 	return out
 }
 
-// readPValues reads permutations.csv (eval.WriteNullCSV: model, target,
-// permutation, one column per metric; permutation 0 is the observed run)
-// and returns each model and target's permutation p-values.
+// readPValues reads the permutation p-values of PermutationFile, per model
+// and target (eval.ReadNullCSV).
 func readPValues(r io.Reader, name string) (map[[2]string]eval.Values, error) {
-	cr := csv.NewReader(r)
-	header, err := cr.Read()
+	nulls, err := eval.ReadNullCSV(r, name)
 	if err != nil {
-		return nil, fmt.Errorf("%s: %w", name, err)
+		return nil, err
 	}
-	col := make(map[string]int)
-	for c, h := range header {
-		col[h] = c
-	}
-	for _, need := range []string{"model", "target", "permutation"} {
-		if _, ok := col[need]; !ok {
-			return nil, fmt.Errorf("%s:1: no %q column (found %v)", name, need, header)
-		}
-	}
-	// A metric column may be absent (a run of an older skein, before the
-	// metric existed): its p-values are then NaN.
-	metrics := eval.Metrics()
-	type dist struct {
-		observed []float64
-		null     [][]float64
-	}
-	dists := make(map[[2]string]*dist)
-	var keys [][2]string
-	for {
-		rec, err := cr.Read()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			return nil, fmt.Errorf("%s: %w", name, err)
-		}
-		line, _ := cr.FieldPos(0)
-		k := [2]string{rec[col["model"]], rec[col["target"]]}
-		d, ok := dists[k]
-		if !ok {
-			d = &dist{}
-			dists[k] = d
-			keys = append(keys, k)
-		}
-		perm, err := strconv.Atoi(rec[col["permutation"]])
-		if err != nil || perm < 0 {
-			return nil, fmt.Errorf("%s:%d: column %d (permutation): want a whole number ≥ 0, found %q", name, line, col["permutation"]+1, rec[col["permutation"]])
-		}
-		values := make([]float64, len(metrics))
-		for j, m := range metrics {
-			c, ok := col[string(m)]
-			if !ok {
-				values[j] = math.NaN()
-				continue
-			}
-			if values[j], err = strconv.ParseFloat(rec[c], 64); err != nil {
-				return nil, fmt.Errorf("%s:%d: column %d (%s): want a number, found %q", name, line, c+1, m, rec[c])
-			}
-		}
-		if perm == 0 {
-			d.observed = values
-		} else {
-			d.null = append(d.null, values)
-		}
-	}
-	out := make(map[[2]string]eval.Values)
-	for _, k := range keys {
-		d := dists[k]
-		if d.observed == nil {
-			return nil, fmt.Errorf("%s: model %q, target %q has no permutation 0 (the observed run)", name, k[0], k[1])
-		}
-		var p eval.Values
-		for j, m := range metrics {
-			null := make([]float64, len(d.null))
-			for i, v := range d.null {
-				null[i] = v[j]
-			}
-			p.Set(m, eval.PermutationPValue(d.observed[j], null, m.LowerIsBetter()))
-		}
-		out[k] = p
+	out := make(map[[2]string]eval.Values, len(nulls))
+	for _, nd := range nulls {
+		out[[2]string{nd.Model, nd.Target}] = nd.P
 	}
 	return out, nil
 }

@@ -14,6 +14,8 @@ import (
 	"strconv"
 	"strings"
 	"time"
+
+	"github.com/skein-neuro/skein/data"
 )
 
 // HistoryFile is the name of the history file in the output root (the
@@ -133,17 +135,17 @@ func ReadHistory(r io.Reader, name string) ([]HistoryRow, error) {
 	cr := csv.NewReader(r)
 	header, err := cr.Read()
 	if err == io.EOF {
-		return nil, fmt.Errorf("%s: empty file, want the header %v", name, historyColumns)
+		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("empty file, want the header %v", historyColumns)}
 	}
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", name, err)
 	}
 	if !slices.Equal(header, historyColumns) {
 		if slices.Contains(header, "pearson_r") {
-			return nil, fmt.Errorf("%s:1: a history of an older skein, which recorded pooled Pearson r (biased in "+
-				"cross-validation) where it now records r within folds: move it aside to start a new history", name)
+			return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("a history of an older skein, which recorded pooled " +
+				"Pearson r (biased in cross-validation) where it now records r within folds: move it aside to start a new history")}
 		}
-		return nil, fmt.Errorf("%s:1: want the header %v, found %v", name, historyColumns, header)
+		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("want the header %v, found %v", historyColumns, header)}
 	}
 	var rows []HistoryRow
 	for {
@@ -156,7 +158,7 @@ func ReadHistory(r io.Reader, name string) ([]HistoryRow, error) {
 		}
 		line, _ := cr.FieldPos(0)
 		bad := func(c int, want string) error {
-			return fmt.Errorf("%s:%d: column %d (%s): want %s, found %q", name, line, c+1, historyColumns[c], want, rec[c])
+			return &data.FileError{Path: name, Line: line, Column: c + 1, ColumnName: historyColumns[c], Err: fmt.Errorf("want %s, found %q", want, rec[c])}
 		}
 		row := HistoryRow{Run: rec[1], Model: rec[2], Target: rec[3]}
 		if row.Date, err = time.Parse(time.RFC3339, rec[0]); err != nil {

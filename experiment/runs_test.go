@@ -112,7 +112,7 @@ func TestReadPValues(t *testing.T) {
 		t.Errorf("older permutations.csv: %+v, %v", v, err)
 	}
 	_, err = readPValues(strings.NewReader(strings.Replace(csv, "0.6,0.6,0.6", "0.6,high,0.6", 1)), "permutations.csv")
-	if err == nil || !strings.Contains(err.Error(), "permutations.csv:4: column 5 (pearson_r)") {
+	if err == nil || !strings.Contains(err.Error(), `permutations.csv: line 4, column 5 ("pearson_r")`) {
 		t.Errorf("bad cell: %v", err)
 	}
 }
@@ -186,11 +186,11 @@ func TestHistoryAppendReadPlot(t *testing.T) {
 	}
 
 	os.WriteFile(path, []byte("when,what\n"), 0o644)
-	if err := AppendHistory(path, nil); err == nil || !strings.Contains(err.Error(), "history.csv:1: want the header") {
+	if err := AppendHistory(path, nil); err == nil || !strings.Contains(err.Error(), "history.csv: line 1: want the header") {
 		t.Errorf("foreign file: %v", err)
 	}
 	bad := "date,run,model,target,r_within_folds,mae,permutation_p,n\n2026-03-01,n1,ridge,recall,0.3,5,,50\n"
-	if _, err := ReadHistory(strings.NewReader(bad), "h.csv"); err == nil || !strings.Contains(err.Error(), "h.csv:2: column 1 (date)") {
+	if _, err := ReadHistory(strings.NewReader(bad), "h.csv"); err == nil || !strings.Contains(err.Error(), `h.csv: line 2, column 1 ("date")`) {
 		t.Errorf("bad date: %v", err)
 	}
 	older := "date,run,model,target,pearson_r,mae,permutation_p,n\n"

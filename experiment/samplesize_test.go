@@ -8,6 +8,7 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/train"
@@ -44,7 +45,7 @@ func TestSampleSizeCurveRoundTrip(t *testing.T) {
 	}
 	bad := strings.Replace(buf.String(), "ridge,recall,0.5,3", "ridge,recall,0.5,three", 1)
 	_, err = eval.ReadSampleSizeCSV(strings.NewReader(bad), "s.csv")
-	var pe *eval.ParseError
+	var pe *data.FileError
 	if !errors.As(err, &pe) || pe.Line != 3 || pe.Column != 4 || !strings.Contains(err.Error(), `"three"`) {
 		t.Errorf("bad n_train: %v", err)
 	}

@@ -85,9 +85,9 @@ func TestMetricsBadInput(t *testing.T) {
 	}{
 		{"no file", nil, "want one CSV file"},
 		{"missing file", []string{"no/such/file.csv"}, "no/such/file.csv"},
-		{"missing column", []string{writeCSV(t, "observed,guess\n1,2\n")}, `scores.csv:1: no "predicted" column`},
-		{"not a number", []string{writeCSV(t, "observed,predicted\n1,2\n3,4\nfive,6\n")}, `scores.csv:4: column 1 (observed): expected a number (or empty, NaN or NA for a missing value), found "five"`},
-		{"bad fold", []string{writeCSV(t, "observed,predicted,repeat,fold\n1,2,1,first\n")}, `scores.csv:2: column 4 (fold): expected an integer ≥ 1 (repeats and folds are numbered from 1), found "first"`},
+		{"missing column", []string{writeCSV(t, "observed,guess\n1,2\n")}, `scores.csv: line 1: no "predicted" column`},
+		{"not a number", []string{writeCSV(t, "observed,predicted\n1,2\n3,4\nfive,6\n")}, `scores.csv: line 4, column 1 ("observed"): expected a number (or empty, NaN or NA for a missing value), found "five"`},
+		{"bad fold", []string{writeCSV(t, "observed,predicted,repeat,fold\n1,2,1,first\n")}, `scores.csv: line 2, column 4 ("fold"): expected an integer ≥ 1 (repeats and folds are numbered from 1), found "first"`},
 		{"header only", []string{writeCSV(t, "observed,predicted\n")}, "no rows after the header"},
 		{"bad bins", []string{"--bins", "0", "x.csv"}, "--bins: want an integer ≥ 1, got 0"},
 		{"unknown flag", []string{"--colour", "x.csv"}, "flag provided but not defined"},

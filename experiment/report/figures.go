@@ -385,7 +385,7 @@ func (r *Run) NullFigures() ([]Figure, error) {
 	var figs []Figure
 	for _, n := range r.Nulls {
 		var vals plotter.Values
-		for _, v := range n.Permuted {
+		for _, v := range n.Null {
 			if x := v.Get(eval.MetricPearsonWithin); !math.IsNaN(x) {
 				vals = append(vals, x)
 			}
@@ -394,7 +394,7 @@ func (r *Run) NullFigures() ([]Figure, error) {
 			continue
 		}
 		obs := n.Observed.Get(eval.MetricPearsonWithin)
-		pv := n.P(eval.MetricPearsonWithin)
+		pv := n.P.Get(eval.MetricPearsonWithin)
 		title := fmt.Sprintf("%s — %s: observed r = %s, p = %s", n.Model, n.Target, num(obs), pValue(pv))
 		p := newPlot(title, "r within folds", "permutations")
 		bins := max(5, min(30, len(vals)/5))
@@ -416,14 +416,14 @@ func (r *Run) NullFigures() ([]Figure, error) {
 			l.Width = vg.Points(2)
 			p.Add(l)
 			p.Legend.Add("observed", l)
-			p.Legend.Add(fmt.Sprintf("null (%d permutations)", len(n.Permuted)), h)
+			p.Legend.Add(fmt.Sprintf("null (%d permutations)", len(n.Null)), h)
 			p.Legend.Top, p.Legend.Left = true, true
 			p.Y.Max = top * 1.35
 			p.X.Max = math.Max(p.X.Max, obs) + 0.05*(p.X.Max-p.X.Min)
 			p.X.Min = math.Min(p.X.Min, obs) - 0.05*(p.X.Max-p.X.Min)
 		}
 		caption := fmt.Sprintf("The whole cross-validation of %s repeated with the scores permuted %d times. "+
-			"p = (1 + #{null r ≥ observed r}) / (1 + permutations).", n.Model, len(n.Permuted))
+			"p = (1 + #{null r ≥ observed r}) / (1 + permutations).", n.Model, len(n.Null))
 		f, err := figure(fileName("null", n.Model, n.Target), SectionNulls, title, caption, 6, 4, p)
 		if err != nil {
 			return nil, err

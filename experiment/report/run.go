@@ -43,7 +43,7 @@ type Run struct {
 	// Curves are the rows of learning_curves.csv (nil without the file).
 	Curves []CurvePoint
 	// Nulls are permutations.csv (nil without a permutation test).
-	Nulls []Null
+	Nulls []eval.NullDistribution
 	// Versions is versions.txt.
 	Versions string
 	// Importance holds the edge-importance maps of the unit checkpoints.
@@ -58,23 +58,6 @@ type CurvePoint struct {
 	Repeat, Fold, Epoch  int
 	TrainLoss, ValidLoss float64 // ValidLoss NaN without inner validation
 	Best                 bool
-}
-
-// Null is one model × target of permutations.csv: the observed Pearson r
-// and MAE and their values under each permutation.
-type Null struct {
-	Model, Target string
-	Observed      eval.Values
-	Permuted      []eval.Values // permutations 1, 2, …
-}
-
-// P returns the permutation p-value of metric m (eval.PermutationPValue).
-func (n Null) P(m eval.Metric) float64 {
-	null := make([]float64, len(n.Permuted))
-	for i, v := range n.Permuted {
-		null[i] = v.Get(m)
-	}
-	return eval.PermutationPValue(n.Observed.Get(m), null, m.LowerIsBetter())
 }
 
 // UnitImportance is the edge importance one fitted unit reported: one
@@ -148,7 +131,7 @@ func ReadRun(dir string) (*Run, error) {
 	if raw, ok, err := optional(dir, experiment.PermutationFile); err != nil {
 		return nil, err
 	} else if ok {
-		if r.Nulls, err = parseNulls(raw, filepath.Join(dir, experiment.PermutationFile)); err != nil {
+		if r.Nulls, err = eval.ReadNullCSV(bytes.NewReader(raw), filepath.Join(dir, experiment.PermutationFile)); err != nil {
 			return nil, err
 		}
 	}
@@ -231,7 +214,7 @@ func readCSV(raw []byte, name string, want ...string) (*csvTable, error) {
 	cr := csv.NewReader(bytes.NewReader(raw))
 	header, err := cr.Read()
 	if err == io.EOF {
-		return nil, fmt.Errorf("%s: empty file, want a header line with %s", name, strings.Join(want, ","))
+		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("empty file, want a header line with %s", strings.Join(want, ","))}
 	}
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", name, err)
@@ -242,7 +225,7 @@ func readCSV(raw []byte, name string, want ...string) (*csvTable, error) {
 	}
 	for _, w := range want {
 		if _, ok := t.header[w]; !ok {
-			return nil, fmt.Errorf("%s: line 1: no column %q (found %s)", name, w, strings.Join(header, ","))
+			return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("no column %q (found %s)", w, strings.Join(header, ","))}
 		}
 	}
 	if t.rows, err = cr.ReadAll(); err != nil {
@@ -251,9 +234,10 @@ func readCSV(raw []byte, name string, want ...string) (*csvTable, error) {
 	return t, nil
 }
 
-// cellError describes a bad cell: the file, 1-based line, column name.
+// cellError describes a bad cell: the file, 1-based line and column.
 func (t *csvTable) cellError(row int, col, want string) error {
-	return fmt.Errorf("%s: line %d, column %q: want %s, found %q", t.name, row+2, col, want, t.rows[row][t.header[col]])
+	return &data.FileError{Path: t.name, Line: row + 2, Column: t.header[col] + 1, ColumnName: col,
+		Err: fmt.Errorf("want %s, found %q", want, t.rows[row][t.header[col]])}
 }
 
 func (t *csvTable) str(row int, col string) string { return t.rows[row][t.header[col]] }
@@ -317,48 +301,6 @@ func parseCurves(raw []byte, name string) ([]CurvePoint, error) {
 			return nil, t.cellError(i, "best", "0 or 1")
 		}
 		out[i] = c
-	}
-	return out, nil
-}
-
-func parseNulls(raw []byte, name string) ([]Null, error) {
-	// A metric column may be absent (a run of an older skein, before the
-	// metric existed): its values are then NaN.
-	t, err := readCSV(raw, name, "model", "target", "permutation")
-	if err != nil {
-		return nil, err
-	}
-	var out []Null
-	index := make(map[[2]string]int)
-	for i := range t.rows {
-		key := [2]string{t.str(i, "model"), t.str(i, "target")}
-		k, err := t.int(i, "permutation")
-		if err != nil {
-			return nil, err
-		}
-		var v eval.Values
-		for _, m := range eval.Metrics() {
-			x := math.NaN()
-			if _, ok := t.header[string(m)]; ok {
-				if x, err = t.float(i, string(m), false); err != nil {
-					return nil, err
-				}
-			}
-			v.Set(m, x)
-		}
-		j, seen := index[key]
-		if !seen {
-			if k != 0 {
-				return nil, fmt.Errorf("%s: line %d: model %q, target %q starts at permutation %d, want 0 (the observed run)", name, i+2, key[0], key[1], k)
-			}
-			index[key] = len(out)
-			out = append(out, Null{Model: key[0], Target: key[1], Observed: v})
-			continue
-		}
-		if k != len(out[j].Permuted)+1 {
-			return nil, fmt.Errorf("%s: line %d: model %q, target %q: permutation %d, want %d", name, i+2, key[0], key[1], k, len(out[j].Permuted)+1)
-		}
-		out[j].Permuted = append(out[j].Permuted, v)
 	}
 	return out, nil
 }
