@@ -327,7 +327,7 @@ type foldData struct {
 	train      model.Dataset // training part minus inner validation
 	valid      model.Dataset // inner validation part
 	test       []*data.Participant
-	testCohort *data.Cohort // test under the cohort's names
+	testCohort *data.Cohort // test with the cohort's names, as the preparation maps predictions
 	testIdx    []int
 	observed   *mat.Dense // test scores as scored (Pipeline.Observed): score units, confounds removed
 	innerSeed  uint64

@@ -255,7 +255,7 @@ func (tp *TargetPrep) Fit(train *data.Cohort) error {
 	var cov *mat.Dense
 	if len(tp.Covariates) > 0 {
 		if cov, err = covariateMatrix(train, tp.Covariates); err != nil {
-			return err
+			return fmt.Errorf("confound regression: %w", err)
 		}
 	}
 	rows := make([]int, n)
@@ -421,7 +421,11 @@ func (tp *TargetPrep) covariates(c *data.Cohort) (*mat.Dense, error) {
 	if len(c.Participants) == 0 {
 		return nil, nil
 	}
-	return covariateMatrix(c, tp.Covariates)
+	cov, err := covariateMatrix(c, tp.Covariates)
+	if err != nil {
+		return nil, fmt.Errorf("confound regression: %w", err)
+	}
+	return cov, nil
 }
 
 // targetPrepJSON is the JSON encoding of a TargetPrep.
