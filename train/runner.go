@@ -192,13 +192,12 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	if err != nil {
 		return nil, err
 	}
-	y, cov, err := scoresAndConfounds(exp.CV, cohort)
-	if err != nil {
+	if _, _, err = scoresAndConfounds(exp.CV, cohort); err != nil {
 		return nil, err
 	}
 	folds := make([]*foldData, len(splits))
 	for s, split := range splits {
-		if folds[s], err = prepareFold(exp, cohort, split, y, cov, max(1, r.prepBlocks)); err != nil {
+		if folds[s], err = prepareFold(exp, cohort, split, max(1, r.prepBlocks)); err != nil {
 			return nil, fmt.Errorf("repeat %d, fold %d: %w", split.Repeat+1, split.Fold+1, err)
 		}
 	}
@@ -320,43 +319,68 @@ func (r *Runner) checkCheckpoints(all, units []Unit) error {
 	return nil
 }
 
-// foldData is what every model of one split shares.
+// foldData is what every model of one split shares. Its participants are
+// as the fold's preparation leaves them.
 type foldData struct {
 	split      Split
-	prep       *TargetPrep
+	prep       *Pipeline
 	train      model.Dataset // training part minus inner validation
 	valid      model.Dataset // inner validation part
 	test       []*data.Participant
+	testCohort *data.Cohort // test with the cohort's names, as the preparation maps predictions
 	testIdx    []int
-	observed   *mat.Dense // test scores in score units, confounds removed
+	observed   *mat.Dense // test scores as scored (Pipeline.Observed): score units, confounds removed
 	innerSeed  uint64
 	targetName []string
 }
 
-// prepareFold fits the target preparation of split, in blocks blocks
-// (FitTargetPrepBlocks), and gathers what every model of the split shares.
-func prepareFold(exp *Design, cohort *data.Cohort, split Split, y, cov *mat.Dense, blocks int) (*foldData, error) {
-	prep, err := FitTargetPrepBlocks(y, cov, split.Train, blocks)
-	if err != nil {
+// prepareFold fits the fold's preparation on the training participants
+// of split, in blocks blocks (FitTargetPrepBlocks), applies it to the
+// training part, its inner validation part and the test fold, and
+// gathers what every model of the split shares. Every step of the
+// preparation is in the Pipeline made here.
+func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*foldData, error) {
+	prep := &Pipeline{Steps: []Prep{&TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}}}
+	if err := prep.Fit(subCohort(cohort, split.Train)); err != nil {
 		return nil, err
 	}
 	seed := unitSeed(exp.Seed, "inner", split.Repeat, split.Fold)
 	fitIdx, validIdx := InnerValidation(split.Train, Groups(cohort), exp.CV.innerCount(), exp.CV.innerFraction(), seed)
+	fit, err := prep.Apply(subCohort(cohort, fitIdx))
+	if err != nil {
+		return nil, err
+	}
+	valid, err := prep.Apply(subCohort(cohort, validIdx))
+	if err != nil {
+		return nil, err
+	}
+	test, err := prep.Apply(subCohort(cohort, split.Test))
+	if err != nil {
+		return nil, err
+	}
 	fd := &foldData{
 		split:      split,
 		prep:       prep,
-		train:      model.Dataset{Participants: pick(cohort, fitIdx), Y: prep.Standardized(y, cov, fitIdx)},
-		valid:      model.Dataset{Participants: pick(cohort, validIdx)},
-		test:       pick(cohort, split.Test),
+		train:      model.Dataset{Participants: fit.Participants},
+		valid:      model.Dataset{Participants: valid.Participants},
+		test:       test.Participants,
+		testCohort: test,
 		testIdx:    split.Test,
 		innerSeed:  seed,
 		targetName: cohort.Targets,
 	}
+	if fd.train.Y, err = scoreMatrix(fit, len(cohort.Targets)); err != nil {
+		return nil, err
+	}
 	if len(validIdx) > 0 {
-		fd.valid.Y = prep.Standardized(y, cov, validIdx)
+		if fd.valid.Y, err = scoreMatrix(valid, len(cohort.Targets)); err != nil {
+			return nil, err
+		}
 	}
 	if len(split.Test) > 0 {
-		fd.observed = prep.Observed(y, cov, split.Test)
+		if fd.observed, err = prep.Observed(subCohort(cohort, split.Test)); err != nil {
+			return nil, err
+		}
 	}
 	return fd, nil
 }
@@ -398,7 +422,9 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 	if rows, cols := pred.Dims(); rows != len(fd.test) || cols != len(fd.targetName) {
 		return unitOutput{}, false, fmt.Errorf("predictions are %d × %d, want %d × %d", rows, cols, len(fd.test), len(fd.targetName))
 	}
-	fd.prep.Unstandardize(pred)
+	if err := fd.prep.Unscale(fd.testCohort, pred); err != nil {
+		return unitOutput{}, false, err
+	}
 	var out unitOutput
 	for i, p := range fd.test {
 		for t, target := range fd.targetName {

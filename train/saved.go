@@ -22,25 +22,30 @@ import (
 // fitted on its training fold besides the model itself.
 const FittedFile = "fitted.json"
 
+// FittedVersion is the version of FittedFile this skein writes. Version
+// 1, written by earlier skeins, held the target preparation as the keys
+// confounds, confound_coef and target_scaling instead of prep; LoadModel
+// reads both.
+const FittedVersion = 2
+
 // Fitted is the JSON document FittedFile: what prediction with a saved
-// model needs beyond the model's own files. Predictions of the model are
-// standardized residual scores; score = prediction·SD + mean (+ the
-// confound fit when Confounds is set).
+// model needs beyond the model's own files. The model learned, and
+// predicts, participants as Prep leaves them; Prep.Invert turns its
+// predictions into scores, Prep.Unscale into scores with the confound
+// fit removed (what the run scored).
 type Fitted struct {
-	Format     string          `json:"format"` // "skein-fitted"
-	Version    int             `json:"version"`
+	Format     string          `json:"format"`  // "skein-fitted"
+	Version    int             `json:"version"` // FittedVersion
 	Model      string          `json:"model"`
 	Kind       string          `json:"kind"`
 	Repeat     int             `json:"repeat"` // from 1, as in predictions.csv; 0 when refitted on all participants
 	Fold       int             `json:"fold"`   // from 1; 0 when refitted on all participants
 	Targets    []string        `json:"targets"`
 	Regions    []string        `json:"regions"`
-	Confounds  []string        `json:"confounds"`
 	Preprocess data.Preprocess `json:"preprocess"`
-	// ConfoundCoef holds the (1 + C) × T confound coefficients row by
-	// row, intercept first; empty without confounds.
-	ConfoundCoef [][]float64 `json:"confound_coef,omitempty"`
-	TargetPrep   *TargetPrep `json:"target_scaling"`
+	// Prep is the preparation fitted on the fold's training participants
+	// (a JSON list of steps, see Pipeline).
+	Prep *Pipeline `json:"prep"`
 	// Train lists the participants the model was fitted on (training part
 	// minus inner validation) and Valid the inner validation part.
 	Train []string `json:"train"`
@@ -55,16 +60,10 @@ func saveModel(dir string, m model.Saver, fd *foldData, c *data.Cohort, exp *Des
 		return err
 	}
 	f := Fitted{
-		Format: "skein-fitted", Version: 1, Model: cfg.Name, Kind: cfg.Kind(),
+		Format: "skein-fitted", Version: FittedVersion, Model: cfg.Name, Kind: cfg.Kind(),
 		Repeat: fd.split.Repeat + 1, Fold: fd.split.Fold + 1,
-		Targets: c.Targets, Regions: c.Regions, Confounds: exp.CV.Confounds, Preprocess: exp.Preprocess,
-		TargetPrep: fd.prep,
-	}
-	if fd.prep.Confounds != nil {
-		r, _ := fd.prep.Confounds.Dims()
-		for i := 0; i < r; i++ {
-			f.ConfoundCoef = append(f.ConfoundCoef, fd.prep.Confounds.RawRowView(i))
-		}
+		Targets: c.Targets, Regions: c.Regions, Preprocess: exp.Preprocess,
+		Prep: fd.prep,
 	}
 	for _, p := range fd.train.Participants {
 		f.Train = append(f.Train, p.ID)
@@ -88,34 +87,32 @@ type SavedModel struct {
 }
 
 // LoadModel reads the saved model in dir (a folder models/NAME/rR-fF or
-// models/NAME/all of a run folder).
+// models/NAME/all of a run folder), whose FittedFile may be of version 1
+// or FittedVersion.
 func LoadModel(dir string) (*SavedModel, error) {
 	path := filepath.Join(dir, FittedFile)
 	raw, err := os.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}
-	var f Fitted
-	if err := json.Unmarshal(raw, &f); err != nil {
+	var head struct {
+		Format  string `json:"format"`
+		Version int    `json:"version"`
+	}
+	if err := json.Unmarshal(raw, &head); err != nil {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
-	if f.Format != "skein-fitted" || f.Version != 1 {
-		return nil, fmt.Errorf("%s: format %q version %d, want skein-fitted version 1", path, f.Format, f.Version)
+	if head.Format != "skein-fitted" || head.Version < 1 || head.Version > FittedVersion {
+		return nil, fmt.Errorf("%s: format %q version %d, want skein-fitted version 1 to %d", path, head.Format, head.Version, FittedVersion)
 	}
-	if f.TargetPrep == nil || len(f.TargetPrep.Mean) != len(f.Targets) || len(f.TargetPrep.SD) != len(f.Targets) {
-		return nil, fmt.Errorf("%s: target_scaling does not match the %d targets", path, len(f.Targets))
+	var f Fitted
+	if head.Version == 1 {
+		f, err = readFittedV1(raw)
+	} else if err = json.Unmarshal(raw, &f); err == nil && f.Prep == nil {
+		err = errors.New("no prep")
 	}
-	if len(f.Confounds) > 0 {
-		if len(f.ConfoundCoef) != 1+len(f.Confounds) {
-			return nil, fmt.Errorf("%s: confound_coef has %d rows, want %d", path, len(f.ConfoundCoef), 1+len(f.Confounds))
-		}
-		f.TargetPrep.Confounds = mat.NewDense(1+len(f.Confounds), len(f.Targets), nil)
-		for i, row := range f.ConfoundCoef {
-			if len(row) != len(f.Targets) {
-				return nil, fmt.Errorf("%s: confound_coef row %d has %d values, want %d", path, i, len(row), len(f.Targets))
-			}
-			f.TargetPrep.Confounds.SetRow(i, row)
-		}
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
 	}
 	sm := &SavedModel{Dir: dir, Fitted: f}
 	switch f.Kind {
@@ -133,49 +130,69 @@ func LoadModel(dir string) (*SavedModel, error) {
 	return sm, nil
 }
 
+// readFittedV1 reads a FittedFile of version 1 into the Fitted of today:
+// its keys confounds, confound_coef and target_scaling make a Pipeline of
+// one TargetPrep.
+func readFittedV1(raw []byte) (Fitted, error) {
+	var v1 struct {
+		Fitted
+		Confounds     []string    `json:"confounds"`
+		ConfoundCoef  [][]float64 `json:"confound_coef"`
+		TargetScaling *struct {
+			CovariateMean []float64 `json:"covariate_mean"`
+			Mean          []float64 `json:"mean"`
+			SD            []float64 `json:"sd"`
+		} `json:"target_scaling"`
+	}
+	if err := json.Unmarshal(raw, &v1); err != nil {
+		return Fitted{}, err
+	}
+	ts := v1.TargetScaling
+	if ts == nil || len(ts.Mean) != len(v1.Targets) {
+		return Fitted{}, fmt.Errorf("target_scaling does not match the %d targets", len(v1.Targets))
+	}
+	j := targetPrepJSON{Covariates: v1.Confounds, Blocks: 1, ConfoundCoef: v1.ConfoundCoef,
+		CovariateMean: ts.CovariateMean, Mean: ts.Mean, SD: ts.SD}
+	tp, err := j.targetPrep()
+	if err != nil {
+		return Fitted{}, fmt.Errorf("version 1 target preparation: %w", err)
+	}
+	f := v1.Fitted
+	f.Prep = &Pipeline{Steps: []Prep{tp}}
+	return f, nil
+}
+
 // Predict predicts the participants of c, whose matrices must have been
 // preprocessed as Fitted.Preprocess says and whose regions must be the
-// model's. Row i, column t of the result is target t of participant i in
-// score units: the model's standardized prediction turned back into score
-// units and, when confounds were regressed out in training, plus the
-// training fold's confound fit for the participant's covariates (a missing
-// covariate takes its training mean). residual holds the same without the
-// confound fit.
+// model's. It applies Fitted.Prep to c, predicts with the model and maps
+// the predictions back: row i, column t of score is target t of
+// participant i in score units (Pipeline.Invert: the standardization
+// undone and, when confounds were regressed out in training, the training
+// fold's confound fit for the participant's covariates added, a missing
+// covariate taking its training mean); residual holds the same without
+// the confound fit (Pipeline.Unscale).
 func (s *SavedModel) Predict(c *data.Cohort) (score, residual *mat.Dense, err error) {
 	f := s.Fitted
 	if !slices.Equal(c.Regions, f.Regions) {
 		return nil, nil, fmt.Errorf("the cohort's %d regions are not the %d regions the model was trained on (labels and order must match)", len(c.Regions), len(f.Regions))
 	}
-	var cov *mat.Dense
-	if len(f.Confounds) > 0 {
-		cov = mat.NewDense(len(c.Participants), len(f.Confounds), nil)
-		for k, name := range f.Confounds {
-			j := slices.Index(c.Covariates, name)
-			if j < 0 {
-				return nil, nil, fmt.Errorf("the model regressed out %q, which is not a covariate of the cohort (have %v)", name, c.Covariates)
-			}
-			for i, p := range c.Participants {
-				cov.Set(i, k, p.Covariates[j])
-			}
-		}
+	prepared, err := f.Prep.Apply(c)
+	if err != nil {
+		return nil, nil, fmt.Errorf("preparation: %w", err)
 	}
-	residual, err = s.Model.Predict(c.Participants)
+	score, err = s.Model.Predict(prepared.Participants)
 	if err != nil {
 		return nil, nil, err
 	}
-	f.TargetPrep.Unstandardize(residual)
-	score = mat.DenseCopyOf(residual)
-	if cov != nil {
-		tp := f.TargetPrep
-		for i := range c.Participants {
-			for t := range f.Targets {
-				fit := tp.Confounds.At(0, t)
-				for k := range f.Confounds {
-					fit += tp.Confounds.At(1+k, t) * tp.covariate(cov, i, k)
-				}
-				score.Set(i, t, score.At(i, t)+fit)
-			}
-		}
+	if _, cols := score.Dims(); cols != len(f.Targets) {
+		return nil, nil, fmt.Errorf("the model predicts %d targets, %s names %d", cols, FittedFile, len(f.Targets))
+	}
+	residual = mat.DenseCopyOf(score)
+	if err := f.Prep.Unscale(prepared, residual); err != nil {
+		return nil, nil, fmt.Errorf("preparation: %w", err)
+	}
+	if err := f.Prep.Invert(prepared, score); err != nil {
+		return nil, nil, fmt.Errorf("preparation: %w", err)
 	}
 	return score, residual, nil
 }
@@ -189,15 +206,14 @@ func (r *Runner) Refit(ctx context.Context) error {
 		return errors.New("train: Refit without a Models folder")
 	}
 	exp, cohort := r.Design, r.Cohort
-	y, cov, err := scoresAndConfounds(exp.CV, cohort)
-	if err != nil {
+	if _, _, err := scoresAndConfounds(exp.CV, cohort); err != nil {
 		return err
 	}
 	all := Split{Repeat: -1, Fold: -1}
 	for i := range cohort.Participants {
 		all.Train = append(all.Train, i)
 	}
-	fd, err := prepareFold(exp, cohort, all, y, cov, 1)
+	fd, err := prepareFold(exp, cohort, all, 1)
 	if err != nil {
 		return fmt.Errorf("refit on all participants: %w", err)
 	}

@@ -141,3 +141,44 @@ func samePrediction(got, want string) bool {
 	w, err2 := strconv.ParseFloat(want, 64)
 	return err1 == nil && err2 == nil && math.Abs(g-w) <= 1e-6*math.Max(1, math.Abs(w))
 }
+
+// TestPredictReadsVersion1: a fold model whose fitted.json an earlier skein
+// wrote (version 1, testdata/predict/v1/make.sh) predicts byte for byte
+// what that skein's predict wrote for it; a cohort without a covariate
+// the model regressed out is an error naming it.
+func TestPredictReadsVersion1(t *testing.T) {
+	dir := filepath.Join("..", "..", "testdata", "predict", "v1")
+	want, err := os.ReadFile(filepath.Join(dir, "predict.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	exp := filepath.Join(dir, "cohort", "experiment.toml")
+	got := filepath.Join(t.TempDir(), "predict.csv")
+	if code, _, stderr := runSkein(t, "predict", filepath.Join(dir, "model"), exp, "--out", got); code != exitOK {
+		t.Fatalf("predict: exit %d: %s", code, stderr)
+	}
+	if raw, _ := os.ReadFile(got); string(raw) != string(want) {
+		t.Errorf("predict wrote\n%s\nthe skein that saved the model wrote\n%s", raw, want)
+	}
+
+	raw, err := os.ReadFile(exp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	abs, err := filepath.Abs(filepath.Join(dir, "cohort"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := strings.NewReplacer(`"participants.tsv"`, strconv.Quote(filepath.Join(abs, "participants.tsv")),
+		`"regions.txt"`, strconv.Quote(filepath.Join(abs, "regions.txt")),
+		`"fc/{participant_id}_fc.tsv"`, strconv.Quote(filepath.Join(abs, "fc", "{participant_id}_fc.tsv")),
+		`covariates = ["age", "sex", "motion"]`, `covariates = ["age", "sex"]`).Replace(string(raw))
+	noMotion := filepath.Join(t.TempDir(), "experiment.toml")
+	if err := os.WriteFile(noMotion, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := runSkein(t, "predict", filepath.Join(dir, "model"), noMotion, "--out", got)
+	if code == exitOK || !strings.Contains(stderr, `"motion"`) {
+		t.Errorf("cohort without motion: exit %d, stderr %q; want an error naming \"motion\"", code, stderr)
+	}
+}
