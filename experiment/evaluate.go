@@ -79,7 +79,11 @@ func EvaluateWithNulls(ctx context.Context, exp *Experiment, r *train.Runner, re
 	isBaseline := make(map[string]bool)
 	var baselines []string
 	for _, m := range exp.Models {
-		if m.Kind() != "network" {
+		k, err := m.Spec()
+		if err != nil {
+			return nil, fmt.Errorf("model %q: %w", m.Name, err)
+		}
+		if k.Baseline {
 			isBaseline[m.Name] = true
 			baselines = append(baselines, m.Name)
 		}

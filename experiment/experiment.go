@@ -12,6 +12,7 @@ import (
 	"github.com/pelletier/go-toml/v2"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -168,9 +169,10 @@ type Comparison struct {
 	Reference string `toml:"reference"`
 }
 
-// Validate reports a reference that names no model of models, a network,
-// or a swept model (which the run replaces by its variants); the error
-// names the key comparison.reference.
+// Validate reports a reference that names no model of models, a model
+// whose kind is not a baseline (model.Kind.Baseline), or a swept model
+// (which the run replaces by its variants); the error names the key
+// comparison.reference.
 func (c Comparison) Validate(models []train.ModelConfig, sweeps []Sweep) error {
 	const key = "comparison.reference"
 	if c.Reference == "" {
@@ -179,23 +181,33 @@ func (c Comparison) Validate(models []train.ModelConfig, sweeps []Sweep) error {
 	swept := func(name string) bool {
 		return slices.ContainsFunc(sweeps, func(s Sweep) bool { return s.Model == name })
 	}
-	kind := ""
+	var ref *train.ModelConfig
 	if i := slices.IndexFunc(models, func(m train.ModelConfig) bool { return m.Name == c.Reference }); i >= 0 {
 		if swept(c.Reference) {
 			return fmt.Errorf("%s: model %q is swept into variants; name one of them, such as %q", key, c.Reference, sweepGrid(c.Reference, sweeps)[0].Name)
 		}
-		kind = models[i].Kind()
+		ref = &models[i]
 	}
-	for _, m := range models { // a variant of a swept model, before Expand
+	for i, m := range models { // a variant of a swept model, before Expand
 		if swept(m.Name) && slices.ContainsFunc(sweepGrid(m.Name, sweeps), func(v Variant) bool { return v.Name == c.Reference }) {
-			kind = m.Kind()
+			ref = &models[i]
 		}
 	}
-	switch kind {
-	case "":
+	if ref == nil {
 		return fmt.Errorf("%s: no model is named %q", key, c.Reference)
-	case "network":
-		return fmt.Errorf("%s: model %q is a network; the reference must be a baseline (mean, ridge, kernel_ridge or cpm)", key, c.Reference)
+	}
+	k, err := ref.Spec()
+	if err != nil {
+		return fmt.Errorf("%s: model %q: %w", key, ref.Name, err)
+	}
+	if !k.Baseline {
+		var baselines []string
+		for _, k := range model.Kinds() {
+			if k.Baseline {
+				baselines = append(baselines, k.Name)
+			}
+		}
+		return fmt.Errorf("%s: model %q is a %s, not a baseline; the reference must be a baseline (%s)", key, c.Reference, k.Name, strings.Join(baselines, ", "))
 	}
 	return nil
 }
@@ -231,7 +243,7 @@ func describeTOMLError(err error) error {
 func (e *Experiment) Design() *train.Design {
 	baselines := 0
 	for _, m := range e.Models {
-		if m.Kind() != "network" {
+		if k, err := m.Spec(); err == nil && k.Baseline {
 			baselines++
 		}
 	}

@@ -23,7 +23,7 @@ func TestParseExperimentErrors(t *testing.T) {
 		{"wrong type", "seed = \"one\"\n", `key "seed"`},
 		{"duplicate model", "[[model]]\nname = \"a\"\n[model.mean]\n[[model]]\nname = \"a\"\n[model.mean]\n", `name "a" is used twice`},
 		{"model without name", "[[model]]\n[model.mean]\n", `key "name" is required`},
-		{"model without kind", "[[model]]\nname = \"a\"\n", `no baseline table`},
+		{"model without kind", "[[model]]\nname = \"a\"\n", `model "a": no kind table is set; add one of [model.network], [model.mean]`},
 		{"two kinds", "[[model]]\nname = \"a\"\n[model.mean]\n[model.ridge]\n", `choose one`},
 		{"bad cv", "[cv]\nfolds = 1\n", `cv.folds`},
 	}

@@ -1,6 +1,7 @@
 package experiment
 
 import (
+	"fmt"
 	"slices"
 
 	"github.com/skein-neuro/skein/train"
@@ -35,7 +36,7 @@ type BatchUnit struct {
 // of Units, in its order, then, when the experiment has a permutation
 // test, each tested model's permutations, model by model, in blocks of
 // block permutations. For models that fit score columns together
-// (model.ColumnWise: the baselines) a block is rounded up to a multiple of
+// (model.Kind.ColumnWise: the baselines) a block is rounded up to a multiple of
 // permutation.chunk, so that the blocks fit the same chunks of
 // permutations as a single-machine run and give the same numbers. block ≤
 // 0 means DefaultBlock for the other models (networks, which retrain for
@@ -56,7 +57,7 @@ func BatchUnits(r *train.Runner, pc Permutation, block int) ([]BatchUnit, error)
 		if len(pc.Models) > 0 && !slices.Contains(pc.Models, m.Name) {
 			continue
 		}
-		step, err := permutationStep(r, m, pc.Chunk)
+		step, err := permutationStep(m, pc.Chunk)
 		if err != nil {
 			return nil, err
 		}
@@ -80,11 +81,15 @@ func BatchUnits(r *train.Runner, pc Permutation, block int) ([]BatchUnit, error)
 const DefaultBlock = 10
 
 // permutationStep returns how many permutations RunPermutations fits at
-// once for m: chunk for a model.ColumnWise, else 1.
-func permutationStep(r *train.Runner, m train.ModelConfig, chunk int) (int, error) {
-	columnWise, err := r.ColumnWise(m)
-	if err != nil || !columnWise {
-		return 1, err
+// once for m: chunk when m's kind fits score columns independently
+// (model.Kind.ColumnWise), else 1.
+func permutationStep(m train.ModelConfig, chunk int) (int, error) {
+	k, err := m.Spec()
+	if err != nil {
+		return 1, fmt.Errorf("model %q: %w", m.Name, err)
+	}
+	if !k.ColumnWise {
+		return 1, nil
 	}
 	return max(1, chunk), nil
 }

@@ -38,8 +38,9 @@ type Regressor interface {
 // ColumnWise is implemented by regressors that fit each column of Y
 // independently of the others and fit many columns for little more than
 // the cost of one (ridge, kernel ridge: one decomposition serves every
-// column). The permutation test stacks permuted scores as extra columns of
-// Y for them instead of refitting once per permutation.
+// column). A kind whose regressors are ColumnWise declares it
+// (Kind.ColumnWise), and the permutation test then stacks permuted scores
+// as extra columns of Y instead of refitting once per permutation.
 type ColumnWise interface {
 	Regressor
 	FitsColumnsIndependently()

@@ -2,13 +2,13 @@ package train
 
 import (
 	"github.com/skein-neuro/skein/model"
-	"github.com/skein-neuro/skein/model/graphnet"
 )
 
-// buildModel makes the untrained model of a unit.
+// buildModel makes the untrained model of a unit with its kind's New.
 func buildModel(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error) {
-	if cfg.Network != nil {
-		return graphnet.New(*cfg.Network, p, targets, seed)
+	k, err := cfg.Spec()
+	if err != nil {
+		return nil, err
 	}
-	return cfg.Config.New(targets, seed)
+	return k.New(cfg.Settings(), p, targets, seed)
 }

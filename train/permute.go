@@ -106,30 +106,14 @@ type NullRun struct {
 	Predictions []model.Prediction
 }
 
-// ColumnWise reports whether the model m fits score columns independently
-// (model.ColumnWise), so that RunPermutations fits many permutations at
-// once as extra columns.
-func (r *Runner) ColumnWise(m ModelConfig) (bool, error) {
-	newModel := r.newModel
-	if newModel == nil {
-		newModel = buildModel
-	}
-	probe, err := newModel(m, r.Cohort.P(), len(r.Cohort.Targets), 0)
-	if err != nil {
-		return false, fmt.Errorf("model %q: %w", m.Name, err)
-	}
-	_, ok := probe.(model.ColumnWise)
-	return ok, nil
-}
-
 // RunPermutations repeats the whole cross-validation of the named models
 // (all when names is empty) once per permutation of the participants'
 // rows (scores and covariates together, as Permutation describes), under
 // the same splits and inner validation parts as Run, and passes each
 // model's predictions for each permutation to null as they are made.
 // Each permuted run prepares its targets as Run does, regressing the
-// permuted scores on the permuted confounds (cv.confounds). Models that
-// fit score columns independently (model.ColumnWise) fit chunk
+// permuted scores on the permuted confounds (cv.confounds). Models whose
+// kind fits score columns independently (model.Kind.ColumnWise) fit chunk
 // permutations at once as extra score columns, reusing each fold's
 // decomposition, each column regressed on the confounds of its own
 // permutation (FitTargetPrepBlocks); the others are refitted per
@@ -144,12 +128,12 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 		if len(names) > 0 && !slices.Contains(names, m.Name) {
 			continue
 		}
-		columnWise, err := r.ColumnWise(m)
+		k, err := m.Spec()
 		if err != nil {
-			return err
+			return fmt.Errorf("model %q: %w", m.Name, err)
 		}
 		step := 1
-		if columnWise {
+		if k.ColumnWise {
 			step = max(1, chunk)
 		}
 		for first := 0; first < len(perms); first += step {

@@ -478,10 +478,12 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 }
 
 // wantsInnerLoss reports whether a run of exp records the inner
-// validation error of model cfg: cfg is a baseline, and exp names no
-// comparison.reference and has at least two baselines to choose from.
+// validation error of model cfg: cfg is a baseline (model.Kind.Baseline),
+// and exp names no comparison.reference and has at least two baselines to
+// choose from.
 func wantsInnerLoss(d *Design, cfg ModelConfig) bool {
-	return d.InnerLoss && cfg.Kind() != "network"
+	k, err := cfg.Spec()
+	return d.InnerLoss && err == nil && k.Baseline
 }
 
 // innerLoss fits reg, a fresh model, on the training part of fd alone and

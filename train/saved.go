@@ -14,8 +14,6 @@ import (
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/internal/atomicfile"
 	"github.com/skein-neuro/skein/model"
-	"github.com/skein-neuro/skein/model/graphnet"
-	"github.com/skein-neuro/skein/model/linear"
 )
 
 // FittedFile is the file beside each saved fold model that holds what was
@@ -114,18 +112,16 @@ func LoadModel(dir string) (*SavedModel, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
-	sm := &SavedModel{Dir: dir, Fitted: f}
-	switch f.Kind {
-	case "network":
-		if sm.Model, err = graphnet.Load(dir); err != nil {
-			return nil, err
-		}
-	case "mean", "ridge":
-		if sm.Model, err = linear.Load(dir); err != nil {
-			return nil, err
-		}
-	default:
+	k, err := model.Lookup(f.Kind)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	if k.Load == nil {
 		return nil, fmt.Errorf("%s: models of kind %q are not saved", path, f.Kind)
+	}
+	sm := &SavedModel{Dir: dir, Fitted: f}
+	if sm.Model, err = k.Load(dir); err != nil {
+		return nil, err
 	}
 	return sm, nil
 }

@@ -101,8 +101,8 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 	pg.Overview = append(pg.Overview, fmt.Sprintf("Seed %d: the same experiment file, data and seed give the same results.", exp.Seed))
 	for _, m := range exp.Models {
 		row := modelRow{Name: m.Name, Kind: m.Kind()}
-		if m.Network != nil {
-			row.Detail = fmt.Sprintf("%d branches, up to %d epochs", len(m.Network.Branches), m.Network.Epochs)
+		if k, err := m.Spec(); err == nil && k.Describe != nil {
+			row.Detail = k.Describe(m.Settings())
 		}
 		pg.Models = append(pg.Models, row)
 	}

@@ -154,19 +154,15 @@ func (r *Run) ImportanceFigures(sums []ModelImportance) ([]Figure, error) {
 	return figs, nil
 }
 
-// importanceKind says how a model's importance is defined.
+// importanceKind says how a model's importance is defined: its kind's
+// model.Importance.
 func (r *Run) importanceKind(model string) string {
 	for _, m := range r.Experiment.Models {
 		if m.Name != model {
 			continue
 		}
-		switch m.Kind() {
-		case "network":
-			return "Gradient × input saliency of the test participants, summed over branches"
-		case "ridge", "kernel_ridge":
-			return "Activation pattern cov(edge, prediction) over the test participants (Haufe et al. 2014)"
-		case "cpm":
-			return "Selected edges, +1 in the positive and −1 in the negative network"
+		if k, err := m.Spec(); err == nil && k.Importance.Description != "" {
+			return k.Importance.Description
 		}
 	}
 	return "Edge importance"

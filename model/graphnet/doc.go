@@ -2,7 +2,8 @@
 // edge-to-edge, edge-to-node and node-to-graph filters (Kawahara et al.
 // 2017), graph convolution over the structural graph (Kipf & Welling 2017),
 // two-branch fusion of modalities and a multi-layer perceptron head. A
-// Network is a model.Regressor and a model.Iterative.
+// Network is a model.Regressor and a model.Iterative; the package
+// registers it as the model.Kind "network", configured by Config.
 //
 // # Architecture
 //

@@ -138,13 +138,13 @@ type CPMConfig struct {
 func (c Config) Kind() string {
 	switch {
 	case c.Mean != nil:
-		return "mean"
+		return kindMean
 	case c.Ridge != nil:
-		return "ridge"
+		return kindRidge
 	case c.KernelRidge != nil:
-		return "kernel_ridge"
+		return kindKernelRidge
 	case c.CPM != nil:
-		return "cpm"
+		return kindCPM
 	}
 	return ""
 }
@@ -152,16 +152,16 @@ func (c Config) Kind() string {
 func (c Config) kinds() []string {
 	var kinds []string
 	if c.Mean != nil {
-		kinds = append(kinds, "mean")
+		kinds = append(kinds, kindMean)
 	}
 	if c.Ridge != nil {
-		kinds = append(kinds, "ridge")
+		kinds = append(kinds, kindRidge)
 	}
 	if c.KernelRidge != nil {
-		kinds = append(kinds, "kernel_ridge")
+		kinds = append(kinds, kindKernelRidge)
 	}
 	if c.CPM != nil {
-		kinds = append(kinds, "cpm")
+		kinds = append(kinds, kindCPM)
 	}
 	return kinds
 }

@@ -2,9 +2,11 @@
 // the mean predictor (Mean), ridge regression on connectome edges (Ridge),
 // kernel ridge regression between participants (KernelRidge) and
 // connectome-based predictive modelling (CPM). Each is a model.Regressor
-// and a model.ColumnWise; Config chooses one from the [model.mean],
-// [model.ridge], [model.kernel_ridge] or [model.cpm] table of an
-// experiment file.
+// and a model.ColumnWise, registered as a model.Kind named by its table of
+// an experiment file: [model.mean], [model.ridge], [model.kernel_ridge] or
+// [model.cpm], whose settings are MeanConfig, RidgeConfig,
+// KernelRidgeConfig and CPMConfig. Config groups the four tables; a saved
+// mean predictor or ridge model is read back by Load.
 //
 // The baselines read a participant's connectome as its edges: the upper
 // triangle (i < j) of the p × p matrix, p(p−1)/2 values in the order of

@@ -53,7 +53,7 @@ func (m *Mean) Save(dir string) error {
 	if m.means == nil {
 		return errSaveUnfitted
 	}
-	return writeManifest(dir, linearManifestJSON{Kind: "mean", Means: m.means})
+	return writeManifest(dir, linearManifestJSON{Kind: kindMean, Means: m.means})
 }
 
 // Save writes the fitted ridge model to the folder dir: its weights on the
@@ -75,7 +75,7 @@ func (r *Ridge) Save(dir string) error {
 	if err := os.WriteFile(filepath.Join(dir, linearWeights), buf.Bytes(), 0o644); err != nil {
 		return err
 	}
-	return writeManifest(dir, linearManifestJSON{Kind: "ridge", Input: r.cfg.Input, P: r.p, Alphas: r.alphas, Intercept: r.intercept})
+	return writeManifest(dir, linearManifestJSON{Kind: kindRidge, Input: r.cfg.Input, P: r.p, Alphas: r.alphas, Intercept: r.intercept})
 }
 
 func writeManifest(dir string, m linearManifestJSON) error {
@@ -93,7 +93,11 @@ func writeManifest(dir string, m linearManifestJSON) error {
 // Load reads a baseline saved by Save from the folder dir. A file of an
 // unknown format or version, or weights that do not match the manifest,
 // are errors naming the file.
-func Load(dir string) (model.Regressor, error) {
+func Load(dir string) (model.Regressor, error) { return load(dir, "") }
+
+// load is Load, refusing a baseline of another kind than want unless want
+// is empty.
+func load(dir, want string) (model.Regressor, error) {
 	path := filepath.Join(dir, linearManifest)
 	raw, err := os.ReadFile(path)
 	if err != nil {
@@ -106,13 +110,16 @@ func Load(dir string) (model.Regressor, error) {
 	if m.Format != linearFormat || m.Version != linearVersion {
 		return nil, fmt.Errorf("%s: format %q version %d, want %s version %d", path, m.Format, m.Version, linearFormat, linearVersion)
 	}
+	if want != "" && m.Kind != want {
+		return nil, fmt.Errorf("%s: holds a saved %s model, not %s", path, m.Kind, want)
+	}
 	switch m.Kind {
-	case "mean":
+	case kindMean:
 		if len(m.Means) == 0 {
 			return nil, fmt.Errorf("%s: no means", path)
 		}
 		return &Mean{means: m.Means}, nil
-	case "ridge":
+	case kindRidge:
 		wpath := filepath.Join(dir, linearWeights)
 		f, err := os.Open(wpath)
 		if err != nil {

@@ -1,0 +1,111 @@
+package linear
+
+import (
+	"fmt"
+
+	"github.com/skein-neuro/skein/model"
+)
+
+// The names of the baselines' kinds: the keys of their tables in an
+// experiment file.
+const (
+	kindMean        = "mean"
+	kindRidge       = "ridge"
+	kindKernelRidge = "kernel_ridge"
+	kindCPM         = "cpm"
+)
+
+// patternImportance is the edge importance of ridge and kernel ridge.
+var patternImportance = model.Importance{
+	Method:      "activation pattern",
+	Description: "Activation pattern cov(edge, prediction) over the test participants (Haufe et al. 2014)",
+}
+
+// The baselines register themselves as kinds of model: all are baselines
+// and fit score columns independently; the mean predictor and ridge can
+// be saved.
+func init() {
+	model.Register(model.Kind{
+		Name: kindMean, Baseline: true, ColumnWise: true,
+		New: func(s model.Settings, _, targets int, seed int64) (model.Regressor, error) {
+			c, ok := s.(*MeanConfig)
+			if !ok {
+				return nil, settingsError(kindMean, s, c)
+			}
+			return Config{Mean: c}.New(targets, seed)
+		},
+		Load: loader(kindMean),
+	})
+	model.Register(model.Kind{
+		Name: kindRidge, Baseline: true, ColumnWise: true, Importance: patternImportance,
+		New: func(s model.Settings, _, targets int, seed int64) (model.Regressor, error) {
+			c, ok := s.(*RidgeConfig)
+			if !ok {
+				return nil, settingsError(kindRidge, s, c)
+			}
+			return Config{Ridge: c}.New(targets, seed)
+		},
+		Load: loader(kindRidge),
+	})
+	model.Register(model.Kind{
+		Name: kindKernelRidge, Baseline: true, ColumnWise: true, Importance: patternImportance,
+		New: func(s model.Settings, _, targets int, seed int64) (model.Regressor, error) {
+			c, ok := s.(*KernelRidgeConfig)
+			if !ok {
+				return nil, settingsError(kindKernelRidge, s, c)
+			}
+			return Config{KernelRidge: c}.New(targets, seed)
+		},
+	})
+	model.Register(model.Kind{
+		Name: kindCPM, Baseline: true, ColumnWise: true,
+		Importance: model.Importance{
+			Method:      "selected edges",
+			Description: "Selected edges, +1 in the positive and −1 in the negative network",
+		},
+		New: func(s model.Settings, _, targets int, seed int64) (model.Regressor, error) {
+			c, ok := s.(*CPMConfig)
+			if !ok {
+				return nil, settingsError(kindCPM, s, c)
+			}
+			return Config{CPM: c}.New(targets, seed)
+		},
+	})
+}
+
+func settingsError(kind string, got model.Settings, want any) error {
+	return fmt.Errorf("linear: kind %s takes settings of type %T, not %T", kind, want, got)
+}
+
+// loader returns the Load of a kind: Load, refusing a folder that holds a
+// baseline of another kind.
+func loader(kind string) func(dir string) (model.Regressor, error) {
+	return func(dir string) (model.Regressor, error) { return load(dir, kind) }
+}
+
+// SetDefaults does nothing: the mean predictor has no settings.
+func (*MeanConfig) SetDefaults() {}
+
+// Validate returns nil: the mean predictor has no settings.
+func (MeanConfig) Validate() error { return nil }
+
+// SetDefaults fills every unset field with its documented default.
+func (c *RidgeConfig) SetDefaults() { (&Config{Ridge: c}).SetDefaults() }
+
+// Validate reports the first setting that cannot work, naming its key
+// (for example "model.ridge.alphas").
+func (c RidgeConfig) Validate() error { return Config{Ridge: &c}.Validate() }
+
+// SetDefaults fills every unset field with its documented default.
+func (c *KernelRidgeConfig) SetDefaults() { (&Config{KernelRidge: c}).SetDefaults() }
+
+// Validate reports the first setting that cannot work, naming its key
+// (for example "model.kernel_ridge.kernel").
+func (c KernelRidgeConfig) Validate() error { return Config{KernelRidge: &c}.Validate() }
+
+// SetDefaults fills every unset field with its documented default.
+func (c *CPMConfig) SetDefaults() { (&Config{CPM: c}).SetDefaults() }
+
+// Validate reports the first setting that cannot work, naming its key
+// (for example "model.cpm.p_threshold").
+func (c CPMConfig) Validate() error { return Config{CPM: &c}.Validate() }

@@ -1,0 +1,125 @@
+package train
+
+import (
+	"encoding/json"
+	"errors"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+
+	"github.com/skein-neuro/skein/model"
+	"github.com/skein-neuro/skein/model/graphnet"
+	"github.com/skein-neuro/skein/model/linear"
+)
+
+// TestKindTablesAreRegistered: the kind tables of ModelConfig and the
+// registered kinds are the same set of names, so that every table builds
+// and every kind can be configured.
+func TestKindTablesAreRegistered(t *testing.T) {
+	var tables, kinds []string
+	for _, tb := range (ModelConfig{}).tables() {
+		tables = append(tables, tb.key)
+	}
+	for _, k := range model.Kinds() {
+		kinds = append(kinds, k.Name)
+	}
+	slices.Sort(tables)
+	if !slices.Equal(tables, kinds) {
+		t.Errorf("ModelConfig has kind tables %v, the registry kinds %v", tables, kinds)
+	}
+}
+
+func TestModelConfigKind(t *testing.T) {
+	tests := []struct {
+		cfg  ModelConfig
+		want string
+	}{
+		{ModelConfig{Network: &graphnet.Config{}}, "network"},
+		{ModelConfig{Config: linear.Config{Mean: &linear.MeanConfig{}}}, "mean"},
+		{ModelConfig{Config: linear.Config{Ridge: &linear.RidgeConfig{}}}, "ridge"},
+		{ModelConfig{Config: linear.Config{KernelRidge: &linear.KernelRidgeConfig{}}}, "kernel_ridge"},
+		{ModelConfig{Config: linear.Config{CPM: &linear.CPMConfig{}}}, "cpm"},
+	}
+	for _, tt := range tests {
+		if got := tt.cfg.Kind(); got != tt.want {
+			t.Errorf("Kind() = %q, want %q", got, tt.want)
+		}
+		k, err := tt.cfg.Spec()
+		if err != nil || k.Name != tt.want {
+			t.Errorf("%s: Spec() = %q, %v", tt.want, k.Name, err)
+		}
+		if s := tt.cfg.Settings(); s == nil {
+			t.Errorf("%s: Settings() = nil", tt.want)
+		}
+	}
+}
+
+func TestModelConfigSpecErrors(t *testing.T) {
+	tests := []struct {
+		name string
+		cfg  ModelConfig
+		want string
+	}{
+		{"none", ModelConfig{}, "no kind table is set; add one of [model.network], [model.mean], [model.ridge], [model.kernel_ridge] or [model.cpm]"},
+		{"two", ModelConfig{Network: &graphnet.Config{}, Config: linear.Config{Ridge: &linear.RidgeConfig{}}},
+			"tables model.network and model.ridge are both set; choose one"},
+		{"three", ModelConfig{Config: linear.Config{Mean: &linear.MeanConfig{}, Ridge: &linear.RidgeConfig{}, CPM: &linear.CPMConfig{}}},
+			"tables model.mean and model.ridge and model.cpm are all set; choose one"},
+	}
+	for _, tt := range tests {
+		if _, err := tt.cfg.Spec(); err == nil || err.Error() != tt.want {
+			t.Errorf("%s: Spec() error %v, want %q", tt.name, err, tt.want)
+		}
+		if err := tt.cfg.Validate(); err == nil || err.Error() != tt.want {
+			t.Errorf("%s: Validate() error %v, want %q", tt.name, err, tt.want)
+		}
+		if _, err := buildModel(tt.cfg, 4, 1, 1); err == nil || err.Error() != tt.want {
+			t.Errorf("%s: buildModel error %v, want %q", tt.name, err, tt.want)
+		}
+	}
+}
+
+// TestModelConfigValidateSettings: Validate passes on the kind's own
+// error, naming its key, and SetDefaults fills the kind's defaults.
+func TestModelConfigValidateSettings(t *testing.T) {
+	cfg := ModelConfig{Name: "r", Config: linear.Config{Ridge: &linear.RidgeConfig{Input: "both", InnerFolds: 1}}}
+	cfg.SetDefaults()
+	if cfg.Ridge.Standardize != linear.StandardizeZScore {
+		t.Errorf("SetDefaults: standardize %q, want %q", cfg.Ridge.Standardize, linear.StandardizeZScore)
+	}
+	if err := cfg.Validate(); err == nil || !strings.Contains(err.Error(), "model.ridge.inner_folds") {
+		t.Errorf("Validate: error %v, want one naming model.ridge.inner_folds", err)
+	}
+}
+
+// TestLoadModelUnknownKind: a fitted.json of a kind no package registered
+// is refused with an error naming the file and the kind.
+func TestLoadModelUnknownKind(t *testing.T) {
+	dir := t.TempDir()
+	f := Fitted{Format: "skein-fitted", Version: 1, Kind: "lasso", Targets: []string{"a"},
+		TargetPrep: &TargetPrep{Mean: []float64{0}, SD: []float64{1}}}
+	if err := writeFitted(dir, f); err != nil {
+		t.Fatal(err)
+	}
+	_, err := LoadModel(dir)
+	if !errors.Is(err, model.ErrUnknownKind) || !strings.Contains(err.Error(), FittedFile) || !strings.Contains(err.Error(), `"lasso"`) {
+		t.Errorf("LoadModel: error %v, want ErrUnknownKind naming %s and \"lasso\"", err, FittedFile)
+	}
+	f.Kind = "cpm"
+	if err := writeFitted(dir, f); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := LoadModel(dir); err == nil || !strings.Contains(err.Error(), `models of kind "cpm" are not saved`) {
+		t.Errorf("LoadModel of kind cpm: error %v, want one saying it is not saved", err)
+	}
+}
+
+func writeFitted(dir string, f Fitted) error {
+	raw, err := json.Marshal(f)
+	if err != nil {
+		return err
+	}
+	return os.WriteFile(filepath.Join(dir, FittedFile), raw, 0o644)
+}
