@@ -98,8 +98,8 @@ func TestModelConfigValidateSettings(t *testing.T) {
 // is refused with an error naming the file and the kind.
 func TestLoadModelUnknownKind(t *testing.T) {
 	dir := t.TempDir()
-	f := Fitted{Format: "skein-fitted", Version: 1, Kind: "lasso", Targets: []string{"a"},
-		TargetPrep: &TargetPrep{Mean: []float64{0}, SD: []float64{1}}}
+	f := Fitted{Format: "skein-fitted", Version: FittedVersion, Kind: "lasso", Targets: []string{"a"},
+		Prep: &Pipeline{Steps: []Prep{&TargetPrep{Mean: []float64{0}, SD: []float64{1}}}}}
 	if err := writeFitted(dir, f); err != nil {
 		t.Fatal(err)
 	}
