@@ -6,4 +6,7 @@
 // Data flow: files on disk -> Load -> *Cohort, whose Participants every model
 // learns from. Nothing in this package is fitted across participants, so
 // nothing here can leak information between cross-validation folds.
+// Every file error names its place (FileError, matched by ErrBadFile).
+//
+// data is the bottom of skein's layers: it imports no other skein package.
 package data

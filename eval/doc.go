@@ -4,15 +4,13 @@
 // information (NMI, AMI) of equal-frequency bins, with NMI's chance level,
 // pooled and per fold (Score, Summarize), and the statistics that say
 // whether a result beats chance or another model: permutation p-values
-// (PermutationPValue, and PermutationTest, which reruns a train.Runner
-// with the participants table permuted against the connectomes), the
+// (PermutationPValue; null distributions assembled from the scores of
+// permuted runs, AssembleNulls), the
 // corrected resampled t-test over distinct folds (CorrectedTTest,
 // DuplicateFolds), bootstrap intervals (BootstrapCI) and the comparison of
 // every model with a reference baseline chosen without the test folds
 // (ChooseReference, Compare). The metrics are usable alone, on predictions
-// made anywhere (ReadPredictions); Evaluate and Report turn a finished run
-// into the files of its run folder, with the statistical cautions the run
-// triggered.
+// made anywhere (ReadPredictions, Summary.WriteText).
 //
 // Pooled Pearson r of cross-validated predictions is biased downwards by
 // the folds' training means; r within folds is not. Binning keeps tied
@@ -23,6 +21,9 @@
 // to rounding on the scale of the scores (ConstantPredictions) have no
 // correlation (NaN) and NMI and AMI 0.
 //
-// Figures and the HTML report are in eval/report; comparisons of runs and
-// drift rules in eval/runs.
+// eval works on numbers and prediction files only: it imports data (for
+// positioned file errors) and model (for the Prediction row) and must not
+// import train or experiment. Running cross-validation, the permutation
+// test's reruns and the run folder are package experiment's; figures and
+// the HTML report are in experiment/report.
 package eval

@@ -1,20 +1,23 @@
-// Package train runs an experiment: it reads the experiment file
-// (Experiment, ReadExperiment), splits the cohort into repeated (grouped,
-// optionally stratified) k-fold cross-validation folds (Folds), fits
-// everything learned from data on training parts only (TargetPrep, inner
-// validation), trains every model under the same splits and collects their
-// test predictions (Runner, Result).
+// Package train cross-validates models on a cohort: it splits the cohort
+// into repeated (grouped, optionally stratified) k-fold folds (Folds), fits
+// the fold's preparation on its training participants only (Prep,
+// Pipeline: target standardisation and confound regression today), picks
+// the inner validation part, trains every model of a Design under the same
+// splits and collects their test predictions (Runner, Result).
 //
 // A run is made of independent units, one model on one fold of one repeat,
-// each seeded from the experiment's seed and its own identity, so results
-// do not depend on how many run at once. Units are checkpointed in the
-// run's work folder (RunDir) so that an interrupted run resumes, and the
-// same units can be spread over a batch cluster (BatchUnit) and merged.
-// The package also repeats the cross-validation under permuted scores for
-// the permutation test (Permutations, Runner.RunPermutations), on nested
-// training subsets for sample-size curves, and over sweep grids; saves
-// fold models with what was fitted beside them (Fitted, LoadModel); and
-// chooses the parallelism of a run (ChooseParallelism).
+// each seeded from the design's seed and its own identity, so results do
+// not depend on how many run at once. Finished units are kept as
+// checkpoints (Checkpoints) so that an interrupted run resumes and units
+// run on separate machines can be gathered. The package also repeats the
+// cross-validation under permutations of the participants table
+// (Permutations, Runner.RunPermutations) and on nested training subsets
+// for sample-size curves (Runner.RunSampleSizes); saves fold models with
+// what was fitted beside them (Fitted, LoadModel); and chooses the
+// parallelism of a run (ChooseParallelism).
 //
-// Scoring the predictions is package eval's.
+// train owns the Runner, the fold preparation, checkpoints and saved fold
+// models. It imports data and model (and model kinds through the registry)
+// and must not import eval or experiment: scoring is eval's, the
+// experiment file and the run folder are experiment's.
 package train

@@ -18,12 +18,16 @@
 //	observed-MODEL-TARGET.png     observed against predicted scores, pooled test predictions
 //	comparison-TARGET.png         per-fold Pearson r and MAE of every model
 //	learning-MODEL.png            training and inner-validation loss per epoch of each fold
-//	null-MODEL-TARGET.png         permutation null distribution of Pearson r
+//	null-MODEL-TARGET.png         permutation null distribution of r within folds
 //	importance-MODEL-TARGET.png   fold-averaged edge importance, region × region
 //	filters-MODEL-bB.png          first-layer filters of branch B of a network, region × channel
 //	cohort.png                    functional mean connectivity and structural density of the cohort
 //
 // File names are made safe for any file system (see fileName).
+//
+// report reads the run folder through package experiment's names and
+// readers and draws; it imports experiment, eval, train (for saved models)
+// and data, and nothing but the command imports it.
 //
 // skein is research software: its reports are not a diagnostic device.
 package report
