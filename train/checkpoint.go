@@ -177,3 +177,30 @@ func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 	}
 	return out, true, nil
 }
+
+// A Checkpoint is what the file of a finished unit says beyond its
+// predictions, for readers of a run folder.
+type Checkpoint struct {
+	Model        string
+	Repeat, Fold int // from 0
+	// Importance holds the unit's edge importance maps, one p × p
+	// row-major map per target; nil when the unit computed none.
+	Importance [][]float64
+}
+
+// ReadCheckpoint reads the checkpoint file at path (one of the files
+// Checkpoints keeps).
+func ReadCheckpoint(path string) (*Checkpoint, error) {
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	var f unitFile
+	if err := json.Unmarshal(raw, &f); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	if f.Repeat < 1 || f.Fold < 1 {
+		return nil, fmt.Errorf("%s: repeat %d, fold %d: checkpoints number repeats and folds from 1", path, f.Repeat, f.Fold)
+	}
+	return &Checkpoint{Model: f.Model, Repeat: f.Repeat - 1, Fold: f.Fold - 1, Importance: f.Importance}, nil
+}

@@ -1,18 +1,13 @@
 package report
 
 import (
-	"bytes"
-	"encoding/json"
-	"errors"
 	"fmt"
-	"io/fs"
 	"math"
-	"os"
 	"path/filepath"
 	"sort"
-	"strings"
 
-	"codeberg.org/sbinet/npyio/npz"
+	"github.com/skein-neuro/skein/model/graphnet"
+	"github.com/skein-neuro/skein/train"
 	"gonum.org/v1/gonum/stat"
 )
 
@@ -22,114 +17,31 @@ type SavedFilters struct {
 	Model        string
 	Repeat, Fold int
 	Regions      []string // from fitted.json; nil when absent
-	Branches     []BranchFilters
+	Branches     []graphnet.Filters
 }
 
-// BranchFilters are the first-layer filters of one branch: Weights[c] is
-// the length-p filter of output channel c, averaged over input channels.
-// Array names the weight array it came from (for an edge-to-edge layer
-// its row filter).
-type BranchFilters struct {
-	Branch  int
-	Array   string
-	Weights [][]float64 // channels × p
-}
-
-// savedManifest is the part of a saved network's manifest.json (see
-// model/graphnet's documentation) that a report reads.
-type savedManifest struct {
-	Format string `json:"format"`
-	P      int    `json:"p"`
-	Arrays []struct {
-		Name  string `json:"name"`
-		Shape []int  `json:"shape"`
-	} `json:"arrays"`
-}
-
-type savedFitted struct {
-	Model   string   `json:"model"`
-	Repeat  int      `json:"repeat"`
-	Fold    int      `json:"fold"`
-	Regions []string `json:"regions"`
-}
-
-// readFilters reads the first-layer filters of every saved network under
-// dir (models/), sorted by model, repeat and fold. A branch whose first
-// layer has no per-region filter (shape (O, C, p)) is left out.
+// readFilters reads the first-layer filters of every saved fold network
+// under dir (models/), through train.LoadModel, sorted by model, repeat
+// and fold. Networks refitted on all participants, other kinds, and
+// branches whose first layer has no per-region filter are left out.
 func readFilters(dir string) ([]SavedFilters, error) {
-	manifests, err := filepath.Glob(filepath.Join(dir, "*", "*", "manifest.json"))
+	fitted, err := filepath.Glob(filepath.Join(dir, "*", "*", train.FittedFile))
 	if err != nil {
 		return nil, err
 	}
 	var out []SavedFilters
-	for _, mpath := range manifests {
-		unit := filepath.Dir(mpath)
-		raw, err := os.ReadFile(mpath)
+	for _, path := range fitted {
+		saved, err := train.LoadModel(filepath.Dir(path))
 		if err != nil {
 			return nil, err
 		}
-		var m savedManifest
-		if err := json.Unmarshal(raw, &m); err != nil {
-			return nil, fmt.Errorf("%s: %w", mpath, err)
-		}
-		if m.Format != "skein-graphnet" {
+		net, ok := saved.Model.(*graphnet.Network)
+		if !ok || saved.Fitted.Repeat < 1 {
 			continue
 		}
-		s := SavedFilters{Model: filepath.Base(filepath.Dir(unit))}
-		fpath := filepath.Join(unit, "fitted.json")
-		if raw, err := os.ReadFile(fpath); err == nil {
-			var f savedFitted
-			if err := json.Unmarshal(raw, &f); err != nil {
-				return nil, fmt.Errorf("%s: %w", fpath, err)
-			}
-			// fitted.json numbers repeats and folds from 1.
-			s.Model, s.Repeat, s.Fold, s.Regions = f.Model, f.Repeat-1, f.Fold-1, f.Regions
-		} else if !errors.Is(err, fs.ErrNotExist) {
-			return nil, err
-		} else if _, err := fmt.Sscanf(filepath.Base(unit), "r%d-f%d", &s.Repeat, &s.Fold); err == nil {
-			s.Repeat--
-			s.Fold--
-		}
-		wpath := filepath.Join(unit, "weights.npz")
-		wraw, err := os.ReadFile(wpath)
-		if err != nil {
-			return nil, err
-		}
-		zr, err := npz.NewReader(bytes.NewReader(wraw), int64(len(wraw)))
-		if err != nil {
-			return nil, fmt.Errorf("%s: not a NumPy .npz archive: %w", wpath, err)
-		}
-		for _, a := range m.Arrays {
-			var b int
-			if _, err := fmt.Sscanf(a.Name, "branch%d.layer0.", &b); err != nil {
-				continue
-			}
-			if !strings.HasSuffix(a.Name, ".row") && !strings.HasSuffix(a.Name, ".weight") {
-				continue
-			}
-			if len(a.Shape) != 3 || a.Shape[2] != m.P {
-				continue
-			}
-			w, err := readArray(zr, a.Name+".npy")
-			if err != nil {
-				return nil, fmt.Errorf("%s: array %q: %w", wpath, a.Name, err)
-			}
-			o, c, p := a.Shape[0], a.Shape[1], a.Shape[2]
-			if len(w) != o*c*p {
-				return nil, fmt.Errorf("%s: array %q has %d values, want %d for shape %v", wpath, a.Name, len(w), o*c*p, a.Shape)
-			}
-			bf := BranchFilters{Branch: b, Array: a.Name, Weights: make([][]float64, o)}
-			for ch := range o {
-				row := make([]float64, p)
-				for in := range c {
-					for r := range p {
-						row[r] += w[(ch*c+in)*p+r] / float64(c)
-					}
-				}
-				bf.Weights[ch] = row
-			}
-			s.Branches = append(s.Branches, bf)
-		}
+		// fitted.json numbers repeats and folds from 1.
+		s := SavedFilters{Model: saved.Fitted.Model, Repeat: saved.Fitted.Repeat - 1, Fold: saved.Fitted.Fold - 1,
+			Regions: saved.Fitted.Regions, Branches: net.FirstLayerFilters()}
 		if len(s.Branches) > 0 {
 			out = append(out, s)
 		}
@@ -138,21 +50,6 @@ func readFilters(dir string) ([]SavedFilters, error) {
 		return unitLess(out[a].Model, out[a].Repeat, out[a].Fold, out[b].Model, out[b].Repeat, out[b].Fold)
 	})
 	return out, nil
-}
-
-// readArray reads a float32 or float64 array of an .npz archive as float64.
-func readArray(zr *npz.Reader, name string) ([]float64, error) {
-	var v32 []float32
-	if err := zr.Read(name, &v32); err == nil {
-		out := make([]float64, len(v32))
-		for i, x := range v32 {
-			out[i] = float64(x)
-		}
-		return out, nil
-	}
-	var v []float64
-	err := zr.Read(name, &v)
-	return v, err
 }
 
 // MatchFilters matches the filters of each fold to those of the first

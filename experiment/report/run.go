@@ -19,6 +19,7 @@ import (
 	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/internal/atomicfile"
+	"github.com/skein-neuro/skein/train"
 )
 
 // Run is what a finished run folder holds, read back from its files.
@@ -305,15 +306,6 @@ func parseCurves(raw []byte, name string) ([]CurvePoint, error) {
 	return out, nil
 }
 
-// unitCheckpoint is the part of a unit checkpoint (units/NAME/rR-fF.json,
-// written by train) that a report reads.
-type unitCheckpoint struct {
-	Model      string      `json:"model"`
-	Repeat     int         `json:"repeat"`
-	Fold       int         `json:"fold"`
-	Importance [][]float64 `json:"importance"`
-}
-
 // readImportance reads the importance maps of every unit checkpoint under
 // dir, sorted by model, repeat and fold.
 func readImportance(dir string) ([]UnitImportance, error) {
@@ -323,13 +315,9 @@ func readImportance(dir string) ([]UnitImportance, error) {
 	}
 	var out []UnitImportance
 	for _, path := range files {
-		raw, err := os.ReadFile(path)
+		u, err := train.ReadCheckpoint(path)
 		if err != nil {
 			return nil, err
-		}
-		var u unitCheckpoint
-		if err := json.Unmarshal(raw, &u); err != nil {
-			return nil, fmt.Errorf("%s: %w", path, err)
 		}
 		if len(u.Importance) == 0 {
 			continue
@@ -340,8 +328,7 @@ func readImportance(dir string) ([]UnitImportance, error) {
 				return nil, fmt.Errorf("%s: importance map %d has %d values, want p × p like the first", path, k+1, len(m))
 			}
 		}
-		// Checkpoints number repeats and folds from 1.
-		out = append(out, UnitImportance{Model: u.Model, Repeat: u.Repeat - 1, Fold: u.Fold - 1, Maps: u.Importance})
+		out = append(out, UnitImportance{Model: u.Model, Repeat: u.Repeat, Fold: u.Fold, Maps: u.Importance})
 	}
 	sort.Slice(out, func(a, b int) bool {
 		return unitLess(out[a].Model, out[a].Repeat, out[a].Fold, out[b].Model, out[b].Repeat, out[b].Fold)
