@@ -83,14 +83,15 @@ type planRecord struct {
 }
 
 // unitsTSV is the header of UnitsFile.
-const unitsTSV = "index\tkind\tmodel\trepeat\tfold\tpermutations\tcommand\n"
+const unitsTSV = "index\tkind\tmodel\trepeat\tfold\tpermutations\tfraction\tcommand\n"
 
 // A PlanSummary says what Plan wrote.
 type PlanSummary struct {
 	// Dir is the work folder holding the plan.
 	Dir string
-	// Units, ModelUnits and PermutationUnits count the units.
-	Units, ModelUnits, PermutationUnits int
+	// Units, ModelUnits, PermutationUnits and SampleSizeUnits count the
+	// units.
+	Units, ModelUnits, PermutationUnits, SampleSizeUnits int
 	// Resumed is set when the work folder held this plan already: its
 	// finished units are kept.
 	Resumed bool
@@ -133,7 +134,7 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 		return nil, badInputf("%s: the cohort's files changed since its units ran (%s differs); pass --force to start over",
 			rd.Partial, CohortFile)
 	}
-	units, err := BatchUnits(b.runner, b.exp.Permutation, opt.Block)
+	units, err := BatchUnits(b.runner, b.exp, opt.Block)
 	if err != nil {
 		return nil, badInput(err)
 	}
@@ -173,10 +174,13 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 	s := &PlanSummary{Dir: rd.Partial, Units: len(units), Resumed: resume, Job: rd.WorkPath(JobFile),
 		UnitsTable: rd.WorkPath(UnitsFile), Experiment: expPath, Out: out}
 	for _, u := range units {
-		if u.Kind == BatchModel {
+		switch u.Kind {
+		case BatchModel:
 			s.ModelUnits++
-		} else {
+		case BatchPermutations:
 			s.PermutationUnits++
+		case BatchSampleSize:
+			s.SampleSizeUnits++
 		}
 	}
 	return s, nil
@@ -264,7 +268,7 @@ func (b *batch) checkPlanned(rd *RunDir, rec *planRecord) error {
 		return badInputf("the cohort's files changed since %s was planned (%s differs); plan again with --force",
 			rd.Final, rd.WorkPath(CohortFile))
 	}
-	units, err := BatchUnits(b.runner, b.exp.Permutation, rec.Block)
+	units, err := BatchUnits(b.runner, b.exp, rec.Block)
 	if err != nil {
 		return err
 	}
@@ -277,6 +281,11 @@ func (b *batch) checkPlanned(rd *RunDir, rec *planRecord) error {
 // nullFile names the null scores of a permutation block.
 func nullFile(u BatchUnit) string {
 	return filepath.Join(NullsDir, safeName(u.Model), fmt.Sprintf("p%d-%d.csv", u.First+1, u.End))
+}
+
+// sampleSizeUnitFile names the sample-size rows of a curve unit.
+func sampleSizeUnitFile(u BatchUnit) string {
+	return filepath.Join(SampleSizeDir, safeName(u.Model), "f"+strconv.FormatFloat(u.Fraction, 'g', -1, 64)+".csv")
 }
 
 func failedFile(k int) string { return filepath.Join(FailedDir, strconv.Itoa(k)+".txt") }
@@ -323,7 +332,7 @@ func RunUnit(ctx context.Context, expPath, out string, k, jobs int) (u BatchUnit
 	if k >= rec.Units {
 		return u, false, badInputf("--unit %d: the plan in %s has units 0 to %d", k, rd.Partial, rec.Units-1)
 	}
-	units, err := BatchUnits(b.runner, b.exp.Permutation, rec.Block)
+	units, err := BatchUnits(b.runner, b.exp, rec.Block)
 	if err != nil {
 		return u, false, err
 	}
@@ -364,6 +373,17 @@ func runPlannedUnit(ctx context.Context, rd *RunDir, r *train.Runner, pc Permuta
 		_, err := r.Run(ctx)
 		return resumed, err
 	}
+	if u.Kind == BatchSampleSize {
+		name := sampleSizeUnitFile(u)
+		if _, err := os.Stat(rd.WorkPath(name)); err == nil {
+			return true, nil
+		}
+		runs, err := r.RunSampleSizes(ctx, []float64{u.Fraction}, []string{u.Model})
+		if err != nil {
+			return false, err
+		}
+		return false, rd.WriteWith(name, func(w io.Writer) error { return eval.WriteSampleSizeCSV(w, SampleSizeCurve(runs)) })
+	}
 	name := nullFile(u)
 	if _, err := os.Stat(rd.WorkPath(name)); err == nil {
 		return true, nil
@@ -379,31 +399,37 @@ func runPlannedUnit(ctx context.Context, rd *RunDir, r *train.Runner, pc Permuta
 	return false, rd.WriteFile(name, raw.Bytes())
 }
 
-// String describes u for messages: its model and repeat and fold, or its
-// permutations, numbered from 1.
+// String describes u for messages: its model and repeat and fold, its
+// permutations (numbered from 1), or its fraction of the training folds.
 func (u BatchUnit) String() string {
-	if u.Kind == BatchModel {
+	switch u.Kind {
+	case BatchModel:
 		return fmt.Sprintf("model %q, repeat %d, fold %d", u.Model, u.Unit.Repeat+1, u.Unit.Fold+1)
+	case BatchSampleSize:
+		return fmt.Sprintf("model %q, sample size %g of each training fold", u.Model, u.Fraction)
 	}
 	return fmt.Sprintf("model %q, permutations %d to %d", u.Model, u.First+1, u.End)
 }
 
 // unitsTable writes UnitsFile: one line per unit with its index, kind,
-// model, repeat and fold (from 1; empty for a permutation block), the
-// permutations of a block (FIRST-LAST, from 1) and the command that runs
-// the unit.
+// model, repeat and fold (from 1; empty unless a model unit), the
+// permutations of a block (FIRST-LAST, from 1), the fraction of a
+// sample-size unit and the command that runs the unit.
 func unitsTable(units []BatchUnit, skein string, rec planRecord) []byte {
 	var b strings.Builder
 	b.WriteString(unitsTSV)
 	for _, u := range units {
-		repeat, fold, perms := "", "", ""
-		if u.Kind == BatchModel {
+		repeat, fold, perms, fraction := "", "", "", ""
+		switch u.Kind {
+		case BatchModel:
 			repeat, fold = strconv.Itoa(u.Unit.Repeat+1), strconv.Itoa(u.Unit.Fold+1)
-		} else {
+		case BatchPermutations:
 			perms = fmt.Sprintf("%d-%d", u.First+1, u.End)
+		case BatchSampleSize:
+			fraction = strconv.FormatFloat(u.Fraction, 'g', -1, 64)
 		}
 		cmd := fmt.Sprintf("%s run %s --out %s --unit %d", ShellQuote(skein), ShellQuote(rec.Experiment), ShellQuote(rec.Out), u.Index)
-		fmt.Fprintf(&b, "%d\t%s\t%s\t%s\t%s\t%s\t%s\n", u.Index, u.Kind, tsvCell(u.Model), repeat, fold, perms, cmd)
+		fmt.Fprintf(&b, "%d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\n", u.Index, u.Kind, tsvCell(u.Model), repeat, fold, perms, fraction, cmd)
 	}
 	return []byte(b.String())
 }
@@ -523,7 +549,7 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 	if err := b.checkPlanned(rd, rec); err != nil {
 		return nil, 0, err
 	}
-	units, err := BatchUnits(b.runner, b.exp.Permutation, rec.Block)
+	units, err := BatchUnits(b.runner, b.exp, rec.Block)
 	if err != nil {
 		return nil, 0, err
 	}
@@ -537,6 +563,7 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 	}
 	var missing []BatchUnit
 	var nullRows []eval.NullScores
+	var curveRows []eval.SampleSizeRow
 	for _, u := range units {
 		switch u.Kind {
 		case BatchModel:
@@ -558,6 +585,22 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 				return nil, 0, fmt.Errorf("%w (delete the file and rerun unit %d)", err, u.Index)
 			}
 			nullRows = append(nullRows, rows...)
+		case BatchSampleSize:
+			path := rd.WorkPath(sampleSizeUnitFile(u))
+			f, err := os.Open(path)
+			if errors.Is(err, fs.ErrNotExist) {
+				missing = append(missing, u)
+				continue
+			}
+			if err != nil {
+				return nil, 0, err
+			}
+			rows, err := eval.ReadSampleSizeCSV(f, path)
+			f.Close()
+			if err != nil {
+				return nil, 0, fmt.Errorf("%w (delete the file and rerun unit %d)", err, u.Index)
+			}
+			curveRows = append(curveRows, rows...)
 		}
 	}
 	if len(missing) > 0 {
@@ -569,8 +612,11 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 			return nil, 0, err
 		}
 	}
-	rep, err := EvaluateWithNulls(ctx, b.exp, r, res, rec.Bins, func(observed *eval.Summary) ([]eval.NullDistribution, error) {
-		return eval.AssembleNulls(observed, nullRows, exp.Permutation.Count)
+	rep, err := EvaluateWith(ctx, b.exp, r, res, rec.Bins, Computed{
+		Nulls: func(observed *eval.Summary) ([]eval.NullDistribution, error) {
+			return eval.AssembleNulls(observed, nullRows, exp.Permutation.Count)
+		},
+		SampleSize: sortSampleSize(curveRows),
 	})
 	if err != nil {
 		return nil, 0, err

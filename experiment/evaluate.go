@@ -45,31 +45,42 @@ type Report struct {
 // comparison with the reference baseline and the cautions the run
 // triggered. bins ≤ 0 means eval.DefaultBins.
 func Evaluate(ctx context.Context, exp *Experiment, r *train.Runner, res *train.Result, bins int) (*Report, error) {
-	return EvaluateWithNulls(ctx, exp, r, res, bins, func(observed *eval.Summary) ([]eval.NullDistribution, error) {
-		return PermutationTest(ctx, r, exp.Permutation, observed)
-	})
+	return EvaluateWith(ctx, exp, r, res, bins, Computed{})
 }
 
-// EvaluateWithNulls is Evaluate for a run whose permutation test was run
-// elsewhere, in blocks: it scores res as Evaluate does, but takes the
-// null distributions from nulls (a function of the observed summary, such
-// as a call of AssembleNulls) instead of retraining. nulls is called only
-// when the experiment has a permutation test. The report equals
-// Evaluate's for the same run.
-func EvaluateWithNulls(ctx context.Context, exp *Experiment, r *train.Runner, res *train.Result, bins int,
-	nulls func(observed *eval.Summary) ([]eval.NullDistribution, error)) (*Report, error) {
+// Computed holds the parts of an evaluation that batch units computed
+// (Merge); EvaluateWith computes the others as Evaluate does.
+type Computed struct {
+	// Nulls, when set, gives the permutation test's null distributions
+	// from the observed summary (eval.AssembleNulls of the units' scores).
+	Nulls func(observed *eval.Summary) ([]eval.NullDistribution, error)
+	// SampleSize, when not nil, is the sample-size curve.
+	SampleSize []eval.SampleSizeRow
+}
+
+// EvaluateWith is Evaluate for a run some of whose parts were computed
+// elsewhere, in batch units; the report equals Evaluate's for the same
+// run.
+func EvaluateWith(ctx context.Context, exp *Experiment, r *train.Runner, res *train.Result, bins int, done Computed) (*Report, error) {
 	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: len(r.Cohort.Excluded),
 		Grouped: train.Groups(r.Cohort) != nil}
 	rep.Rows = res.Predictions
 	rep.Summary = eval.Summarize(rep.Rows, bins, true)
 	orderGroups(rep.Summary, exp, r.Cohort.Targets)
 	if exp.Permutation.Count > 0 {
+		nulls := done.Nulls
+		if nulls == nil {
+			nulls = func(observed *eval.Summary) ([]eval.NullDistribution, error) {
+				return PermutationTest(ctx, r, exp.Permutation, observed)
+			}
+		}
 		var err error
 		if rep.Nulls, err = nulls(rep.Summary); err != nil {
 			return nil, fmt.Errorf("permutation test: %w", err)
 		}
 	}
-	if len(exp.SampleSize.Fractions) > 0 {
+	rep.SampleSize = done.SampleSize
+	if len(exp.SampleSize.Fractions) > 0 && rep.SampleSize == nil {
 		runs, err := r.RunSampleSizes(ctx, exp.SampleSize.Fractions, exp.SampleSize.Models)
 		if err != nil {
 			return nil, fmt.Errorf("sample-size curve: %w", err)

@@ -72,6 +72,8 @@ const (
 	LogsDir = "logs"
 	// NullsDir holds the null scores of each permutation block.
 	NullsDir = "nulls"
+	// SampleSizeDir holds the sample-size rows of each curve unit.
+	SampleSizeDir = "sample_size"
 	// FailedDir holds FailedDir/K.txt, the error of failed unit K.
 	FailedDir = "failed"
 )

@@ -16,6 +16,7 @@ import (
 	"time"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/internal/atomicfile"
 )
 
 // HistoryFile is the name of the history file in the output root (the
@@ -94,32 +95,7 @@ func AppendHistory(path string, rows []HistoryRow) error {
 	if err := w.Error(); err != nil {
 		return err
 	}
-	return writeAtomic(path, buf.Bytes())
-}
-
-// writeAtomic writes content to a temporary file in path's folder and
-// renames it to path.
-func writeAtomic(path string, content []byte) error {
-	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
-	if err != nil {
-		return err
-	}
-	defer os.Remove(tmp.Name())
-	if _, err := tmp.Write(content); err != nil {
-		tmp.Close()
-		return err
-	}
-	if err := tmp.Sync(); err != nil {
-		tmp.Close()
-		return err
-	}
-	if err := tmp.Close(); err != nil {
-		return err
-	}
-	if err := os.Chmod(tmp.Name(), 0o644); err != nil {
-		return err
-	}
-	return os.Rename(tmp.Name(), path)
+	return atomicfile.WriteFile(path, buf.Bytes())
 }
 
 func cell(x float64) string {
@@ -207,7 +183,7 @@ func UpdateHistory(path string, run *Folder, date time.Time) error {
 	if err := PlotHistory(&png, rows); err != nil {
 		return err
 	}
-	return writeAtomic(HistoryPlotPath(path), png.Bytes())
+	return atomicfile.WriteFile(HistoryPlotPath(path), png.Bytes())
 }
 
 // HistoryPlotPath returns where UpdateHistory draws the plot of the history

@@ -45,7 +45,7 @@ layers = [{kind = "n2g", size = 4}]
 		{12, "[ridge:0-16 ridge:16-25 net:0-12 net:12-24 net:24-25]"},
 	}
 	for _, tt := range tests {
-		units, err := BatchUnits(r, exp.Permutation, tt.block)
+		units, err := BatchUnits(r, exp, tt.block)
 		if err != nil {
 			t.Fatal(err)
 		}

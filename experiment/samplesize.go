@@ -88,6 +88,12 @@ func SampleSizeCurve(runs []train.SampleSizeRun) []eval.SampleSizeRow {
 			})
 		}
 	}
+	return sortSampleSize(rows)
+}
+
+// sortSampleSize sorts the rows of a sample-size curve by model, target,
+// fraction, repeat and fold, the order of SampleSizeFile.
+func sortSampleSize(rows []eval.SampleSizeRow) []eval.SampleSizeRow {
 	sort.SliceStable(rows, func(a, b int) bool {
 		ra, rb := rows[a], rows[b]
 		switch {

@@ -64,7 +64,8 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 		return err
 	}
 	q := experiment.ShellQuote
-	fmt.Fprintf(cio.stdout, "skein plan: %d units (%d model × fold units, %d permutation blocks) in %s\n", s.Units, s.ModelUnits, s.PermutationUnits, s.Dir)
+	fmt.Fprintf(cio.stdout, "skein plan: %d units (%d model × fold units, %d permutation blocks, %d sample-size points) in %s\n",
+		s.Units, s.ModelUnits, s.PermutationUnits, s.SampleSizeUnits, s.Dir)
 	if s.Resumed {
 		fmt.Fprintf(cio.stdout, "The work folder held this experiment already: its finished units are kept and will be skipped.\n")
 	}

@@ -24,6 +24,10 @@ confounds = ["age", "sex"]
 count = 10
 chunk = 4
 
+[sample_size]
+fractions = [0.5, 1]
+models = ["ridge", "net"]
+
 [[model]]
 name = "mean"
 [model.mean]
@@ -52,7 +56,7 @@ func writeBatchExperiment(t *testing.T, n int, extra string) string {
 
 // resultFiles are the files a merged run must share, byte for byte, with
 // a single-machine run of the same experiment.
-var resultFiles = []string{"predictions.csv", "metrics.json", "summary.md", "permutations.csv", "learning_curves.csv", "experiment.toml", "cohort.json"}
+var resultFiles = []string{"predictions.csv", "metrics.json", "summary.md", "permutations.csv", "sample_size.csv", "learning_curves.csv", "experiment.toml", "cohort.json"}
 
 func compareRuns(t *testing.T, single, merged string, files []string) {
 	t.Helper()
@@ -80,7 +84,7 @@ func planUnits(t *testing.T, out string) []string {
 		t.Fatal(err)
 	}
 	lines := strings.Split(strings.TrimSuffix(string(raw), "\n"), "\n")
-	if lines[0] != "index\tkind\tmodel\trepeat\tfold\tpermutations\tcommand" {
+	if lines[0] != "index\tkind\tmodel\trepeat\tfold\tpermutations\tfraction\tcommand" {
 		t.Fatalf("units.tsv header %q", lines[0])
 	}
 	var ids []string
@@ -104,7 +108,7 @@ func TestPlanUnitsMergeEqualsSingleRun(t *testing.T) {
 	}
 	// 3 models × 6 folds, then per model blocks of 4, 4 and 2 permutations.
 	ids := planUnits(t, out)
-	if len(ids) != 18+9 || !strings.Contains(stdout, "27 units (18 model × fold units, 9 permutation blocks)") {
+	if len(ids) != 18+9+4 || !strings.Contains(stdout, "31 units (18 model × fold units, 9 permutation blocks, 4 sample-size points)") {
 		t.Fatalf("plan has %d units; said %q", len(ids), stdout)
 	}
 	if _, err := os.Stat(out); err == nil {
@@ -114,7 +118,7 @@ func TestPlanUnitsMergeEqualsSingleRun(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, want := range []string{"#SBATCH --array=0-26\n", "#SBATCH --time=00:10:00\n", "#SBATCH --mem=1G\n", "#SBATCH --partition=short\n", "exec /opt/skein run "} {
+	for _, want := range []string{"#SBATCH --array=0-30\n", "#SBATCH --time=00:10:00\n", "#SBATCH --mem=1G\n", "#SBATCH --partition=short\n", "exec /opt/skein run "} {
 		if !strings.Contains(string(job), want) {
 			t.Errorf("job.sh lacks %q:\n%s", want, job)
 		}
@@ -127,8 +131,8 @@ func TestPlanUnitsMergeEqualsSingleRun(t *testing.T) {
 		}
 	}
 	code, _, stderr = runSkein(t, "merge", out)
-	if code == exitOK || !strings.Contains(stderr, "24 of 27 units have not finished") ||
-		!strings.Contains(stderr, "sbatch --array=1-4,6-18,20-26 ") {
+	if code == exitOK || !strings.Contains(stderr, "28 of 31 units have not finished") ||
+		!strings.Contains(stderr, "sbatch --array=1-4,6-18,20-30 ") {
 		t.Fatalf("merge with missing units: exit %d: %s", code, stderr)
 	}
 	if _, err := os.Stat(out); err == nil {
@@ -148,8 +152,8 @@ func TestPlanUnitsMergeEqualsSingleRun(t *testing.T) {
 			t.Fatalf("unit %s from SLURM_ARRAY_TASK_ID again: exit %d: %s", k, code, stderr)
 		}
 	}
-	if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--unit", "27"); code != exitBadInput || !strings.Contains(stderr, "units 0 to 26") {
-		t.Fatalf("unit 27 of 27: exit %d: %s", code, stderr)
+	if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--unit", "31"); code != exitBadInput || !strings.Contains(stderr, "units 0 to 30") {
+		t.Fatalf("unit 31 of 31: exit %d: %s", code, stderr)
 	}
 	if code, stdout, stderr := runSkein(t, "merge", out); code != exitOK || !strings.Contains(stdout, "not a diagnostic device") {
 		t.Fatalf("merge: exit %d: %s%s", code, stdout, stderr)
@@ -249,9 +253,9 @@ values = ["functional", "both"]
 	}
 	out := filepath.Join(t.TempDir(), "batch")
 	code, stdout, stderr := runSkein(t, "plan", exp, "--out", out, "--block", "4")
-	// mean, 2 ridge and 2 net variants: 5 models × 6 folds, and 3
-	// permutation blocks each.
-	if code != exitOK || !strings.Contains(stdout, "45 units (30 model × fold units, 15 permutation blocks)") {
+	// mean, 2 ridge and 2 net variants: 5 models × 6 folds, 3
+	// permutation blocks each, and 2 sample-size points of each variant.
+	if code != exitOK || !strings.Contains(stdout, "53 units (30 model × fold units, 15 permutation blocks, 8 sample-size points)") {
 		t.Fatalf("plan: exit %d: %s%s", code, stdout, stderr)
 	}
 	for _, k := range planUnits(t, out) {

@@ -336,8 +336,6 @@ func readImportance(dir string) ([]UnitImportance, error) {
 	return out, nil
 }
 
-// writeAtomic writes raw to path through a temporary file and a rename.
-
 // unitLess orders units by model name, then repeat, then fold.
 func unitLess(modelA string, repeatA, foldA int, modelB string, repeatB, foldB int) bool {
 	if modelA != modelB {
