@@ -56,7 +56,7 @@ func BatchUnits(r *train.Runner, pc Permutation, block int) ([]BatchUnit, error)
 		if len(pc.Models) > 0 && !slices.Contains(pc.Models, m.Name) {
 			continue
 		}
-		step, err := permutationStep(r, m, pc.Chunk)
+		step, err := permutationStep(r, m, *pc.Chunk)
 		if err != nil {
 			return nil, err
 		}

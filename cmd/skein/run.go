@@ -67,7 +67,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	}
 	// One kind of parallelism at a time: units at once, single-threaded
 	// BLAS (results do not depend on it; see train.ChooseParallelism).
-	par := train.ChooseParallelism(runtime.NumCPU(), len(exp.Models)*exp.CV.Folds*exp.CV.Repeats)
+	par := train.ChooseParallelism(runtime.NumCPU(), len(exp.Models)*(*exp.CV.Folds)*(*exp.CV.Repeats))
 	if *jobs > 0 {
 		par = train.Parallelism{Jobs: *jobs, BLASThreads: 1}
 	}
@@ -124,9 +124,9 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	fileLog := slog.New(slog.NewJSONHandler(logOut, nil))
 	fileLog.Info("run started", "experiment", expPath, "out", rd.Final, "seed", exp.Seed,
 		"participants", len(cohort.Participants), "excluded", len(cohort.Excluded), "jobs", *jobs, "blas_threads", blasThreads, "resume", *resume)
-	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), len(exp.Models)*exp.CV.Folds*exp.CV.Repeats)
+	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), len(exp.Models)*(*exp.CV.Folds)*(*exp.CV.Repeats))
 	fmt.Fprintf(cio.stderr, "skein run: %d participants (%d excluded), %d regions, %d models, %d-fold × %d\n",
-		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), exp.CV.Folds, exp.CV.Repeats)
+		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats)
 
 	runner := &train.Runner{
 		Design:      exp.Design(),
