@@ -10,7 +10,8 @@ import (
 
 // CV is the cross-validation scheme: the [cv] table of an experiment file.
 // When the cohort has a grouping column (cohort.group), folds always keep
-// each group whole.
+// each group whole. A nil setting takes its default; Go code sets one as
+// CV{Folds: new(10)}.
 type CV struct {
 	// Folds is k of k-fold cross-validation, at least 2; nil takes the
 	// default 5 (set it from Go as new(10)).

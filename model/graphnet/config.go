@@ -11,7 +11,12 @@ import (
 
 // Config is a network's architecture and training settings: the
 // [model.network] table of an experiment file. A zero Config is not
-// usable; call SetDefaults and then Validate. For example:
+// usable; call SetDefaults and then Validate. Settings whose default is not
+// 0 are pointers, so that a 0 written in a file is kept (and rejected by
+// Validate where it means nothing) rather than replaced by the default: nil
+// takes the default, and Go code sets one as Epochs: new(200). Word-valued
+// settings take the constants of their types (Merge: MergeProduct); "" takes
+// the default. For example:
 //
 //	[model.network]
 //	merge = "concat"

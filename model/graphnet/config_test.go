@@ -98,6 +98,10 @@ func TestConfigValidate(t *testing.T) {
 		{"optimizer kind", func(c *Config) { c.Optimizer.Kind = "adam" }, 0, `model.network.optimizer.kind: want "adamw" or "sgd", found "adam"`},
 		{"rate", func(c *Config) { c.Optimizer.Rate = new(-1.0) }, 0, "model.network.optimizer.rate: want a finite learning rate > 0, found -1"},
 		{"momentum", func(c *Config) { c.Optimizer.Momentum = new(1.0) }, 0, "model.network.optimizer.momentum: want a value in [0, 1), found 1"},
+		{"beta1", func(c *Config) { c.Optimizer.Beta1 = new(1.0) }, 0, "model.network.optimizer.beta1: want a value in [0, 1), found 1"},
+		{"beta2", func(c *Config) { c.Optimizer.Beta2 = new(-0.5) }, 0, "model.network.optimizer.beta2: want a value in [0, 1), found -0.5"},
+		{"betas zero", func(c *Config) { c.Optimizer.Beta1, c.Optimizer.Beta2 = new(0.0), new(0.0) }, 0, ""},
+		{"step epochs", func(c *Config) { c.Optimizer.StepEpochs = new(0) }, 0, "model.network.optimizer.step_epochs: want at least 1, found 0"},
 		{"schedule", func(c *Config) { c.Optimizer.Schedule = "linear" }, 0, `model.network.optimizer.schedule: want "constant", "step" or "cosine", found "linear"`},
 		{"min rate", func(c *Config) { c.Optimizer.MinRate = 1 }, 0, "model.network.optimizer.min_rate: want a value in [0, rate = 0.001], found 1"},
 		{"valid", func(c *Config) {}, 0, ""},
@@ -129,6 +133,7 @@ func TestConfigValidate(t *testing.T) {
 
 func TestConfigJSONRoundTrip(t *testing.T) {
 	c := testConfig("float32", BranchConfig{Input: "propagated", Layers: layers(gconv(4), n2g(8))})
+	c.Optimizer.Beta1 = new(0.0) // a 0 that the default must not replace
 	net, err := New(c, 5, 1, 1)
 	if err != nil {
 		t.Fatal(err)
@@ -141,7 +146,7 @@ func TestConfigJSONRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got := back.Config(); got.Branches[0].Operator != "renormalized-adjacency" || *got.Slope != 0.2 || got.Optimizer.Kind != "adamw" {
+	if got := back.Config(); got.Branches[0].Operator != "renormalized-adjacency" || *got.Slope != 0.2 || got.Optimizer.Kind != "adamw" || *got.Optimizer.Beta1 != 0 {
 		t.Errorf("config after Save and Load: %+v", got)
 	}
 }

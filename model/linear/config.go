@@ -13,7 +13,8 @@ import (
 // Config chooses one baseline and its settings: the sub-tables of a
 // [[model]] entry of an experiment file, [model.mean], [model.ridge],
 // [model.kernel_ridge] or [model.cpm]. Exactly one field is set; a Config
-// with none set chooses no baseline (Kind returns "").
+// with none set chooses no baseline (Kind returns ""). In the settings, ""
+// and nil take the default; Go code sets a number as InnerFolds: new(10).
 type Config struct {
 	Mean        *MeanConfig        `toml:"mean,omitempty"`
 	Ridge       *RidgeConfig       `toml:"ridge,omitempty"`
