@@ -2,6 +2,7 @@ package experiment
 
 import (
 	"encoding"
+	"errors"
 	"fmt"
 	"reflect"
 	"slices"
@@ -34,7 +35,7 @@ func checkWords(doc []byte, target reflect.Type) error {
 			table = keyOf(e)
 		case unstable.KeyValue:
 			key := append(slices.Clone(table), keyOf(e)...)
-			if err := checkValue(&p, fieldType(target, key), key, e.Value()); err != nil {
+			if err := checkValue(&p, fieldType(target, key), key, e, e.Value()); err != nil {
 				return err
 			}
 		}
@@ -42,9 +43,9 @@ func checkWords(doc []byte, target reflect.Type) error {
 	return nil
 }
 
-// checkValue checks the value node v of the key of Go type t (nil when the
-// key is unknown).
-func checkValue(p *unstable.Parser, t reflect.Type, key []string, v *unstable.Node) error {
+// checkValue checks the value node v of the key-value node kv, whose key
+// is of Go type t (nil when the key is unknown).
+func checkValue(p *unstable.Parser, t reflect.Type, key []string, kv, v *unstable.Node) error {
 	if t == nil {
 		return nil
 	}
@@ -52,17 +53,27 @@ func checkValue(p *unstable.Parser, t reflect.Type, key []string, v *unstable.No
 		t = t.Elem()
 	}
 	if isWord(t) {
-		text := v.Data
-		if v.Kind != unstable.String {
-			text = p.Raw(v.Raw)
-		}
-		err := reflect.New(t).Interface().(encoding.TextUnmarshaler).UnmarshalText(text)
-		if err == nil && v.Kind != unstable.String {
-			err = fmt.Errorf("want a word in quotes, found %s", text)
+		var err error
+		switch v.Kind {
+		case unstable.String:
+			err = reflect.New(t).Interface().(encoding.TextUnmarshaler).UnmarshalText(v.Data)
+		case unstable.Array:
+			err = errors.New("want a word in quotes, found an array")
+		case unstable.InlineTable:
+			err = errors.New("want a word in quotes, found a table")
+		default: // a number, boolean or date
+			raw := p.Raw(v.Raw)
+			if err = reflect.New(t).Interface().(encoding.TextUnmarshaler).UnmarshalText(raw); err == nil {
+				err = fmt.Errorf("want a word in quotes, found %s", raw)
+			}
 		}
 		if err != nil {
-			at := p.Shape(v.Raw).Start
-			return fmt.Errorf("line %d, column %d: key %q: %w", at.Line, at.Column, strings.Join(key, "."), err)
+			at := kv.Raw
+			if v.Raw.Length > 0 {
+				at = v.Raw
+			}
+			pos := p.Shape(at).Start
+			return fmt.Errorf("line %d, column %d: key %q: %w", pos.Line, pos.Column, strings.Join(key, "."), err)
 		}
 		return nil
 	}
@@ -72,15 +83,20 @@ func checkValue(p *unstable.Parser, t reflect.Type, key []string, v *unstable.No
 			return nil
 		}
 		for it := v.Children(); it.Next(); {
-			if err := checkValue(p, t.Elem(), key, it.Node()); err != nil {
-				return err
+			if el := it.Node(); el.Kind != unstable.Comment {
+				if err := checkValue(p, t.Elem(), key, kv, el); err != nil {
+					return err
+				}
 			}
 		}
 	case unstable.InlineTable:
 		for it := v.Children(); it.Next(); {
-			kv := it.Node()
-			sub := keyOf(kv)
-			if err := checkValue(p, fieldType(t, sub), append(slices.Clone(key), sub...), kv.Value()); err != nil {
+			sub := it.Node()
+			if sub.Kind != unstable.KeyValue {
+				continue
+			}
+			subKey := keyOf(sub)
+			if err := checkValue(p, fieldType(t, subKey), append(slices.Clone(key), subKey...), sub, sub.Value()); err != nil {
 				return err
 			}
 		}

@@ -155,3 +155,23 @@ func TestWordKeysInExpandedSweeps(t *testing.T) {
 		t.Errorf("error %v, want one containing %s", err, want)
 	}
 }
+
+// TestWordKeyNotAString: a word-valued key given an array, a table, a
+// boolean or a date is an error naming its line and key.
+func TestWordKeyNotAString(t *testing.T) {
+	const allowed = `"auto", "within" or "whole"`
+	tests := []struct{ value, want string }{
+		{`["auto"]`, `line 2, column 1: key "permutation.blocks": want a word in quotes, found an array`},
+		{`{within = 1}`, `line 2, column 10: key "permutation.blocks": want a word in quotes, found a table`},
+		{`true`, `line 2, column 10: key "permutation.blocks": want ` + allowed + `, found "true"`},
+		{`1979-05-27`, `line 2, column 10: key "permutation.blocks": want ` + allowed + `, found "1979-05-27"`},
+		{`'''whole'''`, ``}, // any form of TOML string
+		{`"\u0077hole"`, ``},
+	}
+	for _, tt := range tests {
+		_, err := ParseExperiment([]byte("[permutation]\nblocks = " + tt.value + "\n" + minimalCohort))
+		if (tt.want == "" && err != nil) || (tt.want != "" && (err == nil || err.Error() != tt.want)) {
+			t.Errorf("blocks = %s: error %v, want %q", tt.value, err, tt.want)
+		}
+	}
+}
