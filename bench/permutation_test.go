@@ -50,9 +50,9 @@ func BenchmarkRidgePermutation(b *testing.B) {
 				defer blas.SetThreads(blas.SetThreads(l.threads))
 				exp := &experiment.Experiment{
 					Seed:        1,
-					CV:          train.CV{Folds: 5, Repeats: 1},
+					CV:          train.CV{Folds: new(5), Repeats: new(1)},
 					Models:      []train.ModelConfig{{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}}},
-					Permutation: experiment.Permutation{Count: perms, Chunk: chunk},
+					Permutation: experiment.Permutation{Count: perms, Chunk: new(chunk)},
 				}
 				exp.SetDefaults()
 				r := &train.Runner{Design: exp.Design(), Cohort: cohort, Jobs: l.jobs}

@@ -18,7 +18,7 @@ func ExampleLoad() {
 		Covariates:      []string{"age", "sex"},
 		Group:           "family",
 		Regions:         "regions.txt",
-		MinParticipants: 5,
+		MinParticipants: new(5),
 		Functional:      &data.Modality{Files: "fc/{participant_id}_fc.tsv"},
 		Structural:      &data.Modality{Files: "sc/{participant_id}_sc.npy"},
 	}
@@ -51,7 +51,7 @@ func ExampleCheck() {
 		Participants:    "participants.csv",
 		Targets:         []string{"recall", "fluency"},
 		Covariates:      []string{"sex"},
-		MinParticipants: 5,
+		MinParticipants: new(5),
 		Functional:      &data.Modality{Stack: "fc.npy", StackIDs: "fc_ids.txt"},
 		Structural:      &data.Modality{Stack: "sc.npy", StackIDs: "sc_ids.txt"},
 	}

@@ -143,7 +143,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	rep := &Report{
 		Participants: l.tablePath,
 		Rows:         len(tbl.rows),
-		OutlierSD:    l.src.OutlierSD,
+		OutlierSD:    *l.src.OutlierSD,
 		Notice:       Notice,
 		Excluded:     []Exclusion{},
 		Outliers:     []Outlier{},
@@ -245,8 +245,8 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	}
 
 	l.describe(rep, c, mods, covReports)
-	if len(kept) < l.src.MinParticipants {
-		return nil, rep, &TooFewError{Included: len(kept), Min: l.src.MinParticipants, Excluded: len(c.Excluded)}
+	if len(kept) < *l.src.MinParticipants {
+		return nil, rep, &TooFewError{Included: len(kept), Min: *l.src.MinParticipants, Excluded: len(c.Excluded)}
 	}
 	return c, rep, nil
 }
@@ -266,14 +266,14 @@ func (l *loader) describe(rep *Report, c *Cohort, mods []*modality, covReports [
 		m.report.ParticipantMeans = m.means
 		if m.name == "functional" {
 			rep.Functional = m.report
-			rep.Outliers = append(rep.Outliers, outliers(kept, m.means, "functional mean connectivity", l.src.OutlierSD)...)
+			rep.Outliers = append(rep.Outliers, outliers(kept, m.means, "functional mean connectivity", *l.src.OutlierSD)...)
 			continue
 		}
 		d := describe(m.densities)
 		m.report.Density = &d
 		m.report.ParticipantDensities = m.densities
 		rep.Structural = m.report
-		rep.Outliers = append(rep.Outliers, outliers(kept, m.densities, "structural density", l.src.OutlierSD)...)
+		rep.Outliers = append(rep.Outliers, outliers(kept, m.densities, "structural density", *l.src.OutlierSD)...)
 	}
 	rep.Scores = make([]VariableReport, len(l.src.Targets))
 	for k, name := range l.src.Targets {

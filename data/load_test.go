@@ -292,7 +292,7 @@ func TestCheckSmallCohorts(t *testing.T) {
 		}
 	}
 	src := func() Source {
-		return Source{Participants: "participants.csv", Targets: []string{"score"}, MinParticipants: 1,
+		return Source{Participants: "participants.csv", Targets: []string{"score"}, MinParticipants: new(1),
 			Functional: &Modality{Files: "fc/{participant_id}.txt"}}
 	}
 	for _, tc := range []struct {

@@ -6,6 +6,8 @@ import (
 	"strings"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/internal/enum"
 )
 
 // OperatorKind names a graph operator built from a structural matrix: the
@@ -57,6 +59,19 @@ func ParseOperatorKind(s string) (OperatorKind, error) {
 	}
 	return "", fmt.Errorf("operator %q is not one of %s", s, strings.Join(names, ", "))
 }
+
+// UnmarshalText sets k to the operator kind text names (one of
+// OperatorKinds) or to "" (unset). Another word is an error listing the
+// kinds.
+func (k *OperatorKind) UnmarshalText(text []byte) error {
+	return enum.Parse(k, text, OperatorKinds()...)
+}
+
+// MarshalText returns the name of k.
+func (k OperatorKind) MarshalText() ([]byte, error) { return []byte(k), nil }
+
+// String returns the name of k.
+func (k OperatorKind) String() string { return string(k) }
 
 // symmetryTolerance is the largest |A_ij − A_ji|, relative to the largest
 // |A_ij|, that Operator accepts as symmetric (rounding in the files).

@@ -8,6 +8,8 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/internal/enum"
 )
 
 // Preprocess says how each participant's matrices are transformed after
@@ -32,29 +34,92 @@ type Preprocess struct {
 	SC StructuralPreprocess `toml:"structural"`
 }
 
-// Functional-transform names of the key preprocess.functional.transform.
+// FunctionalTransform is the value of the key preprocess.functional.transform:
+// FisherZTransform or NoTransform ("" is unset).
+type FunctionalTransform string
+
+// StructuralTransform is the value of the key preprocess.structural.transform:
+// Log1pTransform or NoTransform ("" is unset).
+type StructuralTransform string
+
+// Transforms of preprocess.functional.transform and
+// preprocess.structural.transform.
 const (
-	FisherZTransform = "fisher-z" // z = atanh r
-	NoTransform      = "none"     // values are used as they are
+	FisherZTransform FunctionalTransform = "fisher-z" // z = atanh r
+	Log1pTransform   StructuralTransform = "log1p"    // w = ln(1 + count)
+	// NoTransform uses the values as they are; it is a value of both
+	// transform keys.
+	NoTransform = "none"
 )
+
+// Diagonal is the value of the key preprocess.functional.diagonal:
+// ZeroDiagonalSetting or KeepDiagonalSetting ("" is unset).
+type Diagonal string
 
 // Diagonal settings of the key preprocess.functional.diagonal.
 const (
-	ZeroDiagonalSetting = "zero" // the diagonal is set to 0
-	KeepDiagonalSetting = "keep" // the diagonal is transformed like any entry
+	ZeroDiagonalSetting Diagonal = "zero" // the diagonal is set to 0
+	KeepDiagonalSetting Diagonal = "keep" // the diagonal is transformed like any entry
 )
 
-// Structural-transform names of the key preprocess.structural.transform.
-const (
-	Log1pTransform = "log1p" // w = ln(1 + count)
-)
+// Scaling is the value of the key preprocess.structural.scale: ScaleMax,
+// ScaleTotal or ScaleNone ("" is unset).
+type Scaling string
 
 // Scalings of the key preprocess.structural.scale.
 const (
-	ScaleMax   = "max"   // divide by the largest entry
-	ScaleTotal = "total" // divide by the total edge weight (upper triangle)
-	ScaleNone  = "none"  // no scaling
+	ScaleMax   Scaling = "max"   // divide by the largest entry
+	ScaleTotal Scaling = "total" // divide by the total edge weight (upper triangle)
+	ScaleNone  Scaling = "none"  // no scaling
 )
+
+// UnmarshalText sets t to the word text: "fisher-z", "none" or "" (unset).
+// Another word is an error listing these.
+func (t *FunctionalTransform) UnmarshalText(text []byte) error {
+	return enum.Parse(t, text, FisherZTransform, NoTransform)
+}
+
+// MarshalText returns the word of t.
+func (t FunctionalTransform) MarshalText() ([]byte, error) { return []byte(t), nil }
+
+// String returns the word of t.
+func (t FunctionalTransform) String() string { return string(t) }
+
+// UnmarshalText sets t to the word text: "log1p", "none" or "" (unset).
+// Another word is an error listing these.
+func (t *StructuralTransform) UnmarshalText(text []byte) error {
+	return enum.Parse(t, text, Log1pTransform, NoTransform)
+}
+
+// MarshalText returns the word of t.
+func (t StructuralTransform) MarshalText() ([]byte, error) { return []byte(t), nil }
+
+// String returns the word of t.
+func (t StructuralTransform) String() string { return string(t) }
+
+// UnmarshalText sets d to the word text: "zero", "keep" or "" (unset).
+// Another word is an error listing these.
+func (d *Diagonal) UnmarshalText(text []byte) error {
+	return enum.Parse(d, text, ZeroDiagonalSetting, KeepDiagonalSetting)
+}
+
+// MarshalText returns the word of d.
+func (d Diagonal) MarshalText() ([]byte, error) { return []byte(d), nil }
+
+// String returns the word of d.
+func (d Diagonal) String() string { return string(d) }
+
+// UnmarshalText sets s to the word text: "max", "total", "none" or ""
+// (unset). Another word is an error listing these.
+func (s *Scaling) UnmarshalText(text []byte) error {
+	return enum.Parse(s, text, ScaleMax, ScaleTotal, ScaleNone)
+}
+
+// MarshalText returns the word of s.
+func (s Scaling) MarshalText() ([]byte, error) { return []byte(s), nil }
+
+// String returns the word of s.
+func (s Scaling) String() string { return string(s) }
 
 // DefaultClip is the default ε of preprocess.functional.clip.
 const DefaultClip = 1e-7
@@ -69,7 +134,7 @@ const correlationSlack = 1e-5
 // (with clipping), then the diagonal.
 type FunctionalPreprocess struct {
 	// Transform is "fisher-z" (default) or "none".
-	Transform string `toml:"transform"`
+	Transform FunctionalTransform `toml:"transform"`
 	// Clip is ε of FisherZ: entries with |r| ≥ 1 − ε are set to ±(1 − ε)
 	// before atanh, so the unit diagonal and rounding errors give finite
 	// values (atanh(1 − 1e-7) ≈ 8.35). Default 1e-7; must lie in (0, 0.5).
@@ -77,7 +142,7 @@ type FunctionalPreprocess struct {
 	Clip *float64 `toml:"clip"`
 	// Diagonal is "zero" (default: the diagonal is set to 0 after the
 	// transform) or "keep".
-	Diagonal string `toml:"diagonal"`
+	Diagonal Diagonal `toml:"diagonal"`
 }
 
 // StructuralPreprocess is the [preprocess.structural] table: the steps
@@ -86,11 +151,11 @@ type FunctionalPreprocess struct {
 // scaling (so "total" is the total of the edges kept).
 type StructuralPreprocess struct {
 	// Transform is "log1p" (default: w = ln(1 + count)) or "none".
-	Transform string `toml:"transform"`
+	Transform StructuralTransform `toml:"transform"`
 	// Scale is "max" (default: divide by the largest entry, so weights lie
 	// in [0, 1]), "total" (divide by the sum of the upper triangle, the
 	// total edge weight counting each edge once) or "none".
-	Scale string `toml:"scale"`
+	Scale Scaling `toml:"scale"`
 	// Density is the fraction of the p(p−1)/2 region pairs kept as edges,
 	// the strongest first (see KeepDensity); in (0, 1], default 1 (all).
 	Density *float64 `toml:"density"`
@@ -123,20 +188,20 @@ func (p *Preprocess) SetDefaults() {
 // Validate reports the first setting that cannot work, naming its key.
 // It expects SetDefaults to have been called.
 func (p Preprocess) Validate() error {
-	if err := oneOf("preprocess.functional.transform", p.FC.Transform, FisherZTransform, NoTransform); err != nil {
-		return err
+	if err := enum.Check(p.FC.Transform); err != nil {
+		return fmt.Errorf("preprocess.functional.transform: %w", err)
 	}
 	if p.FC.Clip == nil || !(*p.FC.Clip > 0 && *p.FC.Clip < 0.5) {
 		return fmt.Errorf("preprocess.functional.clip: want a number in (0, 0.5), got %s", optionalNumber(p.FC.Clip))
 	}
-	if err := oneOf("preprocess.functional.diagonal", p.FC.Diagonal, ZeroDiagonalSetting, KeepDiagonalSetting); err != nil {
-		return err
+	if err := enum.Check(p.FC.Diagonal); err != nil {
+		return fmt.Errorf("preprocess.functional.diagonal: %w", err)
 	}
-	if err := oneOf("preprocess.structural.transform", p.SC.Transform, Log1pTransform, NoTransform); err != nil {
-		return err
+	if err := enum.Check(p.SC.Transform); err != nil {
+		return fmt.Errorf("preprocess.structural.transform: %w", err)
 	}
-	if err := oneOf("preprocess.structural.scale", p.SC.Scale, ScaleMax, ScaleTotal, ScaleNone); err != nil {
-		return err
+	if err := enum.Check(p.SC.Scale); err != nil {
+		return fmt.Errorf("preprocess.structural.scale: %w", err)
 	}
 	if p.SC.Density == nil || !(*p.SC.Density > 0 && *p.SC.Density <= 1) {
 		return fmt.Errorf("preprocess.structural.density: want a fraction in (0, 1], got %s", optionalNumber(p.SC.Density))
@@ -149,25 +214,6 @@ func optionalNumber(v *float64) string {
 		return "nothing"
 	}
 	return fmt.Sprint(*v)
-}
-
-func oneOf(key, got string, allowed ...string) error {
-	if slices.Contains(allowed, got) {
-		return nil
-	}
-	quoted := make([]string, len(allowed))
-	for i, a := range allowed {
-		quoted[i] = fmt.Sprintf("%q", a)
-	}
-	list := quoted[0]
-	for i, q := range quoted[1:] {
-		if i == len(quoted)-2 {
-			list += " or " + q
-		} else {
-			list += ", " + q
-		}
-	}
-	return fmt.Errorf("%s: %q is not one of %s", key, got, list)
 }
 
 // Functional transforms a p × p functional matrix in place: Fisher z (when

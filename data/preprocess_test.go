@@ -270,13 +270,13 @@ func TestPreprocessValidate(t *testing.T) {
 		want string
 	}{
 		{"scale", func(p *data.Preprocess) { p.SC.Scale = "maximum" },
-			`preprocess.structural.scale: "maximum" is not one of "max", "total" or "none"`},
+			`preprocess.structural.scale: want "max", "total" or "none", found "maximum"`},
 		{"fc transform", func(p *data.Preprocess) { p.FC.Transform = "fisher" },
-			`preprocess.functional.transform: "fisher" is not one of "fisher-z" or "none"`},
+			`preprocess.functional.transform: want "fisher-z" or "none", found "fisher"`},
 		{"diagonal", func(p *data.Preprocess) { p.FC.Diagonal = "one" },
-			`preprocess.functional.diagonal: "one" is not one of "zero" or "keep"`},
+			`preprocess.functional.diagonal: want "zero" or "keep", found "one"`},
 		{"sc transform", func(p *data.Preprocess) { p.SC.Transform = "log" },
-			`preprocess.structural.transform: "log" is not one of "log1p" or "none"`},
+			`preprocess.structural.transform: want "log1p" or "none", found "log"`},
 		{"clip", func(p *data.Preprocess) { p.FC.Clip = num(0) },
 			`preprocess.functional.clip: want a number in (0, 0.5), got 0`},
 		{"density", func(p *data.Preprocess) { p.SC.Density = num(1.5) },

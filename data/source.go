@@ -6,6 +6,8 @@ import (
 	"math"
 	"path/filepath"
 	"strings"
+
+	"github.com/skein-neuro/skein/internal/enum"
 )
 
 // Placeholder is the mark in a path template that stands for a
@@ -53,17 +55,19 @@ type Source struct {
 	// it, labels come from the matrices' header rows or are "R001", "R002"...
 	Regions string `toml:"regions"`
 	// MinParticipants is the smallest cohort Load accepts after
-	// exclusions; default 10.
-	MinParticipants int `toml:"min_participants"`
+	// exclusions, at least 1; nil takes the default 10 (set it from Go as
+	// new(20)).
+	MinParticipants *int `toml:"min_participants"`
 	// OutlierSD is the threshold, in robust standard deviations
 	// (1.4826 × median absolute deviation), beyond which a participant's
 	// mean functional connectivity or structural density is flagged as an
-	// outlier; default 3. Flags are reported, never excluded.
-	OutlierSD float64 `toml:"outlier_sd"`
+	// outlier; positive; nil takes the default 3 (set it from Go as
+	// new(2.5)). Flags are reported, never excluded.
+	OutlierSD *float64 `toml:"outlier_sd"`
 	// Unlisted says what to do with matrix files (or stack_ids entries)
 	// whose participant has no row in the participants table: "error"
 	// (default) fails, "report" lists them in the report and goes on.
-	Unlisted string `toml:"unlisted"`
+	Unlisted UnlistedPolicy `toml:"unlisted"`
 	// Functional locates the functional connectomes ([cohort.functional]).
 	Functional *Modality `toml:"functional"`
 	// Structural locates the structural connectomes ([cohort.structural]).
@@ -89,7 +93,7 @@ type Modality struct {
 	// Values is "correlation" (default for functional: every entry must lie
 	// within [-1, 1]) or "any" (no range check). Structural matrices are
 	// always checked non-negative and take no Values key.
-	Values string `toml:"values"`
+	Values ValueRange `toml:"values"`
 	// SymmetryTolerance is the largest |a_ij − a_ji| accepted (absolute);
 	// default 1e-6. Zero demands exact symmetry.
 	SymmetryTolerance *float64 `toml:"symmetry_tolerance"`
@@ -98,26 +102,64 @@ type Modality struct {
 // DefaultSymmetryTolerance is the default of symmetry_tolerance.
 const DefaultSymmetryTolerance = 1e-6
 
+// ValueRange is the value of the key values of [cohort.functional]:
+// ValuesCorrelation or ValuesAny ("" is unset).
+type ValueRange string
+
 // Values settings of a functional modality.
 const (
-	ValuesCorrelation = "correlation"
-	ValuesAny         = "any"
+	ValuesCorrelation ValueRange = "correlation"
+	ValuesAny         ValueRange = "any"
 )
+
+// UnmarshalText sets v to the word text: "correlation", "any" or ""
+// (unset). Another word is an error listing these.
+func (v *ValueRange) UnmarshalText(text []byte) error {
+	return enum.Parse(v, text, ValuesCorrelation, ValuesAny)
+}
+
+// MarshalText returns the word of v.
+func (v ValueRange) MarshalText() ([]byte, error) { return []byte(v), nil }
+
+// String returns the word of v.
+func (v ValueRange) String() string { return string(v) }
+
+// UnlistedPolicy is the value of the key cohort.unlisted: UnlistedError or
+// UnlistedReport ("" is unset).
+type UnlistedPolicy string
 
 // Unlisted settings.
 const (
-	UnlistedError  = "error"
-	UnlistedReport = "report"
+	UnlistedError  UnlistedPolicy = "error"
+	UnlistedReport UnlistedPolicy = "report"
+)
+
+// UnmarshalText sets u to the word text: "error", "report" or "" (unset).
+// Another word is an error listing these.
+func (u *UnlistedPolicy) UnmarshalText(text []byte) error {
+	return enum.Parse(u, text, UnlistedError, UnlistedReport)
+}
+
+// MarshalText returns the word of u.
+func (u UnlistedPolicy) MarshalText() ([]byte, error) { return []byte(u), nil }
+
+// String returns the word of u.
+func (u UnlistedPolicy) String() string { return string(u) }
+
+// Defaults of Source.
+const (
+	DefaultMinParticipants = 10
+	DefaultOutlierSD       = 3.0
 )
 
 // SetDefaults fills every unset field with its documented default.
 // Validate expects it to have been called.
 func (s *Source) SetDefaults() {
-	if s.MinParticipants == 0 {
-		s.MinParticipants = 10
+	if s.MinParticipants == nil {
+		s.MinParticipants = new(DefaultMinParticipants)
 	}
-	if s.OutlierSD == 0 {
-		s.OutlierSD = 3
+	if s.OutlierSD == nil {
+		s.OutlierSD = new(DefaultOutlierSD)
 	}
 	if s.Unlisted == "" {
 		s.Unlisted = UnlistedError
@@ -177,14 +219,14 @@ func (s Source) validate(needTargets bool) error {
 			return err
 		}
 	}
-	if s.MinParticipants < 1 {
-		return fmt.Errorf("cohort.min_participants: must be at least 1, found %d", s.MinParticipants)
+	if s.MinParticipants == nil || *s.MinParticipants < 1 {
+		return fmt.Errorf("cohort.min_participants: must be at least 1, found %s", optionalInt(s.MinParticipants))
 	}
-	if !(s.OutlierSD > 0) {
-		return fmt.Errorf("cohort.outlier_sd: must be positive, found %g", s.OutlierSD)
+	if s.OutlierSD == nil || !(*s.OutlierSD > 0) {
+		return fmt.Errorf("cohort.outlier_sd: must be positive, found %s", optionalFloat(s.OutlierSD))
 	}
-	if s.Unlisted != UnlistedError && s.Unlisted != UnlistedReport {
-		return fmt.Errorf("cohort.unlisted: must be %q or %q, found %q", UnlistedError, UnlistedReport, s.Unlisted)
+	if err := enum.Check(s.Unlisted); err != nil {
+		return fmt.Errorf("cohort.unlisted: %w", err)
 	}
 	if s.Functional == nil && s.Structural == nil {
 		return errors.New("cohort: needs a [cohort.functional] or [cohort.structural] table, or both")
@@ -193,8 +235,8 @@ func (s Source) validate(needTargets bool) error {
 		if err := s.Functional.validate("cohort.functional"); err != nil {
 			return err
 		}
-		if v := s.Functional.Values; v != ValuesCorrelation && v != ValuesAny {
-			return fmt.Errorf("cohort.functional.values: must be %q or %q, found %q", ValuesCorrelation, ValuesAny, v)
+		if err := enum.Check(s.Functional.Values); err != nil {
+			return fmt.Errorf("cohort.functional.values: %w", err)
 		}
 	}
 	if s.Structural != nil {
@@ -239,6 +281,13 @@ func (m Modality) validate(key string) error {
 }
 
 func optionalFloat(v *float64) string {
+	if v == nil {
+		return "nothing"
+	}
+	return fmt.Sprint(*v)
+}
+
+func optionalInt(v *int) string {
 	if v == nil {
 		return "nothing"
 	}

@@ -8,7 +8,7 @@ import (
 func TestSourceDefaults(t *testing.T) {
 	s := Source{Functional: &Modality{}, Structural: &Modality{}}
 	s.SetDefaults()
-	if s.MinParticipants != 10 || s.OutlierSD != 3 || s.Unlisted != UnlistedError ||
+	if *s.MinParticipants != 10 || *s.OutlierSD != 3 || s.Unlisted != UnlistedError ||
 		s.Functional.Values != ValuesCorrelation || *s.Functional.SymmetryTolerance != 1e-6 ||
 		s.Structural.Values != "" || *s.Structural.SymmetryTolerance != 1e-6 {
 		t.Errorf("defaults %+v, functional %+v, structural %+v", s, *s.Functional, *s.Structural)
@@ -38,9 +38,9 @@ func TestSourceValidate(t *testing.T) {
 		{"target as covariate", func(s *Source) { s.Covariates = []string{"recall"} }, `cohort.covariates: column "recall" is already named in cohort.targets`},
 		{"group as covariate", func(s *Source) { s.Group = "age" }, `cohort.group: column "age" is already named in cohort.covariates`},
 		{"empty column", func(s *Source) { s.Covariates = []string{""} }, "cohort.covariates: empty column name"},
-		{"min", func(s *Source) { s.MinParticipants = -1 }, "cohort.min_participants: must be at least 1, found -1"},
-		{"outlier", func(s *Source) { s.OutlierSD = -2 }, "cohort.outlier_sd: must be positive, found -2"},
-		{"unlisted", func(s *Source) { s.Unlisted = "ignore" }, `cohort.unlisted: must be "error" or "report", found "ignore"`},
+		{"min", func(s *Source) { s.MinParticipants = new(-1) }, "cohort.min_participants: must be at least 1, found -1"},
+		{"outlier", func(s *Source) { s.OutlierSD = new(-2.0) }, "cohort.outlier_sd: must be positive, found -2"},
+		{"unlisted", func(s *Source) { s.Unlisted = "ignore" }, `cohort.unlisted: want "error" or "report", found "ignore"`},
 		{"no modality", func(s *Source) { s.Functional = nil }, "cohort: needs a [cohort.functional] or [cohort.structural] table"},
 		{"both", func(s *Source) { s.Functional.Stack = "fc.npy" }, `cohort.functional: set either "files" or "stack", not both`},
 		{"neither", func(s *Source) { s.Functional.Files = "" }, `cohort.functional: set "files" (a path template) or "stack"`},
@@ -52,7 +52,7 @@ func TestSourceValidate(t *testing.T) {
 			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs = "", "fc.mat", "ids.txt"
 		}, `cohort.functional.stack: "fc.mat" must be a .npy file`},
 		{"stack without ids", func(s *Source) { s.Functional.Files, s.Functional.Stack = "", "fc.npy" }, `cohort.functional: "stack" needs "stack_ids"`},
-		{"values", func(s *Source) { s.Functional.Values = "partial" }, `cohort.functional.values: must be "correlation" or "any", found "partial"`},
+		{"values", func(s *Source) { s.Functional.Values = "partial" }, `cohort.functional.values: want "correlation" or "any", found "partial"`},
 		{"structural values", func(s *Source) {
 			s.Structural = &Modality{Files: "sc/{participant_id}.npy", Values: "any"}
 			s.SetDefaults()

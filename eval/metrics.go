@@ -8,6 +8,8 @@ import (
 	"sort"
 
 	"gonum.org/v1/gonum/stat"
+
+	"github.com/skein-neuro/skein/internal/enum"
 )
 
 // Every metric below takes the observed and the predicted values of the same
@@ -283,6 +285,16 @@ const (
 func Metrics() []Metric {
 	return []Metric{MetricPearsonWithin, MetricPearson, MetricSpearman, MetricMAE, MetricMedianAE, MetricRMSE, MetricR2, MetricNMI, MetricAMI}
 }
+
+// UnmarshalText sets m to the metric text names (one of Metrics) or to ""
+// (unset). Another name is an error listing the metrics.
+func (m *Metric) UnmarshalText(text []byte) error { return enum.Parse(m, text, Metrics()...) }
+
+// MarshalText returns the name of m.
+func (m Metric) MarshalText() ([]byte, error) { return []byte(m), nil }
+
+// String returns the name of m.
+func (m Metric) String() string { return string(m) }
 
 // ParseMetric returns the metric named s, or an error listing the names.
 func ParseMetric(s string) (Metric, error) {

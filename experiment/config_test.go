@@ -18,7 +18,7 @@ func TestPermutationValidate(t *testing.T) {
 		{Permutation{Blocks: "auto"}, ""},
 		{Permutation{Blocks: "within"}, ""},
 		{Permutation{Blocks: "whole"}, ""},
-		{Permutation{Blocks: "families"}, `permutation.blocks: "families" is not one of "auto", "within", "whole"`},
+		{Permutation{Blocks: "families"}, `permutation.blocks: want "auto", "within" or "whole", found "families"`},
 		{Permutation{Count: -1}, "permutation.count"},
 	}
 	for _, tt := range tests {

@@ -6,6 +6,8 @@ import (
 	"slices"
 	"sort"
 
+	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/internal/enum"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -25,17 +27,13 @@ type Drift struct {
 	// was at most PLevel in the earlier run and is above it now. 0 (the
 	// default) checks no p-value; both runs need a permutation test.
 	PLevel float64 `toml:"p_level"`
-	// PMetric is the metric whose permutation p-value PLevel checks.
-	// Default "pearson_r_within", the headline r.
-	PMetric string `toml:"p_metric"`
+	// PMetric is the metric whose permutation p-value PLevel checks, one
+	// of eval.Metrics. Default eval.MetricPearsonWithin, the headline r.
+	PMetric eval.Metric `toml:"p_metric"`
 	// Models names the models the rule checks; empty (the default) checks
 	// all.
 	Models []string `toml:"models"`
 }
-
-// driftMetrics lists the metric names Drift accepts: those of eval's
-// metrics.json.
-var driftMetrics = []string{"pearson_r_within", "pearson_r", "spearman_rho", "mae", "median_ae", "rmse", "r2", "nmi", "ami"}
 
 // SetDefaults fills every unset field with its documented default.
 func (d *Drift) SetDefaults() {
@@ -43,7 +41,7 @@ func (d *Drift) SetDefaults() {
 		d.Worsen = map[string]float64{}
 	}
 	if d.PMetric == "" {
-		d.PMetric = "pearson_r_within"
+		d.PMetric = eval.MetricPearsonWithin
 	}
 	if d.Models == nil {
 		d.Models = []string{}
@@ -67,18 +65,18 @@ func (d Drift) Validate(models []train.ModelConfig) error {
 	sort.Strings(names)
 	for _, name := range names {
 		v := d.Worsen[name]
-		if !slices.Contains(driftMetrics, name) {
-			return fmt.Errorf("drift.worsen: %q is not a metric (want one of %v)", name, driftMetrics)
+		if err := enum.Check(eval.Metric(name)); err != nil || name == "" {
+			return fmt.Errorf("drift.worsen: %q is not a metric (want one of %v)", name, eval.Metrics())
 		}
 		if v < 0 || math.IsNaN(v) || math.IsInf(v, 0) {
 			return fmt.Errorf("drift.worsen.%s: want a finite amount ≥ 0, found %v", name, v)
 		}
 	}
-	switch {
-	case d.PLevel < 0 || d.PLevel >= 1 || math.IsNaN(d.PLevel):
+	if d.PLevel < 0 || d.PLevel >= 1 || math.IsNaN(d.PLevel) {
 		return fmt.Errorf("drift.p_level: want a level in [0, 1), found %v", d.PLevel)
-	case d.PMetric != "" && !slices.Contains(driftMetrics, d.PMetric):
-		return fmt.Errorf("drift.p_metric: %q is not a metric (want one of %v)", d.PMetric, driftMetrics)
+	}
+	if err := enum.Check(d.PMetric); err != nil {
+		return fmt.Errorf("drift.p_metric: %w", err)
 	}
 	for _, name := range d.Models {
 		if !slices.ContainsFunc(models, func(m train.ModelConfig) bool { return m.Name == name }) {

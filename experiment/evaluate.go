@@ -146,11 +146,11 @@ func meanInnerLoss(exp *Experiment, res *train.Result, targets int) map[string][
 
 // blocksSentence says how a permutation exchanges the rows of grouped
 // participants.
-func blocksSentence(blocks string) string {
+func blocksSentence(blocks train.Blocks) string {
 	switch blocks {
-	case "within":
+	case train.BlocksWithin:
 		return "rows shuffled within each group"
-	case "whole":
+	case train.BlocksWhole:
 		return "groups exchanged whole among groups of the same size"
 	}
 	return fmt.Sprintf("blocks = \"auto\": groups of at most %d, such as families, exchanged whole among groups of the "+
@@ -290,7 +290,7 @@ func runCautions(rep *Report, r *train.Runner) []string {
 	}
 	if groups := train.Groups(r.Cohort); groups != nil {
 		distinct := len(data.GroupIndices(groups))
-		if k := rep.Experiment.CV.Folds; distinct < 4*k {
+		if k := *rep.Experiment.CV.Folds; distinct < 4*k {
 			out = append(out, fmt.Sprintf("Few groups: the %d participants fall in %d groups of the grouping column "+
 				"for %d folds. Whole groups move between folds and permutations, so fold sizes vary and fewer "+
 				"distinct splits and permutations exist.", len(r.Cohort.Participants), distinct, k))
@@ -339,7 +339,7 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 	var buf bytes.Buffer
 	exp := rep.Experiment
 	fmt.Fprintf(&buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
-		rep.Participants, rep.Excluded, len(exp.Models), exp.CV.Folds, exp.CV.Repeats, exp.Seed)
+		rep.Participants, rep.Excluded, len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
 	if len(exp.CV.Confounds) > 0 {
 		fmt.Fprintf(&buf, ", confounds %v regressed out of the scores within each training fold", exp.CV.Confounds)
 	}

@@ -47,10 +47,10 @@ func TestRunCautions(t *testing.T) {
 			sc.Cohort.Targets = []string{"score"}
 			exp := &Experiment{
 				Seed: 3,
-				CV:   train.CV{Folds: 5, Repeats: 2, Confounds: tt.confounds},
+				CV:   train.CV{Folds: new(5), Repeats: new(2), Confounds: tt.confounds},
 				Models: []train.ModelConfig{
 					{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}},
-					{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{Alphas: []float64{1e-3, 1e-2, 1e-1}, InnerFolds: 2}}},
+					{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{Alphas: []float64{1e-3, 1e-2, 1e-1}, InnerFolds: new(2)}}},
 				},
 				Permutation: Permutation{Count: tt.perms},
 			}

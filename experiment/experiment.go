@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"reflect"
 	"slices"
 	"strings"
 
@@ -88,9 +89,14 @@ func ReadExperiment(path string) (*Experiment, error) {
 }
 
 // ParseExperiment decodes an experiment file's text, fills defaults and
-// validates it.
+// validates it. A word-valued key (such as permutation.blocks) set to a
+// word it does not know is an error naming the key and its line and
+// listing the words.
 func ParseExperiment(raw []byte) (*Experiment, error) {
 	var exp Experiment
+	if err := checkWords(raw, reflect.TypeFor[Experiment]()); err != nil {
+		return nil, err
+	}
 	dec := toml.NewDecoder(bytes.NewReader(raw))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&exp); err != nil {

@@ -35,7 +35,7 @@ func confoundedNullRunner(t *testing.T, seed int64, perms int) (*Experiment, *tr
 	}
 	exp := &Experiment{
 		Seed: seed,
-		CV:   train.CV{Folds: 5, Repeats: 1, Confounds: []string{"age", "sex"}},
+		CV:   train.CV{Folds: new(5), Repeats: new(1), Confounds: []string{"age", "sex"}},
 		Models: []train.ModelConfig{
 			{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}},
 			{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}},

@@ -17,7 +17,7 @@ import (
 // the last bit, as PermutationTest on one machine.
 func TestAssembleNullsEqualsPermutationTest(t *testing.T) {
 	exp, r := nullRunner(t, 3, 10)
-	exp.Permutation.Chunk = 4
+	exp.Permutation.Chunk = new(4)
 	ctx := context.Background()
 	res, err := r.Run(ctx)
 	if err != nil {

@@ -1,9 +1,11 @@
 package experiment
 
 import (
+	"errors"
 	"fmt"
 	"slices"
 
+	"github.com/skein-neuro/skein/internal/enum"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -57,7 +59,7 @@ type Permutation struct {
 	// sites share a size. AutoWholeMax = 8 separates the two kinds, being
 	// larger than nearly every family and smaller than a site worth
 	// modelling (a judgement, common practice, no source).
-	Blocks string `toml:"blocks"`
+	Blocks train.Blocks `toml:"blocks"`
 	// Models names the models to test; empty (the default) tests all.
 	Models []string `toml:"models"`
 	// Chunk is how many permutations a model that fits score columns
@@ -65,32 +67,36 @@ type Permutation struct {
 	// one run: more is faster and takes more memory (each chunk refits
 	// every fold's decomposition once; measured at N = 275, p = 268, 1000
 	// ridge permutations took 4–5× longer in chunks of 250 than in one
-	// chunk, bench/permutation_test.go). Default 1000.
-	Chunk int `toml:"chunk"`
+	// chunk, bench/permutation_test.go). At least 1; nil takes the default
+	// 1000 (set it from Go as new(250)).
+	Chunk *int `toml:"chunk"`
 }
 
 // SetDefaults fills every unset field with its documented default.
 func (p *Permutation) SetDefaults() {
 	if p.Blocks == "" {
-		p.Blocks = "auto"
+		p.Blocks = train.BlocksAuto
 	}
 	if p.Models == nil {
 		p.Models = []string{}
 	}
-	if p.Chunk == 0 {
-		p.Chunk = 1000
+	if p.Chunk == nil {
+		p.Chunk = new(1000)
 	}
 }
 
 // Validate reports the first setting that cannot work, naming its key.
 func (p Permutation) Validate(models []train.ModelConfig) error {
+	if err := enum.Check(p.Blocks); err != nil {
+		return fmt.Errorf("permutation.blocks: %w", err)
+	}
 	switch {
 	case p.Count < 0:
 		return fmt.Errorf("permutation.count: must not be negative, found %d", p.Count)
-	case !train.KnownBlocks(p.Blocks):
-		return fmt.Errorf("permutation.blocks: %q is not one of \"auto\", \"within\", \"whole\"", p.Blocks)
-	case p.Chunk < 1:
-		return fmt.Errorf("permutation.chunk: must be at least 1, found %d", p.Chunk)
+	case p.Chunk == nil:
+		return errors.New("permutation.chunk: must be at least 1, found nothing")
+	case *p.Chunk < 1:
+		return fmt.Errorf("permutation.chunk: must be at least 1, found %d", *p.Chunk)
 	}
 	for _, name := range p.Models {
 		if !slices.ContainsFunc(models, func(m train.ModelConfig) bool { return m.Name == name }) {

@@ -29,7 +29,7 @@ func PermutationTest(ctx context.Context, r *train.Runner, pc Permutation, obser
 func PermutationBlock(ctx context.Context, r *train.Runner, pc Permutation, names []string, first, end, bins int) ([]eval.NullScores, error) {
 	perms := train.Permutations(len(r.Cohort.Participants), train.Groups(r.Cohort), pc.Blocks, pc.Count, uint64(r.Design.Seed))
 	var rows []eval.NullScores
-	err := r.RunPermutations(ctx, perms[first:end], names, pc.Chunk, func(run train.NullRun) error {
+	err := r.RunPermutations(ctx, perms[first:end], names, *pc.Chunk, func(run train.NullRun) error {
 		rows = append(rows, eval.ScoreNull(run.Predictions, first+run.Permutation, bins)...)
 		return nil
 	})

@@ -23,7 +23,7 @@ func nullRunner(t *testing.T, seed int64, perms int) (*Experiment, *train.Runner
 	}
 	exp := &Experiment{
 		Seed:        seed,
-		CV:          train.CV{Folds: 5, Repeats: 1},
+		CV:          train.CV{Folds: new(5), Repeats: new(1)},
 		Models:      []train.ModelConfig{{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}}},
 		Permutation: Permutation{Count: perms},
 	}
@@ -97,7 +97,7 @@ func TestPermutationChunksMatchRefits(t *testing.T) {
 	var nulls [2][]eval.NullDistribution
 	for k, chunk := range []int{1, 8} {
 		exp, r := nullRunner(t, 3, 8)
-		exp.Permutation.Chunk = chunk
+		exp.Permutation.Chunk = new(chunk)
 		res, err := r.Run(context.Background())
 		if err != nil {
 			t.Fatal(err)

@@ -81,7 +81,7 @@ func permutationUnits(plan []BatchUnit, r *train.Runner, pc Permutation, block i
 		if len(pc.Models) > 0 && !slices.Contains(pc.Models, m.Name) {
 			continue
 		}
-		step, err := permutationStep(m, pc.Chunk)
+		step, err := permutationStep(m, *pc.Chunk)
 		if err != nil {
 			return nil, err
 		}

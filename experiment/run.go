@@ -140,7 +140,7 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 		"participants", len(cohort.Participants), "excluded", len(cohort.Excluded), "jobs", opt.Jobs,
 		"blas_threads", opt.BLASThreads, "resume", opt.Resume)
 	say("%d participants (%d excluded), %d regions, %d models, %d-fold × %d",
-		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), exp.CV.Folds, exp.CV.Repeats)
+		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats)
 
 	runner := &train.Runner{
 		Design:      exp.Design(),

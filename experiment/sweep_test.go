@@ -61,13 +61,13 @@ func TestExpandSweepGrid(t *testing.T) {
 		t.Fatalf("variants %+v", variants)
 	}
 	last := expanded.Models[4].Network
-	if last.Epochs != 3 || last.Optimizer.Rate != 1e-2 || len(last.Branches) != 1 {
-		t.Errorf("last variant: epochs %d, rate %v, %d branches", last.Epochs, last.Optimizer.Rate, len(last.Branches))
+	if *last.Epochs != 3 || *last.Optimizer.Rate != 1e-2 || len(last.Branches) != 1 {
+		t.Errorf("last variant: epochs %d, rate %v, %d branches", *last.Epochs, *last.Optimizer.Rate, len(last.Branches))
 	}
 	if got := strings.Join(expanded.Permutation.Models, " "); got != strings.Join(names[1:], " ") {
 		t.Errorf("permutation.models = %s, want the variants", got)
 	}
-	if len(exp.Models) != 2 || exp.Models[1].Network.Epochs != 10 {
+	if len(exp.Models) != 2 || *exp.Models[1].Network.Epochs != 10 {
 		t.Error("Expand changed the experiment it expanded")
 	}
 	// The expanded experiment, written out, reads back as itself, with

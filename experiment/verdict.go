@@ -80,7 +80,7 @@ func CheckDrift(rule Drift, before, after *Folder) *DriftReport {
 			}
 		}
 		if rule.PLevel > 0 {
-			m := eval.Metric(rule.PMetric)
+			m := rule.PMetric
 			k := [2]string{g.Model, g.Target}
 			pa, okA := before.P[k]
 			pb, okB := after.P[k]

@@ -24,10 +24,10 @@ import (
 func kindSettings() map[string]model.Settings {
 	return map[string]model.Settings{
 		"mean":         &linear.MeanConfig{},
-		"ridge":        &linear.RidgeConfig{Input: linear.InputBoth, InnerFolds: 3},
-		"kernel_ridge": &linear.KernelRidgeConfig{InnerFolds: 3},
-		"cpm":          &linear.CPMConfig{PThreshold: 0.05},
-		"network": &graphnet.Config{Epochs: 3, BatchSize: 4, Branches: []graphnet.BranchConfig{{
+		"ridge":        &linear.RidgeConfig{Input: linear.InputBoth, InnerFolds: new(3)},
+		"kernel_ridge": &linear.KernelRidgeConfig{InnerFolds: new(3)},
+		"cpm":          &linear.CPMConfig{PThreshold: new(0.05)},
+		"network": &graphnet.Config{Epochs: new(3), BatchSize: new(4), Branches: []graphnet.BranchConfig{{
 			Layers: []graphnet.LayerConfig{{Kind: "e2n", Channels: 2}, {Kind: "n2g", Size: 3}},
 		}}},
 	}

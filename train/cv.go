@@ -10,13 +10,15 @@ import (
 
 // CV is the cross-validation scheme: the [cv] table of an experiment file.
 // When the cohort has a grouping column (cohort.group), folds always keep
-// each group whole.
+// each group whole. A nil setting takes its default; Go code sets one as
+// CV{Folds: new(10)}.
 type CV struct {
-	// Folds is k of k-fold cross-validation. Default 5.
-	Folds int `toml:"folds"`
+	// Folds is k of k-fold cross-validation, at least 2; nil takes the
+	// default 5 (set it from Go as new(10)).
+	Folds *int `toml:"folds"`
 	// Repeats is how many times the k-fold cut is redone with a fresh
-	// shuffle. Default 1.
-	Repeats int `toml:"repeats"`
+	// shuffle, at least 1; nil takes the default 1.
+	Repeats *int `toml:"repeats"`
 	// Stratify names a target whose quantiles the folds are balanced on;
 	// "" (the default) does not stratify.
 	Stratify string `toml:"stratify"`
@@ -33,15 +35,14 @@ type CV struct {
 
 // SetDefaults fills every unset field with its documented default.
 func (cv *CV) SetDefaults() {
-	if cv.Folds == 0 {
-		cv.Folds = 5
+	if cv.Folds == nil {
+		cv.Folds = new(5)
 	}
-	if cv.Repeats == 0 {
-		cv.Repeats = 1
+	if cv.Repeats == nil {
+		cv.Repeats = new(1)
 	}
 	if cv.InnerValidation == nil {
-		v := 0.2
-		cv.InnerValidation = &v
+		cv.InnerValidation = new(0.2)
 	}
 	if cv.Confounds == nil {
 		cv.Confounds = []string{}
@@ -49,17 +50,26 @@ func (cv *CV) SetDefaults() {
 }
 
 // Validate reports the first setting that cannot work, naming its key.
+// It expects SetDefaults to have been called.
 func (cv CV) Validate() error {
 	switch {
-	case cv.Folds < 2:
-		return fmt.Errorf("cv.folds: need at least 2, found %d", cv.Folds)
-	case cv.Repeats < 1:
-		return fmt.Errorf("cv.repeats: need at least 1, found %d", cv.Repeats)
+	case cv.Folds == nil || *cv.Folds < 2:
+		return fmt.Errorf("cv.folds: need at least 2, found %s", optional(cv.Folds))
+	case cv.Repeats == nil || *cv.Repeats < 1:
+		return fmt.Errorf("cv.repeats: need at least 1, found %s", optional(cv.Repeats))
 	case cv.InnerValidation != nil && (*cv.InnerValidation < 0 || math.IsNaN(*cv.InnerValidation) ||
 		*cv.InnerValidation >= 1 && *cv.InnerValidation != math.Trunc(*cv.InnerValidation)):
 		return fmt.Errorf("cv.inner_validation: want a fraction in [0, 1) or a whole count, found %v", *cv.InnerValidation)
 	}
 	return nil
+}
+
+// optional formats a setting that may be unset.
+func optional(v *int) string {
+	if v == nil {
+		return "nothing"
+	}
+	return fmt.Sprint(*v)
 }
 
 // innerCount and innerFraction read InnerValidation as a count or a fraction.
@@ -79,7 +89,7 @@ func (cv CV) innerFraction() float64 {
 
 // folds returns the fold scheme of the experiment for the cohort.
 func (cv CV) folds(seed int64, c *data.Cohort) Folds {
-	f := Folds{K: cv.Folds, Repeats: cv.Repeats, Seed: uint64(seed), Groups: Groups(c)}
+	f := Folds{K: *cv.Folds, Repeats: *cv.Repeats, Seed: uint64(seed), Groups: Groups(c)}
 	if t := slices.Index(c.Targets, cv.Stratify); cv.Stratify != "" && t >= 0 {
 		f.Strata = make([]float64, len(c.Participants))
 		for i, p := range c.Participants {

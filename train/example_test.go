@@ -24,7 +24,7 @@ func ExampleRunner() {
 	}
 	exp := &train.Design{
 		Seed: 7,
-		CV:   train.CV{Folds: 5},
+		CV:   train.CV{Folds: new(5)},
 		Models: []train.ModelConfig{
 			{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}},
 			{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}},

@@ -18,7 +18,7 @@ import (
 // first target's pooled test predictions.
 func pooledR(t *testing.T, c *data.Cohort, cfg ModelConfig, seed int64) float64 {
 	t.Helper()
-	exp := &Design{Seed: seed, CV: CV{Folds: 5, Repeats: 1}, Models: []ModelConfig{cfg}}
+	exp := &Design{Seed: seed, CV: CV{Folds: new(5), Repeats: new(1)}, Models: []ModelConfig{cfg}}
 	exp.SetDefaults()
 	res, err := (&Runner{Design: exp, Cohort: c}).Run(context.Background())
 	if err != nil {

@@ -84,7 +84,7 @@ func TestModelConfigSpecErrors(t *testing.T) {
 // TestModelConfigValidateSettings: Validate passes on the kind's own
 // error, naming its key, and SetDefaults fills the kind's defaults.
 func TestModelConfigValidateSettings(t *testing.T) {
-	cfg := ModelConfig{Name: "r", Config: linear.Config{Ridge: &linear.RidgeConfig{Input: "both", InnerFolds: 1}}}
+	cfg := ModelConfig{Name: "r", Config: linear.Config{Ridge: &linear.RidgeConfig{Input: "both", InnerFolds: new(1)}}}
 	cfg.SetDefaults()
 	if cfg.Ridge.Standardize != linear.StandardizeZScore {
 		t.Errorf("SetDefaults: standardize %q, want %q", cfg.Ridge.Standardize, linear.StandardizeZScore)

@@ -9,31 +9,58 @@ import (
 	"strings"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/internal/enum"
 	"github.com/skein-neuro/skein/model"
 )
 
-// AutoWholeMax is the largest group that Permutation.Blocks "auto"
-// exchanges as a whole (and shuffles within); larger groups are shuffled
-// within only.
+// AutoWholeMax is the largest group that BlocksAuto exchanges as a whole
+// (and shuffles within); larger groups are shuffled within only.
 const AutoWholeMax = 8
 
-// KnownBlocks reports whether b is a permutation blocks rule: "auto", "within" or "whole" (see Permutations).
-func KnownBlocks(b string) bool {
-	return b == "auto" || b == "within" || b == "whole"
+// Blocks says which rows of the participants table a permutation may
+// exchange when the cohort has a grouping column: the key
+// permutation.blocks of an experiment file. One of BlocksAuto,
+// BlocksWithin or BlocksWhole; "" is unset (SetDefaults of the experiment
+// makes it BlocksAuto).
+type Blocks string
+
+// The permutation blocks rules (see Permutations).
+const (
+	// BlocksAuto exchanges groups of at most AutoWholeMax members as
+	// wholes among the groups of the same size and shuffles within every
+	// group.
+	BlocksAuto Blocks = "auto"
+	// BlocksWithin shuffles rows within each group only.
+	BlocksWithin Blocks = "within"
+	// BlocksWhole exchanges whole groups of the same size, keeping the
+	// order inside each.
+	BlocksWhole Blocks = "whole"
+)
+
+// UnmarshalText sets b to the word text: "auto", "within", "whole" or ""
+// (unset). Another word is an error listing these.
+func (b *Blocks) UnmarshalText(text []byte) error {
+	return enum.Parse(b, text, BlocksAuto, BlocksWithin, BlocksWhole)
 }
+
+// MarshalText returns the word of b.
+func (b Blocks) MarshalText() ([]byte, error) { return []byte(b), nil }
+
+// String returns the word of b.
+func (b Blocks) String() string { return string(b) }
 
 // Permutations returns count permutations of n participants: perm[k][i] is
 // the participant whose row of the participants table (scores and
 // covariates) participant i receives in permutation k. groups (nil for
-// none) and blocks ("auto", "within" or "whole") are as in Permutation;
-// any other blocks panics. Each permutation first exchanges the groups
-// that are moved as wholes (for "auto" those of at most AutoWholeMax
-// members, for "whole" all), among the groups of the same size, then, for
-// "auto" and "within", shuffles the rows inside every group. The result
-// depends only on its arguments.
-func Permutations(n int, groups []string, blocks string, count int, seed uint64) [][]int {
-	if !KnownBlocks(blocks) {
-		panic("train: unknown permutation blocks " + blocks)
+// none) and blocks are as in the experiment's Permutation; a blocks other
+// than BlocksAuto, BlocksWithin or BlocksWhole panics. Each permutation
+// first exchanges the groups that are moved as wholes (for BlocksAuto those
+// of at most AutoWholeMax members, for BlocksWhole all), among the groups
+// of the same size, then, for BlocksAuto and BlocksWithin, shuffles the
+// rows inside every group. The result depends only on its arguments.
+func Permutations(n int, groups []string, blocks Blocks, count int, seed uint64) [][]int {
+	if blocks != BlocksAuto && blocks != BlocksWithin && blocks != BlocksWhole {
+		panic("train: unknown permutation blocks " + string(blocks))
 	}
 	rng := rand.New(rand.NewPCG(seed, 0x9e3779b97f4a7c15))
 	shuffle := func(s []int) { rng.Shuffle(len(s), func(a, b int) { s[a], s[b] = s[b], s[a] }) }
@@ -43,15 +70,15 @@ func Permutations(n int, groups []string, blocks string, count int, seed uint64)
 		for i := range members {
 			members[i] = []int{i}
 		}
-		blocks = "whole"
+		blocks = BlocksWhole
 	} else {
 		members = Folds{Groups: groups}.units(n)
 	}
 	wholeMax := 0 // largest group exchanged as a whole
 	switch blocks {
-	case "auto":
+	case BlocksAuto:
 		wholeMax = AutoWholeMax
-	case "whole":
+	case BlocksWhole:
 		wholeMax = n
 	}
 	bySize := make(map[int][]int) // block size -> blocks of that size exchanged as wholes
@@ -81,7 +108,7 @@ func Permutations(n int, groups []string, blocks string, count int, seed uint64)
 				}
 			}
 		}
-		if blocks != "whole" {
+		if blocks != BlocksWhole {
 			for _, m := range members {
 				rows := make([]int, len(m))
 				for j, i := range m {

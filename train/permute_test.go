@@ -36,7 +36,7 @@ func TestPermutationsBlocks(t *testing.T) {
 	tests := []struct {
 		name   string
 		groups []string
-		blocks string
+		blocks Blocks
 		// whole: every group takes all its rows from one group of its
 		// size; within: every row stays in its group.
 		whole, within bool
@@ -136,7 +136,7 @@ func TestPermutationsWithoutGroups(t *testing.T) {
 	if len(movedTo) != 100 {
 		t.Errorf("%d of 100 (row, source) pairs reached", len(movedTo))
 	}
-	for _, blocks := range []string{"auto", "within"} {
+	for _, blocks := range []Blocks{BlocksAuto, BlocksWithin} {
 		if got := Permutations(10, nil, blocks, 50, 3); !slices.EqualFunc(got, want, slices.Equal) {
 			t.Errorf("%s: permutations differ from whole's", blocks)
 		}

@@ -53,7 +53,7 @@ func toyCohort(n, p int, seed uint64, grouped bool) *data.Cohort {
 // toyDesign is a 4-fold × 2 design of models that records baselines'
 // inner-validation errors.
 func toyDesign(models ...ModelConfig) *Design {
-	exp := &Design{Seed: 11, CV: CV{Folds: 4, Repeats: 2}, Models: models, InnerLoss: true}
+	exp := &Design{Seed: 11, CV: CV{Folds: new(4), Repeats: new(2)}, Models: models, InnerLoss: true}
 	exp.SetDefaults()
 	return exp
 }
@@ -84,7 +84,7 @@ func TestRunDeterministicAcrossJobs(t *testing.T) {
 	for _, p := range cohort.Participants {
 		for _, s := range p.Scores {
 			if !math.IsNaN(s) {
-				want += exp.CV.Repeats
+				want += *exp.CV.Repeats
 			}
 		}
 	}
@@ -99,7 +99,7 @@ func TestRunDeterministicAcrossJobs(t *testing.T) {
 func TestRunNoLeakage(t *testing.T) {
 	cohort := toyCohort(40, 6, 2, false)
 	exp := toyDesign(ModelConfig{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}})
-	exp.CV.Repeats = 1
+	exp.CV.Repeats = new(1)
 	exp.CV.Confounds = []string{"age"}
 	base, err := (&Runner{Design: exp, Cohort: cohort, Jobs: 1}).Run(context.Background())
 	if err != nil {

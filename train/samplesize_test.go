@@ -73,7 +73,7 @@ func TestSubsetSplitsNestedAndGroupsWhole(t *testing.T) {
 func TestSampleSizeCurveRises(t *testing.T) {
 	c := preprocessed(t, synth.Config{N: 90, P: 10, Seed: 21, Ceiling: 0.9})
 	ridge := ModelConfig{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}}
-	exp := &Design{Seed: 4, CV: CV{Folds: 3, Repeats: 1}, Models: []ModelConfig{ridge}}
+	exp := &Design{Seed: 4, CV: CV{Folds: new(3), Repeats: new(1)}, Models: []ModelConfig{ridge}}
 	exp.SetDefaults()
 	r := &Runner{Design: exp, Cohort: c}
 	full, err := r.Run(context.Background())

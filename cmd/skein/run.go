@@ -56,7 +56,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	}
 	// One kind of parallelism at a time: units at once, single-threaded
 	// BLAS (results do not depend on it; see train.ChooseParallelism).
-	par := train.ChooseParallelism(runtime.NumCPU(), len(exp.Models)*exp.CV.Folds*exp.CV.Repeats)
+	par := train.ChooseParallelism(runtime.NumCPU(), len(exp.Models)*(*exp.CV.Folds)*(*exp.CV.Repeats))
 	if *jobs > 0 {
 		par = train.Parallelism{Jobs: *jobs, BLASThreads: 1}
 	}
@@ -70,7 +70,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 			fmt.Fprintln(cio.stderr, "skein run: the experiment has no [drift] rule: --against only writes the comparison ("+experiment.DriftFile+")")
 		}
 	}
-	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), len(exp.Models)*exp.CV.Folds*exp.CV.Repeats)
+	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), len(exp.Models)*(*exp.CV.Folds)*(*exp.CV.Repeats))
 	opt.OnEvent = show.event
 	oc, err := experiment.Run(ctx, expPath, exp, opt)
 	show.finish()

@@ -90,7 +90,7 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 		}
 	}
 	pg.Overview = append(pg.Overview, fmt.Sprintf("Scores predicted: %s.", strings.Join(exp.Cohort.Targets, ", ")))
-	cv := fmt.Sprintf("Splits: %d-fold cross-validation × %d repeats", exp.CV.Folds, exp.CV.Repeats)
+	cv := fmt.Sprintf("Splits: %d-fold cross-validation × %d repeats", *exp.CV.Folds, *exp.CV.Repeats)
 	if len(exp.CV.Confounds) > 0 {
 		cv += fmt.Sprintf("; confounds %s regressed out of the scores within each training fold", strings.Join(exp.CV.Confounds, ", "))
 	}

@@ -18,14 +18,14 @@ func BenchmarkEpoch(b *testing.B) {
 	const n, p = 275, 116
 	ps, y := plantedCohort(n, p, 0.5, 1)
 	train := dataset(ps, y, 0, n)
-	for _, dtype := range []string{"float32", "float64"} {
+	for _, dtype := range []DType{Float32, Float64} {
 		b.Run(fmt.Sprintf("p=%d/%s", p, dtype), func(b *testing.B) {
 			cfg := Config{
 				Branches:  []BranchConfig{{Layers: layers(e2e(32), e2n(64), n2g(128))}},
 				Head:      []int{64, 32},
 				DType:     dtype,
-				Epochs:    1,
-				BatchSize: 16,
+				Epochs:    new(1),
+				BatchSize: new(16),
 			}
 			cfg.SetDefaults()
 			net, err := New(cfg, p, 1, 1)
@@ -57,7 +57,7 @@ func BenchmarkTrainStep(b *testing.B) {
 		Branches:  []BranchConfig{{Layers: layers(e2e(32), e2n(64), n2g(128))}},
 		Head:      []int{64, 32},
 		DType:     "float32",
-		BatchSize: n,
+		BatchSize: new(n),
 	}
 	net, err := New(cfg, p, 1, 1)
 	if err != nil {

@@ -41,19 +41,19 @@ func (n *Network) createParams() {
 		for li, l := range b.Layers {
 			pre := fmt.Sprintf("branch%d.layer%d.", bi, li)
 			switch l.Kind {
-			case kindE2E:
+			case LayerE2E:
 				c := in.width.at(n.p)
 				add(pre+"row", 2*c*n.p, 2*l.Channels*n.p, l.Channels, c, n.p)
 				add(pre+"col", 2*c*n.p, 2*l.Channels*n.p, l.Channels, c, n.p)
 				add(pre+"bias", 0, 0, l.Channels)
-			case kindE2N:
+			case LayerE2N:
 				c := in.width.at(n.p)
 				add(pre+"weight", c*n.p, l.Channels, l.Channels, c, n.p)
 				add(pre+"bias", 0, 0, l.Channels)
-			case kindGraphConv:
+			case LayerGraphConv:
 				f := nodeFeatures(in, n.p)
 				add(pre+"weight", f, l.Size, f, l.Size)
-			case kindN2G:
+			case LayerN2G:
 				d := in.flat().at(n.p)
 				add(pre+"weight", d, l.Size, d, l.Size)
 				add(pre+"bias", 0, 0, l.Size)
@@ -87,7 +87,7 @@ func (n *Network) initParams(rng *rand.Rand) {
 		draw := func() float64 { return 0 }
 		switch {
 		case p.fanIn == 0:
-		case n.cfg.Init == "glorot":
+		case n.cfg.Init == InitGlorot:
 			limit := math.Sqrt(6 / float64(p.fanIn+p.fanOut))
 			draw = func() float64 { return (2*rng.Float64() - 1) * limit }
 		default:
@@ -153,8 +153,8 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 	}
 	slope := *n.cfg.Slope
 	onPool := ops.WithPool(n.pool)
-	activate := func(h *gorgonia.Node, activation string) (*gorgonia.Node, error) {
-		if activation == activationNone {
+	activate := func(h *gorgonia.Node, activation Activation) (*gorgonia.Node, error) {
+		if activation == ActivationNone {
 			return h, nil
 		}
 		return ops.LeakyReLU(h, slope, onPool)
@@ -198,26 +198,26 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 				opts = append(opts, ops.NoInputGrad())
 			}
 			switch {
-			case l.Kind == kindE2E && feedsE2N(b.Layers[li+1:]):
+			case l.Kind == LayerE2E && feedsE2N(b.Layers[li+1:]):
 				opts = append(opts, ops.NodeMajor())
 				nodeMajor = true
-			case l.Kind == kindE2N && nodeMajor:
+			case l.Kind == LayerE2N && nodeMajor:
 				opts = append(opts, ops.NodeMajor())
 				nodeMajor = false
 			}
-			fromData = fromData && l.Kind == kindDropout
+			fromData = fromData && l.Kind == LayerDropout
 			// The rectifier fused into an e2e filter saves a batch-sized
 			// buffer forward and backward.
-			fusedE2E := l.Kind == kindE2E && l.Activation != activationNone && slope >= 0
+			fusedE2E := l.Kind == LayerE2E && l.Activation != ActivationNone && slope >= 0
 			switch l.Kind {
-			case kindE2E:
+			case LayerE2E:
 				if fusedE2E {
 					opts = append(opts, ops.WithLeakyReLU(slope))
 				}
 				h, err = ops.E2E(h, take(), take(), take(), opts...)
-			case kindE2N:
+			case LayerE2N:
 				h, err = ops.E2N(h, take(), take(), opts...)
-			case kindGraphConv:
+			case LayerGraphConv:
 				switch {
 				case in.form == edgeForm:
 					h, err = ops.Reshape(h, tensor.Shape{batch, p, p})
@@ -227,12 +227,12 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 				if err == nil {
 					h, err = ops.GraphConv(s, h, take(), opts...)
 				}
-			case kindN2G:
+			case LayerN2G:
 				h, err = ops.Dense(h, take(), take(), opts...)
-			case kindDropout:
+			case LayerDropout:
 				h, err = dropout(h, l.Rate)
 			}
-			if err == nil && l.Kind != kindDropout && !fusedE2E {
+			if err == nil && l.Kind != LayerDropout && !fusedE2E {
 				h, err = activate(h, l.Activation)
 			}
 			if err != nil {
@@ -249,7 +249,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 	var err error
 	switch {
 	case len(outs) == 1:
-	case n.cfg.Merge == "product":
+	case n.cfg.Merge == MergeProduct:
 		for _, o := range outs[1:] {
 			if h, err = ops.Product(h, o); err != nil {
 				break
@@ -263,7 +263,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 	}
 	for hi := range n.cfg.Head {
 		if h, err = ops.Dense(h, take(), take(), onPool); err == nil {
-			if h, err = activate(h, activationLeakyReLU); err == nil {
+			if h, err = activate(h, ActivationLeakyReLU); err == nil {
 				h, err = dropout(h, n.cfg.HeadDropout)
 			}
 		}
@@ -305,8 +305,8 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 // (ops.NodeMajor).
 func feedsE2N(layers []LayerConfig) bool {
 	for _, l := range layers {
-		if l.Kind != kindDropout {
-			return l.Kind == kindE2N
+		if l.Kind != LayerDropout {
+			return l.Kind == LayerE2N
 		}
 	}
 	return false

@@ -18,7 +18,7 @@ import (
 func TestConcurrentNetworks(t *testing.T) {
 	const p = 6
 	ps, y := plantedCohort(24, p, 0.5, 2)
-	cfg := testConfig("float32", BranchConfig{Layers: layers(e2e(2), LayerConfig{Kind: kindDropout, Rate: 0.2}, e2n(2), n2g(3))})
+	cfg := testConfig("float32", BranchConfig{Layers: layers(e2e(2), LayerConfig{Kind: LayerDropout, Rate: 0.2}, e2n(2), n2g(3))})
 	fit := func(seed int64) *mat.Dense {
 		net, err := New(cfg, p, 1, seed)
 		if err != nil {

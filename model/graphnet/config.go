@@ -6,11 +6,17 @@ import (
 	"math"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/internal/enum"
 )
 
 // Config is a network's architecture and training settings: the
 // [model.network] table of an experiment file. A zero Config is not
-// usable; call SetDefaults and then Validate. For example:
+// usable; call SetDefaults and then Validate. Settings whose default is not
+// 0 are pointers, so that a 0 written in a file is kept (and rejected by
+// Validate where it means nothing) rather than replaced by the default: nil
+// takes the default, and Go code sets one as Epochs: new(200). Word-valued
+// settings take the constants of their types (Merge: MergeProduct); "" takes
+// the default. For example:
 //
 //	[model.network]
 //	merge = "concat"
@@ -37,7 +43,7 @@ type Config struct {
 	Branches []BranchConfig `toml:"branch" json:"branch"`
 	// Merge joins the branch vectors: "concat" (default) or "product"
 	// (element-wise; every branch must end in the same number of features).
-	Merge string `toml:"merge" json:"merge"`
+	Merge Merge `toml:"merge" json:"merge"`
 	// Head holds the sizes of the hidden dense layers of the head (key
 	// "head"); empty means the merged vector feeds the output layer
 	// directly. Default: none.
@@ -56,10 +62,10 @@ type Config struct {
 	// Bengio 2010). The fan-in of a unit is the number of inputs it sums:
 	// 2·C·p for e2e, C·p for e2n, F for graph_conv and dense layers.
 	// Biases start at zero.
-	Init string `toml:"init" json:"init"`
+	Init Init `toml:"init" json:"init"`
 	// DType is the floating-point type of weights and computation (key
 	// "dtype"): "float32" (default) or "float64".
-	DType string `toml:"dtype" json:"dtype"`
+	DType DType `toml:"dtype" json:"dtype"`
 
 	// Loss is the training loss ([model.network.loss]).
 	Loss LossConfig `toml:"loss" json:"loss"`
@@ -67,11 +73,12 @@ type Config struct {
 	Optimizer OptimizerConfig `toml:"optimizer" json:"optimizer"`
 
 	// Epochs is the maximum number of passes over the training set (key
-	// "epochs"). Default 100.
-	Epochs int `toml:"epochs" json:"epochs"`
-	// BatchSize is the number of participants per step (key "batch_size").
-	// The last minibatch of an epoch holds the remainder. Default 16.
-	BatchSize int `toml:"batch_size" json:"batch_size"`
+	// "epochs"), at least 1. Default 100.
+	Epochs *int `toml:"epochs" json:"epochs"`
+	// BatchSize is the number of participants per step (key "batch_size"),
+	// at least 1. The last minibatch of an epoch holds the remainder.
+	// Default 16.
+	BatchSize *int `toml:"batch_size" json:"batch_size"`
 	// Patience stops training after this many epochs without a lower
 	// loss on the inner validation set (key "patience"); 0 never stops
 	// early. Whenever there is a validation set, the weights of the best
@@ -88,16 +95,16 @@ type BranchConfig struct {
 	// structure-only models) or "propagated" (F propagated by the
 	// participant's structural operator S, see Propagate). Default
 	// "functional".
-	Input string `toml:"input" json:"input"`
+	Input Input `toml:"input" json:"input"`
 	// Operator is the kind of the structural operator S built from each
 	// participant's structural matrix (key "operator"), one of the kinds of
 	// data.Operator such as "renormalized-adjacency". It is needed by the
 	// "propagated" input and by graph_conv layers. Default
 	// "renormalized-adjacency" when needed, else none.
-	Operator string `toml:"operator" json:"operator,omitempty"`
+	Operator data.OperatorKind `toml:"operator" json:"operator,omitempty"`
 	// Propagate says how a "propagated" input is formed (key "propagate"):
 	// "left" for S·F or "both" (default) for S·F·Sᵀ.
-	Propagate string `toml:"propagate" json:"propagate,omitempty"`
+	Propagate Propagate `toml:"propagate" json:"propagate,omitempty"`
 	// Layers lists the layers of the branch (key "layers"); at least one.
 	Layers []LayerConfig `toml:"layers" json:"layers"`
 }
@@ -124,7 +131,7 @@ type BranchConfig struct {
 type LayerConfig struct {
 	// Kind is the layer kind (key "kind"): "e2e", "e2n", "graph_conv",
 	// "n2g" or "dropout". Required.
-	Kind string `toml:"kind" json:"kind"`
+	Kind LayerKind `toml:"kind" json:"kind"`
 	// Channels is the number of output channels of e2e and e2n (key
 	// "channels"), at least 1.
 	Channels int `toml:"channels" json:"channels,omitempty"`
@@ -135,7 +142,7 @@ type LayerConfig struct {
 	Rate float64 `toml:"rate" json:"rate,omitempty"`
 	// Activation follows the layer (key "activation"): "leaky_relu"
 	// (default) or "none". Not for dropout.
-	Activation string `toml:"activation" json:"activation,omitempty"`
+	Activation Activation `toml:"activation" json:"activation,omitempty"`
 }
 
 // LossConfig weighs the terms of the training loss. For the residuals
@@ -163,19 +170,22 @@ type OptimizerConfig struct {
 	// Kind is "adamw" (default; Adam with decoupled weight decay,
 	// Loshchilov & Hutter 2019) or "sgd" (stochastic gradient descent with
 	// momentum) (key "kind").
-	Kind string `toml:"kind" json:"kind"`
-	// Rate is the base learning rate (key "rate"). Default 1e-3.
-	Rate float64 `toml:"rate" json:"rate"`
+	Kind OptimizerKind `toml:"kind" json:"kind"`
+	// Rate is the base learning rate (key "rate"), positive. Default 1e-3.
+	Rate *float64 `toml:"rate" json:"rate"`
 	// WeightDecay is the weight decay λ (key "weight_decay"), applied to
 	// every weight and bias: decoupled (w ← w − rate·λ·w) for adamw, added to
 	// the gradient (g ← g + λ·w) for sgd. Default 0.
 	WeightDecay float64 `toml:"weight_decay" json:"weight_decay"`
 	// Beta1 and Beta2 are Adam's moment decay rates (keys "beta1",
-	// "beta2"). Defaults 0.9 and 0.999.
-	Beta1 float64 `toml:"beta1" json:"beta1,omitempty"`
-	Beta2 float64 `toml:"beta2" json:"beta2,omitempty"`
-	// Epsilon is Adam's denominator guard (key "epsilon"). Default 1e-8.
-	Epsilon float64 `toml:"epsilon" json:"epsilon,omitempty"`
+	// "beta2"), each in [0, 1). Defaults 0.9 and 0.999. A 0 is honoured:
+	// beta1 = 0 keeps no running mean of the gradient (m = g), beta2 = 0
+	// no running mean of its square (v = g²).
+	Beta1 *float64 `toml:"beta1" json:"beta1,omitempty"`
+	Beta2 *float64 `toml:"beta2" json:"beta2,omitempty"`
+	// Epsilon is Adam's denominator guard (key "epsilon"), positive.
+	// Default 1e-8.
+	Epsilon *float64 `toml:"epsilon" json:"epsilon,omitempty"`
 	// Momentum is SGD's momentum μ (key "momentum"), in [0, 1):
 	// v ← μ·v + g, w ← w − rate·v. Default 0.9.
 	Momentum *float64 `toml:"momentum" json:"momentum,omitempty"`
@@ -186,147 +196,333 @@ type OptimizerConfig struct {
 	// Schedule sets the learning rate of each epoch e = 0, 1, … (key
 	// "schedule"): "constant" (default), "step" (rate·factor^⌊e/step_epochs⌋)
 	// or "cosine" (min_rate + (rate − min_rate)·(1 + cos(π·e/epochs))/2).
-	Schedule string `toml:"schedule" json:"schedule"`
-	// StepEpochs is the period of the "step" schedule (key "step_epochs").
-	// Default 30.
-	StepEpochs int `toml:"step_epochs" json:"step_epochs,omitempty"`
+	Schedule Schedule `toml:"schedule" json:"schedule"`
+	// StepEpochs is the period of the "step" schedule (key "step_epochs"),
+	// at least 1. Default 30.
+	StepEpochs *int `toml:"step_epochs" json:"step_epochs,omitempty"`
 	// Factor is the multiplier of the "step" schedule (key "factor"), in
 	// (0, 1]. Default 0.1.
-	Factor float64 `toml:"factor" json:"factor,omitempty"`
+	Factor *float64 `toml:"factor" json:"factor,omitempty"`
 	// MinRate is the final rate of the "cosine" schedule (key "min_rate").
 	// Default 0.
 	MinRate float64 `toml:"min_rate" json:"min_rate,omitempty"`
 }
 
-// The layer kinds, inputs and other enumerated values of a Config.
+// Merge is the value of the key model.network.merge: MergeConcat or
+// MergeProduct ("" is unset).
+type Merge string
+
+// Values of model.network.merge.
 const (
-	kindE2E       = "e2e"
-	kindE2N       = "e2n"
-	kindGraphConv = "graph_conv"
-	kindN2G       = "n2g"
-	kindDropout   = "dropout"
-
-	inputFunctional = "functional"
-	inputStructural = "structural"
-	inputPropagated = "propagated"
-
-	activationLeakyReLU = "leaky_relu"
-	activationNone      = "none"
+	MergeConcat  Merge = "concat"  // the branch vectors, one after another
+	MergeProduct Merge = "product" // the element-wise product of the branch vectors
 )
 
-func float64Ptr(v float64) *float64 { return &v }
-func intPtr(v int) *int             { return &v }
+// Init is the value of the key model.network.init: InitHe or InitGlorot
+// ("" is unset).
+type Init string
+
+// Values of model.network.init.
+const (
+	InitHe     Init = "he"
+	InitGlorot Init = "glorot"
+)
+
+// DType is the value of the key model.network.dtype: Float32 or Float64
+// ("" is unset).
+type DType string
+
+// Values of model.network.dtype.
+const (
+	Float32 DType = "float32"
+	Float64 DType = "float64"
+)
+
+// Input is the value of the key input of a [[model.network.branch]]:
+// InputFunctional, InputStructural or InputPropagated ("" is unset).
+type Input string
+
+// Values of the input key of a branch.
+const (
+	InputFunctional Input = "functional" // the functional matrix F
+	InputStructural Input = "structural" // the structural matrix
+	InputPropagated Input = "propagated" // F propagated by the structural operator S
+)
+
+// Propagate is the value of the key propagate of a branch: PropagateLeft
+// or PropagateBoth ("" is unset, and stays so unless input is
+// "propagated").
+type Propagate string
+
+// Values of the propagate key of a branch.
+const (
+	PropagateLeft Propagate = "left" // S·F
+	PropagateBoth Propagate = "both" // S·F·Sᵀ
+)
+
+// LayerKind is the value of the key kind of a layer: LayerE2E, LayerE2N,
+// LayerGraphConv, LayerN2G or LayerDropout ("" is unset, which is an error:
+// the kind is required). See LayerConfig.
+type LayerKind string
+
+// The layer kinds.
+const (
+	LayerE2E       LayerKind = "e2e"
+	LayerE2N       LayerKind = "e2n"
+	LayerGraphConv LayerKind = "graph_conv"
+	LayerN2G       LayerKind = "n2g"
+	LayerDropout   LayerKind = "dropout"
+)
+
+// Activation is the value of the key activation of a layer:
+// ActivationLeakyReLU or ActivationNone ("" is unset, and stays so for
+// dropout layers).
+type Activation string
+
+// Values of the activation key of a layer.
+const (
+	ActivationLeakyReLU Activation = "leaky_relu"
+	ActivationNone      Activation = "none"
+)
+
+// OptimizerKind is the value of the key model.network.optimizer.kind: AdamW
+// or SGD ("" is unset).
+type OptimizerKind string
+
+// The optimizers.
+const (
+	AdamW OptimizerKind = "adamw"
+	SGD   OptimizerKind = "sgd"
+)
+
+// Schedule is the value of the key model.network.optimizer.schedule:
+// ScheduleConstant, ScheduleStep or ScheduleCosine ("" is unset).
+type Schedule string
+
+// The learning-rate schedules.
+const (
+	ScheduleConstant Schedule = "constant"
+	ScheduleStep     Schedule = "step"
+	ScheduleCosine   Schedule = "cosine"
+)
+
+// UnmarshalText sets m to the word text: "concat", "product" or "" (unset).
+// Another word is an error listing these.
+func (m *Merge) UnmarshalText(text []byte) error {
+	return enum.Parse(m, text, MergeConcat, MergeProduct)
+}
+
+// MarshalText returns the word of m.
+func (m Merge) MarshalText() ([]byte, error) { return []byte(m), nil }
+
+// String returns the word of m.
+func (m Merge) String() string { return string(m) }
+
+// UnmarshalText sets i to the word text: "he", "glorot" or "" (unset).
+// Another word is an error listing these.
+func (i *Init) UnmarshalText(text []byte) error { return enum.Parse(i, text, InitHe, InitGlorot) }
+
+// MarshalText returns the word of i.
+func (i Init) MarshalText() ([]byte, error) { return []byte(i), nil }
+
+// String returns the word of i.
+func (i Init) String() string { return string(i) }
+
+// UnmarshalText sets d to the word text: "float32", "float64" or ""
+// (unset). Another word is an error listing these.
+func (d *DType) UnmarshalText(text []byte) error { return enum.Parse(d, text, Float32, Float64) }
+
+// MarshalText returns the word of d.
+func (d DType) MarshalText() ([]byte, error) { return []byte(d), nil }
+
+// String returns the word of d.
+func (d DType) String() string { return string(d) }
+
+// UnmarshalText sets in to the word text: "functional", "structural",
+// "propagated" or "" (unset). Another word is an error listing these.
+func (in *Input) UnmarshalText(text []byte) error {
+	return enum.Parse(in, text, InputFunctional, InputStructural, InputPropagated)
+}
+
+// MarshalText returns the word of in.
+func (in Input) MarshalText() ([]byte, error) { return []byte(in), nil }
+
+// String returns the word of in.
+func (in Input) String() string { return string(in) }
+
+// UnmarshalText sets p to the word text: "left", "both" or "" (unset).
+// Another word is an error listing these.
+func (p *Propagate) UnmarshalText(text []byte) error {
+	return enum.Parse(p, text, PropagateLeft, PropagateBoth)
+}
+
+// MarshalText returns the word of p.
+func (p Propagate) MarshalText() ([]byte, error) { return []byte(p), nil }
+
+// String returns the word of p.
+func (p Propagate) String() string { return string(p) }
+
+// UnmarshalText sets k to the word text: "e2e", "e2n", "graph_conv",
+// "n2g", "dropout" or "" (unset). Another word is an error listing these.
+func (k *LayerKind) UnmarshalText(text []byte) error {
+	return enum.Parse(k, text, LayerE2E, LayerE2N, LayerGraphConv, LayerN2G, LayerDropout)
+}
+
+// MarshalText returns the word of k.
+func (k LayerKind) MarshalText() ([]byte, error) { return []byte(k), nil }
+
+// String returns the word of k.
+func (k LayerKind) String() string { return string(k) }
+
+// UnmarshalText sets a to the word text: "leaky_relu", "none" or ""
+// (unset). Another word is an error listing these.
+func (a *Activation) UnmarshalText(text []byte) error {
+	return enum.Parse(a, text, ActivationLeakyReLU, ActivationNone)
+}
+
+// MarshalText returns the word of a.
+func (a Activation) MarshalText() ([]byte, error) { return []byte(a), nil }
+
+// String returns the word of a.
+func (a Activation) String() string { return string(a) }
+
+// UnmarshalText sets k to the word text: "adamw", "sgd" or "" (unset).
+// Another word is an error listing these.
+func (k *OptimizerKind) UnmarshalText(text []byte) error { return enum.Parse(k, text, AdamW, SGD) }
+
+// MarshalText returns the word of k.
+func (k OptimizerKind) MarshalText() ([]byte, error) { return []byte(k), nil }
+
+// String returns the word of k.
+func (k OptimizerKind) String() string { return string(k) }
+
+// UnmarshalText sets s to the word text: "constant", "step", "cosine" or
+// "" (unset). Another word is an error listing these.
+func (s *Schedule) UnmarshalText(text []byte) error {
+	return enum.Parse(s, text, ScheduleConstant, ScheduleStep, ScheduleCosine)
+}
+
+// MarshalText returns the word of s.
+func (s Schedule) MarshalText() ([]byte, error) { return []byte(s), nil }
+
+// String returns the word of s.
+func (s Schedule) String() string { return string(s) }
 
 // SetDefaults fills every unset field with its documented default.
 func (c *Config) SetDefaults() {
 	if c.Merge == "" {
-		c.Merge = "concat"
+		c.Merge = MergeConcat
 	}
 	if c.Slope == nil {
-		c.Slope = float64Ptr(0.2)
+		c.Slope = new(0.2)
 	}
 	if c.Init == "" {
-		c.Init = "he"
+		c.Init = InitHe
 	}
 	if c.DType == "" {
-		c.DType = "float32"
+		c.DType = Float32
 	}
-	if c.Epochs == 0 {
-		c.Epochs = 100
+	if c.Epochs == nil {
+		c.Epochs = new(100)
 	}
-	if c.BatchSize == 0 {
-		c.BatchSize = 16
+	if c.BatchSize == nil {
+		c.BatchSize = new(16)
 	}
 	if c.Patience == nil {
-		c.Patience = intPtr(20)
+		c.Patience = new(20)
 	}
 	for i := range c.Branches {
 		b := &c.Branches[i]
 		if b.Input == "" {
-			b.Input = inputFunctional
+			b.Input = InputFunctional
 		}
 		if b.Operator == "" && b.needsOperator() {
-			b.Operator = string(data.RenormalizedAdjacency)
+			b.Operator = data.RenormalizedAdjacency
 		}
-		if b.Propagate == "" && b.Input == inputPropagated {
-			b.Propagate = "both"
+		if b.Propagate == "" && b.Input == InputPropagated {
+			b.Propagate = PropagateBoth
 		}
 		for j := range b.Layers {
-			if b.Layers[j].Activation == "" && b.Layers[j].Kind != kindDropout {
-				b.Layers[j].Activation = activationLeakyReLU
+			if b.Layers[j].Activation == "" && b.Layers[j].Kind != LayerDropout {
+				b.Layers[j].Activation = ActivationLeakyReLU
 			}
 		}
 	}
 	l := &c.Loss
 	if l.Abs == nil {
-		l.Abs = float64Ptr(1)
+		l.Abs = new(1.0)
 	}
 	if l.Squared == nil {
-		l.Squared = float64Ptr(1)
+		l.Squared = new(1.0)
 	}
 	if l.Huber == nil {
-		l.Huber = float64Ptr(0)
+		l.Huber = new(0.0)
 	}
 	if l.Delta == nil {
-		l.Delta = float64Ptr(1)
+		l.Delta = new(1.0)
 	}
 	o := &c.Optimizer
 	if o.Kind == "" {
-		o.Kind = "adamw"
+		o.Kind = AdamW
 	}
-	if o.Rate == 0 {
-		o.Rate = 1e-3
+	if o.Rate == nil {
+		o.Rate = new(1e-3)
 	}
-	if o.Beta1 == 0 {
-		o.Beta1 = 0.9
+	if o.Beta1 == nil {
+		o.Beta1 = new(0.9)
 	}
-	if o.Beta2 == 0 {
-		o.Beta2 = 0.999
+	if o.Beta2 == nil {
+		o.Beta2 = new(0.999)
 	}
-	if o.Epsilon == 0 {
-		o.Epsilon = 1e-8
+	if o.Epsilon == nil {
+		o.Epsilon = new(1e-8)
 	}
 	if o.Momentum == nil {
-		o.Momentum = float64Ptr(0.9)
+		o.Momentum = new(0.9)
 	}
 	if o.Schedule == "" {
-		o.Schedule = "constant"
+		o.Schedule = ScheduleConstant
 	}
-	if o.StepEpochs == 0 {
-		o.StepEpochs = 30
+	if o.StepEpochs == nil {
+		o.StepEpochs = new(30)
 	}
-	if o.Factor == 0 {
-		o.Factor = 0.1
+	if o.Factor == nil {
+		o.Factor = new(0.1)
 	}
 }
 
 // clone returns a copy of c that shares no slice or pointer with it.
 func (c Config) clone() Config {
-	f := func(p *float64) *float64 {
-		if p == nil {
-			return nil
-		}
-		return float64Ptr(*p)
-	}
 	c.Branches = append([]BranchConfig(nil), c.Branches...)
 	for i := range c.Branches {
 		c.Branches[i].Layers = append([]LayerConfig(nil), c.Branches[i].Layers...)
 	}
 	c.Head = append([]int(nil), c.Head...)
-	c.Slope = f(c.Slope)
-	if c.Patience != nil {
-		c.Patience = intPtr(*c.Patience)
-	}
-	c.Loss = LossConfig{Abs: f(c.Loss.Abs), Squared: f(c.Loss.Squared), Huber: f(c.Loss.Huber), Delta: f(c.Loss.Delta)}
-	c.Optimizer.Momentum = f(c.Optimizer.Momentum)
+	c.Slope = clonePtr(c.Slope)
+	c.Epochs = clonePtr(c.Epochs)
+	c.BatchSize = clonePtr(c.BatchSize)
+	c.Patience = clonePtr(c.Patience)
+	c.Loss = LossConfig{Abs: clonePtr(c.Loss.Abs), Squared: clonePtr(c.Loss.Squared), Huber: clonePtr(c.Loss.Huber), Delta: clonePtr(c.Loss.Delta)}
+	o := &c.Optimizer
+	o.Rate, o.Beta1, o.Beta2, o.Epsilon = clonePtr(o.Rate), clonePtr(o.Beta1), clonePtr(o.Beta2), clonePtr(o.Epsilon)
+	o.Momentum, o.StepEpochs, o.Factor = clonePtr(o.Momentum), clonePtr(o.StepEpochs), clonePtr(o.Factor)
 	return c
+}
+
+// clonePtr returns a new pointer to the value of p, or nil.
+func clonePtr[T any](p *T) *T {
+	if p == nil {
+		return nil
+	}
+	v := *p
+	return &v
 }
 
 // hasGraphConv reports whether a layer of the branch is a graph
 // convolution, the only layer that reads the operator at every step.
 func (b BranchConfig) hasGraphConv() bool {
 	for _, l := range b.Layers {
-		if l.Kind == kindGraphConv {
+		if l.Kind == LayerGraphConv {
 			return true
 		}
 	}
@@ -334,11 +530,11 @@ func (b BranchConfig) hasGraphConv() bool {
 }
 
 func (b BranchConfig) needsOperator() bool {
-	if b.Input == inputPropagated {
+	if b.Input == InputPropagated {
 		return true
 	}
 	for _, l := range b.Layers {
-		if l.Kind == kindGraphConv {
+		if l.Kind == LayerGraphConv {
 			return true
 		}
 	}
@@ -354,8 +550,8 @@ func (c Config) Validate() error {
 	if len(c.Branches) == 0 {
 		return errors.New("model.network: at least one [[model.network.branch]] is required")
 	}
-	if c.Merge != "concat" && c.Merge != "product" {
-		return fmt.Errorf("model.network.merge: want \"concat\" or \"product\", found %q", c.Merge)
+	if err := enum.Check(c.Merge); err != nil {
+		return fmt.Errorf("model.network.merge: %w", err)
 	}
 	if _, err := archOf(c, 0); err != nil {
 		return err
@@ -371,20 +567,20 @@ func (c Config) Validate() error {
 	if c.Slope == nil || !(*c.Slope >= 0 && *c.Slope < 1) {
 		return fmt.Errorf("model.network.slope: want a slope in [0, 1), found %v", deref(c.Slope))
 	}
-	if c.Init != "he" && c.Init != "glorot" {
-		return fmt.Errorf("model.network.init: want \"he\" or \"glorot\", found %q", c.Init)
+	if err := enum.Check(c.Init); err != nil {
+		return fmt.Errorf("model.network.init: %w", err)
 	}
-	if c.DType != "float32" && c.DType != "float64" {
-		return fmt.Errorf("model.network.dtype: want \"float32\" or \"float64\", found %q", c.DType)
+	if err := enum.Check(c.DType); err != nil {
+		return fmt.Errorf("model.network.dtype: %w", err)
 	}
-	if c.Epochs < 1 {
-		return fmt.Errorf("model.network.epochs: want at least 1, found %d", c.Epochs)
+	if c.Epochs == nil || *c.Epochs < 1 {
+		return fmt.Errorf("model.network.epochs: want at least 1, found %v", deref(c.Epochs))
 	}
-	if c.BatchSize < 1 {
-		return fmt.Errorf("model.network.batch_size: want at least 1, found %d", c.BatchSize)
+	if c.BatchSize == nil || *c.BatchSize < 1 {
+		return fmt.Errorf("model.network.batch_size: want at least 1, found %v", deref(c.BatchSize))
 	}
 	if c.Patience == nil || *c.Patience < 0 {
-		return fmt.Errorf("model.network.patience: want 0 or more epochs, found %v", derefInt(c.Patience))
+		return fmt.Errorf("model.network.patience: want 0 or more epochs, found %v", deref(c.Patience))
 	}
 	if err := c.Loss.validate(); err != nil {
 		return err
@@ -415,43 +611,39 @@ func (l LossConfig) validate() error {
 
 func (o OptimizerConfig) validate() error {
 	const k = "model.network.optimizer."
+	if err := enum.Check(o.Kind); err != nil {
+		return fmt.Errorf(k+"kind: %w", err)
+	}
+	if err := enum.Check(o.Schedule); err != nil {
+		return fmt.Errorf(k+"schedule: %w", err)
+	}
 	switch {
-	case o.Kind != "adamw" && o.Kind != "sgd":
-		return fmt.Errorf(k+"kind: want \"adamw\" or \"sgd\", found %q", o.Kind)
-	case !(o.Rate > 0) || math.IsInf(o.Rate, 0):
-		return fmt.Errorf(k+"rate: want a finite learning rate > 0, found %v", o.Rate)
+	case o.Rate == nil || !(*o.Rate > 0) || math.IsInf(*o.Rate, 0):
+		return fmt.Errorf(k+"rate: want a finite learning rate > 0, found %v", deref(o.Rate))
 	case !(o.WeightDecay >= 0):
 		return fmt.Errorf(k+"weight_decay: want ≥ 0, found %v", o.WeightDecay)
-	case !(o.Beta1 > 0 && o.Beta1 < 1):
-		return fmt.Errorf(k+"beta1: want a value in (0, 1), found %v", o.Beta1)
-	case !(o.Beta2 > 0 && o.Beta2 < 1):
-		return fmt.Errorf(k+"beta2: want a value in (0, 1), found %v", o.Beta2)
-	case !(o.Epsilon > 0):
-		return fmt.Errorf(k+"epsilon: want a value > 0, found %v", o.Epsilon)
+	case o.Beta1 == nil || !(*o.Beta1 >= 0 && *o.Beta1 < 1):
+		return fmt.Errorf(k+"beta1: want a value in [0, 1), found %v", deref(o.Beta1))
+	case o.Beta2 == nil || !(*o.Beta2 >= 0 && *o.Beta2 < 1):
+		return fmt.Errorf(k+"beta2: want a value in [0, 1), found %v", deref(o.Beta2))
+	case o.Epsilon == nil || !(*o.Epsilon > 0):
+		return fmt.Errorf(k+"epsilon: want a value > 0, found %v", deref(o.Epsilon))
 	case o.Momentum == nil || !(*o.Momentum >= 0 && *o.Momentum < 1):
 		return fmt.Errorf(k+"momentum: want a value in [0, 1), found %v", deref(o.Momentum))
 	case !(o.ClipNorm >= 0):
 		return fmt.Errorf(k+"clip_norm: want 0 (off) or a norm > 0, found %v", o.ClipNorm)
-	case o.Schedule != "constant" && o.Schedule != "step" && o.Schedule != "cosine":
-		return fmt.Errorf(k+"schedule: want \"constant\", \"step\" or \"cosine\", found %q", o.Schedule)
-	case o.StepEpochs < 1:
-		return fmt.Errorf(k+"step_epochs: want at least 1, found %d", o.StepEpochs)
-	case !(o.Factor > 0 && o.Factor <= 1):
-		return fmt.Errorf(k+"factor: want a value in (0, 1], found %v", o.Factor)
-	case !(o.MinRate >= 0 && o.MinRate <= o.Rate):
-		return fmt.Errorf(k+"min_rate: want a value in [0, rate = %v], found %v", o.Rate, o.MinRate)
+	case o.StepEpochs == nil || *o.StepEpochs < 1:
+		return fmt.Errorf(k+"step_epochs: want at least 1, found %v", deref(o.StepEpochs))
+	case o.Factor == nil || !(*o.Factor > 0 && *o.Factor <= 1):
+		return fmt.Errorf(k+"factor: want a value in (0, 1], found %v", deref(o.Factor))
+	case !(o.MinRate >= 0 && o.MinRate <= *o.Rate):
+		return fmt.Errorf(k+"min_rate: want a value in [0, rate = %v], found %v", *o.Rate, o.MinRate)
 	}
 	return nil
 }
 
-func deref(v *float64) any {
-	if v == nil {
-		return "nothing"
-	}
-	return *v
-}
-
-func derefInt(v *int) any {
+// deref formats a setting that may be unset.
+func deref[T int | float64](v *T) any {
 	if v == nil {
 		return "nothing"
 	}
@@ -523,22 +715,26 @@ func archOf(c Config, p int) (arch, error) {
 	var a arch
 	for bi, b := range c.Branches {
 		key := fmt.Sprintf("model.network.branch[%d]", bi)
-		switch b.Input {
-		case inputFunctional, inputStructural, inputPropagated:
-		default:
-			return a, fmt.Errorf("%s.input: want \"functional\", \"structural\" or \"propagated\", found %q", key, b.Input)
+		if err := enum.Check(b.Input); err != nil {
+			return a, fmt.Errorf("%s.input: %w", key, err)
+		}
+		if err := enum.Check(b.Operator); err != nil {
+			return a, fmt.Errorf("%s.operator: %w", key, err)
 		}
 		if b.needsOperator() {
-			if _, err := data.ParseOperatorKind(b.Operator); err != nil {
-				return a, fmt.Errorf("%s.operator: %w", key, err)
+			if b.Operator == "" {
+				return a, fmt.Errorf("%s.operator: the branch needs an operator, found none", key)
 			}
 		} else if b.Operator != "" {
 			return a, fmt.Errorf("%s.operator: %q is set but the branch uses no operator (it needs input = \"propagated\" or a graph_conv layer)", key, b.Operator)
 		}
-		if b.Input == inputPropagated && b.Propagate != "left" && b.Propagate != "both" {
-			return a, fmt.Errorf("%s.propagate: want \"left\" or \"both\", found %q", key, b.Propagate)
+		if err := enum.Check(b.Propagate); err != nil {
+			return a, fmt.Errorf("%s.propagate: %w", key, err)
 		}
-		if b.Input != inputPropagated && b.Propagate != "" {
+		if b.Input == InputPropagated && b.Propagate == "" {
+			return a, fmt.Errorf("%s.propagate: input \"propagated\" needs %q or %q, found none", key, PropagateLeft, PropagateBoth)
+		}
+		if b.Input != InputPropagated && b.Propagate != "" {
 			return a, fmt.Errorf("%s.propagate: is set but input is %q, not \"propagated\"", key, b.Input)
 		}
 		if len(b.Layers) == 0 {
@@ -579,8 +775,14 @@ func archOf(c Config, p int) (arch, error) {
 
 // nextShape returns the shape after applying layer l to an input of shape in.
 func nextShape(in layerShape, l LayerConfig) (layerShape, error) {
-	if l.Kind != kindDropout && l.Activation != activationLeakyReLU && l.Activation != activationNone {
-		return in, fmt.Errorf("activation: want \"leaky_relu\" or \"none\", found %q", l.Activation)
+	if err := enum.Check(l.Kind); err != nil {
+		return in, fmt.Errorf("kind: %w", err)
+	}
+	if err := enum.Check(l.Activation); err != nil {
+		return in, fmt.Errorf("activation: %w", err)
+	}
+	if l.Kind != LayerDropout && l.Activation == "" {
+		return in, fmt.Errorf("activation: want %q or %q, found none", ActivationLeakyReLU, ActivationNone)
 	}
 	needChannels := func() error {
 		if l.Channels < 1 {
@@ -601,18 +803,18 @@ func nextShape(in layerShape, l LayerConfig) (layerShape, error) {
 		return nil
 	}
 	switch l.Kind {
-	case kindE2E, kindE2N:
+	case LayerE2E, LayerE2N:
 		if err := needChannels(); err != nil {
 			return in, err
 		}
 		if in.form != edgeForm {
 			return in, fmt.Errorf("needs an edge input (channels × p × p: the branch input or an e2e layer), found the output of a %s layer", formName(in.form))
 		}
-		if l.Kind == kindE2E {
+		if l.Kind == LayerE2E {
 			return layerShape{form: edgeForm, width: size{l.Channels, 0}}, nil
 		}
 		return layerShape{form: nodeForm, width: size{l.Channels, 0}, channelFirst: true}, nil
-	case kindGraphConv:
+	case LayerGraphConv:
 		if err := needSize(); err != nil {
 			return in, err
 		}
@@ -623,7 +825,7 @@ func nextShape(in layerShape, l LayerConfig) (layerShape, error) {
 			return in, fmt.Errorf("needs node features (an e2n or graph_conv layer, or the one-channel branch input), found the output of %s", describe(in))
 		}
 		return layerShape{form: nodeForm, width: size{l.Size, 0}}, nil
-	case kindN2G:
+	case LayerN2G:
 		if err := needSize(); err != nil {
 			return in, err
 		}
@@ -631,7 +833,7 @@ func nextShape(in layerShape, l LayerConfig) (layerShape, error) {
 			return in, errors.New("needs edge or node features, found the output of an n2g layer (use head for further dense layers)")
 		}
 		return layerShape{form: graphForm, width: size{l.Size, 0}}, nil
-	case kindDropout:
+	case LayerDropout:
 		if !(l.Rate >= 0 && l.Rate < 1) {
 			return in, fmt.Errorf("rate: want a rate in [0, 1), found %v", l.Rate)
 		}
@@ -640,7 +842,7 @@ func nextShape(in layerShape, l LayerConfig) (layerShape, error) {
 		}
 		return in, nil
 	}
-	return in, fmt.Errorf("kind: want \"e2e\", \"e2n\", \"graph_conv\", \"n2g\" or \"dropout\", found %q", l.Kind)
+	return in, errors.New(`kind: want "e2e", "e2n", "graph_conv", "n2g" or "dropout", found none`)
 }
 
 func formName(f form) string {

@@ -49,7 +49,7 @@ layers = [{kind = "graph_conv", size = 16, activation = "none"}, {kind = "n2g", 
 	if err := c.Validate(); err != nil {
 		t.Fatal(err)
 	}
-	if *c.Loss.Squared != 1 || *c.Loss.Abs != 0.5 || c.Optimizer.Beta1 != 0.9 || *c.Patience != 5 {
+	if *c.Loss.Squared != 1 || *c.Loss.Abs != 0.5 || *c.Optimizer.Beta1 != 0.9 || *c.Patience != 5 {
 		t.Errorf("defaults or values wrong: %+v", c)
 	}
 	if _, err := New(c, 10, 2, 1); err != nil {
@@ -72,7 +72,7 @@ func TestConfigValidate(t *testing.T) {
 		{"n2g after n2g", func(c *Config) { c.Branches[0].Layers = layers(e2n(4), n2g(8), n2g(4)) }, 0, "model.network.branch[0].layers[2] (n2g): needs edge or node features"},
 		{"zero channels", func(c *Config) { c.Branches[0].Layers[0].Channels = 0 }, 0, "model.network.branch[0].layers[0] (e2e): channels: want at least 1, found 0"},
 		{"size on e2e", func(c *Config) { c.Branches[0].Layers[0].Size = 3 }, 0, "layers[0] (e2e): only the keys channels and activation apply"},
-		{"dropout rate", func(c *Config) { c.Branches[0].Layers = layers(LayerConfig{Kind: kindDropout, Rate: 1}, e2n(2)) }, 0, "layers[0] (dropout): rate: want a rate in [0, 1), found 1"},
+		{"dropout rate", func(c *Config) { c.Branches[0].Layers = layers(LayerConfig{Kind: LayerDropout, Rate: 1}, e2n(2)) }, 0, "layers[0] (dropout): rate: want a rate in [0, 1), found 1"},
 		{"bad activation", func(c *Config) { c.Branches[0].Layers[2].Activation = "tanh" }, 0, `layers[2] (n2g): activation: want "leaky_relu" or "none", found "tanh"`},
 		{"product of different sizes", func(c *Config) {
 			c.Merge = "product"
@@ -83,21 +83,25 @@ func TestConfigValidate(t *testing.T) {
 			c.Branches = append(c.Branches, BranchConfig{Layers: layers(e2n(2))})
 		}, 0, "branch[0] ends in 16, this branch in 2·p"},
 		{"unknown input", func(c *Config) { c.Branches[0].Input = "diffusion" }, 0, `model.network.branch[0].input: want "functional", "structural" or "propagated", found "diffusion"`},
-		{"unknown operator", func(c *Config) { c.Branches[0].Input = "propagated"; c.Branches[0].Operator = "heat" }, 0, `model.network.branch[0].operator: operator "heat" is not one of`},
+		{"unknown operator", func(c *Config) { c.Branches[0].Input = "propagated"; c.Branches[0].Operator = "heat" }, 0, `model.network.branch[0].operator: want "identity", "laplacian", "normalized-laplacian", "renormalized-adjacency" or "scaled-laplacian", found "heat"`},
 		{"operator unused", func(c *Config) { c.Branches[0].Operator = "laplacian" }, 0, "model.network.branch[0].operator: \"laplacian\" is set but the branch uses no operator"},
 		{"bad propagate", func(c *Config) { c.Branches[0].Input = "propagated"; c.Branches[0].Propagate = "right" }, 0, `model.network.branch[0].propagate: want "left" or "both", found "right"`},
 		{"no layers", func(c *Config) { c.Branches[0].Layers = nil }, 0, "model.network.branch[0].layers: want at least one layer"},
 		{"merge", func(c *Config) { c.Merge = "sum" }, 0, `model.network.merge: want "concat" or "product", found "sum"`},
 		{"head size", func(c *Config) { c.Head = []int{8, 0} }, 0, "model.network.head[1]: want a positive layer size, found 0"},
-		{"slope", func(c *Config) { c.Slope = float64Ptr(-1) }, 0, "model.network.slope: want a slope in [0, 1), found -1"},
+		{"slope", func(c *Config) { c.Slope = new(-1.0) }, 0, "model.network.slope: want a slope in [0, 1), found -1"},
 		{"dtype", func(c *Config) { c.DType = "float16" }, 0, `model.network.dtype: want "float32" or "float64", found "float16"`},
-		{"epochs", func(c *Config) { c.Epochs = -1 }, 0, "model.network.epochs: want at least 1, found -1"},
-		{"patience", func(c *Config) { c.Patience = intPtr(-2) }, 0, "model.network.patience: want 0 or more epochs, found -2"},
-		{"loss weights zero", func(c *Config) { c.Loss.Abs = float64Ptr(0); c.Loss.Squared = float64Ptr(0) }, 0, "model.network.loss: the weights abs, squared and huber are all 0"},
-		{"huber delta", func(c *Config) { c.Loss.Delta = float64Ptr(0) }, 0, "model.network.loss.delta: want a finite threshold > 0, found 0"},
+		{"epochs", func(c *Config) { c.Epochs = new(-1) }, 0, "model.network.epochs: want at least 1, found -1"},
+		{"patience", func(c *Config) { c.Patience = new(-2) }, 0, "model.network.patience: want 0 or more epochs, found -2"},
+		{"loss weights zero", func(c *Config) { c.Loss.Abs = new(0.0); c.Loss.Squared = new(0.0) }, 0, "model.network.loss: the weights abs, squared and huber are all 0"},
+		{"huber delta", func(c *Config) { c.Loss.Delta = new(0.0) }, 0, "model.network.loss.delta: want a finite threshold > 0, found 0"},
 		{"optimizer kind", func(c *Config) { c.Optimizer.Kind = "adam" }, 0, `model.network.optimizer.kind: want "adamw" or "sgd", found "adam"`},
-		{"rate", func(c *Config) { c.Optimizer.Rate = -1 }, 0, "model.network.optimizer.rate: want a finite learning rate > 0, found -1"},
-		{"momentum", func(c *Config) { c.Optimizer.Momentum = float64Ptr(1) }, 0, "model.network.optimizer.momentum: want a value in [0, 1), found 1"},
+		{"rate", func(c *Config) { c.Optimizer.Rate = new(-1.0) }, 0, "model.network.optimizer.rate: want a finite learning rate > 0, found -1"},
+		{"momentum", func(c *Config) { c.Optimizer.Momentum = new(1.0) }, 0, "model.network.optimizer.momentum: want a value in [0, 1), found 1"},
+		{"beta1", func(c *Config) { c.Optimizer.Beta1 = new(1.0) }, 0, "model.network.optimizer.beta1: want a value in [0, 1), found 1"},
+		{"beta2", func(c *Config) { c.Optimizer.Beta2 = new(-0.5) }, 0, "model.network.optimizer.beta2: want a value in [0, 1), found -0.5"},
+		{"betas zero", func(c *Config) { c.Optimizer.Beta1, c.Optimizer.Beta2 = new(0.0), new(0.0) }, 0, ""},
+		{"step epochs", func(c *Config) { c.Optimizer.StepEpochs = new(0) }, 0, "model.network.optimizer.step_epochs: want at least 1, found 0"},
 		{"schedule", func(c *Config) { c.Optimizer.Schedule = "linear" }, 0, `model.network.optimizer.schedule: want "constant", "step" or "cosine", found "linear"`},
 		{"min rate", func(c *Config) { c.Optimizer.MinRate = 1 }, 0, "model.network.optimizer.min_rate: want a value in [0, rate = 0.001], found 1"},
 		{"valid", func(c *Config) {}, 0, ""},
@@ -129,6 +133,7 @@ func TestConfigValidate(t *testing.T) {
 
 func TestConfigJSONRoundTrip(t *testing.T) {
 	c := testConfig("float32", BranchConfig{Input: "propagated", Layers: layers(gconv(4), n2g(8))})
+	c.Optimizer.Beta1 = new(0.0) // a 0 that the default must not replace
 	net, err := New(c, 5, 1, 1)
 	if err != nil {
 		t.Fatal(err)
@@ -141,7 +146,7 @@ func TestConfigJSONRoundTrip(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got := back.Config(); got.Branches[0].Operator != "renormalized-adjacency" || *got.Slope != 0.2 || got.Optimizer.Kind != "adamw" {
+	if got := back.Config(); got.Branches[0].Operator != "renormalized-adjacency" || *got.Slope != 0.2 || got.Optimizer.Kind != "adamw" || *got.Optimizer.Beta1 != 0 {
 		t.Errorf("config after Save and Load: %+v", got)
 	}
 }

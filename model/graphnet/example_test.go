@@ -35,14 +35,16 @@ func Example() {
 		return model.Dataset{Participants: ps[from:to], Y: mat.DenseCopyOf(scores.Slice(from, to, 0, 1))}
 	}
 
+	// Settings left out (nil or "") take their defaults; new(100) sets a
+	// number whose default is not 0.
 	cfg := graphnet.Config{
 		Branches: []graphnet.BranchConfig{{
-			Input:  "functional",
-			Layers: []graphnet.LayerConfig{{Kind: "e2n", Channels: 8}, {Kind: "n2g", Size: 16}},
+			Input:  graphnet.InputFunctional,
+			Layers: []graphnet.LayerConfig{{Kind: graphnet.LayerE2N, Channels: 8}, {Kind: graphnet.LayerN2G, Size: 16}},
 		}},
 		Head:      []int{8},
-		Epochs:    100,
-		BatchSize: 16,
+		Epochs:    new(100),
+		BatchSize: new(16),
 	}
 	cfg.SetDefaults()
 	net, err := graphnet.New(cfg, c.P(), 1, 7)

@@ -36,7 +36,7 @@ func TestForwardAgainstNumPy(t *testing.T) {
 	if err := json.Unmarshal(raw, &fix); err != nil {
 		t.Fatal(err)
 	}
-	for _, dtype := range []string{"float64", "float32"} {
+	for _, dtype := range []DType{Float64, Float32} {
 		cfg := testConfig(dtype,
 			BranchConfig{Layers: layers(e2e(2), e2n(3), n2g(4))},
 			BranchConfig{Input: "propagated", Operator: "renormalized-adjacency", Layers: layers(e2n(2), gconv(3), n2g(4))})

@@ -25,9 +25,9 @@ func TestGradientFiniteDifference(t *testing.T) {
 		{"head and huber loss", testConfig("float64", BranchConfig{Input: "propagated", Propagate: "left", Layers: layers(e2n(3), n2g(6))}),
 			func(c *Config) {
 				c.Head = []int{5, 4}
-				c.Loss.Huber = float64Ptr(0.7)
-				c.Loss.Delta = float64Ptr(0.3)
-				c.Slope = float64Ptr(0.1)
+				c.Loss.Huber = new(0.7)
+				c.Loss.Delta = new(0.3)
+				c.Slope = new(0.1)
 			}},
 	}
 	for _, tt := range tests {
@@ -52,7 +52,7 @@ func TestGradientFiniteDifference(t *testing.T) {
 			if _, _, err := net.trainStep(set, all); err != nil {
 				t.Fatal(err)
 			}
-			net.cfg.BatchSize = n // evalLoss in one batch, like the step
+			net.cfg.BatchSize = new(n) // evalLoss in one batch, like the step
 			lossAt := func() float64 {
 				l, err := net.evalLoss(set)
 				if err != nil {

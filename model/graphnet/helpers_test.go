@@ -72,14 +72,14 @@ func withSecondTarget(y *mat.Dense, missing int) *mat.Dense {
 }
 
 // testConfig returns a defaulted config with the given branches.
-func testConfig(dtype string, branches ...BranchConfig) Config {
-	c := Config{Branches: branches, DType: dtype, BatchSize: 4, Epochs: 5}
+func testConfig(dtype DType, branches ...BranchConfig) Config {
+	c := Config{Branches: branches, DType: dtype, BatchSize: new(4), Epochs: new(5)}
 	c.SetDefaults()
 	return c
 }
 
 func layers(ls ...LayerConfig) []LayerConfig { return ls }
-func e2e(c int) LayerConfig                  { return LayerConfig{Kind: kindE2E, Channels: c} }
-func e2n(c int) LayerConfig                  { return LayerConfig{Kind: kindE2N, Channels: c} }
-func n2g(s int) LayerConfig                  { return LayerConfig{Kind: kindN2G, Size: s} }
-func gconv(s int) LayerConfig                { return LayerConfig{Kind: kindGraphConv, Size: s} }
+func e2e(c int) LayerConfig                  { return LayerConfig{Kind: LayerE2E, Channels: c} }
+func e2n(c int) LayerConfig                  { return LayerConfig{Kind: LayerE2N, Channels: c} }
+func n2g(s int) LayerConfig                  { return LayerConfig{Kind: LayerN2G, Size: s} }
+func gconv(s int) LayerConfig                { return LayerConfig{Kind: LayerGraphConv, Size: s} }

@@ -43,7 +43,7 @@ func init() {
 			if !ok {
 				return ""
 			}
-			return fmt.Sprintf("%d branches, up to %d epochs", len(c.Branches), c.Epochs)
+			return fmt.Sprintf("%d branches, up to %d epochs", len(c.Branches), *c.Epochs)
 		},
 	})
 }

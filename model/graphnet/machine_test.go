@@ -22,8 +22,8 @@ import (
 // compute serially: larger ones go to sgemmParallel, whose goroutines and
 // channels allocate at every product.
 func machineConfigs() map[string]Config {
-	drop := LayerConfig{Kind: kindDropout, Rate: 0.25}
-	linear := func(l LayerConfig) LayerConfig { l.Activation = activationNone; return l }
+	drop := LayerConfig{Kind: LayerDropout, Rate: 0.25}
+	linear := func(l LayerConfig) LayerConfig { l.Activation = ActivationNone; return l }
 	return map[string]Config{
 		"one branch": {
 			Branches: []BranchConfig{{Layers: layers(e2e(2), drop, e2n(4), n2g(5))}},
@@ -52,10 +52,10 @@ func machineConfigs() map[string]Config {
 // machineNet returns a network of cfg at p = 8 with two targets and the
 // prepared set of 4 participants it trains on, one of whose scores is
 // missing.
-func machineNet(t *testing.T, cfg Config, dtype string) (*Network, *prepared, []int) {
+func machineNet(t *testing.T, cfg Config, dtype DType) (*Network, *prepared, []int) {
 	t.Helper()
 	const p, n = 8, 4
-	cfg.DType, cfg.BatchSize = dtype, n
+	cfg.DType, cfg.BatchSize = dtype, new(n)
 	cfg.SetDefaults()
 	ps, y := plantedCohort(n, p, 0.5, 7)
 	net, err := New(cfg, p, 2, 5)
@@ -75,8 +75,8 @@ func machineNet(t *testing.T, cfg Config, dtype string) (*Network, *prepared, []
 // loss) allocates nothing.
 func TestTrainStepAllocatesNothing(t *testing.T) {
 	for name, cfg := range machineConfigs() {
-		for _, dtype := range []string{"float32", "float64"} {
-			t.Run(name+"/"+dtype, func(t *testing.T) {
+		for _, dtype := range []DType{Float32, Float64} {
+			t.Run(name+"/"+string(dtype), func(t *testing.T) {
 				net, set, idx := machineNet(t, cfg, dtype)
 				var err error
 				step := func() {
@@ -101,7 +101,7 @@ func TestTrainStepAllocatesNothing(t *testing.T) {
 // with ours: the predictions and gradients must be the same bits.
 func TestMachineMatchesTapeMachine(t *testing.T) {
 	for name, cfg := range machineConfigs() {
-		for _, dtype := range []string{"float32", "float64"} {
+		for _, dtype := range []DType{Float32, Float64} {
 			for _, saliency := range []bool{false, true} {
 				t.Run(fmt.Sprintf("%s/%s/saliency=%v", name, dtype, saliency), func(t *testing.T) {
 					net, set, idx := machineNet(t, cfg, dtype)

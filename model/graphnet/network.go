@@ -84,7 +84,7 @@ func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 	// The helpers stop when the network is no longer reachable (they
 	// hold the pool, not the network).
 	runtime.AddCleanup(n, (*parallel.Pool).Close, n.pool)
-	if cfg.DType == "float64" {
+	if cfg.DType == Float64 {
 		n.dtype = tensor.Float64
 	}
 	n.createParams()
@@ -149,16 +149,16 @@ func (n *Network) Fit(ctx context.Context, train, valid model.Dataset) error {
 	for i := range order {
 		order[i] = i
 	}
-	for epoch := 1; epoch <= n.cfg.Epochs; epoch++ {
-		rate := rateAt(n.cfg.Optimizer, epoch-1, n.cfg.Epochs)
+	for epoch := 1; epoch <= *n.cfg.Epochs; epoch++ {
+		rate := rateAt(n.cfg.Optimizer, epoch-1, *n.cfg.Epochs)
 		n.rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
 		var total float64
 		var count int
-		for start := 0; start < len(order); start += n.cfg.BatchSize {
+		for start := 0; start < len(order); start += *n.cfg.BatchSize {
 			if err := ctx.Err(); err != nil {
 				return err
 			}
-			idx := order[start:min(start+n.cfg.BatchSize, len(order))]
+			idx := order[start:min(start+*n.cfg.BatchSize, len(order))]
 			t, c, err := n.trainStep(trainSet, idx)
 			if err != nil {
 				return fmt.Errorf("graphnet: epoch %d: %w", epoch, err)
@@ -295,8 +295,8 @@ func (n *Network) forEachBatch(set *prepared, f func(g *graph, idx []int)) error
 	for i := range all {
 		all[i] = i
 	}
-	for start := 0; start < len(all); start += n.cfg.BatchSize {
-		idx := all[start:min(start+n.cfg.BatchSize, len(all))]
+	for start := 0; start < len(all); start += *n.cfg.BatchSize {
+		idx := all[start:min(start+*n.cfg.BatchSize, len(all))]
 		g, err := n.graph(len(idx), false)
 		if err != nil {
 			return err
@@ -393,7 +393,7 @@ func (n *Network) prepare(d model.Dataset, what string, needY bool) (*prepared, 
 	for bi, b := range n.cfg.Branches {
 		var kind data.OperatorKind
 		if b.needsOperator() {
-			kind, _ = data.ParseOperatorKind(b.Operator)
+			kind = b.Operator
 		}
 		in := make([][]float64, d.Len())
 		var opers [][]float64 // kept only for graph convolutions, which read it at every step
@@ -440,23 +440,23 @@ func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.P
 	}
 	var m *mat.Dense
 	switch b.Input {
-	case inputStructural:
+	case InputStructural:
 		if err := check(pt.Structural, "structural"); err != nil {
 			return nil, nil, err
 		}
 		m = pt.Structural
-	case inputFunctional:
+	case InputFunctional:
 		if err := check(pt.Functional, "functional"); err != nil {
 			return nil, nil, err
 		}
 		m = pt.Functional
-	case inputPropagated:
+	case InputPropagated:
 		if err := check(pt.Functional, "functional"); err != nil {
 			return nil, nil, err
 		}
 		var sf mat.Dense
 		sf.Mul(op, pt.Functional)
-		if b.Propagate == "both" {
+		if b.Propagate == PropagateBoth {
 			sf.Mul(&sf, op.T())
 		}
 		m = &sf

@@ -25,9 +25,9 @@ func TestTrainingLearnsPlantedSignal(t *testing.T) {
 		Branches:  []BranchConfig{{Layers: layers(e2n(4), n2g(8))}},
 		Head:      []int{8},
 		DType:     "float64",
-		Epochs:    60,
-		BatchSize: 16,
-		Optimizer: OptimizerConfig{Rate: 3e-3},
+		Epochs:    new(60),
+		BatchSize: new(16),
+		Optimizer: OptimizerConfig{Rate: new(3e-3)},
 	}
 	cfg.SetDefaults()
 	net, err := New(cfg, p, 1, 1)
@@ -72,8 +72,8 @@ func TestTrainingLearnsPlantedSignal(t *testing.T) {
 func TestSameSeedSameTrajectory(t *testing.T) {
 	const p = 6
 	ps, y := plantedCohort(30, p, 0.5, 5)
-	for _, dtype := range []string{"float64", "float32"} {
-		cfg := testConfig(dtype, BranchConfig{Layers: layers(e2e(2), LayerConfig{Kind: kindDropout, Rate: 0.3}, e2n(3), n2g(4))})
+	for _, dtype := range []DType{Float64, Float32} {
+		cfg := testConfig(dtype, BranchConfig{Layers: layers(e2e(2), LayerConfig{Kind: LayerDropout, Rate: 0.3}, e2n(3), n2g(4))})
 		cfg.HeadDropout = 0.2
 		cfg.Head = []int{4}
 		fit := func(seed int64) (*Network, *mat.Dense) {
@@ -124,9 +124,9 @@ func TestPartialBatchIsExact(t *testing.T) {
 	ps, y := plantedCohort(n, p, 0.5, 8)
 	y.Set(4, 0, math.NaN())
 	cfg := testConfig("float64", BranchConfig{Input: "propagated", Layers: layers(gconv(3), n2g(4))})
-	cfg.BatchSize = 5
-	cfg.Epochs = 1
-	cfg.Optimizer = OptimizerConfig{Kind: "sgd", Rate: 1e-300, Momentum: float64Ptr(0)}
+	cfg.BatchSize = new(5)
+	cfg.Epochs = new(1)
+	cfg.Optimizer = OptimizerConfig{Kind: SGD, Rate: new(1e-300), Momentum: new(0.0)}
 	cfg.SetDefaults()
 	net, err := New(cfg, p, 1, 3)
 	if err != nil {
@@ -138,14 +138,14 @@ func TestPartialBatchIsExact(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	net.cfg.BatchSize = n
+	net.cfg.BatchSize = new(n)
 	full, _ := net.evalLoss(set)
 	pred, _ := net.Predict(ps)
 	direct := net.loss.mean(mat.Col(nil, 0, pred), mat.Col(nil, 0, y))
 	if math.Abs(batched-full) > 1e-12 || math.Abs(direct-full) > 1e-12 {
 		t.Errorf("loss in batches of 5: %v, in one batch: %v, from predictions: %v", batched, full, direct)
 	}
-	net.cfg.BatchSize = 5
+	net.cfg.BatchSize = new(5)
 	if err := net.Fit(context.Background(), d, model.Dataset{}); err != nil {
 		t.Fatal(err)
 	}
@@ -160,7 +160,7 @@ func TestFitErrors(t *testing.T) {
 	cfg := testConfig("float64", BranchConfig{Layers: layers(e2n(2), n2g(3))})
 	t.Run("diverged", func(t *testing.T) {
 		c := cfg
-		c.Optimizer = OptimizerConfig{Kind: "sgd", Rate: 1e6}
+		c.Optimizer = OptimizerConfig{Kind: SGD, Rate: new(1e6)}
 		c.SetDefaults()
 		net, _ := New(c, p, 1, 1)
 		err := net.Fit(context.Background(), dataset(ps, y, 0, 10), model.Dataset{})
@@ -211,8 +211,8 @@ func TestInputDropout(t *testing.T) {
 	const p = 5
 	ps, y := plantedCohort(12, p, 0.5, 6)
 	cfg := testConfig("float32",
-		BranchConfig{Layers: layers(LayerConfig{Kind: kindDropout, Rate: 0.1}, e2e(2), n2g(3))},
-		BranchConfig{Input: "propagated", Layers: layers(LayerConfig{Kind: kindDropout, Rate: 0.1}, gconv(2), n2g(3))})
+		BranchConfig{Layers: layers(LayerConfig{Kind: LayerDropout, Rate: 0.1}, e2e(2), n2g(3))},
+		BranchConfig{Input: "propagated", Layers: layers(LayerConfig{Kind: LayerDropout, Rate: 0.1}, gconv(2), n2g(3))})
 	net, err := New(cfg, p, 1, 1)
 	if err != nil {
 		t.Fatal(err)
@@ -220,7 +220,7 @@ func TestInputDropout(t *testing.T) {
 	if err := net.Fit(context.Background(), dataset(ps, y, 0, 12), model.Dataset{}); err != nil {
 		t.Fatal(err)
 	}
-	if h := net.History(); len(h) != cfg.Epochs || !math.IsNaN(h[0].ValidLoss) || h[0].Best {
+	if h := net.History(); len(h) != *cfg.Epochs || !math.IsNaN(h[0].ValidLoss) || h[0].Best {
 		t.Errorf("history without a validation set: %+v", h)
 	}
 }

@@ -60,14 +60,14 @@ func newOptimizerOf[T float32 | float64](cfg OptimizerConfig, ws, gs []any, pool
 		}
 		m[i] = make([]T, len(w[i]))
 	}
-	if cfg.Kind == "sgd" {
+	if cfg.Kind == SGD {
 		return &sgd[T]{w: w, g: g, velocity: m, momentum: *cfg.Momentum, decay: cfg.WeightDecay, clip: cfg.ClipNorm, spans: spansOf(w), pool: pool}
 	}
 	v := make([][]T, len(ws))
 	for i := range ws {
 		v[i] = make([]T, len(w[i]))
 	}
-	return &adamW[T]{w: w, g: g, m: m, v: v, beta1: cfg.Beta1, beta2: cfg.Beta2, eps: cfg.Epsilon, decay: cfg.WeightDecay, clip: cfg.ClipNorm, spans: spansOf(w), pool: pool}
+	return &adamW[T]{w: w, g: g, m: m, v: v, beta1: *cfg.Beta1, beta2: *cfg.Beta2, eps: *cfg.Epsilon, decay: cfg.WeightDecay, clip: cfg.ClipNorm, spans: spansOf(w), pool: pool}
 }
 
 // adamW is Adam with decoupled weight decay (Loshchilov & Hutter 2019,
@@ -172,10 +172,10 @@ func clipGlobalNorm[T float32 | float64](gs [][]T, maxNorm float64) {
 // epochs under the schedule of cfg.
 func rateAt(cfg OptimizerConfig, e, epochs int) float64 {
 	switch cfg.Schedule {
-	case "step":
-		return cfg.Rate * math.Pow(cfg.Factor, float64(e/cfg.StepEpochs))
-	case "cosine":
-		return cfg.MinRate + (cfg.Rate-cfg.MinRate)*(1+math.Cos(math.Pi*float64(e)/float64(epochs)))/2
+	case ScheduleStep:
+		return *cfg.Rate * math.Pow(*cfg.Factor, float64(e / *cfg.StepEpochs))
+	case ScheduleCosine:
+		return cfg.MinRate + (*cfg.Rate-cfg.MinRate)*(1+math.Cos(math.Pi*float64(e)/float64(epochs)))/2
 	}
-	return cfg.Rate
+	return *cfg.Rate
 }

@@ -49,7 +49,7 @@ func TestOptimizersAgainstTorch(t *testing.T) {
 	fix := readOptimFixture(t)
 	for _, tc := range fix.Cases {
 		t.Run(tc.Name, func(t *testing.T) {
-			cfg := OptimizerConfig{Kind: tc.Kind, WeightDecay: tc.WeightDecay, Beta1: tc.Beta1, Beta2: tc.Beta2, Epsilon: tc.Eps, Momentum: float64Ptr(tc.Momentum), ClipNorm: tc.Clip}
+			cfg := OptimizerConfig{Kind: OptimizerKind(tc.Kind), WeightDecay: tc.WeightDecay, Beta1: new(tc.Beta1), Beta2: new(tc.Beta2), Epsilon: new(tc.Eps), Momentum: new(tc.Momentum), ClipNorm: tc.Clip}
 			var ws, gs []any
 			var w, g [][]float64
 			for _, w0 := range fix.W0 {
@@ -81,7 +81,7 @@ func TestOptimizersAgainstTorch(t *testing.T) {
 func TestScheduleAgainstTorch(t *testing.T) {
 	fix := readOptimFixture(t)
 	for _, sc := range fix.Schedules {
-		cfg := OptimizerConfig{Schedule: sc.Name, Rate: sc.Rate, StepEpochs: sc.StepEpochs, Factor: sc.Factor, MinRate: sc.MinRate}
+		cfg := OptimizerConfig{Schedule: Schedule(sc.Name), Rate: new(sc.Rate), StepEpochs: new(sc.StepEpochs), Factor: new(sc.Factor), MinRate: sc.MinRate}
 		for e, want := range sc.Rates {
 			if got := rateAt(cfg, e, sc.Epochs); math.Abs(got-want) > 1e-12 {
 				t.Errorf("%s: epoch %d: rate %v, torch %v", sc.Name, e, got, want)
@@ -93,7 +93,7 @@ func TestScheduleAgainstTorch(t *testing.T) {
 func TestOptimizerFloat32(t *testing.T) {
 	// Float32 follows the float64 trajectory to about float32 precision (common
 	// practice, no source).
-	cfg := OptimizerConfig{Kind: "adamw", Beta1: 0.9, Beta2: 0.999, Epsilon: 1e-8, WeightDecay: 0.01, Momentum: float64Ptr(0)}
+	cfg := OptimizerConfig{Kind: AdamW, Beta1: new(0.9), Beta2: new(0.999), Epsilon: new(1e-8), WeightDecay: 0.01, Momentum: new(0.0)}
 	w64, g64 := []float64{1, -2, 3}, []float64{0, 0, 0}
 	w32, g32 := []float32{1, -2, 3}, []float32{0, 0, 0}
 	o64 := newOptimizer(cfg, []any{w64}, []any{g64}, nil)

@@ -38,9 +38,9 @@ func (n *Network) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
 	for t := range sums {
 		sums[t] = make([]float64, pp)
 	}
-	for start := 0; start < set.len(); start += n.cfg.BatchSize {
-		idx := make([]int, 0, n.cfg.BatchSize)
-		for i := start; i < min(start+n.cfg.BatchSize, set.len()); i++ {
+	for start := 0; start < set.len(); start += *n.cfg.BatchSize {
+		idx := make([]int, 0, *n.cfg.BatchSize)
+		for i := start; i < min(start+*n.cfg.BatchSize, set.len()); i++ {
 			idx = append(idx, i)
 		}
 		g, err := n.saliencyGraph(len(idx))

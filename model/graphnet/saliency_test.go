@@ -28,8 +28,8 @@ func TestEdgeImportanceMatchesFiniteDifferences(t *testing.T) {
 		y2.Set(i, 1, -0.5*y.At(i, 0)+0.1*float64(i%3))
 	}
 	cfg := testConfig("float64",
-		BranchConfig{Input: inputFunctional, Layers: layers(e2e(2), e2n(3), n2g(4))},
-		BranchConfig{Input: inputFunctional, Layers: layers(gconv(3), n2g(4))},
+		BranchConfig{Input: InputFunctional, Layers: layers(e2e(2), e2n(3), n2g(4))},
+		BranchConfig{Input: InputFunctional, Layers: layers(gconv(3), n2g(4))},
 	)
 	cfg.Head = []int{5}
 	net, err := New(cfg, p, 2, 7)
@@ -100,9 +100,9 @@ func TestEdgeImportancePlantedEdgesRankFirst(t *testing.T) {
 		q.Functional = atanhOffDiagonal(q.Functional)
 		y.Set(i, 0, (q.Scores[0]-mean)/sd)
 	}
-	cfg := testConfig("float32", BranchConfig{Input: inputFunctional, Layers: layers(e2n(8), n2g(8))})
-	cfg.Epochs = 60
-	cfg.BatchSize = 16
+	cfg := testConfig("float32", BranchConfig{Input: InputFunctional, Layers: layers(e2n(8), n2g(8))})
+	cfg.Epochs = new(60)
+	cfg.BatchSize = new(16)
 	net, err := New(cfg, c.P(), 1, 4)
 	if err != nil {
 		t.Fatal(err)
@@ -161,10 +161,10 @@ func BenchmarkEdgeImportance(b *testing.B) {
 	const p, n = 268, 55
 	ps, _ := plantedCohort(n, p, 0.5, 1)
 	cfg := testConfig("float32",
-		BranchConfig{Input: inputFunctional, Layers: layers(e2e(8), e2n(16), n2g(32))},
-		BranchConfig{Input: inputFunctional, Layers: layers(gconv(16), n2g(32))},
+		BranchConfig{Input: InputFunctional, Layers: layers(e2e(8), e2n(16), n2g(32))},
+		BranchConfig{Input: InputFunctional, Layers: layers(gconv(16), n2g(32))},
 	)
-	cfg.BatchSize = 16
+	cfg.BatchSize = new(16)
 	net, err := New(cfg, p, 2, 1)
 	if err != nil {
 		b.Fatal(err)

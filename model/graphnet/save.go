@@ -13,6 +13,7 @@ import (
 
 	"codeberg.org/sbinet/npyio/npz"
 
+	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/model"
 )
 
@@ -26,18 +27,18 @@ const (
 
 // manifest is the JSON document manifest.json of a saved network.
 type manifest struct {
-	Format    string          `json:"format"`
-	Version   int             `json:"version"`
-	Config    Config          `json:"config"`
-	P         int             `json:"p"`
-	Targets   int             `json:"targets"`
-	Seed      int64           `json:"seed"`
-	DType     string          `json:"dtype"`
-	Operators []string        `json:"operators"`
-	Weights   string          `json:"weights"`
-	Arrays    []arrayInfo     `json:"arrays"`
-	History   []epochRecord   `json:"history"`
-	Fitted    json.RawMessage `json:"fitted,omitempty"`
+	Format    string              `json:"format"`
+	Version   int                 `json:"version"`
+	Config    Config              `json:"config"`
+	P         int                 `json:"p"`
+	Targets   int                 `json:"targets"`
+	Seed      int64               `json:"seed"`
+	DType     DType               `json:"dtype"`
+	Operators []data.OperatorKind `json:"operators"`
+	Weights   string              `json:"weights"`
+	Arrays    []arrayInfo         `json:"arrays"`
+	History   []epochRecord       `json:"history"`
+	Fitted    json.RawMessage     `json:"fitted,omitempty"`
 }
 
 type arrayInfo struct {

@@ -6,13 +6,15 @@ import (
 	"math"
 	"strings"
 
+	"github.com/skein-neuro/skein/internal/enum"
 	"github.com/skein-neuro/skein/model"
 )
 
 // Config chooses one baseline and its settings: the sub-tables of a
 // [[model]] entry of an experiment file, [model.mean], [model.ridge],
 // [model.kernel_ridge] or [model.cpm]. Exactly one field is set; a Config
-// with none set chooses no baseline (Kind returns "").
+// with none set chooses no baseline (Kind returns ""). In the settings, ""
+// and nil take the default; Go code sets a number as InnerFolds: new(10).
 type Config struct {
 	Mean        *MeanConfig        `toml:"mean,omitempty"`
 	Ridge       *RidgeConfig       `toml:"ridge,omitempty"`
@@ -20,48 +22,150 @@ type Config struct {
 	CPM         *CPMConfig         `toml:"cpm,omitempty"`
 }
 
-// Values of the input key: which connectome's edges a baseline reads.
+// Input is the value of the input key of a baseline: which connectome's
+// edges it reads. One of InputFunctional, InputStructural or InputBoth; ""
+// is unset (SetDefaults makes it InputFunctional).
+type Input string
+
+// Values of the input key.
 const (
-	InputFunctional = "functional" // upper triangle of Participant.Functional
-	InputStructural = "structural" // upper triangle of Participant.Structural
-	InputBoth       = "both"       // functional edges, then structural edges
+	InputFunctional Input = "functional" // upper triangle of Participant.Functional
+	InputStructural Input = "structural" // upper triangle of Participant.Structural
+	InputBoth       Input = "both"       // functional edges, then structural edges
 )
+
+// AlphaScale is the value of the alpha_scale key: AlphaRelative or
+// AlphaAbsolute; "" is unset (SetDefaults makes it AlphaRelative).
+type AlphaScale string
 
 // Values of the alpha_scale key.
 const (
 	// AlphaRelative multiplies each alpha by the mean eigenvalue of the
 	// training fold's kernel, trace(K)/n, which for z-scored edges is the
 	// number of non-constant edges: the same grid then suits any cohort size.
-	AlphaRelative = "relative"
+	AlphaRelative AlphaScale = "relative"
 	// AlphaAbsolute uses each alpha as the penalty itself, as
 	// scikit-learn's Ridge and KernelRidge do.
-	AlphaAbsolute = "absolute"
+	AlphaAbsolute AlphaScale = "absolute"
 )
+
+// Standardization is the value of the standardize key of [model.ridge]:
+// StandardizeZScore or StandardizeCenter; "" is unset (SetDefaults makes it
+// StandardizeZScore).
+type Standardization string
 
 // Values of the standardize key of [model.ridge].
 const (
-	StandardizeZScore = "zscore" // subtract the training mean, divide by the training SD
-	StandardizeCenter = "center" // subtract the training mean only
+	StandardizeZScore Standardization = "zscore" // subtract the training mean, divide by the training SD
+	StandardizeCenter Standardization = "center" // subtract the training mean only
 )
+
+// Kernel is the value of the kernel key of [model.kernel_ridge]:
+// KernelLinear or KernelCorrelation; "" is unset (SetDefaults makes it
+// KernelCorrelation).
+type Kernel string
 
 // Values of the kernel key of [model.kernel_ridge].
 const (
-	KernelLinear      = "linear"      // K(a, b) = a·b
-	KernelCorrelation = "correlation" // K(a, b) = Pearson r of a and b
+	KernelLinear      Kernel = "linear"      // K(a, b) = a·b
+	KernelCorrelation Kernel = "correlation" // K(a, b) = Pearson r of a and b
 )
+
+// Correlation is the value of the correlation key of [model.cpm]:
+// CorrelationPearson or CorrelationSpearman; "" is unset (SetDefaults makes
+// it CorrelationPearson).
+type Correlation string
 
 // Values of the correlation key of [model.cpm].
 const (
-	CorrelationPearson  = "pearson"
-	CorrelationSpearman = "spearman"
+	CorrelationPearson  Correlation = "pearson"
+	CorrelationSpearman Correlation = "spearman"
 )
+
+// CPMNetwork is the value of the network key of [model.cpm]: which
+// network strengths predict the score. One of NetworkPositive,
+// NetworkNegative or NetworkBoth; "" is unset (SetDefaults makes it
+// NetworkBoth).
+type CPMNetwork string
 
 // Values of the network key of [model.cpm].
 const (
-	NetworkPositive = "positive" // y ~ positive strength
-	NetworkNegative = "negative" // y ~ negative strength
-	NetworkBoth     = "both"     // y ~ positive strength + negative strength
+	NetworkPositive CPMNetwork = "positive" // y ~ positive strength
+	NetworkNegative CPMNetwork = "negative" // y ~ negative strength
+	NetworkBoth     CPMNetwork = "both"     // y ~ positive strength + negative strength
 )
+
+// UnmarshalText sets in to the word text: "functional", "structural",
+// "both" or "" (unset). Another word is an error listing these.
+func (in *Input) UnmarshalText(text []byte) error {
+	return enum.Parse(in, text, InputFunctional, InputStructural, InputBoth)
+}
+
+// MarshalText returns the word of in.
+func (in Input) MarshalText() ([]byte, error) { return []byte(in), nil }
+
+// String returns the word of in.
+func (in Input) String() string { return string(in) }
+
+// UnmarshalText sets a to the word text: "relative", "absolute" or ""
+// (unset). Another word is an error listing these.
+func (a *AlphaScale) UnmarshalText(text []byte) error {
+	return enum.Parse(a, text, AlphaRelative, AlphaAbsolute)
+}
+
+// MarshalText returns the word of a.
+func (a AlphaScale) MarshalText() ([]byte, error) { return []byte(a), nil }
+
+// String returns the word of a.
+func (a AlphaScale) String() string { return string(a) }
+
+// UnmarshalText sets s to the word text: "zscore", "center" or ""
+// (unset). Another word is an error listing these.
+func (s *Standardization) UnmarshalText(text []byte) error {
+	return enum.Parse(s, text, StandardizeZScore, StandardizeCenter)
+}
+
+// MarshalText returns the word of s.
+func (s Standardization) MarshalText() ([]byte, error) { return []byte(s), nil }
+
+// String returns the word of s.
+func (s Standardization) String() string { return string(s) }
+
+// UnmarshalText sets k to the word text: "correlation", "linear" or ""
+// (unset). Another word is an error listing these.
+func (k *Kernel) UnmarshalText(text []byte) error {
+	return enum.Parse(k, text, KernelCorrelation, KernelLinear)
+}
+
+// MarshalText returns the word of k.
+func (k Kernel) MarshalText() ([]byte, error) { return []byte(k), nil }
+
+// String returns the word of k.
+func (k Kernel) String() string { return string(k) }
+
+// UnmarshalText sets c to the word text: "pearson", "spearman" or ""
+// (unset). Another word is an error listing these.
+func (c *Correlation) UnmarshalText(text []byte) error {
+	return enum.Parse(c, text, CorrelationPearson, CorrelationSpearman)
+}
+
+// MarshalText returns the word of c.
+func (c Correlation) MarshalText() ([]byte, error) { return []byte(c), nil }
+
+// String returns the word of c.
+func (c Correlation) String() string { return string(c) }
+
+// UnmarshalText sets n to the word text: "positive", "negative", "both"
+// or "" (unset). Another word is an error listing these.
+func (n *CPMNetwork) UnmarshalText(text []byte) error {
+	return enum.Parse(n, text, NetworkPositive, NetworkNegative, NetworkBoth)
+}
+
+// MarshalText returns the word of n.
+func (n CPMNetwork) MarshalText() ([]byte, error) { return []byte(n), nil }
+
+// String returns the word of n.
+func (n CPMNetwork) String() string { return string(n) }
 
 // Defaults.
 const (
@@ -87,49 +191,50 @@ type MeanConfig struct{}
 // ([model.ridge]).
 type RidgeConfig struct {
 	// Input is "functional" (default), "structural" or "both".
-	Input string `toml:"input"`
+	Input Input `toml:"input"`
 	// Standardize is "zscore" (default) or "center": how each edge is
 	// scaled with the training fold's mean and SD (population SD; an edge
 	// constant over the fold is set to zero).
-	Standardize string `toml:"standardize"`
+	Standardize Standardization `toml:"standardize"`
 	// Alphas is the penalty grid searched by inner cross-validation, each
 	// positive (zero is allowed and means least squares). Default
 	// DefaultAlphas() when AlphaScale is "relative"; required when it is
-	// "absolute".
+	// "absolute". An empty grid (alphas = []) is an error.
 	Alphas []float64 `toml:"alphas"`
 	// AlphaScale is "relative" (default) or "absolute"; see AlphaRelative.
-	AlphaScale string `toml:"alpha_scale"`
-	// InnerFolds is the number of inner folds used to choose alpha
-	// (default 5, at least 2). With a single alpha no inner
-	// cross-validation is run.
-	InnerFolds int `toml:"inner_folds"`
+	AlphaScale AlphaScale `toml:"alpha_scale"`
+	// InnerFolds is the number of inner folds used to choose alpha, at
+	// least 2; nil takes DefaultInnerFolds (set it from Go as new(10)).
+	// With a single alpha no inner cross-validation is run.
+	InnerFolds *int `toml:"inner_folds"`
 }
 
 // KernelRidgeConfig configures kernel ridge regression between
 // participants' edge vectors ([model.kernel_ridge]).
 type KernelRidgeConfig struct {
 	// Input is "functional" (default), "structural" or "both".
-	Input string `toml:"input"`
+	Input Input `toml:"input"`
 	// Kernel is "correlation" (default) or "linear".
-	Kernel string `toml:"kernel"`
+	Kernel Kernel `toml:"kernel"`
 	// Alphas, AlphaScale and InnerFolds are as in RidgeConfig.
-	Alphas     []float64 `toml:"alphas"`
-	AlphaScale string    `toml:"alpha_scale"`
-	InnerFolds int       `toml:"inner_folds"`
+	Alphas     []float64  `toml:"alphas"`
+	AlphaScale AlphaScale `toml:"alpha_scale"`
+	InnerFolds *int       `toml:"inner_folds"`
 }
 
 // CPMConfig configures connectome-based predictive modelling ([model.cpm]).
 type CPMConfig struct {
 	// Input is "functional" (default), "structural" or "both".
-	Input string `toml:"input"`
+	Input Input `toml:"input"`
 	// Correlation is "pearson" (default) or "spearman": how each edge is
 	// correlated with the score.
-	Correlation string `toml:"correlation"`
+	Correlation Correlation `toml:"correlation"`
 	// PThreshold selects the edges whose two-sided p-value of r is below
-	// it (default 0.01; in (0, 1]).
-	PThreshold float64 `toml:"p_threshold"`
+	// it, in (0, 1]; nil takes DefaultPThreshold (set it from Go as
+	// new(0.05)).
+	PThreshold *float64 `toml:"p_threshold"`
 	// Network is "both" (default), "positive" or "negative".
-	Network string `toml:"network"`
+	Network CPMNetwork `toml:"network"`
 }
 
 // Kind returns the key of the chosen baseline ("mean", "ridge",
@@ -183,31 +288,32 @@ func (c *Config) SetDefaults() {
 		setDefault(&p.Input, InputFunctional)
 		setDefault(&p.Correlation, CorrelationPearson)
 		setDefault(&p.Network, NetworkBoth)
-		if p.PThreshold == 0 {
-			p.PThreshold = DefaultPThreshold
+		if p.PThreshold == nil {
+			p.PThreshold = new(DefaultPThreshold)
 		}
 	}
 }
 
-func setDefault(s *string, def string) {
+func setDefault[T ~string](s *T, def T) {
 	if *s == "" {
 		*s = def
 	}
 }
 
-func setAlphaDefaults(alphas *[]float64, scale *string, folds *int) {
+func setAlphaDefaults(alphas *[]float64, scale *AlphaScale, folds **int) {
 	setDefault(scale, AlphaRelative)
 	if *alphas == nil && *scale == AlphaRelative {
 		*alphas = DefaultAlphas()
 	}
-	if *folds == 0 {
-		*folds = DefaultInnerFolds
+	if *folds == nil {
+		*folds = new(DefaultInnerFolds)
 	}
 }
 
 // Validate reports the first setting that cannot work, naming its key
 // (for example "model.ridge.alphas: must be positive, found -1"). It is an
-// error to set no baseline or more than one.
+// error to set no baseline or more than one. It expects SetDefaults to have
+// been called.
 func (c Config) Validate() error {
 	switch kinds := c.kinds(); len(kinds) {
 	case 0:
@@ -218,65 +324,53 @@ func (c Config) Validate() error {
 	}
 	if r := c.Ridge; r != nil {
 		const key = "model.ridge"
-		if err := checkEnum(key+".input", r.Input, InputFunctional, InputStructural, InputBoth); err != nil {
-			return err
+		if err := enum.Check(r.Input); err != nil {
+			return fmt.Errorf("%s.input: %w", key, err)
 		}
-		if err := checkEnum(key+".standardize", r.Standardize, StandardizeZScore, StandardizeCenter); err != nil {
-			return err
+		if err := enum.Check(r.Standardize); err != nil {
+			return fmt.Errorf("%s.standardize: %w", key, err)
 		}
 		return checkAlphas(key, r.Alphas, r.AlphaScale, r.InnerFolds)
 	}
 	if k := c.KernelRidge; k != nil {
 		const key = "model.kernel_ridge"
-		if err := checkEnum(key+".input", k.Input, InputFunctional, InputStructural, InputBoth); err != nil {
-			return err
+		if err := enum.Check(k.Input); err != nil {
+			return fmt.Errorf("%s.input: %w", key, err)
 		}
-		if err := checkEnum(key+".kernel", k.Kernel, KernelLinear, KernelCorrelation); err != nil {
-			return err
+		if err := enum.Check(k.Kernel); err != nil {
+			return fmt.Errorf("%s.kernel: %w", key, err)
 		}
 		return checkAlphas(key, k.Alphas, k.AlphaScale, k.InnerFolds)
 	}
 	if p := c.CPM; p != nil {
 		const key = "model.cpm"
-		if err := checkEnum(key+".input", p.Input, InputFunctional, InputStructural, InputBoth); err != nil {
-			return err
+		if err := enum.Check(p.Input); err != nil {
+			return fmt.Errorf("%s.input: %w", key, err)
 		}
-		if err := checkEnum(key+".correlation", p.Correlation, CorrelationPearson, CorrelationSpearman); err != nil {
-			return err
+		if err := enum.Check(p.Correlation); err != nil {
+			return fmt.Errorf("%s.correlation: %w", key, err)
 		}
-		if err := checkEnum(key+".network", p.Network, NetworkPositive, NetworkNegative, NetworkBoth); err != nil {
-			return err
+		if err := enum.Check(p.Network); err != nil {
+			return fmt.Errorf("%s.network: %w", key, err)
 		}
-		if !(p.PThreshold > 0 && p.PThreshold <= 1) {
-			return fmt.Errorf("%s.p_threshold: must be in (0, 1], found %v", key, p.PThreshold)
+		if p.PThreshold == nil || !(*p.PThreshold > 0 && *p.PThreshold <= 1) {
+			return fmt.Errorf("%s.p_threshold: must be in (0, 1], found %s", key, optional(p.PThreshold))
 		}
 	}
 	return nil
 }
 
-func checkEnum(key, value string, allowed ...string) error {
-	for _, a := range allowed {
-		if value == a {
-			return nil
-		}
+// optional formats a setting that may be unset.
+func optional[T int | float64](v *T) string {
+	if v == nil {
+		return "nothing"
 	}
-	return fmt.Errorf("%s: must be %s, found %q", key, quoteList(allowed), value)
+	return fmt.Sprint(*v)
 }
 
-func quoteList(values []string) string {
-	quoted := make([]string, len(values))
-	for i, v := range values {
-		quoted[i] = fmt.Sprintf("%q", v)
-	}
-	if len(quoted) == 1 {
-		return quoted[0]
-	}
-	return strings.Join(quoted[:len(quoted)-1], ", ") + " or " + quoted[len(quoted)-1]
-}
-
-func checkAlphas(key string, alphas []float64, scale string, folds int) error {
-	if err := checkEnum(key+".alpha_scale", scale, AlphaRelative, AlphaAbsolute); err != nil {
-		return err
+func checkAlphas(key string, alphas []float64, scale AlphaScale, folds *int) error {
+	if err := enum.Check(scale); err != nil {
+		return fmt.Errorf("%s.alpha_scale: %w", key, err)
 	}
 	if len(alphas) == 0 {
 		return fmt.Errorf("%s.alphas: at least one penalty is required with alpha_scale = %q", key, scale)
@@ -286,8 +380,8 @@ func checkAlphas(key string, alphas []float64, scale string, folds int) error {
 			return fmt.Errorf("%s.alphas: must be positive or zero, found %v", key, a)
 		}
 	}
-	if folds < 2 {
-		return fmt.Errorf("%s.inner_folds: must be at least 2, found %d", key, folds)
+	if folds == nil || *folds < 2 {
+		return fmt.Errorf("%s.inner_folds: must be at least 2, found %s", key, optional(folds))
 	}
 	return nil
 }

@@ -28,19 +28,19 @@ func TestConfigDefaults(t *testing.T) {
 		t.Errorf("[model.mean]: kind %q, validate %v", c.Kind(), c.Validate())
 	}
 	c := decodeConfig(t, "[model.ridge]\n")
-	want := RidgeConfig{Input: "functional", Standardize: "zscore", Alphas: DefaultAlphas(), AlphaScale: "relative", InnerFolds: 5}
-	if got := *c.Ridge; got.Input != want.Input || got.Standardize != want.Standardize || !slices.Equal(got.Alphas, want.Alphas) || got.AlphaScale != want.AlphaScale || got.InnerFolds != want.InnerFolds {
+	want := RidgeConfig{Input: "functional", Standardize: "zscore", Alphas: DefaultAlphas(), AlphaScale: "relative", InnerFolds: new(5)}
+	if got := *c.Ridge; got.Input != want.Input || got.Standardize != want.Standardize || !slices.Equal(got.Alphas, want.Alphas) || got.AlphaScale != want.AlphaScale || *got.InnerFolds != *want.InnerFolds {
 		t.Errorf("ridge defaults %+v, want %+v", got, want)
 	}
 	if a := DefaultAlphas(); a[0] != 1e-3 || a[6] != 1 || a[12] != 1e3 {
 		t.Errorf("DefaultAlphas() = %v", a)
 	}
 	k := decodeConfig(t, "[model.kernel_ridge]\nkernel = \"linear\"\n")
-	if k.Kind() != "kernel_ridge" || k.KernelRidge.Kernel != "linear" || k.KernelRidge.InnerFolds != 5 || k.Validate() != nil {
+	if k.Kind() != "kernel_ridge" || k.KernelRidge.Kernel != "linear" || *k.KernelRidge.InnerFolds != 5 || k.Validate() != nil {
 		t.Errorf("kernel_ridge: %+v", *k.KernelRidge)
 	}
 	p := decodeConfig(t, "[model.cpm]\n")
-	if *p.CPM != (CPMConfig{Input: "functional", Correlation: "pearson", PThreshold: 0.01, Network: "both"}) {
+	if cpm := *p.CPM; cpm.Input != "functional" || cpm.Correlation != "pearson" || *cpm.PThreshold != 0.01 || cpm.Network != "both" {
 		t.Errorf("cpm defaults %+v", *p.CPM)
 	}
 	if (Config{}).Kind() != "" {
@@ -51,16 +51,16 @@ func TestConfigDefaults(t *testing.T) {
 func TestConfigValidate(t *testing.T) {
 	tests := []struct{ text, want string }{
 		{"[model.ridge]\nalphas = [1, -1]\n", "model.ridge.alphas: must be positive or zero, found -1"},
-		{"[model.ridge]\ninput = \"fmri\"\n", `model.ridge.input: must be "functional", "structural" or "both", found "fmri"`},
-		{"[model.ridge]\nstandardize = \"robust\"\n", `model.ridge.standardize: must be "zscore" or "center", found "robust"`},
+		{"[model.ridge]\ninput = \"fmri\"\n", `model.ridge.input: want "functional", "structural" or "both", found "fmri"`},
+		{"[model.ridge]\nstandardize = \"robust\"\n", `model.ridge.standardize: want "zscore" or "center", found "robust"`},
 		{"[model.ridge]\ninner_folds = 1\n", "model.ridge.inner_folds: must be at least 2, found 1"},
 		{"[model.ridge]\nalpha_scale = \"absolute\"\n", `model.ridge.alphas: at least one penalty is required with alpha_scale = "absolute"`},
-		{"[model.ridge]\nalpha_scale = \"trace\"\n", `model.ridge.alpha_scale: must be "relative" or "absolute", found "trace"`},
-		{"[model.kernel_ridge]\nkernel = \"rbf\"\n", `model.kernel_ridge.kernel: must be "linear" or "correlation", found "rbf"`},
+		{"[model.ridge]\nalpha_scale = \"trace\"\n", `model.ridge.alpha_scale: want "relative" or "absolute", found "trace"`},
+		{"[model.kernel_ridge]\nkernel = \"rbf\"\n", `model.kernel_ridge.kernel: want "correlation" or "linear", found "rbf"`},
 		{"[model.kernel_ridge]\nalphas = []\n", "model.kernel_ridge.alphas: at least one penalty is required"},
 		{"[model.cpm]\np_threshold = 2\n", "model.cpm.p_threshold: must be in (0, 1], found 2"},
-		{"[model.cpm]\nnetwork = \"all\"\n", `model.cpm.network: must be "positive", "negative" or "both", found "all"`},
-		{"[model.cpm]\ncorrelation = \"kendall\"\n", `model.cpm.correlation: must be "pearson" or "spearman", found "kendall"`},
+		{"[model.cpm]\nnetwork = \"all\"\n", `model.cpm.network: want "positive", "negative" or "both", found "all"`},
+		{"[model.cpm]\ncorrelation = \"kendall\"\n", `model.cpm.correlation: want "pearson" or "spearman", found "kendall"`},
 		{"[model.mean]\n[model.cpm]\n", "model: tables model.mean and model.cpm are all set; choose one"},
 		{"", "model: no baseline table"},
 	}

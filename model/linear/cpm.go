@@ -82,7 +82,7 @@ func (c *CPM) Fit(ctx context.Context, train, valid model.Dataset) error {
 		}
 		xFit := subMatrix(x, pat.rows, nil)
 		corr := newEdgeCorrelator(xFit, c.cfg.Correlation == CorrelationSpearman)
-		rCrit := CriticalR(len(pat.rows), c.cfg.PThreshold)
+		rCrit := CriticalR(len(pat.rows), *c.cfg.PThreshold)
 		// Columns go through in chunks to bound the d × chunk correlations.
 		const chunk = 64
 		for first := 0; first < len(pat.cols); first += chunk {
@@ -97,7 +97,7 @@ func (c *CPM) Fit(ctx context.Context, train, valid model.Dataset) error {
 				var pos, neg []int
 				for k := 0; k < d; k++ {
 					v := r.At(k, a)
-					if !selected(v, rCrit, len(pat.rows), c.cfg.PThreshold) {
+					if !selected(v, rCrit, len(pat.rows), *c.cfg.PThreshold) {
 						continue
 					}
 					if v > 0 {

@@ -23,12 +23,12 @@ func TestCPMAgainstSciPy(t *testing.T) {
 	var fixture struct {
 		fixtureCohort
 		Cases []struct {
-			Correlation string    `json:"correlation"`
-			Network     string    `json:"network"`
-			PThreshold  float64   `json:"p_threshold"`
-			Positive    []int     `json:"positive"`
-			Negative    []int     `json:"negative"`
-			Predictions []float64 `json:"predictions"`
+			Correlation Correlation `json:"correlation"`
+			Network     CPMNetwork  `json:"network"`
+			PThreshold  float64     `json:"p_threshold"`
+			Positive    []int       `json:"positive"`
+			Negative    []int       `json:"negative"`
+			Predictions []float64   `json:"predictions"`
 		} `json:"cases"`
 		CriticalR []struct {
 			N int     `json:"n"`
@@ -45,8 +45,8 @@ func TestCPMAgainstSciPy(t *testing.T) {
 	c := fixture.fixtureCohort
 	train, test := c.dataset(c.Train), c.dataset(c.Test)
 	for _, tc := range fixture.Cases {
-		t.Run(tc.Correlation+"/"+tc.Network, func(t *testing.T) {
-			m := NewCPM(CPMConfig{Input: InputFunctional, Correlation: tc.Correlation, PThreshold: tc.PThreshold, Network: tc.Network})
+		t.Run(string(tc.Correlation)+"/"+string(tc.Network), func(t *testing.T) {
+			m := NewCPM(CPMConfig{Input: InputFunctional, Correlation: tc.Correlation, PThreshold: new(tc.PThreshold), Network: tc.Network})
 			if err := m.Fit(context.Background(), train, model.Dataset{}); err != nil {
 				t.Fatal(err)
 			}
@@ -122,7 +122,7 @@ func TestCPMRecoversPlantedNetworks(t *testing.T) {
 	plantedNeg := []int{10, 55, 99, 150, 170}
 	train := plantedCohort(rng, 200, 20, plantedPos, plantedNeg, 1)
 	test := plantedCohort(rng, 100, 20, plantedPos, plantedNeg, 1)
-	m := NewCPM(CPMConfig{Input: InputFunctional, Correlation: CorrelationPearson, PThreshold: 0.01, Network: NetworkBoth})
+	m := NewCPM(CPMConfig{Input: InputFunctional, Correlation: CorrelationPearson, PThreshold: new(0.01), Network: NetworkBoth})
 	if err := m.Fit(context.Background(), train, model.Dataset{}); err != nil {
 		t.Fatal(err)
 	}

@@ -51,7 +51,7 @@ func EdgePair(p, k int) (i, j int) {
 // means take it from the first participant. A participant without the
 // modality, with a matrix of another size or with a non-finite edge is an
 // error naming the participant.
-func edgeMatrix(ps []*data.Participant, input string, p int) (*mat.Dense, int, error) {
+func edgeMatrix(ps []*data.Participant, input Input, p int) (*mat.Dense, int, error) {
 	if len(ps) == 0 {
 		return nil, p, fmt.Errorf("linear: no participants")
 	}

@@ -78,7 +78,7 @@ func Example() {
 func ExampleCPM() {
 	rng := rand.New(rand.NewPCG(3, 4))
 	train := inventCohort(rng, 120)
-	m := linear.NewCPM(linear.CPMConfig{Input: linear.InputFunctional, Correlation: linear.CorrelationPearson, PThreshold: 0.01, Network: linear.NetworkBoth})
+	m := linear.NewCPM(linear.CPMConfig{Input: linear.InputFunctional, Correlation: linear.CorrelationPearson, PThreshold: new(0.01), Network: linear.NetworkBoth})
 	if err := m.Fit(context.Background(), train, model.Dataset{}); err != nil {
 		fmt.Println(err)
 		return

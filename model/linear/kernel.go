@@ -71,7 +71,7 @@ func (k *KernelRidge) Fit(ctx context.Context, train, valid model.Dataset) error
 	gram.Mul(x, x.T())
 	var foldOf []int
 	if len(k.cfg.Alphas) > 1 {
-		if foldOf, err = innerFolds(ps, k.cfg.InnerFolds, k.seed, "model.kernel_ridge.inner_folds"); err != nil {
+		if foldOf, err = innerFolds(ps, *k.cfg.InnerFolds, k.seed, "model.kernel_ridge.inner_folds"); err != nil {
 			return err
 		}
 	}
@@ -89,7 +89,7 @@ func (k *KernelRidge) Fit(ctx context.Context, train, valid model.Dataset) error
 			return fmt.Errorf("linear: kernel ridge: score column %d: every %s edge is zero for the participants with that score", pat.cols[0]+1, k.cfg.Input)
 		}
 		penalties := scalePenalties(k.cfg.Alphas, k.cfg.AlphaScale, spread)
-		best, err := chooseCV(ctx, y, pat, foldOf, k.cfg.InnerFolds, penalties, problem)
+		best, err := chooseCV(ctx, y, pat, foldOf, *k.cfg.InnerFolds, penalties, problem)
 		if err != nil {
 			return fmt.Errorf("linear: kernel ridge: %w", err)
 		}

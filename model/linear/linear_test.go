@@ -60,8 +60,8 @@ func baselines() map[string]Config {
 		"ridge center":       {Ridge: &RidgeConfig{Standardize: StandardizeCenter, Alphas: grid}},
 		"kernel linear":      {KernelRidge: &KernelRidgeConfig{Kernel: KernelLinear, Alphas: grid}},
 		"kernel correlation": {KernelRidge: &KernelRidgeConfig{Alphas: grid}},
-		"cpm":                {CPM: &CPMConfig{PThreshold: 0.05}},
-		"cpm spearman":       {CPM: &CPMConfig{PThreshold: 0.05, Correlation: CorrelationSpearman}},
+		"cpm":                {CPM: &CPMConfig{PThreshold: new(0.05)}},
+		"cpm spearman":       {CPM: &CPMConfig{PThreshold: new(0.05), Correlation: CorrelationSpearman}},
 	}
 }
 
@@ -144,7 +144,7 @@ func TestRelativeAlpha(t *testing.T) {
 func TestRidgeWeights(t *testing.T) {
 	for _, p := range []int{10, 4} {
 		all := randomCohort(3, 30, p, 2)
-		r := NewRidge(RidgeConfig{Input: InputFunctional, Standardize: StandardizeZScore, Alphas: DefaultAlphas(), AlphaScale: AlphaRelative, InnerFolds: 3}, 1)
+		r := NewRidge(RidgeConfig{Input: InputFunctional, Standardize: StandardizeZScore, Alphas: DefaultAlphas(), AlphaScale: AlphaRelative, InnerFolds: new(3)}, 1)
 		if err := r.Fit(context.Background(), all, model.Dataset{}); err != nil {
 			t.Fatal(err)
 		}

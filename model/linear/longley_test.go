@@ -43,7 +43,7 @@ func TestRidgeLongley(t *testing.T) {
 		ps[i] = &data.Participant{ID: fmt.Sprint(1947 + i), Functional: m}
 	}
 	r := NewRidge(RidgeConfig{Input: InputFunctional, Standardize: StandardizeZScore,
-		Alphas: []float64{0}, AlphaScale: AlphaAbsolute, InnerFolds: 5}, 1)
+		Alphas: []float64{0}, AlphaScale: AlphaAbsolute, InnerFolds: new(5)}, 1)
 	train := model.Dataset{Participants: ps, Y: mat.NewDense(n, 1, longley.Y)}
 	if err := r.Fit(context.Background(), train, model.Dataset{}); err != nil {
 		t.Fatal(err)

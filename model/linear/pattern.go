@@ -78,7 +78,7 @@ func (c *CPM) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
 // activationPatterns returns cov(x_e, ŷ_j) over ps for every edge e of the
 // first connectome of input and every column j of reg's predictions, as
 // symmetric p × p maps.
-func activationPatterns(reg model.Regressor, input string, p int, ps []*data.Participant) ([]*mat.Dense, error) {
+func activationPatterns(reg model.Regressor, input Input, p int, ps []*data.Participant) ([]*mat.Dense, error) {
 	if len(ps) < 2 {
 		return nil, errors.New("linear: EdgeImportance needs at least two participants")
 	}

@@ -82,9 +82,9 @@ func plantedAUC(m *mat.Dense, pt synth.Planted, p int) float64 {
 
 func TestEdgeImportancePlantedEdgesRankFirst(t *testing.T) {
 	train, test, truth, p := synthHalves(t)
-	ridge := NewRidge(RidgeConfig{Input: InputFunctional, Standardize: "zscore", Alphas: DefaultAlphas(), AlphaScale: "relative", InnerFolds: 5}, 1)
-	kernel := NewKernelRidge(KernelRidgeConfig{Input: InputFunctional, Kernel: KernelCorrelation, Alphas: DefaultAlphas(), AlphaScale: "relative", InnerFolds: 5}, 1)
-	cpm := NewCPM(CPMConfig{Input: InputFunctional, Correlation: "pearson", PThreshold: 0.01, Network: "both"})
+	ridge := NewRidge(RidgeConfig{Input: InputFunctional, Standardize: "zscore", Alphas: DefaultAlphas(), AlphaScale: "relative", InnerFolds: new(5)}, 1)
+	kernel := NewKernelRidge(KernelRidgeConfig{Input: InputFunctional, Kernel: KernelCorrelation, Alphas: DefaultAlphas(), AlphaScale: "relative", InnerFolds: new(5)}, 1)
+	cpm := NewCPM(CPMConfig{Input: InputFunctional, Correlation: "pearson", PThreshold: new(0.01), Network: "both"})
 	for _, tc := range []struct {
 		name   string
 		model  model.Interpreter
@@ -125,7 +125,7 @@ func TestEdgeImportancePlantedEdgesRankFirst(t *testing.T) {
 // predictions.
 func TestActivationPatternIsCovariance(t *testing.T) {
 	train, test, _, _ := synthHalves(t)
-	r := NewRidge(RidgeConfig{Input: InputFunctional, Standardize: "zscore", Alphas: []float64{1}, AlphaScale: "relative", InnerFolds: 5}, 1)
+	r := NewRidge(RidgeConfig{Input: InputFunctional, Standardize: "zscore", Alphas: []float64{1}, AlphaScale: "relative", InnerFolds: new(5)}, 1)
 	if err := r.Fit(context.Background(), train, model.Dataset{}); err != nil {
 		t.Fatal(err)
 	}

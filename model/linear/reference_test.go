@@ -93,12 +93,12 @@ func testFixtureCohort(t *testing.T, name string, c fixtureCohort) {
 	for _, tc := range c.Cases {
 		t.Run(name+"/"+tc.Name, func(t *testing.T) {
 			var set struct {
-				Input       string    `json:"input"`
-				Standardize string    `json:"standardize"`
-				Kernel      string    `json:"kernel"`
-				Alphas      []float64 `json:"alphas"`
-				AlphaScale  string    `json:"alpha_scale"`
-				InnerFolds  int       `json:"inner_folds"`
+				Input       Input           `json:"input"`
+				Standardize Standardization `json:"standardize"`
+				Kernel      Kernel          `json:"kernel"`
+				Alphas      []float64       `json:"alphas"`
+				AlphaScale  AlphaScale      `json:"alpha_scale"`
+				InnerFolds  *int            `json:"inner_folds"`
 			}
 			if err := json.Unmarshal(tc.Settings, &set); err != nil {
 				t.Fatal(err)

@@ -86,7 +86,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	zscore := r.cfg.Standardize == StandardizeZScore
 	var foldOf []int
 	if len(r.cfg.Alphas) > 1 {
-		if foldOf, err = innerFolds(ps, r.cfg.InnerFolds, r.seed, "model.ridge.inner_folds"); err != nil {
+		if foldOf, err = innerFolds(ps, *r.cfg.InnerFolds, r.seed, "model.ridge.inner_folds"); err != nil {
 			return err
 		}
 	}
@@ -124,7 +124,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			return fmt.Errorf("linear: ridge: score column %d: every %s edge is constant over the participants with that score", pat.cols[0]+1, r.cfg.Input)
 		}
 		penalties := scalePenalties(r.cfg.Alphas, r.cfg.AlphaScale, sc.spread)
-		best, err := chooseCV(ctx, y, pat, foldOf, r.cfg.InnerFolds, penalties, problem)
+		best, err := chooseCV(ctx, y, pat, foldOf, *r.cfg.InnerFolds, penalties, problem)
 		if err != nil {
 			return fmt.Errorf("linear: ridge: %w", err)
 		}
@@ -220,7 +220,7 @@ func primalFold(xf, xq *mat.Dense) (foldProblem, error) {
 
 // scalePenalties returns the penalties of a grid: alphas themselves, or
 // alphas times spread (the mean eigenvalue of the kernel) for "relative".
-func scalePenalties(alphas []float64, scale string, spread float64) []float64 {
+func scalePenalties(alphas []float64, scale AlphaScale, spread float64) []float64 {
 	out := make([]float64, len(alphas))
 	for i, a := range alphas {
 		out[i] = a

@@ -41,7 +41,7 @@ type linearManifestJSON struct {
 	Format    string    `json:"format"`
 	Version   int       `json:"version"`
 	Kind      string    `json:"kind"`
-	Input     string    `json:"input,omitempty"`
+	Input     Input     `json:"input,omitempty"`
 	P         int       `json:"p,omitempty"`
 	Alphas    []float64 `json:"alphas,omitempty"`
 	Intercept []float64 `json:"intercept,omitempty"`
@@ -131,7 +131,7 @@ func load(dir, want string) (model.Regressor, error) {
 			return nil, fmt.Errorf("%s: %w", wpath, err)
 		}
 		d, t := w.Dims()
-		inputs := map[string]int{InputFunctional: 1, InputStructural: 1, InputBoth: 2}
+		inputs := map[Input]int{InputFunctional: 1, InputStructural: 1, InputBoth: 2}
 		if inputs[m.Input] == 0 || d != inputs[m.Input]*NumEdges(m.P) || t != len(m.Intercept) {
 			return nil, fmt.Errorf("%s: %d × %d weights do not fit input %q, p = %d and %d intercepts", wpath, d, t, m.Input, m.P, len(m.Intercept))
 		}

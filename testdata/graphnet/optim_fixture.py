@@ -43,6 +43,9 @@ cases = []
 for name, kind, kw, clip in [
     ("adamw", "adamw", dict(lr=0.05, betas=(0.9, 0.999), eps=1e-8, weight_decay=0.1), 0.0),
     ("adamw-clipped", "adamw", dict(lr=0.05, betas=(0.8, 0.99), eps=1e-6, weight_decay=0.0), 0.5),
+    # beta1 = 0 and beta2 = 0 are allowed (torch checks 0 <= beta < 1).
+    ("adamw-beta1-zero", "adamw", dict(lr=0.05, betas=(0.0, 0.999), eps=1e-8, weight_decay=0.1), 0.0),
+    ("adamw-beta2-zero", "adamw", dict(lr=0.05, betas=(0.9, 0.0), eps=1e-8, weight_decay=0.0), 0.0),
     ("sgd-momentum", "sgd", dict(lr=0.05, momentum=0.9, weight_decay=0.01), 0.0),
     ("sgd-clipped", "sgd", dict(lr=0.1, momentum=0.5, weight_decay=0.0), 1.0),
 ]:

@@ -107,21 +107,21 @@ func main() {
 	ps, y := cohort(*n, *p, 1)
 	cfg := graphnet.Config{
 		Branches: []graphnet.BranchConfig{{
-			Input:     "propagated",
-			Operator:  string(data.RenormalizedAdjacency),
-			Propagate: "left",
+			Input:     graphnet.InputPropagated,
+			Operator:  data.RenormalizedAdjacency,
+			Propagate: graphnet.PropagateLeft,
 			Layers: []graphnet.LayerConfig{
-				{Kind: "e2e", Channels: e2eChannels},
-				{Kind: "e2n", Channels: e2nChannels},
-				{Kind: "n2g", Size: n2gSize},
+				{Kind: graphnet.LayerE2E, Channels: e2eChannels},
+				{Kind: graphnet.LayerE2N, Channels: e2nChannels},
+				{Kind: graphnet.LayerN2G, Size: n2gSize},
 			},
 		}},
 		Head:      head,
-		DType:     *dtype,
-		Epochs:    *epochs,
-		BatchSize: *batch,
+		DType:     graphnet.DType(*dtype),
+		Epochs:    new(*epochs),
+		BatchSize: new(*batch),
 		// AdamW without weight decay is Adam; the default rate is 1e-3.
-		Optimizer: graphnet.OptimizerConfig{Kind: "adamw", Rate: 1e-3},
+		Optimizer: graphnet.OptimizerConfig{Kind: graphnet.AdamW, Rate: new(1e-3)},
 	}
 	cfg.SetDefaults()
 	if err := cfg.Validate(); err != nil {
