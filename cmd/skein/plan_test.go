@@ -233,6 +233,9 @@ func TestMergeListsFailedUnits(t *testing.T) {
 }
 
 func TestSweepRankedByInnerValidation(t *testing.T) {
+	if testing.Short() {
+		t.Skip("-short: runs a sweep of 45 units one by one and merges them")
+	}
 	exp := writeBatchExperiment(t, 40, batchExperiment+`
 [[sweep]]
 model = "net"
