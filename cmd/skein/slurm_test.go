@@ -72,6 +72,7 @@ func execOK(t *testing.T, env []string, name string, args ...string) string {
 // The plan's units run without a scheduler, from units.tsv through xargs
 // as the README shows, and merge into the single-machine run.
 func TestPlanRunsThroughXargs(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("-short: the xargs test builds skein and runs every unit as a process")
 	}
@@ -124,6 +125,7 @@ func waitForJob(t *testing.T, env []string, id string) {
 // equals the single-machine run. It needs root and Debian's slurm-wlm and
 // munge packages, and is skipped without them.
 func TestSlurmArray(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("-short: the SLURM integration test starts daemons")
 	}
