@@ -61,7 +61,7 @@ func confoundedNullRunner(t *testing.T, seed int64, perms int) (*Experiment, *tr
 // scores alone gave p(MAE) = 0.01 on every cohort.
 func TestPermutationValidWithConfounds(t *testing.T) {
 	if testing.Short() {
-		t.Skip("repeats 100 permutation tests")
+		t.Skip("-short: repeats 100 permutation tests")
 	}
 	const cohorts, perms = 100, 99
 	// The metrics checked; each is checked for every model.

@@ -39,7 +39,7 @@ func nullRunner(t *testing.T, seed int64, perms int) (*Experiment, *train.Runner
 // a coarse sample.
 func TestPermutationPValuesUniformUnderNull(t *testing.T) {
 	if testing.Short() {
-		t.Skip("repeats 24 permutation tests")
+		t.Skip("-short: repeats 24 permutation tests")
 	}
 	var ps []float64
 	for seed := int64(1); seed <= 24; seed++ {

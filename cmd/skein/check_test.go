@@ -27,6 +27,7 @@ func cohortFixture(name string) string {
 }
 
 func TestCheckGoodCohorts(t *testing.T) {
+	t.Parallel()
 	for _, tc := range []struct {
 		name string
 		want []string // lines of the summary, in order
@@ -79,6 +80,7 @@ func TestCheckGoodCohorts(t *testing.T) {
 }
 
 func TestCheckJSON(t *testing.T) {
+	t.Parallel()
 	for _, args := range [][]string{
 		{"--json", cohortFixture("good-tsv")},
 		{cohortFixture("good-tsv"), "-json"},
@@ -118,6 +120,7 @@ func TestCheckJSON(t *testing.T) {
 // TestCheckBadInput: every broken fixture exits with code 2 and a message
 // naming the file and the place.
 func TestCheckBadInput(t *testing.T) {
+	t.Parallel()
 	for _, tc := range []struct{ dir, want string }{
 		{"bad-table-extension", `experiment.toml: cohort.participants: "participants.xlsx" must end in .tsv or .csv, found ".xlsx"`},
 		{"bad-files-and-stack", `experiment.toml: cohort.functional: set either "files" or "stack", not both`},
@@ -155,6 +158,7 @@ func TestCheckBadInput(t *testing.T) {
 }
 
 func TestCheckTooFewStillPrintsTheSummary(t *testing.T) {
+	t.Parallel()
 	code, stdout, _ := runCheck(t, cohortFixture("bad-too-few"))
 	if code != exitBadInput || !strings.Contains(stdout, "included: 7 participants") || !strings.Contains(stdout, "not a diagnostic device") {
 		t.Errorf("exit %d, stdout %q", code, stdout)
@@ -162,6 +166,7 @@ func TestCheckTooFewStillPrintsTheSummary(t *testing.T) {
 }
 
 func TestCheckUsage(t *testing.T) {
+	t.Parallel()
 	for _, tc := range []struct {
 		args []string
 		code int

@@ -73,6 +73,7 @@ func editParticipants(t *testing.T, dir string, edit func([][]string) [][]string
 // second with one participant removed and one setting changed, differ in
 // exactly those.
 func TestCompareShowsExactlyTheChanges(t *testing.T) {
+	t.Parallel()
 	dir := nightlyCohort(t, synth.Config{N: 60, P: 8, Seed: 7})
 	root := t.TempDir()
 	expA := experimentFile(t, dir, "a.toml", "[cv]\nfolds = 3\n\n"+ridgeAndMeanModels)
@@ -160,6 +161,7 @@ func TestCompareShowsExactlyTheChanges(t *testing.T) {
 // whose scores were shuffled breaks it with exit code 4, its results still
 // committed; every run adds its rows to the history beside the experiment.
 func TestRunAgainstDrift(t *testing.T) {
+	t.Parallel()
 	dir := nightlyCohort(t, synth.Config{N: 80, P: 10, Seed: 8, Ceiling: 0.9})
 	exp := experimentFile(t, dir, "nightly.toml", `[cv]
 folds = 3

@@ -13,6 +13,7 @@ import (
 // explode; the run fails with exit code 3 naming the model, fold and
 // epoch, and leaves no run folder behind.
 func TestRunDivergedExitCode(t *testing.T) {
+	t.Parallel()
 	exp := synthExperiment(t, synth.Config{N: 30, P: 8, Seed: 7}, `
 [[model]]
 name = "wild"

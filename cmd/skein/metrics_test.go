@@ -29,6 +29,7 @@ func writeCSV(t *testing.T, text string) string {
 }
 
 func TestMetricsTable(t *testing.T) {
+	t.Parallel()
 	fixture := filepath.Join("..", "..", "testdata", "eval", "predictions.csv")
 	code, out, errOut := runMetrics(t, fixture)
 	if code != exitOK {
@@ -44,6 +45,7 @@ func TestMetricsTable(t *testing.T) {
 // The JSON agrees with the figures of the eval package, which its own tests
 // check against scipy and scikit-learn; here: flags after the file, --bins.
 func TestMetricsJSON(t *testing.T) {
+	t.Parallel()
 	path := writeCSV(t, "model,observed,predicted,age\nA,1,1.5,30\nA,2,2.5,31\nA,3,2,32\nA,4,,33\nB,1,3,30\nB,2,2,31\n")
 	code, out, errOut := runMetrics(t, path, "--json", "--bins", "2")
 	if code != exitOK {
@@ -78,6 +80,7 @@ func TestMetricsJSON(t *testing.T) {
 }
 
 func TestMetricsBadInput(t *testing.T) {
+	t.Parallel()
 	tests := []struct {
 		name string
 		args []string
@@ -104,6 +107,7 @@ func TestMetricsBadInput(t *testing.T) {
 }
 
 func TestMetricsHelp(t *testing.T) {
+	t.Parallel()
 	code, _, errOut := runMetrics(t, "-h")
 	if code != exitOK || !strings.Contains(errOut, "usage: skein metrics FILE.csv") {
 		t.Errorf("exit %d, stderr %q", code, errOut)

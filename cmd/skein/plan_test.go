@@ -94,6 +94,8 @@ func planUnits(t *testing.T, out string) []string {
 	return ids
 }
 
+// TestPlanUnitsMergeEqualsSingleRun is not parallel: it sets
+// SLURM_ARRAY_TASK_ID for the whole process (t.Setenv).
 func TestPlanUnitsMergeEqualsSingleRun(t *testing.T) {
 	exp := writeBatchExperiment(t, 40, batchExperiment)
 	single := filepath.Join(t.TempDir(), "single")
@@ -180,6 +182,7 @@ func TestPlanUnitsMergeEqualsSingleRun(t *testing.T) {
 }
 
 func TestPlanRefusesAnotherExperiment(t *testing.T) {
+	t.Parallel()
 	exp := writeBatchExperiment(t, 30, batchExperiment)
 	out := filepath.Join(t.TempDir(), "batch")
 	if code, _, stderr := runSkein(t, "plan", exp, "--out", out); code != exitOK {
@@ -219,6 +222,7 @@ func TestPlanRefusesAnotherExperiment(t *testing.T) {
 }
 
 func TestMergeListsFailedUnits(t *testing.T) {
+	t.Parallel()
 	// A network whose learning rate makes its loss diverge fails every
 	// unit (exit code 3); merge lists the failures with their errors.
 	exp := writeBatchExperiment(t, 30, strings.Replace(batchExperiment, "batch_size = 8\n", "batch_size = 8\n[model.network.optimizer]\nrate = 1e30\n", 1))
@@ -236,6 +240,10 @@ func TestMergeListsFailedUnits(t *testing.T) {
 }
 
 func TestSweepRankedByInnerValidation(t *testing.T) {
+	t.Parallel()
+	if testing.Short() {
+		t.Skip("-short: runs a sweep of 45 units one by one and merges them")
+	}
 	exp := writeBatchExperiment(t, 40, batchExperiment+`
 [[sweep]]
 model = "net"
@@ -297,6 +305,7 @@ values = ["functional", "both"]
 }
 
 func TestPlanForceReplacesMergedRun(t *testing.T) {
+	t.Parallel()
 	exp := writeBatchExperiment(t, 30, "\n[cv]\nfolds = 3\n\n"+meanModel)
 	out := filepath.Join(t.TempDir(), "batch")
 	planAndMerge := func(args ...string) {

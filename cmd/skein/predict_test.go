@@ -36,6 +36,7 @@ layers = [{kind = "e2n", channels = 4}, {kind = "n2g", size = 4}]
 // with OpenBLAS, whose sgemm picks its kernels by the number of rows (the
 // test fold in the run, every participant in predict).
 func TestPredictReproducesTestFold(t *testing.T) {
+	t.Parallel()
 	exp := synthExperiment(t, synth.Config{N: 30, P: 8, Seed: 6}, "")
 	raw, _ := os.ReadFile(exp)
 	// synthExperiment appended a [cv] table; replace it by the one above.
@@ -97,6 +98,7 @@ func readCSV(t *testing.T, path string) [][]string {
 // fold as the run did, to rounding (saving folds the dual solution into
 // primal weights).
 func TestPredictWithSavedRidge(t *testing.T) {
+	t.Parallel()
 	exp := synthExperiment(t, synth.Config{N: 40, P: 10, Seed: 8}, "[[model]]\nname = \"ridge\"\n[model.ridge]\ninput = \"both\"\n")
 	out := filepath.Join(t.TempDir(), "run")
 	if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--no-history"); code != exitOK {

@@ -10,6 +10,7 @@ import (
 )
 
 func TestRunWritesReportAndReportRebuildsIt(t *testing.T) {
+	t.Parallel()
 	exp := synthExperiment(t, synth.Config{N: 30, P: 8, Seed: 6}, meanModel+"\n[[model]]\nname = \"ridge\"\n[model.ridge]\n")
 	out := filepath.Join(t.TempDir(), "run")
 	if code, _, stderr := runSkein(t, "run", exp, "--out", out); code != exitOK {
@@ -44,6 +45,7 @@ func TestRunWritesReportAndReportRebuildsIt(t *testing.T) {
 }
 
 func TestReportBadInput(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	for _, tc := range []struct {
 		args []string

@@ -45,6 +45,11 @@ func synthExperiment(t *testing.T, cfg synth.Config, models string) string {
 
 const meanModel = "[[model]]\nname = \"mean\"\n[model.mean]\n"
 
+// runSkein runs "skein ARGS" in the test's process, as main does, and
+// returns the exit code and what was written. The tests of this package
+// write only into their own t.TempDir folders and so run in parallel
+// (t.Parallel); a test that changes what the whole process shares
+// (environment variables, working directory, os.Stdout) must not.
 func runSkein(t *testing.T, args ...string) (code int, stdout, stderr string) {
 	t.Helper()
 	var out, errOut bytes.Buffer
@@ -53,6 +58,7 @@ func runSkein(t *testing.T, args ...string) (code int, stdout, stderr string) {
 }
 
 func TestRunDeterministicAcrossJobs(t *testing.T) {
+	t.Parallel()
 	exp := synthExperiment(t, synth.Config{N: 40, P: 8, Seed: 3, FamilySize: 2},
 		meanModel+"[[model]]\nname = \"ridge\"\n[model.ridge]\ninput = \"both\"\n")
 	var predictions [2][]byte
@@ -81,6 +87,7 @@ func TestRunDeterministicAcrossJobs(t *testing.T) {
 }
 
 func TestRunBadInputKeepsEarlierResults(t *testing.T) {
+	t.Parallel()
 	exp := synthExperiment(t, synth.Config{N: 30, P: 8, Seed: 4}, meanModel)
 	out := filepath.Join(t.TempDir(), "run")
 	if code, _, stderr := runSkein(t, "run", exp, "--out", out); code != exitOK {

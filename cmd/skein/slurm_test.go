@@ -72,8 +72,14 @@ func execOK(t *testing.T, env []string, name string, args ...string) string {
 // The plan's units run without a scheduler, from units.tsv through xargs
 // as the README shows, and merge into the single-machine run.
 func TestPlanRunsThroughXargs(t *testing.T) {
-	if _, err := exec.LookPath("xargs"); err != nil {
-		t.Skip("xargs not found")
+	t.Parallel()
+	if testing.Short() {
+		t.Skip("-short: the xargs test builds skein and runs every unit as a process")
+	}
+	for _, cmd := range []string{"xargs", "bash"} {
+		if _, err := exec.LookPath(cmd); err != nil {
+			t.Skipf("xargs integration test skipped: %s is not installed (Debian's findutils and bash packages)", cmd)
+		}
 	}
 	bin := buildSkein(t)
 	exp := writeBatchExperiment(t, 40, clusterExperiment)
@@ -119,6 +125,7 @@ func waitForJob(t *testing.T, env []string, id string) {
 // equals the single-machine run. It needs root and Debian's slurm-wlm and
 // munge packages, and is skipped without them.
 func TestSlurmArray(t *testing.T) {
+	t.Parallel()
 	if testing.Short() {
 		t.Skip("-short: the SLURM integration test starts daemons")
 	}

@@ -19,6 +19,7 @@ func runSynthCLI(t *testing.T, args ...string) (int, string, string) {
 // TestSynthThenCheck writes a cohort with skein synth and checks it with
 // skein check, in both matrix formats.
 func TestSynthThenCheck(t *testing.T) {
+	t.Parallel()
 	for _, format := range []string{"tsv", "npy"} {
 		t.Run(format, func(t *testing.T) {
 			dir := filepath.Join(t.TempDir(), "cohort")
@@ -47,6 +48,7 @@ func TestSynthThenCheck(t *testing.T) {
 }
 
 func TestSynthNull(t *testing.T) {
+	t.Parallel()
 	dir := filepath.Join(t.TempDir(), "null")
 	code, out, errOut := runSynthCLI(t, "synth", "--out", dir, "--n", "12", "--p", "8", "--null", "--targets", "1")
 	if code != exitOK {
@@ -58,6 +60,7 @@ func TestSynthNull(t *testing.T) {
 }
 
 func TestSynthRefusesToOverwrite(t *testing.T) {
+	t.Parallel()
 	dir := t.TempDir()
 	if err := os.WriteFile(filepath.Join(dir, "mine.txt"), nil, 0o644); err != nil {
 		t.Fatal(err)
@@ -76,6 +79,7 @@ func TestSynthRefusesToOverwrite(t *testing.T) {
 }
 
 func TestSynthBadOptions(t *testing.T) {
+	t.Parallel()
 	out := filepath.Join(t.TempDir(), "x")
 	for _, tc := range []struct {
 		args []string

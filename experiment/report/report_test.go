@@ -290,6 +290,9 @@ const chromium = "/usr/bin/chromium"
 // it has; the dumped DOM must show every image loaded. It also takes a
 // screenshot of the report itself (kept as report.png in the run folder).
 func TestReportOpensInBrowser(t *testing.T) {
+	if testing.Short() {
+		t.Skip("-short: the browser test starts headless Chromium")
+	}
 	if _, err := os.Stat(chromium); err != nil {
 		t.Skipf("%s not found: the browser test needs Debian's chromium package (apt-get install chromium)", chromium)
 	}
