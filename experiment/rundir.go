@@ -69,11 +69,10 @@ func (d *RunDir) WriteFile(name string, content []byte) error {
 // the work folder with what write writes; nothing is written when write
 // fails.
 func (d *RunDir) WriteWith(name string, write func(io.Writer) error) error {
-	var buf bytes.Buffer
-	if err := write(&buf); err != nil {
+	if err := atomicfile.WriteWith(filepath.Join(d.Partial, name), write); err != nil {
 		return fmt.Errorf("%s: %w", name, err)
 	}
-	return d.WriteFile(name, buf.Bytes())
+	return nil
 }
 
 // Path returns where name will be found once the run is committed.

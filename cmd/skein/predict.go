@@ -2,17 +2,12 @@ package main
 
 import (
 	"context"
-	"encoding/csv"
 	"flag"
 	"fmt"
-	"os"
-	"path/filepath"
-	"reflect"
-	"strconv"
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/experiment"
-	"github.com/skein-neuro/skein/train"
+	"github.com/skein-neuro/skein/internal/atomicfile"
 )
 
 func cmdPredict(ctx context.Context, cio commandIO, args []string) error {
@@ -32,59 +27,25 @@ func cmdPredict(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	saved, err := train.LoadModel(positional[0])
+	pred, err := experiment.Predict(positional[0], positional[1])
 	if err != nil {
-		return badInput(err)
-	}
-	exp, err := experiment.ReadExperiment(positional[1])
-	if err != nil {
-		return badInput(err)
-	}
-	pre := saved.Fitted.Preprocess
-	if !reflect.DeepEqual(exp.Preprocess, pre) {
-		fmt.Fprintf(cio.stderr, "skein predict: %s: [preprocess] differs from the model's; the model's preprocessing is used\n", positional[1])
-	}
-	cohort, _, err := data.CheckUnscored(exp.Cohort, pre, exp.Dir)
-	if err != nil {
-		return badInput(err)
-	}
-	for _, x := range cohort.Excluded {
-		fmt.Fprintf(cio.stderr, "skein predict: %s not predicted: %s\n", x.ID, x.Reason)
-	}
-	score, residual, err := saved.Predict(cohort)
-	if err != nil {
-		return badInput(fmt.Errorf("%s: %w", positional[0], err))
-	}
-	w := cio.stdout
-	var file *os.File
-	if *out != "" {
-		if file, err = os.CreateTemp(filepath.Dir(*out), "."+filepath.Base(*out)+".tmp-*"); err != nil {
-			return err
-		}
-		defer os.Remove(file.Name())
-		w = file
-	}
-	cw := csv.NewWriter(w)
-	cw.Write([]string{"participant_id", "model", "target", "predicted", "predicted_residual"})
-	for i, p := range cohort.Participants {
-		for t, target := range saved.Fitted.Targets {
-			cw.Write([]string{p.ID, saved.Fitted.Model, target,
-				strconv.FormatFloat(score.At(i, t), 'g', -1, 64), strconv.FormatFloat(residual.At(i, t), 'g', -1, 64)})
-		}
-	}
-	cw.Flush()
-	if err := cw.Error(); err != nil {
 		return err
 	}
-	if file != nil {
-		if err := file.Close(); err != nil {
-			return err
-		}
-		if err := os.Rename(file.Name(), *out); err != nil {
-			return err
-		}
+	if pred.PreprocessDiffers {
+		fmt.Fprintf(cio.stderr, "skein predict: %s: [preprocess] differs from the model's; the model's preprocessing is used\n", positional[1])
+	}
+	for _, x := range pred.Cohort.Excluded {
+		fmt.Fprintf(cio.stderr, "skein predict: %s not predicted: %s\n", x.ID, x.Reason)
+	}
+	if *out == "" {
+		err = pred.WriteCSV(cio.stdout)
+	} else {
+		err = atomicfile.WriteWith(*out, pred.WriteCSV)
+	}
+	if err != nil {
+		return err
 	}
 	fmt.Fprintf(cio.stderr, "skein predict: %d participants × %d targets; %s\n",
-		len(cohort.Participants), len(saved.Fitted.Targets), data.Notice)
+		len(pred.Cohort.Participants), len(pred.Targets), data.Notice)
 	return nil
 }

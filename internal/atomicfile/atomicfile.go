@@ -4,6 +4,8 @@
 package atomicfile
 
 import (
+	"bytes"
+	"io"
 	"os"
 	"path/filepath"
 )
@@ -37,4 +39,14 @@ func WriteFile(path string, content []byte) error {
 		os.Remove(tmp.Name())
 	}
 	return err
+}
+
+// WriteWith writes to path atomically what write writes, buffered in
+// memory; nothing is written when write fails.
+func WriteWith(path string, write func(io.Writer) error) error {
+	var buf bytes.Buffer
+	if err := write(&buf); err != nil {
+		return err
+	}
+	return WriteFile(path, buf.Bytes())
 }
