@@ -1,7 +1,6 @@
 package experiment
 
 import (
-	"bytes"
 	"context"
 	"encoding/json"
 	"errors"
@@ -248,11 +247,4 @@ func messages(w io.Writer, prefix string) func(format string, args ...any) {
 			fmt.Fprintf(w, prefix+": "+format+"\n", args...)
 		}
 	}
-}
-
-// summaryBytes returns summary.md of rep.
-func summaryBytes(rep *Report) []byte {
-	var b bytes.Buffer
-	rep.WriteMarkdown(&b)
-	return b.Bytes()
 }

@@ -328,8 +328,7 @@ type foldData struct {
 	valid      model.Dataset // inner validation part
 	test       []*data.Participant
 	testCohort *data.Cohort // test with the cohort's names, as the preparation maps predictions
-	testIdx    []int
-	observed   *mat.Dense // test scores as scored (Pipeline.Observed): score units, confounds removed
+	observed   *mat.Dense   // test scores as scored (Pipeline.Observed): score units, confounds removed
 	innerSeed  uint64
 	targetName []string
 }
@@ -365,7 +364,6 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		valid:      model.Dataset{Participants: valid.Participants},
 		test:       test.Participants,
 		testCohort: test,
-		testIdx:    split.Test,
 		innerSeed:  seed,
 		targetName: cohort.Targets,
 	}

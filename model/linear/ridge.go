@@ -231,14 +231,6 @@ func scalePenalties(alphas []float64, scale AlphaScale, spread float64) []float6
 	return out
 }
 
-func pick(values []float64, idx []int) []float64 {
-	out := make([]float64, len(idx))
-	for i, j := range idx {
-		out[i] = values[j]
-	}
-	return out
-}
-
 // Predict returns len(ps) × T predictions b + x·w on the raw edges x,
 // which is the fitted b̃ + x̃·w̃ on edges standardized with the statistics
 // of the training participants with each score.
