@@ -359,8 +359,9 @@ func cmpFloat(a, b float64) int {
 	return 0
 }
 
-// keptValidLoss returns the validation loss of the epoch marked Best, or
-// the lowest one when none is marked; NaN without validation losses. For
+// keptValidLoss returns the validation loss of the last epoch marked
+// Best, or the lowest one when none is marked; NaN without validation
+// losses. For
 // the history of an ensemble (epochs of several model.Epoch.Member), it is
 // the mean over the members of each member's kept loss, NaN when a member
 // has none.
@@ -383,16 +384,25 @@ func keptValidLoss(h []model.Epoch) float64 {
 	return sum / float64(len(members))
 }
 
-// memberValidLoss is keptValidLoss for the epochs of one model.
+// memberValidLoss is keptValidLoss for the epochs of one model: the
+// validation loss of the last epoch marked Best (Best marks each new best
+// so far; the weights of the last are kept), or the lowest one when none
+// is marked.
 func memberValidLoss(h []model.Epoch) float64 {
-	best := math.NaN()
+	kept, lowest := math.NaN(), math.NaN()
 	for _, e := range h {
-		if e.Best && !math.IsNaN(e.ValidLoss) {
-			return e.ValidLoss
+		if math.IsNaN(e.ValidLoss) {
+			continue
 		}
-		if !math.IsNaN(e.ValidLoss) && (math.IsNaN(best) || e.ValidLoss < best) {
-			best = e.ValidLoss
+		if e.Best {
+			kept = e.ValidLoss
+		}
+		if math.IsNaN(lowest) || e.ValidLoss < lowest {
+			lowest = e.ValidLoss
 		}
 	}
-	return best
+	if !math.IsNaN(kept) {
+		return kept
+	}
+	return lowest
 }
