@@ -370,7 +370,7 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 // writeLearningCSV writes the learning curves of res as LearningFile.
 func writeLearningCSV(out io.Writer, exp *Experiment, res *train.Result) error {
 	w := csv.NewWriter(out)
-	w.Write([]string{"model", "repeat", "fold", "epoch", "train_loss", "valid_loss", "best"})
+	w.Write([]string{"model", "repeat", "fold", "member", "epoch", "train_loss", "valid_loss", "best"})
 	best := map[bool]string{false: "0", true: "1"}
 	for _, u := range res.Units {
 		for _, e := range res.Histories[u] {
@@ -378,7 +378,7 @@ func writeLearningCSV(out io.Writer, exp *Experiment, res *train.Result) error {
 			if !math.IsNaN(e.ValidLoss) {
 				valid = strconv.FormatFloat(e.ValidLoss, 'g', -1, 64)
 			}
-			w.Write([]string{exp.Models[u.Model].Name, strconv.Itoa(u.Repeat + 1), strconv.Itoa(u.Fold + 1), strconv.Itoa(e.Epoch),
+			w.Write([]string{exp.Models[u.Model].Name, strconv.Itoa(u.Repeat + 1), strconv.Itoa(u.Fold + 1), strconv.Itoa(e.Member), strconv.Itoa(e.Epoch),
 				strconv.FormatFloat(e.TrainLoss, 'g', -1, 64), valid, best[e.Best]})
 		}
 	}

@@ -24,9 +24,11 @@ const (
 	// SummaryFile is the summary a person reads (Report.WriteMarkdown).
 	SummaryFile = "summary.md"
 	// LearningFile holds the epochs of every iteratively trained unit:
-	// model,repeat,fold,epoch,train_loss,valid_loss,best (repeat and fold
-	// from 1 as in predictions.csv; valid_loss empty without inner
-	// validation; best is 1 on the epoch whose weights were kept).
+	// model,repeat,fold,member,epoch,train_loss,valid_loss,best (repeat
+	// and fold from 1 as in predictions.csv; member 0 for a single network,
+	// else the ensemble member from 1, each with its own epochs; valid_loss
+	// empty without inner validation; best is 1 on the epoch whose weights
+	// were kept).
 	LearningFile = "learning_curves.csv"
 	// PermutationFile holds the null distributions of the permutation
 	// test (eval.WriteNullCSV): permutation 0 is the observed run.

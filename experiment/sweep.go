@@ -279,7 +279,8 @@ type SweepRank struct {
 	Rank int
 	// InnerLoss is the mean over the variant's units of the best inner
 	// validation loss of its training (model.Epoch.ValidLoss of the
-	// epoch kept), on the standardized scores; NaN when the model has no
+	// epoch kept; for an ensemble, the mean over its members of each
+	// member's), on the standardized scores; NaN when the model has no
 	// inner validation loss (baselines, or cv.inner_validation = 0).
 	InnerLoss float64
 	// Units counts the units InnerLoss averages.
@@ -358,17 +359,50 @@ func cmpFloat(a, b float64) int {
 	return 0
 }
 
-// keptValidLoss returns the validation loss of the epoch marked Best, or
-// the lowest one when none is marked; NaN without validation losses.
+// keptValidLoss returns the validation loss of the last epoch marked
+// Best, or the lowest one when none is marked; NaN without validation
+// losses. For
+// the history of an ensemble (epochs of several model.Epoch.Member), it is
+// the mean over the members of each member's kept loss, NaN when a member
+// has none.
 func keptValidLoss(h []model.Epoch) float64 {
-	best := math.NaN()
+	var members []int
+	byMember := make(map[int][]model.Epoch)
 	for _, e := range h {
-		if e.Best && !math.IsNaN(e.ValidLoss) {
-			return e.ValidLoss
+		if _, ok := byMember[e.Member]; !ok {
+			members = append(members, e.Member)
 		}
-		if !math.IsNaN(e.ValidLoss) && (math.IsNaN(best) || e.ValidLoss < best) {
-			best = e.ValidLoss
+		byMember[e.Member] = append(byMember[e.Member], e)
+	}
+	if len(members) == 0 {
+		return math.NaN()
+	}
+	sum := 0.0
+	for _, m := range members {
+		sum += memberValidLoss(byMember[m])
+	}
+	return sum / float64(len(members))
+}
+
+// memberValidLoss is keptValidLoss for the epochs of one model: the
+// validation loss of the last epoch marked Best (Best marks each new best
+// so far; the weights of the last are kept), or the lowest one when none
+// is marked.
+func memberValidLoss(h []model.Epoch) float64 {
+	kept, lowest := math.NaN(), math.NaN()
+	for _, e := range h {
+		if math.IsNaN(e.ValidLoss) {
+			continue
+		}
+		if e.Best {
+			kept = e.ValidLoss
+		}
+		if math.IsNaN(lowest) || e.ValidLoss < lowest {
+			lowest = e.ValidLoss
 		}
 	}
-	return best
+	if !math.IsNaN(kept) {
+		return kept
+	}
+	return lowest
 }

@@ -141,3 +141,32 @@ func TestRankSweepUsesInnerValidationOnly(t *testing.T) {
 		t.Fatalf("ranks %+v", ranks)
 	}
 }
+
+// The inner loss of an ensemble's unit is the mean over its members of
+// each member's kept validation loss (the definition of the ranking,
+// common practice, no source).
+func TestKeptValidLossOfEnsemble(t *testing.T) {
+	nan := math.NaN()
+	tests := []struct {
+		name string
+		h    []model.Epoch
+		want float64
+	}{
+		{"single", []model.Epoch{{Epoch: 1, ValidLoss: 0.5, Best: true}, {Epoch: 2, ValidLoss: 0.6}}, 0.5},
+		{"members", []model.Epoch{
+			{Member: 1, Epoch: 1, ValidLoss: 0.5, Best: true}, {Member: 1, Epoch: 2, ValidLoss: 0.6},
+			{Member: 2, Epoch: 1, ValidLoss: 0.9, Best: true}, {Member: 2, Epoch: 2, ValidLoss: 0.2, Best: true},
+			{Member: 3, Epoch: 1, ValidLoss: 0.4}, {Member: 3, Epoch: 2, ValidLoss: 0.3},
+		}, (0.5 + 0.2 + 0.3) / 3},
+		// Best marks each new best so far: the last one is kept.
+		{"improving", []model.Epoch{{Epoch: 1, ValidLoss: 0.9, Best: true}, {Epoch: 2, ValidLoss: 0.4, Best: true}, {Epoch: 3, ValidLoss: 0.5}}, 0.4},
+		{"a member without", []model.Epoch{{Member: 1, ValidLoss: 0.5, Best: true}, {Member: 2, ValidLoss: nan}}, nan},
+		{"none", nil, nan},
+	}
+	for _, tt := range tests {
+		got := keptValidLoss(tt.h)
+		if math.IsNaN(tt.want) != math.IsNaN(got) || !math.IsNaN(got) && math.Abs(got-tt.want) > 1e-15 {
+			t.Errorf("%s: keptValidLoss = %v, want %v", tt.name, got, tt.want)
+		}
+	}
+}

@@ -52,6 +52,11 @@ type Epoch struct {
 	TrainLoss float64 // mean training loss over the epoch
 	ValidLoss float64 // loss on the inner validation set; NaN without one
 	Best      bool    // whether this epoch is the best so far on ValidLoss
+	// Member is 0 for a single model; for a model that trains several
+	// members and averages them (an ensemble), the 1-based member whose
+	// epoch this is. Each member has its own epochs 1, 2, … and its own
+	// Best epoch.
+	Member int
 }
 
 // Iterative is implemented by regressors that train in epochs.
@@ -59,7 +64,8 @@ type Iterative interface {
 	Regressor
 	// OnEpoch sets a function called after every epoch of the next Fit.
 	OnEpoch(func(Epoch))
-	// History returns the epochs of the last Fit.
+	// History returns the epochs of the last Fit; for an ensemble, those
+	// of member 1, then of member 2, and so on (Epoch.Member).
 	History() []Epoch
 }
 

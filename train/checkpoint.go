@@ -64,6 +64,7 @@ type unitEpoch struct {
 	TrainLoss float64  `json:"train_loss"`
 	ValidLoss *float64 `json:"valid_loss"` // nil for NaN: no inner validation
 	Best      bool     `json:"best"`
+	Member    int      `json:"member,omitempty"` // model.Epoch.Member
 }
 
 func (c *Checkpoints) path(name string, u Unit) string {
@@ -88,7 +89,7 @@ func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
 		f.Predictions[i] = unitPrediction{p.ParticipantID, p.Target, p.Observed, p.Predicted}
 	}
 	for _, e := range out.history {
-		ue := unitEpoch{Epoch: e.Epoch, TrainLoss: e.TrainLoss, Best: e.Best}
+		ue := unitEpoch{Epoch: e.Epoch, TrainLoss: e.TrainLoss, Best: e.Best, Member: e.Member}
 		if !math.IsNaN(e.ValidLoss) {
 			v := e.ValidLoss
 			ue.ValidLoss = &v
@@ -148,7 +149,7 @@ func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 		})
 	}
 	for _, e := range f.History {
-		me := model.Epoch{Epoch: e.Epoch, TrainLoss: e.TrainLoss, ValidLoss: math.NaN(), Best: e.Best}
+		me := model.Epoch{Epoch: e.Epoch, TrainLoss: e.TrainLoss, ValidLoss: math.NaN(), Best: e.Best, Member: e.Member}
 		if e.ValidLoss != nil {
 			me.ValidLoss = *e.ValidLoss
 		}

@@ -142,3 +142,24 @@ func TestCheckpointDiagnostics(t *testing.T) {
 		t.Fatalf("older checkpoint loaded as %+v", got)
 	}
 }
+
+// A checkpoint keeps each epoch's ensemble member (model.Epoch.Member),
+// and a single model's epochs come back with member 0.
+func TestCheckpointKeepsMembers(t *testing.T) {
+	d := NewCheckpoints(t.TempDir())
+	u := Unit{Repeat: 1, Fold: 2}
+	h := []model.Epoch{{Epoch: 1, TrainLoss: 0.5, ValidLoss: 0.4, Best: true, Member: 1},
+		{Epoch: 1, TrainLoss: 0.6, ValidLoss: math.NaN(), Member: 2}, {Epoch: 2, TrainLoss: 0.3, ValidLoss: 0.2}}
+	if err := d.save("net", u, unitOutput{history: h}); err != nil {
+		t.Fatal(err)
+	}
+	out, ok, err := d.load("net", u)
+	if err != nil || !ok {
+		t.Fatalf("load: %v %v", ok, err)
+	}
+	for i, e := range out.history {
+		if e.Member != h[i].Member || e.Epoch != h[i].Epoch || e.Best != h[i].Best || math.IsNaN(e.ValidLoss) != math.IsNaN(h[i].ValidLoss) {
+			t.Errorf("epoch %d: %+v, want %+v", i, e, h[i])
+		}
+	}
+}

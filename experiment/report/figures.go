@@ -278,10 +278,11 @@ func (r *Run) ComparisonFigures() ([]Figure, error) {
 // LearningFigures draws, for every model that trained in epochs, the
 // training (solid) and inner-validation (dashed) loss per epoch of each
 // fold, one colour per fold, with the early-stopping epoch (the last
-// epoch marked best) as a dot.
+// epoch marked best) as a dot. An ensemble draws one line per member in
+// its fold's colour.
 func (r *Run) LearningFigures() ([]Figure, error) {
 	type unit struct {
-		repeat, fold int
+		repeat, fold, member int
 	}
 	var models []string
 	curves := make(map[string]map[unit][]CurvePoint)
@@ -291,7 +292,7 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 			models = append(models, c.Model)
 			curves[c.Model] = make(map[unit][]CurvePoint)
 		}
-		u := unit{c.Repeat, c.Fold}
+		u := unit{c.Repeat, c.Fold, c.Member}
 		if _, ok := curves[c.Model][u]; !ok {
 			order[c.Model] = append(order[c.Model], u)
 		}
@@ -304,7 +305,17 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 		var best plotter.XYs
 		hasValid := false
 		yMax := math.Inf(-1)
-		for i, u := range order[m] {
+		folds := make(map[unit]int) // colour index per fold
+		members := 0
+		for _, u := range order[m] {
+			fold := unit{u.repeat, u.fold, 0}
+			if _, ok := folds[fold]; !ok {
+				folds[fold] = len(folds)
+			}
+			members = max(members, u.member)
+		}
+		for _, u := range order[m] {
+			i := folds[unit{u.repeat, u.fold, 0}]
 			pts := curves[m][u]
 			var tr, va plotter.XYs
 			var bestPt *plotter.XY
@@ -367,7 +378,11 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 			p.Y.Max = 1.3 * yMax
 		}
 		caption := fmt.Sprintf("%d folds (all repeats), one colour per fold. The loss is computed on the "+
-			"standardized scores each training fold fitted. The dot marks the epoch whose weights were kept.", len(order[m]))
+			"standardized scores each training fold fitted. The dot marks the epoch whose weights were kept.", len(folds))
+		if members > 0 {
+			caption += fmt.Sprintf(" Each fold trained an ensemble of %d networks, one line per network, each "+
+				"stopped early on its own part of the training fold.", members)
+		}
 		f, err := figure(fileName("learning", m), SectionLearning, title, caption, 7, 4.5, p)
 		if err != nil {
 			return nil, err

@@ -22,8 +22,10 @@ type SavedFilters struct {
 
 // readFilters reads the first-layer filters of every saved fold network
 // under dir (models/), through train.LoadModel, sorted by model, repeat
-// and fold. Networks refitted on all participants, other kinds, and
-// branches whose first layer has no per-region filter are left out.
+// and fold. Of an ensemble, the filters of member 1 stand for the fold
+// (graphnet.Ensemble.FirstLayerFilters). Networks refitted on all
+// participants, other kinds, and branches whose first layer has no
+// per-region filter are left out.
 func readFilters(dir string) ([]SavedFilters, error) {
 	fitted, err := filepath.Glob(filepath.Join(dir, "*", "*", train.FittedFile))
 	if err != nil {
@@ -35,7 +37,7 @@ func readFilters(dir string) ([]SavedFilters, error) {
 		if err != nil {
 			return nil, err
 		}
-		net, ok := saved.Model.(*graphnet.Network)
+		net, ok := saved.Model.(interface{ FirstLayerFilters() []graphnet.Filters })
 		if !ok || saved.Fitted.Repeat < 1 {
 			continue
 		}

@@ -398,3 +398,30 @@ func TestBuildReportsBrokenPartsAndDrawsTheRest(t *testing.T) {
 		t.Error("report.html does not list the problem")
 	}
 }
+
+// learning_curves.csv with and without the member column (files of runs
+// before ensembles have none); an ensemble draws one line per member and
+// says so in the caption.
+func TestCurvesWithMembers(t *testing.T) {
+	old := []byte("model,repeat,fold,epoch,train_loss,valid_loss,best\nnet,1,1,1,0.5,,1\n")
+	pts, err := parseCurves(old, "learning_curves.csv")
+	if err != nil || len(pts) != 1 || pts[0].Member != 0 {
+		t.Fatalf("without member column: %+v, %v", pts, err)
+	}
+	raw := []byte("model,repeat,fold,member,epoch,train_loss,valid_loss,best\n" +
+		"net,1,1,1,1,0.9,0.8,1\nnet,1,1,1,2,0.7,0.6,1\nnet,1,1,2,1,0.8,0.9,1\nnet,1,2,1,1,0.9,0.8,1\nnet,1,2,2,1,0.5,0.5,1\n")
+	if pts, err = parseCurves(raw, "learning_curves.csv"); err != nil || pts[2].Member != 2 || pts[2].Epoch != 1 {
+		t.Fatalf("with member column: %+v, %v", pts, err)
+	}
+	bad := []byte("model,repeat,fold,member,epoch,train_loss,valid_loss,best\nnet,1,1,x,1,0.5,,1\n")
+	if _, err := parseCurves(bad, "learning_curves.csv"); err == nil || !strings.Contains(err.Error(), `column 4 ("member")`) {
+		t.Errorf("bad member: %v", err)
+	}
+	figs, err := (&Run{Curves: pts}).LearningFigures()
+	if err != nil || len(figs) != 1 {
+		t.Fatalf("LearningFigures: %d figures, %v", len(figs), err)
+	}
+	if c := figs[0].Caption; !strings.HasPrefix(c, "2 folds") || !strings.Contains(c, "ensemble of 2 networks") {
+		t.Errorf("caption %q", c)
+	}
+}

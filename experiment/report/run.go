@@ -59,6 +59,9 @@ type CurvePoint struct {
 	Repeat, Fold, Epoch  int
 	TrainLoss, ValidLoss float64 // ValidLoss NaN without inner validation
 	Best                 bool
+	// Member is the ensemble member (from 1) of the epoch, 0 for a single
+	// network and for files written before the member column.
+	Member int
 }
 
 // UnitImportance is the edge importance one fitted unit reported: one
@@ -290,6 +293,9 @@ func parseCurves(raw []byte, name string) ([]CurvePoint, error) {
 					}
 				}
 			}
+		}
+		if _, ok := t.header["member"]; ok && err == nil {
+			c.Member, err = t.int(i, "member")
 		}
 		if err != nil {
 			return nil, err

@@ -85,6 +85,15 @@ type Config struct {
 	// validation epoch are restored at the end. Without one, training runs
 	// all epochs and keeps the last weights. Default 20.
 	Patience *int `toml:"patience" json:"patience"`
+	// Ensemble is the number K of networks the kind "network" trains per
+	// fit and averages (key "ensemble"), at least 1. With K > 1 it builds
+	// an Ensemble: the training and validation sets are joined and split
+	// in K parts keeping groups whole, and member k trains on the other
+	// K − 1 parts, stops early on part k and has its own seed; the
+	// prediction is the mean of the members'. K = 1 is a single Network
+	// trained on the training set and stopped on the validation set.
+	// Training takes about K times as long. Default 5.
+	Ensemble *int `toml:"ensemble" json:"ensemble,omitempty"`
 }
 
 // BranchConfig is one branch of a network: an input signal and the layers
@@ -431,6 +440,9 @@ func (c *Config) SetDefaults() {
 	if c.Patience == nil {
 		c.Patience = new(20)
 	}
+	if c.Ensemble == nil {
+		c.Ensemble = new(5)
+	}
 	for i := range c.Branches {
 		b := &c.Branches[i]
 		if b.Input == "" {
@@ -502,6 +514,7 @@ func (c Config) clone() Config {
 	c.Epochs = clonePtr(c.Epochs)
 	c.BatchSize = clonePtr(c.BatchSize)
 	c.Patience = clonePtr(c.Patience)
+	c.Ensemble = clonePtr(c.Ensemble)
 	c.Loss = LossConfig{Abs: clonePtr(c.Loss.Abs), Squared: clonePtr(c.Loss.Squared), Huber: clonePtr(c.Loss.Huber), Delta: clonePtr(c.Loss.Delta)}
 	o := &c.Optimizer
 	o.Rate, o.Beta1, o.Beta2, o.Epsilon = clonePtr(o.Rate), clonePtr(o.Beta1), clonePtr(o.Beta2), clonePtr(o.Epsilon)
@@ -581,6 +594,9 @@ func (c Config) Validate() error {
 	}
 	if c.Patience == nil || *c.Patience < 0 {
 		return fmt.Errorf("model.network.patience: want 0 or more epochs, found %v", deref(c.Patience))
+	}
+	if c.Ensemble == nil || *c.Ensemble < 1 {
+		return fmt.Errorf("model.network.ensemble: want at least 1 network, found %v", deref(c.Ensemble))
 	}
 	if err := c.Loss.validate(); err != nil {
 		return err

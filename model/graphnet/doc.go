@@ -2,8 +2,9 @@
 // edge-to-edge, edge-to-node and node-to-graph filters (Kawahara et al.
 // 2017), graph convolution over the structural graph (Kipf & Welling 2017),
 // two-branch fusion of modalities and a multi-layer perceptron head. A
-// Network is a model.Regressor and a model.Iterative; the package
-// registers it as the model.Kind "network", configured by Config.
+// Network is a model.Regressor and a model.Iterative; an Ensemble averages
+// several. The package registers them as the model.Kind "network",
+// configured by Config.
 //
 // # Architecture
 //
@@ -41,6 +42,23 @@
 // New drives the initial weights, the shuffling and the dropout masks, so
 // the same seed on the same data gives the same trajectory.
 //
+// # Ensembles
+//
+// The kind "network" builds an Ensemble of K = Config.Ensemble networks
+// (key "ensemble", default 5) when K > 1, and a single Network when K = 1.
+// An ensemble's Fit joins the training and the inner validation set and
+// splits the joined participants in K parts, deterministically from its
+// seed, keeping the participants of one data.Participant.Group in one
+// part. Member k trains on the other K − 1 parts, stops early on part k
+// and restores its best weights; each member has its own seed. The
+// ensemble predicts the mean of its members' predictions, and its edge
+// importance is the mean of theirs. Its History lists the epochs of every
+// member, each numbered by model.Epoch.Member from 1 with its own epochs
+// and Best epoch, so that a learning curve can be drawn per member and a
+// sweep can rank by the mean of the members' kept validation losses. Its
+// FirstLayerFilters are those of member 1. An ensemble trains about K
+// times as long as one network.
+//
 // # Saved models
 //
 // Save writes a folder with two files; Load reads it back.
@@ -77,6 +95,17 @@
 //	output.weight, output.bias     (F, T), (T) output layer
 //
 // A dense layer computes y = x·weight + bias with x flattened in C order.
+//
+// A saved Ensemble is a folder whose manifest.json holds the keys
+//
+//	format     "skein-graphnet-ensemble"
+//	version    1; LoadEnsemble refuses any other
+//	config     the Config, ensemble = K
+//	p, targets, seed
+//	members    ["member1", …, "memberK"]
+//
+// and a folder member1 … memberK per member, each a saved network as
+// above. The kind's Load reads either by the format of manifest.json.
 //
 // This is research software; its predictions are not a diagnosis.
 package graphnet

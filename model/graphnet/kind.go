@@ -12,7 +12,8 @@ const kindNetwork = "network"
 
 // Networks register themselves as a kind of model: not a baseline,
 // fitting all score columns together, saved, with gradient × input edge
-// importance.
+// importance. New builds an Ensemble when model.network.ensemble > 1 and a
+// Network otherwise; Load reads either.
 func init() {
 	model.Register(model.Kind{
 		Name: kindNetwork,
@@ -25,23 +26,27 @@ func init() {
 			if !ok {
 				return nil, fmt.Errorf("graphnet: kind %s takes settings of type %T, not %T", kindNetwork, c, s)
 			}
+			if c.Ensemble != nil && *c.Ensemble > 1 {
+				e, err := NewEnsemble(*c, p, targets, seed)
+				if err != nil {
+					return nil, err
+				}
+				return e, nil
+			}
 			n, err := New(*c, p, targets, seed)
 			if err != nil {
 				return nil, err
 			}
 			return n, nil
 		},
-		Load: func(dir string) (model.Regressor, error) {
-			n, err := Load(dir)
-			if err != nil {
-				return nil, err
-			}
-			return n, nil
-		},
+		Load: loadSaved,
 		Describe: func(s model.Settings) string {
 			c, ok := s.(*Config)
 			if !ok {
 				return ""
+			}
+			if c.Ensemble != nil && *c.Ensemble > 1 {
+				return fmt.Sprintf("%d branches, up to %d epochs, mean of %d networks", len(c.Branches), *c.Epochs, *c.Ensemble)
 			}
 			return fmt.Sprintf("%d branches, up to %d epochs", len(c.Branches), *c.Epochs)
 		},

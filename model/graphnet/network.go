@@ -59,6 +59,8 @@ var (
 // targets, with weights drawn from seed. New works on a copy of cfg with
 // its defaults filled and validates it for this p. The same cfg, p, targets
 // and seed give the same weights and, on the same data, the same training.
+// New builds one network whatever cfg.Ensemble says, and its Config has
+// Ensemble = 1; NewEnsemble builds an ensemble.
 func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 	if p < 1 || targets < 1 {
 		return nil, fmt.Errorf("graphnet: New: need p ≥ 1 and targets ≥ 1, found p = %d, targets = %d", p, targets)
@@ -68,6 +70,7 @@ func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 	if err := cfg.Validate(); err != nil {
 		return nil, err
 	}
+	cfg.Ensemble = new(1)
 	a, err := archOf(cfg, p)
 	if err != nil {
 		return nil, err
