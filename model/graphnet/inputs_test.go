@@ -127,3 +127,51 @@ func equalFloats(a, b []float64) bool {
 	}
 	return true
 }
+
+// TestEdgeImportanceFrom: for a network linear in its input (one n2g
+// layer without activation), the gradient does not depend on the input,
+// so gradient × (input − reference) is the importance of the inputs minus
+// that of the references (linearity; no source needed), and a nil
+// reference gives EdgeImportance.
+func TestEdgeImportanceFrom(t *testing.T) {
+	const p = 5
+	cfg := Config{
+		Branches: []BranchConfig{{Layers: layers(LayerConfig{Kind: LayerN2G, Size: 2, Activation: ActivationNone})}},
+		DType:    Float64, OutputInit: OutputRandom,
+	}
+	net, err := New(cfg, p, 2, 4)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ps, _ := plantedCohort(6, p, 0.5, 3)
+	ref, _ := plantedCohort(6, p, 0.5, 8)
+	from, err := net.EdgeImportanceFrom(ps, ref)
+	if err != nil {
+		t.Fatal(err)
+	}
+	of, err := net.EdgeImportance(ps)
+	if err != nil {
+		t.Fatal(err)
+	}
+	ofRef, err := net.EdgeImportance(ref)
+	if err != nil {
+		t.Fatal(err)
+	}
+	nilRef, err := net.EdgeImportanceFrom(ps, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for tg := range from {
+		var diff mat.Dense
+		diff.Sub(of[tg], ofRef[tg])
+		if !mat.EqualApprox(from[tg], &diff, 1e-12) {
+			t.Errorf("target %d: EdgeImportanceFrom\n%v\nwant EdgeImportance(ps) − EdgeImportance(ref)\n%v", tg, mat.Formatted(from[tg]), mat.Formatted(&diff))
+		}
+		if !mat.Equal(nilRef[tg], of[tg]) {
+			t.Errorf("target %d: EdgeImportanceFrom(ps, nil) differs from EdgeImportance(ps)", tg)
+		}
+	}
+	if _, err := net.EdgeImportanceFrom(ps, ref[:2]); err == nil {
+		t.Error("2 references for 6 participants: no error")
+	}
+}
