@@ -39,6 +39,17 @@ type Kind struct {
 	// dir; nil when the kind's regressors are not saved. When Load is set,
 	// every regressor New returns is a Saver.
 	Load func(dir string) (Regressor, error)
+	// EdgeScaling, when not nil, says which of the participants' matrices
+	// the kind's regressors with settings s learn from standardized per
+	// edge with the mean and SD of their fold's training participants
+	// (train.EdgeScaler). The runner then fits that step on the fold,
+	// gives the regressor the standardized participants to Fit, Predict
+	// and EdgeImportance (as a ReferenceInterpreter, measured from the
+	// standardized zero matrix, so importance stays in raw input units)
+	// and saves the step with the fold model. Other kinds, and kinds
+	// returning false for both, see the matrices as preprocessing leaves
+	// them.
+	EdgeScaling func(s Settings) (functional, structural bool)
 	// Describe, when not nil, summarizes the settings in a few words for a
 	// report's table of models, such as "2 branches, up to 100 epochs".
 	Describe func(s Settings) string

@@ -84,6 +84,18 @@ type Interpreter interface {
 	EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error)
 }
 
+// A ReferenceInterpreter is an Interpreter whose importance can be
+// measured from reference inputs, for a kind whose inputs are transformed
+// before it sees them (model.Kind.EdgeScaling).
+type ReferenceInterpreter interface {
+	Interpreter
+	// EdgeImportanceFrom is EdgeImportance with each input of ps[i]
+	// measured from the same input of ref[i] (gradient × (input −
+	// reference)); EdgeImportance is EdgeImportanceFrom with reference
+	// inputs of 0. ref holds one participant per participant of ps.
+	EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense, error)
+}
+
 // Saver is implemented by regressors that can be written to a folder and
 // read back (see each kind's package documentation for its format).
 type Saver interface {

@@ -45,7 +45,7 @@ func TestInnerLossByHand(t *testing.T) {
 		split := res.Splits[u.Split]
 		fit, valid := InnerValidation(split.Train, Groups(cohort), exp.CV.innerCount(), exp.CV.innerFraction(),
 			unitSeed(exp.Seed, "inner", split.Repeat, split.Fold))
-		seed := int64(unitSeed(exp.Seed, cfg.Name, u.Repeat, u.Fold) >> 1)
+		seed := modelSeed(exp.Seed, u.Repeat, u.Fold)
 		pred := mat.NewDense(len(valid), T, nil)
 		switch cfg.Kind() {
 		case "mean":

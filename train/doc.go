@@ -1,13 +1,16 @@
 // Package train cross-validates models on a cohort: it splits the cohort
 // into repeated (grouped, optionally stratified) k-fold folds (Folds), fits
 // the fold's preparation on its training participants only (Prep,
-// Pipeline: target standardisation and confound regression today), picks
+// Pipeline: target standardisation and confound regression, shared by
+// every model of the fold, then the input steps of a model's own kind,
+// such as the per-edge standardization of networks, EdgeScaler), picks
 // the inner validation part, trains every model of a Design under the same
 // splits and collects their test predictions (Runner, Result).
 //
 // A run is made of independent units, one model on one fold of one repeat,
-// each seeded from the design's seed and its own identity, so results do
-// not depend on how many run at once. Finished units are kept as
+// each seeded from the design's seed, the repeat and the fold (never the
+// model's name or settings: every model of a fold draws from the same
+// seed), so results do not depend on how many run at once. Finished units are kept as
 // checkpoints (Checkpoints) so that an interrupted run resumes and units
 // run on separate machines can be gathered. The package also repeats the
 // cross-validation under permutations of the participants table

@@ -92,7 +92,7 @@ type Residualizer interface {
 //
 // with NAME a step's Name and PARAMS the step's own JSON encoding.
 // Decoding knows the steps of this package by name: "targets" is a
-// TargetPrep.
+// TargetPrep, "edges" an EdgeScaler.
 type Pipeline struct {
 	Steps []Prep
 }
@@ -237,8 +237,10 @@ func (p *Pipeline) UnmarshalJSON(raw []byte) error {
 		switch saved.Step {
 		case targetPrepName:
 			s = new(TargetPrep)
+		case edgeScalerName:
+			s = new(EdgeScaler)
 		default:
-			return fmt.Errorf("step %d: unknown preparation step %q (this skein knows %q)", k+1, saved.Step, targetPrepName)
+			return fmt.Errorf("step %d: unknown preparation step %q (this skein knows %q and %q)", k+1, saved.Step, targetPrepName, edgeScalerName)
 		}
 		if err := json.Unmarshal(saved.Params, s); err != nil {
 			return fmt.Errorf("step %d (%s): %w", k+1, saved.Step, err)

@@ -331,6 +331,11 @@ type foldData struct {
 	observed   *mat.Dense   // test scores as scored (Pipeline.Observed): score units, confounds removed
 	innerSeed  uint64
 	targetName []string
+	// edges is the per-edge standardization fitted on the fold's training
+	// participants, for every modality some model of the run wants
+	// standardized; nil when none does. scaler is the part of it a model
+	// learns from, set in the foldData forModel returns.
+	edges, scaler *EdgeScaler
 }
 
 // prepareFold fits the fold's preparation on the training participants
@@ -342,6 +347,13 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	prep := &Pipeline{Steps: []Prep{&TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}}}
 	if err := prep.Fit(subCohort(cohort, split.Train)); err != nil {
 		return nil, err
+	}
+	var edges *EdgeScaler
+	if f, s := exp.edgeScaling(); f || s {
+		edges = &EdgeScaler{Functional: f, Structural: s}
+		if err := edges.Fit(subCohort(cohort, split.Train)); err != nil {
+			return nil, fmt.Errorf("%s: %w", edges.Name(), err)
+		}
 	}
 	seed := unitSeed(exp.Seed, "inner", split.Repeat, split.Fold)
 	fitIdx, validIdx := InnerValidation(split.Train, Groups(cohort), exp.CV.innerCount(), exp.CV.innerFraction(), seed)
@@ -366,6 +378,7 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		testCohort: test,
 		innerSeed:  seed,
 		targetName: cohort.Targets,
+		edges:      edges,
 	}
 	if fd.train.Y, err = scoreMatrix(fit, len(cohort.Targets)); err != nil {
 		return nil, err
@@ -381,6 +394,85 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		}
 	}
 	return fd, nil
+}
+
+// edgeScaling returns the modalities some model of d learns from
+// standardized per edge (model.Kind.EdgeScaling).
+func (d *Design) edgeScaling() (functional, structural bool) {
+	for _, cfg := range d.Models {
+		f, s := cfg.edgeScaling()
+		functional, structural = functional || f, structural || s
+	}
+	return functional, structural
+}
+
+// edgeScaling returns the modalities model m learns from standardized per
+// edge: what its kind's EdgeScaling says of its settings.
+func (m ModelConfig) edgeScaling() (functional, structural bool) {
+	k, err := m.Spec()
+	if err != nil || k.EdgeScaling == nil {
+		return false, false
+	}
+	return k.EdgeScaling(m.Settings())
+}
+
+// forModel returns the fold as model cfg learns from it: fd itself, or,
+// when cfg standardizes edges (model.Kind.EdgeScaling), a copy whose
+// training, validation and test participants are standardized by the
+// fold's EdgeScaler (restricted to cfg's modalities) and whose Pipeline,
+// saved with the model, is the fold's steps followed by that scaler. Every
+// model of a fold thus shares the target steps, and a model's own input
+// steps come after them.
+func (fd *foldData) forModel(cfg ModelConfig) (*foldData, error) {
+	if fd.edges == nil {
+		return fd, nil
+	}
+	sc := fd.edges.only(cfg.edgeScaling())
+	if sc == nil {
+		return fd, nil
+	}
+	out := *fd
+	out.scaler = sc
+	out.prep = &Pipeline{Steps: append(slices.Clone(fd.prep.Steps), sc)}
+	scale := func(ps []*data.Participant) ([]*data.Participant, error) {
+		c, err := sc.Apply(&data.Cohort{Participants: ps})
+		if err != nil {
+			return nil, fmt.Errorf("%s: %w", sc.Name(), err)
+		}
+		return c.Participants, nil
+	}
+	var err error
+	if out.train.Participants, err = scale(fd.train.Participants); err != nil {
+		return nil, err
+	}
+	if out.valid.Participants, err = scale(fd.valid.Participants); err != nil {
+		return nil, err
+	}
+	if out.testCohort, err = sc.Apply(fd.testCohort); err != nil {
+		return nil, fmt.Errorf("%s: %w", sc.Name(), err)
+	}
+	out.test = out.testCohort.Participants
+	return &out, nil
+}
+
+// edgeImportance returns in's edge importance on the fold's test
+// participants. For a model that learns from standardized edges it is
+// measured from the standardized zero matrix (EdgeScaler.Reference), so
+// that it is gradient × input of the raw matrices, as for every other
+// model (model.ReferenceInterpreter).
+func (fd *foldData) edgeImportance(in model.Interpreter) ([]*mat.Dense, error) {
+	if fd.scaler == nil {
+		return in.EdgeImportance(fd.test)
+	}
+	ri, ok := in.(model.ReferenceInterpreter)
+	if !ok {
+		return nil, fmt.Errorf("%T learns from standardized edges but is not a model.ReferenceInterpreter", in)
+	}
+	ref, err := fd.scaler.Reference(fd.testCohort)
+	if err != nil {
+		return nil, err
+	}
+	return ri.EdgeImportanceFrom(fd.test, ref.Participants)
 }
 
 type unitOutput struct {
@@ -402,7 +494,11 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 		return unitOutput{}, false, err
 	}
 	emit(Event{Kind: UnitStarted, Model: cfg.Name, Unit: unit})
-	seed := int64(unitSeed(r.Design.Seed, cfg.Name, unit.Repeat, unit.Fold) >> 1)
+	fd, err := fd.forModel(cfg)
+	if err != nil {
+		return unitOutput{}, false, err
+	}
+	seed := modelSeed(r.Design.Seed, unit.Repeat, unit.Fold)
 	reg, err := newModel(cfg, r.Cohort.P(), len(r.Cohort.Targets), seed)
 	if err != nil {
 		return unitOutput{}, false, err
@@ -458,7 +554,7 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 		}
 	}
 	if in, ok := reg.(model.Interpreter); ok && !r.scoresOnly {
-		if out.importance, err = in.EdgeImportance(fd.test); err != nil {
+		if out.importance, err = fd.edgeImportance(in); err != nil {
 			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
 		}
 	}
@@ -551,8 +647,19 @@ func Groups(c *data.Cohort) []string {
 	return groups
 }
 
-// unitSeed derives a seed from the experiment seed and a unit's identity,
-// so that a unit's randomness does not depend on which other units ran.
+// modelSeed returns the seed of every model trained on fold fold of
+// repeat repeat (−1, −1 for the refit on all participants): a function of
+// the experiment seed, the repeat and the fold alone. It does not depend
+// on the model's name or settings, so that two models that differ only by
+// name give the same predictions, and models compared on a fold draw
+// common random numbers (one source of difference between them fewer).
+func modelSeed(seed int64, repeat, fold int) int64 {
+	return int64(unitSeed(seed, "model", repeat, fold) >> 1)
+}
+
+// unitSeed derives a seed from the experiment seed, a purpose and a
+// unit's place (repeat and fold), so that a unit's randomness does not
+// depend on which other units ran.
 func unitSeed(seed int64, name string, repeat, fold int) uint64 {
 	h := fnv.New64a()
 	fmt.Fprintf(h, "%d\x00%s\x00%d\x00%d", seed, name, repeat, fold)

@@ -11,6 +11,8 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/model"
+	"github.com/skein-neuro/skein/model/graphnet"
 	"github.com/skein-neuro/skein/model/linear"
 )
 
@@ -90,5 +92,42 @@ func TestRunDeterministicAcrossJobs(t *testing.T) {
 	}
 	if got := len(results[0].Predictions); got != want {
 		t.Fatalf("%d predictions, want %d", got, want)
+	}
+}
+
+// TestModelNameDoesNotChangePredictions runs the same network and the
+// same ridge under two names each: a model's seed comes from the
+// experiment seed, the repeat and the fold (modelSeed), never its name,
+// so the twins predict alike to the bit (a property of the design, no
+// source).
+func TestModelNameDoesNotChangePredictions(t *testing.T) {
+	net := func(name string) ModelConfig {
+		return ModelConfig{Name: name, Network: &graphnet.Config{
+			Branches: []graphnet.BranchConfig{{Input: "functional", Layers: []graphnet.LayerConfig{
+				{Kind: "e2n", Channels: 2}, {Kind: "dropout", Rate: 0.3}, {Kind: "n2g", Size: 4},
+			}}},
+			Epochs: new(3), Optimizer: graphnet.OptimizerConfig{Rate: new(1e-2)},
+		}}
+	}
+	ridge := func(name string) ModelConfig {
+		return ModelConfig{Name: name, Config: linear.Config{Ridge: &linear.RidgeConfig{}}}
+	}
+	exp := toyDesign(net("net-a"), net("net-b"), ridge("ridge-a"), ridge("ridge-b"))
+	exp.CV.InnerValidation = new(0.2)
+	res, err := (&Runner{Design: exp, Cohort: toyCohort(24, 5, 3, false), Jobs: 2}).Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	byModel := make(map[string][]model.Prediction)
+	for _, p := range res.Predictions {
+		p.Model = p.Model[:len(p.Model)-2] // "net-a" → "net"
+		byModel[p.Model] = append(byModel[p.Model], p)
+	}
+	for _, kind := range []string{"net", "ridge"} {
+		got := byModel[kind]
+		half := len(got) / 2
+		if half == 0 || !reflect.DeepEqual(got[:half], got[half:]) {
+			t.Errorf("%s: the two names gave different predictions (%d in all)", kind, len(got))
+		}
 	}
 }

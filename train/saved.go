@@ -218,7 +218,7 @@ func (r *Runner) Refit(ctx context.Context) error {
 		newModel = buildModel
 	}
 	for _, cfg := range exp.Models {
-		seed := int64(unitSeed(exp.Seed, cfg.Name, -1, -1) >> 1)
+		seed := modelSeed(exp.Seed, -1, -1)
 		reg, err := newModel(cfg, cohort.P(), len(cohort.Targets), seed)
 		if err != nil {
 			return err
@@ -226,6 +226,10 @@ func (r *Runner) Refit(ctx context.Context) error {
 		saver, ok := reg.(model.Saver)
 		if !ok {
 			continue
+		}
+		fd, err := fd.forModel(cfg)
+		if err != nil {
+			return fmt.Errorf("refit of model %q on all participants: %w", cfg.Name, err)
 		}
 		if err := reg.Fit(ctx, fd.train, fd.valid); err != nil {
 			return fmt.Errorf("refit of model %q on all participants: %w", cfg.Name, err)

@@ -49,6 +49,11 @@ func TestPredictReproducesTestFold(t *testing.T) {
 	if _, err := os.Stat(filepath.Join(out, "models", "net", "all", "fitted.json")); err != nil {
 		t.Fatalf("refit model missing: %v", err)
 	}
+	// The network standardizes its inputs per edge (the default): the
+	// step is saved with the fold model, and predict replays it.
+	if fitted, err := os.ReadFile(filepath.Join(out, "models", "net", "r1-f1", "fitted.json")); err != nil || !strings.Contains(string(fitted), `"step": "edges"`) {
+		t.Fatalf("fold model's fitted.json has no edges step (%v)", err)
+	}
 	recorded := make(map[string]string) // participant|target -> predicted, fold 1 of repeat 1 (r1-f1)
 	for _, rec := range readCSV(t, filepath.Join(out, "predictions.csv"))[1:] {
 		if rec[3] == "1" && rec[4] == "1" {

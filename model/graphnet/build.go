@@ -81,12 +81,15 @@ func nodeFeatures(in layerShape, p int) int {
 
 // initParams draws every weight from the seeded source: He normal
 // (standard deviation sqrt(2/fan_in)) or Glorot uniform (±sqrt(6/(fan_in +
-// fan_out))); biases (fan_in 0) start at zero.
+// fan_out))); biases (fan_in 0) start at zero, and so do the output
+// layer's weights (the last weight array but its bias) with output_init
+// "zero", which draws nothing for them.
 func (n *Network) initParams(rng *rand.Rand) {
-	for _, p := range n.params {
+	for k, p := range n.params {
 		draw := func() float64 { return 0 }
 		switch {
 		case p.fanIn == 0:
+		case k == len(n.params)-2 && n.cfg.OutputInit == OutputZero:
 		case n.cfg.Init == InitGlorot:
 			limit := math.Sqrt(6 / float64(p.fanIn+p.fanOut))
 			draw = func() float64 { return (2*rng.Float64() - 1) * limit }
@@ -189,6 +192,9 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 		}
 		gr.operators = append(gr.operators, sv)
 		h := x
+		if h, err = dropout(h, b.InputDropout); err != nil {
+			return nil, fmt.Errorf("graphnet: building model.network.branch[%d].input_dropout: %w", bi, err)
+		}
 		in := layerShape{form: edgeForm, width: size{1, 0}}
 		fromData := !saliency // h depends on no weight: its gradient is never needed
 		nodeMajor := false    // h is an e2e output laid out for the e2n after it

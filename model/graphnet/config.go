@@ -61,8 +61,24 @@ type Config struct {
 	// 2015) or "glorot" (uniform on ±sqrt(6/(fan_in+fan_out)), Glorot &
 	// Bengio 2010). The fan-in of a unit is the number of inputs it sums:
 	// 2·C·p for e2e, C·p for e2n, F for graph_conv and dense layers.
-	// Biases start at zero.
+	// Biases start at zero. The output layer follows OutputInit instead.
 	Init Init `toml:"init" json:"init"`
+	// OutputInit is the initialization of the output layer's weights (key
+	// "output_init"): "zero" (default) or "random" (drawn as Init says,
+	// like every other weight). Its bias starts at zero either way. With
+	// "zero" the untrained network predicts 0 for everyone: the training
+	// mean of the standardized scores, so training starts from the mean
+	// predictor and moves away from it only as far as the data lead.
+	OutputInit OutputInit `toml:"output_init" json:"output_init,omitempty"`
+	// StandardizeInputs says whether the network learns from matrices
+	// standardized per edge over the training participants of its fold
+	// (key "standardize_inputs"): each edge minus its training mean,
+	// divided by its training SD (train.EdgeScaler). Default true; false
+	// gives the network the matrices as preprocessing leaves them. The
+	// standardization is fitted by the runner, not the network, and saved
+	// with the fold model; the network only declares it wants it
+	// (Config.EdgeScaling).
+	StandardizeInputs *bool `toml:"standardize_inputs" json:"standardize_inputs,omitempty"`
 	// DType is the floating-point type of weights and computation (key
 	// "dtype"): "float32" (default) or "float64".
 	DType DType `toml:"dtype" json:"dtype"`
@@ -111,6 +127,12 @@ type BranchConfig struct {
 	// "propagated" input and by graph_conv layers. Default
 	// "renormalized-adjacency" when needed, else none.
 	Operator data.OperatorKind `toml:"operator" json:"operator,omitempty"`
+	// InputDropout is the dropout rate on the branch's input matrix (key
+	// "input_dropout"), in [0, 1): while training, every entry of the
+	// input is zeroed with this probability and the others divided by
+	// 1 − rate (inverted dropout, so the expected input is the input);
+	// when predicting, the input passes unchanged. Default 0.
+	InputDropout float64 `toml:"input_dropout" json:"input_dropout,omitempty"`
 	// Propagate says how a "propagated" input is formed (key "propagate"):
 	// "left" for S·F or "both" (default) for S·F·Sᵀ.
 	Propagate Propagate `toml:"propagate" json:"propagate,omitempty"`
@@ -237,6 +259,16 @@ const (
 	InitGlorot Init = "glorot"
 )
 
+// OutputInit is the value of the key model.network.output_init:
+// OutputZero or OutputRandom ("" is unset).
+type OutputInit string
+
+// Values of model.network.output_init.
+const (
+	OutputZero   OutputInit = "zero"   // output weights start at 0
+	OutputRandom OutputInit = "random" // output weights drawn as model.network.init says
+)
+
 // DType is the value of the key model.network.dtype: Float32 or Float64
 // ("" is unset).
 type DType string
@@ -337,6 +369,18 @@ func (i Init) MarshalText() ([]byte, error) { return []byte(i), nil }
 // String returns the word of i.
 func (i Init) String() string { return string(i) }
 
+// UnmarshalText sets o to the word text: "zero", "random" or "" (unset).
+// Another word is an error listing these.
+func (o *OutputInit) UnmarshalText(text []byte) error {
+	return enum.Parse(o, text, OutputZero, OutputRandom)
+}
+
+// MarshalText returns the word of o.
+func (o OutputInit) MarshalText() ([]byte, error) { return []byte(o), nil }
+
+// String returns the word of o.
+func (o OutputInit) String() string { return string(o) }
+
 // UnmarshalText sets d to the word text: "float32", "float64" or ""
 // (unset). Another word is an error listing these.
 func (d *DType) UnmarshalText(text []byte) error { return enum.Parse(d, text, Float32, Float64) }
@@ -428,6 +472,12 @@ func (c *Config) SetDefaults() {
 	if c.Init == "" {
 		c.Init = InitHe
 	}
+	if c.OutputInit == "" {
+		c.OutputInit = OutputZero
+	}
+	if c.StandardizeInputs == nil {
+		c.StandardizeInputs = new(true)
+	}
 	if c.DType == "" {
 		c.DType = Float32
 	}
@@ -503,6 +553,33 @@ func (c *Config) SetDefaults() {
 	}
 }
 
+// EdgeScaling reports which matrices the network learns from
+// standardized per edge (see StandardizeInputs and model.Kind.EdgeScaling):
+// with standardize_inputs true (the default), the functional matrix when
+// a branch reads it (input "functional" or "propagated", which propagates
+// the standardized F), and the structural matrix when a branch reads it
+// as its input ("structural") and no branch builds a structural operator
+// from it (an operator needs the non-negative weights preprocessing
+// leaves, so the structural matrix then stays as it is for every branch).
+func (c Config) EdgeScaling() (functional, structural bool) {
+	if c.StandardizeInputs != nil && !*c.StandardizeInputs {
+		return false, false
+	}
+	operator := false
+	for _, b := range c.Branches {
+		operator = operator || b.needsOperator()
+	}
+	for _, b := range c.Branches {
+		switch b.Input {
+		case InputFunctional, InputPropagated, "":
+			functional = true
+		case InputStructural:
+			structural = !operator
+		}
+	}
+	return functional, structural
+}
+
 // clone returns a copy of c that shares no slice or pointer with it.
 func (c Config) clone() Config {
 	c.Branches = append([]BranchConfig(nil), c.Branches...)
@@ -511,6 +588,7 @@ func (c Config) clone() Config {
 	}
 	c.Head = append([]int(nil), c.Head...)
 	c.Slope = clonePtr(c.Slope)
+	c.StandardizeInputs = clonePtr(c.StandardizeInputs)
 	c.Epochs = clonePtr(c.Epochs)
 	c.BatchSize = clonePtr(c.BatchSize)
 	c.Patience = clonePtr(c.Patience)
@@ -582,6 +660,12 @@ func (c Config) Validate() error {
 	}
 	if err := enum.Check(c.Init); err != nil {
 		return fmt.Errorf("model.network.init: %w", err)
+	}
+	if err := enum.Check(c.OutputInit); err != nil {
+		return fmt.Errorf("model.network.output_init: %w", err)
+	}
+	if c.StandardizeInputs == nil {
+		return errors.New("model.network.standardize_inputs: want true or false, found nothing")
 	}
 	if err := enum.Check(c.DType); err != nil {
 		return fmt.Errorf("model.network.dtype: %w", err)
@@ -752,6 +836,9 @@ func archOf(c Config, p int) (arch, error) {
 		}
 		if b.Input != InputPropagated && b.Propagate != "" {
 			return a, fmt.Errorf("%s.propagate: is set but input is %q, not \"propagated\"", key, b.Input)
+		}
+		if !(b.InputDropout >= 0 && b.InputDropout < 1) {
+			return a, fmt.Errorf("%s.input_dropout: want a rate in [0, 1), found %v", key, b.InputDropout)
 		}
 		if len(b.Layers) == 0 {
 			return a, fmt.Errorf("%s.layers: want at least one layer, found none", key)

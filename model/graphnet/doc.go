@@ -16,6 +16,13 @@
 // concatenation or element-wise product, then pass through the hidden
 // dense layers of the head and a linear output layer with one output per
 // target. Every layer but dropout and the output is followed by a leaky ReLU.
+// A branch may drop entries of its input while training (input_dropout).
+// The output layer starts at zero (output_init), so the untrained network
+// predicts the training mean of the standardized scores. By default the
+// network learns from matrices standardized per edge on its training
+// fold (standardize_inputs); the runner fits and saves that step
+// (Config.EdgeScaling, train.EdgeScaler), and EdgeImportanceFrom keeps
+// the edge importance in raw input units.
 // Config.Validate and New check the architecture before any training and
 // name the first layer that cannot take its input.
 //

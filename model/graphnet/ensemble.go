@@ -272,9 +272,16 @@ func (e *Ensemble) Predict(ps []*data.Participant) (*mat.Dense, error) {
 // the saliency of a member is linear in its output gradient, this is the
 // gradient × input saliency of the ensemble's mean prediction.
 func (e *Ensemble) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	return e.EdgeImportanceFrom(ps, nil)
+}
+
+// EdgeImportanceFrom is EdgeImportance measured from reference inputs:
+// the mean over the members of Network.EdgeImportanceFrom
+// (model.ReferenceInterpreter); nil ref measures from inputs of 0.
+func (e *Ensemble) EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense, error) {
 	var sum []*mat.Dense
 	for k, n := range e.members {
-		maps, err := n.EdgeImportance(ps)
+		maps, err := n.EdgeImportanceFrom(ps, ref)
 		if err != nil {
 			return nil, fmt.Errorf("ensemble member %d: %w", k+1, err)
 		}
@@ -296,6 +303,8 @@ func (e *Ensemble) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) 
 // (Network.FirstLayerFilters). Members' filters are not averaged: the
 // channels of two networks need not match.
 func (e *Ensemble) FirstLayerFilters() []Filters { return e.members[0].FirstLayerFilters() }
+
+var _ model.ReferenceInterpreter = (*Ensemble)(nil)
 
 // The saved-ensemble format; see the package documentation.
 const (

@@ -40,6 +40,12 @@ func init() {
 			return n, nil
 		},
 		Load: loadSaved,
+		EdgeScaling: func(s model.Settings) (functional, structural bool) {
+			if c, ok := s.(*Config); ok {
+				return c.EdgeScaling()
+			}
+			return false, false
+		},
 		Describe: func(s model.Settings) string {
 			c, ok := s.(*Config)
 			if !ok {

@@ -11,7 +11,7 @@ import (
 	"github.com/skein-neuro/skein/model"
 )
 
-var _ model.Interpreter = (*Network)(nil)
+var _ model.ReferenceInterpreter = (*Network)(nil)
 
 // EdgeImportance returns, per target t, the gradient × input saliency of
 // the network over ps (Simonyan et al. 2014; Shrikumar et al. 2017): for
@@ -26,12 +26,33 @@ var _ model.Interpreter = (*Network)(nil)
 // the Y the network was fitted on; the sign says whether the edge, at its
 // value, raises or lowers the prediction. Each map is p × p.
 func (n *Network) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	return n.EdgeImportanceFrom(ps, nil)
+}
+
+// EdgeImportanceFrom is EdgeImportance with X_bi replaced by X_bi − R_bi,
+// R_bi the input of branch b for ref[i] (model.ReferenceInterpreter); nil
+// ref means R = 0. The runner passes as ref the standardized zero matrix
+// when the network learns from matrices standardized per edge, z = (x −
+// μ)/σ: then X − R = x/σ, and the map is Σ x ∘ ∂ŷ/∂x over the raw
+// matrices x (by the chain rule), in the same units as without
+// standardization. For a "propagated" branch, X − R = S·(x/σ)·Sᵀ (or
+// S·(x/σ)), the propagated raw matrix.
+func (n *Network) EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense, error) {
 	if len(ps) == 0 {
 		return nil, fmt.Errorf("graphnet: EdgeImportance: no participants")
+	}
+	if ref != nil && len(ref) != len(ps) {
+		return nil, fmt.Errorf("graphnet: EdgeImportance: %d reference participants for %d participants", len(ref), len(ps))
 	}
 	set, err := n.prepare(model.Dataset{Participants: ps}, "saliency set", false)
 	if err != nil {
 		return nil, err
+	}
+	var refSet *prepared
+	if ref != nil {
+		if refSet, err = n.prepare(model.Dataset{Participants: ref}, "saliency reference", false); err != nil {
+			return nil, err
+		}
 	}
 	p, pp := n.p, n.p*n.p
 	sums := make([][]float64, n.targets)
@@ -61,8 +82,15 @@ func (n *Network) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
 				gv := g.m.dense(grad)
 				for k, i := range idx {
 					x := set.inputs[b][i]
+					if refSet == nil {
+						for e := range pp {
+							sums[t][e] += x[e] * valueAt(gv, k*pp+e)
+						}
+						continue
+					}
+					r := refSet.inputs[b][i]
 					for e := range pp {
-						sums[t][e] += x[e] * valueAt(gv, k*pp+e)
+						sums[t][e] += (x[e] - r[e]) * valueAt(gv, k*pp+e)
 					}
 				}
 			}
