@@ -355,4 +355,3 @@ func (t *unitTimer) mean(name string) time.Duration {
 	}
 	return t.total[name] / time.Duration(t.count[name])
 }
-
