@@ -24,10 +24,14 @@
 //
 // The score is computed from the matrices exactly as stored: the
 // noiseless score g (one of Kinds) is standardized over the cohort and the
-// observed score is 50 + 10·(g + σ·e), e standard normal, with
-// σ = sqrt(1/ρ² − 1), so that the correlation between the noiseless and
-// the observed score, the oracle r, is ρ in expectation. For the null
-// truth g = 0 and the oracle r is 0.
+// observed score is 50 + 10·(ρ·g + sqrt(1 − ρ²)·e), e standard normal, so
+// that the correlation between the noiseless and the observed score, the
+// oracle r, is ρ in expectation and the score's SD is 10 whatever ρ. For
+// the null truth g = 0 and the oracle r is 0.
+//
+// The truth is drawn after the connectomes: cohorts of every kind made
+// with the same Config hold the same matrices and differ in the score
+// only.
 //
 // skein is research software, not a diagnostic device.
 package scenario
@@ -145,13 +149,12 @@ func Generate(k Kind, cfg Config) (*Scenario, error) {
 		return nil, err
 	}
 	sc := &Scenario{Kind: k, Cohort: c, Noiseless: g}
-	sigma := 1.0
 	if k != Null {
 		sc.Oracle = cfg.Oracle
-		sigma = math.Sqrt(1/(cfg.Oracle*cfg.Oracle) - 1)
 	}
+	noise := math.Sqrt(1 - sc.Oracle*sc.Oracle)
 	for i, p := range c.Participants {
-		p.Scores[0] = 50 + 10*(g[i]+sigma*rng.NormFloat64())
+		p.Scores[0] = 50 + 10*(sc.Oracle*g[i]+noise*rng.NormFloat64())
 	}
 	return sc, nil
 }
@@ -200,7 +203,7 @@ func (t *template) structural(rng *rand.Rand) *mat.Dense {
 		for j := i + 1; j < p; j++ {
 			var count float64
 			switch {
-			case t.present[i*p+j] && rng.Float64() < 0.97:
+			case t.present[i*p+j]:
 				count = math.Round(t.mean[i*p+j] * scale * math.Exp(0.45*rng.NormFloat64()))
 			case rng.Float64() < 0.05: // a spurious streamline or two
 				count = float64(1 + rng.IntN(3))
