@@ -3,6 +3,7 @@ package scenario
 import (
 	"context"
 	"math"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -133,5 +134,27 @@ func TestRidgeRecovers(t *testing.T) {
 				t.Errorf("ridge r = %.3f on the null, want |r| < 0.25", r)
 			}
 		})
+	}
+}
+
+// TestGenerateErrors: a configuration that cannot work is an error naming
+// what is wrong.
+func TestGenerateErrors(t *testing.T) {
+	tests := []struct {
+		kind   Kind
+		cfg    Config
+		errHas string
+	}{
+		{"linear", Config{N: 50, P: 20}, "unknown kind"},
+		{FCLinear, Config{N: 10, P: 20}, "N ≥ 20"},
+		{FCLinear, Config{N: 50, P: 8}, "P ≥ 12"},
+		{FCLinear, Config{N: 50, P: 20, T: 20}, "must exceed P"},
+		{FCLinear, Config{N: 50, P: 20, Oracle: 1.5}, "oracle r"},
+	}
+	for _, tc := range tests {
+		_, err := Generate(tc.kind, tc.cfg)
+		if err == nil || !strings.Contains(err.Error(), tc.errHas) {
+			t.Errorf("Generate(%q, %+v): err = %v, want one naming %q", tc.kind, tc.cfg, err, tc.errHas)
+		}
 	}
 }
