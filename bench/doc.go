@@ -10,7 +10,10 @@
 //     and on two with each kind of parallelism (the numbers behind
 //     train.ChooseParallelism);
 //   - scaling.sh prints epoch time, FLOP count and GFLOP/s against p and N;
-//   - cmd/refnet is the driver the scripts run;
+//   - scenarios.sh runs cmd/scenarios: the baselines and a set of networks
+//     on invented cohorts whose score follows a known truth (package
+//     bench/scenario), one table per scenario beside the oracle r;
+//   - cmd/refnet is the driver of compare.sh, parallel.sh and scaling.sh;
 //   - BenchmarkRidgePermutation times the permutation test of a
 //     cross-validated ridge at N = 275, p = 268.
 //
