@@ -341,7 +341,7 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 	fmt.Fprintf(&buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
 		rep.Participants, rep.Excluded, len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
 	if len(exp.CV.Confounds) > 0 {
-		fmt.Fprintf(&buf, ", confounds %v regressed out of the scores within each training fold", exp.CV.Confounds)
+		fmt.Fprintf(&buf, ", confounds %s regressed out of the scores within each training fold", strings.Join(exp.CV.Confounds, ", "))
 	}
 	if rep.Nulls != nil {
 		fmt.Fprintf(&buf, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)

@@ -52,9 +52,17 @@ func init() {
 				return ""
 			}
 			if c.Ensemble != nil && *c.Ensemble > 1 {
-				return fmt.Sprintf("%d branches, up to %d epochs, mean of %d networks", len(c.Branches), *c.Epochs, *c.Ensemble)
+				return fmt.Sprintf("%s, up to %d epochs, mean of %d networks", branches(len(c.Branches)), *c.Epochs, *c.Ensemble)
 			}
-			return fmt.Sprintf("%d branches, up to %d epochs", len(c.Branches), *c.Epochs)
+			return fmt.Sprintf("%s, up to %d epochs", branches(len(c.Branches)), *c.Epochs)
 		},
 	})
+}
+
+// branches says how many branches a network has, in words.
+func branches(n int) string {
+	if n == 1 {
+		return "1 branch"
+	}
+	return fmt.Sprintf("%d branches", n)
 }
