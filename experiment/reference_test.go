@@ -49,6 +49,9 @@ layers = [{kind = "e2e", channels = 8}, {kind = "e2n", channels = 16}, {kind = "
 [[model.network.branch]]
 input = "propagated"
 layers = [{kind = "graph_conv", size = 16}, {kind = "n2g", size = 32}]
+[[model.network.branch]]
+views = ["functional", "structural"]
+layers = [{kind = "edge", size = 4}, {kind = "e2n", channels = 8}, {kind = "n2g", size = 32}]
 `))
 	if err != nil {
 		t.Fatal(err)

@@ -37,10 +37,14 @@ func (n *Network) createParams() {
 		n.params = append(n.params, p)
 	}
 	for bi, b := range n.cfg.Branches {
-		in := layerShape{form: edgeForm, width: size{1, 0}}
+		in := layerShape{form: edgeForm, width: size{len(b.views()), 0}}
 		for li, l := range b.Layers {
 			pre := fmt.Sprintf("branch%d.layer%d.", bi, li)
 			switch l.Kind {
+			case LayerEdge:
+				c, o := in.width.at(n.p), l.units()
+				add(pre+"weight", c, o, o, c)
+				add(pre+"bias", 0, 0, o)
 			case LayerE2E:
 				c := in.width.at(n.p)
 				add(pre+"row", 2*c*n.p, 2*l.Channels*n.p, l.Channels, c, n.p)
@@ -118,7 +122,7 @@ type graph struct {
 	g        *gorgonia.ExprGraph
 	m        *machine // runs g
 
-	inputs    []*tensor.Dense // per branch: (batch, 1, p, p)
+	inputs    []*tensor.Dense // per branch: (batch, C, p, p), C its number of views
 	operators []*tensor.Dense // per branch: (batch, p, p), nil without operator
 	target    *tensor.Dense   // (batch, T), NaN = missing
 	masks     []*tensor.Dense // dropout masks, refilled before every step
@@ -130,7 +134,7 @@ type graph struct {
 	// Saliency graphs only: outputWeights (batch, T) weighs the outputs
 	// summed into the differentiated scalar Σ outputWeights ∘ pred, and
 	// inputGrads holds its gradient with respect to each branch's input,
-	// (batch, 1, p, p).
+	// (batch, C, p, p).
 	outputWeights *tensor.Dense
 	inputGrads    []*gorgonia.Node
 }
@@ -177,7 +181,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 	p := n.p
 	var outs, inputs []*gorgonia.Node
 	for bi, b := range n.cfg.Branches {
-		x, xv, err := constant(fmt.Sprintf("branch%d.input", bi), batch, 1, p, p)
+		x, xv, err := constant(fmt.Sprintf("branch%d.input", bi), batch, len(b.views()), p, p)
 		if err != nil {
 			return nil, err
 		}
@@ -195,7 +199,7 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 		if h, err = dropout(h, b.InputDropout); err != nil {
 			return nil, fmt.Errorf("graphnet: building model.network.branch[%d].input_dropout: %w", bi, err)
 		}
-		in := layerShape{form: edgeForm, width: size{1, 0}}
+		in := layerShape{form: edgeForm, width: size{len(b.views()), 0}}
 		fromData := !saliency // h depends on no weight: its gradient is never needed
 		nodeMajor := false    // h is an e2e output laid out for the e2n after it
 		for li, l := range b.Layers {
@@ -223,6 +227,8 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 				h, err = ops.E2E(h, take(), take(), take(), opts...)
 			case LayerE2N:
 				h, err = ops.E2N(h, take(), take(), opts...)
+			case LayerEdge:
+				h, err = ops.EdgeDense(h, take(), take(), opts...)
 			case LayerGraphConv:
 				switch {
 				case in.form == edgeForm:

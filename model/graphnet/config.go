@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/internal/enum"
@@ -119,8 +120,17 @@ type BranchConfig struct {
 	// (the functional matrix F), "structural" (the structural matrix, for
 	// structure-only models) or "propagated" (F propagated by the
 	// participant's structural operator S, see Propagate). Default
-	// "functional".
-	Input Input `toml:"input" json:"input"`
+	// "functional" when views is not set; with views, input stays unset.
+	Input Input `toml:"input" json:"input,omitempty"`
+	// Views lists several input signals that the branch takes at once, as
+	// the channels of one C × p × p input (key "views"), in order; each is
+	// one of the words of input, at most once. A "propagated" view uses the
+	// branch's operator and propagate. Set either input or views, not
+	// both. With standardize_inputs, every view is standardized as it
+	// would be as a branch's single input (see Config.EdgeScaling). An
+	// "edge" layer lets the views interact edge by edge. Default: none
+	// (the branch takes input alone).
+	Views []Input `toml:"views" json:"views,omitempty"`
 	// Operator is the kind of the structural operator S built from each
 	// participant's structural matrix (key "operator"), one of the kinds of
 	// data.Operator such as "renormalized-adjacency". It is needed by the
@@ -146,6 +156,15 @@ type BranchConfig struct {
 //   - "e2e" (edge-to-edge filter, Kawahara et al. 2017): channels = number
 //     of output channels O. On a C × p × p input X it gives the O × p × p
 //     H[o,i,j] = Σ_c Σ_k (Wr[o,c,k]·X[c,i,k] + Wc[o,c,k]·X[c,k,j]) + b[o].
+//   - "edge" (per-edge dense layer): size = number of output channels O
+//     (channels is accepted instead). A dense layer applied to every
+//     edge's vector of C channel values, its weights shared by all edges
+//     (a 1 × 1 convolution over the p × p grid): on a C × p × p input X it
+//     gives the O × p × p H[o,i,j] = Σ_c W[o,c]·X[c,i,j] + b[o]. Each
+//     channel of H is symmetric when every channel of X is. Before e2e or
+//     e2n layers it lets the channels of a branch with several views
+//     interact edge by edge (products of modalities, once followed by the
+//     activation).
 //   - "e2n" (edge-to-node filter, Kawahara et al. 2017): channels = O. On
 //     X it gives the node features N[o,i] = Σ_c Σ_k W[o,c,k]·X[c,i,k] + b[o].
 //   - "graph_conv" (graph convolution, Kipf & Welling 2017): size = G. On
@@ -160,14 +179,14 @@ type BranchConfig struct {
 // Every layer but dropout is followed by the network's leaky ReLU unless
 // activation = "none".
 type LayerConfig struct {
-	// Kind is the layer kind (key "kind"): "e2e", "e2n", "graph_conv",
-	// "n2g" or "dropout". Required.
+	// Kind is the layer kind (key "kind"): "e2e", "e2n", "edge",
+	// "graph_conv", "n2g" or "dropout". Required.
 	Kind LayerKind `toml:"kind" json:"kind"`
 	// Channels is the number of output channels of e2e and e2n (key
-	// "channels"), at least 1.
+	// "channels"), at least 1; an edge layer takes it instead of size.
 	Channels int `toml:"channels" json:"channels,omitempty"`
-	// Size is the number of outputs of graph_conv (per node) and n2g (key
-	// "size"), at least 1.
+	// Size is the number of outputs of graph_conv (per node) and n2g, and
+	// of output channels of edge (key "size"), at least 1.
 	Size int `toml:"size" json:"size,omitempty"`
 	// Rate is the dropout rate (key "rate"), in [0, 1).
 	Rate float64 `toml:"rate" json:"rate,omitempty"`
@@ -302,7 +321,7 @@ const (
 )
 
 // LayerKind is the value of the key kind of a layer: LayerE2E, LayerE2N,
-// LayerGraphConv, LayerN2G or LayerDropout ("" is unset, which is an error:
+// LayerEdge, LayerGraphConv, LayerN2G or LayerDropout ("" is unset, which is an error:
 // the kind is required). See LayerConfig.
 type LayerKind string
 
@@ -310,6 +329,7 @@ type LayerKind string
 const (
 	LayerE2E       LayerKind = "e2e"
 	LayerE2N       LayerKind = "e2n"
+	LayerEdge      LayerKind = "edge"
 	LayerGraphConv LayerKind = "graph_conv"
 	LayerN2G       LayerKind = "n2g"
 	LayerDropout   LayerKind = "dropout"
@@ -415,10 +435,11 @@ func (p Propagate) MarshalText() ([]byte, error) { return []byte(p), nil }
 // String returns the word of p.
 func (p Propagate) String() string { return string(p) }
 
-// UnmarshalText sets k to the word text: "e2e", "e2n", "graph_conv",
-// "n2g", "dropout" or "" (unset). Another word is an error listing these.
+// UnmarshalText sets k to the word text: "e2e", "e2n", "edge",
+// "graph_conv", "n2g", "dropout" or "" (unset). Another word is an error
+// listing these.
 func (k *LayerKind) UnmarshalText(text []byte) error {
-	return enum.Parse(k, text, LayerE2E, LayerE2N, LayerGraphConv, LayerN2G, LayerDropout)
+	return enum.Parse(k, text, LayerE2E, LayerE2N, LayerEdge, LayerGraphConv, LayerN2G, LayerDropout)
 }
 
 // MarshalText returns the word of k.
@@ -495,13 +516,13 @@ func (c *Config) SetDefaults() {
 	}
 	for i := range c.Branches {
 		b := &c.Branches[i]
-		if b.Input == "" {
+		if b.Input == "" && len(b.Views) == 0 {
 			b.Input = InputFunctional
 		}
 		if b.Operator == "" && b.needsOperator() {
 			b.Operator = data.RenormalizedAdjacency
 		}
-		if b.Propagate == "" && b.Input == InputPropagated {
+		if b.Propagate == "" && b.reads(InputPropagated) {
 			b.Propagate = PropagateBoth
 		}
 		for j := range b.Layers {
@@ -556,9 +577,10 @@ func (c *Config) SetDefaults() {
 // EdgeScaling reports which matrices the network learns from
 // standardized per edge (see StandardizeInputs and model.Kind.EdgeScaling):
 // with standardize_inputs true (the default), the functional matrix when
-// a branch reads it (input "functional" or "propagated", which propagates
-// the standardized F), and the structural matrix when a branch reads it
-// as its input ("structural") and no branch builds a structural operator
+// a branch reads it (input or view "functional" or "propagated", which
+// propagates the standardized F), and the structural matrix when a branch
+// reads it as its input or one of its views ("structural") and no branch
+// builds a structural operator
 // from it (an operator needs the non-negative weights preprocessing
 // leaves, so the structural matrix then stays as it is for every branch).
 func (c Config) EdgeScaling() (functional, structural bool) {
@@ -570,11 +592,13 @@ func (c Config) EdgeScaling() (functional, structural bool) {
 		operator = operator || b.needsOperator()
 	}
 	for _, b := range c.Branches {
-		switch b.Input {
-		case InputFunctional, InputPropagated, "":
-			functional = true
-		case InputStructural:
-			structural = !operator
+		for _, v := range b.views() {
+			switch v {
+			case InputFunctional, InputPropagated, "":
+				functional = true
+			case InputStructural:
+				structural = !operator
+			}
 		}
 	}
 	return functional, structural
@@ -585,6 +609,7 @@ func (c Config) clone() Config {
 	c.Branches = append([]BranchConfig(nil), c.Branches...)
 	for i := range c.Branches {
 		c.Branches[i].Layers = append([]LayerConfig(nil), c.Branches[i].Layers...)
+		c.Branches[i].Views = append([]Input(nil), c.Branches[i].Views...)
 	}
 	c.Head = append([]int(nil), c.Head...)
 	c.Slope = clonePtr(c.Slope)
@@ -620,8 +645,22 @@ func (b BranchConfig) hasGraphConv() bool {
 	return false
 }
 
+// views returns the input signals of the branch, one per channel of its
+// input: Views, or Input alone.
+func (b BranchConfig) views() []Input {
+	if len(b.Views) > 0 {
+		return b.Views
+	}
+	return []Input{b.Input}
+}
+
+// reads reports whether in is the branch's input or one of its views.
+func (b BranchConfig) reads(in Input) bool {
+	return b.Input == in || slices.Contains(b.Views, in)
+}
+
 func (b BranchConfig) needsOperator() bool {
-	if b.Input == InputPropagated {
+	if b.reads(InputPropagated) {
 		return true
 	}
 	for _, l := range b.Layers {
@@ -815,8 +854,20 @@ func archOf(c Config, p int) (arch, error) {
 	var a arch
 	for bi, b := range c.Branches {
 		key := fmt.Sprintf("model.network.branch[%d]", bi)
-		if err := enum.Check(b.Input); err != nil {
-			return a, fmt.Errorf("%s.input: %w", key, err)
+		if len(b.Views) == 0 {
+			if err := enum.Check(b.Input); err != nil {
+				return a, fmt.Errorf("%s.input: %w", key, err)
+			}
+		} else if b.Input != "" {
+			return a, fmt.Errorf("%s.input: %q is set together with views; set one of them", key, b.Input)
+		}
+		for vi, v := range b.Views {
+			if err := enum.Check(v); err != nil {
+				return a, fmt.Errorf("%s.views[%d]: %w", key, vi, err)
+			}
+			if slices.Index(b.Views, v) < vi {
+				return a, fmt.Errorf("%s.views[%d]: %q is listed twice", key, vi, v)
+			}
 		}
 		if err := enum.Check(b.Operator); err != nil {
 			return a, fmt.Errorf("%s.operator: %w", key, err)
@@ -831,11 +882,11 @@ func archOf(c Config, p int) (arch, error) {
 		if err := enum.Check(b.Propagate); err != nil {
 			return a, fmt.Errorf("%s.propagate: %w", key, err)
 		}
-		if b.Input == InputPropagated && b.Propagate == "" {
+		if b.reads(InputPropagated) && b.Propagate == "" {
 			return a, fmt.Errorf("%s.propagate: input \"propagated\" needs %q or %q, found none", key, PropagateLeft, PropagateBoth)
 		}
-		if b.Input != InputPropagated && b.Propagate != "" {
-			return a, fmt.Errorf("%s.propagate: is set but input is %q, not \"propagated\"", key, b.Input)
+		if !b.reads(InputPropagated) && b.Propagate != "" {
+			return a, fmt.Errorf("%s.propagate: is set but no input or view is \"propagated\" (input is %q, views %q)", key, b.Input, b.Views)
 		}
 		if !(b.InputDropout >= 0 && b.InputDropout < 1) {
 			return a, fmt.Errorf("%s.input_dropout: want a rate in [0, 1), found %v", key, b.InputDropout)
@@ -843,7 +894,7 @@ func archOf(c Config, p int) (arch, error) {
 		if len(b.Layers) == 0 {
 			return a, fmt.Errorf("%s.layers: want at least one layer, found none", key)
 		}
-		cur := layerShape{form: edgeForm, width: size{1, 0}}
+		cur := layerShape{form: edgeForm, width: size{len(b.views()), 0}}
 		var shapes []layerShape
 		for li, l := range b.Layers {
 			next, err := nextShape(cur, l)
@@ -906,12 +957,26 @@ func nextShape(in layerShape, l LayerConfig) (layerShape, error) {
 		return nil
 	}
 	switch l.Kind {
+	case LayerEdge:
+		if l.Channels != 0 && l.Size != 0 {
+			return in, errors.New("set size or channels (the number of output channels), not both")
+		}
+		if l.units() < 1 {
+			return in, fmt.Errorf("size: want at least 1 output channel, found %d", l.units())
+		}
+		if l.Rate != 0 {
+			return in, errors.New("only the keys size (or channels) and activation apply")
+		}
+		if in.form != edgeForm {
+			return in, fmt.Errorf("needs an edge input (channels × p × p: the branch input, an e2e or an edge layer), found the output of a %s layer", formName(in.form))
+		}
+		return layerShape{form: edgeForm, width: size{l.units(), 0}}, nil
 	case LayerE2E, LayerE2N:
 		if err := needChannels(); err != nil {
 			return in, err
 		}
 		if in.form != edgeForm {
-			return in, fmt.Errorf("needs an edge input (channels × p × p: the branch input or an e2e layer), found the output of a %s layer", formName(in.form))
+			return in, fmt.Errorf("needs an edge input (channels × p × p: the branch input, an e2e or an edge layer), found the output of a %s layer", formName(in.form))
 		}
 		if l.Kind == LayerE2E {
 			return layerShape{form: edgeForm, width: size{l.Channels, 0}}, nil
@@ -945,8 +1010,12 @@ func nextShape(in layerShape, l LayerConfig) (layerShape, error) {
 		}
 		return in, nil
 	}
-	return in, errors.New(`kind: want "e2e", "e2n", "graph_conv", "n2g" or "dropout", found none`)
+	return in, errors.New(`kind: want "e2e", "e2n", "edge", "graph_conv", "n2g" or "dropout", found none`)
 }
+
+// units returns the number of output channels of an edge layer: its size,
+// or its channels.
+func (l LayerConfig) units() int { return max(l.Size, l.Channels) }
 
 func formName(f form) string {
 	switch f {

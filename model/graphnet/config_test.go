@@ -38,6 +38,10 @@ input = "propagated"
 operator = "scaled-laplacian"
 propagate = "left"
 layers = [{kind = "graph_conv", size = 16, activation = "none"}, {kind = "n2g", size = 128}]
+
+[[branch]]
+views = ["functional", "structural"]
+layers = [{kind = "edge", size = 8}, {kind = "e2n", channels = 16}, {kind = "n2g", size = 128}]
 `
 	var c Config
 	dec := toml.NewDecoder(strings.NewReader(text))
@@ -104,6 +108,35 @@ func TestConfigValidate(t *testing.T) {
 		{"step epochs", func(c *Config) { c.Optimizer.StepEpochs = new(0) }, 0, "model.network.optimizer.step_epochs: want at least 1, found 0"},
 		{"schedule", func(c *Config) { c.Optimizer.Schedule = "linear" }, 0, `model.network.optimizer.schedule: want "constant", "step" or "cosine", found "linear"`},
 		{"min rate", func(c *Config) { c.Optimizer.MinRate = 1 }, 0, "model.network.optimizer.min_rate: want a value in [0, rate = 0.001], found 1"},
+		{"input and views", func(c *Config) { c.Branches[0].Views = []Input{InputFunctional, InputStructural} }, 0, `model.network.branch[0].input: "functional" is set together with views`},
+		{"view twice", func(c *Config) {
+			c.Branches[0].Input, c.Branches[0].Views = "", []Input{InputStructural, InputStructural}
+		}, 0, `model.network.branch[0].views[1]: "structural" is listed twice`},
+		{"unknown view", func(c *Config) { c.Branches[0].Input, c.Branches[0].Views = "", []Input{"diffusion"} }, 0, `model.network.branch[0].views[0]: want "functional", "structural" or "propagated", found "diffusion"`},
+		{"propagate without a propagated view", func(c *Config) {
+			c.Branches[0].Input, c.Branches[0].Views, c.Branches[0].Propagate = "", []Input{InputFunctional, InputStructural}, PropagateLeft
+		}, 0, "model.network.branch[0].propagate: is set but no input or view is \"propagated\""},
+		{"views with edge layer", func(c *Config) {
+			c.Branches[0].Input, c.Branches[0].Views = "", []Input{InputFunctional, InputStructural, InputPropagated}
+			c.Branches[0].Layers = layers(edge(4), edge(3), e2e(2), e2n(4), n2g(8))
+		}, 7, ""},
+		{"graph_conv on two views", func(c *Config) {
+			c.Branches[0].Input, c.Branches[0].Views = "", []Input{InputFunctional, InputStructural}
+			c.Branches[0].Layers = layers(gconv(4), n2g(8))
+		}, 0, "model.network.branch[0].layers[0] (graph_conv): needs node features (an e2n or graph_conv layer, or the one-channel branch input), found the output of an edge layer with 2 channels"},
+		{"graph_conv after a one-channel edge layer", func(c *Config) {
+			c.Branches[0].Input, c.Branches[0].Views = "", []Input{InputFunctional, InputStructural}
+			c.Branches[0].Layers = layers(edge(1), gconv(4), n2g(8))
+		}, 6, ""},
+		{"edge after e2n", func(c *Config) { c.Branches[0].Layers = layers(e2n(4), edge(2), n2g(8)) }, 0, "model.network.branch[0].layers[1] (edge): needs an edge input"},
+		{"edge without size", func(c *Config) { c.Branches[0].Layers = layers(LayerConfig{Kind: LayerEdge}, n2g(8)) }, 0, "model.network.branch[0].layers[0] (edge): size: want at least 1 output channel, found 0"},
+		{"edge with channels", func(c *Config) { c.Branches[0].Layers = layers(LayerConfig{Kind: LayerEdge, Channels: 3}, n2g(8)) }, 5, ""},
+		{"edge with size and channels", func(c *Config) {
+			c.Branches[0].Layers = layers(LayerConfig{Kind: LayerEdge, Size: 3, Channels: 3}, n2g(8))
+		}, 0, "(edge): set size or channels (the number of output channels), not both"},
+		{"edge with rate", func(c *Config) {
+			c.Branches[0].Layers = layers(LayerConfig{Kind: LayerEdge, Size: 3, Rate: 0.1}, n2g(8))
+		}, 0, "(edge): only the keys size (or channels) and activation apply"},
 		{"valid", func(c *Config) {}, 0, ""},
 	}
 	for _, tt := range tests {
@@ -126,6 +159,33 @@ func TestConfigValidate(t *testing.T) {
 			}
 			if err == nil || !strings.Contains(err.Error(), tt.want) {
 				t.Fatalf("got error %v, want one containing %q", err, tt.want)
+			}
+		})
+	}
+}
+
+// TestEdgeScalingViews: every view of a branch asks for the
+// standardization of its matrix, as the same input of a branch would.
+func TestEdgeScalingViews(t *testing.T) {
+	tests := []struct {
+		name                   string
+		branches               []BranchConfig
+		functional, structural bool
+	}{
+		{"functional and structural views", []BranchConfig{{Views: []Input{InputFunctional, InputStructural}, Layers: layers(edge(2), n2g(2))}}, true, true},
+		{"structural view alone", []BranchConfig{{Views: []Input{InputStructural}, Layers: layers(n2g(2))}}, false, true},
+		{"structural and propagated views: the operator keeps S raw", []BranchConfig{{Views: []Input{InputStructural, InputPropagated}, Layers: layers(n2g(2))}}, true, false},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			c := Config{Branches: tt.branches}
+			c.SetDefaults()
+			if err := c.Validate(); err != nil {
+				t.Fatal(err)
+			}
+			f, s := c.EdgeScaling()
+			if f != tt.functional || s != tt.structural {
+				t.Errorf("EdgeScaling() = %v, %v, want %v, %v", f, s, tt.functional, tt.structural)
 			}
 		})
 	}

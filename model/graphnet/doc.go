@@ -11,18 +11,25 @@
 // A Config (the [model.network] table of an experiment file) lists one or
 // more branches. Each branch takes one p × p matrix per participant — the
 // functional matrix F, the structural matrix, or F propagated by the
-// participant's structural operator S (S·F or S·F·Sᵀ) — and applies its
-// layers in order. The branch outputs are flattened and merged by
-// concatenation or element-wise product, then pass through the hidden
-// dense layers of the head and a linear output layer with one output per
-// target. Every layer but dropout and the output is followed by a leaky ReLU.
-// A branch may drop entries of its input while training (input_dropout).
-// The output layer starts at zero (output_init), so the untrained network
-// predicts the training mean of the standardized scores. By default the
-// network learns from matrices standardized per edge on its training
-// fold (standardize_inputs); the runner fits and saves that step
-// (Config.EdgeScaling, train.EdgeScaler), and EdgeImportanceFrom keeps
-// the edge importance in raw input units.
+// participant's structural operator S (S·F or S·F·Sᵀ) — or several of
+// them at once as the channels of one C × p × p input (key views), and
+// applies its layers in order. A per-edge layer (kind "edge") is a dense
+// layer applied to each edge's vector of channel values, its weights
+// shared by all edges (a 1 × 1 convolution): placed first in a branch
+// with the views functional and structural, it lets the modalities
+// interact edge by edge (with the activation, the network can form terms
+// such as F_ij·S_ij) before the edge-to-edge and edge-to-node filters.
+// The branch outputs are flattened and merged by concatenation or
+// element-wise product, then pass through the hidden dense layers of the
+// head and a linear output layer with one output per target. Every layer
+// but dropout and the output is followed by a leaky ReLU. A branch may
+// drop entries of its input while training (input_dropout). The output
+// layer starts at zero (output_init), so the untrained network predicts
+// the training mean of the standardized scores. By default the network
+// learns from matrices standardized per edge on its training fold
+// (standardize_inputs), each view on its own; the runner fits and saves
+// that step (Config.EdgeScaling, train.EdgeScaler), and
+// EdgeImportanceFrom keeps the edge importance in raw input units.
 // Config.Validate and New check the architecture before any training and
 // name the first layer that cannot take its input.
 //
@@ -96,12 +103,16 @@
 //	branch<b>.layer<l>.row, .col   (O, C, p)  e2e row and column filters Wr, Wc
 //	branch<b>.layer<l>.bias        (O)        e2e and e2n bias
 //	branch<b>.layer<l>.weight      (O, C, p)  e2n filter
+//	branch<b>.layer<l>.weight      (O, C)     edge weights W
+//	branch<b>.layer<l>.bias        (O)        edge bias
 //	branch<b>.layer<l>.weight      (F, G)     graph_conv and n2g weights
 //	branch<b>.layer<l>.bias        (G)        n2g bias
 //	head<k>.weight, head<k>.bias   (F, G), (G) hidden head layer k
 //	output.weight, output.bias     (F, T), (T) output layer
 //
-// A dense layer computes y = x·weight + bias with x flattened in C order.
+// A dense layer computes y = x·weight + bias with x flattened in C order;
+// an edge layer computes H[o,i,j] = Σ_c weight[o,c]·X[c,i,j] + bias[o].
+// A branch's input channels are its views in the order of views.
 //
 // A saved Ensemble is a folder whose manifest.json holds the keys
 //

@@ -77,5 +77,5 @@ func ExampleConfig_Validate() {
 	cfg.SetDefaults()
 	fmt.Println(cfg.Validate())
 	// Output:
-	// model.network.branch[0].layers[2] (e2n): needs an edge input (channels × p × p: the branch input or an e2e layer), found the output of a graph layer
+	// model.network.branch[0].layers[2] (e2n): needs an edge input (channels × p × p: the branch input, an e2e or an edge layer), found the output of a graph layer
 }

@@ -22,6 +22,9 @@ func TestGradientFiniteDifference(t *testing.T) {
 		{"two branches product", testConfig("float64",
 			BranchConfig{Layers: layers(e2n(3), gconv(2), n2g(4))},
 			BranchConfig{Input: "structural", Layers: layers(e2e(2), e2n(2), n2g(4))}), func(c *Config) { c.Merge = "product" }},
+		{"views with edge layers", testConfig("float64",
+			BranchConfig{Views: []Input{InputFunctional, InputStructural, InputPropagated}, Layers: layers(edge(3), edge(2), e2e(2), e2n(3), n2g(4))},
+			BranchConfig{Views: []Input{InputStructural, InputFunctional}, Layers: layers(edge(1), gconv(2), n2g(3))}), nil},
 		{"head and huber loss", testConfig("float64", BranchConfig{Input: "propagated", Propagate: "left", Layers: layers(e2n(3), n2g(6))}),
 			func(c *Config) {
 				c.Head = []int{5, 4}

@@ -80,6 +80,7 @@ func testConfig(dtype DType, branches ...BranchConfig) Config {
 
 func layers(ls ...LayerConfig) []LayerConfig { return ls }
 func e2e(c int) LayerConfig                  { return LayerConfig{Kind: LayerE2E, Channels: c} }
+func edge(c int) LayerConfig                 { return LayerConfig{Kind: LayerEdge, Size: c} }
 func e2n(c int) LayerConfig                  { return LayerConfig{Kind: LayerE2N, Channels: c} }
 func n2g(s int) LayerConfig                  { return LayerConfig{Kind: LayerN2G, Size: s} }
 func gconv(s int) LayerConfig                { return LayerConfig{Kind: LayerGraphConv, Size: s} }

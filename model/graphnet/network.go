@@ -358,7 +358,7 @@ func (n *Network) graph(batch int, training bool) (*graph, error) {
 // participant, computed once, and the scores.
 type prepared struct {
 	p, targets int
-	inputs     [][][]float64 // [branch][participant] p×p, row-major
+	inputs     [][][]float64 // [branch][participant] C×p×p (C views), row-major
 	operators  [][][]float64 // [branch][participant] p×p, nil without operator
 	y          []float64     // participant-major n×T, NaN = missing; nil when predicting
 	n          int
@@ -419,12 +419,14 @@ func (n *Network) prepare(d model.Dataset, what string, needY bool) (*prepared, 
 	return s, nil
 }
 
-// branchInput returns a participant's input signal for branch b and, when
-// kind is set, its structural operator, both p×p row-major.
+// branchInput returns a participant's input for branch b, C×p×p
+// row-major with one p×p channel per view, and, when kind is set, its
+// structural operator, p×p row-major.
 func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.Participant) (x, s []float64, err error) {
+	var view Input
 	check := func(m *mat.Dense, name string) error {
 		if m == nil {
-			return fmt.Errorf("input %q needs the %s matrix, which the participant does not have", b.Input, name)
+			return fmt.Errorf("input %q needs the %s matrix, which the participant does not have", view, name)
 		}
 		if r, c := m.Dims(); r != n.p || c != n.p {
 			return fmt.Errorf("the %s matrix is %d×%d, want %d×%d", name, r, c, n.p, n.p)
@@ -441,34 +443,44 @@ func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.P
 		}
 		s = flatView(op)
 	}
-	var m *mat.Dense
-	switch b.Input {
-	case InputStructural:
-		if err := check(pt.Structural, "structural"); err != nil {
-			return nil, nil, err
-		}
-		m = pt.Structural
-	case InputFunctional:
-		if err := check(pt.Functional, "functional"); err != nil {
-			return nil, nil, err
-		}
-		m = pt.Functional
-	case InputPropagated:
-		if err := check(pt.Functional, "functional"); err != nil {
-			return nil, nil, err
-		}
-		var sf mat.Dense
-		sf.Mul(op, pt.Functional)
-		if b.Propagate == PropagateBoth {
-			sf.Mul(&sf, op.T())
-		}
-		m = &sf
+	views := b.views()
+	if len(views) > 1 {
+		x = make([]float64, 0, len(views)*n.p*n.p)
 	}
-	x = flatView(m)
-	for _, v := range x {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, nil, fmt.Errorf("input %q holds %v; the network needs finite values", b.Input, v)
+	for _, view = range views {
+		var m *mat.Dense
+		switch view {
+		case InputStructural:
+			if err := check(pt.Structural, "structural"); err != nil {
+				return nil, nil, err
+			}
+			m = pt.Structural
+		case InputFunctional:
+			if err := check(pt.Functional, "functional"); err != nil {
+				return nil, nil, err
+			}
+			m = pt.Functional
+		case InputPropagated:
+			if err := check(pt.Functional, "functional"); err != nil {
+				return nil, nil, err
+			}
+			var sf mat.Dense
+			sf.Mul(op, pt.Functional)
+			if b.Propagate == PropagateBoth {
+				sf.Mul(&sf, op.T())
+			}
+			m = &sf
 		}
+		v := flatView(m)
+		for _, e := range v {
+			if math.IsNaN(e) || math.IsInf(e, 0) {
+				return nil, nil, fmt.Errorf("input %q holds %v; the network needs finite values", view, e)
+			}
+		}
+		if len(views) == 1 {
+			return v, s, nil
+		}
+		x = append(x, v...)
 	}
 	return x, s, nil
 }
@@ -493,7 +505,8 @@ func (s *prepared) fill(g *graph, idx []int) {
 	pp := s.p * s.p
 	for bi := range g.inputs {
 		for k, i := range idx {
-			copyInto(g.inputs[bi], k*pp, s.inputs[bi][i])
+			x := s.inputs[bi][i]
+			copyInto(g.inputs[bi], k*len(x), x)
 			if g.operators[bi] != nil {
 				copyInto(g.operators[bi], k*pp, s.operators[bi][i])
 			}

@@ -16,7 +16,8 @@ var _ model.ReferenceInterpreter = (*Network)(nil)
 // EdgeImportance returns, per target t, the gradient × input saliency of
 // the network over ps (Simonyan et al. 2014; Shrikumar et al. 2017): for
 // each branch b with input matrix X_b (the functional or structural matrix,
-// or the propagated S·F, as the branch reads it),
+// or the propagated S·F, as the branch reads it; for a branch with several
+// views, each view is a term of the sum over b),
 //
 //	M_t = (1/n) Σᵢ Σ_b X_bi ∘ ∂ŷ_it/∂X_bi
 //
@@ -81,16 +82,17 @@ func (n *Network) EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense,
 			for b, grad := range g.inputGrads {
 				gv := g.m.dense(grad)
 				for k, i := range idx {
-					x := set.inputs[b][i]
+					x := set.inputs[b][i] // C·p² values, one p×p block per view
+					off := k * len(x)
 					if refSet == nil {
-						for e := range pp {
-							sums[t][e] += x[e] * valueAt(gv, k*pp+e)
+						for e, v := range x {
+							sums[t][e%pp] += v * valueAt(gv, off+e)
 						}
 						continue
 					}
 					r := refSet.inputs[b][i]
-					for e := range pp {
-						sums[t][e] += (x[e] - r[e]) * valueAt(gv, k*pp+e)
+					for e, v := range x {
+						sums[t][e%pp] += (v - r[e]) * valueAt(gv, off+e)
 					}
 				}
 			}

@@ -18,7 +18,8 @@ func TestSaveLoadPredict(t *testing.T) {
 	for _, dtype := range []DType{Float32, Float64} {
 		cfg := testConfig(dtype,
 			BranchConfig{Layers: layers(e2e(2), e2n(3), n2g(4))},
-			BranchConfig{Input: "propagated", Operator: "normalized-laplacian", Layers: layers(gconv(3), n2g(4))})
+			BranchConfig{Input: "propagated", Operator: "normalized-laplacian", Layers: layers(gconv(3), n2g(4))},
+			BranchConfig{Views: []Input{InputFunctional, InputStructural}, Layers: layers(edge(3), e2n(2), n2g(4))})
 		cfg.Head = []int{3}
 		net, err := New(cfg, p, 1, 5)
 		if err != nil {
@@ -73,7 +74,7 @@ func TestLoadErrors(t *testing.T) {
 		{"other format", []byte(`{"format":"other","version":1}`), weights, `format "other", want "skein-graphnet"`},
 		{"unknown version", []byte(strings.Replace(string(manifest), `"version": 1`, `"version": 7`, 1)), weights, "format version 7, this skein reads version 1"},
 		{"unknown key", []byte(strings.Replace(string(manifest), `"version": 1`, `"version": 1, "extra": 2`, 1)), weights, `manifest.json: json: unknown field "extra"`},
-		{"bad config", []byte(strings.Replace(string(manifest), `"kind": "e2n"`, `"kind": "e2x"`, 1)), weights, `manifest.json: want "e2e", "e2n", "graph_conv", "n2g" or "dropout", found "e2x"`},
+		{"bad config", []byte(strings.Replace(string(manifest), `"kind": "e2n"`, `"kind": "e2x"`, 1)), weights, `manifest.json: want "e2e", "e2n", "edge", "graph_conv", "n2g" or "dropout", found "e2x"`},
 		{"corrupt weights", manifest, weights[:len(weights)/2], "weights.npz: not a NumPy .npz archive"},
 		{"missing weights", manifest, nil, "weights.npz"},
 	}

@@ -121,6 +121,7 @@ func TestNoAllocSteadyState(t *testing.T) {
 		}},
 		{"E2E/C1", []tensor.Shape{sh(2, 1, 5, 5), sh(3, 1, 5), sh(3, 1, 5), sh(3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2E(in[0], in[1], in[2], in[3]) }},
 		{"E2N", []tensor.Shape{sh(2, 2, 5, 5), sh(3, 2, 5), sh(3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return E2N(in[0], in[1], in[2]) }},
+		{"EdgeDense", []tensor.Shape{sh(2, 2, 5, 5), sh(3, 2), sh(3)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return EdgeDense(in[0], in[1], in[2]) }},
 		{"LeakyReLU", []tensor.Shape{sh(2, 3, 4)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return LeakyReLU(in[0], 0.1) }},
 		{"GraphConv", []tensor.Shape{sh(2, 4, 4), sh(2, 4, 3), sh(3, 2)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return GraphConv(in[0], in[1], in[2]) }},
 		{"Dense", []tensor.Shape{sh(2, 3, 4), sh(12, 5), sh(5)}, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Dense(in[0], in[1], in[2]) }},

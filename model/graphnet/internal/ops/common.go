@@ -34,8 +34,8 @@ type options struct {
 	pool        *parallel.Pool
 }
 
-// NoInputGrad tells an op that its data input (x of E2E and E2N, h of
-// GraphConv, x of Dense) is participant data, not the output of another
+// NoInputGrad tells an op that its data input (x of E2E, E2N and
+// EdgeDense, h of GraphConv, x of Dense) is participant data, not the output of another
 // op, so the gradient with respect to it is never built. Asking gorgonia.Grad
 // for that gradient is then an error.
 func NoInputGrad() Option { return func(o *options) { o.noInputGrad = true } }

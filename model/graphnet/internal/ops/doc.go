@@ -1,6 +1,7 @@
 // Package ops holds the fused gorgonia operations of the graph-filter
 // networks: edge-to-edge and edge-to-node filters (E2E, optionally with its
-// leaky rectifier fused in, and E2N), graph convolution (GraphConv), a
+// leaky rectifier fused in, and E2N), a dense layer applied to every edge
+// (EdgeDense, a 1 × 1 convolution), graph convolution (GraphConv), a
 // dense layer with its bias (Dense), leaky ReLU, inverted dropout, a
 // batched transpose (SwapLastAxes), and the ops that reshape and merge
 // branch outputs: a zero-copy Reshape, Concat and the element-wise Product.

@@ -110,6 +110,27 @@ func denseRef(B, F, G int) func([][]float64) []float64 {
 	}
 }
 
+// edgeDenseRef is Y[n,o,i,j] = Σ_c W[o,c]·X[n,c,i,j] + b[o].
+func edgeDenseRef(B, C, O, P int) func([][]float64) []float64 {
+	return func(in [][]float64) []float64 {
+		x, w, b := in[0], in[1], in[2]
+		E := P * P
+		y := make([]float64, B*O*E)
+		for n := 0; n < B; n++ {
+			for o := 0; o < O; o++ {
+				for e := 0; e < E; e++ {
+					s := b[o]
+					for c := 0; c < C; c++ {
+						s += w[o*C+c] * x[(n*C+c)*E+e]
+					}
+					y[(n*O+o)*E+e] = s
+				}
+			}
+		}
+		return y
+	}
+}
+
 // awayFromZero fills with values in ±[0.1, 1], so that a finite difference
 // of step 1e-5 never crosses the kink of the leaky rectifier.
 func awayFromZero(_ int, v []float64, rng *rand.Rand) {
@@ -229,6 +250,22 @@ func opCases() []opCase {
 				return y
 			},
 		})
+	}
+	for _, d := range []struct{ B, C, O, P int }{{2, 2, 3, 4}, {1, 1, 2, 3}, {3, 3, 1, 5}} {
+		B, C, O, P := d.B, d.C, d.O, d.P
+		for _, noX := range []bool{false, true} {
+			var opts []Option
+			if noX {
+				opts = append(opts, NoInputGrad())
+			}
+			cases = append(cases, opCase{
+				name:   fmt.Sprintf("EdgeDense/B%dC%dO%dp%d/noInputGrad=%v", B, C, O, P, noX),
+				shapes: []tensor.Shape{sh(B, C, P, P), sh(O, C), sh(O)},
+				noGrad: []bool{noX, false, false},
+				build:  func(in gorgonia.Nodes) (*gorgonia.Node, error) { return EdgeDense(in[0], in[1], in[2], opts...) },
+				ref:    edgeDenseRef(B, C, O, P),
+			})
+		}
 	}
 	cases = append(cases, mergeCases()...)
 	return cases

@@ -137,6 +137,8 @@ const (
 	kSignFactor
 	kMulInto
 	kE2NSums
+	kEdgeDense
+	kEdgeDenseGradX
 )
 
 // Chunk runs unit i.
@@ -166,6 +168,10 @@ func (l *loop[T]) Chunk(i int) {
 		mulIntoOf(l, i)
 	case kE2NSums:
 		e2nSumsOf(l, i)
+	case kEdgeDense:
+		edgeDenseOf(l, i)
+	case kEdgeDenseGradX:
+		edgeDenseGradXOf(l, i)
 	default:
 		panic("ops: unknown loop kernel")
 	}

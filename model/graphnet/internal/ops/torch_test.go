@@ -63,6 +63,9 @@ func TestAgainstPyTorch(t *testing.T) {
 		{"reshape", []string{"x"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Reshape(in[0], tensor.Shape{3, 8}) }},
 		{"concat", []string{"a", "b", "c"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Concat(in...) }},
 		{"product", []string{"a", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return Product(in[0], in[1]) }},
+		// From make_edge_fixtures.py: torch.nn.Conv2d with a 1 × 1 kernel.
+		{"edge_c2", []string{"x", "w", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return EdgeDense(in[0], in[1], in[2]) }},
+		{"edge_c1", []string{"x", "w", "b"}, nil, func(in gorgonia.Nodes) (*gorgonia.Node, error) { return EdgeDense(in[0], in[1], in[2]) }},
 	}
 	for _, fc := range cases {
 		for _, dt := range []tensor.Dtype{tensor.Float64, tensor.Float32} {
