@@ -46,7 +46,7 @@ func TestPearsonWithinFoldsUnbiasedUnderNull(t *testing.T) {
 	var pooled, within float64
 	for range runs {
 		rows := nullRun(rng, 40, 5, 0.5)
-		obs, pred, _ := CompletePairs(observedOf(rows), predictedOf(rows))
+		obs, pred, _ := CompletePairs(obsOf(rows), predOf(rows))
 		pooled += Pearson(obs, pred) / runs
 		within += PearsonWithinFolds(rows) / runs
 	}
@@ -63,7 +63,7 @@ func TestPearsonWithinFoldsUnbiasedUnderNull(t *testing.T) {
 
 func TestPearsonWithinFoldsEdgeCases(t *testing.T) {
 	one := []Prediction{{Fold: 0, Observed: 1, Predicted: 2}, {Fold: 0, Observed: 2, Predicted: 2.5}, {Fold: 0, Observed: 4, Predicted: 3}}
-	if got, want := PearsonWithinFolds(one), Pearson(observedOf(one), predictedOf(one)); math.Abs(got-want) > 1e-15 {
+	if got, want := PearsonWithinFolds(one), Pearson(obsOf(one), predOf(one)); math.Abs(got-want) > 1e-15 {
 		t.Errorf("one fold: r within folds %v, Pearson %v; want equal", got, want)
 	}
 	constant := []Prediction{{Fold: 0, Observed: 1, Predicted: 5}, {Fold: 0, Observed: 3, Predicted: 5},
@@ -71,20 +71,4 @@ func TestPearsonWithinFoldsEdgeCases(t *testing.T) {
 	if got := PearsonWithinFolds(constant); !math.IsNaN(got) {
 		t.Errorf("predictions constant within each fold: r within folds %v, want NaN", got)
 	}
-}
-
-func observedOf(rows []Prediction) []float64 {
-	v := make([]float64, len(rows))
-	for i, p := range rows {
-		v[i] = p.Observed
-	}
-	return v
-}
-
-func predictedOf(rows []Prediction) []float64 {
-	v := make([]float64, len(rows))
-	for i, p := range rows {
-		v[i] = p.Predicted
-	}
-	return v
 }
