@@ -34,26 +34,7 @@ type prepFixture struct {
 
 func readPrepFixture(t *testing.T, name string) prepFixture {
 	t.Helper()
-	raw, err := os.ReadFile(filepath.Join("..", "testdata", "train", name))
-	if err != nil {
-		t.Fatal(err)
-	}
-	var fx struct {
-		Blocks int          `json:"blocks"`
-		Y      [][]*float64 `json:"y"`
-		Cov    [][]float64  `json:"cov"`
-		Train  []int        `json:"train"`
-		Test   []int        `json:"test"`
-		Expect struct {
-			Beta             [][]float64  `json:"beta"`
-			Mean             []float64    `json:"mean"`
-			SD               []float64    `json:"sd"`
-			StandardizedTest [][]*float64 `json:"standardized_test"`
-		} `json:"expect"`
-	}
-	if err := json.Unmarshal(raw, &fx); err != nil {
-		t.Fatal(err)
-	}
+	fx := readTargetPrepFixture(t, name)
 	TB, CB := len(fx.Y[0]), len(fx.Cov[0])
 	pf := prepFixture{blocks: max(1, fx.Blocks), train: fx.Train, test: fx.Test,
 		beta: fx.Expect.Beta, mean: fx.Expect.Mean, sd: fx.Expect.SD, zTest: fx.Expect.StandardizedTest}

@@ -4,6 +4,7 @@ import (
 	"encoding/json"
 	"math"
 	"os"
+	"path/filepath"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -13,25 +14,7 @@ import (
 // fitted on training rows against numpy.linalg.lstsq and numpy's std with
 // ddof=1 (testdata/train/make_targetprep.py, Debian's python3-numpy).
 func TestTargetPrepAgainstNumPy(t *testing.T) {
-	raw, err := os.ReadFile("../testdata/train/targetprep.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var fx struct {
-		Y      [][]*float64 `json:"y"`
-		Cov    [][]float64  `json:"cov"`
-		Train  []int        `json:"train"`
-		Test   []int        `json:"test"`
-		Expect struct {
-			Beta             [][]float64  `json:"beta"`
-			Mean             []float64    `json:"mean"`
-			SD               []float64    `json:"sd"`
-			StandardizedTest [][]*float64 `json:"standardized_test"`
-		} `json:"expect"`
-	}
-	if err := json.Unmarshal(raw, &fx); err != nil {
-		t.Fatal(err)
-	}
+	fx := readTargetPrepFixture(t, "targetprep.json")
 	n := len(fx.Y)
 	y := mat.NewDense(n, 2, nil)
 	cov := mat.NewDense(n, 2, nil)
@@ -84,26 +67,7 @@ func TestTargetPrepAgainstNumPy(t *testing.T) {
 // (testdata/train/make_targetprep_blocks.py, Debian's python3-numpy), and
 // against one FitTargetPrep per block, to 1e-12.
 func TestTargetPrepBlocks(t *testing.T) {
-	raw, err := os.ReadFile("../testdata/train/targetprep_blocks.json")
-	if err != nil {
-		t.Fatal(err)
-	}
-	var fx struct {
-		Blocks int          `json:"blocks"`
-		Y      [][]*float64 `json:"y"`
-		Cov    [][]float64  `json:"cov"`
-		Train  []int        `json:"train"`
-		Test   []int        `json:"test"`
-		Expect struct {
-			Beta             [][]float64  `json:"beta"`
-			Mean             []float64    `json:"mean"`
-			SD               []float64    `json:"sd"`
-			StandardizedTest [][]*float64 `json:"standardized_test"`
-		} `json:"expect"`
-	}
-	if err := json.Unmarshal(raw, &fx); err != nil {
-		t.Fatal(err)
-	}
+	fx := readTargetPrepFixture(t, "targetprep_blocks.json")
 	n, TB, CB, B := len(fx.Y), len(fx.Y[0]), len(fx.Cov[0]), fx.Blocks
 	T, C := TB/B, CB/B
 	y := mat.NewDense(n, TB, nil)
@@ -205,4 +169,35 @@ func TestTargetPrepBlocksBadShape(t *testing.T) {
 			t.Errorf("%s: no error", tt.name)
 		}
 	}
+}
+
+// targetPrepFixture is a fixture of confound regression and standardization
+// written by testdata/train/make_targetprep.py or make_targetprep_blocks.py
+// (blocks 0 means one block).
+type targetPrepFixture struct {
+	Blocks int          `json:"blocks"`
+	Y      [][]*float64 `json:"y"`
+	Cov    [][]float64  `json:"cov"`
+	Train  []int        `json:"train"`
+	Test   []int        `json:"test"`
+	Expect struct {
+		Beta             [][]float64  `json:"beta"`
+		Mean             []float64    `json:"mean"`
+		SD               []float64    `json:"sd"`
+		StandardizedTest [][]*float64 `json:"standardized_test"`
+	} `json:"expect"`
+}
+
+// readTargetPrepFixture reads the fixture testdata/train/NAME.
+func readTargetPrepFixture(t *testing.T, name string) targetPrepFixture {
+	t.Helper()
+	raw, err := os.ReadFile(filepath.Join("..", "testdata", "train", name))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var fx targetPrepFixture
+	if err := json.Unmarshal(raw, &fx); err != nil {
+		t.Fatal(err)
+	}
+	return fx
 }
