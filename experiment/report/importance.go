@@ -258,13 +258,8 @@ func (r *Run) FilterFigures(sums []FilterSummary) ([]Figure, error) {
 	return figs, nil
 }
 
-// experiment.ImportanceFile is the table of fold-averaged edge importance Build
-// writes into the run folder: one line per model, target and edge i < j,
-// with the columns
-//
-//	model,target,region_i,region_j,mean,sd,folds,same_sign
-//
-// importanceCSV returns the run's importance maps as experiment.ImportanceFile.
+// importanceCSV returns the run's importance maps as
+// experiment.ImportanceFile, whose columns that constant documents.
 func (r *Run) importanceCSV() []byte {
 	targets := r.Experiment.Cohort.Targets
 	type key struct {
