@@ -27,12 +27,12 @@ type BatchUnit struct {
 	Index int    // position in the plan, from 0
 	Kind  string // BatchModel, BatchPermutations or BatchSampleSize
 	Model string // the model's name
-	// train.Unit and Select are set for BatchModel: the unit and its index
+	// Unit and Select are set for BatchModel: the unit and its index
 	// into the list train.Runner.Units returns (train.Runner.Select).
 	Unit   train.Unit
 	Select int
 	// First and End are set for BatchPermutations: the block holds
-	// permutations First to End-1 (from 0) of Permutations' list.
+	// permutations First to End-1 (from 0) of train.Permutations' list.
 	First, End int
 	// Fraction is set for BatchSampleSize: the fraction of every training
 	// fold the model trains on.
