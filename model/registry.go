@@ -50,6 +50,13 @@ type Kind struct {
 	// returning false for both, see the matrices as preprocessing leaves
 	// them.
 	EdgeScaling func(s Settings) (functional, structural bool)
+	// Inputs, when not nil, says which of a participant's connectomes the
+	// kind's regressors with settings s learn from: the functional
+	// matrix, the structural matrix (directly, or through a graph
+	// operator built from it), or both. A model that learns from both
+	// fuses structure with function, the question a report answers
+	// first. Nil means neither, as for the mean predictor.
+	Inputs func(s Settings) (functional, structural bool)
 	// Describe, when not nil, summarizes the settings in a few words for a
 	// report's table of models, such as "2 branches, up to 100 epochs".
 	Describe func(s Settings) string

@@ -115,6 +115,18 @@ func (m ModelConfig) Spec() (model.Kind, error) {
 	return k, nil
 }
 
+// Inputs reports which connectomes the model learns from (model.Kind.Inputs);
+// false and false for a kind that reads none and for a model whose kind
+// table is missing or unknown. A model that learns from both fuses
+// structure with function.
+func (m ModelConfig) Inputs() (functional, structural bool) {
+	k, err := m.Spec()
+	if err != nil || k.Inputs == nil {
+		return false, false
+	}
+	return k.Inputs(m.Settings())
+}
+
 // SetDefaults fills every unset field of the chosen kind with its default.
 func (m *ModelConfig) SetDefaults() {
 	_, settings := m.set()

@@ -123,3 +123,40 @@ func writeFitted(dir string, f Fitted) error {
 	}
 	return os.WriteFile(filepath.Join(dir, FittedFile), raw, 0o644)
 }
+
+// TestModelConfigInputs: which connectomes each kind learns from, as its
+// settings say; a graph operator is built from the structural matrix, so
+// a branch that needs one reads structure (definitions of the kinds'
+// documentation, no outside source).
+func TestModelConfigInputs(t *testing.T) {
+	branch := func(in graphnet.Input, layer graphnet.LayerKind) graphnet.BranchConfig {
+		return graphnet.BranchConfig{Input: in, Layers: []graphnet.LayerConfig{{Kind: layer}}}
+	}
+	net := func(b ...graphnet.BranchConfig) ModelConfig {
+		return ModelConfig{Network: &graphnet.Config{Branches: b}}
+	}
+	tests := []struct {
+		name                   string
+		cfg                    ModelConfig
+		functional, structural bool
+	}{
+		{"mean", ModelConfig{Config: linear.Config{Mean: &linear.MeanConfig{}}}, false, false},
+		{"ridge default", ModelConfig{Config: linear.Config{Ridge: &linear.RidgeConfig{}}}, true, false},
+		{"ridge structural", ModelConfig{Config: linear.Config{Ridge: &linear.RidgeConfig{Input: linear.InputStructural}}}, false, true},
+		{"ridge both", ModelConfig{Config: linear.Config{Ridge: &linear.RidgeConfig{Input: linear.InputBoth}}}, true, true},
+		{"kernel ridge both", ModelConfig{Config: linear.Config{KernelRidge: &linear.KernelRidgeConfig{Input: linear.InputBoth}}}, true, true},
+		{"cpm functional", ModelConfig{Config: linear.Config{CPM: &linear.CPMConfig{Input: linear.InputFunctional}}}, true, false},
+		{"network functional", net(branch(graphnet.InputFunctional, graphnet.LayerE2N)), true, false},
+		{"network two branches", net(branch(graphnet.InputFunctional, graphnet.LayerE2N), branch(graphnet.InputStructural, graphnet.LayerE2N)), true, true},
+		{"network propagated", net(branch(graphnet.InputPropagated, graphnet.LayerE2N)), true, true},
+		{"network graph_conv", net(branch(graphnet.InputFunctional, graphnet.LayerGraphConv)), true, true},
+		{"network views", net(graphnet.BranchConfig{Views: []graphnet.Input{graphnet.InputFunctional, graphnet.InputStructural}}), true, true},
+		{"no table", ModelConfig{}, false, false},
+	}
+	for _, tt := range tests {
+		f, s := tt.cfg.Inputs()
+		if f != tt.functional || s != tt.structural {
+			t.Errorf("%s: Inputs() = %v, %v, want %v, %v", tt.name, f, s, tt.functional, tt.structural)
+		}
+	}
+}

@@ -604,6 +604,26 @@ func (c Config) EdgeScaling() (functional, structural bool) {
 	return functional, structural
 }
 
+// Inputs reports which connectomes the network learns from: functional
+// when a branch reads the functional matrix or its propagation, structural
+// when a branch reads the structural matrix or needs a graph operator
+// (a propagated view or a graph_conv layer), which is built from the
+// structural matrix.
+func (c Config) Inputs() (functional, structural bool) {
+	for _, b := range c.Branches {
+		for _, v := range b.views() {
+			switch v {
+			case InputFunctional, InputPropagated, "":
+				functional = true
+			case InputStructural:
+				structural = true
+			}
+		}
+		structural = structural || b.needsOperator()
+	}
+	return functional, structural
+}
+
 // clone returns a copy of c that shares no slice or pointer with it.
 func (c Config) clone() Config {
 	c.Branches = append([]BranchConfig(nil), c.Branches...)

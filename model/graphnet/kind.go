@@ -46,6 +46,12 @@ func init() {
 			}
 			return false, false
 		},
+		Inputs: func(s model.Settings) (functional, structural bool) {
+			if c, ok := s.(*Config); ok {
+				return c.Inputs()
+			}
+			return false, false
+		},
 		Describe: func(s model.Settings) string {
 			c, ok := s.(*Config)
 			if !ok {

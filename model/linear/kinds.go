@@ -45,7 +45,8 @@ func init() {
 			}
 			return Config{Ridge: c}.New(targets, seed)
 		},
-		Load: loader(kindRidge),
+		Load:   loader(kindRidge),
+		Inputs: inputs,
 	})
 	model.Register(model.Kind{
 		Name: kindKernelRidge, Baseline: true, ColumnWise: true, Importance: patternImportance,
@@ -56,6 +57,7 @@ func init() {
 			}
 			return Config{KernelRidge: c}.New(targets, seed)
 		},
+		Inputs: inputs,
 	})
 	model.Register(model.Kind{
 		Name: kindCPM, Baseline: true, ColumnWise: true,
@@ -70,7 +72,29 @@ func init() {
 			}
 			return Config{CPM: c}.New(targets, seed)
 		},
+		Inputs: inputs,
 	})
+}
+
+// inputs is the Inputs of the baselines with an input key: the
+// connectomes their input names ("functional" when unset).
+func inputs(s model.Settings) (functional, structural bool) {
+	var in Input
+	switch c := s.(type) {
+	case *RidgeConfig:
+		in = c.Input
+	case *KernelRidgeConfig:
+		in = c.Input
+	case *CPMConfig:
+		in = c.Input
+	}
+	switch in {
+	case InputStructural:
+		return false, true
+	case InputBoth:
+		return true, true
+	}
+	return true, false
 }
 
 func settingsError(kind string, got model.Settings, want any) error {
