@@ -305,7 +305,7 @@ func runCautions(rep *Report, r *train.Runner) []string {
 	return out
 }
 
-// Write writes predictions.csv, metrics.json, summary.md and, after a
+// Write writes predictions.csv, metrics.json, comparison.csv, summary.md and, after a
 // permutation test, permutations.csv and, with a sample-size curve,
 // sample_size.csv into the work folder of d; they
 // appear in the run folder when d is committed.
@@ -317,6 +317,7 @@ func (rep *Report) Write(d *RunDir) error {
 	}{
 		{PredictionsFile, func(w io.Writer) error { return eval.WritePredictions(w, rep.Rows) }, false},
 		{MetricsFile, rep.Summary.WriteJSON, false},
+		{ComparisonFile, func(w io.Writer) error { return eval.WriteComparisonCSV(w, rep.Comparisons) }, false},
 		{LearningFile, func(w io.Writer) error { return writeLearningCSV(w, rep.Experiment, rep.Result) }, len(rep.Result.Histories) == 0},
 		{PermutationFile, func(w io.Writer) error { return eval.WriteNullCSV(w, rep.Nulls) }, rep.Nulls == nil},
 		{SampleSizeFile, func(w io.Writer) error { return eval.WriteSampleSizeCSV(w, rep.SampleSize) }, rep.SampleSize == nil},
@@ -333,12 +334,13 @@ func (rep *Report) Write(d *RunDir) error {
 	return nil
 }
 
-// WriteMarkdown writes summary.md: the run in one paragraph, the metrics
-// tables, the comparison tables and the cautions.
+// WriteMarkdown writes summary.md: the answer (Answer), the run in one
+// paragraph, the metrics tables, the comparison tables and the cautions.
 func (rep *Report) WriteMarkdown(w io.Writer) error {
 	var buf bytes.Buffer
 	exp := rep.Experiment
-	fmt.Fprintf(&buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
+	fmt.Fprintf(&buf, "# skein run summary\n\n%s\n\n", markdownText(Answer(exp, rep.Comparisons)))
+	fmt.Fprintf(&buf, "%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
 		rep.Participants, rep.Excluded, len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
 	if len(exp.CV.Confounds) > 0 {
 		fmt.Fprintf(&buf, ", confounds %s regressed out of the scores within each training fold", strings.Join(exp.CV.Confounds, ", "))

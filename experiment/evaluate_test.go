@@ -79,6 +79,12 @@ func TestRunCautions(t *testing.T) {
 					t.Errorf("caution %q without its cause; cautions:\n%s", not, all)
 				}
 			}
+			// summary.md opens with the answer (Answer): neither model
+			// reads the structural connectome.
+			if want := "# skein run summary\n\n" + Answer(exp, rep.Comparisons) + "\n\n"; !strings.HasPrefix(md.String(), want) ||
+				!strings.Contains(want, "No model of this experiment learns from both") {
+				t.Errorf("summary.md does not open with the answer:\n%s", md.String())
+			}
 			if len(tt.want) > 0 && !strings.Contains(md.String(), "## Cautions for this run\n\n- ") {
 				t.Errorf("summary.md lists no cautions:\n%s", md.String())
 			}

@@ -23,6 +23,11 @@ const (
 	MetricsFile = "metrics.json"
 	// SummaryFile is the summary a person reads (Report.WriteMarkdown).
 	SummaryFile = "summary.md"
+	// ComparisonFile holds the comparison of every model with the
+	// reference baseline (eval.WriteComparisonCSV): pooled r within folds
+	// and MAE with their bootstrap intervals, permutation p-values and
+	// the corrected resampled t-tests, in the order of SummaryFile.
+	ComparisonFile = "comparison.csv"
 	// LearningFile holds the epochs of every iteratively trained unit:
 	// model,repeat,fold,member,epoch,train_loss,valid_loss,best (repeat
 	// and fold from 1 as in predictions.csv; member 0 for a single network,

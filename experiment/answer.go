@@ -1,0 +1,181 @@
+package experiment
+
+import (
+	"fmt"
+	"math"
+	"strings"
+
+	"github.com/skein-neuro/skein/eval"
+)
+
+// AnswerLevel is the p-value below which Answer calls a difference from
+// the reference baseline significant (common practice, no source).
+const AnswerLevel = 0.05
+
+// Fusion returns the names of the models of exp that learn from both the
+// functional and the structural connectome (train.ModelConfig.Inputs):
+// the models that fuse structure with function, in the experiment's order.
+func Fusion(exp *Experiment) []string {
+	var out []string
+	for _, m := range exp.Models {
+		if f, s := m.Inputs(); f && s {
+			out = append(out, m.Name)
+		}
+	}
+	return out
+}
+
+// Answer returns one sentence that answers the question skein is run to
+// ask: did fusing structure with function beat the reference baseline, by
+// how much, and by which test. It reads the comparisons of a run (Compare,
+// or ReadComparisonCSV of its comparison.csv) of every model of exp that
+// fuses structure with function (Fusion) with the reference baseline of
+// its score: a comparison beats the reference when the mean difference in
+// fold r is positive and its corrected resampled t-test has p <
+// AnswerLevel, does worse when the difference is negative with p <
+// AnswerLevel, and otherwise does not differ significantly. When there is
+// no such model, or no reference baseline to compare it with, the sentence
+// says so. With several comparisons, it says that their p-values are not
+// corrected for their number.
+func Answer(exp *Experiment, comps []eval.Comparison) string {
+	fusion := Fusion(exp)
+	if len(fusion) == 0 {
+		return "No model of this experiment learns from both the functional and the structural connectome, " +
+			"so this run cannot say whether fusing structure with function beats the reference baseline."
+	}
+	isFusion := make(map[string]bool)
+	for _, name := range fusion {
+		isFusion[name] = true
+	}
+	refR := make(map[[2]string]float64)
+	for _, c := range comps {
+		refR[[2]string{c.Model, c.Target}] = c.R.Estimate
+	}
+	var beat, worse, same []eval.Comparison
+	for _, c := range comps {
+		if !isFusion[c.Model] || c.Reference == "" {
+			continue
+		}
+		switch d := c.DiffR; {
+		case d.P < AnswerLevel && d.MeanDiff > 0:
+			beat = append(beat, c)
+		case d.P < AnswerLevel && d.MeanDiff < 0:
+			worse = append(worse, c)
+		default:
+			same = append(same, c)
+		}
+	}
+	n := len(beat) + len(worse) + len(same)
+	if n == 0 {
+		return fmt.Sprintf("This experiment has no reference baseline to compare %s with, so this run cannot say "+
+			"whether fusing structure with function beats one.", listNames(fusion))
+	}
+	item := func(c eval.Comparison) string {
+		ref, ok := refR[[2]string{c.Reference, c.Target}]
+		if !ok {
+			ref = math.NaN()
+		}
+		return fmt.Sprintf("%s on %s, r within folds %s against %s for %s, Δr %s, p %s", c.Model, c.Target,
+			answerNumber(c.R.Estimate), answerNumber(ref), c.Reference, answerDiff(c.DiffR.MeanDiff), answerP(c.DiffR.P))
+	}
+	items := func(cs []eval.Comparison) string {
+		parts := make([]string, len(cs))
+		for i, c := range cs {
+			parts[i] = item(c)
+		}
+		return strings.Join(parts, "; ")
+	}
+	test := fmt.Sprintf("the mean difference in fold r from the reference, tested by the corrected resampled t-test at p < %g", AnswerLevel)
+	if n == 1 {
+		var c eval.Comparison
+		verdict := "did not beat the reference baseline"
+		switch {
+		case len(beat) == 1:
+			c, verdict = beat[0], "beat the reference baseline"
+		case len(worse) == 1:
+			c, verdict = worse[0], "did not beat the reference baseline; it did worse"
+		default:
+			c = same[0]
+			verdict += " (the difference is not significant)"
+		}
+		return fmt.Sprintf("Fusing structure with function %s: %s (Δr is %s).", verdict, item(c), test)
+	}
+	var b strings.Builder
+	if len(beat) > 0 {
+		fmt.Fprintf(&b, "Fusing structure with function beat the reference baseline in %d of %d comparisons (%s)", len(beat), n, items(beat))
+	} else {
+		fmt.Fprintf(&b, "Fusing structure with function did not beat the reference baseline in any of %d comparisons", n)
+	}
+	var rest []string
+	if len(worse) > 0 {
+		rest = append(rest, fmt.Sprintf("did worse in %d (%s)", len(worse), items(worse)))
+	}
+	if len(same) > 0 {
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, c := range same {
+			if d := c.DiffR.MeanDiff; !math.IsNaN(d) {
+				lo, hi = min(lo, d), max(hi, d)
+			}
+		}
+		span := ""
+		if lo == hi {
+			span = ", Δr " + answerDiff(lo)
+		} else if !math.IsInf(lo, 0) {
+			span = fmt.Sprintf(", Δr from %s to %s", answerDiff(lo), answerDiff(hi))
+		}
+		other := "the other"
+		if len(beat) == 0 && len(worse) == 0 {
+			other = "all"
+		}
+		rest = append(rest, fmt.Sprintf("differed not significantly in %s %d (%s%s)", other, len(same), listNames(comparisonNames(same)), span))
+	}
+	if len(rest) > 0 {
+		b.WriteString(": it " + strings.Join(rest, " and "))
+	}
+	fmt.Fprintf(&b, "; each comparison is one model that learns from both connectomes on one score, Δr is %s, not corrected for the %d comparisons.", test, n)
+	return b.String()
+}
+
+// comparisonNames names each comparison as "MODEL on TARGET".
+func comparisonNames(cs []eval.Comparison) []string {
+	out := make([]string, len(cs))
+	for i, c := range cs {
+		out[i] = c.Model + " on " + c.Target
+	}
+	return out
+}
+
+// listNames joins names as "a", "a and b" or "a, b and c".
+func listNames(names []string) string {
+	switch len(names) {
+	case 0:
+		return ""
+	case 1:
+		return names[0]
+	}
+	return strings.Join(names[:len(names)-1], ", ") + " and " + names[len(names)-1]
+}
+
+func answerNumber(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return fmt.Sprintf("%.3f", x)
+}
+
+func answerDiff(x float64) string {
+	if math.IsNaN(x) {
+		return "–"
+	}
+	return fmt.Sprintf("%+.3f", x)
+}
+
+func answerP(p float64) string {
+	switch {
+	case math.IsNaN(p):
+		return "–"
+	case p < 0.001:
+		return "< 0.001"
+	}
+	return fmt.Sprintf("= %.3f", p)
+}
