@@ -20,8 +20,8 @@ func TestComparisonCSVRoundTrip(t *testing.T) {
 	p.PearsonWithin, p.MAE = 0.005, 0.01
 	comps := []Comparison{
 		{Model: "ridge", Target: "recall", Baseline: true, IsReference: true,
-			R:   Interval{Estimate: 0.3, Lower: 0.1, Upper: 0.45, Level: 0.95, Resamples: 1000},
-			MAE: Interval{Estimate: 4.5, Lower: 4, Upper: 5, Level: 0.95, Resamples: 1000},
+			R:     Interval{Estimate: 0.3, Lower: 0.1, Upper: 0.45, Level: 0.95, Resamples: 1000},
+			MAE:   Interval{Estimate: 4.5, Lower: 4, Upper: 5, Level: 0.95, Resamples: 1000},
 			DiffR: TTest{MeanDiff: nan, T: nan, DF: nan, P: nan}, DiffMAE: TTest{MeanDiff: nan, T: nan, DF: nan, P: nan}},
 		{Model: "net, \"fused\"", Target: "recall", Reference: "ridge", P: p,
 			R:       Interval{Estimate: 0.41, Lower: 0.25, Upper: 0.55, Level: 0.95, Resamples: 1000},
