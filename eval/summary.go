@@ -430,8 +430,9 @@ func (s *Summary) WriteJSON(w io.Writer) error {
 	return err
 }
 
-// WriteMarkdown writes s as Markdown for summary.md: for each target a
-// table with one row per model and one column per metric, each cell the
+// WriteMarkdown writes s as Markdown for summary.md: for each target, in
+// the order the targets first appear in s.Groups, a table with one row
+// per model in the order of s.Groups and one column per metric, each cell the
 // mean ± SD over folds followed by the pooled value in brackets (the pooled
 // value alone when there are no folds), then a legend and Disclaimer.
 func (s *Summary) WriteMarkdown(w io.Writer) error {
@@ -442,7 +443,6 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 			targets = append(targets, g.Target)
 		}
 	}
-	sort.Strings(targets)
 	hasFolds := false
 	for _, g := range s.Groups {
 		if len(g.Folds) > 0 {

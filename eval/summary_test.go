@@ -199,3 +199,20 @@ func strconvQuote(s string) string {
 	b, _ := json.Marshal(s)
 	return string(b)
 }
+
+// TestWriteMarkdownKeepsGroupOrder: the tables follow the order of the
+// summary's groups (the experiment's, for a run), not the alphabet, so
+// that every table of a report lists scores and models alike.
+func TestWriteMarkdownKeepsGroupOrder(t *testing.T) {
+	s := &Summary{Groups: []Group{{Model: "net", Target: "recall"}, {Model: "net", Target: "fluency"}, {Model: "mean", Target: "recall"}}}
+	var b strings.Builder
+	if err := s.WriteMarkdown(&b); err != nil {
+		t.Fatal(err)
+	}
+	md := b.String()
+	recall, fluency := strings.Index(md, "### recall"), strings.Index(md, "### fluency")
+	net, mean := strings.Index(md, "| net |"), strings.Index(md, "| mean |")
+	if recall < 0 || fluency < recall || net < 0 || mean < net || mean > fluency {
+		t.Errorf("tables out of the groups' order:\n%s", md)
+	}
+}
