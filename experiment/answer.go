@@ -123,17 +123,25 @@ func Answer(exp *Experiment, comps []eval.Comparison) string {
 		} else if !math.IsInf(lo, 0) {
 			span = fmt.Sprintf(", Δr from %s to %s", answerDiff(lo), answerDiff(hi))
 		}
-		other := "the other"
+		which := "the other " + countWord(len(same))
 		if len(beat) == 0 && len(worse) == 0 {
-			other = "all"
+			which = "all " + countWord(len(same))
 		}
-		rest = append(rest, fmt.Sprintf("differed not significantly in %s %d (%s%s)", other, len(same), listNames(comparisonNames(same)), span))
+		rest = append(rest, fmt.Sprintf("differed not significantly in %s (%s%s)", which, listNames(comparisonNames(same)), span))
 	}
 	if len(rest) > 0 {
 		b.WriteString(": it " + strings.Join(rest, " and "))
 	}
 	fmt.Fprintf(&b, "; each comparison is one model that learns from both connectomes on one score, Δr is %s, not corrected for the %d comparisons.", test, n)
 	return b.String()
+}
+
+// countWord writes n in words up to ten, in digits above.
+func countWord(n int) string {
+	if words := strings.Fields("zero one two three four five six seven eight nine ten"); n >= 0 && n < len(words) {
+		return words[n]
+	}
+	return fmt.Sprint(n)
 }
 
 // comparisonNames names each comparison as "MODEL on TARGET".

@@ -20,7 +20,7 @@ func BenchmarkImportanceFigure(b *testing.B) {
 	labels := defaultLabels(p)
 	b.ResetTimer()
 	for range b.N {
-		if _, _, _, err := heatMap("importance", "region", "region", labels, labels, p, p, m, 7, 6); err != nil {
+		if _, err := heatMap("importance", "region", "region", labels, labels, p, p, m, 7, 6); err != nil {
 			b.Fatal(err)
 		}
 	}

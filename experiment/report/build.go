@@ -12,7 +12,7 @@ import (
 )
 
 // Build reads the run folder dir (ReadRun), draws its figures into
-// dir/figures/, writes the fold-averaged edge importance as
+// dir/figures/, each as PNG and SVG, writes the fold-averaged edge importance as
 // dir/importance.csv (when some model reported importance) and writes
 // dir/report.html, replacing earlier ones. It returns the figures drawn.
 //
@@ -38,6 +38,9 @@ func Build(dir string) ([]Figure, error) {
 	}
 	for _, f := range figs {
 		if err := atomicfile.WriteFile(filepath.Join(figDir, f.File), f.PNG); err != nil {
+			return nil, err
+		}
+		if err := atomicfile.WriteFile(filepath.Join(figDir, f.SVGFile()), f.SVG); err != nil {
 			return nil, err
 		}
 	}
@@ -71,6 +74,7 @@ func (r *Run) Figures(imp []ModelImportance, filters []FilterSummary) (figs []Fi
 		section string
 		draw    func() ([]Figure, error)
 	}{
+		{SectionAnswer, r.AnswerFigures},
 		{SectionComparison, r.ComparisonFigures},
 		{SectionPredictions, r.ObservedFigures},
 		{SectionLearning, r.LearningFigures},

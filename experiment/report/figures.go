@@ -1,10 +1,10 @@
 package report
 
 import (
-	"bytes"
 	"fmt"
 	"image/color"
 	"math"
+	"slices"
 	"sort"
 	"strings"
 
@@ -12,34 +12,37 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/palette/moreland"
 	"gonum.org/v1/plot/plotter"
-	"gonum.org/v1/plot/plotutil"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgimg"
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
 )
 
-// DPI is the resolution of every figure: a figure of w × h inches is
-// w·DPI × h·DPI pixels.
-const DPI = 96
-
-// A Figure is one PNG image of a report.
+// A Figure is one figure of a report, drawn as PNG (embedded in the
+// page) and as SVG (for a paper), both saved under figures/.
 type Figure struct {
-	// File is the name under figures/, such as "observed-ridge-recall.png".
+	// File is the PNG's name under figures/, such as
+	// "observed-ridge-recall.png"; SVGFile names the SVG beside it.
 	File string
 	// Section is the heading of the report the figure belongs under.
 	Section string
 	// Title and Caption describe it for the reader.
 	Title, Caption string
-	// Width and Height are the image size in pixels.
+	// Width and Height are the PNG's size in pixels.
 	Width, Height int
 	PNG           []byte
+	// SVG is the same figure as scalable vector graphics.
+	SVG []byte
 }
+
+// SVGFile returns the name of the figure's SVG under figures/: File with
+// the extension .svg.
+func (f Figure) SVGFile() string { return strings.TrimSuffix(f.File, ".png") + ".svg" }
 
 // Sections of the report, in order.
 const (
+	SectionAnswer      = "The answer"
 	SectionPredictions = "Observed and predicted scores"
 	SectionComparison  = "Model comparison"
 	SectionLearning    = "Learning curves"
@@ -54,39 +57,15 @@ var (
 	colorFit     = color.RGBA{R: 0xc0, G: 0x39, B: 0x2b, A: 0xff}
 	colorGuide   = color.RGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
 	colorOutlier = color.RGBA{R: 0xd0, G: 0x10, B: 0x10, A: 0xff}
+	colorGrid    = color.RGBA{R: 0xdd, G: 0xdd, B: 0xdd, A: 0xff}
 )
 
-// render draws on a w × h inch white canvas and encodes it as PNG; it
-// returns the PNG and its size in pixels.
-func render(w, h float64, draw func(dc draw.Canvas)) ([]byte, int, int, error) {
-	c := vgimg.NewWith(vgimg.UseWH(vg.Length(w)*vg.Inch, vg.Length(h)*vg.Inch), vgimg.UseDPI(DPI), vgimg.UseBackgroundColor(color.White))
-	draw(drawCanvas(c))
-	var buf bytes.Buffer
-	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
-		return nil, 0, 0, err
-	}
-	b := c.Image().Bounds()
-	return buf.Bytes(), b.Dx(), b.Dy(), nil
-}
-
-func drawCanvas(c *vgimg.Canvas) draw.Canvas { return draw.New(c) }
-
-// figure renders one plot as a Figure of w × h inches.
-func figure(file, section, title, caption string, w, h float64, p *plot.Plot) (Figure, error) {
-	png, pw, ph, err := render(w, h, func(dc draw.Canvas) { p.Draw(dc) })
-	if err != nil {
-		return Figure{}, fmt.Errorf("figure %s: %w", file, err)
-	}
-	return Figure{File: file, Section: section, Title: title, Caption: caption, Width: pw, Height: ph, PNG: png}, nil
-}
-
-func newPlot(title, x, y string) *plot.Plot {
-	p := plot.New()
-	p.Title.Text = title
-	p.X.Label.Text = x
-	p.Y.Label.Text = y
-	p.Add(plotter.NewGrid())
-	return p
+// newGrid returns light grid lines.
+func newGrid() *plotter.Grid {
+	g := plotter.NewGrid()
+	g.Vertical.Color = colorGrid
+	g.Horizontal.Color = colorGrid
+	return g
 }
 
 // fileName makes s safe in a file name: letters, digits, '-', '_' and '.'
@@ -121,36 +100,31 @@ func line(x0, y0, x1, y1 float64, c color.Color, dashed bool) (*plotter.Line, er
 // squares line of predicted on observed; the title gives the pooled r and
 // MAE.
 func (r *Run) ObservedFigures() ([]Figure, error) {
-	type key struct{ model, target string }
-	var keys []key
-	points := make(map[key]plotter.XYs)
+	type pair struct{ model, target string }
+	var keys []pair
+	points := make(map[pair]plotter.XYs)
 	for _, row := range r.Rows {
 		if math.IsNaN(row.Observed) || math.IsNaN(row.Predicted) {
 			continue
 		}
-		k := key{row.Model, row.Target}
+		k := pair{row.Model, row.Target}
 		if _, ok := points[k]; !ok {
 			keys = append(keys, k)
 		}
 		points[k] = append(points[k], plotter.XY{X: row.Observed, Y: row.Predicted})
 	}
-	sort.Slice(keys, func(a, b int) bool {
-		if keys[a].model != keys[b].model {
-			return keys[a].model < keys[b].model
-		}
-		return keys[a].target < keys[b].target
-	})
+	slices.SortStableFunc(keys, func(a, b pair) int { return r.compareUnits(a.model, a.target, b.model, b.target) })
 	var figs []Figure
-	for _, k := range keys {
-		xys := points[k]
+	for _, mt := range keys {
+		xys := points[mt]
 		obs := make([]float64, len(xys))
 		pred := make([]float64, len(xys))
 		for i, xy := range xys {
 			obs[i], pred[i] = xy.X, xy.Y
 		}
 		rv, mae := eval.Pearson(obs, pred), eval.MAE(obs, pred)
-		title := fmt.Sprintf("%s — %s: r = %s, MAE = %s", k.model, k.target, num(rv), num(mae))
-		p := newPlot(title, "observed "+k.target, "predicted "+k.target)
+		title := fmt.Sprintf("%s — %s: r = %s, MAE = %s", mt.model, mt.target, num(rv), num(mae))
+		p := newPlot(title, "observed "+mt.target, "predicted "+mt.target)
 		sc, err := plotter.NewScatter(xys)
 		if err != nil {
 			return nil, err
@@ -164,8 +138,9 @@ func (r *Run) ObservedFigures() ([]Figure, error) {
 			return nil, err
 		}
 		p.Add(sc, identity)
-		p.Legend.Add("participant (pooled test folds)", sc)
-		p.Legend.Add("identity", identity)
+		var k key
+		k.add("participant (pooled test folds)", sc)
+		k.add("identity", identity)
 		alpha, beta := stat.LinearRegression(obs, pred, nil, false)
 		if !math.IsNaN(alpha) && !math.IsNaN(beta) {
 			x0, x1 := floats(obs).min(), floats(obs).max()
@@ -174,17 +149,15 @@ func (r *Run) ObservedFigures() ([]Figure, error) {
 				return nil, err
 			}
 			p.Add(fit)
-			p.Legend.Add(fmt.Sprintf("least squares: %s + %s·observed", num(alpha), num(beta)), fit)
+			k.add(fmt.Sprintf("least squares: %s + %s·observed", num(alpha), num(beta)), fit)
 		}
-		p.Legend.Top, p.Legend.Left = true, true
-		p.Y.Max = hi + 0.3*(hi-lo) // room for the legend
 		caption := fmt.Sprintf("%d test predictions of %s for %s, pooled over folds and repeats. "+
-			"Points on the dashed identity line are predicted exactly.", len(xys), k.model, k.target)
+			"Points on the dashed identity line are predicted exactly.", len(xys), mt.model, mt.target)
 		if c := r.Experiment.CV.Confounds; len(c) > 0 {
 			caption += fmt.Sprintf(" Scores are as in predictions.csv: residuals after regressing out %s, fitted on each training fold.",
 				strings.Join(c, ", "))
 		}
-		f, err := figure(fileName("observed", k.model, k.target), SectionPredictions, title, caption, 6, 5, p)
+		f, err := figure(fileName("observed", mt.model, mt.target), SectionPredictions, title, caption, SingleColumn, 3.6, []*plot.Plot{p}, k)
 		if err != nil {
 			return nil, err
 		}
@@ -197,46 +170,43 @@ func (r *Run) ObservedFigures() ([]Figure, error) {
 // MAE of every model (baselines included) from metrics.json: a box plot
 // and one point per repeat × fold.
 func (r *Run) ComparisonFigures() ([]Figure, error) {
-	var targets []string
-	for _, g := range r.Summary.Groups {
-		if !contains(targets, g.Target) {
-			targets = append(targets, g.Target)
-		}
-	}
-	sort.Strings(targets)
 	var figs []Figure
-	for _, t := range targets {
+	for _, t := range r.targets() {
 		var groups []eval.Group
 		for _, g := range r.Summary.Groups {
 			if g.Target == t && len(g.Folds) > 0 {
 				groups = append(groups, g)
 			}
 		}
+		slices.SortStableFunc(groups, func(a, b eval.Group) int { return r.compareUnits(a.Model, a.Target, b.Model, b.Target) })
 		if len(groups) == 0 {
 			continue
 		}
 		var row []*plot.Plot
+		var k key
 		for _, m := range []eval.Metric{eval.MetricPearson, eval.MetricMAE} {
-			p := newPlot(fmt.Sprintf("%s: %s per fold", t, m.Label()), "", m.Label())
+			p := newPlot(m.Label()+" per fold", "", m.Label())
 			var names []string
+			lo, hi := math.Inf(1), math.Inf(-1)
 			for i, g := range groups {
 				names = append(names, g.Model)
 				var vals plotter.Values
 				var pts plotter.XYs
-				for k, f := range g.Folds {
+				for j, f := range g.Folds {
 					v := f.Get(m)
 					if math.IsNaN(v) {
 						continue
 					}
 					vals = append(vals, v)
+					lo, hi = math.Min(lo, v), math.Max(hi, v)
 					// A fixed jitter spreads the points of one model.
-					jitter := 0.25 * (float64(k%7)/6 - 0.5)
+					jitter := 0.25 * (float64(j%7)/6 - 0.5)
 					pts = append(pts, plotter.XY{X: float64(i) + jitter, Y: v})
 				}
 				if len(vals) == 0 {
 					continue
 				}
-				box, err := plotter.NewBoxPlot(vg.Points(22), float64(i), vals)
+				box, err := plotter.NewBoxPlot(vg.Points(16), float64(i), vals)
 				if err != nil {
 					return nil, err
 				}
@@ -245,41 +215,52 @@ func (r *Run) ComparisonFigures() ([]Figure, error) {
 				if err != nil {
 					return nil, err
 				}
-				sc.GlyphStyle.Color = plotutil.Color(i)
-				sc.GlyphStyle.Radius = vg.Points(2.2)
+				sc.GlyphStyle.Color = colorPoints
+				sc.GlyphStyle.Radius = vg.Points(1.6)
 				sc.GlyphStyle.Shape = draw.CircleGlyph{}
 				p.Add(box, sc)
+				if len(k) == 0 {
+					k.add("test fold (repeat × fold)", sc)
+				}
 			}
 			p.NominalX(names...)
 			p.X.Tick.Label.Rotation = math.Pi / 6
 			p.X.Tick.Label.XAlign = draw.XRight
 			p.X.Tick.Label.YAlign = draw.YCenter
+			padRange(&p.Y, lo, hi, 0.05)
 			row = append(row, p)
 		}
 		title := "Per-fold Pearson r and MAE on " + t
 		caption := fmt.Sprintf("One point per test fold of every repeat (%d per model); boxes span the quartiles, "+
 			"whiskers 1.5 interquartile ranges. Higher r and lower MAE are better. Folds share participants "+
 			"across repeats, so the points are not independent.", len(groups[0].Folds))
-		png, w, h, err := render(10, 4.5, func(dc draw.Canvas) {
-			tiles := draw.Tiles{Rows: 1, Cols: len(row), PadX: vg.Millimeter * 6, PadTop: vg.Millimeter * 2, PadBottom: vg.Millimeter * 2, PadLeft: vg.Millimeter * 2, PadRight: vg.Millimeter * 2}
-			canvases := plot.Align([][]*plot.Plot{row}, tiles, dc)
-			for j, p := range row {
-				p.Draw(canvases[0][j])
-			}
-		})
+		f, err := figure(fileName("comparison", t), SectionComparison, title, caption, DoubleColumn, 3.2, row, k)
 		if err != nil {
 			return nil, err
 		}
-		figs = append(figs, Figure{File: fileName("comparison", t), Section: SectionComparison, Title: title, Caption: caption, Width: w, Height: h, PNG: png})
+		figs = append(figs, f)
 	}
 	return figs, nil
+}
+
+// foldColors are the colours of the folds in the learning curves
+// (Okabe & Ito's colour-blind-safe palette without yellow, then darker
+// tones).
+var foldColors = []color.Color{
+	color.RGBA{R: 0x00, G: 0x72, B: 0xb2, A: 0xff}, color.RGBA{R: 0xd5, G: 0x5e, B: 0x00, A: 0xff},
+	color.RGBA{R: 0x00, G: 0x9e, B: 0x73, A: 0xff}, color.RGBA{R: 0xcc, G: 0x79, B: 0xa7, A: 0xff},
+	color.RGBA{R: 0x56, G: 0xb4, B: 0xe9, A: 0xff}, color.RGBA{R: 0xe6, G: 0x9f, B: 0x00, A: 0xff},
+	color.RGBA{R: 0x00, G: 0x00, B: 0x00, A: 0xff}, color.RGBA{R: 0x88, G: 0x44, B: 0x00, A: 0xff},
+	color.RGBA{R: 0x44, G: 0x44, B: 0x99, A: 0xff}, color.RGBA{R: 0x99, G: 0x99, B: 0x99, A: 0xff},
 }
 
 // LearningFigures draws, for every model that trained in epochs, the
 // training (solid) and inner-validation (dashed) loss per epoch of each
 // fold, one colour per fold, with the early-stopping epoch (the last
 // epoch marked best) as a dot. An ensemble draws one line per member in
-// its fold's colour.
+// its fold's colour. The key under the plot names the fold of each
+// colour ("r1 f2": repeat 1, fold 2; folds share a colour when there are
+// more folds than colours) and the line styles.
 func (r *Run) LearningFigures() ([]Figure, error) {
 	type unit struct {
 		repeat, fold, member int
@@ -298,6 +279,9 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 		}
 		curves[c.Model][u] = append(curves[c.Model][u], c)
 	}
+	if r.Experiment != nil {
+		slices.SortStableFunc(models, func(a, b string) int { return r.compareUnits(a, "", b, "") })
+	}
 	var figs []Figure
 	for _, m := range models {
 		title := m + ": loss per epoch"
@@ -306,16 +290,25 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 		hasValid := false
 		yMax := math.Inf(-1)
 		folds := make(map[unit]int) // colour index per fold
+		var foldNames [][]string    // the folds of each colour
 		members := 0
 		for _, u := range order[m] {
 			fold := unit{u.repeat, u.fold, 0}
 			if _, ok := folds[fold]; !ok {
-				folds[fold] = len(folds)
+				i := len(folds)
+				folds[fold] = i
+				if i < len(foldColors) {
+					foldNames = append(foldNames, nil)
+				}
+				c := i % len(foldColors)
+				foldNames[c] = append(foldNames[c], fmt.Sprintf("r%d f%d", u.repeat+1, u.fold+1))
 			}
 			members = max(members, u.member)
 		}
+		var k key
+		keyed := make([]bool, len(foldNames))
 		for _, u := range order[m] {
-			i := folds[unit{u.repeat, u.fold, 0}]
+			i := folds[unit{u.repeat, u.fold, 0}] % len(foldColors)
 			pts := curves[m][u]
 			var tr, va plotter.XYs
 			var bestPt *plotter.XY
@@ -334,13 +327,17 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 					bestPt = &plotter.XY{X: float64(c.Epoch), Y: y}
 				}
 			}
-			col := plotutil.Color(i)
+			col := foldColors[i]
 			l, err := plotter.NewLine(tr)
 			if err != nil {
 				return nil, err
 			}
 			l.Color = col
 			p.Add(l)
+			if !keyed[i] {
+				keyed[i] = true
+				k.add(strings.Join(foldNames[i], ", "), l)
+			}
 			if len(va) > 0 {
 				hasValid = true
 				lv, err := plotter.NewLine(va)
@@ -356,10 +353,10 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 			}
 		}
 		trainKey, _ := line(0, 0, 1, 1, colorGuide, false)
-		p.Legend.Add("training loss", trainKey)
+		k.add("training loss", trainKey)
 		if hasValid {
 			validKey, _ := line(0, 0, 1, 1, colorGuide, true)
-			p.Legend.Add("inner-validation loss", validKey)
+			k.add("inner-validation loss", validKey)
 		}
 		if len(best) > 0 {
 			sc, err := plotter.NewScatter(best)
@@ -367,23 +364,24 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 				return nil, err
 			}
 			sc.GlyphStyle.Shape = draw.CircleGlyph{}
-			sc.GlyphStyle.Radius = vg.Points(3.5)
+			sc.GlyphStyle.Radius = vg.Points(2.5)
 			sc.GlyphStyle.Color = color.Black
 			p.Add(sc)
-			p.Legend.Add("kept epoch (early stopping)", sc)
+			k.add("kept epoch (early stopping)", sc)
 		}
-		p.Legend.Top = true
 		if !math.IsInf(yMax, 0) {
 			p.Y.Min = 0
-			p.Y.Max = 1.3 * yMax
+			padRange(&p.Y, 0, yMax, 0.04)
+			p.Y.Min = 0
 		}
-		caption := fmt.Sprintf("%d folds (all repeats), one colour per fold. The loss is computed on the "+
-			"standardized scores each training fold fitted. The dot marks the epoch whose weights were kept.", len(folds))
+		caption := fmt.Sprintf("%d folds (all repeats), one colour per fold, named in the key (rR fF: repeat R, fold F). "+
+			"The loss is computed on the standardized scores each training fold fitted. The dot marks the epoch whose "+
+			"weights were kept.", len(folds))
 		if members > 0 {
 			caption += fmt.Sprintf(" Each fold trained an ensemble of %d networks, one line per network, each "+
 				"stopped early on its own part of the training fold.", members)
 		}
-		f, err := figure(fileName("learning", m), SectionLearning, title, caption, 7, 4.5, p)
+		f, err := figure(fileName("learning", m), SectionLearning, title, caption, DoubleColumn, 3.6, []*plot.Plot{p}, k)
 		if err != nil {
 			return nil, err
 		}
@@ -423,23 +421,22 @@ func (r *Run) NullFigures() ([]Figure, error) {
 		for _, b := range h.Bins {
 			top = math.Max(top, b.Weight)
 		}
+		var k key
 		if !math.IsNaN(obs) {
 			l, err := line(obs, 0, obs, top*1.05, colorFit, false)
 			if err != nil {
 				return nil, err
 			}
-			l.Width = vg.Points(2)
+			l.Width = vg.Points(1.5)
 			p.Add(l)
-			p.Legend.Add("observed", l)
-			p.Legend.Add(fmt.Sprintf("null (%d permutations)", len(n.Null)), h)
-			p.Legend.Top, p.Legend.Left = true, true
-			p.Y.Max = top * 1.35
-			p.X.Max = math.Max(p.X.Max, obs) + 0.05*(p.X.Max-p.X.Min)
-			p.X.Min = math.Min(p.X.Min, obs) - 0.05*(p.X.Max-p.X.Min)
+			k.add("observed", l)
 		}
+		k.add(fmt.Sprintf("null (%d permutations)", len(n.Null)), h)
+		p.Y.Min, p.Y.Max = 0, top*1.08
+		padRange(&p.X, obs, obs, 0.04)
 		caption := fmt.Sprintf("The whole cross-validation of %s repeated with the scores permuted %d times. "+
 			"p = (1 + #{null r ≥ observed r}) / (1 + permutations).", n.Model, len(n.Null))
-		f, err := figure(fileName("null", n.Model, n.Target), SectionNulls, title, caption, 6, 4, p)
+		f, err := figure(fileName("null", n.Model, n.Target), SectionNulls, title, caption, SingleColumn, 3, []*plot.Plot{p}, k)
 		if err != nil {
 			return nil, err
 		}
@@ -482,7 +479,7 @@ func (t labelTicks) Ticks(lo, hi float64) []plot.Tick {
 
 // heatMap draws z (rows × cols, row-major) with a diverging palette
 // centred on zero, row 0 on top, and a colour bar on the right.
-func heatMap(title, xLabel, yLabel string, xNames, yNames []string, rows, cols int, z []float64, w, h float64) ([]byte, int, int, error) {
+func heatMap(title, xLabel, yLabel string, xNames, yNames []string, rows, cols int, z []float64, w, h float64) (rendered, error) {
 	extent := 0.0
 	for _, v := range z {
 		if !math.IsNaN(v) {
@@ -502,6 +499,7 @@ func heatMap(title, xLabel, yLabel string, xNames, yNames []string, rows, cols i
 	p.Title.Text = title
 	p.X.Label.Text = xLabel
 	p.Y.Label.Text = yLabel
+	paperFonts(p)
 	p.Add(hm)
 	p.X.Tick.Marker = labelTicks{xNames, 24}
 	p.Y.Tick.Marker = labelTicks{yNames, 32}
@@ -509,11 +507,9 @@ func heatMap(title, xLabel, yLabel string, xNames, yNames []string, rows, cols i
 	p.X.Tick.Label.XAlign = draw.XRight
 	p.X.Tick.Label.YAlign = draw.YCenter
 	p.Y.Scale = plot.InvertedScale{Normalizer: plot.LinearScale{}}
-	small := vg.Points(7)
-	p.X.Tick.Label.Font.Size = small
-	p.Y.Tick.Label.Font.Size = small
 
 	bar := plot.New()
+	paperFonts(bar)
 	bar.HideX()
 	bar.Y.Padding = 0
 	bar.Title.Text = " "
@@ -556,10 +552,11 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 		return Figure{}, false, nil
 	}
 	var row []*plot.Plot
+	var k key
 	for i, name := range names {
 		st := stats[i]
 		if len(values[i]) > 1 {
-			p, err := cohortHistogram(name, values[i], c.Outliers, c.OutlierSD)
+			p, err := cohortHistogram(name, values[i], c.Outliers, c.OutlierSD, &k)
 			if err != nil {
 				return Figure{}, false, err
 			}
@@ -584,8 +581,8 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 			return Figure{}, false, err
 		}
 		p.Add(rangeLine, box, mean)
-		p.Legend.Add("range", rangeLine)
-		p.Legend.Add("mean ± SD", box)
+		k.add("range", rangeLine)
+		k.add("mean ± SD", box)
 		var flagged []data.Outlier
 		for _, o := range c.Outliers {
 			if o.Measure == name {
@@ -612,12 +609,12 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 			if err != nil {
 				return Figure{}, false, err
 			}
-			for k := range lb.TextStyle {
-				lb.TextStyle[k].Font.Size = vg.Points(7)
-				lb.TextStyle[k].Rotation = math.Pi / 4
+			for j := range lb.TextStyle {
+				lb.TextStyle[j].Font = sansAt(smallFontSize)
+				lb.TextStyle[j].Rotation = math.Pi / 4
 			}
 			p.Add(sc, lb)
-			p.Legend.Add(fmt.Sprintf("flagged outlier (> %g robust SD)", c.OutlierSD), sc)
+			k.add(fmt.Sprintf("flagged outlier (> %g robust SD)", c.OutlierSD), sc)
 		}
 		p.Y.Min, p.Y.Max = -1.6, 2.2
 		row = append(row, p)
@@ -627,22 +624,16 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 		"(histograms; runs made before skein kept each participant's value show range and mean ± SD); red "+
 		"triangles mark the participants flagged as outliers (more than %g robust SDs from the median). "+
 		"Outliers are flagged, not excluded.", c.Included, c.OutlierSD)
-	png, w, h, err := render(3.6*float64(len(row)), 3.2, func(dc draw.Canvas) {
-		tiles := draw.Tiles{Rows: 1, Cols: len(row), PadX: vg.Millimeter * 6, PadTop: vg.Millimeter * 2, PadBottom: vg.Millimeter * 2, PadLeft: vg.Millimeter * 2, PadRight: vg.Millimeter * 4}
-		canvases := plot.Align([][]*plot.Plot{row}, tiles, dc)
-		for j, p := range row {
-			p.Draw(canvases[0][j])
-		}
-	})
+	f, err := figure("cohort.png", SectionCohort, title, caption, min(DoubleColumn, SingleColumn*float64(len(row))), 2.8, row, k)
 	if err != nil {
 		return Figure{}, false, err
 	}
-	return Figure{File: "cohort.png", Section: SectionCohort, Title: title, Caption: caption, Width: w, Height: h, PNG: png}, true, nil
+	return f, true, nil
 }
 
 // cohortHistogram draws the distribution of one quality measure over the
 // participants with its flagged outliers marked and labelled.
-func cohortHistogram(name string, values []float64, outliers []data.Outlier, outlierSD float64) (*plot.Plot, error) {
+func cohortHistogram(name string, values []float64, outliers []data.Outlier, outlierSD float64, k *key) (*plot.Plot, error) {
 	p := newPlot(name, name, "participants")
 	hist, err := plotter.NewHist(plotter.Values(values), min(20, max(5, len(values)/5)))
 	if err != nil {
@@ -680,13 +671,12 @@ func cohortHistogram(name string, values []float64, outliers []data.Outlier, out
 		if err != nil {
 			return nil, err
 		}
-		for k := range lb.TextStyle {
-			lb.TextStyle[k].Font.Size = vg.Points(7)
-			lb.TextStyle[k].Rotation = math.Pi / 4
+		for j := range lb.TextStyle {
+			lb.TextStyle[j].Font = sansAt(smallFontSize)
+			lb.TextStyle[j].Rotation = math.Pi / 4
 		}
 		p.Add(sc, lb)
-		p.Legend.Add(fmt.Sprintf("flagged outlier (> %g robust SD)", outlierSD), sc)
-		p.Legend.Top, p.Legend.Left = true, true
+		k.add(fmt.Sprintf("flagged outlier (> %g robust SD)", outlierSD), sc)
 	}
 	p.Y.Min, p.Y.Max = 0, top*1.7
 	p.Y.Tick.Marker = plot.DefaultTicks{}

@@ -6,10 +6,12 @@ import (
 	"fmt"
 	"html/template"
 	"io"
+	"path"
 	"path/filepath"
 	"strings"
 
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/experiment"
 )
 
 // Cautions are the paragraphs every report ends its summary with.
@@ -27,6 +29,8 @@ type page struct {
 	Title      string
 	Folder     string
 	Problems   []string
+	Answer     string
+	Answers    []htmlFigure
 	Overview   []string
 	Models     []modelRow
 	Comparison template.HTML
@@ -40,7 +44,7 @@ type page struct {
 	Experiment string
 }
 
-type modelRow struct{ Name, Kind, Detail string }
+type modelRow struct{ Name, Kind, Inputs, Detail string }
 
 // importanceBlock is one model × target of the importance section: its
 // heat map and its ranked edges.
@@ -57,6 +61,8 @@ type section struct {
 type htmlFigure struct {
 	Figure
 	Src template.URL
+	// PNGPath and SVGPath are the figure's files, relative to the report.
+	PNGPath, SVGPath string
 }
 
 // WriteHTML writes the report of r with the given figures (embedded as
@@ -67,7 +73,8 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 	pg := page{
 		Title:      "skein run report — " + r.Name,
 		Folder:     r.Name,
-		Comparison: markdownHTML(r.SummaryMarkdown),
+		Answer:     r.Answer(),
+		Comparison: markdownHTML(withoutAnswer(r.SummaryMarkdown, r.Answer())),
 		Filters:    filters,
 		Regions:    r.Regions,
 		Cautions:   Cautions,
@@ -100,14 +107,20 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 	}
 	pg.Overview = append(pg.Overview, fmt.Sprintf("Seed %d: the same experiment file, data and seed give the same results.", exp.Seed))
 	for _, m := range exp.Models {
-		row := modelRow{Name: m.Name, Kind: m.Kind()}
+		row := modelRow{Name: m.Name, Kind: m.Kind(), Inputs: inputsWords(m.Inputs())}
 		if k, err := m.Spec(); err == nil && k.Describe != nil {
 			row.Detail = k.Describe(m.Settings())
 		}
 		pg.Models = append(pg.Models, row)
 	}
 	embed := func(f Figure) htmlFigure {
-		return htmlFigure{f, template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(f.PNG))}
+		return htmlFigure{f, template.URL("data:image/png;base64," + base64.StdEncoding.EncodeToString(f.PNG)),
+			path.Join(experiment.FiguresDir, f.File), path.Join(experiment.FiguresDir, f.SVGFile())}
+	}
+	for _, f := range figs {
+		if f.Section == SectionAnswer {
+			pg.Answers = append(pg.Answers, embed(f))
+		}
 	}
 	for _, m := range imp {
 		b := importanceBlock{ModelImportance: m}
@@ -153,22 +166,25 @@ var pageTemplate = template.Must(template.New("report").Funcs(template.FuncMap{
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>{{.Title}}</title>
 <style>
-body { font-family: system-ui, -apple-system, "Segoe UI", Helvetica, Arial, sans-serif; max-width: 72rem; margin: 1.5rem auto; padding: 0 1rem; color: #1d1d1f; line-height: 1.45; }
+body { font-family: ` + FontFamily + `; max-width: 72rem; margin: 1.5rem auto; padding: 0 1rem; color: #1d1d1f; line-height: 1.45; overflow-wrap: anywhere; }
 h1 { font-size: 1.6rem; margin-bottom: .2rem; }
 h2 { border-bottom: 1px solid #ccd; padding-bottom: .2rem; margin-top: 2.2rem; }
 h3 { margin-top: 1.4rem; }
-table { border-collapse: collapse; margin: .6rem 0 1rem; font-size: .9rem; }
+.scroll { max-width: 100%; overflow-x: auto; }
+table { border-collapse: collapse; margin: .6rem 0 1rem; font-size: .9rem; overflow-wrap: normal; }
 th, td { border: 1px solid #c8c8d0; padding: .25rem .55rem; text-align: left; vertical-align: top; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
 th { background: #eef0f5; }
 .caution { background: #fff6e0; border-left: 4px solid #d99a00; padding: .5rem 1rem; margin: 1rem 0; }
-figure { display: inline-block; margin: .6rem 1.5% 1.2rem 0; vertical-align: top; box-sizing: border-box; }
+.answer { font-size: 1.1rem; background: #eef4fb; border-left: 4px solid #0072b2; padding: .6rem 1rem; margin: 1rem 0; }
+figure { display: inline-block; margin: .6rem 1.5% 1.2rem 0; vertical-align: top; box-sizing: border-box; max-width: 100%; }
 figure.half { width: 48%; }
 figure.wide { width: 98%; }
 figure img { width: 100%; height: auto; border: 1px solid #e0e0e6; box-sizing: border-box; }
 figcaption { font-size: .85rem; color: #444; max-width: 44rem; }
-pre { background: #f5f6f8; border: 1px solid #dde; padding: .6rem; overflow-x: auto; font-size: .8rem; }
+pre { background: #f5f6f8; border: 1px solid #dde; padding: .6rem; overflow-x: auto; font-size: .8rem; overflow-wrap: normal; }
 blockquote { margin: .5rem 0; padding: .3rem 1rem; border-left: 4px solid #d99a00; background: #fff6e0; }
+@media (max-width: 48rem) { figure.half, figure.wide { width: 100%; margin-right: 0; } }
 </style>
 </head>
 <body>
@@ -178,14 +194,17 @@ blockquote { margin: .5rem 0; padding: .3rem 1rem; border-left: 4px solid #d99a0
 <ul>{{range .Problems}}<li>{{.}}</li>{{end}}</ul>
 Rebuild it with <code>skein report</code> once the cause is fixed.</div>
 {{end}}
+<h2 id="answer">The answer</h2>
+<p class="answer">{{.Answer}}</p>
+{{range .Answers}}{{template "figure" .}}{{end}}
 <h2 id="summary">Summary</h2>
 <ul>
 {{range .Overview}}<li>{{.}}</li>
 {{end}}</ul>
-<table id="models">
-<tr><th>model</th><th>kind</th><th>details</th></tr>
-{{range .Models}}<tr><td>{{.Name}}</td><td>{{.Kind}}</td><td>{{.Detail}}</td></tr>
-{{end}}</table>
+<div class="scroll"><table id="models">
+<tr><th>model</th><th>kind</th><th>learns from</th><th>details</th></tr>
+{{range .Models}}<tr><td>{{.Name}}</td><td>{{.Kind}}</td><td>{{.Inputs}}</td><td>{{.Detail}}</td></tr>
+{{end}}</table></div>
 
 <h2 id="comparison">Metrics and comparison</h2>
 <div class="tables">
@@ -193,28 +212,20 @@ Rebuild it with <code>skein report</code> once the cause is fixed.</div>
 </div>
 {{range .Sections}}
 <h2>{{.Title}}</h2>
-{{range .Figures}}<figure class="{{if gt .Width 700}}wide{{else}}half{{end}}" style="max-width: {{.Width}}px">
-<img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}">
-<figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption>
-</figure>
-{{end}}{{if imp .Title}}{{range $.Importance}}
+{{range .Figures}}{{template "figure" .}}{{end}}{{if imp .Title}}{{range $.Importance}}
 <h3>{{.Model}} — {{.Target}}</h3>
-{{with .Figure}}<figure class="{{if gt .Width 700}}wide{{else}}half{{end}}" style="max-width: {{.Width}}px">
-<img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}">
-<figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption>
-</figure>
-{{end}}
-<table class="edges">
+{{with .Figure}}{{template "figure" .}}{{end}}
+<div class="scroll"><table class="edges">
 <tr><th class="num">rank</th><th>edge</th><th class="num">mean importance</th><th class="num">in top {{len .Top}} of a fold</th><th class="num">same sign</th></tr>
 {{range $k, $e := .Top}}<tr><td class="num">{{inc $k}}</td><td>{{region $.Regions $e.I}} – {{region $.Regions $e.J}}</td><td class="num">{{num $e.Mean}}</td><td class="num">{{pct $e.InTop}}</td><td class="num">{{pct $e.SameSign}}</td></tr>
-{{end}}</table>
+{{end}}</table></div>
 <p>Over {{.Folds}} folds. Strongest regions (sum of |importance| over their edges):
 {{range $k, $r := .Regions}}{{if $k}}, {{end}}{{region $.Regions $r.Region}} ({{num $r.Strength}}){{end}}.</p>
 {{end}}{{end}}{{if filt .Title}}
-<table class="filters">
+<div class="scroll"><table class="filters">
 <tr><th>model</th><th>branch</th><th>array</th><th class="num">folds</th><th>consistency per channel</th></tr>
 {{range $.Filters}}<tr><td>{{.Model}}</td><td>{{inc .Branch}}</td><td>{{.Array}}</td><td class="num">{{.Folds}}</td><td>{{range $c, $v := .Consistency}}{{if $c}}, {{end}}{{num $v}}{{end}}</td></tr>
-{{end}}</table>
+{{end}}</table></div>
 {{end}}{{end}}
 <h2 id="cautions">Cautions</h2>
 {{range .Cautions}}<p class="caution">{{.}}</p>
@@ -222,11 +233,34 @@ Rebuild it with <code>skein report</code> once the cause is fixed.</div>
 <h2 id="reproduce">Reproducing this run</h2>
 <p>Seed {{.Seed}}. Versions (versions.txt):</p>
 <pre>{{.Versions}}</pre>
-<p>The experiment file with every default filled (experiment.toml):</p>
+<p>The experiment as run, with every default filled and the keys that do not apply to it left out (experiment.toml in the run folder has them all):</p>
 <pre>{{.Experiment}}</pre>
 </body>
 </html>
-`))
+{{define "figure"}}<figure class="{{if gt .Width 700}}wide{{else}}half{{end}}" style="max-width: {{.Width}}px">
+<img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}">
+<figcaption><b>{{.Title}}.</b> {{.Caption}} <a href="{{.SVGPath}}">SVG</a> · <a href="{{.PNGPath}}">PNG</a></figcaption>
+</figure>
+{{end}}`))
+
+// withoutAnswer returns the summary Markdown md without its paragraph
+// answer, which the report shows at its top.
+func withoutAnswer(md, answer string) string {
+	return strings.Replace(md, "\n"+answer+"\n", "\n", 1)
+}
+
+// inputsWords names the connectomes a model learns from.
+func inputsWords(functional, structural bool) string {
+	switch {
+	case functional && structural:
+		return "both connectomes"
+	case functional:
+		return "functional"
+	case structural:
+		return "structural"
+	}
+	return "neither (scores only)"
+}
 
 func labelOf(labels []string, i int) string {
 	if i < len(labels) {
@@ -292,7 +326,7 @@ func markdownHTML(md string) template.HTML {
 				rows = append(rows, cells)
 			}
 			i--
-			b.WriteString("<table class=\"metrics\">\n")
+			b.WriteString("<div class=\"scroll\"><table class=\"metrics\">\n")
 			for ri, row := range rows {
 				tag := "td"
 				if ri == 0 {
@@ -308,7 +342,7 @@ func markdownHTML(md string) template.HTML {
 				}
 				b.WriteString("</tr>\n")
 			}
-			b.WriteString("</table>\n")
+			b.WriteString("</table></div>\n")
 		default:
 			para = append(para, strings.TrimSpace(l))
 		}

@@ -4,6 +4,8 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"encoding/xml"
+	"fmt"
 	"image"
 	"image/color"
 	"image/png"
@@ -161,6 +163,7 @@ func buildTiny(t *testing.T) (string, []Figure) {
 func TestBuildDrawsEveryFigure(t *testing.T) {
 	dir, figs := buildTiny(t)
 	want := []string{
+		"answer-recall.png", "answer-fluency.png",
 		"comparison-fluency.png", "comparison-recall.png",
 		"observed-mean-recall.png", "observed-ridge-recall.png", "observed-net-fluency.png",
 		"learning-net.png",
@@ -189,16 +192,21 @@ func TestBuildDrawsEveryFigure(t *testing.T) {
 			continue
 		}
 		b := img.Bounds()
-		if b.Dx() != f.Width || b.Dy() != f.Height || b.Dx() < 300 || b.Dy() < 250 {
-			t.Errorf("%s: %d × %d pixels, Figure says %d × %d (want at least 300 × 250)", f.File, b.Dx(), b.Dy(), f.Width, f.Height)
+		if b.Dx() != f.Width || b.Dy() != f.Height || b.Dy() < 250 {
+			t.Errorf("%s: %d × %d pixels, Figure says %d × %d (want at least 250 high)", f.File, b.Dx(), b.Dy(), f.Width, f.Height)
+		}
+		// A figure is one column (3.5 in) or two (7 in) of a journal page
+		// wide (common practice, no source), at DPI.
+		if b.Dx() != SingleColumn*DPI && b.Dx() != DoubleColumn*DPI {
+			t.Errorf("%s: %d pixels wide, want %v (one column) or %v (two)", f.File, b.Dx(), SingleColumn*DPI, DoubleColumn*DPI)
 		}
 		// Each kind of figure has a fixed size in inches at DPI (figures.go).
-		for prefix, size := range map[string][2]int{
-			"observed-": {6 * DPI, 5 * DPI}, "comparison-": {10 * DPI, 4.5 * DPI}, "learning-": {7 * DPI, 4.5 * DPI},
-			"null-": {6 * DPI, 4 * DPI}, "importance-": {7 * DPI, 6 * DPI},
+		for prefix, size := range map[string][2]float64{
+			"observed-": {SingleColumn, 3.6}, "comparison-": {DoubleColumn, 3.2}, "learning-": {DoubleColumn, 3.6},
+			"null-": {SingleColumn, 3}, "importance-": {DoubleColumn, 6},
 		} {
-			if strings.HasPrefix(f.File, prefix) && (b.Dx() != size[0] || b.Dy() != size[1]) {
-				t.Errorf("%s: %d × %d pixels, want %d × %d", f.File, b.Dx(), b.Dy(), size[0], size[1])
+			if strings.HasPrefix(f.File, prefix) && (b.Dx() != int(size[0]*DPI) || b.Dy() != int(size[1]*DPI)) {
+				t.Errorf("%s: %d × %d pixels, want %v × %v in at %d DPI", f.File, b.Dx(), b.Dy(), size[0], size[1], DPI)
 			}
 		}
 		colours, ink := inkStats(img)
@@ -208,6 +216,38 @@ func TestBuildDrawsEveryFigure(t *testing.T) {
 		if colours < 3 || ink < 0.02 || ink > 0.95 {
 			t.Errorf("%s: %d colours, %.1f%% non-background pixels: blank or flooded", f.File, colours, 100*ink)
 		}
+		checkSVG(t, filepath.Join(dir, experiment.FiguresDir, f.SVGFile()), float64(b.Dx())/DPI, float64(b.Dy())/DPI)
+	}
+}
+
+// checkSVG checks that the SVG at path is well-formed XML of w × h
+// inches (72 pt to the inch) whose text is all in the page's fonts.
+func checkSVG(t *testing.T, path string, w, h float64) {
+	t.Helper()
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		t.Error(err)
+		return
+	}
+	var root struct {
+		XMLName xml.Name
+		Width   string `xml:"width,attr"`
+		Height  string `xml:"height,attr"`
+	}
+	if err := xml.Unmarshal(raw, &root); err != nil || root.XMLName.Local != "svg" {
+		t.Errorf("%s: not an SVG document: %v", path, err)
+		return
+	}
+	if want := fmt.Sprintf("%gpt", w*72); root.Width != want {
+		t.Errorf("%s: width %s, want %s", path, root.Width, want)
+	}
+	if want := fmt.Sprintf("%gpt", h*72); root.Height != want {
+		t.Errorf("%s: height %s, want %s", path, root.Height, want)
+	}
+	family := "font-family:" + strings.ReplaceAll(FontFamily, `"`, "'") + ";"
+	texts, inFamily := strings.Count(string(raw), "<text"), strings.Count(string(raw), family)
+	if texts == 0 || texts != inFamily {
+		t.Errorf("%s: %d texts, %d of them in %s", path, texts, inFamily, FontFamily)
 	}
 }
 

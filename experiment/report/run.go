@@ -11,6 +11,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -39,6 +40,10 @@ type Run struct {
 	// Rows are predictions.csv, Summary metrics.json.
 	Rows    []eval.Prediction
 	Summary *eval.Summary
+	// Comparisons are comparison.csv, each with its Group from Summary,
+	// in report order; nil for a run folder made before skein wrote the
+	// file.
+	Comparisons []eval.Comparison
 	// SummaryMarkdown is summary.md.
 	SummaryMarkdown string
 	// Curves are the rows of learning_curves.csv (nil without the file).
@@ -114,6 +119,18 @@ func ReadRun(dir string) (*Run, error) {
 		if err := json.Unmarshal(raw, r.Cohort); err != nil {
 			return nil, fmt.Errorf("%s: %w", filepath.Join(dir, experiment.CohortFile), err)
 		}
+	}
+	if raw, ok, err := optional(dir, experiment.ComparisonFile); err != nil {
+		return nil, err
+	} else if ok {
+		if r.Comparisons, err = eval.ReadComparisonCSV(bytes.NewReader(raw), filepath.Join(dir, experiment.ComparisonFile)); err != nil {
+			return nil, err
+		}
+		for i := range r.Comparisons {
+			c := &r.Comparisons[i]
+			c.Group = r.Summary.Group(c.Model, c.Target)
+		}
+		slices.SortStableFunc(r.Comparisons, func(a, b eval.Comparison) int { return r.compareUnits(a.Model, a.Target, b.Model, b.Target) })
 	}
 	if raw, ok, err := optional(dir, experiment.SummaryFile); err != nil {
 		return nil, err
