@@ -6,6 +6,7 @@ import (
 	"encoding/json"
 	"encoding/xml"
 	"fmt"
+	"html/template"
 	"image"
 	"image/color"
 	"image/png"
@@ -463,5 +464,51 @@ func TestCurvesWithMembers(t *testing.T) {
 	}
 	if c := figs[0].Caption; !strings.HasPrefix(c, "2 folds") || !strings.Contains(c, "ensemble of 2 networks") {
 		t.Errorf("caption %q", c)
+	}
+}
+
+// TestReportOpensWithTheAnswer: report.html opens, before its summary,
+// with the sentence summary.md opens with, then the answer chart of each
+// score; every figure links its SVG; the page's font is the figures'.
+func TestReportOpensWithTheAnswer(t *testing.T) {
+	dir, figs := buildTiny(t)
+	raw, err := os.ReadFile(filepath.Join(dir, experiment.HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	page := string(raw)
+	md, err := os.ReadFile(filepath.Join(dir, experiment.SummaryFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(string(md), "\n")
+	if len(lines) < 3 || lines[0] != "# skein run summary" {
+		t.Fatalf("summary.md opens with %q", lines[:min(3, len(lines))])
+	}
+	answer := lines[2]
+	// The tiny network's graph_conv branch propagates over the structural
+	// graph: it fuses structure with function; ridge is the reference.
+	if !strings.HasPrefix(answer, "Fusing structure with function ") || !strings.Contains(answer, "for ridge") {
+		t.Errorf("summary.md's answer: %s", answer)
+	}
+	para := `<p class="answer">` + template.HTMLEscapeString(answer) + `</p>`
+	at, summary := strings.Index(page, para), strings.Index(page, `<h2 id="summary">`)
+	if at < 0 || summary < at {
+		t.Errorf("report.html does not open with the answer %q before its summary", para)
+	}
+	if strings.Count(page, template.HTMLEscapeString(answer)) != 1 {
+		t.Error("the answer is repeated in report.html")
+	}
+	firstChart := strings.Index(page, `alt="recall: r within folds and MAE of every model"`)
+	if firstChart < at || firstChart > summary {
+		t.Error("the answer chart of recall is not between the answer and the summary")
+	}
+	for _, f := range figs {
+		if !strings.Contains(page, `<a href="figures/`+f.SVGFile()+`">SVG</a>`) {
+			t.Errorf("report.html does not link %s", f.SVGFile())
+		}
+	}
+	if !strings.Contains(page, "font-family: "+FontFamily+";") {
+		t.Errorf("the page's CSS does not use the figures' fonts %s", FontFamily)
 	}
 }

@@ -1,0 +1,95 @@
+package report
+
+import (
+	"math"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/plot/vg"
+
+	"github.com/skein-neuro/skein/eval"
+)
+
+// TestAnswerPanelsHoldEveryInterval: the axes of the answer chart reach
+// past every interval end, so that no whisker or cap is cut by the frame,
+// and the r axis shows chance (r = 0).
+func TestAnswerPanelsHoldEveryInterval(t *testing.T) {
+	iv := func(est, lo, hi float64) eval.Interval { return eval.Interval{Estimate: est, Lower: lo, Upper: hi} }
+	tests := []struct {
+		name  string
+		comps []eval.Comparison
+	}{
+		{"positive r", []eval.Comparison{
+			{Model: "ridge", Baseline: true, IsReference: true, R: iv(0.3, 0.12, 0.44), MAE: iv(4.5, 4.1, 5.2)},
+			{Model: "net", Reference: "ridge", R: iv(0.41, 0.2, 0.93), MAE: iv(4.2, 3.1, 4.9)},
+		}},
+		{"negative and undefined r", []eval.Comparison{
+			{Model: "mean", Baseline: true, R: iv(math.NaN(), math.NaN(), math.NaN()), MAE: iv(7, 6.5, 9.5)},
+			{Model: "net", R: iv(-0.2, -0.55, 0.1), MAE: iv(6.8, 6.1, 7.3)},
+		}},
+	}
+	for _, tt := range tests {
+		row, k, _, err := answerPanels("recall", tt.comps, []string{"net"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(row) != 2 || len(k) == 0 {
+			t.Fatalf("%s: %d panels, %d key entries", tt.name, len(row), len(k))
+		}
+		for i, p := range row {
+			lo, hi := math.Inf(1), math.Inf(-1)
+			if i == 0 {
+				lo, hi = 0, 0 // chance
+			}
+			for _, c := range tt.comps {
+				v := c.R
+				if i == 1 {
+					v = c.MAE
+				}
+				if !math.IsNaN(v.Estimate) {
+					lo, hi = math.Min(lo, v.Lower), math.Max(hi, v.Upper)
+				}
+			}
+			if !(p.X.Min < lo && p.X.Max > hi) {
+				t.Errorf("%s, panel %d: axis [%g, %g] does not hold the intervals [%g, %g] with a margin", tt.name, i, p.X.Min, p.X.Max, lo, hi)
+			}
+			if p.Y.Min >= 0 || p.Y.Max <= float64(len(tt.comps)-1) {
+				t.Errorf("%s, panel %d: rows 0..%d outside [%g, %g]", tt.name, i, len(tt.comps)-1, p.Y.Min, p.Y.Max)
+			}
+		}
+	}
+}
+
+// TestKeyLayout: a key takes as many columns as fit the width, never
+// wider than it, and enough rows for every entry.
+func TestKeyLayout(t *testing.T) {
+	entries := func(n int, label string) key {
+		var k key
+		for i := range n {
+			k = append(k, keyEntry{label: label + strings.Repeat("x", i%3)})
+		}
+		return k
+	}
+	tests := []struct {
+		name  string
+		k     key
+		width vg.Length
+	}{
+		{"empty", nil, SingleColumn * vg.Inch},
+		{"three in one column", entries(3, "least squares: 50.3 + 0.006·observed"), SingleColumn * vg.Inch},
+		{"short labels, wide", entries(13, "r1 f1"), DoubleColumn * vg.Inch},
+		{"label wider than the figure", entries(2, strings.Repeat("long label ", 40)), SingleColumn * vg.Inch},
+	}
+	for _, tt := range tests {
+		cols, rows, colWidth, height := tt.k.layout(tt.width)
+		if len(tt.k) == 0 {
+			if cols != 0 || rows != 0 || height != 0 {
+				t.Errorf("%s: %d × %d, height %v, want nothing", tt.name, cols, rows, height)
+			}
+			continue
+		}
+		if cols < 1 || cols*rows < len(tt.k) || (cols > 1 && vg.Length(cols)*colWidth > tt.width) || height <= 0 {
+			t.Errorf("%s: %d columns of %v × %d rows (height %v) for %d entries in %v", tt.name, cols, colWidth, rows, height, len(tt.k), tt.width)
+		}
+	}
+}
