@@ -512,3 +512,58 @@ func TestReportOpensWithTheAnswer(t *testing.T) {
 		t.Errorf("the page's CSS does not use the figures' fonts %s", FontFamily)
 	}
 }
+
+// TestOneOrderEverywhere: the tiny experiment lists mean, ridge, net and
+// the scores recall, fluency; every table and every kind of figure of the
+// report, and importance.csv, list them in that order (fluency would come
+// first by name, as would mean and net before ridge).
+func TestOneOrderEverywhere(t *testing.T) {
+	dir, figs := buildTiny(t)
+	raw, err := os.ReadFile(filepath.Join(dir, experiment.HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	page := string(raw)
+	inOrder := func(what, text string, words ...string) {
+		t.Helper()
+		rest := text
+		for _, w := range words {
+			_, after, ok := strings.Cut(rest, w)
+			if !ok {
+				t.Errorf("%s: %q missing or out of order (want %v)", what, w, words)
+				return
+			}
+			rest = after
+		}
+	}
+	md, err := os.ReadFile(filepath.Join(dir, experiment.SummaryFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	metrics, comparison, _ := strings.Cut(string(md), "## Comparison")
+	inOrder("summary.md metrics", metrics, "### recall", "| mean |", "| ridge |", "| net |", "### fluency", "| mean |", "| ridge |", "| net |")
+	inOrder("summary.md comparison", comparison, "### recall", "| mean (baseline) |", "| ridge (baseline) |", "| net |", "### fluency")
+	inOrder("report models table", page, `<table id="models">`, "<td>mean</td>", "<td>ridge</td>", "<td>net</td>")
+	inOrder("report answer charts", page, "answer-recall.svg", "answer-fluency.svg", `<h2 id="summary">`)
+	for _, prefix := range []string{"observed-", "importance-", "null-"} {
+		var got []string
+		for _, f := range figs {
+			if strings.HasPrefix(f.File, prefix) {
+				got = append(got, f.File)
+			}
+		}
+		want := map[string][]string{
+			"observed-":   {"observed-mean-recall.png", "observed-mean-fluency.png", "observed-ridge-recall.png", "observed-ridge-fluency.png", "observed-net-recall.png", "observed-net-fluency.png"},
+			"importance-": {"importance-ridge-recall.png", "importance-ridge-fluency.png", "importance-net-recall.png", "importance-net-fluency.png"},
+			"null-":       {"null-ridge-recall.png", "null-ridge-fluency.png"},
+		}[prefix]
+		if strings.Join(got, " ") != strings.Join(want, " ") {
+			t.Errorf("%s figures in order %v, want %v", prefix, got, want)
+		}
+	}
+	csvRaw, err := os.ReadFile(filepath.Join(dir, experiment.ImportanceFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	inOrder("importance.csv", string(csvRaw), "\nridge,recall,", "\nridge,fluency,", "\nnet,recall,", "\nnet,fluency,")
+}

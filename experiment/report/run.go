@@ -165,7 +165,19 @@ func ReadRun(dir string) (*Run, error) {
 	if err := r.readRegions(); err != nil {
 		return nil, err
 	}
+	r.sortParts()
 	return r, nil
+}
+
+// sortParts puts the per-model parts read from the run's files in report
+// order (see modelRank), keeping repeats and folds in order within a
+// model, so that every figure, table and importance.csv list models alike.
+func (r *Run) sortParts() {
+	slices.SortStableFunc(r.Nulls, func(a, b eval.NullDistribution) int {
+		return r.compareUnits(a.Model, a.Target, b.Model, b.Target)
+	})
+	slices.SortStableFunc(r.Importance, func(a, b UnitImportance) int { return r.compareUnits(a.Model, "", b.Model, "") })
+	slices.SortStableFunc(r.Networks, func(a, b SavedFilters) int { return r.compareUnits(a.Model, "", b.Model, "") })
 }
 
 // optional reads dir/name, reporting ok = false when it does not exist.
