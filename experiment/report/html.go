@@ -196,7 +196,8 @@ Rebuild it with <code>skein report</code> once the cause is fixed.</div>
 {{end}}
 <h2 id="answer">The answer</h2>
 <p class="answer">{{.Answer}}</p>
-{{range .Answers}}{{template "figure" .}}{{end}}
+<div id="answer-charts">
+{{range .Answers}}{{template "figure" .}}{{end}}</div>
 <h2 id="summary">Summary</h2>
 <ul>
 {{range .Overview}}<li>{{.}}</li>

@@ -356,20 +356,7 @@ document.getElementById("r").addEventListener("load", function () {
 	if err := os.WriteFile(wrapper, []byte(check), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	profile := t.TempDir()
-	flags := []string{"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
-		"--disable-background-networking", "--disable-component-update", "--disable-sync",
-		"--allow-file-access-from-files", "--user-data-dir=" + profile}
-	run := func(args ...string) []byte {
-		cmd := exec.Command(chromium, append(flags, args...)...)
-		var stderr bytes.Buffer
-		cmd.Stderr = &stderr
-		out, err := cmd.Output()
-		if err != nil {
-			t.Fatalf("chromium %v: %v\n%s", args, err, stderr.String())
-		}
-		return out
-	}
+	run := func(args ...string) []byte { return runChromium(t, args...) }
 	dom := string(run("--run-all-compositor-stages-before-draw", "--virtual-time-budget=5000", "--dump-dom", "file://"+wrapper))
 	m := regexp.MustCompile(`images=(\d+) loaded=(\d+) tables=(\d+)`).FindStringSubmatch(dom)
 	if m == nil {
@@ -397,6 +384,104 @@ document.getElementById("r").addEventListener("load", function () {
 	if keep := os.Getenv("SKEIN_REPORT_SCREENSHOT"); keep != "" {
 		os.WriteFile(keep, raw, 0o644)
 	}
+}
+
+// TestReportFitsNarrowAndWideScreens opens report.html in headless
+// Chromium at two widths, a desktop window (1280 px) and a phone held
+// upright (420 px): a test-only wrapper page loads the report in an
+// iframe of that width and writes into its DOM the page's scroll width,
+// its client width and the right edge of the answer charts, which must
+// not overflow the page. It also takes a screenshot of the report at
+// each width (kept as report-WIDTH.png in the run folder) and checks that
+// it shows the page.
+func TestReportFitsNarrowAndWideScreens(t *testing.T) {
+	if testing.Short() {
+		t.Skip("-short: the browser test starts headless Chromium")
+	}
+	if _, err := os.Stat(chromium); err != nil {
+		t.Skipf("%s not found: the browser test needs Debian's chromium package (apt-get install chromium)", chromium)
+	}
+	dir, _ := buildTiny(t)
+	report, err := filepath.Abs(filepath.Join(dir, experiment.HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, width := range []int{1280, 420} {
+		wrapper := filepath.Join(dir, fmt.Sprintf("width-check-%d.html", width))
+		check := fmt.Sprintf(`<!DOCTYPE html><html><body style="margin:0">
+<iframe id="r" src="%s" width="%d" height="900" style="border:0"></iframe>
+<pre id="out">pending</pre>
+<script>
+document.getElementById("r").addEventListener("load", function () {
+  var doc = this.contentDocument, root = doc.documentElement, right = 0;
+  var charts = doc.querySelectorAll("#answer-charts img");
+  for (var i = 0; i < charts.length; i++) { right = Math.max(right, charts[i].getBoundingClientRect().right); }
+  document.getElementById("out").textContent = "scroll=" + root.scrollWidth + " client=" + root.clientWidth +
+    " charts=" + charts.length + " right=" + Math.ceil(right);
+});
+</script></body></html>`, experiment.HTMLFile, width)
+		if err := os.WriteFile(wrapper, []byte(check), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		dom := string(runChromium(t, "--run-all-compositor-stages-before-draw", "--virtual-time-budget=5000", "--dump-dom", "file://"+wrapper))
+		m := regexp.MustCompile(`scroll=(\d+) client=(\d+) charts=(\d+) right=(\d+)`).FindStringSubmatch(dom)
+		if m == nil {
+			t.Fatalf("%d px: the check page did not report; its DOM:\n%s", width, dom)
+		}
+		scroll, _ := strconv.Atoi(m[1])
+		client, _ := strconv.Atoi(m[2])
+		charts, _ := strconv.Atoi(m[3])
+		right, _ := strconv.Atoi(m[4])
+		t.Logf("%d px: page scroll width %d, client width %d, %d answer charts reaching %d px", width, scroll, client, charts, right)
+		if charts != 2 {
+			t.Errorf("%d px: %d answer charts, want one per score (2)", width, charts)
+		}
+		if client > width || client < width-20 {
+			t.Errorf("%d px: the report's client width is %d", width, client)
+		}
+		if scroll > client {
+			t.Errorf("%d px: the page overflows sideways: scroll width %d > client width %d", width, scroll, client)
+		}
+		if right > client {
+			t.Errorf("%d px: the answer charts reach %d px, past the page's %d", width, right, client)
+		}
+
+		shot := filepath.Join(dir, fmt.Sprintf("report-%d.png", width))
+		runChromium(t, fmt.Sprintf("--window-size=%d,1600", width), "--hide-scrollbars", "--screenshot="+shot, "file://"+report)
+		raw, err := os.ReadFile(shot)
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(bytes.NewReader(raw))
+		if err != nil {
+			t.Fatalf("%d px screenshot: %v", width, err)
+		}
+		if b := img.Bounds(); b.Dx() != width {
+			t.Errorf("%d px screenshot is %d px wide", width, b.Dx())
+		}
+		if colours, ink := inkStats(img); colours < 10 || ink < 0.05 {
+			t.Errorf("%d px screenshot: %d colours, %.1f%% ink: the page looks blank", width, colours, 100*ink)
+		}
+		if keep := os.Getenv("SKEIN_REPORT_SCREENSHOTS"); keep != "" {
+			os.WriteFile(filepath.Join(keep, filepath.Base(shot)), raw, 0o644)
+		}
+	}
+}
+
+// runChromium runs headless Chromium with args and returns its output.
+func runChromium(t *testing.T, args ...string) []byte {
+	t.Helper()
+	flags := []string{"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+		"--disable-background-networking", "--disable-component-update", "--disable-sync",
+		"--allow-file-access-from-files", "--user-data-dir=" + t.TempDir()}
+	cmd := exec.Command(chromium, append(flags, args...)...)
+	var stderr bytes.Buffer
+	cmd.Stderr = &stderr
+	out, err := cmd.Output()
+	if err != nil {
+		t.Fatalf("chromium %v: %v\n%s", args, err, stderr.String())
+	}
+	return out
 }
 
 // TestBuildReportsBrokenPartsAndDrawsTheRest breaks the importance of one
