@@ -82,6 +82,17 @@ type Settings interface {
 	Validate() error
 }
 
+// Inapplicable is implemented by Settings some of whose keys can be set
+// (or filled by SetDefaults) without doing anything for the others: a
+// schedule's period under another schedule, a layer's size on a layer
+// that has channels. InapplicableKeys returns them as paths from the
+// kind's table, dotted, with 1-based indices in brackets for arrays of
+// tables, such as "optimizer.momentum" or "branch[2].layers[1].size". A
+// report leaves them out of the experiment it shows.
+type Inapplicable interface {
+	InapplicableKeys() []string
+}
+
 // ErrUnknownKind is wrapped by the error of Lookup for a name that no kind
 // is registered under.
 var ErrUnknownKind = errors.New("unknown model kind")

@@ -82,6 +82,9 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 		Versions:   r.Versions,
 		Experiment: r.ExperimentText,
 	}
+	if shown, err := exp.MarshalApplicable(); err == nil {
+		pg.Experiment = string(shown)
+	}
 	for _, p := range problems {
 		pg.Problems = append(pg.Problems, p.Error())
 	}

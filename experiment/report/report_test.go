@@ -652,3 +652,30 @@ func TestOneOrderEverywhere(t *testing.T) {
 	}
 	inOrder("importance.csv", string(csvRaw), "\nridge,recall,", "\nridge,fluency,", "\nnet,recall,", "\nnet,fluency,")
 }
+
+// TestReportShowsTheApplicableExperiment: the experiment in the report
+// leaves out what does not apply to the tiny run (ridge has no network
+// keys anyway; the network's Adam run leaves out SGD's momentum; no
+// sample-size curve, no drift rule) and keeps what does.
+func TestReportShowsTheApplicableExperiment(t *testing.T) {
+	dir, _ := buildTiny(t)
+	raw, err := os.ReadFile(filepath.Join(dir, experiment.HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, shown, _ := strings.Cut(string(raw), `<h2 id="reproduce">`)
+	for _, want := range []string{"[model.ridge]", "beta1 = 0.9", "count = 19", "inner_validation = 0.2"} {
+		if !strings.Contains(shown, want) {
+			t.Errorf("the experiment shown lacks %q", want)
+		}
+	}
+	for _, gone := range []string{"momentum", "[sample_size]", "[drift]", "step_epochs", "views = []", "size = 0"} {
+		if strings.Contains(shown, gone) {
+			t.Errorf("the experiment shown has %q, which does not apply", gone)
+		}
+	}
+	full, err := os.ReadFile(filepath.Join(dir, experiment.ExperimentFile))
+	if err != nil || !strings.Contains(string(full), "momentum") {
+		t.Errorf("experiment.toml itself must keep every key (%v)", err)
+	}
+}

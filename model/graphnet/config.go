@@ -604,6 +604,62 @@ func (c Config) EdgeScaling() (functional, structural bool) {
 	return functional, structural
 }
 
+// InapplicableKeys returns the keys of c that do nothing for c's other
+// settings (model.Inapplicable): Adam's under "sgd" and SGD's momentum
+// under "adamw", the keys of the schedules not chosen, the Huber
+// threshold without a Huber term, head_dropout without a hidden head
+// layer, a branch's operator and propagate where it needs none, and each
+// layer's keys that its kind does not take.
+func (c Config) InapplicableKeys() []string {
+	var out []string
+	if len(c.Head) == 0 {
+		out = append(out, "head_dropout")
+	}
+	if c.Loss.Huber == nil || *c.Loss.Huber == 0 {
+		out = append(out, "loss.delta")
+	}
+	switch c.Optimizer.Kind {
+	case SGD:
+		out = append(out, "optimizer.beta1", "optimizer.beta2", "optimizer.epsilon")
+	default:
+		out = append(out, "optimizer.momentum")
+	}
+	if c.Optimizer.Schedule != ScheduleStep {
+		out = append(out, "optimizer.step_epochs", "optimizer.factor")
+	}
+	if c.Optimizer.Schedule != ScheduleCosine {
+		out = append(out, "optimizer.min_rate")
+	}
+	for i, b := range c.Branches {
+		branch := fmt.Sprintf("branch[%d].", i+1)
+		if !b.needsOperator() {
+			out = append(out, branch+"operator")
+		}
+		if !b.reads(InputPropagated) {
+			out = append(out, branch+"propagate")
+		}
+		for j, l := range b.Layers {
+			layer := fmt.Sprintf("%slayers[%d].", branch, j+1)
+			switch l.Kind {
+			case LayerE2E, LayerE2N:
+				out = append(out, layer+"size", layer+"rate")
+			case LayerEdge:
+				if l.Size > 0 {
+					out = append(out, layer+"channels")
+				} else {
+					out = append(out, layer+"size")
+				}
+				out = append(out, layer+"rate")
+			case LayerGraphConv, LayerN2G:
+				out = append(out, layer+"channels", layer+"rate")
+			case LayerDropout:
+				out = append(out, layer+"channels", layer+"size", layer+"activation")
+			}
+		}
+	}
+	return out
+}
+
 // Inputs reports which connectomes the network learns from: functional
 // when a branch reads the functional matrix or its propagation, structural
 // when a branch reads the structural matrix or needs a graph operator

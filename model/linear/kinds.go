@@ -113,6 +113,21 @@ func (*MeanConfig) SetDefaults() {}
 // Validate returns nil: the mean predictor has no settings.
 func (MeanConfig) Validate() error { return nil }
 
+// InapplicableKeys returns inner_folds when the alpha grid holds one value,
+// as no inner cross-validation is run then (model.Inapplicable).
+func (c RidgeConfig) InapplicableKeys() []string { return innerFoldsUnused(c.Alphas) }
+
+// InapplicableKeys returns inner_folds when the alpha grid holds one value
+// (model.Inapplicable).
+func (c KernelRidgeConfig) InapplicableKeys() []string { return innerFoldsUnused(c.Alphas) }
+
+func innerFoldsUnused(alphas []float64) []string {
+	if len(alphas) == 1 {
+		return []string{"inner_folds"}
+	}
+	return nil
+}
+
 // SetDefaults fills every unset field with its documented default.
 func (c *RidgeConfig) SetDefaults() { (&Config{Ridge: c}).SetDefaults() }
 
