@@ -13,6 +13,7 @@ import (
 
 	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/experiment"
+	"github.com/skein-neuro/skein/internal/figure"
 )
 
 // The marks of the answer chart: baselines, models that fuse structure
@@ -82,7 +83,7 @@ func (r *Run) AnswerFigures() ([]Figure, error) {
 		}
 		title := t + ": r within folds and MAE of every model"
 		height := 1.2 + 0.24*float64(len(comps))
-		f, err := figure(fileName("answer", t), SectionAnswer, title, caption, DoubleColumn, height, row, k)
+		f, err := drawFigure(fileName("answer", t), SectionAnswer, title, caption, figure.DoubleColumn, height, row, k)
 		if err != nil {
 			return nil, err
 		}
@@ -95,7 +96,7 @@ func (r *Run) AnswerFigures() ([]Figure, error) {
 // its comparisons, in report order, and returns them with their key and
 // the reference baseline ("" when there is none). fusion names the
 // models that learn from both connectomes.
-func answerPanels(t string, comps []eval.Comparison, fusion []string) (row []*plot.Plot, k key, ref string, err error) {
+func answerPanels(t string, comps []eval.Comparison, fusion []string) (row []*plot.Plot, k figure.Key, ref string, err error) {
 	for _, c := range comps {
 		if c.IsReference {
 			ref = c.Model
@@ -118,7 +119,7 @@ func answerPanels(t string, comps []eval.Comparison, fusion []string) (row []*pl
 		{eval.MetricPearsonWithin, "r within folds", func(c eval.Comparison) eval.Interval { return c.R }},
 		{eval.MetricMAE, "MAE", func(c eval.Comparison) eval.Interval { return c.MAE }},
 	} {
-		p := newPlot("", fmt.Sprintf("%s (%s)", m.label, t), "")
+		p := figure.NewPlot("", fmt.Sprintf("%s (%s)", m.label, t), "")
 		if len(row) == 0 {
 			p.NominalY(names...)
 		} else {
@@ -159,7 +160,7 @@ func answerPanels(t string, comps []eval.Comparison, fusion []string) (row []*pl
 				l.Dashes = []vg.Length{vg.Points(1), vg.Points(2)}
 				l.Width = vg.Points(0.8)
 				p.Add(l)
-				k.add(fmt.Sprintf("reference baseline (%s)", ref), l)
+				k.Add(fmt.Sprintf("reference baseline (%s)", ref), l)
 			}
 		}
 		if m.metric == eval.MetricPearsonWithin {
@@ -170,7 +171,7 @@ func answerPanels(t string, comps []eval.Comparison, fusion []string) (row []*pl
 			chance.Width = vg.Points(0.8)
 			p.Add(chance)
 			lo, hi = math.Min(lo, 0), math.Max(hi, 0)
-			k.add("chance (r = 0)", chance)
+			k.Add("chance (r = 0)", chance)
 		}
 		for _, class := range []struct {
 			name, label string
@@ -204,14 +205,14 @@ func answerPanels(t string, comps []eval.Comparison, fusion []string) (row []*pl
 			if err != nil {
 				return nil, nil, "", err
 			}
-			k.add(class.label, whisker, sc)
+			k.Add(class.label, whisker, sc)
 		}
 		// Pad the range so that no interval or cap touches the frame.
 		p.X.Min, p.X.Max = math.Inf(1), math.Inf(-1)
 		if math.IsInf(lo, 0) {
 			lo, hi = 0, 1
 		}
-		padRange(&p.X, lo, hi, 0.06)
+		figure.PadRange(&p.X, lo, hi, 0.06)
 		p.Y.Min, p.Y.Max = -0.6, float64(len(comps))-0.4
 		row = append(row, p)
 	}

@@ -2,10 +2,7 @@ package report
 
 import (
 	"math"
-	"strings"
 	"testing"
-
-	"gonum.org/v1/plot/vg"
 
 	"github.com/skein-neuro/skein/eval"
 )
@@ -56,40 +53,6 @@ func TestAnswerPanelsHoldEveryInterval(t *testing.T) {
 			if p.Y.Min >= 0 || p.Y.Max <= float64(len(tt.comps)-1) {
 				t.Errorf("%s, panel %d: rows 0..%d outside [%g, %g]", tt.name, i, len(tt.comps)-1, p.Y.Min, p.Y.Max)
 			}
-		}
-	}
-}
-
-// TestKeyLayout: a key takes as many columns as fit the width, never
-// wider than it, and enough rows for every entry.
-func TestKeyLayout(t *testing.T) {
-	entries := func(n int, label string) key {
-		var k key
-		for i := range n {
-			k = append(k, keyEntry{label: label + strings.Repeat("x", i%3)})
-		}
-		return k
-	}
-	tests := []struct {
-		name  string
-		k     key
-		width vg.Length
-	}{
-		{"empty", nil, SingleColumn * vg.Inch},
-		{"three in one column", entries(3, "least squares: 50.3 + 0.006·observed"), SingleColumn * vg.Inch},
-		{"short labels, wide", entries(13, "r1 f1"), DoubleColumn * vg.Inch},
-		{"label wider than the figure", entries(2, strings.Repeat("long label ", 40)), SingleColumn * vg.Inch},
-	}
-	for _, tt := range tests {
-		cols, rows, colWidth, height := tt.k.layout(tt.width)
-		if len(tt.k) == 0 {
-			if cols != 0 || rows != 0 || height != 0 {
-				t.Errorf("%s: %d × %d, height %v, want nothing", tt.name, cols, rows, height)
-			}
-			continue
-		}
-		if cols < 1 || cols*rows < len(tt.k) || (cols > 1 && vg.Length(cols)*colWidth > tt.width) || height <= 0 {
-			t.Errorf("%s: %d columns of %v × %d rows (height %v) for %d entries in %v", tt.name, cols, colWidth, rows, height, len(tt.k), tt.width)
 		}
 	}
 }

@@ -17,6 +17,7 @@ import (
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/internal/figure"
 )
 
 // A Figure is one figure of a report, drawn as PNG (embedded in the
@@ -124,7 +125,7 @@ func (r *Run) ObservedFigures() ([]Figure, error) {
 		}
 		rv, mae := eval.Pearson(obs, pred), eval.MAE(obs, pred)
 		title := fmt.Sprintf("%s — %s: r = %s, MAE = %s", mt.model, mt.target, num(rv), num(mae))
-		p := newPlot(title, "observed "+mt.target, "predicted "+mt.target)
+		p := figure.NewPlot(title, "observed "+mt.target, "predicted "+mt.target)
 		sc, err := plotter.NewScatter(xys)
 		if err != nil {
 			return nil, err
@@ -138,9 +139,9 @@ func (r *Run) ObservedFigures() ([]Figure, error) {
 			return nil, err
 		}
 		p.Add(sc, identity)
-		var k key
-		k.add("participant (pooled test folds)", sc)
-		k.add("identity", identity)
+		var k figure.Key
+		k.Add("participant (pooled test folds)", sc)
+		k.Add("identity", identity)
 		alpha, beta := stat.LinearRegression(obs, pred, nil, false)
 		if !math.IsNaN(alpha) && !math.IsNaN(beta) {
 			x0, x1 := floats(obs).min(), floats(obs).max()
@@ -149,7 +150,7 @@ func (r *Run) ObservedFigures() ([]Figure, error) {
 				return nil, err
 			}
 			p.Add(fit)
-			k.add(fmt.Sprintf("least squares: %s + %s·observed", num(alpha), num(beta)), fit)
+			k.Add(fmt.Sprintf("least squares: %s + %s·observed", num(alpha), num(beta)), fit)
 		}
 		caption := fmt.Sprintf("%d test predictions of %s for %s, pooled over folds and repeats. "+
 			"Points on the dashed identity line are predicted exactly.", len(xys), mt.model, mt.target)
@@ -157,7 +158,7 @@ func (r *Run) ObservedFigures() ([]Figure, error) {
 			caption += fmt.Sprintf(" Scores are as in predictions.csv: residuals after regressing out %s, fitted on each training fold.",
 				strings.Join(c, ", "))
 		}
-		f, err := figure(fileName("observed", mt.model, mt.target), SectionPredictions, title, caption, SingleColumn, 3.6, []*plot.Plot{p}, k)
+		f, err := drawFigure(fileName("observed", mt.model, mt.target), SectionPredictions, title, caption, figure.SingleColumn, 3.6, []*plot.Plot{p}, k)
 		if err != nil {
 			return nil, err
 		}
@@ -183,9 +184,9 @@ func (r *Run) ComparisonFigures() ([]Figure, error) {
 			continue
 		}
 		var row []*plot.Plot
-		var k key
+		var k figure.Key
 		for _, m := range []eval.Metric{eval.MetricPearson, eval.MetricMAE} {
-			p := newPlot(m.Label()+" per fold", "", m.Label())
+			p := figure.NewPlot(m.Label()+" per fold", "", m.Label())
 			var names []string
 			lo, hi := math.Inf(1), math.Inf(-1)
 			for i, g := range groups {
@@ -220,21 +221,21 @@ func (r *Run) ComparisonFigures() ([]Figure, error) {
 				sc.GlyphStyle.Shape = draw.CircleGlyph{}
 				p.Add(box, sc)
 				if len(k) == 0 {
-					k.add("test fold (repeat × fold)", sc)
+					k.Add("test fold (repeat × fold)", sc)
 				}
 			}
 			p.NominalX(names...)
 			p.X.Tick.Label.Rotation = math.Pi / 6
 			p.X.Tick.Label.XAlign = draw.XRight
 			p.X.Tick.Label.YAlign = draw.YCenter
-			padRange(&p.Y, lo, hi, 0.05)
+			figure.PadRange(&p.Y, lo, hi, 0.05)
 			row = append(row, p)
 		}
 		title := "Per-fold Pearson r and MAE on " + t
 		caption := fmt.Sprintf("One point per test fold of every repeat (%d per model); boxes span the quartiles, "+
 			"whiskers 1.5 interquartile ranges. Higher r and lower MAE are better. Folds share participants "+
 			"across repeats, so the points are not independent.", len(groups[0].Folds))
-		f, err := figure(fileName("comparison", t), SectionComparison, title, caption, DoubleColumn, 3.2, row, k)
+		f, err := drawFigure(fileName("comparison", t), SectionComparison, title, caption, figure.DoubleColumn, 3.2, row, k)
 		if err != nil {
 			return nil, err
 		}
@@ -285,7 +286,7 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 	var figs []Figure
 	for _, m := range models {
 		title := m + ": loss per epoch"
-		p := newPlot(title, "epoch", "loss (standardized scores)")
+		p := figure.NewPlot(title, "epoch", "loss (standardized scores)")
 		var best plotter.XYs
 		hasValid := false
 		yMax := math.Inf(-1)
@@ -305,7 +306,7 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 			}
 			members = max(members, u.member)
 		}
-		var k key
+		var k figure.Key
 		keyed := make([]bool, len(foldNames))
 		for _, u := range order[m] {
 			i := folds[unit{u.repeat, u.fold, 0}] % len(foldColors)
@@ -336,7 +337,7 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 			p.Add(l)
 			if !keyed[i] {
 				keyed[i] = true
-				k.add(strings.Join(foldNames[i], ", "), l)
+				k.Add(strings.Join(foldNames[i], ", "), l)
 			}
 			if len(va) > 0 {
 				hasValid = true
@@ -353,10 +354,10 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 			}
 		}
 		trainKey, _ := line(0, 0, 1, 1, colorGuide, false)
-		k.add("training loss", trainKey)
+		k.Add("training loss", trainKey)
 		if hasValid {
 			validKey, _ := line(0, 0, 1, 1, colorGuide, true)
-			k.add("inner-validation loss", validKey)
+			k.Add("inner-validation loss", validKey)
 		}
 		if len(best) > 0 {
 			sc, err := plotter.NewScatter(best)
@@ -367,11 +368,11 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 			sc.GlyphStyle.Radius = vg.Points(2.5)
 			sc.GlyphStyle.Color = color.Black
 			p.Add(sc)
-			k.add("kept epoch (early stopping)", sc)
+			k.Add("kept epoch (early stopping)", sc)
 		}
 		if !math.IsInf(yMax, 0) {
 			p.Y.Min = 0
-			padRange(&p.Y, 0, yMax, 0.04)
+			figure.PadRange(&p.Y, 0, yMax, 0.04)
 			p.Y.Min = 0
 		}
 		caption := fmt.Sprintf("%d folds (all repeats), one colour per fold, named in the key (rR fF: repeat R, fold F). "+
@@ -381,7 +382,7 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 			caption += fmt.Sprintf(" Each fold trained an ensemble of %d networks, one line per network, each "+
 				"stopped early on its own part of the training fold.", members)
 		}
-		f, err := figure(fileName("learning", m), SectionLearning, title, caption, DoubleColumn, 3.6, []*plot.Plot{p}, k)
+		f, err := drawFigure(fileName("learning", m), SectionLearning, title, caption, figure.DoubleColumn, 3.6, []*plot.Plot{p}, k)
 		if err != nil {
 			return nil, err
 		}
@@ -409,7 +410,7 @@ func (r *Run) NullFigures() ([]Figure, error) {
 		obs := n.Observed.Get(eval.MetricPearsonWithin)
 		pv := n.P.Get(eval.MetricPearsonWithin)
 		title := fmt.Sprintf("%s — %s: observed r = %s, p = %s", n.Model, n.Target, num(obs), pValue(pv))
-		p := newPlot(title, "r within folds", "permutations")
+		p := figure.NewPlot(title, "r within folds", "permutations")
 		bins := max(5, min(30, len(vals)/5))
 		h, err := plotter.NewHist(vals, bins)
 		if err != nil {
@@ -421,7 +422,7 @@ func (r *Run) NullFigures() ([]Figure, error) {
 		for _, b := range h.Bins {
 			top = math.Max(top, b.Weight)
 		}
-		var k key
+		var k figure.Key
 		if !math.IsNaN(obs) {
 			l, err := line(obs, 0, obs, top*1.05, colorFit, false)
 			if err != nil {
@@ -429,14 +430,14 @@ func (r *Run) NullFigures() ([]Figure, error) {
 			}
 			l.Width = vg.Points(1.5)
 			p.Add(l)
-			k.add("observed", l)
+			k.Add("observed", l)
 		}
-		k.add(fmt.Sprintf("null (%d permutations)", len(n.Null)), h)
+		k.Add(fmt.Sprintf("null (%d permutations)", len(n.Null)), h)
 		p.Y.Min, p.Y.Max = 0, top*1.08
-		padRange(&p.X, obs, obs, 0.04)
+		figure.PadRange(&p.X, obs, obs, 0.04)
 		caption := fmt.Sprintf("The whole cross-validation of %s repeated with the scores permuted %d times. "+
 			"p = (1 + #{null r ≥ observed r}) / (1 + permutations).", n.Model, len(n.Null))
-		f, err := figure(fileName("null", n.Model, n.Target), SectionNulls, title, caption, SingleColumn, 3, []*plot.Plot{p}, k)
+		f, err := drawFigure(fileName("null", n.Model, n.Target), SectionNulls, title, caption, figure.SingleColumn, 3, []*plot.Plot{p}, k)
 		if err != nil {
 			return nil, err
 		}
@@ -479,7 +480,7 @@ func (t labelTicks) Ticks(lo, hi float64) []plot.Tick {
 
 // heatMap draws z (rows × cols, row-major) with a diverging palette
 // centred on zero, row 0 on top, and a colour bar on the right.
-func heatMap(title, xLabel, yLabel string, xNames, yNames []string, rows, cols int, z []float64, w, h float64) (rendered, error) {
+func heatMap(title, xLabel, yLabel string, xNames, yNames []string, rows, cols int, z []float64, w, h float64) (figure.Image, error) {
 	extent := 0.0
 	for _, v := range z {
 		if !math.IsNaN(v) {
@@ -499,7 +500,7 @@ func heatMap(title, xLabel, yLabel string, xNames, yNames []string, rows, cols i
 	p.Title.Text = title
 	p.X.Label.Text = xLabel
 	p.Y.Label.Text = yLabel
-	paperFonts(p)
+	figure.Style(p)
 	p.Add(hm)
 	p.X.Tick.Marker = labelTicks{xNames, 24}
 	p.Y.Tick.Marker = labelTicks{yNames, 32}
@@ -509,12 +510,12 @@ func heatMap(title, xLabel, yLabel string, xNames, yNames []string, rows, cols i
 	p.Y.Scale = plot.InvertedScale{Normalizer: plot.LinearScale{}}
 
 	bar := plot.New()
-	paperFonts(bar)
+	figure.Style(bar)
 	bar.HideX()
 	bar.Y.Padding = 0
 	bar.Title.Text = " "
 	bar.Add(&plotter.ColorBar{ColorMap: cm, Vertical: true})
-	return render(w, h, func(dc draw.Canvas) {
+	return figure.Render(w, h, func(dc draw.Canvas) {
 		barWidth := vg.Inch * 0.9
 		p.Draw(draw.Crop(dc, 0, -barWidth, 0, 0))
 		bar.Draw(draw.Crop(dc, dc.Max.X-dc.Min.X-barWidth, 0, vg.Inch*0.55, 0))
@@ -552,7 +553,7 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 		return Figure{}, false, nil
 	}
 	var row []*plot.Plot
-	var k key
+	var k figure.Key
 	for i, name := range names {
 		st := stats[i]
 		if len(values[i]) > 1 {
@@ -563,7 +564,7 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 			row = append(row, p)
 			continue
 		}
-		p := newPlot(name, name, "")
+		p := figure.NewPlot(name, name, "")
 		p.HideY()
 		rangeLine, err := line(st[3], 0, st[4], 0, colorGuide, false)
 		if err != nil {
@@ -581,8 +582,8 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 			return Figure{}, false, err
 		}
 		p.Add(rangeLine, box, mean)
-		k.add("range", rangeLine)
-		k.add("mean ± SD", box)
+		k.Add("range", rangeLine)
+		k.Add("mean ± SD", box)
 		var flagged []data.Outlier
 		for _, o := range c.Outliers {
 			if o.Measure == name {
@@ -610,11 +611,11 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 				return Figure{}, false, err
 			}
 			for j := range lb.TextStyle {
-				lb.TextStyle[j].Font = sansAt(smallFontSize)
+				lb.TextStyle[j].Font = figure.Font(figure.SmallFontSize)
 				lb.TextStyle[j].Rotation = math.Pi / 4
 			}
 			p.Add(sc, lb)
-			k.add(fmt.Sprintf("flagged outlier (> %g robust SD)", c.OutlierSD), sc)
+			k.Add(fmt.Sprintf("flagged outlier (> %g robust SD)", c.OutlierSD), sc)
 		}
 		p.Y.Min, p.Y.Max = -1.6, 2.2
 		row = append(row, p)
@@ -624,7 +625,7 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 		"(histograms; runs made before skein kept each participant's value show range and mean ± SD); red "+
 		"triangles mark the participants flagged as outliers (more than %g robust SDs from the median). "+
 		"Outliers are flagged, not excluded.", c.Included, c.OutlierSD)
-	f, err := figure("cohort.png", SectionCohort, title, caption, min(DoubleColumn, SingleColumn*float64(len(row))), 2.8, row, k)
+	f, err := drawFigure("cohort.png", SectionCohort, title, caption, min(figure.DoubleColumn, figure.SingleColumn*float64(len(row))), 2.8, row, k)
 	if err != nil {
 		return Figure{}, false, err
 	}
@@ -633,8 +634,8 @@ func (r *Run) CohortFigure() (Figure, bool, error) {
 
 // cohortHistogram draws the distribution of one quality measure over the
 // participants with its flagged outliers marked and labelled.
-func cohortHistogram(name string, values []float64, outliers []data.Outlier, outlierSD float64, k *key) (*plot.Plot, error) {
-	p := newPlot(name, name, "participants")
+func cohortHistogram(name string, values []float64, outliers []data.Outlier, outlierSD float64, k *figure.Key) (*plot.Plot, error) {
+	p := figure.NewPlot(name, name, "participants")
 	hist, err := plotter.NewHist(plotter.Values(values), min(20, max(5, len(values)/5)))
 	if err != nil {
 		return nil, err
@@ -672,11 +673,11 @@ func cohortHistogram(name string, values []float64, outliers []data.Outlier, out
 			return nil, err
 		}
 		for j := range lb.TextStyle {
-			lb.TextStyle[j].Font = sansAt(smallFontSize)
+			lb.TextStyle[j].Font = figure.Font(figure.SmallFontSize)
 			lb.TextStyle[j].Rotation = math.Pi / 4
 		}
 		p.Add(sc, lb)
-		k.add(fmt.Sprintf("flagged outlier (> %g robust SD)", outlierSD), sc)
+		k.Add(fmt.Sprintf("flagged outlier (> %g robust SD)", outlierSD), sc)
 	}
 	p.Y.Min, p.Y.Max = 0, top*1.7
 	p.Y.Tick.Marker = plot.DefaultTicks{}

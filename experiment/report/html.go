@@ -12,6 +12,7 @@ import (
 
 	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/experiment"
+	"github.com/skein-neuro/skein/internal/figure"
 )
 
 // Cautions are the paragraphs every report ends its summary with.
@@ -169,7 +170,7 @@ var pageTemplate = template.Must(template.New("report").Funcs(template.FuncMap{
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>{{.Title}}</title>
 <style>
-body { font-family: ` + FontFamily + `; max-width: 72rem; margin: 1.5rem auto; padding: 0 1rem; color: #1d1d1f; line-height: 1.45; overflow-wrap: anywhere; }
+body { font-family: ` + figure.FontFamily + `; max-width: 72rem; margin: 1.5rem auto; padding: 0 1rem; color: #1d1d1f; line-height: 1.45; overflow-wrap: anywhere; }
 h1 { font-size: 1.6rem; margin-bottom: .2rem; }
 h2 { border-bottom: 1px solid #ccd; padding-bottom: .2rem; margin-top: 2.2rem; }
 h3 { margin-top: 1.4rem; }

@@ -9,6 +9,8 @@ import (
 	"strconv"
 
 	"gonum.org/v1/gonum/stat"
+
+	"github.com/skein-neuro/skein/internal/figure"
 )
 
 // TopEdges is how many edges the importance tables rank.
@@ -142,13 +144,13 @@ func (r *Run) ImportanceFigures(sums []ModelImportance) ([]Figure, error) {
 			labels = defaultLabels(s.P)
 		}
 		title := fmt.Sprintf("%s — %s: edge importance, mean of %d folds", s.Model, s.Target, s.Folds)
-		img, err := heatMap(title, "region", "region", labels, labels, s.P, s.P, s.Mean, DoubleColumn, 6)
+		img, err := heatMap(title, "region", "region", labels, labels, s.P, s.P, s.Mean, figure.DoubleColumn, 6)
 		if err != nil {
 			return nil, fmt.Errorf("importance figure of %s, %s: %w", s.Model, s.Target, err)
 		}
 		caption := fmt.Sprintf("%s, averaged over the %d test folds; red edges raise the predicted %s, blue ones lower it. %s",
 			r.importanceKind(s.Model), s.Folds, s.Target, "Importance shows what the model uses, not a cause.")
-		figs = append(figs, img.figure(fileName("importance", s.Model, s.Target), SectionImportance, title, caption))
+		figs = append(figs, fromImage(img, fileName("importance", s.Model, s.Target), SectionImportance, title, caption))
 	}
 	return figs, nil
 }
@@ -243,9 +245,9 @@ func (r *Run) FilterFigures(sums []FilterSummary) ([]Figure, error) {
 			labels = defaultLabels(p)
 		}
 		title := fmt.Sprintf("%s, branch %d: first-layer filters, %d folds", s.Model, s.Branch+1, s.Folds)
-		width := SingleColumn
+		width := figure.SingleColumn
 		if o > 8 {
-			width = DoubleColumn
+			width = figure.DoubleColumn
 		}
 		img, err := heatMap(title, "channel (consistency over folds)", "region", channels, labels, p, o, z, width, 6)
 		if err != nil {
@@ -255,7 +257,7 @@ func (r *Run) FilterFigures(sums []FilterSummary) ([]Figure, error) {
 			"first fold's channels by correlation (Hungarian method) and averaged. In brackets the consistency of each "+
 			"channel: the mean correlation of a fold's filter with the mean of the other folds' (mean %s; 1 = identical).",
 			s.Array, num(meanCons))
-		figs = append(figs, img.figure(fileName("filters", s.Model, fmt.Sprintf("b%d", s.Branch+1)), SectionFilters, title, caption))
+		figs = append(figs, fromImage(img, fileName("filters", s.Model, fmt.Sprintf("b%d", s.Branch+1)), SectionFilters, title, caption))
 	}
 	return figs, nil
 }

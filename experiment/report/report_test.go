@@ -23,6 +23,7 @@ import (
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/data/synth"
 	"github.com/skein-neuro/skein/experiment"
+	"github.com/skein-neuro/skein/internal/figure"
 	"github.com/skein-neuro/skein/train"
 )
 
@@ -198,13 +199,13 @@ func TestBuildDrawsEveryFigure(t *testing.T) {
 		}
 		// A figure is one column (3.5 in) or two (7 in) of a journal page
 		// wide (common practice, no source), at DPI.
-		if b.Dx() != SingleColumn*DPI && b.Dx() != DoubleColumn*DPI {
-			t.Errorf("%s: %d pixels wide, want %v (one column) or %v (two)", f.File, b.Dx(), SingleColumn*DPI, DoubleColumn*DPI)
+		if b.Dx() != figure.SingleColumn*DPI && b.Dx() != figure.DoubleColumn*DPI {
+			t.Errorf("%s: %d pixels wide, want %v (one column) or %v (two)", f.File, b.Dx(), figure.SingleColumn*DPI, figure.DoubleColumn*DPI)
 		}
 		// Each kind of figure has a fixed size in inches at DPI (figures.go).
 		for prefix, size := range map[string][2]float64{
-			"observed-": {SingleColumn, 3.6}, "comparison-": {DoubleColumn, 3.2}, "learning-": {DoubleColumn, 3.6},
-			"null-": {SingleColumn, 3}, "importance-": {DoubleColumn, 6},
+			"observed-": {figure.SingleColumn, 3.6}, "comparison-": {figure.DoubleColumn, 3.2}, "learning-": {figure.DoubleColumn, 3.6},
+			"null-": {figure.SingleColumn, 3}, "importance-": {figure.DoubleColumn, 6},
 		} {
 			if strings.HasPrefix(f.File, prefix) && (b.Dx() != int(size[0]*DPI) || b.Dy() != int(size[1]*DPI)) {
 				t.Errorf("%s: %d × %d pixels, want %v × %v in at %d DPI", f.File, b.Dx(), b.Dy(), size[0], size[1], DPI)
@@ -245,10 +246,10 @@ func checkSVG(t *testing.T, path string, w, h float64) {
 	if want := fmt.Sprintf("%gpt", h*72); root.Height != want {
 		t.Errorf("%s: height %s, want %s", path, root.Height, want)
 	}
-	family := "font-family:" + strings.ReplaceAll(FontFamily, `"`, "'") + ";"
+	family := "font-family:" + strings.ReplaceAll(figure.FontFamily, `"`, "'") + ";"
 	texts, inFamily := strings.Count(string(raw), "<text"), strings.Count(string(raw), family)
 	if texts == 0 || texts != inFamily {
-		t.Errorf("%s: %d texts, %d of them in %s", path, texts, inFamily, FontFamily)
+		t.Errorf("%s: %d texts, %d of them in %s", path, texts, inFamily, figure.FontFamily)
 	}
 }
 
@@ -593,8 +594,8 @@ func TestReportOpensWithTheAnswer(t *testing.T) {
 			t.Errorf("report.html does not link %s", f.SVGFile())
 		}
 	}
-	if !strings.Contains(page, "font-family: "+FontFamily+";") {
-		t.Errorf("the page's CSS does not use the figures' fonts %s", FontFamily)
+	if !strings.Contains(page, "font-family: "+figure.FontFamily+";") {
+		t.Errorf("the page's CSS does not use the figures' fonts %s", figure.FontFamily)
 	}
 }
 
