@@ -41,8 +41,10 @@ const (
 	// SampleSizeFile holds the sample-size curve
 	// (eval.WriteSampleSizeCSV).
 	SampleSizeFile = "sample_size.csv"
-	// SampleSizePlotFile draws SampleSizeFile.
+	// SampleSizePlotFile draws SampleSizeFile; SampleSizeSVGFile is the
+	// same plot as SVG.
 	SampleSizePlotFile = "sample_size.png"
+	SampleSizeSVGFile  = "sample_size.svg"
 	// SweepFile ranks the variants of swept models.
 	SweepFile = "sweep.csv"
 	// DriftFile holds the comparison with an earlier run and the drift

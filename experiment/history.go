@@ -169,8 +169,8 @@ func ReadHistoryFile(path string) ([]HistoryRow, error) {
 
 // UpdateHistory appends the headline rows of run, dated date, to the
 // history file at path (AppendHistory) and redraws the plot of the whole
-// history (PlotHistory) beside it: path with the extension .png, replaced
-// atomically too.
+// history (PlotHistory) beside it: path with the extensions .png and .svg,
+// replaced atomically too.
 func UpdateHistory(path string, run *Folder, date time.Time) error {
 	if err := AppendHistory(path, HistoryRows(run, date)); err != nil {
 		return err
@@ -179,11 +179,15 @@ func UpdateHistory(path string, run *Folder, date time.Time) error {
 	if err != nil {
 		return err
 	}
-	var png bytes.Buffer
-	if err := PlotHistory(&png, rows); err != nil {
+	var png, svg bytes.Buffer
+	if err := PlotHistory(&png, &svg, rows); err != nil {
 		return err
 	}
-	return atomicfile.WriteFile(HistoryPlotPath(path), png.Bytes())
+	plotPath := HistoryPlotPath(path)
+	if err := atomicfile.WriteFile(plotPath, png.Bytes()); err != nil {
+		return err
+	}
+	return atomicfile.WriteFile(strings.TrimSuffix(plotPath, ".png")+".svg", svg.Bytes())
 }
 
 // HistoryPlotPath returns where UpdateHistory draws the plot of the history

@@ -26,11 +26,14 @@ func ReadAgainst(dir string) (*Folder, error) {
 // comparison. It returns the verdict (nil without an earlier run).
 func writeNightly(rd *RunDir, report *Report, prev *Folder, rule Drift) (*DriftReport, error) {
 	if report.SampleSize != nil {
-		var png bytes.Buffer
-		if err := PlotSampleSize(&png, report.SampleSize); err != nil {
+		var png, svg bytes.Buffer
+		if err := PlotSampleSize(&png, &svg, report.SampleSize); err != nil {
 			return nil, fmt.Errorf("sample-size plot: %w", err)
 		}
 		if err := rd.WriteFile(SampleSizePlotFile, png.Bytes()); err != nil {
+			return nil, err
+		}
+		if err := rd.WriteFile(SampleSizeSVGFile, svg.Bytes()); err != nil {
 			return nil, err
 		}
 	}

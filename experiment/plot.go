@@ -3,7 +3,6 @@ package experiment
 import (
 	"errors"
 	"fmt"
-	"image/color"
 	"io"
 	"math"
 	"sort"
@@ -11,22 +10,26 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/plotutil"
-	"gonum.org/v1/plot/vg"
 
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/internal/figure"
 )
 
-// Size of the PNG images.
+// Size of the plots in inches: the full width of a two-column journal
+// page, drawn at figure.DPI as PNG and in the same size as SVG, in the
+// report's font with the key under the data.
 const (
-	plotWidth  = 8 * vg.Inch
-	plotHeight = 4.5 * vg.Inch
+	plotWidth  = figure.DoubleColumn
+	plotHeight = 3.5
 )
 
-// PlotHistory draws the headline r (r within folds) of every model and target of the
-// history over the run dates, one line per model and target, and writes it
-// to w as a PNG image (8 × 4.5 in at 96 dpi). Rows with an undefined r are
-// left out of the lines. It is an error to pass no rows.
-func PlotHistory(w io.Writer, rows []HistoryRow) error {
+// PlotHistory draws the headline r (r within folds) of every model and
+// target of the history over the run dates, one line per model and target
+// named in the key under the plot, and writes it to png as a PNG image
+// (7 × 3.5 in at 150 dpi) and, when svg is not nil, to svg as SVG. Rows
+// with an undefined r are left out of the lines. It is an error to pass
+// no rows.
+func PlotHistory(png, svg io.Writer, rows []HistoryRow) error {
 	if len(rows) == 0 {
 		return errors.New("runs: no history to plot")
 	}
@@ -43,17 +46,13 @@ func PlotHistory(w io.Writer, rows []HistoryRow) error {
 		}
 	}
 	sortKeys(keys)
-	p := plot.New()
-	p.Title.Text = "r within folds of each run (research software, not a diagnostic device)"
-	p.X.Label.Text = "run date (UTC)"
-	p.Y.Label.Text = "pooled Pearson r"
+	p := figure.NewPlot("r within folds of each run (research software, not a diagnostic device)", "run date (UTC)", "r within folds")
 	p.X.Tick.Marker = plot.TimeTicks{Format: "2006-01-02"}
-	p.Add(plotter.NewGrid())
-	p.Legend.Top, p.Legend.Left = false, true
+	var key figure.Key
 	for i, k := range keys {
 		xys := series[k]
 		sort.SliceStable(xys, func(a, b int) bool { return xys[a].X < xys[b].X })
-		if err := addLine(p, i, k[0]+" · "+k[1], xys); err != nil {
+		if err := addLine(p, &key, i, k[0]+" · "+k[1], xys); err != nil {
 			return err
 		}
 	}
@@ -62,15 +61,17 @@ func PlotHistory(w io.Writer, rows []HistoryRow) error {
 		p.X.Max += 86400
 	}
 	padAxes(p)
-	return writePNG(w, p)
+	return writePlot(png, svg, p, key)
 }
 
 // PlotSampleSize draws the sample-size curve: for every model and target,
 // the mean over test folds of Pearson r against the mean training-subset
 // size of each fraction, with bars of ± one sample SD over the folds
 // (series shifted sideways by at most 1% of the size range so that bars
-// stay apart), and writes it to w as a PNG image. It is an error to pass no rows.
-func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
+// stay apart; the axes hold every bar), and writes it to png as a PNG
+// image and, when svg is not nil, to svg as SVG, as PlotHistory does. It
+// is an error to pass no rows.
+func PlotSampleSize(png, svg io.Writer, rows []eval.SampleSizeRow) error {
 	if len(rows) == 0 {
 		return errors.New("runs: no sample-size curve to plot")
 	}
@@ -106,12 +107,9 @@ func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
 		}
 		return (float64(i)/float64(len(keys)-1) - 0.5) * 0.02 * (hi - lo)
 	}
-	p := plot.New()
-	p.Title.Text = "Accuracy against training-set size (research software, not a diagnostic device)"
-	p.X.Label.Text = "participants in the training subset (mean over folds)"
-	p.Y.Label.Text = "Pearson r on the test folds (mean ± SD)"
-	p.Add(plotter.NewGrid())
-	p.Legend.Top, p.Legend.Left = false, false
+	p := figure.NewPlot("Accuracy against training-set size (research software, not a diagnostic device)",
+		"participants in the training subset (mean over folds)", "Pearson r on the test folds (mean ± SD)")
+	var key figure.Key
 	for i, k := range keys {
 		var fractions []float64
 		for f := range points[k] {
@@ -132,7 +130,7 @@ func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
 			curve.XYs = append(curve.XYs, plotter.XY{X: n + shift(i), Y: mean})
 			curve.YErrors = append(curve.YErrors, struct{ Low, High float64 }{sd, sd})
 		}
-		if err := addLine(p, i, k[0]+" · "+k[1], curve.XYs); err != nil {
+		if err := addLine(p, &key, i, k[0]+" · "+k[1], curve.XYs); err != nil {
 			return err
 		}
 		if len(curve.XYs) > 0 {
@@ -145,21 +143,21 @@ func PlotSampleSize(w io.Writer, rows []eval.SampleSizeRow) error {
 		}
 	}
 	padAxes(p)
-	return writePNG(w, p)
+	return writePlot(png, svg, p, key)
 }
 
 // padAxes widens both ranges by 4% on each side (0.05 at least for y), so
-// that the outermost points and their bars are not cut by the frame.
+// that the outermost points and their bars, which the ranges hold, are not
+// cut by the frame.
 func padAxes(p *plot.Plot) {
-	pad := 0.04 * (p.X.Max - p.X.Min)
-	p.X.Min -= pad
-	p.X.Max += pad
-	pad = max(0.04*(p.Y.Max-p.Y.Min), 0.05)
+	figure.PadRange(&p.X, p.X.Min, p.X.Max, 0.04)
+	pad := max(0.04*(p.Y.Max-p.Y.Min), 0.05)
 	p.Y.Min -= pad
 	p.Y.Max += pad
 }
 
-func addLine(p *plot.Plot, i int, label string, xys plotter.XYs) error {
+// addLine adds the line of series i, named label in key.
+func addLine(p *plot.Plot, key *figure.Key, i int, label string, xys plotter.XYs) error {
 	if len(xys) == 0 {
 		return nil
 	}
@@ -173,17 +171,23 @@ func addLine(p *plot.Plot, i int, label string, xys plotter.XYs) error {
 	points.Color = c
 	points.Shape = plotutil.Shape(i)
 	p.Add(line, points)
-	p.Legend.Add(label, line, points)
+	key.Add(label, line, points)
 	return nil
 }
 
-func writePNG(w io.Writer, p *plot.Plot) error {
-	p.BackgroundColor = color.White
-	wt, err := p.WriterTo(plotWidth, plotHeight, "png")
+// writePlot draws p with key under it and writes it to png and, when not
+// nil, to svg.
+func writePlot(png, svg io.Writer, p *plot.Plot, key figure.Key) error {
+	img, err := figure.Panels(plotWidth, plotHeight, []*plot.Plot{p}, key)
 	if err != nil {
 		return err
 	}
-	_, err = wt.WriteTo(w)
+	if _, err := png.Write(img.PNG); err != nil {
+		return err
+	}
+	if svg != nil {
+		_, err = svg.Write(img.SVG)
+	}
 	return err
 }
 

@@ -2,6 +2,7 @@ package experiment
 
 import (
 	"bytes"
+	"image/png"
 	"math"
 	"os"
 	"path/filepath"
@@ -13,6 +14,7 @@ import (
 	"github.com/pelletier/go-toml/v2"
 
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/internal/figure"
 )
 
 // fakeRun holds one pooled Pearson r and MAE per model × target ("ridge",
@@ -180,9 +182,13 @@ func TestHistoryAppendReadPlot(t *testing.T) {
 	if err != nil || !bytes.HasPrefix(png, []byte("\x89PNG")) {
 		t.Fatalf("history plot: %v", err)
 	}
+	svg, err := os.ReadFile(strings.TrimSuffix(HistoryPlotPath(path), ".png") + ".svg")
+	if err != nil || !bytes.Contains(svg, []byte("<svg")) {
+		t.Fatalf("history plot as SVG: %v", err)
+	}
 	entries, _ := os.ReadDir(dir)
-	if len(entries) != 2 {
-		t.Errorf("folder holds %d entries, want history.csv and history.png (no temporary files left)", len(entries))
+	if len(entries) != 3 {
+		t.Errorf("folder holds %d entries, want history.csv, history.png and history.svg (no temporary files left)", len(entries))
 	}
 
 	os.WriteFile(path, []byte("when,what\n"), 0o644)
@@ -207,14 +213,22 @@ func TestPlotSampleSize(t *testing.T) {
 				Pearson: 0.2 + 0.3*f + 0.02*float64(fold), MAE: 5 - f})
 		}
 	}
-	var buf bytes.Buffer
-	if err := PlotSampleSize(&buf, rows); err != nil {
+	var buf, svg bytes.Buffer
+	if err := PlotSampleSize(&buf, &svg, rows); err != nil {
 		t.Fatal(err)
 	}
-	if !bytes.HasPrefix(buf.Bytes(), []byte("\x89PNG")) {
-		t.Error("not a PNG")
+	img, err := png.Decode(bytes.NewReader(buf.Bytes()))
+	if err != nil {
+		t.Fatalf("not a PNG: %v", err)
 	}
-	if err := PlotSampleSize(&buf, nil); err == nil {
+	// Two journal columns wide (7 in) at figure.DPI.
+	if b := img.Bounds(); b.Dx() != figure.DoubleColumn*figure.DPI || b.Dy() != plotHeight*figure.DPI {
+		t.Errorf("PNG of %d × %d pixels", b.Dx(), b.Dy())
+	}
+	if !bytes.Contains(svg.Bytes(), []byte(`<svg width="504pt"`)) || !bytes.Contains(svg.Bytes(), []byte("Liberation Sans")) {
+		t.Error("the SVG is not 7 in wide in the report's font")
+	}
+	if err := PlotSampleSize(&buf, nil, nil); err == nil {
 		t.Error("no rows: want an error")
 	}
 }

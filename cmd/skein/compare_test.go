@@ -181,7 +181,7 @@ name = "ridge"
 	if code, _, stderr := runSkein(t, "run", exp, "--out", night("1")); code != exitOK {
 		t.Fatalf("night 1: exit %d: %s", code, stderr)
 	}
-	for _, name := range []string{"sample_size.csv", "sample_size.png"} {
+	for _, name := range []string{"sample_size.csv", "sample_size.png", "sample_size.svg"} {
 		if _, err := os.Stat(filepath.Join(night("1"), name)); err != nil {
 			t.Errorf("run folder lacks %s", name)
 		}
