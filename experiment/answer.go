@@ -3,6 +3,7 @@ package experiment
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strings"
 
 	"github.com/skein-neuro/skein/eval"
@@ -52,7 +53,11 @@ func Answer(exp *Experiment, comps []eval.Comparison) string {
 		refR[[2]string{c.Model, c.Target}] = c.R.Estimate
 	}
 	var beat, worse, same []eval.Comparison
+	var fusedRefs []string // reference baselines that fuse structure with function themselves
 	for _, c := range comps {
+		if c.IsReference && isFusion[c.Model] && !slices.Contains(fusedRefs, c.Model) {
+			fusedRefs = append(fusedRefs, c.Model)
+		}
 		if !isFusion[c.Model] || c.Reference == "" {
 			continue
 		}
@@ -65,10 +70,19 @@ func Answer(exp *Experiment, comps []eval.Comparison) string {
 			same = append(same, c)
 		}
 	}
+	test := fmt.Sprintf("the mean difference in fold r from the reference, tested by the corrected resampled t-test at p < %g", AnswerLevel)
 	n := len(beat) + len(worse) + len(same)
+	if n == 0 && len(fusedRefs) > 0 {
+		return fmt.Sprintf("The reference baseline %s itself learns from both connectomes and no other model that does "+
+			"was compared with it, so this run cannot say whether fusing structure with function beats a baseline; "+
+			"name another baseline with comparison.reference.", listNames(fusedRefs))
+	}
 	if n == 0 {
 		return fmt.Sprintf("This experiment has no reference baseline to compare %s with, so this run cannot say "+
 			"whether fusing structure with function beats one.", listNames(fusion))
+	}
+	if len(fusedRefs) > 0 {
+		test += fmt.Sprintf("; the reference baseline %s itself learns from both connectomes", listNames(fusedRefs))
 	}
 	item := func(c eval.Comparison) string {
 		ref, ok := refR[[2]string{c.Reference, c.Target}]
@@ -85,7 +99,6 @@ func Answer(exp *Experiment, comps []eval.Comparison) string {
 		}
 		return strings.Join(parts, "; ")
 	}
-	test := fmt.Sprintf("the mean difference in fold r from the reference, tested by the corrected resampled t-test at p < %g", AnswerLevel)
 	if n == 1 {
 		var c eval.Comparison
 		verdict := "did not beat the reference baseline"

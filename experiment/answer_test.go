@@ -39,17 +39,22 @@ func comp(model, target string, r, diff, p float64) eval.Comparison {
 	return c
 }
 
+// answerCase is one case of TestAnswer: an experiment with or without
+// models that fuse structure with function, its comparisons and the
+// sentence they give.
+type answerCase struct {
+	name   string
+	fusion bool
+	comps  []eval.Comparison
+	want   string
+}
+
 // TestAnswer checks the sentence for each outcome against golden text.
 // The verdicts follow the rule of Answer (p < 0.05 and the sign of Δr:
 // common practice, no source).
 func TestAnswer(t *testing.T) {
 	ref := comp("ridge-fc", "recall", 0.3, 0, 0)
-	tests := []struct {
-		name   string
-		fusion bool
-		comps  []eval.Comparison
-		want   string
-	}{
+	tests := []answerCase{
 		{"no fusion model", false, []eval.Comparison{ref},
 			"No model of this experiment learns from both the functional and the structural connectome, so this run cannot say whether fusing structure with function beats the reference baseline."},
 		{"no reference", true, []eval.Comparison{{Model: "net", Target: "recall"}},
@@ -68,6 +73,13 @@ func TestAnswer(t *testing.T) {
 		{"undefined test", true, []eval.Comparison{ref, comp("ridge-both", "recall", math.NaN(), math.NaN(), math.NaN()), comp("net", "recall", 0.3, 0.0, 0.99)},
 			"Fusing structure with function did not beat the reference baseline in any of 2 comparisons: it differed not significantly in all two (ridge-both on recall and net on recall, Δr +0.000); each comparison is one model that learns from both connectomes on one score, Δr is the mean difference in fold r from the reference, tested by the corrected resampled t-test at p < 0.05, not corrected for the 2 comparisons."},
 	}
+	fusedRef := comp("ridge-fc", "recall", 0.3, 0, 0)
+	fusedRef.Model = "ridge-both"
+	tests = append(tests, answerCase{"the reference fuses", true, []eval.Comparison{fusedRef},
+		"The reference baseline ridge-both itself learns from both connectomes and no other model that does was compared with it, so this run cannot say whether fusing structure with function beats a baseline; name another baseline with comparison.reference."},
+		answerCase{"the reference fuses, another model too", true, []eval.Comparison{fusedRef, {Model: "net", Target: "recall", Reference: "ridge-both",
+			R: eval.Interval{Estimate: 0.4}, DiffR: eval.TTest{MeanDiff: 0.1, P: 0.2}}},
+			"Fusing structure with function did not beat the reference baseline (the difference is not significant): net on recall, r within folds 0.400 against 0.300 for ridge-both, Δr +0.100, p = 0.200 (Δr is the mean difference in fold r from the reference, tested by the corrected resampled t-test at p < 0.05; the reference baseline ridge-both itself learns from both connectomes)."})
 	for _, tt := range tests {
 		if got := Answer(answerExperiment(tt.fusion), tt.comps); got != tt.want {
 			t.Errorf("%s:\ngot  %s\nwant %s", tt.name, got, tt.want)
