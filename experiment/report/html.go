@@ -71,11 +71,12 @@ type htmlFigure struct {
 // failures of figures that could not be drawn, are listed at its top.
 func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filters []FilterSummary, problems []error) error {
 	exp := r.Experiment
+	answer := r.Answer()
 	pg := page{
 		Title:      "skein run report — " + r.Name,
 		Folder:     r.Name,
-		Answer:     r.Answer(),
-		Comparison: markdownHTML(withoutAnswer(r.SummaryMarkdown, r.Answer())),
+		Answer:     answer,
+		Comparison: markdownHTML(withoutAnswer(r.SummaryMarkdown, answer)),
 		Filters:    filters,
 		Regions:    r.Regions,
 		Cautions:   Cautions,

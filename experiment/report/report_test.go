@@ -680,3 +680,33 @@ func TestReportShowsTheApplicableExperiment(t *testing.T) {
 		t.Errorf("experiment.toml itself must keep every key (%v)", err)
 	}
 }
+
+// TestReportOfAnEarlierRun: a run folder made before skein wrote
+// comparison.csv still gets its report, which says why it has no answer
+// and draws no answer chart.
+func TestReportOfAnEarlierRun(t *testing.T) {
+	src, _ := buildTiny(t)
+	dir := filepath.Join(t.TempDir(), "run")
+	if err := os.CopyFS(dir, os.DirFS(src)); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Remove(filepath.Join(dir, experiment.ComparisonFile)); err != nil {
+		t.Fatal(err)
+	}
+	figs, err := Build(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range figs {
+		if f.Section == SectionAnswer {
+			t.Errorf("drew %s without comparison.csv", f.File)
+		}
+	}
+	page, err := os.ReadFile(filepath.Join(dir, experiment.HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(page), "This run folder has no comparison.csv") || !strings.Contains(string(page), "not a diagnostic device") {
+		t.Error("the report of an earlier run does not say why it has no answer, or lacks the disclaimer")
+	}
+}

@@ -126,6 +126,9 @@ func ReadRun(dir string) (*Run, error) {
 		if r.Comparisons, err = eval.ReadComparisonCSV(bytes.NewReader(raw), filepath.Join(dir, experiment.ComparisonFile)); err != nil {
 			return nil, err
 		}
+		if r.Comparisons == nil {
+			r.Comparisons = []eval.Comparison{} // the file, without rows
+		}
 		for i := range r.Comparisons {
 			c := &r.Comparisons[i]
 			c.Group = r.Summary.Group(c.Model, c.Target)
