@@ -53,10 +53,11 @@ func Answer(exp *Experiment, comps []eval.Comparison) string {
 		refR[[2]string{c.Model, c.Target}] = c.R.Estimate
 	}
 	var beat, worse, same []eval.Comparison
-	var fusedRefs []string // reference baselines that fuse structure with function themselves
+	var fusedRefs, fusedRefTargets []string // reference baselines that fuse structure with function themselves, and their scores
 	for _, c := range comps {
-		if c.IsReference && isFusion[c.Model] && !slices.Contains(fusedRefs, c.Model) {
+		if c.IsReference && isFusion[c.Model] {
 			fusedRefs = append(fusedRefs, c.Model)
+			fusedRefTargets = append(fusedRefTargets, c.Target)
 		}
 		if !isFusion[c.Model] || c.Reference == "" {
 			continue
@@ -75,14 +76,23 @@ func Answer(exp *Experiment, comps []eval.Comparison) string {
 	if n == 0 && len(fusedRefs) > 0 {
 		return fmt.Sprintf("The reference baseline %s itself learns from both connectomes and no other model that does "+
 			"was compared with it, so this run cannot say whether fusing structure with function beats a baseline; "+
-			"name another baseline with comparison.reference.", listNames(fusedRefs))
+			"name another baseline with comparison.reference.", listNames(slices.Compact(fusedRefs)))
 	}
 	if n == 0 {
 		return fmt.Sprintf("This experiment has no reference baseline to compare %s with, so this run cannot say "+
 			"whether fusing structure with function beats one.", listNames(fusion))
 	}
-	if len(fusedRefs) > 0 {
-		test += fmt.Sprintf("; the reference baseline %s itself learns from both connectomes", listNames(fusedRefs))
+	note := ""
+	switch len(fusedRefs) {
+	case 0:
+	case 1:
+		note = fmt.Sprintf("; %s, the reference baseline on %s, itself learns from both connectomes", fusedRefs[0], fusedRefTargets[0])
+	default:
+		refs := make([]string, len(fusedRefs))
+		for i := range fusedRefs {
+			refs[i] = fmt.Sprintf("%s (on %s)", fusedRefs[i], fusedRefTargets[i])
+		}
+		note = fmt.Sprintf("; the reference baselines %s themselves learn from both connectomes", listNames(refs))
 	}
 	item := func(c eval.Comparison) string {
 		ref, ok := refR[[2]string{c.Reference, c.Target}]
@@ -111,7 +121,7 @@ func Answer(exp *Experiment, comps []eval.Comparison) string {
 			c = same[0]
 			verdict += " (the difference is not significant)"
 		}
-		return fmt.Sprintf("Fusing structure with function %s: %s (Δr is %s).", verdict, item(c), test)
+		return fmt.Sprintf("Fusing structure with function %s: %s (Δr is %s%s).", verdict, item(c), test, note)
 	}
 	var b strings.Builder
 	if len(beat) > 0 {
@@ -145,7 +155,7 @@ func Answer(exp *Experiment, comps []eval.Comparison) string {
 	if len(rest) > 0 {
 		b.WriteString(": it " + strings.Join(rest, " and "))
 	}
-	fmt.Fprintf(&b, "; each comparison is one model that learns from both connectomes on one score, Δr is %s, not corrected for the %d comparisons.", test, n)
+	fmt.Fprintf(&b, "; each comparison is one model that learns from both connectomes on one score, Δr is %s, not corrected for the %d comparisons%s.", test, n, note)
 	return b.String()
 }
 

@@ -79,7 +79,7 @@ func TestAnswer(t *testing.T) {
 		"The reference baseline ridge-both itself learns from both connectomes and no other model that does was compared with it, so this run cannot say whether fusing structure with function beats a baseline; name another baseline with comparison.reference."},
 		answerCase{"the reference fuses, another model too", true, []eval.Comparison{fusedRef, {Model: "net", Target: "recall", Reference: "ridge-both",
 			R: eval.Interval{Estimate: 0.4}, DiffR: eval.TTest{MeanDiff: 0.1, P: 0.2}}},
-			"Fusing structure with function did not beat the reference baseline (the difference is not significant): net on recall, r within folds 0.400 against 0.300 for ridge-both, Δr +0.100, p = 0.200 (Δr is the mean difference in fold r from the reference, tested by the corrected resampled t-test at p < 0.05; the reference baseline ridge-both itself learns from both connectomes)."})
+			"Fusing structure with function did not beat the reference baseline (the difference is not significant): net on recall, r within folds 0.400 against 0.300 for ridge-both, Δr +0.100, p = 0.200 (Δr is the mean difference in fold r from the reference, tested by the corrected resampled t-test at p < 0.05; ridge-both, the reference baseline on recall, itself learns from both connectomes)."})
 	for _, tt := range tests {
 		if got := Answer(answerExperiment(tt.fusion), tt.comps); got != tt.want {
 			t.Errorf("%s:\ngot  %s\nwant %s", tt.name, got, tt.want)

@@ -40,8 +40,9 @@ func (r *Run) Answer() string {
 // question: every model's pooled r within folds (the headline r,
 // eval.MetricPearsonWithin) and MAE, each with its percentile bootstrap
 // interval from comparison.csv, one row per model in report order.
-// Baselines are grey squares, models that learn from both connectomes
-// (experiment.Fusion) orange triangles, the other models blue circles; a
+// Baselines are grey, squares or, when they learn from both connectomes
+// (experiment.Fusion), triangles; the other models are blue circles or,
+// learning from both, orange triangles; a
 // dotted line marks the reference baseline's value and, for r, a dashed
 // line chance (r = 0). Both axes are padded to hold every interval. A run
 // without comparison.csv draws none.
@@ -68,8 +69,8 @@ func (r *Run) AnswerFigures() ([]Figure, error) {
 		level := comps[0].R.Level
 		caption := fmt.Sprintf("Every model on %s: pooled r within folds (the headline r) and MAE, with %.0f%% "+
 			"percentile bootstrap intervals over participants (%d resamples), the models in the experiment's order. "+
-			"Grey squares are baselines; orange triangles are models that learn from both the functional and the "+
-			"structural connectome; blue circles the other models. Higher r and lower MAE are better. Intervals "+
+			"Baselines are grey, other models in colour; triangles learn from both the functional and the "+
+			"structural connectome (orange: models that fuse structure with function), squares and circles from one. Higher r and lower MAE are better. Intervals "+
 			"that overlap do not by themselves mean that two models do not differ: the test is the corrected "+
 			"resampled t-test of the comparison table.", t, 100*level, comps[0].R.Resamples)
 		if ref != "" {
@@ -133,11 +134,11 @@ func answerPanels(t string, comps []eval.Comparison, fusion []string) (row []*pl
 				continue
 			}
 			class := "model"
-			switch {
-			case c.Baseline:
+			if c.Baseline {
 				class = "baseline"
-			case slices.Contains(fusion, c.Model):
-				class = "fusion"
+			}
+			if slices.Contains(fusion, c.Model) {
+				class += " fusion"
 			}
 			g := groups[class]
 			if g == nil {
@@ -179,8 +180,9 @@ func answerPanels(t string, comps []eval.Comparison, fusion []string) (row []*pl
 			shape       draw.GlyphDrawer
 		}{
 			{"baseline", "baseline", colorBaseline, draw.BoxGlyph{}},
+			{"baseline fusion", "baseline on both connectomes", colorBaseline, draw.PyramidGlyph{}},
 			{"model", "model on one connectome", colorModel, draw.CircleGlyph{}},
-			{"fusion", "model on both connectomes (fusion)", colorFusion, draw.PyramidGlyph{}},
+			{"model fusion", "model on both connectomes (fusion)", colorFusion, draw.PyramidGlyph{}},
 		} {
 			g := groups[class.name]
 			if g == nil {
