@@ -225,6 +225,9 @@ func (r *Run) ComparisonFigures() ([]Figure, error) {
 				}
 			}
 			p.NominalX(names...)
+			// Every model keeps its place in both panels, with or without
+			// values (the mean predictor has no r).
+			p.X.Min, p.X.Max = -0.5, float64(len(names))-0.5
 			p.X.Tick.Label.Rotation = math.Pi / 6
 			p.X.Tick.Label.XAlign = draw.XRight
 			p.X.Tick.Label.YAlign = draw.YCenter
