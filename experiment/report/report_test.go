@@ -551,6 +551,12 @@ func TestCurvesWithMembers(t *testing.T) {
 	if c := figs[0].Caption; !strings.HasPrefix(c, "2 folds") || !strings.Contains(c, "ensemble of 2 networks") {
 		t.Errorf("caption %q", c)
 	}
+	// The key names the colour of each fold and the line styles.
+	for _, label := range []string{"r1 f1", "r1 f2", "training loss", "inner-validation loss", "kept epoch (early stopping)"} {
+		if !bytes.Contains(figs[0].SVG, []byte(">"+label+"<")) {
+			t.Errorf("the key of the learning curves lacks %q", label)
+		}
+	}
 }
 
 // TestReportOpensWithTheAnswer: report.html opens, before its summary,

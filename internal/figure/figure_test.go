@@ -11,6 +11,8 @@ import (
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/recorder"
 )
 
 // TestKeyLayout: a key takes as many columns as fit the width, never
@@ -109,5 +111,43 @@ func TestPadRange(t *testing.T) {
 		if p.X.Min != tt.wantMin || p.X.Max != tt.wantMax {
 			t.Errorf("PadRange([%g, %g], %g, %g, %g) = [%g, %g], want [%g, %g]", tt.min, tt.max, tt.lo, tt.hi, tt.frac, p.X.Min, p.X.Max, tt.wantMin, tt.wantMax)
 		}
+	}
+}
+
+// TestKeyBelowThePlot: the key's text is drawn in the strip under the
+// plot, and the plot's own text (title, axis labels, ticks) above it, so
+// that the key never covers data.
+func TestKeyBelowThePlot(t *testing.T) {
+	p := NewPlot("title", "x label", "y label")
+	l, err := plotter.NewLine(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	p.Add(l)
+	var k Key
+	for _, label := range []string{"first entry", "second entry", "third entry"} {
+		k.Add(label, l)
+	}
+	rec := new(recorder.Canvas)
+	w, h := SingleColumn*vg.Inch, 3*vg.Inch
+	dc := draw.Canvas{Canvas: rec, Rectangle: vg.Rectangle{Max: vg.Point{X: w, Y: h}}}
+	DrawPanels(dc, []*plot.Plot{p}, k)
+	_, _, _, strip := k.Layout(w - 2*vg.Points(4))
+	keyTexts := 0
+	for _, a := range rec.Actions {
+		fs, ok := a.(*recorder.FillString)
+		if !ok || fs.String == "y label" { // drawn rotated: its point is in rotated coordinates
+			continue
+		}
+		inKey := strings.HasSuffix(fs.String, " entry")
+		if inKey {
+			keyTexts++
+		}
+		if inKey != (fs.Point.Y < strip) {
+			t.Errorf("text %q at y = %v; the key's strip ends at %v", fs.String, fs.Point.Y, strip)
+		}
+	}
+	if keyTexts != 3 {
+		t.Errorf("%d key entries drawn, want 3", keyTexts)
 	}
 }
