@@ -2,9 +2,11 @@ package report
 
 import (
 	"math"
+	"strings"
 	"testing"
 
 	"github.com/skein-neuro/skein/eval"
+	"github.com/skein-neuro/skein/experiment"
 )
 
 // TestAnswerPanelsHoldEveryInterval: the axes of the answer chart reach
@@ -54,5 +56,49 @@ func TestAnswerPanelsHoldEveryInterval(t *testing.T) {
 				t.Errorf("%s, panel %d: rows 0..%d outside [%g, %g]", tt.name, i, len(tt.comps)-1, p.Y.Min, p.Y.Max)
 			}
 		}
+	}
+}
+
+// TestAnswerIsEscaped: model names reach report.html escaped, in the
+// answer, the answer chart's alt text and the model table.
+func TestAnswerIsEscaped(t *testing.T) {
+	const evil = `<img src=x onerror=alert(1)>`
+	exp, err := experiment.ParseExperiment([]byte(`
+[cohort]
+participants = "p.tsv"
+targets = ["recall"]
+[cohort.functional]
+files = "fc/{participant_id}.tsv"
+[[model]]
+name = "ridge-fc"
+[model.ridge]
+[[model]]
+name = "` + evil + `"
+[model.ridge]
+input = "both"
+`))
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := eval.Group{Model: evil, Target: "recall"}
+	r := &Run{Name: "run", Experiment: exp, Summary: &eval.Summary{Groups: []eval.Group{{Model: "ridge-fc", Target: "recall"}, g}},
+		Comparisons: []eval.Comparison{
+			{Model: "ridge-fc", Target: "recall", Baseline: true, IsReference: true, R: eval.Interval{Estimate: 0.3, Lower: 0.1, Upper: 0.5}},
+			{Model: evil, Target: "recall", Baseline: true, Reference: "ridge-fc", R: eval.Interval{Estimate: 0.4, Lower: 0.2, Upper: 0.6},
+				DiffR: eval.TTest{J: 5, MeanDiff: 0.1, P: 0.01}},
+		}}
+	figs, err := r.AnswerFigures()
+	if err != nil {
+		t.Fatal(err)
+	}
+	var page strings.Builder
+	if err := r.WriteHTML(&page, figs, nil, nil, nil); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(page.String(), evil) {
+		t.Error("report.html holds a model name unescaped")
+	}
+	if !strings.Contains(page.String(), "&lt;img src=x onerror=alert(1)&gt; on recall") {
+		t.Error("the answer does not name the model, escaped")
 	}
 }
