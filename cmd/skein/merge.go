@@ -14,8 +14,8 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	flags.SetOutput(cio.stderr)
 	force := flags.Bool("force", false, "replace an existing run folder DIR")
 	flags.Usage = func() {
+		describe(cio.stderr, "merge")
 		fmt.Fprintln(cio.stderr, "usage: skein merge DIR [--force]")
-		fmt.Fprintln(cio.stderr, "Combines the finished units of the plan in DIR.partial (skein plan) into the run folder DIR.")
 		flags.PrintDefaults()
 	}
 	positional, err := positionalArgs(flags, args, 1, "the run folder of one plan")

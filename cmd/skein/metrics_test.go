@@ -109,7 +109,38 @@ func TestMetricsBadInput(t *testing.T) {
 func TestMetricsHelp(t *testing.T) {
 	t.Parallel()
 	code, _, errOut := runMetrics(t, "-h")
-	if code != exitOK || !strings.Contains(errOut, "usage: skein metrics FILE.csv") {
+	if code != exitOK || !strings.Contains(errOut, "usage: skein metrics FILE ") {
 		t.Errorf("exit %d, stderr %q", code, errOut)
+	}
+}
+
+// TestMetricsReadsTSV: the fixture written tab-separated, as .tsv and as a
+// file without extension, gives the same figures as the CSV.
+func TestMetricsReadsTSV(t *testing.T) {
+	t.Parallel()
+	fixture := filepath.Join("..", "..", "testdata", "eval", "predictions.csv")
+	raw, err := os.ReadFile(fixture)
+	if err != nil {
+		t.Fatal(err)
+	}
+	code, want, errOut := runMetrics(t, fixture)
+	if code != exitOK {
+		t.Fatalf("csv: exit %d: %s", code, errOut)
+	}
+	want = strings.Replace(want, fixture, "FILE", 1)
+	dir := t.TempDir()
+	tsv := []byte(strings.ReplaceAll(string(raw), ",", "\t"))
+	for _, name := range []string{"predictions.tsv", "predictions.TSV", "predictions"} {
+		path := filepath.Join(dir, name)
+		if err := os.WriteFile(path, tsv, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		code, got, errOut := runMetrics(t, path)
+		if code != exitOK {
+			t.Fatalf("%s: exit %d: %s", name, code, errOut)
+		}
+		if got = strings.Replace(got, path, "FILE", 1); got != want {
+			t.Errorf("%s: output differs from the CSV's:\n%s\nwant\n%s", name, got, want)
+		}
 	}
 }

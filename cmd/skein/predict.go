@@ -15,6 +15,7 @@ func cmdPredict(ctx context.Context, cio commandIO, args []string) error {
 	fs.SetOutput(cio.stderr)
 	out := fs.String("out", "", "write the predictions to this CSV file instead of standard output")
 	fs.Usage = func() {
+		describe(cio.stderr, "predict")
 		fmt.Fprintln(cio.stderr, "usage: skein predict MODEL_DIR COHORT.toml [--out FILE]")
 		fmt.Fprintln(cio.stderr, "\nMODEL_DIR is a saved model of a run (RUN/models/NAME/all or RUN/models/NAME/rR-fF);")
 		fmt.Fprintln(cio.stderr, "COHORT.toml an experiment file whose [cohort] table describes the participants to predict")

@@ -28,6 +28,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	history := fs.String("history", "", "history `FILE` the run's headline figures are appended to (default history.csv beside the run folder)")
 	noHistory := fs.Bool("no-history", false, "do not append to the history file")
 	fs.Usage = func() {
+		describe(cio.stderr, "run")
 		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume] [--unit K] [--against DIR]")
 		fs.PrintDefaults()
 	}

@@ -1,0 +1,66 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"strings"
+	"testing"
+)
+
+// TestHelpOpensWithDescription: "skein NAME -h" of every command starts
+// with a paragraph saying what the command does, before the usage line.
+func TestHelpOpensWithDescription(t *testing.T) {
+	for _, c := range commands() {
+		t.Run(c.name, func(t *testing.T) {
+			var stdout, stderr bytes.Buffer
+			if code := run(context.Background(), []string{c.name, "-h"}, commandIO{&stdout, &stderr}); code != exitOK {
+				t.Fatalf("exit %d: %s", code, stderr.String())
+			}
+			help := stderr.String()
+			head, _, ok := strings.Cut(help, "\n\nusage: skein "+c.name)
+			if !ok {
+				t.Fatalf("no blank line then usage line:\n%s", help)
+			}
+			if strings.Contains(head, "usage:") || len(strings.Fields(head)) < 10 || !strings.HasSuffix(head, ".") {
+				t.Errorf("help does not open with a paragraph of description:\n%s", help)
+			}
+			for _, line := range strings.Split(head, "\n") {
+				if n := len([]rune(line)); n > 80 {
+					t.Errorf("description line of %d runes: %q", n, line)
+				}
+			}
+		})
+	}
+}
+
+// TestVersion: "skein --version" and "skein version" print the module
+// path, a version and the Go version from the build information.
+func TestVersion(t *testing.T) {
+	for _, args := range [][]string{{"--version"}, {"version"}} {
+		var stdout, stderr bytes.Buffer
+		if code := run(context.Background(), args, commandIO{&stdout, &stderr}); code != exitOK {
+			t.Fatalf("%v: exit %d: %s", args, code, stderr.String())
+		}
+		out := stdout.String()
+		if !strings.HasPrefix(out, "skein github.com/skein-neuro/skein ") || !strings.Contains(out, " go1.") {
+			t.Errorf("%v printed %q", args, out)
+		}
+	}
+}
+
+func TestWrap(t *testing.T) {
+	for _, tt := range []struct {
+		in   string
+		w    int
+		want string
+	}{
+		{"a bb ccc", 4, "a bb\nccc"},
+		{"a  bb\nccc", 80, "a bb ccc"},
+		{"longword a", 3, "longword\na"},
+		{"", 5, ""},
+	} {
+		if got := wrap(tt.in, tt.w); got != tt.want {
+			t.Errorf("wrap(%q, %d) = %q, want %q", tt.in, tt.w, got, tt.want)
+		}
+	}
+}
