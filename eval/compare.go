@@ -229,7 +229,7 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison, referenceRule stri
 		}
 	}
 	for _, target := range targets {
-		fmt.Fprintf(&b, "\n### %s: comparison\n\n", escapeMarkdown(target))
+		fmt.Fprintf(&b, "\n### %s: comparison\n\n", EscapeMarkdown(target))
 		b.WriteString("| model | r within folds | CI of r | p (r) | MAE | CI of MAE | p (MAE) | Δr vs reference (t-test p) | ΔMAE (t-test p) |\n")
 		b.WriteString("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |\n")
 		for _, c := range comps {
@@ -253,7 +253,7 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison, referenceRule stri
 }
 
 func writeComparisonRow(b *strings.Builder, c Comparison) {
-	name := escapeMarkdown(c.Model)
+	name := EscapeMarkdown(c.Model)
 	if c.Baseline {
 		name += " (baseline)"
 	}
@@ -263,7 +263,7 @@ func writeComparisonRow(b *strings.Builder, c Comparison) {
 	}
 	vsR, vsMAE := "–", "–"
 	if c.Reference != "" {
-		vsR = fmt.Sprintf("%s vs %s (p %s)", formatDiff(c.DiffR.MeanDiff), escapeMarkdown(c.Reference), formatP(c.DiffR.P))
+		vsR = fmt.Sprintf("%s vs %s (p %s)", formatDiff(c.DiffR.MeanDiff), EscapeMarkdown(c.Reference), formatP(c.DiffR.P))
 		vsMAE = fmt.Sprintf("%s (p %s)", formatDiff(c.DiffMAE.MeanDiff), formatP(c.DiffMAE.P))
 	} else if c.IsReference {
 		vsR = "reference"

@@ -341,7 +341,7 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 	fmt.Fprintf(&buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
 		rep.Participants, rep.Excluded, len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
 	if len(exp.CV.Confounds) > 0 {
-		fmt.Fprintf(&buf, ", confounds %s regressed out of the scores within each training fold", strings.Join(exp.CV.Confounds, ", "))
+		fmt.Fprintf(&buf, ", confounds %s regressed out of the scores within each training fold", eval.EscapeMarkdown(strings.Join(exp.CV.Confounds, ", ")))
 	}
 	if rep.Nulls != nil {
 		fmt.Fprintf(&buf, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
@@ -360,7 +360,7 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 	if len(rep.Cautions) > 0 {
 		buf.WriteString("\n## Cautions for this run\n\n")
 		for _, c := range rep.Cautions {
-			buf.WriteString("- " + markdownText(c) + "\n")
+			buf.WriteString("- " + eval.EscapeMarkdown(c) + "\n")
 		}
 	}
 	_, err := w.Write(buf.Bytes())
@@ -403,7 +403,4 @@ func orderGroups(sum *eval.Summary, exp *Experiment, targets []string) {
 	})
 }
 
-// markdownText makes s safe inside a Markdown table cell or list item.
-func markdownText(s string) string {
-	return strings.NewReplacer("|", `\|`, "\n", " ").Replace(s)
-}
+
