@@ -402,5 +402,3 @@ func orderGroups(sum *eval.Summary, exp *Experiment, targets []string) {
 		return at - bt
 	})
 }
-
-
