@@ -20,6 +20,11 @@ import (
 // Experiment is one experiment file: the cohort and its preprocessing, the
 // models to compare, the cross-validation and the seed.
 type Experiment struct {
+	// Name names the experiment's run folders, runs/NAME-YYYYMMDD-HHMMSS,
+	// when skein run is given no --out; "" (the default) takes the name
+	// from the file (RunName). It must be usable as a folder name: no
+	// path separator, not starting with a dot.
+	Name string `toml:"name,omitempty"`
 	// Seed drives every random choice of the run: splits, initial
 	// weights, minibatches, dropout and permutations.
 	Seed int64 `toml:"seed"`
@@ -125,6 +130,9 @@ func (e *Experiment) SetDefaults() {
 
 // Validate reports the first setting that cannot work, naming its key.
 func (e *Experiment) Validate() error {
+	if e.Name != "" && (strings.ContainsAny(e.Name, `/\`+"\x00") || strings.HasPrefix(e.Name, ".") || strings.TrimSpace(e.Name) != e.Name) {
+		return fmt.Errorf("name: %q cannot name a run folder: use letters, digits, - and _ (no path separator, no leading dot or space)", e.Name)
+	}
 	if err := e.Cohort.Validate(); err != nil {
 		return err
 	}
