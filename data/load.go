@@ -155,7 +155,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 
 	if l.src.Regions != "" {
 		lp := l.path(l.src.Regions)
-		names, _, err := readIDList(lp, "region label")
+		names, _, err := readIDList(lp, regionLabel)
 		if err != nil {
 			return nil, nil, fmt.Errorf("cohort.regions: %w", err)
 		}
@@ -311,7 +311,12 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 		}
 		return i
 	}
-	idCol := find("participants", "participant_id")
+	idName := l.src.IDColumn
+	idKey := "participants"
+	if idName != DefaultIDColumn {
+		idKey = "id_column"
+	}
+	idCol := find(idKey, idName)
 	targetCols := make([]int, len(l.src.Targets))
 	for k, t := range l.src.Targets {
 		targetCols[k] = find("targets", t)
@@ -341,12 +346,12 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 		id := cells[idCol]
 		switch {
 		case isMissing(id):
-			cellErr(r, idCol, "participant_id is empty")
+			cellErr(r, idCol, "%s is empty", idName)
 		case strings.ContainsAny(id, `/\`) || id == "." || id == "..":
-			cellErr(r, idCol, "participant_id %q cannot name a file: it holds a path separator or is a dot name", id)
+			cellErr(r, idCol, "%s %q cannot name a file: it holds a path separator or is a dot name", idName, id)
 		default:
 			if prev, dup := seen[id]; dup {
-				cellErr(r, idCol, "participant_id %q is already on line %d", id, prev)
+				cellErr(r, idCol, "%s %q is already on line %d", idName, id, prev)
 			}
 			seen[id] = tbl.lines[r]
 		}
@@ -448,7 +453,7 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 	if m.spec.Stack != "" {
 		m.report = &ModalityReport{Source: m.spec.Stack}
 		m.idsPath = l.path(m.spec.StackIDs)
-		ids, lines, err := readIDList(m.idsPath, "participant_id")
+		ids, lines, err := readIDList(m.idsPath, l.src.IDColumn)
 		if err != nil {
 			l.errs.add(fmt.Errorf("%s.stack_ids: %w", key, err))
 			return
@@ -480,7 +485,7 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 		for k, id := range ids {
 			m.stackIdx[id] = k
 			if !known[id] {
-				unlisted(id, m.idsPath, fileErrorf(m.idsPath, lines[k], 0, "participant_id %q has a matrix in %s but no row in %s (set cohort.unlisted = %q to go on without it)", id, m.stackPath, l.tablePath, UnlistedReport))
+				unlisted(id, m.idsPath, fileErrorf(m.idsPath, lines[k], 0, "%s %q has a matrix in %s but no row in %s (set cohort.unlisted = %q to go on without it)", l.src.IDColumn, id, m.stackPath, l.tablePath, UnlistedReport))
 			}
 		}
 		return
@@ -502,7 +507,7 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 		if strings.ContainsAny(id, `/\`) || known[id] {
 			continue
 		}
-		unlisted(id, f, &FileError{Path: f, Err: fmt.Errorf("file matches %s.files %q but participant_id %q has no row in %s (set cohort.unlisted = %q to go on without it)", key, m.spec.Files, id, l.tablePath, UnlistedReport)})
+		unlisted(id, f, &FileError{Path: f, Err: fmt.Errorf("file matches %s.files %q but %s %q has no row in %s (set cohort.unlisted = %q to go on without it)", key, m.spec.Files, l.src.IDColumn, id, l.tablePath, UnlistedReport)})
 	}
 }
 

@@ -11,7 +11,8 @@ import (
 )
 
 // Placeholder is the mark in a path template that stands for a
-// participant's participant_id, as in "fc/{participant_id}_fc.tsv".
+// participant's id (the value in the id column, whatever its name), as in
+// "fc/{participant_id}_fc.tsv".
 const Placeholder = "{participant_id}"
 
 // Source says where a cohort's files are and how to read them: the
@@ -39,8 +40,13 @@ const Placeholder = "{participant_id}"
 type Source struct {
 	// Participants is the participants table, a .tsv (tab-separated, no
 	// quoting, as BIDS writes it) or .csv (RFC 4180) file with a header
-	// row holding a participant_id column. Missing cells are empty or "n/a".
+	// row holding the id column. Missing cells are empty or "n/a".
 	Participants string `toml:"participants"`
+	// IDColumn names the column of the participants table holding each
+	// participant's id, the value that replaces Placeholder in path
+	// templates and that a stack's stack_ids list. Default
+	// "participant_id", the BIDS convention.
+	IDColumn string `toml:"id_column"`
 	// Targets names the score columns to predict; at least one.
 	Targets []string `toml:"targets"`
 	// Covariates names covariate columns (optional). A column whose
@@ -148,6 +154,7 @@ func (u UnlistedPolicy) String() string { return string(u) }
 
 // Defaults of Source.
 const (
+	DefaultIDColumn        = "participant_id"
 	DefaultMinParticipants = 10
 	DefaultOutlierSD       = 3.0
 )
@@ -155,6 +162,9 @@ const (
 // SetDefaults fills every unset field with its documented default.
 // Validate expects it to have been called.
 func (s *Source) SetDefaults() {
+	if s.IDColumn == "" {
+		s.IDColumn = DefaultIDColumn
+	}
 	if s.MinParticipants == nil {
 		s.MinParticipants = new(DefaultMinParticipants)
 	}
@@ -190,12 +200,15 @@ func (s Source) validate(needTargets bool) error {
 	if needTargets && len(s.Targets) == 0 {
 		return errors.New(`cohort: key "targets" needs at least one score column`)
 	}
+	if strings.TrimSpace(s.IDColumn) == "" {
+		return errors.New(`cohort.id_column: empty column name`)
+	}
 	seen := map[string]string{}
 	note := func(key, col string) error {
 		if col == "" {
 			return fmt.Errorf("cohort.%s: empty column name", key)
 		}
-		if col == "participant_id" {
+		if col == s.IDColumn {
 			return fmt.Errorf("cohort.%s: %q is the id column, not a %s", key, col, strings.TrimSuffix(key, "s"))
 		}
 		if prev, ok := seen[col]; ok {
