@@ -246,7 +246,7 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison, referenceRule stri
 			"CI: %.0f%% percentile bootstrap"+
 			" over participants (%d resamples). p: permutation p-value, (1 + #{null at least as good}) / (1 + permutations). "+
 			"Δ: mean difference from the reference baseline over the same folds, tested by the "+
-			"corrected resampled t-test (Nadeau & Bengio 2003); %s.\n", 100*comps[0].R.Level, comps[0].R.Resamples, referenceRule)
+			"corrected resampled t-test (Nadeau & Bengio 2003); %s.\n", 100*comps[0].R.Level, comps[0].R.Resamples, EscapeMarkdown(referenceRule))
 	}
 	_, err := io.WriteString(w, b.String())
 	return err

@@ -30,8 +30,11 @@ type Report struct {
 	// Cautions are the statistical cautions this run triggered, each a
 	// sentence for the summary and the report.
 	Cautions []string
-	// Participants and Excluded count the cohort.
-	Participants, Excluded int
+	// Participants counts the cohort's participants.
+	Participants int
+	// Excluded lists the participants left out of the cohort, each with
+	// its reason (data.Cohort.Excluded).
+	Excluded []data.Exclusion
 	// Grouped says whether the cohort has a grouping column.
 	Grouped bool
 	// SampleSize is the sample-size curve; nil unless the experiment asks
@@ -62,7 +65,7 @@ type Computed struct {
 // elsewhere, in batch units; the report equals Evaluate's for the same
 // run.
 func EvaluateWith(ctx context.Context, exp *Experiment, r *train.Runner, res *train.Result, bins int, done Computed) (*Report, error) {
-	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: len(r.Cohort.Excluded),
+	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: r.Cohort.Excluded,
 		Grouped: train.Groups(r.Cohort) != nil}
 	rep.Rows = res.Predictions
 	rep.Summary = eval.Summarize(rep.Rows, bins, true)
@@ -339,7 +342,7 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 	var buf bytes.Buffer
 	exp := rep.Experiment
 	fmt.Fprintf(&buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
-		rep.Participants, rep.Excluded, len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
+		rep.Participants, len(rep.Excluded), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
 	if len(exp.CV.Confounds) > 0 {
 		fmt.Fprintf(&buf, ", confounds %s regressed out of the scores within each training fold", eval.EscapeMarkdown(strings.Join(exp.CV.Confounds, ", ")))
 	}
@@ -356,6 +359,12 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 	buf.WriteString("\n## Comparison\n")
 	if err := eval.WriteComparisonMarkdown(&buf, rep.Comparisons, rep.ReferenceRule); err != nil {
 		return err
+	}
+	if len(rep.Excluded) > 0 {
+		buf.WriteString("\n## Excluded participants\n\n")
+		for _, x := range rep.Excluded {
+			fmt.Fprintf(&buf, "- %s: %s\n", eval.EscapeMarkdown(x.ID), eval.EscapeMarkdown(x.Reason))
+		}
 	}
 	if len(rep.Cautions) > 0 {
 		buf.WriteString("\n## Cautions for this run\n\n")

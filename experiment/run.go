@@ -160,6 +160,9 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 		"blas_threads", opt.BLASThreads, "resume", opt.Resume)
 	say("%d participants (%d excluded), %d regions, %d models, %d-fold × %d",
 		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats)
+	for _, x := range cohort.Excluded {
+		say("excluded %s: %s", x.ID, x.Reason)
+	}
 
 	runner := &train.Runner{
 		Design:      exp.Design(),
