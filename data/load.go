@@ -60,12 +60,17 @@ func Check(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error)
 
 // CheckUnscored is Check for participants whose scores are unknown, such
 // as the ones a saved model is asked to predict: src.Targets is ignored,
-// the table needs no score columns, and nobody is excluded for lacking
-// scores. The cohort's Targets are empty and each Participant.Scores is
-// nil.
+// the table needs no score columns, nobody is excluded for lacking
+// scores, src.MinParticipants is ignored (one participant is a cohort),
+// and matrix files of participants without a table row are passed over
+// (unlisted = "report": the table lists who is to be predicted, such as a
+// few new participants whose files lie among the cohort's). The cohort's
+// Targets are empty and each Participant.Scores is nil.
 func CheckUnscored(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error) {
 	src = src.clone()
 	src.Targets = nil
+	src.MinParticipants = new(1)
+	src.Unlisted = UnlistedReport
 	return check(src, pre, baseDir, true)
 }
 

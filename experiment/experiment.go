@@ -60,7 +60,7 @@ type Experiment struct {
 // table of an experiment file.
 type Output struct {
 	// SaveModels keeps every fold's trained model, for models that can be
-	// saved (graph networks, ridge, the mean predictor), under
+	// saved (graph networks and every baseline), under
 	// models/NAME/rR-fF/ of the run folder with the target scaling fitted
 	// on its training fold. Default true.
 	SaveModels *bool `toml:"save_models"`
@@ -98,6 +98,19 @@ func ReadExperiment(path string) (*Experiment, error) {
 // word it does not know is an error naming the key and its line and
 // listing the words.
 func ParseExperiment(raw []byte) (*Experiment, error) {
+	exp, err := decodeExperiment(raw)
+	if err != nil {
+		return nil, err
+	}
+	if err := exp.Validate(); err != nil {
+		return nil, err
+	}
+	return exp, nil
+}
+
+// decodeExperiment decodes an experiment file's text and fills defaults,
+// without validating the settings.
+func decodeExperiment(raw []byte) (*Experiment, error) {
 	var exp Experiment
 	if err := checkWords(raw, reflect.TypeFor[Experiment]()); err != nil {
 		return nil, err
@@ -108,10 +121,27 @@ func ParseExperiment(raw []byte) (*Experiment, error) {
 		return nil, describeTOMLError(err)
 	}
 	exp.SetDefaults()
-	if err := exp.Validate(); err != nil {
+	return &exp, nil
+}
+
+// ReadCohortFile reads the experiment file at path for the participants
+// to predict with a saved model (Predict): unknown keys and values of the
+// wrong type are errors naming the key and its line, as in
+// ReadExperiment, but only its [cohort] table is checked, and that
+// without the keys training needs: targets and min_participants are not
+// required (data.CheckUnscored). The file of a training experiment
+// serves, and so does one holding only [cohort].
+func ReadCohortFile(path string) (*Experiment, error) {
+	raw, err := os.ReadFile(path)
+	if err != nil {
 		return nil, err
 	}
-	return &exp, nil
+	exp, err := decodeExperiment(raw)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	exp.Dir = filepath.Dir(path)
+	return exp, nil
 }
 
 // SetDefaults fills every unset field with its documented default.

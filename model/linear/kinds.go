@@ -22,8 +22,7 @@ var patternImportance = model.Importance{
 }
 
 // The baselines register themselves as kinds of model: all are baselines
-// and fit score columns independently; the mean predictor and ridge can
-// be saved.
+// and fit score columns independently, and all can be saved.
 func init() {
 	model.Register(model.Kind{
 		Name: kindMean, Baseline: true, ColumnWise: true,
@@ -56,6 +55,7 @@ func init() {
 			}
 			return Config{KernelRidge: c}.New(targets, seed)
 		},
+		Load: loader(kindKernelRidge),
 	})
 	model.Register(model.Kind{
 		Name: kindCPM, Baseline: true, ColumnWise: true,
@@ -70,6 +70,7 @@ func init() {
 			}
 			return Config{CPM: c}.New(targets, seed)
 		},
+		Load: loader(kindCPM),
 	})
 }
 
