@@ -340,19 +340,7 @@ func (rep *Report) Write(d *RunDir) error {
 // tables, the comparison tables and the cautions.
 func (rep *Report) WriteMarkdown(w io.Writer) error {
 	var buf bytes.Buffer
-	exp := rep.Experiment
-	fmt.Fprintf(&buf, "# skein run summary\n\n%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
-		rep.Participants, len(rep.Excluded), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
-	if len(exp.CV.Confounds) > 0 {
-		fmt.Fprintf(&buf, ", confounds %s regressed out of the scores within each training fold", eval.EscapeMarkdown(strings.Join(exp.CV.Confounds, ", ")))
-	}
-	if rep.Nulls != nil {
-		fmt.Fprintf(&buf, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
-		if rep.Grouped {
-			fmt.Fprintf(&buf, " (%s)", blocksSentence(exp.Permutation.Blocks))
-		}
-	}
-	buf.WriteString(".\n\n## Metrics\n\n")
+	buf.WriteString("# skein run summary\n\n" + rep.overview(eval.EscapeMarkdown) + "\n\n## Metrics\n\n")
 	if err := rep.Summary.WriteMarkdown(&buf); err != nil {
 		return err
 	}
@@ -370,6 +358,54 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 		buf.WriteString("\n## Cautions for this run\n\n")
 		for _, c := range rep.Cautions {
 			buf.WriteString("- " + eval.EscapeMarkdown(c) + "\n")
+		}
+	}
+	_, err := w.Write(buf.Bytes())
+	return err
+}
+
+// overview is the run in one sentence, names passed through esc.
+func (rep *Report) overview(esc func(string) string) string {
+	var b strings.Builder
+	exp := rep.Experiment
+	fmt.Fprintf(&b, "%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
+		rep.Participants, len(rep.Excluded), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
+	if len(exp.CV.Confounds) > 0 {
+		fmt.Fprintf(&b, ", confounds %s regressed out of the scores within each training fold", esc(strings.Join(exp.CV.Confounds, ", ")))
+	}
+	if rep.Nulls != nil {
+		fmt.Fprintf(&b, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
+		if rep.Grouped {
+			fmt.Fprintf(&b, " (%s)", blocksSentence(exp.Permutation.Blocks))
+		}
+	}
+	return b.String() + "."
+}
+
+// WriteText writes what WriteMarkdown does as plain text for a terminal,
+// no line wider than eval.TextWidth: the overview, the metrics tables
+// (eval.Summary.WriteText), the comparison (eval.WriteComparisonText),
+// the excluded participants and the cautions.
+func (rep *Report) WriteText(w io.Writer) error {
+	var buf bytes.Buffer
+	same := func(s string) string { return s }
+	buf.WriteString(eval.WrapText(rep.overview(same), eval.TextWidth) + "\n")
+	if err := rep.Summary.WriteText(&buf); err != nil {
+		return err
+	}
+	if err := eval.WriteComparisonText(&buf, rep.Comparisons, rep.ReferenceRule); err != nil {
+		return err
+	}
+	if len(rep.Excluded) > 0 {
+		buf.WriteString("\nExcluded participants:\n")
+		for _, x := range rep.Excluded {
+			buf.WriteString(eval.WrapText("- "+x.ID+": "+x.Reason, eval.TextWidth))
+		}
+	}
+	if len(rep.Cautions) > 0 {
+		buf.WriteString("\nCautions for this run:\n")
+		for _, c := range rep.Cautions {
+			buf.WriteString(eval.WrapText("- "+c, eval.TextWidth))
 		}
 	}
 	_, err := w.Write(buf.Bytes())

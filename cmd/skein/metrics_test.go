@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"unicode/utf8"
 )
 
 // runMetrics runs "skein metrics ARGS" and returns the exit code, stdout
@@ -35,9 +36,15 @@ func TestMetricsTable(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
-	for _, want := range []string{"192 predictions", "graphnet", "anxiety", "pooled", "6 folds: mean ± SD", "Pearson r", "not a diagnostic device"} {
+	for _, want := range []string{"192 predictions", "graphnet", "anxiety", "pooled", "6 folds", "mean ± SD over the test folds", "Pearson r", "not a diagnostic device"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	// The tables are split to fit a terminal of 100 columns.
+	for _, line := range strings.Split(out, "\n") {
+		if n := utf8.RuneCountInString(line); n > 100 {
+			t.Errorf("line of %d characters: %q", n, line)
 		}
 	}
 }

@@ -207,8 +207,20 @@ func TestPredictSavedBaselinesOnAFewNew(t *testing.T) {
 			"[[model]]\nname = \"krr-linear\"\n[model.kernel_ridge]\nkernel = \"linear\"\n"+
 			"[[model]]\nname = \"cpm\"\n[model.cpm]\np_threshold = 0.1\n")
 	out := filepath.Join(t.TempDir(), "run")
-	if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--no-history"); code != exitOK {
+	code, stdout, stderr := runSkein(t, "run", exp, "--out", out, "--no-history")
+	if code != exitOK {
 		t.Fatalf("run: exit %d: %s", code, stderr)
+	}
+	// The tables printed at the end fit a terminal of 100 columns.
+	for _, line := range strings.Split(stdout, "\n") {
+		if n := len([]rune(line)); n > 100 && !strings.HasPrefix(line, "Results in ") {
+			t.Errorf("run printed a line of %d characters: %q", n, line)
+		}
+	}
+	for _, want := range []string{"r within folds", "krr-linear", "comparison", "Δr vs reference", "Results in " + out} {
+		if !strings.Contains(stdout, want) {
+			t.Errorf("run's output lacks %q:\n%s", want, stdout)
+		}
 	}
 	// Three test participants of repeat 2, fold 3, in a table of their own
 	// without scores, beside the cohort's matrices.
@@ -255,7 +267,7 @@ func TestPredictSavedBaselinesOnAFewNew(t *testing.T) {
 			}
 		}
 	}
-	code, _, stderr := runSkein(t, "predict", filepath.Join(out, "models", "cpm"), cohort)
+	code, _, stderr = runSkein(t, "predict", filepath.Join(out, "models", "cpm"), cohort)
 	for _, want := range []string{"models/cpm: not a saved model's folder (no fitted.json)",
 		"the fold models r1-f1, r1-f2, r1-f3, r1-f4, r2-f1, r2-f2, r2-f3, r2-f4 (each trained on one training fold",
 		filepath.Join(out, "models", "cpm", "all") + ", the model refitted on all participants"} {

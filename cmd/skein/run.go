@@ -84,10 +84,10 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if oc.ViewsErr != nil {
 		fmt.Fprintf(cio.stderr, "skein run: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", oc.ViewsErr, oc.Dir)
 	}
-	if err := oc.Report.WriteMarkdown(cio.stdout); err != nil {
+	if err := oc.Report.WriteText(cio.stdout); err != nil {
 		return err
 	}
-	fmt.Fprintf(cio.stdout, "\nResults in %s\n", oc.Dir)
+	fmt.Fprintf(cio.stdout, "\nResults in %s (the same tables in summary.md, figures in report.html)\n", oc.Dir)
 	if !*noHistory {
 		path, err := experiment.RecordHistory(oc.Dir, *history)
 		if err != nil {
