@@ -71,7 +71,13 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 			fmt.Fprintln(cio.stderr, "skein run: the experiment has no [drift] rule: --against only writes the comparison ("+experiment.DriftFile+")")
 		}
 	}
-	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), len(exp.Models)*(*exp.CV.Folds)*(*exp.CV.Repeats))
+	var names []string
+	if expanded, _, err := exp.Expand(); err == nil { // an error is Run's to report
+		for _, m := range expanded.Models {
+			names = append(names, m.Name)
+		}
+	}
+	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), names, (*exp.CV.Folds)*(*exp.CV.Repeats), par.Jobs)
 	opt.OnEvent = show.event
 	oc, err := experiment.Run(ctx, expPath, exp, opt)
 	show.finish()
