@@ -45,6 +45,12 @@ func init() {
 			return Config{Ridge: c}.New(targets, seed)
 		},
 		Load: loader(kindRidge),
+		ImportanceViews: func(s model.Settings) []string {
+			if c, ok := s.(*RidgeConfig); ok {
+				return importanceViews(c.Input)
+			}
+			return nil
+		},
 	})
 	model.Register(model.Kind{
 		Name: kindKernelRidge, Baseline: true, ColumnWise: true, Importance: patternImportance,
@@ -56,6 +62,12 @@ func init() {
 			return Config{KernelRidge: c}.New(targets, seed)
 		},
 		Load: loader(kindKernelRidge),
+		ImportanceViews: func(s model.Settings) []string {
+			if c, ok := s.(*KernelRidgeConfig); ok {
+				return importanceViews(c.Input)
+			}
+			return nil
+		},
 	})
 	model.Register(model.Kind{
 		Name: kindCPM, Baseline: true, ColumnWise: true,
@@ -71,6 +83,12 @@ func init() {
 			return Config{CPM: c}.New(targets, seed)
 		},
 		Load: loader(kindCPM),
+		ImportanceViews: func(s model.Settings) []string {
+			if c, ok := s.(*CPMConfig); ok {
+				return importanceViews(c.Input)
+			}
+			return nil
+		},
 	})
 }
 
