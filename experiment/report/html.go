@@ -111,9 +111,8 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 	}
 	for _, m := range imp {
 		b := importanceBlock{ModelImportance: m}
-		name := fileName("importance", m.Model, m.Target)
 		for _, f := range figs {
-			if f.File == name {
+			if f.File == m.File {
 				hf := embed(f)
 				b.Figure = &hf
 			}
@@ -198,7 +197,7 @@ Rebuild it with <code>skein report</code> once the cause is fixed.</div>
 <figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption>
 </figure>
 {{end}}{{if imp .Title}}{{range $.Importance}}
-<h3>{{.Model}} — {{.Target}}</h3>
+<h3>{{.Model}} — {{.Target}}{{with .View}} — {{.}} edges{{end}}</h3>
 {{with .Figure}}<figure class="{{if gt .Width 700}}wide{{else}}half{{end}}" style="max-width: {{.Width}}px">
 <img src="{{.Src}}" width="{{.Width}}" height="{{.Height}}" alt="{{.Title}}">
 <figcaption><b>{{.Title}}.</b> {{.Caption}}</figcaption>
