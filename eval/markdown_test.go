@@ -47,3 +47,20 @@ func TestSummaryMarkdownEscapesNames(t *testing.T) {
 		t.Errorf("target name not escaped:\n%s", md)
 	}
 }
+
+func TestWrapText(t *testing.T) {
+	for _, tt := range []struct {
+		in   string
+		w    int
+		want string
+	}{
+		{"a bb ccc", 4, "a bb\nccc\n"},
+		{"a  bb\nccc", 80, "a bb ccc\n"},
+		{"longword a", 3, "longword\na\n"},
+		{"", 5, ""},
+	} {
+		if got := WrapText(tt.in, tt.w); got != tt.want {
+			t.Errorf("WrapText(%q, %d) = %q, want %q", tt.in, tt.w, got, tt.want)
+		}
+	}
+}

@@ -47,20 +47,3 @@ func TestVersion(t *testing.T) {
 		}
 	}
 }
-
-func TestWrap(t *testing.T) {
-	for _, tt := range []struct {
-		in   string
-		w    int
-		want string
-	}{
-		{"a bb ccc", 4, "a bb\nccc"},
-		{"a  bb\nccc", 80, "a bb ccc"},
-		{"longword a", 3, "longword\na"},
-		{"", 5, ""},
-	} {
-		if got := wrap(tt.in, tt.w); got != tt.want {
-			t.Errorf("wrap(%q, %d) = %q, want %q", tt.in, tt.w, got, tt.want)
-		}
-	}
-}

@@ -18,10 +18,9 @@ import (
 	"io"
 	"os"
 	"os/signal"
-	"strings"
 	"syscall"
-	"unicode/utf8"
 
+	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/train"
 )
@@ -99,32 +98,9 @@ func commands() []command {
 func describe(w io.Writer, name string) {
 	for _, c := range commands() {
 		if c.name == name {
-			fmt.Fprintln(w, wrap(c.about, 80))
-			fmt.Fprintln(w)
+			fmt.Fprintln(w, eval.WrapText(c.about, 80))
 		}
 	}
-}
-
-// wrap breaks text into lines of at most width runes at spaces (a longer
-// word stands alone on its line).
-func wrap(text string, width int) string {
-	var b strings.Builder
-	n := 0
-	for _, word := range strings.Fields(text) {
-		l := utf8.RuneCountInString(word)
-		switch {
-		case n == 0:
-		case n+1+l > width:
-			b.WriteByte('\n')
-			n = 0
-		default:
-			b.WriteByte(' ')
-			n++
-		}
-		b.WriteString(word)
-		n += l
-	}
-	return b.String()
 }
 
 func main() {

@@ -17,11 +17,12 @@ func cmdPredict(ctx context.Context, cio commandIO, args []string) error {
 	fs.Usage = func() {
 		describe(cio.stderr, "predict")
 		fmt.Fprintln(cio.stderr, "usage: skein predict MODEL_DIR COHORT.toml [--out FILE]")
-		fmt.Fprintln(cio.stderr, "\nMODEL_DIR is a saved model of a run (RUN/models/NAME/all or RUN/models/NAME/rR-fF);")
-		fmt.Fprintln(cio.stderr, "COHORT.toml an experiment file whose [cohort] table describes the participants to predict")
-		fmt.Fprintln(cio.stderr, "(score columns are not needed). Their matrices are preprocessed as at training time, and")
-		fmt.Fprintln(cio.stderr, "the preparation fitted on the model's training participants (fitted.json) is replayed:")
-		fmt.Fprintln(cio.stderr, "\"predicted\" is in score units, \"predicted_residual\" without the confound fit.")
+		fmt.Fprintln(cio.stderr, "\nMODEL_DIR is a saved model of a run: RUN/models/NAME/all (refitted on all participants,")
+		fmt.Fprintln(cio.stderr, "with [output] refit = true) or RUN/models/NAME/rR-fF (one fold's). COHORT.toml is an")
+		fmt.Fprintln(cio.stderr, "experiment file of which only the [cohort] table is read: it needs no targets and no score")
+		fmt.Fprintln(cio.stderr, "columns, min_participants does not apply, and matrix files of participants its table does")
+		fmt.Fprintln(cio.stderr, "not list are passed over. \"predicted\" is in score units, \"predicted_residual\" without")
+		fmt.Fprintln(cio.stderr, "the confound fit.")
 		fs.PrintDefaults()
 	}
 	positional, err := positionalArgs(fs, args, 2, "a model folder and a cohort file")
