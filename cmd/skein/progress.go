@@ -102,16 +102,26 @@ func (p *progress) event(e train.Event) {
 			"elapsed", e.Elapsed.Round(time.Second).String())
 		return
 	}
-	p.log.Info("training", "done", p.done.Finished, "of", p.done.Total, "left", p.left(now), "running", strings.Join(p.runningLines(), "; "))
+	left := p.left(now)
+	if p.done.Finished == p.done.Total {
+		left = "none"
+	}
+	p.log.Info("training", "done", p.done.Finished, "of", p.done.Total, "left", left, "running", strings.Join(p.runningLines(), "; "))
 }
 
-// left is the estimate of the time left, in words.
+// left is the estimate of the time left, in words: about so much when
+// every model with units left has been timed; at least what the timed
+// ones need, naming the others, when some have not; nothing when none
+// has.
 func (p *progress) left(now time.Time) string {
-	d, ok := p.eta.left(now)
-	if !ok {
-		return "time left not known yet (every model must finish a unit first)"
+	d, untimed := p.eta.left(now)
+	switch {
+	case len(untimed) == 0:
+		return "about " + roundDuration(d).String() + " left"
+	case d > 0:
+		return fmt.Sprintf("at least %s left (not yet timed: %s)", roundDuration(d), strings.Join(untimed, ", "))
 	}
-	return "about " + roundDuration(d).String() + " left"
+	return fmt.Sprintf("time left not known yet (not yet timed: %s)", strings.Join(untimed, ", "))
 }
 
 // runningLines describes the running units, one line each, in the order
@@ -153,8 +163,12 @@ func (p *progress) draw(now time.Time) {
 		if total == 0 {
 			total = p.eta.total()
 		}
+		left := p.left(now)
+		if p.done.Finished == total {
+			left = "done"
+		}
 		lines = append(lines, fmt.Sprintf("%s %d/%d units, %s, %s", bar(p.done.Finished, total), p.done.Finished, total,
-			roundDuration(now.Sub(p.eta.began)), p.left(now)))
+			roundDuration(now.Sub(p.eta.began)), left))
 		for _, l := range p.runningLines() {
 			lines = append(lines, "  "+l)
 		}
@@ -222,9 +236,10 @@ func roundDuration(d time.Duration) time.Duration {
 // estimate estimates the time left of a run from the units that have
 // finished: per model, the mean time of its trained units (resumed ones
 // take none), so that fast baselines do not make slow networks look
-// fast. Until every model with units left has finished one, there is no
-// estimate. The work left, the mean time of each unit not started and
-// what the mean leaves of each running one, is shared by the jobs.
+// fast. A model with units left none of which has finished is not timed,
+// and the estimate is then only a lower bound. The work left, the mean
+// time of each unit not started and what the mean leaves of each running
+// one, is shared by the jobs.
 type estimate struct {
 	models    []string
 	remaining map[string]int // units not finished, per model
@@ -272,16 +287,20 @@ func (e *estimate) finish(u train.Unit, model string, resumed bool, now time.Tim
 	delete(e.started, u)
 }
 
-// left returns the estimated time left and whether there is an estimate.
-func (e *estimate) left(now time.Time) (time.Duration, bool) {
+// left returns the estimated time left of the timed models and the
+// models with units left that are not timed yet (the estimate is
+// complete when there are none).
+func (e *estimate) left(now time.Time) (time.Duration, []string) {
 	var work time.Duration
+	var untimed []string
 	for _, m := range e.models {
 		if e.remaining[m] <= 0 {
 			continue
 		}
 		took := e.took[m]
 		if len(took) == 0 {
-			return 0, false
+			untimed = append(untimed, m)
+			continue
 		}
 		var mean time.Duration
 		for _, d := range took {
@@ -297,7 +316,7 @@ func (e *estimate) left(now time.Time) (time.Duration, bool) {
 		}
 		work += time.Duration(max(0, notStarted)) * mean
 	}
-	return work / time.Duration(e.jobs), true
+	return work / time.Duration(e.jobs), untimed
 }
 
 // order returns the units of running in the run's order.
