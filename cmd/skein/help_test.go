@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"runtime/debug"
 	"strings"
 	"testing"
 )
@@ -44,6 +45,25 @@ func TestVersion(t *testing.T) {
 		out := stdout.String()
 		if !strings.HasPrefix(out, "skein github.com/skein-neuro/skein ") || !strings.Contains(out, " go1.") {
 			t.Errorf("%v printed %q", args, out)
+		}
+	}
+}
+
+// TestVersionOfBuild: the module version and the VCS settings the go
+// command records (runtime/debug.BuildInfo) are printed as they are.
+func TestVersionOfBuild(t *testing.T) {
+	for _, tt := range []struct {
+		info debug.BuildInfo
+		want string
+	}{
+		{debug.BuildInfo{GoVersion: "go1.26.8", Main: debug.Module{Path: "github.com/skein-neuro/skein", Version: "v1.4.0"}},
+			"skein github.com/skein-neuro/skein v1.4.0, go1.26.8"},
+		{debug.BuildInfo{GoVersion: "go1.26.8", Main: debug.Module{Path: "github.com/skein-neuro/skein", Version: "(devel)"},
+			Settings: []debug.BuildSetting{{Key: "vcs.revision", Value: "41e4e18c0ffee"}, {Key: "vcs.time", Value: "2026-12-02T11:36:00Z"}, {Key: "vcs.modified", Value: "true"}}},
+			"skein github.com/skein-neuro/skein (devel), revision 41e4e18c0ffee+modified of 2026-12-02T11:36:00Z, go1.26.8"},
+	} {
+		if got := versionOf(&tt.info); got != tt.want {
+			t.Errorf("versionOf = %q, want %q", got, tt.want)
 		}
 	}
 }

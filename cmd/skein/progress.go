@@ -115,11 +115,12 @@ func (p *progress) event(e train.Event) {
 // has.
 func (p *progress) left(now time.Time) string {
 	d, untimed := p.eta.left(now)
+	d = roundDuration(d)
 	switch {
 	case len(untimed) == 0:
-		return "about " + roundDuration(d).String() + " left"
+		return "about " + d.String() + " left"
 	case d > 0:
-		return fmt.Sprintf("at least %s left (not yet timed: %s)", roundDuration(d), strings.Join(untimed, ", "))
+		return fmt.Sprintf("at least %s left (not yet timed: %s)", d, strings.Join(untimed, ", "))
 	}
 	return fmt.Sprintf("time left not known yet (not yet timed: %s)", strings.Join(untimed, ", "))
 }

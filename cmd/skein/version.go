@@ -32,6 +32,11 @@ func version() string {
 	if !ok {
 		return fmt.Sprintf("skein (no build information) %s", runtime.Version())
 	}
+	return versionOf(info)
+}
+
+// versionOf is version for the build information info.
+func versionOf(info *debug.BuildInfo) string {
 	path, v := info.Main.Path, info.Main.Version
 	if path == "" {
 		path = "github.com/skein-neuro/skein"
