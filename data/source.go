@@ -23,6 +23,7 @@ const Placeholder = "{participant_id}"
 //
 //	[cohort]
 //	participants = "participants.tsv"
+//	id_column = "participant_id"
 //	targets = ["recall", "fluency"]
 //	covariates = ["age", "sex", "motion"]
 //	group = "family"
@@ -30,6 +31,10 @@ const Placeholder = "{participant_id}"
 //	min_participants = 20
 //	outlier_sd = 3.0
 //	unlisted = "error"
+//	on_bad_participant = "exclude"
+//
+//	[cohort.exclude]
+//	sub-017 = "region 12 lost in acquisition"
 //
 //	[cohort.functional]
 //	files = "fc/{participant_id}_fc.tsv"
