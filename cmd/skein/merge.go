@@ -36,9 +36,9 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	if oc.ViewsErr != nil {
 		fmt.Fprintf(cio.stderr, "skein merge: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", oc.ViewsErr, oc.Dir)
 	}
-	if err := oc.Report.WriteMarkdown(cio.stdout); err != nil {
+	if err := oc.Report.WriteText(cio.stdout); err != nil {
 		return err
 	}
-	fmt.Fprintf(cio.stdout, "\nMerged %d units; results in %s\n", units, oc.Dir)
+	fmt.Fprintf(cio.stdout, "\nMerged %d units; results in %s (the same tables in summary.md)\n", units, oc.Dir)
 	return nil
 }
