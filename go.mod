@@ -6,7 +6,6 @@ require (
 	codeberg.org/sbinet/npyio v0.14.0
 	github.com/chewxy/hm v1.0.0
 	github.com/pelletier/go-toml/v2 v2.4.3
-	github.com/schollz/progressbar/v3 v3.19.1
 	golang.org/x/term v0.48.0
 	gonum.org/v1/gonum v0.17.0
 	gonum.org/v1/netlib v0.0.0-20220323200511-14de99971b2d
@@ -14,6 +13,8 @@ require (
 	gorgonia.org/gorgonia v0.9.18
 	gorgonia.org/tensor v0.9.24
 )
+
+require github.com/stretchr/testify v1.9.0 // indirect
 
 require (
 	codeberg.org/go-fonts/liberation v0.5.0 // indirect
@@ -31,11 +32,9 @@ require (
 	github.com/google/flatbuffers v2.0.6+incompatible // indirect
 	github.com/google/uuid v1.3.0 // indirect
 	github.com/leesper/go_rng v0.0.0-20190531154944-a612b043e353 // indirect
-	github.com/mitchellh/colorstring v0.0.0-20190213212951-d06e56a500db // indirect
 	github.com/nlpodyssey/gopickle v0.3.0 // indirect
 	github.com/pkg/errors v0.9.1 // indirect
 	github.com/pmezard/go-difflib v1.0.0 // indirect
-	github.com/rivo/uniseg v0.4.7 // indirect
 	github.com/xtgo/set v1.0.0 // indirect
 	// Newer than gorgonia and tensor ask for, on purpose: their versions panic
 	// at start-up on Go releases newer than they know, Go 1.26 included; this

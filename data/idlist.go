@@ -8,9 +8,12 @@ import (
 	"strings"
 )
 
+// regionLabel is what readIDList calls the entries of a region-labels file.
+const regionLabel = "region label"
+
 // readIDList reads a file holding one name a line: a stack's participant
-// order or a region-labels file. what names the entries in messages
-// ("participant_id", "region label").
+// order or a region-labels file. what names the entries in messages: the
+// id column's name (such as "participant_id") or regionLabel.
 func readIDList(path, what string) (names []string, lines []int, err error) {
 	raw, err := os.ReadFile(path)
 	if err != nil {
@@ -22,9 +25,9 @@ func readIDList(path, what string) (names []string, lines []int, err error) {
 // parseIDList parses raw as one name a line. Surrounding white space is
 // trimmed, a leading UTF-8 byte order mark is dropped and blank lines at
 // the end are ignored; a blank line before the last name is an error, as
-// it would shift the order. In a participant list (what is
-// "participant_id") a first line equal to "participant_id" is taken as a
-// header and skipped. Names must be distinct.
+// it would shift the order. In a participant list (what is not
+// regionLabel) a first line equal to what, the id column's name, is taken
+// as a header and skipped. Names must be distinct.
 func parseIDList(path string, raw []byte, what string) (names []string, lines []int, err error) {
 	raw = bytes.TrimPrefix(raw, []byte("\ufeff"))
 	all := strings.Split(string(raw), "\n")
@@ -34,7 +37,7 @@ func parseIDList(path string, raw []byte, what string) (names []string, lines []
 	seen := make(map[string]int)
 	for i, line := range all {
 		name := strings.TrimSpace(line)
-		if i == 0 && what == "participant_id" && name == what {
+		if i == 0 && what != regionLabel && name == what {
 			continue
 		}
 		if name == "" {

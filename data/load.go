@@ -3,9 +3,11 @@ package data
 import (
 	"errors"
 	"fmt"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
@@ -40,6 +42,11 @@ func Load(src Source, pre Preprocess, baseDir string) (*Cohort, error) {
 // Other problems exclude one participant with a reason in
 // Cohort.Excluded and the report: no matrix file (or no stack entry) for a
 // modality, no value in any target column, no value in the group column.
+// So do an id listed in src.Exclude (with its reason) and, when
+// src.OnBadParticipant is BadParticipantExclude, a failed check of the
+// participant's own matrix (with the check's message). A functional
+// diagonal within DiagonalTolerance of 1 is accepted when preprocessing
+// replaces the diagonal.
 // A participant missing some but not all scores is kept with NaN there.
 //
 // When fewer than src.MinParticipants are left Check returns the report
@@ -53,12 +60,17 @@ func Check(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error)
 
 // CheckUnscored is Check for participants whose scores are unknown, such
 // as the ones a saved model is asked to predict: src.Targets is ignored,
-// the table needs no score columns, and nobody is excluded for lacking
-// scores. The cohort's Targets are empty and each Participant.Scores is
-// nil.
+// the table needs no score columns, nobody is excluded for lacking
+// scores, src.MinParticipants is ignored (one participant is a cohort),
+// and matrix files of participants without a table row are passed over
+// (unlisted = "report": the table lists who is to be predicted, such as a
+// few new participants whose files lie among the cohort's). The cohort's
+// Targets are empty and each Participant.Scores is nil.
 func CheckUnscored(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error) {
 	src = src.clone()
 	src.Targets = nil
+	src.MinParticipants = new(1)
+	src.Unlisted = UnlistedReport
 	return check(src, pre, baseDir, true)
 }
 
@@ -152,10 +164,22 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	if err := l.errs.err(); err != nil {
 		return nil, nil, err
 	}
+	inTable := make(map[string]bool, len(rows))
+	for _, r := range rows {
+		inTable[r.id] = true
+	}
+	for _, id := range slices.Sorted(maps.Keys(l.src.Exclude)) {
+		if !inTable[id] {
+			l.errs.add(fmt.Errorf("cohort.exclude: %s %q has no row in %s", l.src.IDColumn, id, l.tablePath))
+		}
+	}
+	if err := l.errs.err(); err != nil {
+		return nil, nil, err
+	}
 
 	if l.src.Regions != "" {
 		lp := l.path(l.src.Regions)
-		names, _, err := readIDList(lp, "region label")
+		names, _, err := readIDList(lp, regionLabel)
 		if err != nil {
 			return nil, nil, fmt.Errorf("cohort.regions: %w", err)
 		}
@@ -183,6 +207,10 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates}
 	var kept []*Participant
 	for _, r := range rows {
+		if reason, ok := l.src.Exclude[r.id]; ok {
+			c.Excluded = append(c.Excluded, Exclusion{ID: r.id, Reason: "excluded in the experiment file (cohort.exclude): " + reason})
+			continue
+		}
 		var reasons []string
 		for _, m := range mods {
 			if reason := l.absent(m, r.id); reason != "" {
@@ -200,36 +228,43 @@ func (l *loader) load() (*Cohort, *Report, error) {
 			continue
 		}
 		p := &Participant{ID: r.id, Group: r.group, Scores: r.scores, Covariates: r.covariates}
-		ok := true
-		for _, m := range mods {
+		var failed []string
+		means, densities := make([]float64, len(mods)), make([]float64, len(mods))
+		for k, m := range mods {
 			f, err := l.matrix(m, r.id)
 			if err == nil {
 				err = l.checkMatrix(m, f)
 			}
-			if err != nil {
-				l.errs.add(err)
-				ok = false
-				continue
-			}
-			a, path := f.a, f.path
-			mean, density := offDiagonal(a)
-			m.means = append(m.means, mean)
-			m.densities = append(m.densities, density)
-			if m.name == "functional" {
-				err = l.pre.Functional(a)
-				p.Functional = a
-			} else {
-				err = l.pre.Structural(a)
-				p.Structural = a
+			if err == nil {
+				a := f.a
+				means[k], densities[k] = offDiagonal(a)
+				if m.name == "functional" {
+					err = l.pre.Functional(a)
+					p.Functional = a
+				} else {
+					err = l.pre.Structural(a)
+					p.Structural = a
+				}
+				if err != nil {
+					err = fmt.Errorf("%s: participant %s: preprocessing the %s matrix: %w", f.path, r.id, m.name, err)
+				}
 			}
 			if err != nil {
-				l.errs.add(fmt.Errorf("%s: participant %s: preprocessing the %s matrix: %w", path, r.id, m.name, err))
-				ok = false
+				if l.src.OnBadParticipant != BadParticipantExclude {
+					l.errs.add(err)
+				}
+				failed = append(failed, err.Error())
 			}
 		}
-		if ok {
-			kept = append(kept, p)
+		if len(failed) > 0 {
+			c.Excluded = append(c.Excluded, Exclusion{ID: r.id, Reason: fmt.Sprintf("failed a check (cohort.on_bad_participant = %q): %s", BadParticipantExclude, strings.Join(failed, "; "))})
+			continue
 		}
+		for k, m := range mods {
+			m.means = append(m.means, means[k])
+			m.densities = append(m.densities, densities[k])
+		}
+		kept = append(kept, p)
 	}
 	if err := l.errs.err(); err != nil {
 		return nil, nil, err
@@ -311,7 +346,12 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 		}
 		return i
 	}
-	idCol := find("participants", "participant_id")
+	idName := l.src.IDColumn
+	idKey := "participants"
+	if idName != DefaultIDColumn {
+		idKey = "id_column"
+	}
+	idCol := find(idKey, idName)
 	targetCols := make([]int, len(l.src.Targets))
 	for k, t := range l.src.Targets {
 		targetCols[k] = find("targets", t)
@@ -341,20 +381,21 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 		id := cells[idCol]
 		switch {
 		case isMissing(id):
-			cellErr(r, idCol, "participant_id is empty")
+			cellErr(r, idCol, "%s is empty", idName)
 		case strings.ContainsAny(id, `/\`) || id == "." || id == "..":
-			cellErr(r, idCol, "participant_id %q cannot name a file: it holds a path separator or is a dot name", id)
+			cellErr(r, idCol, "%s %q cannot name a file: it holds a path separator or is a dot name", idName, id)
 		default:
 			if prev, dup := seen[id]; dup {
-				cellErr(r, idCol, "participant_id %q is already on line %d", id, prev)
+				cellErr(r, idCol, "%s %q is already on line %d", idName, id, prev)
 			}
 			seen[id] = tbl.lines[r]
 		}
 		row := tableRow{id: id, scores: make([]float64, len(targetCols)), covariates: make([]float64, len(covCols))}
+		_, excluded := l.src.Exclude[id]
 		for k, col := range targetCols {
 			row.scores[k] = math.NaN()
 			cell := cells[col]
-			if isMissing(cell) {
+			if isMissing(cell) || excluded {
 				continue
 			}
 			v, err := strconv.ParseFloat(cell, 64)
@@ -385,9 +426,10 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 // cell's value among the column's sorted distinct values.
 func (l *loader) codeCovariate(tbl *table, col, k int, rows []tableRow, cellErr func(r, col int, format string, args ...any)) VariableReport {
 	rep := VariableReport{Name: tbl.header[col], Kind: "numeric"}
-	first := -1 // first non-missing row
+	skip := func(r int) bool { _, ok := l.src.Exclude[rows[r].id]; return ok }
+	first := -1 // first non-missing row of a participant not excluded by id
 	for r, cells := range tbl.rows {
-		if !isMissing(cells[col]) {
+		if !isMissing(cells[col]) && !skip(r) {
 			first = r
 			break
 		}
@@ -397,7 +439,7 @@ func (l *loader) codeCovariate(tbl *table, col, k int, rows []tableRow, cellErr 
 	for r, cells := range tbl.rows {
 		rows[r].covariates[k] = math.NaN()
 		cell := cells[col]
-		if isMissing(cell) {
+		if isMissing(cell) || skip(r) {
 			continue
 		}
 		v, err := strconv.ParseFloat(cell, 64)
@@ -448,7 +490,7 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 	if m.spec.Stack != "" {
 		m.report = &ModalityReport{Source: m.spec.Stack}
 		m.idsPath = l.path(m.spec.StackIDs)
-		ids, lines, err := readIDList(m.idsPath, "participant_id")
+		ids, lines, err := readIDList(m.idsPath, l.src.IDColumn)
 		if err != nil {
 			l.errs.add(fmt.Errorf("%s.stack_ids: %w", key, err))
 			return
@@ -480,7 +522,7 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 		for k, id := range ids {
 			m.stackIdx[id] = k
 			if !known[id] {
-				unlisted(id, m.idsPath, fileErrorf(m.idsPath, lines[k], 0, "participant_id %q has a matrix in %s but no row in %s (set cohort.unlisted = %q to go on without it)", id, m.stackPath, l.tablePath, UnlistedReport))
+				unlisted(id, m.idsPath, fileErrorf(m.idsPath, lines[k], 0, "%s %q has a matrix in %s but no row in %s (set cohort.unlisted = %q to go on without it)", l.src.IDColumn, id, m.stackPath, l.tablePath, UnlistedReport))
 			}
 		}
 		return
@@ -502,7 +544,7 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 		if strings.ContainsAny(id, `/\`) || known[id] {
 			continue
 		}
-		unlisted(id, f, &FileError{Path: f, Err: fmt.Errorf("file matches %s.files %q but participant_id %q has no row in %s (set cohort.unlisted = %q to go on without it)", key, m.spec.Files, id, l.tablePath, UnlistedReport)})
+		unlisted(id, f, &FileError{Path: f, Err: fmt.Errorf("file matches %s.files %q but %s %q has no row in %s (set cohort.unlisted = %q to go on without it)", key, m.spec.Files, l.src.IDColumn, id, l.tablePath, UnlistedReport)})
 	}
 }
 
@@ -642,6 +684,9 @@ func (l *loader) checkMatrix(m *modality, f *matrixFile) error {
 			case m.name == "structural" && v < 0:
 				return at(i, j, "entry (%d, %d) is %v; structural values must be non-negative", i+1, j+1, v)
 			case m.name == "functional" && m.spec.Values == ValuesCorrelation && (v < -1 || v > 1):
+				if i == j && l.pre.FC.Diagonal == ZeroDiagonalSetting && math.Abs(v-1) <= DiagonalTolerance {
+					continue // round-off on a diagonal that preprocessing replaces
+				}
 				return at(i, j, "entry (%d, %d) is %v, outside [-1, 1]; correlations expected (set cohort.functional.values = %q for other values)", i+1, j+1, v, ValuesAny)
 			}
 		}

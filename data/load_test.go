@@ -323,6 +323,28 @@ func TestCheckSmallCohorts(t *testing.T) {
 		{"id with a slash", func(f map[string]string, _ *Source) {
 			f["participants.csv"] = "participant_id,score\n../s1,1\n"
 		}, `participant_id "../s1" cannot name a file`, nil, 0},
+		{"id column named by id_column", func(f map[string]string, s *Source) {
+			f["participants.csv"] = "subject,score,site\ns1,1,x\ns2,2,y\ns3,,x\n"
+			s.IDColumn = "subject"
+		}, "", []string{"R001", "R002", "R003"}, 2},
+		{"id_column missing from the table", func(f map[string]string, s *Source) {
+			s.IDColumn = "subject"
+		}, `participants.csv: line 1: no column "subject" (named in cohort.id_column)`, nil, 0},
+		{"duplicate id in a renamed id column", func(f map[string]string, s *Source) {
+			f["participants.csv"] = "subject,score\ns1,1\ns1,2\n"
+			s.IDColumn = "subject"
+		}, `line 3, column 1 ("subject"): subject "s1" is already on line 2`, nil, 0},
+		{"stack ids headed by the id column", func(f map[string]string, s *Source) {
+			f["participants.csv"] = "subject,score\ns1,1\ns2,2\n"
+			s.IDColumn = "subject"
+			s.Functional = nil
+			s.Structural = &Modality{Stack: "sc.npy", StackIDs: "ids.txt"}
+			f["ids.txt"] = "subject\ns2\ns1\n"
+			f["sc.npy"] = npyBytes(t, "m3_f8_C_le.npy")
+		}, "sc.npy: stack of shape [2 3 4]", nil, 0},
+		{"target named like the id column", func(f map[string]string, s *Source) {
+			s.IDColumn, s.Targets = "score", []string{"score"}
+		}, `cohort.targets: "score" is the id column`, nil, 0},
 		{"no rows", func(f map[string]string, _ *Source) {
 			f["participants.csv"] = "participant_id,score\n"
 		}, "participants.csv: table has a header but no participant rows", nil, 0},

@@ -3,15 +3,18 @@ package data
 import (
 	"errors"
 	"fmt"
+	"maps"
 	"math"
 	"path/filepath"
+	"slices"
 	"strings"
 
 	"github.com/skein-neuro/skein/internal/enum"
 )
 
 // Placeholder is the mark in a path template that stands for a
-// participant's participant_id, as in "fc/{participant_id}_fc.tsv".
+// participant's id (the value in the id column, whatever its name), as in
+// "fc/{participant_id}_fc.tsv".
 const Placeholder = "{participant_id}"
 
 // Source says where a cohort's files are and how to read them: the
@@ -20,6 +23,7 @@ const Placeholder = "{participant_id}"
 //
 //	[cohort]
 //	participants = "participants.tsv"
+//	id_column = "participant_id"
 //	targets = ["recall", "fluency"]
 //	covariates = ["age", "sex", "motion"]
 //	group = "family"
@@ -27,6 +31,10 @@ const Placeholder = "{participant_id}"
 //	min_participants = 20
 //	outlier_sd = 3.0
 //	unlisted = "error"
+//	on_bad_participant = "exclude"
+//
+//	[cohort.exclude]
+//	sub-017 = "region 12 lost in acquisition"
 //
 //	[cohort.functional]
 //	files = "fc/{participant_id}_fc.tsv"
@@ -39,8 +47,13 @@ const Placeholder = "{participant_id}"
 type Source struct {
 	// Participants is the participants table, a .tsv (tab-separated, no
 	// quoting, as BIDS writes it) or .csv (RFC 4180) file with a header
-	// row holding a participant_id column. Missing cells are empty or "n/a".
+	// row holding the id column. Missing cells are empty or "n/a".
 	Participants string `toml:"participants"`
+	// IDColumn names the column of the participants table holding each
+	// participant's id, the value that replaces Placeholder in path
+	// templates and that a stack's stack_ids list. Default
+	// "participant_id", the BIDS convention.
+	IDColumn string `toml:"id_column"`
 	// Targets names the score columns to predict; at least one.
 	Targets []string `toml:"targets"`
 	// Covariates names covariate columns (optional). A column whose
@@ -68,6 +81,20 @@ type Source struct {
 	// whose participant has no row in the participants table: "error"
 	// (default) fails, "report" lists them in the report and goes on.
 	Unlisted UnlistedPolicy `toml:"unlisted"`
+	// Exclude leaves participants out by id, each with the reason a
+	// person gives ([cohort.exclude], id = "reason"): they are listed
+	// among the exclusions with that reason, and their table cells and
+	// files are not read. An id without a table row is an error, as is an
+	// empty reason.
+	Exclude map[string]string `toml:"exclude"`
+	// OnBadParticipant says what a participant whose own matrix fails a
+	// check (unreadable, not square or not of the cohort's p, not finite,
+	// not symmetric within tolerance, out of range, failing
+	// preprocessing) does to the cohort: "error" (default) fails the
+	// whole check with every such problem listed; "exclude" leaves the
+	// participant out with the failed check as the reason. Problems of
+	// the participants table or of a whole stack are always errors.
+	OnBadParticipant BadParticipantPolicy `toml:"on_bad_participant"`
 	// Functional locates the functional connectomes ([cohort.functional]).
 	Functional *Modality `toml:"functional"`
 	// Structural locates the structural connectomes ([cohort.structural]).
@@ -146,8 +173,39 @@ func (u UnlistedPolicy) MarshalText() ([]byte, error) { return []byte(u), nil }
 // String returns the word of u.
 func (u UnlistedPolicy) String() string { return string(u) }
 
+// BadParticipantPolicy is the value of the key cohort.on_bad_participant:
+// BadParticipantError or BadParticipantExclude ("" is unset).
+type BadParticipantPolicy string
+
+// Settings of cohort.on_bad_participant.
+const (
+	BadParticipantError   BadParticipantPolicy = "error"
+	BadParticipantExclude BadParticipantPolicy = "exclude"
+)
+
+// UnmarshalText sets b to the word text: "error", "exclude" or ""
+// (unset). Another word is an error listing these.
+func (b *BadParticipantPolicy) UnmarshalText(text []byte) error {
+	return enum.Parse(b, text, BadParticipantError, BadParticipantExclude)
+}
+
+// MarshalText returns the word of b.
+func (b BadParticipantPolicy) MarshalText() ([]byte, error) { return []byte(b), nil }
+
+// String returns the word of b.
+func (b BadParticipantPolicy) String() string { return string(b) }
+
+// DiagonalTolerance is the largest |d − 1| accepted on the diagonal of a
+// functional matrix of correlations (values = "correlation") whose
+// diagonal preprocessing replaces (diagonal = "zero"): round-off such as
+// the 1.0000002 of a correlation computed in single precision (float32's
+// machine epsilon is 1.2e-7) is not an error there. Common practice, no
+// source: the same 1e-6 as the default symmetry_tolerance.
+const DiagonalTolerance = 1e-6
+
 // Defaults of Source.
 const (
+	DefaultIDColumn        = "participant_id"
 	DefaultMinParticipants = 10
 	DefaultOutlierSD       = 3.0
 )
@@ -155,6 +213,9 @@ const (
 // SetDefaults fills every unset field with its documented default.
 // Validate expects it to have been called.
 func (s *Source) SetDefaults() {
+	if s.IDColumn == "" {
+		s.IDColumn = DefaultIDColumn
+	}
 	if s.MinParticipants == nil {
 		s.MinParticipants = new(DefaultMinParticipants)
 	}
@@ -163,6 +224,9 @@ func (s *Source) SetDefaults() {
 	}
 	if s.Unlisted == "" {
 		s.Unlisted = UnlistedError
+	}
+	if s.OnBadParticipant == "" {
+		s.OnBadParticipant = BadParticipantError
 	}
 	for _, m := range []*Modality{s.Functional, s.Structural} {
 		if m != nil && m.SymmetryTolerance == nil {
@@ -190,12 +254,15 @@ func (s Source) validate(needTargets bool) error {
 	if needTargets && len(s.Targets) == 0 {
 		return errors.New(`cohort: key "targets" needs at least one score column`)
 	}
+	if strings.TrimSpace(s.IDColumn) == "" {
+		return errors.New(`cohort.id_column: empty column name`)
+	}
 	seen := map[string]string{}
 	note := func(key, col string) error {
 		if col == "" {
 			return fmt.Errorf("cohort.%s: empty column name", key)
 		}
-		if col == "participant_id" {
+		if col == s.IDColumn {
 			return fmt.Errorf("cohort.%s: %q is the id column, not a %s", key, col, strings.TrimSuffix(key, "s"))
 		}
 		if prev, ok := seen[col]; ok {
@@ -227,6 +294,14 @@ func (s Source) validate(needTargets bool) error {
 	}
 	if err := enum.Check(s.Unlisted); err != nil {
 		return fmt.Errorf("cohort.unlisted: %w", err)
+	}
+	if err := enum.Check(s.OnBadParticipant); err != nil {
+		return fmt.Errorf("cohort.on_bad_participant: %w", err)
+	}
+	for _, id := range slices.Sorted(maps.Keys(s.Exclude)) {
+		if strings.TrimSpace(s.Exclude[id]) == "" {
+			return fmt.Errorf("cohort.exclude: %q: give the reason for leaving the participant out (a non-empty text)", id)
+		}
 	}
 	if s.Functional == nil && s.Structural == nil {
 		return errors.New("cohort: needs a [cohort.functional] or [cohort.structural] table, or both")

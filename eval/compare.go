@@ -229,7 +229,7 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison, referenceRule stri
 		}
 	}
 	for _, target := range targets {
-		fmt.Fprintf(&b, "\n### %s: comparison\n\n", escapeMarkdown(target))
+		fmt.Fprintf(&b, "\n### %s: comparison\n\n", EscapeMarkdown(target))
 		b.WriteString("| model | r within folds | CI of r | p (r) | MAE | CI of MAE | p (MAE) | Δr vs reference (t-test p) | ΔMAE (t-test p) |\n")
 		b.WriteString("| --- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: |\n")
 		for _, c := range comps {
@@ -246,14 +246,20 @@ func WriteComparisonMarkdown(w io.Writer, comps []Comparison, referenceRule stri
 			"CI: %.0f%% percentile bootstrap"+
 			" over participants (%d resamples). p: permutation p-value, (1 + #{null at least as good}) / (1 + permutations). "+
 			"Δ: mean difference from the reference baseline over the same folds, tested by the "+
-			"corrected resampled t-test (Nadeau & Bengio 2003); %s.\n", 100*comps[0].R.Level, comps[0].R.Resamples, referenceRule)
+			"corrected resampled t-test (Nadeau & Bengio 2003); %s.\n", 100*comps[0].R.Level, comps[0].R.Resamples, EscapeMarkdown(referenceRule))
 	}
 	_, err := io.WriteString(w, b.String())
 	return err
 }
 
 func writeComparisonRow(b *strings.Builder, c Comparison) {
-	name := escapeMarkdown(c.Model)
+	b.WriteString("| " + strings.Join(comparisonCells(c, EscapeMarkdown), " | ") + " |\n")
+}
+
+// comparisonCells returns the cells of c's row of the comparison table,
+// names passed through esc.
+func comparisonCells(c Comparison, esc func(string) string) []string {
+	name := esc(c.Model)
 	if c.Baseline {
 		name += " (baseline)"
 	}
@@ -263,15 +269,48 @@ func writeComparisonRow(b *strings.Builder, c Comparison) {
 	}
 	vsR, vsMAE := "–", "–"
 	if c.Reference != "" {
-		vsR = fmt.Sprintf("%s vs %s (p %s)", formatDiff(c.DiffR.MeanDiff), escapeMarkdown(c.Reference), formatP(c.DiffR.P))
+		vsR = fmt.Sprintf("%s vs %s (p %s)", formatDiff(c.DiffR.MeanDiff), esc(c.Reference), formatP(c.DiffR.P))
 		vsMAE = fmt.Sprintf("%s (p %s)", formatDiff(c.DiffMAE.MeanDiff), formatP(c.DiffMAE.P))
 	} else if c.IsReference {
 		vsR = "reference"
 	}
-	fmt.Fprintf(b, "| %s | %s | [%s, %s] | %s | %s | [%s, %s] | %s | %s | %s |\n", name,
-		c.Group.cell(MetricPearsonWithin), formatNumber(c.R.Lower), formatNumber(c.R.Upper), pr,
-		c.Group.cell(MetricMAE), formatNumber(c.MAE.Lower), formatNumber(c.MAE.Upper), pm,
-		vsR, vsMAE)
+	return []string{name,
+		c.Group.cell(MetricPearsonWithin), fmt.Sprintf("[%s, %s]", formatNumber(c.R.Lower), formatNumber(c.R.Upper)), pr,
+		c.Group.cell(MetricMAE), fmt.Sprintf("[%s, %s]", formatNumber(c.MAE.Lower), formatNumber(c.MAE.Upper)), pm,
+		vsR, vsMAE}
+}
+
+// WriteComparisonText writes the comparison of WriteComparisonMarkdown
+// as plain text for a terminal: per target, tables at most TextWidth
+// characters wide (split into parts that repeat the model), and a short
+// note saying how to read them.
+func WriteComparisonText(w io.Writer, comps []Comparison, referenceRule string) error {
+	var b strings.Builder
+	var targets []string
+	for _, c := range comps {
+		if !slices.Contains(targets, c.Target) {
+			targets = append(targets, c.Target)
+		}
+	}
+	header := []string{"model", "r within folds", "CI of r", "p (r)", "MAE", "CI of MAE", "p (MAE)", "Δr vs reference", "ΔMAE"}
+	for _, target := range targets {
+		fmt.Fprintf(&b, "\n%s: comparison\n\n", target)
+		var rows [][]string
+		for _, c := range comps {
+			if c.Target == target {
+				rows = append(rows, comparisonCells(c, func(s string) string { return s }))
+			}
+		}
+		writeTextTable(&b, header, rows, 1, TextWidth)
+	}
+	if len(comps) > 0 {
+		b.WriteString("\n" + WrapText(fmt.Sprintf("r within folds and MAE: mean ± SD over test folds [pooled]. CI: %.0f%% "+
+			"percentile bootstrap over participants. p: permutation p-value. Δ: mean difference from the reference baseline "+
+			"over the same folds, corrected resampled t-test p (Nadeau & Bengio 2003); %s.",
+			100*comps[0].R.Level, referenceRule), TextWidth))
+	}
+	_, err := io.WriteString(w, b.String())
+	return err
 }
 
 func formatDiff(d float64) string {

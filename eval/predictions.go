@@ -1,11 +1,14 @@
 package eval
 
 import (
+	"bufio"
+	"bytes"
 	"encoding/csv"
 	"errors"
 	"fmt"
 	"io"
 	"math"
+	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -73,7 +76,9 @@ func contains(list []string, s string) bool {
 }
 
 // ReadPredictions reads a predictions file: comma-separated values with a
-// header row, as WritePredictions writes and as other tools can make. The
+// header row, as WritePredictions writes and as other tools can make, or
+// tab-separated values when name ends in .tsv (any case) or, for another
+// name, when the header row holds a tab and no comma. The
 // columns are found by name, in any order. observed and predicted are
 // required; participant_id, model and target are empty strings when absent
 // and repeat and fold are 0 when absent (Header.HasFolds tells which).
@@ -94,8 +99,12 @@ func contains(list []string, s string) bool {
 // *data.FileError naming name, the line and the column; a malformed row is a
 // *data.FileError wrapping the *csv.ParseError.
 func ReadPredictions(r io.Reader, name string) ([]Prediction, Header, error) {
-	cr := csv.NewReader(r)
+	br := bufio.NewReader(r)
+	cr := csv.NewReader(br)
 	cr.ReuseRecord = false
+	if tabSeparated(br, name) {
+		cr.Comma = '\t'
+	}
 	header, err := cr.Read()
 	if err == io.EOF {
 		return nil, nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row naming the columns observed and predicted")}
@@ -264,4 +273,21 @@ func WritePredictions(w io.Writer, rows []Prediction) error {
 	}
 	cw.Flush()
 	return cw.Error()
+}
+
+// tabSeparated reports whether the predictions file name, read through r,
+// is tab-separated: by its extension (.tsv or .csv, any case), else by its
+// header row holding a tab and no comma. It reads nothing from r.
+func tabSeparated(r *bufio.Reader, name string) bool {
+	switch strings.ToLower(filepath.Ext(name)) {
+	case ".tsv":
+		return true
+	case ".csv":
+		return false
+	}
+	head, _ := r.Peek(4096)
+	if i := bytes.IndexByte(head, '\n'); i >= 0 {
+		head = head[:i]
+	}
+	return bytes.IndexByte(head, '\t') >= 0 && bytes.IndexByte(head, ',') < 0
 }

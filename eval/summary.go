@@ -457,7 +457,7 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 		if name == "" {
 			name = "(unnamed target)"
 		}
-		fmt.Fprintf(&b, "### %s\n\n", escapeMarkdown(name))
+		fmt.Fprintf(&b, "### %s\n\n", EscapeMarkdown(name))
 		b.WriteString("| model | n | folds |")
 		for _, m := range Metrics() {
 			fmt.Fprintf(&b, " %s |", m.Label())
@@ -481,7 +481,7 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 			if model == "" {
 				model = "(unnamed model)"
 			}
-			fmt.Fprintf(&b, "| %s | %d | %d |", escapeMarkdown(model), g.Pooled.N, len(g.Folds))
+			fmt.Fprintf(&b, "| %s | %d | %d |", EscapeMarkdown(model), g.Pooled.N, len(g.Folds))
 			for _, m := range Metrics() {
 				fmt.Fprintf(&b, " %s |", g.cell(m))
 				if m == MetricNMI {
@@ -580,6 +580,19 @@ func formatNumber(x float64) string {
 	return strconv.FormatFloat(x, 'f', 3, 64)
 }
 
-func escapeMarkdown(s string) string {
-	return strings.NewReplacer("|", `\|`, "\n", " ").Replace(s)
+// EscapeMarkdown makes s, a name from the user's files (a model, a
+// target, a covariate), literal text inside a Markdown paragraph, heading,
+// list item or table cell: every character that could start emphasis,
+// code, a link, raw HTML, an entity or a table column (\ ` * _ [ ] < > &
+// | ~) is escaped with a backslash, which CommonMark allows before any
+// ASCII punctuation (CommonMark spec 0.31, section 2.4, "Backslash
+// escapes"), and line breaks become spaces. Other characters are kept, so
+// that a name such as "fc+sc-net" still reads plainly on a terminal.
+func EscapeMarkdown(s string) string {
+	return markdownEscaper.Replace(s)
 }
+
+var markdownEscaper = strings.NewReplacer(
+	`\`, `\\`, "`", "\\`", "*", `\*`, "_", `\_`, "[", `\[`, "]", `\]`,
+	"<", `\<`, ">", `\>`, "&", `\&`, "|", `\|`, "~", `\~`,
+	"\r\n", " ", "\n", " ", "\r", " ")

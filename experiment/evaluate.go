@@ -30,8 +30,11 @@ type Report struct {
 	// Cautions are the statistical cautions this run triggered, each a
 	// sentence for the summary and the report.
 	Cautions []string
-	// Participants and Excluded count the cohort.
-	Participants, Excluded int
+	// Participants counts the cohort's participants.
+	Participants int
+	// Excluded lists the participants left out of the cohort, each with
+	// its reason (data.Cohort.Excluded).
+	Excluded []data.Exclusion
 	// Grouped says whether the cohort has a grouping column.
 	Grouped bool
 	// SampleSize is the sample-size curve; nil unless the experiment asks
@@ -62,7 +65,7 @@ type Computed struct {
 // elsewhere, in batch units; the report equals Evaluate's for the same
 // run.
 func EvaluateWith(ctx context.Context, exp *Experiment, r *train.Runner, res *train.Result, bins int, done Computed) (*Report, error) {
-	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: len(r.Cohort.Excluded),
+	rep := &Report{Experiment: exp, Result: res, Participants: len(r.Cohort.Participants), Excluded: r.Cohort.Excluded,
 		Grouped: train.Groups(r.Cohort) != nil}
 	rep.Rows = res.Predictions
 	rep.Summary = eval.Summarize(rep.Rows, bins, true)
@@ -339,19 +342,8 @@ func (rep *Report) Write(d *RunDir) error {
 func (rep *Report) WriteMarkdown(w io.Writer) error {
 	var buf bytes.Buffer
 	exp := rep.Experiment
-	fmt.Fprintf(&buf, "# skein run summary\n\n%s\n\n", markdownText(Answer(exp, rep.Comparisons)))
-	fmt.Fprintf(&buf, "%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
-		rep.Participants, rep.Excluded, len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
-	if len(exp.CV.Confounds) > 0 {
-		fmt.Fprintf(&buf, ", confounds %s regressed out of the scores within each training fold", strings.Join(exp.CV.Confounds, ", "))
-	}
-	if rep.Nulls != nil {
-		fmt.Fprintf(&buf, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
-		if rep.Grouped {
-			fmt.Fprintf(&buf, " (%s)", blocksSentence(exp.Permutation.Blocks))
-		}
-	}
-	buf.WriteString(".\n\n## Metrics\n\n")
+	fmt.Fprintf(&buf, "# skein run summary\n\n%s\n\n", eval.EscapeMarkdown(Answer(exp, rep.Comparisons)))
+	buf.WriteString(rep.overview(eval.EscapeMarkdown) + "\n\n## Metrics\n\n")
 	if err := rep.Summary.WriteMarkdown(&buf); err != nil {
 		return err
 	}
@@ -359,10 +351,64 @@ func (rep *Report) WriteMarkdown(w io.Writer) error {
 	if err := eval.WriteComparisonMarkdown(&buf, rep.Comparisons, rep.ReferenceRule); err != nil {
 		return err
 	}
+	if len(rep.Excluded) > 0 {
+		buf.WriteString("\n## Excluded participants\n\n")
+		for _, x := range rep.Excluded {
+			fmt.Fprintf(&buf, "- %s: %s\n", eval.EscapeMarkdown(x.ID), eval.EscapeMarkdown(x.Reason))
+		}
+	}
 	if len(rep.Cautions) > 0 {
 		buf.WriteString("\n## Cautions for this run\n\n")
 		for _, c := range rep.Cautions {
-			buf.WriteString("- " + markdownText(c) + "\n")
+			buf.WriteString("- " + eval.EscapeMarkdown(c) + "\n")
+		}
+	}
+	_, err := w.Write(buf.Bytes())
+	return err
+}
+
+// overview is the run in one sentence, names passed through esc.
+func (rep *Report) overview(esc func(string) string) string {
+	var b strings.Builder
+	exp := rep.Experiment
+	fmt.Fprintf(&b, "%d participants (%d excluded), %d models, %d-fold cross-validation × %d repeats, seed %d",
+		rep.Participants, len(rep.Excluded), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
+	if len(exp.CV.Confounds) > 0 {
+		fmt.Fprintf(&b, ", confounds %s regressed out of the scores within each training fold", esc(strings.Join(exp.CV.Confounds, ", ")))
+	}
+	if rep.Nulls != nil {
+		fmt.Fprintf(&b, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
+		if rep.Grouped {
+			fmt.Fprintf(&b, " (%s)", blocksSentence(exp.Permutation.Blocks))
+		}
+	}
+	return b.String() + "."
+}
+
+// WriteText writes what WriteMarkdown does as plain text for a terminal,
+// no line wider than eval.TextWidth: the overview, the metrics tables
+// (eval.Summary.WriteText), the comparison (eval.WriteComparisonText),
+// the excluded participants and the cautions.
+func (rep *Report) WriteText(w io.Writer) error {
+	var buf bytes.Buffer
+	same := func(s string) string { return s }
+	buf.WriteString(eval.WrapText(rep.overview(same), eval.TextWidth) + "\n")
+	if err := rep.Summary.WriteText(&buf); err != nil {
+		return err
+	}
+	if err := eval.WriteComparisonText(&buf, rep.Comparisons, rep.ReferenceRule); err != nil {
+		return err
+	}
+	if len(rep.Excluded) > 0 {
+		buf.WriteString("\nExcluded participants:\n")
+		for _, x := range rep.Excluded {
+			buf.WriteString(eval.WrapText("- "+x.ID+": "+x.Reason, eval.TextWidth))
+		}
+	}
+	if len(rep.Cautions) > 0 {
+		buf.WriteString("\nCautions for this run:\n")
+		for _, c := range rep.Cautions {
+			buf.WriteString(eval.WrapText("- "+c, eval.TextWidth))
 		}
 	}
 	_, err := w.Write(buf.Bytes())
@@ -403,9 +449,4 @@ func orderGroups(sum *eval.Summary, exp *Experiment, targets []string) {
 		}
 		return at - bt
 	})
-}
-
-// markdownText makes s safe inside a Markdown table cell or list item.
-func markdownText(s string) string {
-	return strings.NewReplacer("|", `\|`, "\n", " ").Replace(s)
 }

@@ -20,6 +20,11 @@ import (
 // Experiment is one experiment file: the cohort and its preprocessing, the
 // models to compare, the cross-validation and the seed.
 type Experiment struct {
+	// Name names the experiment's run folders, runs/NAME-YYYYMMDD-HHMMSS,
+	// when skein run is given no --out; "" (the default) takes the name
+	// from the file (RunName). It must be usable as a folder name: no
+	// path separator, not starting with a dot.
+	Name string `toml:"name,omitempty"`
 	// Seed drives every random choice of the run: splits, initial
 	// weights, minibatches, dropout and permutations.
 	Seed int64 `toml:"seed"`
@@ -55,7 +60,7 @@ type Experiment struct {
 // table of an experiment file.
 type Output struct {
 	// SaveModels keeps every fold's trained model, for models that can be
-	// saved (graph networks, ridge, the mean predictor), under
+	// saved (graph networks and every baseline), under
 	// models/NAME/rR-fF/ of the run folder with the target scaling fitted
 	// on its training fold. Default true.
 	SaveModels *bool `toml:"save_models"`
@@ -93,6 +98,19 @@ func ReadExperiment(path string) (*Experiment, error) {
 // word it does not know is an error naming the key and its line and
 // listing the words.
 func ParseExperiment(raw []byte) (*Experiment, error) {
+	exp, err := decodeExperiment(raw)
+	if err != nil {
+		return nil, err
+	}
+	if err := exp.Validate(); err != nil {
+		return nil, err
+	}
+	return exp, nil
+}
+
+// decodeExperiment decodes an experiment file's text and fills defaults,
+// without validating the settings.
+func decodeExperiment(raw []byte) (*Experiment, error) {
 	var exp Experiment
 	if err := checkWords(raw, reflect.TypeFor[Experiment]()); err != nil {
 		return nil, err
@@ -103,10 +121,27 @@ func ParseExperiment(raw []byte) (*Experiment, error) {
 		return nil, describeTOMLError(err)
 	}
 	exp.SetDefaults()
-	if err := exp.Validate(); err != nil {
+	return &exp, nil
+}
+
+// ReadCohortFile reads the experiment file at path for the participants
+// to predict with a saved model (Predict): unknown keys and values of the
+// wrong type are errors naming the key and its line, as in
+// ReadExperiment, but only its [cohort] table is checked, and that
+// without the keys training needs: targets and min_participants are not
+// required (data.CheckUnscored). The file of a training experiment
+// serves, and so does one holding only [cohort].
+func ReadCohortFile(path string) (*Experiment, error) {
+	raw, err := os.ReadFile(path)
+	if err != nil {
 		return nil, err
 	}
-	return &exp, nil
+	exp, err := decodeExperiment(raw)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	exp.Dir = filepath.Dir(path)
+	return exp, nil
 }
 
 // SetDefaults fills every unset field with its documented default.
@@ -125,6 +160,9 @@ func (e *Experiment) SetDefaults() {
 
 // Validate reports the first setting that cannot work, naming its key.
 func (e *Experiment) Validate() error {
+	if e.Name != "" && (strings.ContainsAny(e.Name, `/\`+"\x00") || strings.HasPrefix(e.Name, ".") || strings.TrimSpace(e.Name) != e.Name) {
+		return fmt.Errorf("name: %q cannot name a run folder: use letters, digits, - and _ (no path separator, no leading dot or space)", e.Name)
+	}
 	if err := e.Cohort.Validate(); err != nil {
 		return err
 	}

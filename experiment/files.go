@@ -59,12 +59,16 @@ const (
 	// HTMLFile is the report.
 	HTMLFile = "report.html"
 	// ImportanceFile is the table of fold-averaged edge importance that
-	// package experiment/report writes: one line per model, target and
-	// edge i < j, with the columns
+	// package experiment/report writes: one line per model, target, input
+	// view and edge i < j, with the columns
 	//
-	//	model,target,region_i,region_j,mean,sd,folds,same_sign
+	//	model,target,view,region_i,region_j,mean,sd,folds,same_sign
 	//
-	// region_i and region_j are labels, mean and sd the mean and sample
+	// view names the input whose edges the line is about (such as
+	// "functional", "structural" or "branch 2: structural", see
+	// train.ModelConfig.ImportanceViews; each view has lines of its own,
+	// never summed with another's), region_i and region_j are labels,
+	// mean and sd the mean and sample
 	// SD (n − 1; empty for one fold) over the folds, same_sign the
 	// fraction of folds whose importance has the sign of the mean.
 	ImportanceFile = "importance.csv"

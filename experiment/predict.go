@@ -27,7 +27,8 @@ type Predicted struct {
 }
 
 // Predict predicts the participants of the [cohort] table of the
-// experiment file cohortPath (score columns are not needed) with the fold
+// experiment file cohortPath (ReadCohortFile: score columns, targets and
+// min_participants are not needed; one participant is enough) with the fold
 // model saved in modelDir: their matrices are preprocessed as the model's
 // were, and the preparation fitted on the model's training participants is
 // replayed. Errors caused by the input match ErrInput.
@@ -36,7 +37,7 @@ func Predict(modelDir, cohortPath string) (*Predicted, error) {
 	if err != nil {
 		return nil, badInput(err)
 	}
-	exp, err := ReadExperiment(cohortPath)
+	exp, err := ReadCohortFile(cohortPath)
 	if err != nil {
 		return nil, badInput(err)
 	}

@@ -66,16 +66,35 @@ type Outcome struct {
 	ViewsErr error
 }
 
-// DefaultOut is the run folder of a run given none: runs/NAME-TIME under
-// the current folder, NAME the experiment file's name without its
-// extension (its folder's name for a file named experiment.toml) and TIME
-// the local time as YYYYMMDD-HHMMSS.
-func DefaultOut(path string, now time.Time) string {
+// RunName is the name the run folders of the experiment file at path take
+// by default: name, the experiment's name key, when set; else the file's
+// base name without its extension, or, for a file named experiment.toml,
+// the name of the folder holding it (taken from its absolute path, so that
+// "skein run experiment.toml" in a cohort's folder names the run after
+// that folder). A name that would be empty or hidden (starting with a
+// dot) is "experiment" instead, with any leading dots dropped first.
+func RunName(path, name string) string {
+	if name != "" {
+		return name
+	}
 	stem := strings.TrimSuffix(filepath.Base(path), filepath.Ext(path))
 	if stem == "experiment" {
-		stem = filepath.Base(filepath.Dir(path))
+		if abs, err := filepath.Abs(path); err == nil {
+			stem = filepath.Base(filepath.Dir(abs))
+		}
 	}
-	return filepath.Join("runs", stem+"-"+now.Format("20060102-150405"))
+	if stem = strings.TrimLeft(stem, "."); stem == "" || stem == string(filepath.Separator) {
+		stem = "experiment"
+	}
+	return stem
+}
+
+// DefaultOut is the run folder of a run given none: runs/NAME-TIME under
+// the current folder, NAME from RunName and TIME the local time as
+// YYYYMMDD-HHMMSS. Two runs started in the same second share it;
+// CreateRunDir then gives the second one a suffix.
+func DefaultOut(path, name string, now time.Time) string {
+	return filepath.Join("runs", RunName(path, name)+"-"+now.Format("20060102-150405"))
 }
 
 // Run runs the experiment read from path: it checks the cohort, expands
@@ -97,12 +116,8 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	if err != nil {
 		return nil, badInput(err)
 	}
-	out := opt.Out
-	if out == "" {
-		if opt.Resume {
-			return nil, badInput(errors.New("--resume needs the --out folder of the interrupted run"))
-		}
-		out = DefaultOut(path, time.Now())
+	if opt.Out == "" && opt.Resume {
+		return nil, badInput(errors.New("--resume needs the --out folder of the interrupted run"))
 	}
 	exp, variants, err := exp.Expand()
 	if err != nil {
@@ -112,7 +127,12 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	if err != nil {
 		return nil, err
 	}
-	rd, err := OpenRunDir(out, opt.Force, opt.Resume)
+	var rd *RunDir
+	if opt.Out == "" {
+		rd, err = CreateRunDir(DefaultOut(path, exp.Name, time.Now()))
+	} else {
+		rd, err = OpenRunDir(opt.Out, opt.Force, opt.Resume)
+	}
 	if err != nil {
 		return nil, badInput(err)
 	}
@@ -140,6 +160,9 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 		"blas_threads", opt.BLASThreads, "resume", opt.Resume)
 	say("%d participants (%d excluded), %d regions, %d models, %d-fold × %d",
 		len(cohort.Participants), len(cohort.Excluded), cohort.P(), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats)
+	for _, x := range cohort.Excluded {
+		say("excluded %s: %s", x.ID, x.Reason)
+	}
 
 	runner := &train.Runner{
 		Design:      exp.Design(),

@@ -59,6 +59,48 @@ func OpenRunDir(final string, force, resume bool) (*RunDir, error) {
 	return d, nil
 }
 
+// maxRunSuffix bounds the suffixes CreateRunDir tries.
+const maxRunSuffix = 1000
+
+// CreateRunDir prepares the work folder of a new run whose results go to
+// base or, when a run folder or work folder of that name exists already
+// (two runs started in the same second), to the first free base-2,
+// base-3, .... The name is claimed atomically by creating its work folder
+// (os.Mkdir fails when another run created it first), so concurrent runs
+// never share one.
+func CreateRunDir(base string) (*RunDir, error) {
+	base = filepath.Clean(base)
+	if err := os.MkdirAll(filepath.Dir(base), 0o755); err != nil {
+		return nil, err
+	}
+	for k := 1; k <= maxRunSuffix; k++ {
+		final := base
+		if k > 1 {
+			final = fmt.Sprintf("%s-%d", base, k)
+		}
+		if _, err := os.Lstat(final); err == nil {
+			continue
+		}
+		d := &RunDir{Final: final, Partial: final + ".partial"}
+		if err := os.Mkdir(d.Partial, 0o755); errors.Is(err, fs.ErrExist) {
+			continue
+		} else if err != nil {
+			return nil, err
+		}
+		// A run that committed final between the check above and the
+		// Mkdir held final.partial until then; final exists now.
+		if _, err := os.Lstat(final); err == nil {
+			os.Remove(d.Partial)
+			continue
+		}
+		if err := os.Mkdir(filepath.Join(d.Partial, "units"), 0o755); err != nil {
+			return nil, err
+		}
+		return d, nil
+	}
+	return nil, fmt.Errorf("%s: %w, and so do the names with suffixes -2 to -%d; pass --out", base, ErrRunExists, maxRunSuffix)
+}
+
 // WriteFile writes name (a path relative to the run folder) atomically in
 // the work folder: into a temporary file, then renamed.
 func (d *RunDir) WriteFile(name string, content []byte) error {

@@ -39,6 +39,14 @@ type Kind struct {
 	// dir; nil when the kind's regressors are not saved. When Load is set,
 	// every regressor New returns is a Saver.
 	Load func(dir string) (Regressor, error)
+	// ImportanceViews, when not nil, names the input views whose edge
+	// importance the kind's Interpreters with settings s report in maps of
+	// their own, such as "functional" and "structural" for a baseline on
+	// both matrices, or one per branch of a network: EdgeImportance (and
+	// EdgeImportanceFrom) then returns V·T maps for V views and T targets,
+	// view after view (the map of view v and target t at index v·T + t).
+	// nil means one map per target.
+	ImportanceViews func(s Settings) []string
 	// EdgeScaling, when not nil, says which of the participants' matrices
 	// the kind's regressors with settings s learn from standardized per
 	// edge with the mean and SD of their fold's training participants
@@ -60,6 +68,16 @@ type Kind struct {
 	// Describe, when not nil, summarizes the settings in a few words for a
 	// report's table of models, such as "2 branches, up to 100 epochs".
 	Describe func(s Settings) string
+}
+
+// Views returns the names of the importance views of the kind's
+// regressors with settings s (ImportanceViews), or nil for one map per
+// target.
+func (k Kind) Views(s Settings) []string {
+	if k.ImportanceViews == nil {
+		return nil
+	}
+	return k.ImportanceViews(s)
 }
 
 // Importance describes how a kind's regressors compute EdgeImportance.

@@ -73,7 +73,8 @@ func part(ps []*data.Participant, y *mat.Dense, from, to int) model.Dataset {
 
 // TestKinds builds, fits and runs every registered kind on a tiny cohort
 // and checks that what the kind declares is what its regressors do: the
-// interfaces they implement (ColumnWise, Interpreter, Saver) and, for a
+// interfaces they implement (ColumnWise, Interpreter, Saver), the number
+// of importance maps (one per view of ImportanceViews and target) and, for a
 // kind with a loader, that a saved and loaded regressor predicts as the
 // fitted one (a round trip; common practice, no source).
 func TestKinds(t *testing.T) {
@@ -128,6 +129,16 @@ func TestKinds(t *testing.T) {
 			for _, v := range pred.RawMatrix().Data {
 				if math.IsNaN(v) || math.IsInf(v, 0) {
 					t.Fatalf("Predict gave %v", v)
+				}
+			}
+			// An Interpreter gives one map per declared view and target.
+			if in, ok := reg.(model.Interpreter); ok {
+				maps, err := in.EdgeImportance(test)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if views := max(1, len(k.Views(s))); len(maps) != views*2 {
+					t.Errorf("EdgeImportance gave %d maps for views %q and 2 targets", len(maps), k.Views(s))
 				}
 			}
 			if k.Load == nil || saver == nil {

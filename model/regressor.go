@@ -80,7 +80,9 @@ type Interpreter interface {
 	Regressor
 	// EdgeImportance returns one p × p symmetric map per target: the
 	// importance of each edge (i, j) for the predictions of ps, averaged
-	// over ps. The runner calls it on each fitted model with its test fold.
+	// over ps; for a kind with several importance views
+	// (Kind.ImportanceViews), one map per view and target, view after
+	// view. The runner calls it on each fitted model with its test fold.
 	EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error)
 }
 

@@ -86,6 +86,18 @@ func (m ModelConfig) Settings() model.Settings {
 	return s
 }
 
+// ImportanceViews names the input views of the model's edge importance
+// maps (model.Kind.ImportanceViews): EdgeImportance gives one map per view
+// and target, view after view. nil means one map per target, as for a
+// model whose kind is unknown.
+func (m ModelConfig) ImportanceViews() []string {
+	k, err := m.Spec()
+	if err != nil {
+		return nil
+	}
+	return k.Views(m.Settings())
+}
+
 // Spec returns the registered kind of the model's table. It is an error
 // to set no kind table or more than one, or a table whose key no kind is
 // registered under (model.ErrUnknownKind).

@@ -3,6 +3,7 @@ package train
 import (
 	"encoding/json"
 	"errors"
+	"fmt"
 	"os"
 	"path/filepath"
 	"slices"
@@ -111,8 +112,60 @@ func TestLoadModelUnknownKind(t *testing.T) {
 	if err := writeFitted(dir, f); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := LoadModel(dir); err == nil || !strings.Contains(err.Error(), `models of kind "cpm" are not saved`) {
-		t.Errorf("LoadModel of kind cpm: error %v, want one saying it is not saved", err)
+	if _, err := LoadModel(dir); err == nil || !strings.Contains(err.Error(), "manifest.json") {
+		t.Errorf("LoadModel of kind cpm without its files: error %v, want one naming manifest.json", err)
+	}
+}
+
+// TestLoadModelFolderAdvice: LoadModel pointed at the folder above fold
+// models, at a run's models folder or at an ensemble member says what to
+// pass instead.
+func TestLoadModelFolderAdvice(t *testing.T) {
+	root := t.TempDir()
+	fitted := func(parts ...string) {
+		dir := filepath.Join(append([]string{root}, parts...)...)
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			t.Fatal(err)
+		}
+		if err := os.WriteFile(filepath.Join(dir, FittedFile), []byte("{}"), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for r := 1; r <= 2; r++ {
+		for f := 1; f <= 10; f++ {
+			fitted("models", "net", fmt.Sprintf("r%d-f%d", r, f))
+		}
+	}
+	fitted("models", "ridge", "r1-f1")
+	fitted("models", "ridge", "all")
+	if err := os.MkdirAll(filepath.Join(root, "models", "net", "r1-f1", "member-1"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	models := filepath.Join(root, "models")
+	for _, tt := range []struct {
+		dir  string
+		want []string
+	}{
+		{filepath.Join(models, "net"), []string{"not a saved model's folder (no fitted.json)",
+			"the fold models r1-f1, r1-f2, r1-f3, ... r2-f9, r2-f10 (20 in all)", "such as " + filepath.Join(models, "net", "r1-f1"),
+			"[output] refit = true"}},
+		{filepath.Join(models, "ridge"), []string{"the fold models r1-f1 (", filepath.Join(models, "ridge", "all") + ", the model refitted on all participants"}},
+		{models, []string{"a run's models folder, holding the saved models net, ridge"}},
+		{filepath.Join(models, "net", "r1-f1", "member-1"), []string{"a member of the ensemble saved in " + filepath.Join(models, "net", "r1-f1")}},
+	} {
+		_, err := LoadModel(tt.dir)
+		if !errors.Is(err, ErrNotModelFolder) {
+			t.Errorf("%s: error %v, want ErrNotModelFolder", tt.dir, err)
+			continue
+		}
+		for _, want := range tt.want {
+			if !strings.Contains(err.Error(), want) {
+				t.Errorf("%s: error %q lacks %q", tt.dir, err, want)
+			}
+		}
+	}
+	if _, err := LoadModel(root); err == nil || errors.Is(err, ErrNotModelFolder) || !strings.Contains(err.Error(), FittedFile) {
+		t.Errorf("a folder holding no model: error %v, want the plain missing %s", err, FittedFile)
 	}
 }
 

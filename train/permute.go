@@ -7,6 +7,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"time"
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/internal/enum"
@@ -145,14 +146,23 @@ type NullRun struct {
 // decomposition, each column regressed on the confounds of its own
 // permutation (FitTargetPrepBlocks); the others are refitted per
 // permutation. Either way a permutation's predictions are the same.
+// r.OnEvent, when set, receives a PermutationDone event after each
+// permutation of each model has been passed to null.
 func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []string, chunk int, null func(NullRun) error) error {
 	exp, cohort := r.Design, r.Cohort
 	splits, err := exp.CV.folds(exp.Seed, cohort).Splits(len(cohort.Participants))
 	if err != nil {
 		return err
 	}
+	selected := func(m ModelConfig) bool { return len(names) == 0 || slices.Contains(names, m.Name) }
+	start, done, total := time.Now(), 0, 0
 	for _, m := range exp.Models {
-		if len(names) > 0 && !slices.Contains(names, m.Name) {
+		if selected(m) {
+			total += len(perms)
+		}
+	}
+	for _, m := range exp.Models {
+		if !selected(m) {
 			continue
 		}
 		k, err := m.Spec()
@@ -195,6 +205,10 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 			for k, preds := range byPerm {
 				if err := null(NullRun{Model: m.Name, Permutation: first + k, Predictions: preds}); err != nil {
 					return err
+				}
+				done++
+				if r.OnEvent != nil {
+					r.OnEvent(Event{Kind: PermutationDone, Model: m.Name, Finished: done, Total: total, Elapsed: time.Since(start)})
 				}
 			}
 		}

@@ -159,16 +159,27 @@ func TestRunPermutationsMovesWholeRows(t *testing.T) {
 	exp := toyDesign(ridgeAndMean()...)
 	exp.CV.Confounds = []string{"site", "age"}
 	perms := Permutations(len(cohort.Participants), Groups(cohort), "auto", 5, 9)
-	r := &Runner{Design: exp, Cohort: cohort, Jobs: 1}
+	var events []Event
+	r := &Runner{Design: exp, Cohort: cohort, Jobs: 1, OnEvent: func(e Event) { events = append(events, e) }}
 
 	for _, chunk := range []int{1, 3, 5} {
 		got := make(map[[2]any][]model.Prediction) // (model, permutation) -> predictions
+		events = nil
 		err := r.RunPermutations(context.Background(), perms, nil, chunk, func(run NullRun) error {
 			got[[2]any{run.Model, run.Permutation}] = run.Predictions
 			return nil
 		})
 		if err != nil {
 			t.Fatal(err)
+		}
+		// One PermutationDone per model and permutation, counting up.
+		if want := len(exp.Models) * len(perms); len(events) != want {
+			t.Fatalf("chunk %d: %d events, want %d", chunk, len(events), want)
+		}
+		for k, e := range events {
+			if e.Kind != PermutationDone || e.Finished != k+1 || e.Total != len(events) {
+				t.Fatalf("chunk %d: event %d is %+v", chunk, k, e)
+			}
 		}
 		for k, perm := range perms {
 			moved := &data.Cohort{Targets: cohort.Targets, Covariates: cohort.Covariates, Regions: cohort.Regions}

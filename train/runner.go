@@ -37,6 +37,11 @@ const (
 	UnitStarted EventKind = iota
 	EpochDone
 	UnitFinished
+	// PermutationDone reports one permutation of one model finished by
+	// RunPermutations; Finished and Total then count (model,
+	// permutation) pairs, and Elapsed is the time since RunPermutations
+	// started.
+	PermutationDone
 )
 
 // Event reports progress of a run to a display or a log.
@@ -46,7 +51,8 @@ type Event struct {
 	Unit  Unit
 	// Epoch is set for EpochDone.
 	Epoch model.Epoch
-	// Finished and Total count units of the whole run.
+	// Finished and Total count units of the whole run (permutations for
+	// PermutationDone).
 	Finished, Total int
 	// Elapsed is the time since the run started.
 	Elapsed time.Duration

@@ -5,9 +5,11 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"io/fs"
 	"os"
 	"path/filepath"
 	"slices"
+	"strings"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -87,9 +89,19 @@ type SavedModel struct {
 // LoadModel reads the saved model in dir (a folder models/NAME/rR-fF or
 // models/NAME/all of a run folder), whose FittedFile may be of version 1
 // or FittedVersion.
+//
+// A folder without FittedFile is an error that says what the folder holds
+// instead, when it is a model's folder (models/NAME: its fold folders, and
+// all/ when the model was refitted on all participants), the models
+// folder of a run, or a member of a saved ensemble.
 func LoadModel(dir string) (*SavedModel, error) {
 	path := filepath.Join(dir, FittedFile)
 	raw, err := os.ReadFile(path)
+	if errors.Is(err, fs.ErrNotExist) {
+		if advice := modelFolderAdvice(dir); advice != "" {
+			return nil, fmt.Errorf("%s: %w (no %s): %s", dir, ErrNotModelFolder, FittedFile, advice)
+		}
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -124,6 +136,96 @@ func LoadModel(dir string) (*SavedModel, error) {
 		return nil, err
 	}
 	return sm, nil
+}
+
+// ErrNotModelFolder is wrapped by LoadModel's error for a folder that
+// holds saved models below it rather than one model.
+var ErrNotModelFolder = errors.New("not a saved model's folder")
+
+// modelFolderAdvice says which saved models dir holds, as a sentence for
+// a person pointing LoadModel at the wrong level; "" when it holds none.
+func modelFolderAdvice(dir string) string {
+	if _, err := os.Stat(filepath.Join(filepath.Dir(dir), FittedFile)); err == nil {
+		return fmt.Sprintf("it is a member of the ensemble saved in %s; pass that folder, whose prediction is the members' mean", filepath.Dir(dir))
+	}
+	folds, refit := savedBelow(dir)
+	if len(folds) > 0 || refit {
+		var b strings.Builder
+		if len(folds) > 0 {
+			fmt.Fprintf(&b, "it holds the fold models %s (each trained on one training fold of the cross-validation); pass one of them, such as %s",
+				listNames(folds), filepath.Join(dir, folds[0]))
+		}
+		if refit {
+			if b.Len() > 0 {
+				b.WriteString(", or ")
+			}
+			fmt.Fprintf(&b, "%s, the model refitted on all participants, which is the one to use for new participants", filepath.Join(dir, refitFolder))
+		} else {
+			b.WriteString(`; for new participants, a model refitted on all participants is better: run the experiment with [output] refit = true to save it as ` + filepath.Join(dir, refitFolder))
+		}
+		return b.String()
+	}
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		return ""
+	}
+	var models []string
+	for _, e := range entries {
+		if folds, refit := savedBelow(filepath.Join(dir, e.Name())); e.IsDir() && (len(folds) > 0 || refit) {
+			models = append(models, e.Name())
+		}
+	}
+	if len(models) == 0 {
+		return ""
+	}
+	return fmt.Sprintf("it is a run's models folder, holding the saved models %s; pass a fold folder such as %s, or %s when the model was refitted",
+		listNames(models), filepath.Join(dir, models[0], "r1-f1"), filepath.Join(dir, models[0], refitFolder))
+}
+
+// refitFolder is the folder of a model refitted on all participants.
+const refitFolder = "all"
+
+// savedBelow returns the fold folders (rR-fF, in repeat and fold order)
+// of dir that hold a FittedFile, and whether its refitFolder does.
+func savedBelow(dir string) (folds []string, refit bool) {
+	entries, err := os.ReadDir(dir)
+	if err != nil {
+		return nil, false
+	}
+	type fold struct {
+		name string
+		r, f int
+	}
+	var found []fold
+	for _, e := range entries {
+		if _, err := os.Stat(filepath.Join(dir, e.Name(), FittedFile)); !e.IsDir() || err != nil {
+			continue
+		}
+		var r, f int
+		if n, _ := fmt.Sscanf(e.Name(), "r%d-f%d", &r, &f); n == 2 && e.Name() == fmt.Sprintf("r%d-f%d", r, f) {
+			found = append(found, fold{e.Name(), r, f})
+		} else if e.Name() == refitFolder {
+			refit = true
+		}
+	}
+	slices.SortFunc(found, func(a, b fold) int {
+		if a.r != b.r {
+			return a.r - b.r
+		}
+		return a.f - b.f
+	})
+	for _, f := range found {
+		folds = append(folds, f.name)
+	}
+	return folds, refit
+}
+
+// listNames joins names with commas, eliding the middle of a long list.
+func listNames(names []string) string {
+	if len(names) > 8 {
+		return fmt.Sprintf("%s, ... %s (%d in all)", strings.Join(names[:3], ", "), strings.Join(names[len(names)-2:], ", "), len(names))
+	}
+	return strings.Join(names, ", ")
 }
 
 // readFittedV1 reads a FittedFile of version 1 into the Fitted of today:
@@ -234,7 +336,7 @@ func (r *Runner) Refit(ctx context.Context) error {
 		if err := reg.Fit(ctx, fd.train, fd.valid); err != nil {
 			return fmt.Errorf("refit of model %q on all participants: %w", cfg.Name, err)
 		}
-		dir := filepath.Join(r.Models, filepath.Dir(unitPath(cfg.Name, Unit{})), "all")
+		dir := filepath.Join(r.Models, filepath.Dir(unitPath(cfg.Name, Unit{})), refitFolder)
 		if err := saveModel(dir, saver, fd, cohort, exp, cfg); err != nil {
 			return fmt.Errorf("refit of model %q: saving: %w", cfg.Name, err)
 		}

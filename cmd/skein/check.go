@@ -17,10 +17,8 @@ func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
 	fs.SetOutput(cio.stderr)
 	asJSON := fs.Bool("json", false, "print the report as JSON for scripts")
 	fs.Usage = func() {
+		describe(fs.Output(), "check")
 		fmt.Fprintln(fs.Output(), "usage: skein check EXPERIMENT.toml [--json]")
-		fmt.Fprintln(fs.Output(), "\nLoads the [cohort] of the experiment file, checks every file and prints a summary:")
-		fmt.Fprintln(fs.Output(), "included and excluded participants with reasons, regions, per-modality statistics,")
-		fmt.Fprintln(fs.Output(), "scores, covariate codings and outlier flags.")
 		fs.PrintDefaults()
 	}
 	positional, err := positionalArgs(fs, args, 1, "one experiment file")

@@ -15,10 +15,8 @@ func cmdCompare(ctx context.Context, cio commandIO, args []string) error {
 	markdown := fs.Bool("markdown", false, "write Markdown tables instead of text")
 	asJSON := fs.Bool("json", false, "write JSON instead of text")
 	fs.Usage = func() {
+		describe(cio.stderr, "compare")
 		fmt.Fprintln(cio.stderr, "usage: skein compare RUN_A RUN_B [--markdown | --json]")
-		fmt.Fprintln(cio.stderr, "\nSets two finished run folders side by side: participants added and removed,\n"+
-			"experiment settings and versions that differ, and every pooled metric with its\n"+
-			"change, marked when larger than the fold-to-fold SD.")
 		fs.PrintDefaults()
 	}
 	positional, err := positionalArgs(fs, args, 2, "two run folders")

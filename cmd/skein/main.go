@@ -20,6 +20,7 @@ import (
 	"os/signal"
 	"syscall"
 
+	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/train"
 )
@@ -37,8 +38,11 @@ const (
 // command is one subcommand of skein.
 type command struct {
 	name    string
-	summary string
-	run     func(ctx context.Context, io commandIO, args []string) error
+	summary string // one line, for the list of commands
+	// about is the paragraph "skein NAME -h" opens with: what the command
+	// does, what it reads and what it writes.
+	about string
+	run   func(ctx context.Context, io commandIO, args []string) error
 }
 
 // commandIO is where a command writes.
@@ -48,15 +52,54 @@ type commandIO struct {
 
 func commands() []command {
 	return []command{
-		{"synth", "invent a synthetic cohort and write it as a lab's files", cmdSynth},
-		{"check", "load and check the cohort of an experiment file", cmdCheck},
-		{"run", "cross-validate every model of an experiment file", cmdRun},
-		{"metrics", "score predictions in a CSV file", cmdMetrics},
-		{"report", "draw the figures and report.html of a finished run folder", cmdReport},
-		{"compare", "set two finished runs side by side", cmdCompare},
-		{"plan", "split a run into units for a cluster's job array", cmdPlan},
-		{"merge", "combine the finished units of a plan into a run folder", cmdMerge},
-		{"predict", "predict new participants with a saved model", cmdPredict},
+		{"synth", "invent a synthetic cohort and write it as a lab's files",
+			"Invents a cohort (participants, connectomes and scores of a fictional study) with a " +
+				"known planted signal and writes it as a lab's files: participants.tsv, fc/, sc/, " +
+				"regions.txt, planted.tsv (the truth) and experiment.toml for \"skein check\".", cmdSynth},
+		{"check", "load and check the cohort of an experiment file",
+			"Loads the [cohort] of the experiment file, checks every file and prints a summary: " +
+				"included and excluded participants with reasons, regions, per-modality statistics, " +
+				"scores, covariate codings and outlier flags. Nothing is trained or written.", cmdCheck},
+		{"run", "cross-validate every model of an experiment file",
+			"Checks the cohort of the experiment file, trains and tests every model under its " +
+				"repeated k-fold cross-validation (all models on the same splits), runs the " +
+				"permutation test and the comparison with the reference baseline when asked, and " +
+				"writes a run folder: predictions.csv, metrics.json, summary.md, report.html, " +
+				"figures and the saved fold models. The summary table is printed when it ends.", cmdRun},
+		{"metrics", "score predictions in a CSV or TSV file",
+			"Scores predictions: Pearson r, r within folds, Spearman ρ, MAE, median absolute " +
+				"error, RMSE, R², NMI and AMI, of any CSV or TSV file with the columns observed and " +
+				"predicted, such as a run's predictions.csv.", cmdMetrics},
+		{"report", "draw the figures and report.html of a finished run folder",
+			"Draws the figures of a finished run folder into RUN_DIR/figures and writes " +
+				"RUN_DIR/report.html from the run's files, without training anything again.", cmdReport},
+		{"compare", "set two finished runs side by side",
+			"Sets two finished run folders side by side: participants added and removed, " +
+				"experiment settings and versions that differ, and every pooled metric with its " +
+				"change, marked when larger than the fold-to-fold SD.", cmdCompare},
+		{"plan", "split a run into units for a cluster's job array",
+			"Splits the run of an experiment file into units (model × repeat × fold, in blocks) " +
+				"and writes into DIR.partial the plan and a SLURM job-array script that runs each " +
+				"unit with \"skein run --unit K\"; \"skein merge DIR\" then combines them.", cmdPlan},
+		{"merge", "combine the finished units of a plan into a run folder",
+			"Combines the finished units of the plan in DIR.partial (skein plan) into the run " +
+				"folder DIR, as \"skein run\" would have written it, and lists the units still missing.", cmdMerge},
+		{"predict", "predict new participants with a saved model",
+			"Predicts the scores of new participants with a model saved by a run: their matrices " +
+				"are preprocessed as at training time and the preparation fitted on the model's " +
+				"training participants is replayed. The new participants need no scores.", cmdPredict},
+		{"version", "print skein's version", "Prints skein's module version, the revision of its " +
+			"source when it was built from a repository, and the Go version that built it.", cmdVersion},
+	}
+}
+
+// describe writes the paragraph that opens "skein NAME -h", wrapped at 80
+// columns, and a blank line.
+func describe(w io.Writer, name string) {
+	for _, c := range commands() {
+		if c.name == name {
+			fmt.Fprintln(w, eval.WrapText(c.about, 80))
+		}
 	}
 }
 
@@ -72,6 +115,10 @@ func main() {
 }
 
 func run(ctx context.Context, args []string, cio commandIO) int {
+	if len(args) > 0 && (args[0] == "--version" || args[0] == "-version") {
+		fmt.Fprintln(cio.stdout, version())
+		return exitOK
+	}
 	if len(args) == 0 || args[0] == "help" || args[0] == "-h" || args[0] == "--help" {
 		usage(cio.stdout)
 		if len(args) == 0 {
@@ -101,7 +148,7 @@ func usage(w io.Writer) {
 	for _, c := range commands() {
 		fmt.Fprintf(w, "  %-8s %s\n", c.name, c.summary)
 	}
-	fmt.Fprintln(w, "\nRun \"skein COMMAND -h\" for a command's options.")
+	fmt.Fprintln(w, "\nRun \"skein COMMAND -h\" for what a command does and its options, \"skein --version\" for the version.")
 	fmt.Fprintln(w, "Research software: not a diagnostic device.")
 }
 

@@ -14,8 +14,8 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	flags.SetOutput(cio.stderr)
 	force := flags.Bool("force", false, "replace an existing run folder DIR")
 	flags.Usage = func() {
+		describe(cio.stderr, "merge")
 		fmt.Fprintln(cio.stderr, "usage: skein merge DIR [--force]")
-		fmt.Fprintln(cio.stderr, "Combines the finished units of the plan in DIR.partial (skein plan) into the run folder DIR.")
 		flags.PrintDefaults()
 	}
 	positional, err := positionalArgs(flags, args, 1, "the run folder of one plan")
@@ -36,9 +36,9 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	if oc.ViewsErr != nil {
 		fmt.Fprintf(cio.stderr, "skein merge: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", oc.ViewsErr, oc.Dir)
 	}
-	if err := oc.Report.WriteMarkdown(cio.stdout); err != nil {
+	if err := oc.Report.WriteText(cio.stdout); err != nil {
 		return err
 	}
-	fmt.Fprintf(cio.stdout, "\nMerged %d units; results in %s\n", units, oc.Dir)
+	fmt.Fprintf(cio.stdout, "\nMerged %d units; results in %s (the same tables in summary.md)\n", units, oc.Dir)
 	return nil
 }

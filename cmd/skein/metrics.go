@@ -19,11 +19,12 @@ func cmdMetrics(ctx context.Context, cio commandIO, args []string) error {
 	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins of each side for NMI")
 	fs.Usage = func() {
 		w := fs.Output()
-		fmt.Fprintln(w, "usage: skein metrics FILE.csv [--json] [--bins B]")
-		fmt.Fprintln(w, "\nScores predictions: Pearson r, Spearman ρ, MAE, median absolute error, RMSE,")
-		fmt.Fprintln(w, "R² and NMI. FILE.csv needs a header with the columns observed and predicted;")
-		fmt.Fprintln(w, "rows are grouped by the columns model and target when present, and scored per")
-		fmt.Fprintln(w, "fold as well when repeat and fold are present, as in a run's predictions.csv.")
+		describe(w, "metrics")
+		fmt.Fprintln(w, "usage: skein metrics FILE [--json] [--bins B]")
+		fmt.Fprintln(w, "\nFILE is comma-separated (.csv), or tab-separated (.tsv, or any file whose header")
+		fmt.Fprintln(w, "holds tabs and no commas), with a header naming the columns observed and")
+		fmt.Fprintln(w, "predicted; rows are grouped by the columns model and target when present, and")
+		fmt.Fprintln(w, "scored per fold as well when repeat and fold are present, as in predictions.csv.")
 		fmt.Fprintln(w, "Empty, NaN or NA cells are missing values: skipped and counted.")
 		fs.PrintDefaults()
 	}

@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"unicode/utf8"
 )
 
 // runMetrics runs "skein metrics ARGS" and returns the exit code, stdout
@@ -35,9 +36,15 @@ func TestMetricsTable(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
-	for _, want := range []string{"192 predictions", "graphnet", "anxiety", "pooled", "6 folds: mean ± SD", "Pearson r", "not a diagnostic device"} {
+	for _, want := range []string{"192 predictions", "graphnet", "anxiety", "pooled", "6 folds", "mean ± SD over the test folds", "Pearson r", "not a diagnostic device"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	// The tables are split to fit a terminal of 100 columns.
+	for _, line := range strings.Split(out, "\n") {
+		if n := utf8.RuneCountInString(line); n > 100 {
+			t.Errorf("line of %d characters: %q", n, line)
 		}
 	}
 }
@@ -109,7 +116,38 @@ func TestMetricsBadInput(t *testing.T) {
 func TestMetricsHelp(t *testing.T) {
 	t.Parallel()
 	code, _, errOut := runMetrics(t, "-h")
-	if code != exitOK || !strings.Contains(errOut, "usage: skein metrics FILE.csv") {
+	if code != exitOK || !strings.Contains(errOut, "usage: skein metrics FILE ") {
 		t.Errorf("exit %d, stderr %q", code, errOut)
+	}
+}
+
+// TestMetricsReadsTSV: the fixture written tab-separated, as .tsv and as a
+// file without extension, gives the same figures as the CSV.
+func TestMetricsReadsTSV(t *testing.T) {
+	t.Parallel()
+	fixture := filepath.Join("..", "..", "testdata", "eval", "predictions.csv")
+	raw, err := os.ReadFile(fixture)
+	if err != nil {
+		t.Fatal(err)
+	}
+	code, want, errOut := runMetrics(t, fixture)
+	if code != exitOK {
+		t.Fatalf("csv: exit %d: %s", code, errOut)
+	}
+	want = strings.Replace(want, fixture, "FILE", 1)
+	dir := t.TempDir()
+	tsv := []byte(strings.ReplaceAll(string(raw), ",", "\t"))
+	for _, name := range []string{"predictions.tsv", "predictions.TSV", "predictions"} {
+		path := filepath.Join(dir, name)
+		if err := os.WriteFile(path, tsv, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		code, got, errOut := runMetrics(t, path)
+		if code != exitOK {
+			t.Fatalf("%s: exit %d: %s", name, code, errOut)
+		}
+		if got = strings.Replace(got, path, "FILE", 1); got != want {
+			t.Errorf("%s: output differs from the CSV's:\n%s\nwant\n%s", name, got, want)
+		}
 	}
 }

@@ -38,6 +38,7 @@ func cmdPlan(ctx context.Context, cio commandIO, args []string) error {
 		return nil
 	})
 	fs.Usage = func() {
+		describe(cio.stderr, "plan")
 		fmt.Fprintln(cio.stderr, "usage: skein plan EXPERIMENT.toml --out DIR [--block N] [--time T] [--mem M] [--cpus C] [--partition P] [--force]")
 		fs.PrintDefaults()
 	}

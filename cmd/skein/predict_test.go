@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"testing"
@@ -187,5 +188,91 @@ func TestPredictReadsVersion1(t *testing.T) {
 	code, _, stderr := runSkein(t, "predict", filepath.Join(dir, "model"), noMotion, "--out", got)
 	if code == exitOK || !strings.Contains(stderr, `"motion"`) {
 		t.Errorf("cohort without motion: exit %d, stderr %q; want an error naming \"motion\"", code, stderr)
+	}
+}
+
+// TestPredictSavedBaselinesOnAFewNew: kernel ridge (both kernels) and
+// CPM fold models are saved by a run and, asked to predict three of their
+// test participants from a cohort file with neither targets nor score
+// columns (min_participants left at its default of 10), give the
+// predictions the run recorded: CPM to the bit, kernel ridge within
+// 1e-12 relative (its saved primal weights take the products in another
+// order). Pointing predict at a model's folder lists its fold folders and
+// the refitted model.
+func TestPredictSavedBaselinesOnAFewNew(t *testing.T) {
+	t.Parallel()
+	exp := synthExperiment(t, synth.Config{N: 40, P: 10, Seed: 9},
+		"[output]\nrefit = true\n"+
+			"[[model]]\nname = \"krr-corr\"\n[model.kernel_ridge]\ninput = \"both\"\n"+
+			"[[model]]\nname = \"krr-linear\"\n[model.kernel_ridge]\nkernel = \"linear\"\n"+
+			"[[model]]\nname = \"cpm\"\n[model.cpm]\np_threshold = 0.1\n")
+	out := filepath.Join(t.TempDir(), "run")
+	code, stdout, stderr := runSkein(t, "run", exp, "--out", out, "--no-history")
+	if code != exitOK {
+		t.Fatalf("run: exit %d: %s", code, stderr)
+	}
+	// The tables printed at the end fit a terminal of 100 columns.
+	for _, line := range strings.Split(stdout, "\n") {
+		if n := len([]rune(line)); n > 100 && !strings.HasPrefix(line, "Results in ") {
+			t.Errorf("run printed a line of %d characters: %q", n, line)
+		}
+	}
+	for _, want := range []string{"r within folds", "krr-linear", "comparison", "Δr vs reference", "Results in " + out} {
+		if !strings.Contains(stdout, want) {
+			t.Errorf("run's output lacks %q:\n%s", want, stdout)
+		}
+	}
+	// Three test participants of repeat 2, fold 3, in a table of their own
+	// without scores, beside the cohort's matrices.
+	recorded := make(map[string]string) // model|participant|target -> predicted
+	var few []string
+	for _, rec := range readCSV(t, filepath.Join(out, "predictions.csv"))[1:] {
+		if rec[3] == "2" && rec[4] == "3" {
+			recorded[rec[1]+"|"+rec[0]+"|"+rec[2]] = rec[6]
+			if len(few) < 3 && !slices.Contains(few, rec[0]) {
+				few = append(few, rec[0])
+			}
+		}
+	}
+	dir := filepath.Dir(exp)
+	if err := os.WriteFile(filepath.Join(dir, "new.tsv"), []byte("participant_id\n"+strings.Join(few, "\n")+"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	cohort := filepath.Join(dir, "new.toml")
+	if err := os.WriteFile(cohort, []byte("[cohort]\nparticipants = \"new.tsv\"\nregions = \"regions.txt\"\n"+
+		"[cohort.functional]\nfiles = \"fc/{participant_id}_fc.tsv\"\n[cohort.structural]\nfiles = \"sc/{participant_id}_sc.tsv\"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, m := range []struct {
+		name string
+		tol  float64
+	}{{"krr-corr", 1e-12}, {"krr-linear", 1e-12}, {"cpm", 0}} {
+		predicted := filepath.Join(t.TempDir(), "new.csv")
+		if code, _, stderr := runSkein(t, "predict", filepath.Join(out, "models", m.name, "r2-f3"), cohort, "--out", predicted); code != exitOK {
+			t.Fatalf("%s: predict: exit %d: %s", m.name, code, stderr)
+		}
+		rows := readCSV(t, predicted)[1:]
+		if len(rows) != 3*2 {
+			t.Fatalf("%s: %d predictions, want 3 participants × 2 targets", m.name, len(rows))
+		}
+		for _, rec := range rows {
+			want, ok := recorded[m.name+"|"+rec[0]+"|"+rec[2]]
+			if !ok {
+				t.Fatalf("%s: %s %s was not in the run's fold", m.name, rec[0], rec[2])
+			}
+			g, _ := strconv.ParseFloat(rec[4], 64)
+			w, _ := strconv.ParseFloat(want, 64)
+			if (m.tol == 0 && rec[4] != want) || math.Abs(g-w) > m.tol*math.Max(1, math.Abs(w)) {
+				t.Errorf("%s: %s %s: predict gives %s, the run recorded %s", m.name, rec[0], rec[2], rec[4], want)
+			}
+		}
+	}
+	code, _, stderr = runSkein(t, "predict", filepath.Join(out, "models", "cpm"), cohort)
+	for _, want := range []string{"models/cpm: not a saved model's folder (no fitted.json)",
+		"the fold models r1-f1, r1-f2, r1-f3, r1-f4, r2-f1, r2-f2, r2-f3, r2-f4 (each trained on one training fold",
+		filepath.Join(out, "models", "cpm", "all") + ", the model refitted on all participants"} {
+		if code != exitBadInput || !strings.Contains(stderr, want) {
+			t.Errorf("predict on the model's folder: exit %d, stderr %q lacks %q", code, stderr, want)
+		}
 	}
 }

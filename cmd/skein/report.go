@@ -17,8 +17,8 @@ func cmdReport(ctx context.Context, cio commandIO, args []string) error {
 	fs := flag.NewFlagSet("report", flag.ContinueOnError)
 	fs.SetOutput(cio.stderr)
 	fs.Usage = func() {
+		describe(cio.stderr, "report")
 		fmt.Fprintln(cio.stderr, "usage: skein report RUN_DIR")
-		fmt.Fprintln(cio.stderr, "Draws the figures of a finished run into RUN_DIR/figures and writes RUN_DIR/report.html.")
 		fs.PrintDefaults()
 	}
 	positional, err := positionalArgs(fs, args, 1, "one run folder")

@@ -28,6 +28,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	history := fs.String("history", "", "history `FILE` the run's headline figures are appended to (default history.csv beside the run folder)")
 	noHistory := fs.Bool("no-history", false, "do not append to the history file")
 	fs.Usage = func() {
+		describe(cio.stderr, "run")
 		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume] [--unit K] [--against DIR]")
 		fs.PrintDefaults()
 	}
@@ -70,7 +71,13 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 			fmt.Fprintln(cio.stderr, "skein run: the experiment has no [drift] rule: --against only writes the comparison ("+experiment.DriftFile+")")
 		}
 	}
-	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), len(exp.Models)*(*exp.CV.Folds)*(*exp.CV.Repeats))
+	var names []string
+	if expanded, _, err := exp.Expand(); err == nil { // an error is Run's to report
+		for _, m := range expanded.Models {
+			names = append(names, m.Name)
+		}
+	}
+	show := newProgress(cio.stderr, slog.New(slog.NewTextHandler(cio.stderr, nil)), names, (*exp.CV.Folds)*(*exp.CV.Repeats), par.Jobs)
 	opt.OnEvent = show.event
 	oc, err := experiment.Run(ctx, expPath, exp, opt)
 	show.finish()
@@ -83,10 +90,10 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if oc.ViewsErr != nil {
 		fmt.Fprintf(cio.stderr, "skein run: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", oc.ViewsErr, oc.Dir)
 	}
-	if err := oc.Report.WriteMarkdown(cio.stdout); err != nil {
+	if err := oc.Report.WriteText(cio.stdout); err != nil {
 		return err
 	}
-	fmt.Fprintf(cio.stdout, "\nResults in %s\n", oc.Dir)
+	fmt.Fprintf(cio.stdout, "\nResults in %s (the same tables in summary.md, figures in report.html)\n", oc.Dir)
 	if !*noHistory {
 		path, err := experiment.RecordHistory(oc.Dir, *history)
 		if err != nil {

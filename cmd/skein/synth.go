@@ -34,10 +34,8 @@ func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
 	fs.IntVar(&cfg.TimePoints, "timepoints", synth.DefaultTimePoints, "length of the simulated time series behind each functional matrix")
 	fs.Float64Var(&cfg.StructuralShare, "structural-share", 0, "share of the planted signal carried by structural edges, in [0, 1]")
 	fs.Usage = func() {
+		describe(fs.Output(), "synth")
 		fmt.Fprintln(fs.Output(), "usage: skein synth --out DIR [options]")
-		fmt.Fprintln(fs.Output(), "\nInvents a cohort (participants, connectomes and scores of a fictional study) with a")
-		fmt.Fprintln(fs.Output(), "known planted signal and writes it as a lab's files: participants.tsv, fc/, sc/,")
-		fmt.Fprintln(fs.Output(), "regions.txt, planted.tsv (the truth) and experiment.toml for \"skein check\".")
 		fs.PrintDefaults()
 	}
 	if err := fs.Parse(args); err != nil {

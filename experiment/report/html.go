@@ -76,7 +76,7 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 		Title:      "skein run report — " + r.Name,
 		Folder:     r.Name,
 		Answer:     answer,
-		Comparison: markdownHTML(withoutAnswer(r.SummaryMarkdown, answer)),
+		Comparison: markdownHTML(withoutAnswer(r.SummaryMarkdown, eval.EscapeMarkdown(answer))),
 		Filters:    filters,
 		Regions:    r.Regions,
 		Cautions:   Cautions,
@@ -129,9 +129,8 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 	}
 	for _, m := range imp {
 		b := importanceBlock{ModelImportance: m}
-		name := fileName("importance", m.Model, m.Target)
 		for _, f := range figs {
-			if f.File == name {
+			if f.File == m.File {
 				hf := embed(f)
 				b.Figure = &hf
 			}
@@ -219,7 +218,7 @@ Rebuild it with <code>skein report</code> once the cause is fixed.</div>
 {{range .Sections}}
 <h2>{{.Title}}</h2>
 {{range .Figures}}{{template "figure" .}}{{end}}{{if imp .Title}}{{range $.Importance}}
-<h3>{{.Model}} — {{.Target}}</h3>
+<h3>{{.Model}} — {{.Target}}{{with .View}} — {{.}} edges{{end}}</h3>
 {{with .Figure}}{{template "figure" .}}{{end}}
 <div class="scroll"><table class="edges">
 <tr><th class="num">rank</th><th>edge</th><th class="num">mean importance</th><th class="num">in top {{len .Top}} of a fold</th><th class="num">same sign</th></tr>

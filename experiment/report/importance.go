@@ -7,6 +7,7 @@ import (
 	"math"
 	"sort"
 	"strconv"
+	"strings"
 
 	"gonum.org/v1/gonum/stat"
 
@@ -20,7 +21,13 @@ const TopEdges = 15
 // over the folds that reported it.
 type ModelImportance struct {
 	Model, Target string
-	P             int
+	// View names the input view the maps are of, such as "functional",
+	// "structural" or "branch 2: structural" (train.ModelConfig.
+	// ImportanceViews); "" when the model's kind names none.
+	View string
+	// File is the name of the map's figure.
+	File string
+	P    int
 	// Mean is the p × p row-major mean over folds.
 	Mean []float64
 	// Folds counts the maps averaged.
@@ -51,34 +58,75 @@ type RegionStrength struct {
 }
 
 // ImportanceSummaries averages the run's importance maps over folds, per
-// model and target, and ranks edges and regions. Targets are named from the
-// experiment's targets, in order.
+// model, input view and target, and ranks edges and regions. Targets are
+// named from the experiment's targets, in order, views from the models'
+// settings (importanceViews).
 func (r *Run) ImportanceSummaries() ([]ModelImportance, error) {
 	targets := r.Experiment.Cohort.Targets
-	type key struct {
-		model  string
-		target int
-	}
-	var keys []key
-	maps := make(map[key][][]float64)
-	for _, u := range r.Importance {
-		if len(u.Maps) != len(targets) {
-			return nil, fmt.Errorf("units/%s: repeat %d, fold %d: %d importance maps for %d targets", u.Model, u.Repeat+1, u.Fold+1, len(u.Maps), len(targets))
-		}
-		for t, m := range u.Maps {
-			k := key{u.Model, t}
-			if _, ok := maps[k]; !ok {
-				keys = append(keys, k)
-			}
-			maps[k] = append(maps[k], m)
-		}
+	keys, maps, err := r.importanceMaps()
+	if err != nil {
+		return nil, err
 	}
 	var out []ModelImportance
 	for _, k := range keys {
-		ms := maps[k]
-		out = append(out, summarizeImportance(k.model, targets[k.target], ms))
+		mi := summarizeImportance(k.model, targets[k.target], maps[k])
+		mi.View, mi.File = k.view, fileName("importance", k.model, targets[k.target])
+		if k.views > 1 { // "branch 2: structural" as b2-structural
+			mi.File = fileName("importance", k.model, targets[k.target], strings.NewReplacer("branch ", "b", ": ", "-").Replace(k.view))
+		}
+		out = append(out, mi)
 	}
 	return out, nil
+}
+
+// importanceKey is one model's importance of one input view and target.
+type importanceKey struct {
+	model  string
+	view   string
+	views  int // the model's number of views
+	target int
+}
+
+// importanceMaps gathers the units' maps by model, view and target, in
+// the order the units first report them (model, then view, then target).
+func (r *Run) importanceMaps() ([]importanceKey, map[importanceKey][][]float64, error) {
+	targets := r.Experiment.Cohort.Targets
+	var keys []importanceKey
+	maps := make(map[importanceKey][][]float64)
+	for _, u := range r.Importance {
+		if len(targets) == 0 || len(u.Maps)%len(targets) != 0 {
+			return nil, nil, fmt.Errorf("units/%s: repeat %d, fold %d: %d importance maps for %d targets", u.Model, u.Repeat+1, u.Fold+1, len(u.Maps), len(targets))
+		}
+		views := r.importanceViews(u.Model, len(u.Maps)/len(targets))
+		for k, m := range u.Maps {
+			v, t := k/len(targets), k%len(targets)
+			key := importanceKey{u.Model, views[v], len(views), t}
+			if _, ok := maps[key]; !ok {
+				keys = append(keys, key)
+			}
+			maps[key] = append(maps[key], m)
+		}
+	}
+	return keys, maps, nil
+}
+
+// importanceViews names the n importance views of model from its
+// settings; when they do not name n views (a run folder of an earlier
+// skein, whose maps had one view per target), the views are "" for one
+// and "view 1", "view 2", ... for more.
+func (r *Run) importanceViews(model string, n int) []string {
+	for _, m := range r.Experiment.Models {
+		if views := m.ImportanceViews(); m.Name == model && len(views) == n {
+			return views
+		}
+	}
+	views := make([]string, n)
+	for v := range views {
+		if n > 1 {
+			views[v] = fmt.Sprintf("view %d", v+1)
+		}
+	}
+	return views
 }
 
 func summarizeImportance(model, target string, maps [][]float64) ModelImportance {
@@ -144,13 +192,18 @@ func (r *Run) ImportanceFigures(sums []ModelImportance) ([]Figure, error) {
 			labels = defaultLabels(s.P)
 		}
 		title := fmt.Sprintf("%s — %s: edge importance, mean of %d folds", s.Model, s.Target, s.Folds)
+		of := ""
+		if s.View != "" {
+			title = fmt.Sprintf("%s — %s: %s edges' importance, mean of %d folds", s.Model, s.Target, s.View, s.Folds)
+			of = fmt.Sprintf(" of the %s input's edges alone (each input view of the model has a map of its own, never summed)", s.View)
+		}
 		img, err := heatMap(title, "region", "region", labels, labels, s.P, s.P, s.Mean, figure.DoubleColumn, 6)
 		if err != nil {
 			return nil, fmt.Errorf("importance figure of %s, %s: %w", s.Model, s.Target, err)
 		}
-		caption := fmt.Sprintf("%s, averaged over the %d test folds; red edges raise the predicted %s, blue ones lower it. %s",
-			r.importanceKind(s.Model), s.Folds, s.Target, "Importance shows what the model uses, not a cause.")
-		figs = append(figs, fromImage(img, fileName("importance", s.Model, s.Target), SectionImportance, title, caption))
+		caption := fmt.Sprintf("%s%s, averaged over the %d test folds; red edges raise the predicted %s, blue ones lower it. %s",
+			r.importanceKind(s.Model), of, s.Folds, s.Target, "Importance shows what the model uses, not a cause.")
+		figs = append(figs, fromImage(img, s.File, SectionImportance, title, caption))
 	}
 	return figs, nil
 }
@@ -266,24 +319,13 @@ func (r *Run) FilterFigures(sums []FilterSummary) ([]Figure, error) {
 // experiment.ImportanceFile, whose columns that constant documents.
 func (r *Run) importanceCSV() []byte {
 	targets := r.Experiment.Cohort.Targets
-	type key struct {
-		model  string
-		target int
-	}
-	var keys []key
-	maps := make(map[key][][]float64)
-	for _, u := range r.Importance {
-		for t, m := range u.Maps {
-			k := key{u.Model, t}
-			if _, ok := maps[k]; !ok {
-				keys = append(keys, k)
-			}
-			maps[k] = append(maps[k], m)
-		}
+	keys, maps, err := r.importanceMaps()
+	if err != nil {
+		keys = nil // ImportanceSummaries reports the error
 	}
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
-	w.Write([]string{"model", "target", "region_i", "region_j", "mean", "sd", "folds", "same_sign"})
+	w.Write([]string{"model", "target", "view", "region_i", "region_j", "mean", "sd", "folds", "same_sign"})
 	format := func(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
 	for _, k := range keys {
 		ms := maps[k]
@@ -309,7 +351,7 @@ func (r *Run) importanceCSV() []byte {
 				if len(vals) > 1 {
 					sdText = format(sd)
 				}
-				w.Write([]string{k.model, targets[k.target], labels[i], labels[j], format(mean), sdText,
+				w.Write([]string{k.model, targets[k.target], k.view, labels[i], labels[j], format(mean), sdText,
 					strconv.Itoa(len(vals)), format(float64(same) / float64(len(vals)))})
 			}
 		}

@@ -171,7 +171,9 @@ func TestBuildDrawsEveryFigure(t *testing.T) {
 		"learning-net.png",
 		"null-ridge-recall.png", "null-ridge-fluency.png",
 		"filters-net-b1.png",
-		"importance-ridge-recall.png", "importance-net-fluency.png",
+		"importance-ridge-recall.png",
+		// One map per input view of a network of two branches.
+		"importance-net-fluency-b1-functional.png", "importance-net-fluency-b2-functional.png",
 		"cohort.png",
 	}
 	byName := make(map[string]Figure)
@@ -583,6 +585,7 @@ func TestReportOpensWithTheAnswer(t *testing.T) {
 	if !strings.HasPrefix(answer, "Fusing structure with function ") || !strings.Contains(answer, "for ridge") {
 		t.Errorf("summary.md's answer: %s", answer)
 	}
+	answer = regexp.MustCompile(`\\([[:punct:]])`).ReplaceAllString(answer, "$1") // summary.md escapes Markdown
 	para := `<p class="answer">` + template.HTMLEscapeString(answer) + `</p>`
 	at, summary := strings.Index(page, para), strings.Index(page, `<h2 id="summary">`)
 	if at < 0 || summary < at {
@@ -646,7 +649,7 @@ func TestOneOrderEverywhere(t *testing.T) {
 		}
 		want := map[string][]string{
 			"observed-":   {"observed-mean-recall.png", "observed-mean-fluency.png", "observed-ridge-recall.png", "observed-ridge-fluency.png", "observed-net-recall.png", "observed-net-fluency.png"},
-			"importance-": {"importance-ridge-recall.png", "importance-ridge-fluency.png", "importance-net-recall.png", "importance-net-fluency.png"},
+			"importance-": {"importance-ridge-recall.png", "importance-ridge-fluency.png", "importance-net-recall-b1-functional.png", "importance-net-fluency-b1-functional.png", "importance-net-recall-b2-functional.png", "importance-net-fluency-b2-functional.png"},
 			"null-":       {"null-ridge-recall.png", "null-ridge-fluency.png"},
 		}[prefix]
 		if strings.Join(got, " ") != strings.Join(want, " ") {
@@ -714,5 +717,42 @@ func TestReportOfAnEarlierRun(t *testing.T) {
 	}
 	if !strings.Contains(string(page), "This run folder has no comparison.csv") || !strings.Contains(string(page), "not a diagnostic device") {
 		t.Error("the report of an earlier run does not say why it has no answer, or lacks the disclaimer")
+	}
+}
+
+// TestImportanceNamesViews: importance.csv, the figures and the page say
+// which input view each map is of; the two branches of the network have a
+// map each, never summed.
+func TestImportanceNamesViews(t *testing.T) {
+	dir, figs := buildTiny(t)
+	raw, err := os.ReadFile(filepath.Join(dir, experiment.ImportanceFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	csvText := string(raw)
+	if !strings.HasPrefix(csvText, "model,target,view,region_i,region_j,") {
+		t.Errorf("importance.csv header: %q", strings.SplitN(csvText, "\n", 2)[0])
+	}
+	for _, want := range []string{"\nnet,recall,branch 1: functional,", "\nnet,recall,branch 2: functional,", "\nridge,recall,functional,"} {
+		if !strings.Contains(csvText, want) {
+			t.Errorf("importance.csv lacks a line starting %q", want)
+		}
+	}
+	var titled bool
+	for _, f := range figs {
+		if f.File == "importance-net-recall-b2-functional.png" {
+			titled = strings.Contains(f.Title, "branch 2: functional edges' importance") &&
+				strings.Contains(f.Caption, "of the branch 2: functional input's edges alone")
+		}
+	}
+	if !titled {
+		t.Error("the figure of branch 2 does not name its view in title and caption")
+	}
+	html, err := os.ReadFile(filepath.Join(dir, experiment.HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(html), "net — recall — branch 2: functional edges</h3>") {
+		t.Error("report.html has no section for branch 2's map")
 	}
 }

@@ -1109,3 +1109,25 @@ func describe(s layerShape) string {
 	}
 	return fmt.Sprintf("a %s layer", formName(s.form))
 }
+
+// ImportanceViews names the input views of the network's edge importance
+// (Network.EdgeImportance), one per input matrix of each branch, in
+// order: "functional", "structural" or "propagated" for a network of one
+// branch of one input; "branch B: INPUT" (B from 1) otherwise. It expects
+// SetDefaults to have been called.
+func (c Config) ImportanceViews() []string {
+	var views []string
+	for b, br := range c.Branches {
+		inputs := br.Views
+		if len(inputs) == 0 {
+			inputs = []Input{br.Input}
+		}
+		for _, in := range inputs {
+			if len(c.Branches) == 1 && len(inputs) == 1 {
+				return []string{string(in)}
+			}
+			views = append(views, fmt.Sprintf("branch %d: %s", b+1, in))
+		}
+	}
+	return views
+}

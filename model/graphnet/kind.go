@@ -19,7 +19,13 @@ func init() {
 		Name: kindNetwork,
 		Importance: model.Importance{
 			Method:      "gradient × input",
-			Description: "Gradient × input saliency of the test participants, summed over branches",
+			Description: "Gradient × input saliency of the test participants",
+		},
+		ImportanceViews: func(s model.Settings) []string {
+			if c, ok := s.(*Config); ok {
+				return c.ImportanceViews()
+			}
+			return nil
 		},
 		New: func(s model.Settings, p, targets int, seed int64) (model.Regressor, error) {
 			c, ok := s.(*Config)

@@ -13,19 +13,22 @@ import (
 
 var _ model.ReferenceInterpreter = (*Network)(nil)
 
-// EdgeImportance returns, per target t, the gradient × input saliency of
-// the network over ps (Simonyan et al. 2014; Shrikumar et al. 2017): for
-// each branch b with input matrix X_b (the functional or structural matrix,
-// or the propagated S·F, as the branch reads it; for a branch with several
-// views, each view is a term of the sum over b),
+// EdgeImportance returns, per input view v and target t, the gradient ×
+// input saliency of the network over ps (Simonyan et al. 2014; Shrikumar
+// et al. 2017): a view is one input matrix X_v of one branch (the
+// functional or structural matrix, or the propagated S·F, as the branch
+// reads it; a branch with several views has one per view), and
 //
-//	M_t = (1/n) Σᵢ Σ_b X_bi ∘ ∂ŷ_it/∂X_bi
+//	M_vt = (1/n) Σᵢ X_vi ∘ ∂ŷ_it/∂X_vi
 //
 // averaged over the n participants of ps, computed without dropout, then
 // symmetrized, (M + Mᵀ)/2, with a zero diagonal. Entry (i, j) is how much
-// edge (i, j) contributes to prediction t to first order, in the units of
-// the Y the network was fitted on; the sign says whether the edge, at its
-// value, raises or lowers the prediction. Each map is p × p.
+// edge (i, j) of that view contributes to prediction t to first order, in
+// the units of the Y the network was fitted on; the sign says whether the
+// edge, at its value, raises or lowers the prediction. Views of different
+// matrices are never summed: the maps come view after view, in the order
+// of Config.ImportanceViews (branches in order, a branch's views in
+// order), each p × p: map v·T + t for T targets.
 func (n *Network) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
 	return n.EdgeImportanceFrom(ps, nil)
 }
@@ -56,9 +59,15 @@ func (n *Network) EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense,
 		}
 	}
 	p, pp := n.p, n.p*n.p
-	sums := make([][]float64, n.targets)
-	for t := range sums {
-		sums[t] = make([]float64, pp)
+	firstView := make([]int, len(set.inputs)) // index of each branch's first view
+	views := 0
+	for b := range set.inputs {
+		firstView[b] = views
+		views += len(set.inputs[b][0]) / pp
+	}
+	sums := make([][]float64, views*n.targets) // view v, target t at v·T + t
+	for k := range sums {
+		sums[k] = make([]float64, pp)
 	}
 	for start := 0; start < set.len(); start += *n.cfg.BatchSize {
 		idx := make([]int, 0, *n.cfg.BatchSize)
@@ -86,19 +95,19 @@ func (n *Network) EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense,
 					off := k * len(x)
 					if refSet == nil {
 						for e, v := range x {
-							sums[t][e%pp] += v * valueAt(gv, off+e)
+							sums[(firstView[b]+e/pp)*n.targets+t][e%pp] += v * valueAt(gv, off+e)
 						}
 						continue
 					}
 					r := refSet.inputs[b][i]
 					for e, v := range x {
-						sums[t][e%pp] += (v - r[e]) * valueAt(gv, off+e)
+						sums[(firstView[b]+e/pp)*n.targets+t][e%pp] += (v - r[e]) * valueAt(gv, off+e)
 					}
 				}
 			}
 		}
 	}
-	maps := make([]*mat.Dense, n.targets)
+	maps := make([]*mat.Dense, len(sums))
 	inv := 1 / float64(set.len())
 	for t, s := range sums {
 		m := mat.NewDense(p, p, nil)

@@ -64,13 +64,20 @@ func TestEdgeImportanceMatchesFiniteDifferences(t *testing.T) {
 				}
 			}
 			want /= float64(len(probe))
-			got := maps[target].At(e[0], e[1])
+			// Each branch is a view with maps of its own (view v, target
+			// t at v·2 + t); perturbing F moves both views' inputs.
+			if len(maps) != 2*2 {
+				t.Fatalf("%d maps, want 2 views × 2 targets", len(maps))
+			}
+			got := maps[target].At(e[0], e[1]) + maps[2+target].At(e[0], e[1])
 			if math.Abs(got-want) > 1e-5*math.Abs(want)+1e-9 {
 				t.Errorf("edge %v, target %d: saliency %.9g, finite differences %.9g", e, target, got, want)
 			}
 			t.Logf("edge %v, target %d: saliency %.6g, finite differences %.6g", e, target, got, want)
-			if maps[target].At(e[1], e[0]) != got {
-				t.Errorf("edge %v, target %d: map not symmetric", e, target)
+			for _, m := range []*mat.Dense{maps[target], maps[2+target]} {
+				if m.At(e[1], e[0]) != m.At(e[0], e[1]) {
+					t.Errorf("edge %v, target %d: map not symmetric", e, target)
+				}
 			}
 		}
 	}

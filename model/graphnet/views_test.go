@@ -135,11 +135,11 @@ func TestEdgeLayerLearnsProduct(t *testing.T) {
 	}
 }
 
-// TestEdgeImportanceSumsViews: for a branch with several views, the
-// gradient × input saliency adds the terms of every view, X_v ∘ ∂ŷ/∂X_v,
+// TestEdgeImportanceSeparatesViews: for a branch with several views, the
+// gradient × input saliency gives each view its own map, X_v ∘ ∂ŷ/∂X_v,
 // checked against central finite differences of the predictions (common
-// practice) perturbing each view's matrix in turn.
-func TestEdgeImportanceSumsViews(t *testing.T) {
+// practice) perturbing that view's matrix alone.
+func TestEdgeImportanceSeparatesViews(t *testing.T) {
 	const p = 6
 	ps, y := productCohort(10, p, 8)
 	cfg := testConfig(Float64, BranchConfig{
@@ -158,11 +158,14 @@ func TestEdgeImportanceSumsViews(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	if len(maps) != 2 {
+		t.Fatalf("%d maps, want one per view (functional, structural) of the one target", len(maps))
+	}
 	const h = 1e-6
 	for _, e := range [][2]int{{0, 1}, {2, 5}} {
-		var want float64
-		for _, q := range probe {
-			for view := range 2 {
+		for view := range 2 {
+			var want float64
+			for _, q := range probe {
 				for _, ij := range [][2]int{e, {e[1], e[0]}} {
 					predAt := func(delta float64) float64 {
 						f, s := mat.DenseCopyOf(q.Functional), mat.DenseCopyOf(q.Structural)
@@ -178,10 +181,10 @@ func TestEdgeImportanceSumsViews(t *testing.T) {
 					want += x * (predAt(h) - predAt(-h)) / (2 * h) / 2
 				}
 			}
-		}
-		want /= float64(len(probe))
-		if got := maps[0].At(e[0], e[1]); math.Abs(got-want) > 1e-5*math.Abs(want)+1e-9 {
-			t.Errorf("edge %v: saliency %.9g, finite differences %.9g", e, got, want)
+			want /= float64(len(probe))
+			if got := maps[view].At(e[0], e[1]); math.Abs(got-want) > 1e-5*math.Abs(want)+1e-9 {
+				t.Errorf("edge %v, view %d: saliency %.9g, finite differences %.9g", e, view, got, want)
+			}
 		}
 	}
 }

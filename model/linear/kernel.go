@@ -38,6 +38,9 @@ type KernelRidge struct {
 	train    *mat.Dense // n × d training edge vectors, normalized for "correlation"
 	dualCoef *mat.Dense // n × T, zero where a score is missing
 	means    []float64  // T training score means
+	// primal is the d × T primal weights of a model read back by Load,
+	// which keeps no training participants (train and dualCoef nil).
+	primal *mat.Dense
 }
 
 // NewKernelRidge returns an unfitted kernel ridge model. cfg must be
@@ -162,9 +165,14 @@ func (k *KernelRidge) Predict(ps []*data.Participant) (*mat.Dense, error) {
 	if err != nil {
 		return nil, err
 	}
-	var kern, pred mat.Dense
-	kern.Mul(x, k.train.T())
-	pred.Mul(&kern, k.dualCoef)
+	var pred mat.Dense
+	if k.train == nil { // read back by Load
+		pred.Mul(x, k.primal)
+	} else {
+		var kern mat.Dense
+		kern.Mul(x, k.train.T())
+		pred.Mul(&kern, k.dualCoef)
+	}
 	addToColumns(&pred, k.means)
 	return &pred, nil
 }
@@ -185,6 +193,9 @@ func (k *KernelRidge) Choices() [][]model.Choice { return alphaChoices(k.cfg.Alp
 func (k *KernelRidge) Weights() *mat.Dense {
 	if k.means == nil {
 		return nil
+	}
+	if k.train == nil {
+		return k.primal
 	}
 	var w mat.Dense
 	w.Mul(k.train.T(), k.dualCoef)

@@ -22,8 +22,7 @@ var patternImportance = model.Importance{
 }
 
 // The baselines register themselves as kinds of model: all are baselines
-// and fit score columns independently; the mean predictor and ridge can
-// be saved.
+// and fit score columns independently, and all can be saved.
 func init() {
 	model.Register(model.Kind{
 		Name: kindMean, Baseline: true, ColumnWise: true,
@@ -47,6 +46,12 @@ func init() {
 		},
 		Load:   loader(kindRidge),
 		Inputs: inputs,
+		ImportanceViews: func(s model.Settings) []string {
+			if c, ok := s.(*RidgeConfig); ok {
+				return importanceViews(c.Input)
+			}
+			return nil
+		},
 	})
 	model.Register(model.Kind{
 		Name: kindKernelRidge, Baseline: true, ColumnWise: true, Importance: patternImportance,
@@ -58,6 +63,13 @@ func init() {
 			return Config{KernelRidge: c}.New(targets, seed)
 		},
 		Inputs: inputs,
+		Load:   loader(kindKernelRidge),
+		ImportanceViews: func(s model.Settings) []string {
+			if c, ok := s.(*KernelRidgeConfig); ok {
+				return importanceViews(c.Input)
+			}
+			return nil
+		},
 	})
 	model.Register(model.Kind{
 		Name: kindCPM, Baseline: true, ColumnWise: true,
@@ -73,6 +85,13 @@ func init() {
 			return Config{CPM: c}.New(targets, seed)
 		},
 		Inputs: inputs,
+		Load:   loader(kindCPM),
+		ImportanceViews: func(s model.Settings) []string {
+			if c, ok := s.(*CPMConfig); ok {
+				return importanceViews(c.Input)
+			}
+			return nil
+		},
 	})
 }
 

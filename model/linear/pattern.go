@@ -27,9 +27,10 @@ var (
 // to cancel noise shared by edges, a pattern shows how each edge varies
 // with the prediction. Each map is p × p and symmetric with a zero
 // diagonal, in the units of the edge times the units of Y. For input
-// "both" the maps show the functional edges only (the structural part of
-// the pattern is left out, since it is in other units). ps needs at least
-// two participants.
+// "both" there are two maps per target, the functional edges' for every
+// target then the structural edges' (ImportanceViews: the two are in
+// different units and are never summed). ps needs at least two
+// participants.
 func (r *Ridge) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
 	if r.intercept == nil {
 		return nil, errNotFitted
@@ -51,33 +52,43 @@ func (k *KernelRidge) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, erro
 // EdgeImportance returns, per target, the edges CPM selected in its last
 // Fit: +1 for an edge of the positive network, −1 for one of the negative
 // network, 0 elsewhere (p × p, symmetric). The maps do not depend on ps,
-// which may be empty. For input "both" they show the functional edges only.
+// which may be empty. For input "both" the functional edges' maps of
+// every target come first, then the structural edges' (ImportanceViews).
 func (c *CPM) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
 	if c.coef == nil {
 		return nil, errNotFitted
 	}
-	maps := make([]*mat.Dense, len(c.coef))
-	e := NumEdges(c.p)
+	t, e := len(c.coef), NumEdges(c.p)
+	maps := make([]*mat.Dense, inputViews(c.cfg.Input)*t)
+	for i := range maps {
+		maps[i] = mat.NewDense(c.p, c.p, nil)
+	}
 	for j := range c.coef {
-		m := mat.NewDense(c.p, c.p, nil)
 		for sign, edges := range map[float64][]int{1: c.positive[j], -1: c.negative[j]} {
 			for _, k := range edges {
-				if k >= e {
-					continue // a structural edge of input "both"
-				}
-				a, b := EdgePair(c.p, k)
+				m := maps[k/e*t+j] // the structural edges of "both" follow the functional ones
+				a, b := EdgePair(c.p, k%e)
 				m.Set(a, b, sign)
 				m.Set(b, a, sign)
 			}
 		}
-		maps[j] = m
 	}
 	return maps, nil
 }
 
-// activationPatterns returns cov(x_e, ŷ_j) over ps for every edge e of the
-// first connectome of input and every column j of reg's predictions, as
-// symmetric p × p maps.
+// importanceViews names the importance views of a baseline reading input
+// (model.Kind.ImportanceViews): its matrix, or both.
+func importanceViews(input Input) []string {
+	if input == InputBoth {
+		return []string{string(InputFunctional), string(InputStructural)}
+	}
+	return []string{string(input)}
+}
+
+// activationPatterns returns cov(x_e, ŷ_j) over ps for every edge e of
+// input and every column j of reg's predictions, as symmetric p × p maps:
+// for input "both" the functional edges' maps of every column, then the
+// structural edges'.
 func activationPatterns(reg model.Regressor, input Input, p int, ps []*data.Participant) ([]*mat.Dense, error) {
 	if len(ps) < 2 {
 		return nil, errors.New("linear: EdgeImportance needs at least two participants")
@@ -95,17 +106,19 @@ func activationPatterns(reg model.Regressor, input Input, p int, ps []*data.Part
 	var cov mat.Dense
 	cov.Mul(x.T(), yhat) // the column means of x cancel against centred ŷ
 	cov.Scale(1/float64(n-1), &cov)
-	maps := make([]*mat.Dense, t)
-	e := NumEdges(p)
-	for j := range t {
-		m := mat.NewDense(p, p, nil)
-		for k := range e {
-			a, b := EdgePair(p, k)
-			v := cov.At(k, j)
-			m.Set(a, b, v)
-			m.Set(b, a, v)
+	views, e := inputViews(input), NumEdges(p)
+	maps := make([]*mat.Dense, views*t)
+	for v := range views {
+		for j := range t {
+			m := mat.NewDense(p, p, nil)
+			for k := range e {
+				a, b := EdgePair(p, k)
+				val := cov.At(v*e+k, j)
+				m.Set(a, b, val)
+				m.Set(b, a, val)
+			}
+			maps[v*t+j] = m
 		}
-		maps[j] = m
 	}
 	return maps, nil
 }

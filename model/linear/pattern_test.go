@@ -3,6 +3,7 @@ package linear
 import (
 	"context"
 	"math"
+	"slices"
 	"sort"
 	"testing"
 
@@ -153,5 +154,84 @@ func TestActivationPatternIsCovariance(t *testing.T) {
 	}
 	if _, err := r.EdgeImportance([]*data.Participant{test.Participants[0]}); err == nil {
 		t.Error("one participant: no error")
+	}
+}
+
+// TestImportanceViewsOfBoth: for input "both", ridge and kernel ridge give
+// each target a functional and a structural pattern, each the sample
+// covariance (gonum's stat.Covariance) of that matrix's edge with the
+// predictions, and CPM places each selected edge in its matrix's map.
+func TestImportanceViewsOfBoth(t *testing.T) {
+	train, test, _, p := synthHalves(t)
+	T := train.Y.RawMatrix().Cols
+	for _, tc := range []struct {
+		name string
+		reg  model.Interpreter
+	}{
+		{"ridge", NewRidge(RidgeConfig{Input: InputBoth, Standardize: "zscore", Alphas: []float64{1}, AlphaScale: "relative", InnerFolds: new(5)}, 1)},
+		{"kernel ridge", NewKernelRidge(KernelRidgeConfig{Input: InputBoth, Kernel: KernelCorrelation, Alphas: []float64{1}, AlphaScale: "relative", InnerFolds: new(5)}, 1)},
+	} {
+		if err := tc.reg.Fit(context.Background(), train, model.Dataset{}); err != nil {
+			t.Fatal(err)
+		}
+		maps, err := tc.reg.EdgeImportance(test.Participants)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(maps) != 2*T {
+			t.Fatalf("%s: %d maps, want 2 views × %d targets", tc.name, len(maps), T)
+		}
+		pred, err := tc.reg.Predict(test.Participants)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for v, matrix := range []func(*data.Participant) *mat.Dense{
+			func(q *data.Participant) *mat.Dense { return q.Functional },
+			func(q *data.Participant) *mat.Dense { return q.Structural },
+		} {
+			for j := range T {
+				yhat := mat.Col(nil, j, pred)
+				for _, e := range [][2]int{{0, 1}, {3, 9}, {p - 2, p - 1}} {
+					x := make([]float64, len(test.Participants))
+					for i, q := range test.Participants {
+						x[i] = matrix(q).At(e[0], e[1])
+					}
+					want := stat.Covariance(x, yhat, nil)
+					if got := maps[v*T+j].At(e[0], e[1]); math.Abs(got-want) > 1e-10*math.Max(1, math.Abs(want)) {
+						t.Errorf("%s, view %d, target %d, edge %v: pattern %v, stat.Covariance %v", tc.name, v, j, e, got, want)
+					}
+				}
+			}
+		}
+	}
+	cpm := NewCPM(CPMConfig{Input: InputBoth, Correlation: "pearson", PThreshold: new(0.2), Network: "both"})
+	if err := cpm.Fit(context.Background(), train, model.Dataset{}); err != nil {
+		t.Fatal(err)
+	}
+	maps, err := cpm.EdgeImportance(nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	e := NumEdges(p)
+	structural := 0
+	for j := range T {
+		pos, neg := cpm.Selected(j)
+		for sign, edges := range map[float64][]int{1: pos, -1: neg} {
+			for _, k := range edges {
+				a, b := EdgePair(p, k%e)
+				if got := maps[k/e*T+j].At(a, b); got != sign {
+					t.Errorf("cpm, target %d, edge %d: %v in view %d, want %v", j, k, got, k/e, sign)
+				}
+				if k >= e {
+					structural++
+				}
+			}
+		}
+	}
+	if structural == 0 {
+		t.Error("cpm selected no structural edge: the structural view is untested")
+	}
+	if got := importanceViews(InputBoth); !slices.Equal(got, []string{"functional", "structural"}) {
+		t.Errorf("views of both: %q", got)
 	}
 }

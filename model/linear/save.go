@@ -15,19 +15,27 @@ import (
 	"github.com/skein-neuro/skein/model"
 )
 
-// A saved baseline is a folder holding manifest.json and, for ridge,
-// weights.npy:
+// A saved baseline is a folder holding manifest.json and, for ridge and
+// kernel ridge, weights.npy:
 //
-//	manifest.json  {"format": "skein-linear", "version": 1, "kind": "mean" or "ridge",
-//	               "input": the ridge input ("functional", "structural", "both"),
+//	manifest.json  {"format": "skein-linear", "version": 1,
+//	               "kind": "mean", "ridge", "kernel_ridge" or "cpm",
+//	               "input": the edges read ("functional", "structural", "both"),
+//	               "kernel": kernel ridge's kernel ("linear", "correlation"),
 //	               "p": regions, "alphas": the penalty chosen per target,
-//	               "intercept" (ridge) or "means" (mean): one value per target}
-//	weights.npy    ridge only: float64, d × T in C order, on the raw edge
-//	               scale, rows in the order of Edges (functional edges first
-//	               for "both"); prediction = edges · weights + intercept.
+//	               "intercept" (ridge, kernel ridge) or "means" (mean): one value per target,
+//	               "positive", "negative" (cpm): per target, the selected edges
+//	               (positions in Edges, ascending),
+//	               "coef" (cpm): per target, [b₀, b₊, b₋]}
+//	weights.npy    ridge and kernel ridge: float64, d × T in C order, rows in
+//	               the order of Edges (functional edges first for "both");
+//	               prediction = z · weights + intercept, z the raw edges for
+//	               ridge and the linear kernel, and for the correlation kernel
+//	               the edges centred and scaled to unit length per participant.
 //
-// Kernel ridge (whose correlation kernel needs the training participants)
-// and CPM are not saved.
+// Kernel ridge is saved in its primal form, W = Xᵀα (KernelRidge.Weights),
+// so that the folder holds no training participant's edges; CPM as its
+// selected networks and strength coefficients.
 const (
 	linearFormat   = "skein-linear"
 	linearVersion  = 1
@@ -37,15 +45,27 @@ const (
 
 var errSaveUnfitted = errors.New("linear: Save called before Fit")
 
+// Every baseline can be saved.
+var (
+	_ model.Saver = (*Mean)(nil)
+	_ model.Saver = (*Ridge)(nil)
+	_ model.Saver = (*KernelRidge)(nil)
+	_ model.Saver = (*CPM)(nil)
+)
+
 type linearManifestJSON struct {
-	Format    string    `json:"format"`
-	Version   int       `json:"version"`
-	Kind      string    `json:"kind"`
-	Input     Input     `json:"input,omitempty"`
-	P         int       `json:"p,omitempty"`
-	Alphas    []float64 `json:"alphas,omitempty"`
-	Intercept []float64 `json:"intercept,omitempty"`
-	Means     []float64 `json:"means,omitempty"`
+	Format    string       `json:"format"`
+	Version   int          `json:"version"`
+	Kind      string       `json:"kind"`
+	Input     Input        `json:"input,omitempty"`
+	Kernel    Kernel       `json:"kernel,omitempty"`
+	P         int          `json:"p,omitempty"`
+	Alphas    []float64    `json:"alphas,omitempty"`
+	Intercept []float64    `json:"intercept,omitempty"`
+	Means     []float64    `json:"means,omitempty"`
+	Positive  [][]int      `json:"positive,omitempty"`
+	Negative  [][]int      `json:"negative,omitempty"`
+	Coef      [][3]float64 `json:"coef,omitempty"`
 }
 
 // Save writes the fitted mean predictor to the folder dir.
@@ -65,6 +85,54 @@ func (r *Ridge) Save(dir string) error {
 	if w == nil {
 		return errSaveUnfitted
 	}
+	if err := writeWeights(dir, w); err != nil {
+		return err
+	}
+	return writeManifest(dir, linearManifestJSON{Kind: kindRidge, Input: r.cfg.Input, P: r.p, Alphas: r.alphas, Intercept: r.intercept})
+}
+
+// Save writes the fitted kernel ridge model to the folder dir in its
+// primal form (Weights and Intercept), which is all prediction needs: the
+// training participants' edges are not written. The model is not
+// changed; the loaded one predicts the same up to rounding (the products
+// are taken in another order).
+func (k *KernelRidge) Save(dir string) error {
+	w := k.Weights()
+	if w == nil {
+		return errSaveUnfitted
+	}
+	if err := writeWeights(dir, w); err != nil {
+		return err
+	}
+	return writeManifest(dir, linearManifestJSON{Kind: kindKernelRidge, Input: k.cfg.Input, Kernel: k.cfg.Kernel,
+		P: k.p, Alphas: k.alphas, Intercept: k.means})
+}
+
+// Save writes the fitted CPM model to the folder dir: each column's
+// selected networks and strength coefficients. The loaded model predicts
+// exactly what this one does.
+func (c *CPM) Save(dir string) error {
+	if c.coef == nil {
+		return errSaveUnfitted
+	}
+	return writeManifest(dir, linearManifestJSON{Kind: kindCPM, Input: c.cfg.Input, P: c.p,
+		Positive: nonNil(c.positive), Negative: nonNil(c.negative), Coef: c.coef})
+}
+
+// nonNil returns sets with every nil set made empty, so that JSON holds
+// [] for a network that selected no edge.
+func nonNil(sets [][]int) [][]int {
+	out := make([][]int, len(sets))
+	for j, s := range sets {
+		out[j] = s
+		if s == nil {
+			out[j] = []int{}
+		}
+	}
+	return out
+}
+
+func writeWeights(dir string, w *mat.Dense) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
@@ -72,10 +140,39 @@ func (r *Ridge) Save(dir string) error {
 	if err := npyio.Write(&buf, w); err != nil {
 		return fmt.Errorf("linear: %s: %w", linearWeights, err)
 	}
-	if err := os.WriteFile(filepath.Join(dir, linearWeights), buf.Bytes(), 0o644); err != nil {
-		return err
+	return os.WriteFile(filepath.Join(dir, linearWeights), buf.Bytes(), 0o644)
+}
+
+// readWeights reads weights.npy of dir and checks it against the
+// manifest at path: d × T for m.Input's edges at m.P regions and T
+// intercepts, all finite.
+func readWeights(dir, path string, m linearManifestJSON) (*mat.Dense, error) {
+	wpath := filepath.Join(dir, linearWeights)
+	f, err := os.Open(wpath)
+	if err != nil {
+		return nil, err
 	}
-	return writeManifest(dir, linearManifestJSON{Kind: kindRidge, Input: r.cfg.Input, P: r.p, Alphas: r.alphas, Intercept: r.intercept})
+	defer f.Close()
+	var w mat.Dense
+	if err := npyio.Read(f, &w); err != nil {
+		return nil, fmt.Errorf("%s: %w", wpath, err)
+	}
+	d, t := w.Dims()
+	if m.P < 2 || d != inputViews(m.Input)*NumEdges(m.P) || t != len(m.Intercept) {
+		return nil, fmt.Errorf("%s: %d × %d weights do not fit input %q, p = %d and %d intercepts", wpath, d, t, m.Input, m.P, len(m.Intercept))
+	}
+	for _, b := range m.Intercept {
+		if math.IsNaN(b) || math.IsInf(b, 0) {
+			return nil, fmt.Errorf("%s: intercept %v", path, b)
+		}
+	}
+	return &w, nil
+}
+
+// inputViews is the number of matrices input reads: 1 or 2, 0 for a word
+// that is not an Input.
+func inputViews(input Input) int {
+	return map[Input]int{InputFunctional: 1, InputStructural: 1, InputBoth: 2}[input]
 }
 
 func writeManifest(dir string, m linearManifestJSON) error {
@@ -120,27 +217,42 @@ func load(dir, want string) (model.Regressor, error) {
 		}
 		return &Mean{means: m.Means}, nil
 	case kindRidge:
-		wpath := filepath.Join(dir, linearWeights)
-		f, err := os.Open(wpath)
+		w, err := readWeights(dir, path, m)
 		if err != nil {
 			return nil, err
 		}
-		defer f.Close()
-		var w mat.Dense
-		if err := npyio.Read(f, &w); err != nil {
-			return nil, fmt.Errorf("%s: %w", wpath, err)
+		return &Ridge{cfg: RidgeConfig{Input: m.Input}, p: m.P, alphas: m.Alphas, weights: w, intercept: m.Intercept}, nil
+	case kindKernelRidge:
+		if m.Kernel != KernelLinear && m.Kernel != KernelCorrelation {
+			return nil, fmt.Errorf("%s: kernel %q, want %q or %q", path, m.Kernel, KernelLinear, KernelCorrelation)
 		}
-		d, t := w.Dims()
-		inputs := map[Input]int{InputFunctional: 1, InputStructural: 1, InputBoth: 2}
-		if inputs[m.Input] == 0 || d != inputs[m.Input]*NumEdges(m.P) || t != len(m.Intercept) {
-			return nil, fmt.Errorf("%s: %d × %d weights do not fit input %q, p = %d and %d intercepts", wpath, d, t, m.Input, m.P, len(m.Intercept))
+		w, err := readWeights(dir, path, m)
+		if err != nil {
+			return nil, err
 		}
-		for _, b := range m.Intercept {
-			if math.IsNaN(b) || math.IsInf(b, 0) {
-				return nil, fmt.Errorf("%s: intercept %v", path, b)
+		return &KernelRidge{cfg: KernelRidgeConfig{Input: m.Input, Kernel: m.Kernel}, p: m.P, alphas: m.Alphas,
+			primal: w, means: m.Intercept}, nil
+	case kindCPM:
+		t := len(m.Coef)
+		if inputViews(m.Input) == 0 || m.P < 2 || t == 0 || len(m.Positive) != t || len(m.Negative) != t {
+			return nil, fmt.Errorf("%s: a cpm model needs input, p ≥ 2 and, per target, positive, negative and coef; found input %q, p = %d, %d, %d and %d", path, m.Input, m.P, len(m.Positive), len(m.Negative), t)
+		}
+		d := inputViews(m.Input) * NumEdges(m.P)
+		for j := range t {
+			for _, set := range [][]int{m.Positive[j], m.Negative[j]} {
+				for _, e := range set {
+					if e < 0 || e >= d {
+						return nil, fmt.Errorf("%s: target %d: edge %d outside 0..%d", path, j+1, e, d-1)
+					}
+				}
+			}
+			for _, b := range m.Coef[j] {
+				if math.IsNaN(b) || math.IsInf(b, 0) {
+					return nil, fmt.Errorf("%s: target %d: coefficient %v", path, j+1, b)
+				}
 			}
 		}
-		return &Ridge{cfg: RidgeConfig{Input: m.Input}, p: m.P, alphas: m.Alphas, weights: &w, intercept: m.Intercept}, nil
+		return &CPM{cfg: CPMConfig{Input: m.Input}, p: m.P, positive: m.Positive, negative: m.Negative, coef: m.Coef}, nil
 	}
 	return nil, fmt.Errorf("%s: %w: kind %q", path, errors.ErrUnsupported, m.Kind)
 }

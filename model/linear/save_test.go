@@ -20,12 +20,21 @@ func TestSaveLoadPredictsTheSame(t *testing.T) {
 	data := randomCohort(3, 60, 10, 2) // 90 edges of both views for 45 training participants: the dual path
 	train := model.Dataset{Participants: data.Participants[:45], Y: subRows(data, 0, 45)}
 	test := data.Participants[45:]
-	for name, cfg := range map[string]Config{
-		"mean":         {Mean: &MeanConfig{}},
-		"ridge dual":   {Ridge: &RidgeConfig{Input: InputBoth}},
-		"ridge primal": {Ridge: &RidgeConfig{Input: InputStructural, Alphas: []float64{0.1, 1}}}, // 45 edges: not more than participants
+	// tol is the largest |loaded − fitted| / max(1, |fitted|): 0 where
+	// the loaded model computes the same products in the same order.
+	for name, tc := range map[string]struct {
+		cfg Config
+		tol float64
+	}{
+		"mean":                     {Config{Mean: &MeanConfig{}}, 0},
+		"ridge dual":               {Config{Ridge: &RidgeConfig{Input: InputBoth}}, 1e-9},
+		"ridge primal":             {Config{Ridge: &RidgeConfig{Input: InputStructural, Alphas: []float64{0.1, 1}}}, 1e-9}, // 45 edges: not more than participants
+		"kernel ridge correlation": {Config{KernelRidge: &KernelRidgeConfig{Input: InputBoth}}, 1e-12},
+		"kernel ridge linear":      {Config{KernelRidge: &KernelRidgeConfig{Input: InputFunctional, Kernel: KernelLinear}}, 1e-12},
+		"cpm":                      {Config{CPM: &CPMConfig{Input: InputBoth, PThreshold: new(0.2)}}, 0},
 	} {
 		t.Run(name, func(t *testing.T) {
+			cfg := tc.cfg
 			cfg.SetDefaults()
 			reg, err := cfg.New(2, 1)
 			if err != nil {
@@ -46,6 +55,11 @@ func TestSaveLoadPredictsTheSame(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
+			if c, ok := reg.(*CPM); ok {
+				if pos, neg := c.Selected(0); len(pos)+len(neg) == 0 {
+					t.Fatal("CPM selected no edge: the check would be empty")
+				}
+			}
 			got, err := loaded.Predict(test)
 			if err != nil {
 				t.Fatal(err)
@@ -53,7 +67,7 @@ func TestSaveLoadPredictsTheSame(t *testing.T) {
 			r, c := want.Dims()
 			for i := 0; i < r; i++ {
 				for j := 0; j < c; j++ {
-					if d := math.Abs(got.At(i, j) - want.At(i, j)); d > 1e-9*math.Max(1, math.Abs(want.At(i, j))) {
+					if d := math.Abs(got.At(i, j) - want.At(i, j)); d > tc.tol*math.Max(1, math.Abs(want.At(i, j))) {
 						t.Fatalf("prediction (%d, %d): %v after loading, %v before", i, j, got.At(i, j), want.At(i, j))
 					}
 				}
@@ -66,7 +80,11 @@ func TestLoadErrors(t *testing.T) {
 	tests := []struct{ manifest, want string }{
 		{`{"format": "skein-linear", "version": 2, "kind": "mean", "means": [1]}`, "version 2"},
 		{`{"format": "other", "version": 1}`, `format "other"`},
-		{`{"format": "skein-linear", "version": 1, "kind": "cpm"}`, `kind "cpm"`},
+		{`{"format": "skein-linear", "version": 1, "kind": "lasso"}`, `kind "lasso"`},
+		{`{"format": "skein-linear", "version": 1, "kind": "cpm"}`, "a cpm model needs input"},
+		{`{"format": "skein-linear", "version": 1, "kind": "cpm", "input": "functional", "p": 3, "positive": [[3]], "negative": [[]], "coef": [[0, 1, 0]]}`, "edge 3 outside 0..2"},
+		{`{"format": "skein-linear", "version": 1, "kind": "kernel_ridge", "input": "functional", "p": 4, "intercept": [0]}`, `kernel ""`},
+		{`{"format": "skein-linear", "version": 1, "kind": "kernel_ridge", "kernel": "linear", "input": "functional", "p": 4, "intercept": [0]}`, "weights.npy"},
 		{`{"format": "skein-linear", "version": 1, "kind": "mean"}`, "no means"},
 		{`{"format": "skein-linear", "version": 1, "kind": "ridge", "input": "functional", "p": 4, "intercept": [0]}`, "weights.npy"},
 		{`not json`, "manifest.json"},
