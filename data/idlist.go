@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
-	"os"
 	"strings"
 )
 
@@ -12,7 +11,7 @@ import (
 // order or a region-labels file. what names the entries in messages
 // ("participant_id", "region label").
 func readIDList(path, what string) (names []string, lines []int, err error) {
-	raw, err := os.ReadFile(path)
+	raw, err := readRegular(path, maxTableBytes)
 	if err != nil {
 		return nil, nil, err
 	}

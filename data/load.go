@@ -222,8 +222,13 @@ func (l *loader) load() (*Cohort, *Report, error) {
 				err = l.pre.Structural(a)
 				p.Structural = a
 			}
+			if err == nil {
+				err = checkPreprocessed(m.name, f)
+			} else {
+				err = fmt.Errorf("%s: participant %s: preprocessing the %s matrix: %w", path, r.id, m.name, err)
+			}
 			if err != nil {
-				l.errs.add(fmt.Errorf("%s: participant %s: preprocessing the %s matrix: %w", path, r.id, m.name, err))
+				l.errs.add(err)
 				ok = false
 			}
 		}
@@ -454,7 +459,7 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 			return
 		}
 		m.stackPath = l.path(m.spec.Stack)
-		raw, err := os.ReadFile(m.stackPath)
+		raw, err := readRegular(m.stackPath, 8*maxTableBytes)
 		if err != nil {
 			l.errs.add(fmt.Errorf("%s.stack: %w", key, err))
 			return
@@ -515,10 +520,10 @@ func (l *loader) absent(m *modality, id string) string {
 		return ""
 	}
 	f := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
-	if _, err := os.Stat(f); err != nil {
+	if _, err := os.Lstat(f); err != nil {
 		return fmt.Sprintf("no %s file %s", m.name, f)
 	}
-	return ""
+	return "" // a link that leads nowhere is an error of matrix, not an absence
 }
 
 // matrixFile is one participant's matrix of one modality with where it
@@ -537,11 +542,12 @@ func (l *loader) matrix(m *modality, id string) (*matrixFile, error) {
 		return &matrixFile{a: m.stack.stack(k), path: m.stackPath, entry: fmt.Sprintf("participant %s (matrix %d of the stack)", id, k+1)}, nil
 	}
 	path := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
-	raw, err := os.ReadFile(path)
+	npy := strings.EqualFold(filepath.Ext(path), ".npy")
+	raw, err := readRegular(path, matrixLimit(l.p, npy))
 	if err != nil {
 		return nil, err
 	}
-	if strings.EqualFold(filepath.Ext(path), ".npy") {
+	if npy {
 		arr, err := decodeNPY(path, raw)
 		if err != nil {
 			return nil, err
@@ -562,6 +568,36 @@ func (l *loader) matrix(m *modality, id string) (*matrixFile, error) {
 		}
 	}
 	return &matrixFile{a: tm.m, path: path, where: tm.position}, nil
+}
+
+// errorAt returns a FileError at entry (i, j) of f (0-based; i = -1 for
+// the whole matrix), with its line and column in a text file.
+func (f *matrixFile) errorAt(i, j int, format string, args ...any) error {
+	e := &FileError{Path: f.path, Err: fmt.Errorf(format, args...)}
+	if f.where != nil && i >= 0 {
+		e.Line, e.Column = f.where(i, j)
+	}
+	if f.entry != "" {
+		e.Err = fmt.Errorf("%s: %w", f.entry, e.Err)
+	}
+	return e
+}
+
+// checkPreprocessed makes sure preprocessing left every entry of f finite
+// and of a magnitude of at most MaxMagnitude: a transform or a scaling
+// can overflow (a total of huge counts is +Inf, and x/Inf is 0 or NaN).
+// The error names the file, the entry as read and the step's key.
+func checkPreprocessed(modality string, f *matrixFile) error {
+	r, c := f.a.Dims()
+	for i := range r {
+		for j := range c {
+			if v := f.a.At(i, j); math.IsNaN(v) || math.IsInf(v, 0) || math.Abs(v) > MaxMagnitude {
+				return f.errorAt(i, j, "entry (%d, %d) is %v after preprocessing (see [preprocess.%s]); expected a finite number of magnitude at most %g",
+					i+1, j+1, v, modality, MaxMagnitude)
+			}
+		}
+	}
+	return nil
 }
 
 // agreeLabels checks a matrix's header labels against the cohort's.
@@ -587,16 +623,7 @@ func (l *loader) agreeLabels(path string, labels []string) error {
 // problems of the whole matrix (i = -1) name none.
 func (l *loader) checkMatrix(m *modality, f *matrixFile) error {
 	a, path := f.a, f.path
-	at := func(i, j int, format string, args ...any) error {
-		e := &FileError{Path: path, Err: fmt.Errorf(format, args...)}
-		if f.where != nil && i >= 0 {
-			e.Line, e.Column = f.where(i, j)
-		}
-		if f.entry != "" {
-			e.Err = fmt.Errorf("%s: %w", f.entry, e.Err)
-		}
-		return e
-	}
+	at := f.errorAt
 	r, c := a.Dims()
 	if r != c {
 		hint := ""
@@ -620,6 +647,8 @@ func (l *loader) checkMatrix(m *modality, f *matrixFile) error {
 		for j := range c {
 			if v := a.At(i, j); math.IsNaN(v) || math.IsInf(v, 0) {
 				return at(i, j, "entry (%d, %d) is %v; expected a finite number", i+1, j+1, v)
+			} else if math.Abs(v) > MaxMagnitude {
+				return at(i, j, "entry (%d, %d) is %v; expected a magnitude of at most %g, beyond which sums of squares overflow", i+1, j+1, v, MaxMagnitude)
 			}
 		}
 	}

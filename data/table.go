@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"strings"
 )
@@ -42,7 +41,7 @@ func readTable(path string) (*table, error) {
 	default:
 		return nil, &FileError{Path: path, Err: fmt.Errorf("participants table must end in .tsv (tab-separated) or .csv (comma-separated), found %q", filepath.Ext(path))}
 	}
-	raw, err := os.ReadFile(path)
+	raw, err := readRegular(path, maxTableBytes)
 	if err != nil {
 		return nil, fmt.Errorf("participants table: %w", err)
 	}
