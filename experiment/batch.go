@@ -16,8 +16,6 @@ import (
 	"strings"
 	"time"
 
-	"github.com/pelletier/go-toml/v2"
-
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/train"
@@ -209,21 +207,12 @@ func openBatchExperiment(expPath string, exp *Experiment) (*batch, error) {
 	if len(exp.Models) == 0 {
 		return nil, badInputf("%s: no [[model]] to run", expPath)
 	}
-	cohort, report, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
+	in, err := CheckInputs(expPath, exp)
 	if err != nil {
-		return nil, badInput(err)
-	}
-	b := &batch{cohort: cohort}
-	if b.exp, b.variants, err = exp.Expand(); err != nil {
-		return nil, badInputf("%s: %w", expPath, err)
-	}
-	if b.resolved, err = toml.Marshal(b.exp); err != nil {
 		return nil, err
 	}
-	if b.cohortJSON, err = json.MarshalIndent(report, "", "  "); err != nil {
-		return nil, err
-	}
-	b.runner = &train.Runner{Design: b.exp.Design(), Cohort: cohort}
+	b := &batch{exp: in.Experiment, variants: in.Variants, cohort: in.Cohort, resolved: in.Resolved, cohortJSON: in.CohortJSON}
+	b.runner = &train.Runner{Design: b.exp.Design(), Cohort: in.Cohort}
 	return b, nil
 }
 
@@ -280,27 +269,17 @@ func (b *batch) checkPlanned(rd *RunDir, rec *planRecord) error {
 
 // nullFile names the null scores of a permutation block.
 func nullFile(u BatchUnit) string {
-	return filepath.Join(NullsDir, safeName(u.Model), fmt.Sprintf("p%d-%d.csv", u.First+1, u.End))
+	return filepath.Join(NullsDir, train.FolderName(u.Model), fmt.Sprintf("p%d-%d.csv", u.First+1, u.End))
 }
 
 // sampleSizeUnitFile names the sample-size rows of a curve unit.
 func sampleSizeUnitFile(u BatchUnit) string {
-	return filepath.Join(SampleSizeDir, safeName(u.Model), "f"+strconv.FormatFloat(u.Fraction, 'g', -1, 64)+".csv")
+	return filepath.Join(SampleSizeDir, train.FolderName(u.Model), "f"+strconv.FormatFloat(u.Fraction, 'g', -1, 64)+".csv")
 }
 
 func failedFile(k int) string { return filepath.Join(FailedDir, strconv.Itoa(k)+".txt") }
 
 func unitLog(k int) string { return filepath.Join(LogsDir, "unit-"+strconv.Itoa(k)+".log") }
-
-// safeName makes a model name safe as a file name.
-func safeName(name string) string {
-	return strings.Map(func(r rune) rune {
-		if r == '/' || r == '\\' || r == ':' || r < ' ' {
-			return '_'
-		}
-		return r
-	}, name)
-}
 
 // RunUnit runs unit k of the plan in the work folder of out, for the
 // experiment at expPath, with jobs units of training at once, and writes

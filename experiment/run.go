@@ -2,7 +2,6 @@ package experiment
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -14,9 +13,6 @@ import (
 	"strings"
 	"time"
 
-	"github.com/pelletier/go-toml/v2"
-
-	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/train"
 )
@@ -90,13 +86,6 @@ func DefaultOut(path string, now time.Time) string {
 // model.ErrDiverged.
 func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Outcome, error) {
 	say := messages(opt.Messages, "skein run")
-	if len(exp.Models) == 0 {
-		return nil, badInputf("%s: no [[model]] to run", path)
-	}
-	cohort, cohortReport, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
-	if err != nil {
-		return nil, badInput(err)
-	}
 	out := opt.Out
 	if out == "" {
 		if opt.Resume {
@@ -104,29 +93,25 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 		}
 		out = DefaultOut(path, time.Now())
 	}
-	exp, variants, err := exp.Expand()
-	if err != nil {
-		return nil, badInputf("%s: %w", path, err)
+	if len(exp.Models) == 0 {
+		return nil, badInputf("%s: no [[model]] to run", path)
 	}
-	resolved, err := toml.Marshal(exp)
+	in, err := CheckInputs(path, exp)
 	if err != nil {
 		return nil, err
 	}
+	exp, variants, cohort := in.Experiment, in.Variants, in.Cohort
 	rd, err := OpenRunDir(out, opt.Force, opt.Resume)
 	if err != nil {
 		return nil, badInput(err)
 	}
-	if err := rd.CheckResume(ExperimentFile, resolved); err != nil {
+	if err := rd.CheckResume(ExperimentFile, in.Resolved); err != nil {
 		return nil, badInput(err)
 	}
-	if err := rd.WriteFile(ExperimentFile, resolved); err != nil {
+	if err := rd.WriteFile(ExperimentFile, in.Resolved); err != nil {
 		return nil, err
 	}
-	cohortJSON, err := json.MarshalIndent(cohortReport, "", "  ")
-	if err != nil {
-		return nil, err
-	}
-	if err := rd.WriteFile(CohortFile, cohortJSON); err != nil {
+	if err := rd.WriteFile(CohortFile, in.CohortJSON); err != nil {
 		return nil, err
 	}
 	logOut, err := os.OpenFile(rd.WorkPath(LogFile), os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644)

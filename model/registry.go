@@ -50,6 +50,12 @@ type Kind struct {
 	// returning false for both, see the matrices as preprocessing leaves
 	// them.
 	EdgeScaling func(s Settings) (functional, structural bool)
+	// MinTrain, when not nil, returns the fewest participants (groups,
+	// when the cohort has a group column) a training set must hold for
+	// the kind's Fit with settings s, and the key that sets it, such as
+	// 5 and "model.ridge.inner_folds"; nil means 2. A run checks it
+	// against every training fold before it trains anything.
+	MinTrain func(s Settings) (n int, key string)
 	// Describe, when not nil, summarizes the settings in a few words for a
 	// report's table of models, such as "2 branches, up to 100 epochs".
 	Describe func(s Settings) string

@@ -554,7 +554,15 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 		}
 	}
 	if in, ok := reg.(model.Interpreter); ok && !r.scoresOnly {
-		if out.importance, err = fd.edgeImportance(in); err != nil {
+		switch out.importance, err = fd.edgeImportance(in); {
+		case errors.Is(err, model.ErrTooFewToExplain):
+			// A test fold of one (leave-one-out) has no covariance:
+			// this fold adds no map, the others still do.
+			out.importance = nil
+			if r.Logger != nil {
+				r.Logger.Info("no edge importance for this fold", "model", cfg.Name, "repeat", unit.Repeat+1, "fold", unit.Fold+1, "reason", err.Error())
+			}
+		case err != nil:
 			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
 		}
 	}

@@ -20,7 +20,9 @@ func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
 		fmt.Fprintln(fs.Output(), "usage: skein check EXPERIMENT.toml [--json]")
 		fmt.Fprintln(fs.Output(), "\nLoads the [cohort] of the experiment file, checks every file and prints a summary:")
 		fmt.Fprintln(fs.Output(), "included and excluded participants with reasons, regions, per-modality statistics,")
-		fmt.Fprintln(fs.Output(), "scores, covariate codings and outlier flags.")
+		fmt.Fprintln(fs.Output(), "scores, covariate codings and outlier flags. It also checks every setting against the")
+		fmt.Fprintln(fs.Output(), "cohort as skein run does (folds, inner validation, columns, model names), lists every")
+		fmt.Fprintln(fs.Output(), "problem at once and exits with code 2 when there is one.")
 		fs.PrintDefaults()
 	}
 	positional, err := positionalArgs(fs, args, 1, "one experiment file")
@@ -31,16 +33,14 @@ func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return badInput(err)
 	}
-	_, report, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
-	if report != nil {
-		if werr := writeReport(cio, report, *asJSON); werr != nil {
+	// The same checks as skein run's, all problems at once.
+	in, err := experiment.CheckInputs(positional[0], exp)
+	if in.Report != nil {
+		if werr := writeReport(cio, in.Report, *asJSON); werr != nil {
 			return werr
 		}
 	}
-	if err != nil {
-		return badInput(err)
-	}
-	return nil
+	return err
 }
 
 func writeReport(cio commandIO, r *data.Report, asJSON bool) error {

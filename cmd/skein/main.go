@@ -18,6 +18,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 	"syscall"
 
 	"github.com/skein-neuro/skein/experiment"
@@ -87,12 +88,27 @@ func run(ctx context.Context, args []string, cio commandIO) int {
 		if err == nil || errors.Is(err, flag.ErrHelp) {
 			return exitOK
 		}
-		fmt.Fprintf(cio.stderr, "skein %s: %v\n", c.name, err)
+		printError(cio.stderr, c.name, err)
 		return exitCode(err)
 	}
 	fmt.Fprintf(cio.stderr, "skein: unknown command %q\n", args[0])
 	usage(cio.stderr)
 	return exitBadInput
+}
+
+// printError writes err as "skein NAME: message", or, when err joins
+// several problems (errors.Join gives one a line), as a count and one
+// problem a line.
+func printError(w io.Writer, name string, err error) {
+	lines := strings.Split(strings.TrimRight(err.Error(), "\n"), "\n")
+	if len(lines) == 1 {
+		fmt.Fprintf(w, "skein %s: %s\n", name, lines[0])
+		return
+	}
+	fmt.Fprintf(w, "skein %s: %d problems:\n", name, len(lines))
+	for _, l := range lines {
+		fmt.Fprintf(w, "  - %s\n", l)
+	}
 }
 
 func usage(w io.Writer) {

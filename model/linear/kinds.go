@@ -45,6 +45,13 @@ func init() {
 			}
 			return Config{Ridge: c}.New(targets, seed)
 		},
+		MinTrain: func(s model.Settings) (int, string) {
+			c, ok := s.(*RidgeConfig)
+			if !ok || len(c.Alphas) < 2 || c.InnerFolds == nil {
+				return 2, ""
+			}
+			return *c.InnerFolds, "model.ridge.inner_folds"
+		},
 		Load: loader(kindRidge),
 	})
 	model.Register(model.Kind{
@@ -55,6 +62,13 @@ func init() {
 				return nil, settingsError(kindKernelRidge, s, c)
 			}
 			return Config{KernelRidge: c}.New(targets, seed)
+		},
+		MinTrain: func(s model.Settings) (int, string) {
+			c, ok := s.(*KernelRidgeConfig)
+			if !ok || len(c.Alphas) < 2 || c.InnerFolds == nil {
+				return 2, ""
+			}
+			return *c.InnerFolds, "model.kernel_ridge.inner_folds"
 		},
 	})
 	model.Register(model.Kind{
