@@ -9,9 +9,9 @@ import (
 
 // readIDList reads a file holding one name a line: a stack's participant
 // order or a region-labels file. what names the entries in messages
-// ("participant_id", "region label").
-func readIDList(path, what string) (names []string, lines []int, err error) {
-	raw, err := readRegular(path, maxTableBytes)
+// ("participant_id", "region label"); read reads the file (loader.read).
+func readIDList(path, what string, read func(string, int64) ([]byte, error)) (names []string, lines []int, err error) {
+	raw, err := read(path, maxTableBytes)
 	if err != nil {
 		return nil, nil, err
 	}

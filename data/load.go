@@ -1,6 +1,8 @@
 package data
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"math"
@@ -102,6 +104,25 @@ type loader struct {
 	labelsSrc string   // where labels came from, for messages and the report
 	p         int      // number of regions; 0 until known
 	pSrc      string   // the file that set p
+	files     []FileDigest
+}
+
+// read reads the regular file at path (readRegular) and records its
+// digest for Cohort.Files.
+func (l *loader) read(path string, limit int64) ([]byte, error) {
+	raw, err := readRegular(path, limit)
+	if err != nil {
+		return nil, err
+	}
+	name := path
+	if !filepath.IsAbs(path) || filepath.IsAbs(l.baseDir) {
+		if rel, err := filepath.Rel(l.baseDir, path); err == nil && !strings.HasPrefix(rel, "..") {
+			name = rel
+		}
+	}
+	sum := sha256.Sum256(raw)
+	l.files = append(l.files, FileDigest{Path: filepath.ToSlash(name), SHA256: hex.EncodeToString(sum[:])})
+	return raw, nil
 }
 
 func (l *loader) path(p string) string {
@@ -136,7 +157,7 @@ type modality struct {
 
 func (l *loader) load() (*Cohort, *Report, error) {
 	l.tablePath = l.path(l.src.Participants)
-	tbl, err := readTable(l.tablePath)
+	tbl, err := readTable(l.tablePath, l.read)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -155,7 +176,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 
 	if l.src.Regions != "" {
 		lp := l.path(l.src.Regions)
-		names, _, err := readIDList(lp, "region label")
+		names, _, err := readIDList(lp, "region label", l.read)
 		if err != nil {
 			return nil, nil, fmt.Errorf("cohort.regions: %w", err)
 		}
@@ -240,6 +261,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		return nil, nil, err
 	}
 	c.Participants = kept
+	c.Files = l.files
 	c.Regions = l.labels
 	if c.Regions == nil {
 		c.Regions = DefaultRegions(l.p)
@@ -453,13 +475,13 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 	if m.spec.Stack != "" {
 		m.report = &ModalityReport{Source: m.spec.Stack}
 		m.idsPath = l.path(m.spec.StackIDs)
-		ids, lines, err := readIDList(m.idsPath, "participant_id")
+		ids, lines, err := readIDList(m.idsPath, "participant_id", l.read)
 		if err != nil {
 			l.errs.add(fmt.Errorf("%s.stack_ids: %w", key, err))
 			return
 		}
 		m.stackPath = l.path(m.spec.Stack)
-		raw, err := readRegular(m.stackPath, 8*maxTableBytes)
+		raw, err := l.read(m.stackPath, 8*maxTableBytes)
 		if err != nil {
 			l.errs.add(fmt.Errorf("%s.stack: %w", key, err))
 			return
@@ -543,7 +565,7 @@ func (l *loader) matrix(m *modality, id string) (*matrixFile, error) {
 	}
 	path := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
 	npy := strings.EqualFold(filepath.Ext(path), ".npy")
-	raw, err := readRegular(path, matrixLimit(l.p, npy))
+	raw, err := l.read(path, matrixLimit(l.p, npy))
 	if err != nil {
 		return nil, err
 	}

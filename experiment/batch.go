@@ -128,9 +128,10 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 	if err := rd.CheckResume(ExperimentFile, b.resolved); err != nil {
 		return nil, badInputf("%w (its finished units would not belong to this plan)", err)
 	}
-	if old, err := os.ReadFile(rd.WorkPath(CohortFile)); resume && err == nil && !bytes.Equal(old, b.cohortJSON) {
-		return nil, badInputf("%s: the cohort's files changed since its units ran (%s differs); pass --force to start over",
-			rd.Partial, CohortFile)
+	if resume {
+		if err := checkInputsUnchanged(rd, b.in, "units", "pass --force to start over"); err != nil {
+			return nil, err
+		}
 	}
 	units, err := BatchUnits(b.runner, b.exp, opt.Block)
 	if err != nil {
@@ -157,6 +158,7 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 	}{
 		{ExperimentFile, b.resolved},
 		{CohortFile, b.cohortJSON},
+		{InputsFile, b.in.InputsJSON},
 		{UnitsFile, unitsTable(units, opt.Skein, rec)},
 		{JobFile, jobScript(len(units), opt.Skein, rec, rd, opt.Slurm)},
 		{PlanFile, recJSON}, // last: a folder with a plan file is a complete plan
@@ -186,6 +188,7 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 
 // batch is an experiment opened for planning, running a unit or merging.
 type batch struct {
+	in         *Inputs
 	exp        *Experiment // sweeps expanded
 	variants   []Variant   // the sweeps' variants
 	cohort     *data.Cohort
@@ -211,7 +214,7 @@ func openBatchExperiment(expPath string, exp *Experiment) (*batch, error) {
 	if err != nil {
 		return nil, err
 	}
-	b := &batch{exp: in.Experiment, variants: in.Variants, cohort: in.Cohort, resolved: in.Resolved, cohortJSON: in.CohortJSON}
+	b := &batch{in: in, exp: in.Experiment, variants: in.Variants, cohort: in.Cohort, resolved: in.Resolved, cohortJSON: in.CohortJSON}
 	b.runner = &train.Runner{Design: b.exp.Design(), Cohort: in.Cohort}
 	return b, nil
 }
@@ -249,13 +252,11 @@ func (b *batch) checkPlanned(rd *RunDir, rec *planRecord) error {
 	if err := rd.CheckResume(ExperimentFile, b.resolved); err != nil {
 		return badInputf("the experiment differs from the one planned: %w", err)
 	}
-	old, err := os.ReadFile(rd.WorkPath(CohortFile))
-	if err != nil {
+	if _, err := os.Stat(rd.WorkPath(CohortFile)); err != nil {
 		return err
 	}
-	if !bytes.Equal(old, b.cohortJSON) {
-		return badInputf("the cohort's files changed since %s was planned (%s differs); plan again with --force",
-			rd.Final, rd.WorkPath(CohortFile))
+	if err := checkInputsUnchanged(rd, b.in, "planned units", "plan again with skein plan --force"); err != nil {
+		return err
 	}
 	units, err := BatchUnits(b.runner, b.exp, rec.Block)
 	if err != nil {

@@ -1,9 +1,13 @@
 package experiment
 
 import (
+	"bytes"
 	"encoding/json"
 	"errors"
 	"fmt"
+	"io/fs"
+	"os"
+	"strings"
 
 	"github.com/pelletier/go-toml/v2"
 
@@ -23,8 +27,10 @@ type Inputs struct {
 	Cohort *data.Cohort
 	Report *data.Report
 	// Resolved is the experiment file with every default filled in
-	// (ExperimentFile), and CohortJSON the report as CohortFile holds it.
-	Resolved, CohortJSON []byte
+	// (ExperimentFile), CohortJSON the report as CohortFile holds it and
+	// InputsJSON the digests of the cohort's files as InputsFile holds
+	// them.
+	Resolved, CohortJSON, InputsJSON []byte
 }
 
 // CheckInputs loads the cohort of exp, read from path, and checks
@@ -66,7 +72,72 @@ func CheckInputs(path string, exp *Experiment) (*Inputs, error) {
 	if in.CohortJSON, err = json.MarshalIndent(report, "", "  "); err != nil {
 		return in, fmt.Errorf("%s: %w", CohortFile, err)
 	}
+	if in.InputsJSON, err = json.MarshalIndent(inputsRecord{Files: cohort.Files}, "", "  "); err != nil {
+		return in, err
+	}
 	return in, nil
+}
+
+// inputsRecord is the content of InputsFile.
+type inputsRecord struct {
+	Files []data.FileDigest `json:"files"`
+}
+
+// checkInputsUnchanged makes sure the cohort files a resumed work folder
+// was made from are those of now (InputsFile; a folder without one, from
+// an older skein, is compared by CohortFile alone). The error names the
+// files that changed, appeared or went, and matches ErrInput. what says
+// what would mix old and new ("finished units"), hint how to start over.
+func checkInputsUnchanged(rd *RunDir, in *Inputs, what, hint string) error {
+	if old, err := os.ReadFile(rd.WorkPath(CohortFile)); err == nil && !bytes.Equal(old, in.CohortJSON) {
+		if _, err := os.Stat(rd.WorkPath(InputsFile)); errors.Is(err, fs.ErrNotExist) {
+			return badInputf("%s: the cohort changed since its %s ran (%s differs); %s", rd.Partial, what, CohortFile, hint)
+		}
+	}
+	raw, err := os.ReadFile(rd.WorkPath(InputsFile))
+	if errors.Is(err, fs.ErrNotExist) {
+		return nil
+	}
+	if err != nil {
+		return err
+	}
+	var old inputsRecord
+	if err := json.Unmarshal(raw, &old); err != nil {
+		return fmt.Errorf("%s: %w", rd.WorkPath(InputsFile), err)
+	}
+	if changes := fileChanges(old.Files, in.Cohort.Files); len(changes) > 0 {
+		return badInputf("%s: the data changed since its %s ran, which would mix old and new results: %s; %s",
+			rd.Partial, what, strings.Join(changes, "; "), hint)
+	}
+	return nil
+}
+
+// fileChanges lists, in words, the files of now that differ from before:
+// changed, new or gone; at most six, then a count of the rest.
+func fileChanges(before, now []data.FileDigest) []string {
+	was := make(map[string]string, len(before))
+	for _, f := range before {
+		was[f.Path] = f.SHA256
+	}
+	var out []string
+	for _, f := range now {
+		switch sum, ok := was[f.Path]; {
+		case !ok:
+			out = append(out, f.Path+" is new")
+		case sum != f.SHA256:
+			out = append(out, f.Path+" changed")
+		}
+		delete(was, f.Path)
+	}
+	for _, f := range before {
+		if _, ok := was[f.Path]; ok {
+			out = append(out, f.Path+" is no longer read")
+		}
+	}
+	if len(out) > 6 {
+		out = append(out[:6], fmt.Sprintf("and %d more", len(out)-6))
+	}
+	return out
 }
 
 // prefixEach prefixes the message of err, or of each error err joins

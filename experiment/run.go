@@ -108,11 +108,16 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	if err := rd.CheckResume(ExperimentFile, in.Resolved); err != nil {
 		return nil, badInput(err)
 	}
-	if err := rd.WriteFile(ExperimentFile, in.Resolved); err != nil {
+	if err := checkInputsUnchanged(rd, in, "finished units", "pass --force to start over"); err != nil {
 		return nil, err
 	}
-	if err := rd.WriteFile(CohortFile, in.CohortJSON); err != nil {
-		return nil, err
+	for _, f := range []struct {
+		name    string
+		content []byte
+	}{{ExperimentFile, in.Resolved}, {CohortFile, in.CohortJSON}, {InputsFile, in.InputsJSON}} {
+		if err := rd.WriteFile(f.name, f.content); err != nil {
+			return nil, err
+		}
 	}
 	logOut, err := os.OpenFile(rd.WorkPath(LogFile), os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644)
 	if err != nil {
@@ -139,21 +144,25 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 		log.Error(step+" failed", "error", err.Error())
 		return err
 	}
+	interrupted := func(err error) error {
+		if !errors.Is(err, context.Canceled) {
+			return err
+		}
+		return &interruptedError{fmt.Sprintf("interrupted; finished units are kept in %s: resume with skein run %s --resume --out %s",
+			rd.Partial, ShellQuote(path), ShellQuote(rd.Final)), err}
+	}
 	res, err := runner.Run(ctx)
 	if err != nil {
 		fail("run", err)
-		switch {
-		case errors.Is(err, context.Canceled):
-			return nil, fmt.Errorf("%w; finished units are kept in %s: rerun with --resume --out %s", err, rd.Partial, rd.Final)
-		case errors.Is(err, model.ErrDiverged):
+		if errors.Is(err, model.ErrDiverged) {
 			return nil, fmt.Errorf("%w (nothing written to %s; the work folder %s keeps finished units)", err, rd.Final, rd.Partial)
 		}
-		return nil, err
+		return nil, interrupted(err)
 	}
 	if exp.Output.Refit {
 		say("refitting on all participants")
 		if err := runner.Refit(ctx); err != nil {
-			return nil, fail("refit", err)
+			return nil, interrupted(fail("refit", err))
 		}
 	}
 	if exp.Permutation.Count > 0 {
@@ -161,7 +170,7 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	}
 	rep, err := Evaluate(ctx, exp, runner, res, opt.Bins)
 	if err != nil {
-		return nil, fail("evaluation", err)
+		return nil, interrupted(fail("evaluation", err))
 	}
 	oc := &Outcome{Dir: rd.Final, Report: rep}
 	if oc.Verdict, err = writeResults(rd, exp, variants, rep, opt.Against); err != nil {
@@ -173,6 +182,16 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	log.Info("run finished")
 	return oc, rd.Commit()
 }
+
+// interruptedError is a run stopped by its context (Ctrl-C, SIGTERM): its
+// message says how to resume, and it wraps the context's error.
+type interruptedError struct {
+	msg string
+	err error
+}
+
+func (e *interruptedError) Error() string { return e.msg }
+func (e *interruptedError) Unwrap() error { return e.err }
 
 // writeResults writes into the work folder of rd everything a run
 // concludes besides its checkpoints and models: the report's files, the

@@ -100,7 +100,12 @@ func run(ctx context.Context, args []string, cio commandIO) int {
 // several problems (errors.Join gives one a line), as a count and one
 // problem a line.
 func printError(w io.Writer, name string, err error) {
-	lines := strings.Split(strings.TrimRight(err.Error(), "\n"), "\n")
+	msg := err.Error()
+	if errors.Is(err, context.Canceled) {
+		// A command stopped by Ctrl-C or SIGTERM whose error says no more.
+		msg = strings.ReplaceAll(msg, context.Canceled.Error(), "interrupted")
+	}
+	lines := strings.Split(strings.TrimRight(msg, "\n"), "\n")
 	if len(lines) == 1 {
 		fmt.Fprintf(w, "skein %s: %s\n", name, lines[0])
 		return
