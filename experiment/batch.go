@@ -125,6 +125,7 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 	if err != nil {
 		return nil, badInput(err)
 	}
+	defer rd.Close()
 	if err := rd.CheckResume(ExperimentFile, b.resolved); err != nil {
 		return nil, badInputf("%w (its finished units would not belong to this plan)", err)
 	}
@@ -302,10 +303,11 @@ func RunUnit(ctx context.Context, expPath, out string, k, jobs int) (u BatchUnit
 	if err != nil {
 		return u, false, err
 	}
-	rd, err := OpenRunDir(out, rec.Replace, true)
+	rd, err := openRunDir(out, rec.Replace, true, true) // units run side by side
 	if err != nil {
 		return u, false, badInput(err)
 	}
+	defer rd.Close()
 	if err := b.checkPlanned(rd, rec); err != nil {
 		return u, false, err
 	}
@@ -526,6 +528,7 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 	if err != nil {
 		return nil, 0, badInput(err)
 	}
+	defer rd.Close()
 	if err := b.checkPlanned(rd, rec); err != nil {
 		return nil, 0, err
 	}

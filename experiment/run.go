@@ -105,6 +105,7 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	if err != nil {
 		return nil, badInput(err)
 	}
+	defer rd.Close()
 	if err := rd.CheckResume(ExperimentFile, in.Resolved); err != nil {
 		return nil, badInput(err)
 	}

@@ -80,9 +80,6 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	if oc.ViewsErr != nil {
-		fmt.Fprintf(cio.stderr, "skein run: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", oc.ViewsErr, oc.Dir)
-	}
 	if err := oc.Report.WriteMarkdown(cio.stdout); err != nil {
 		return err
 	}
@@ -94,7 +91,17 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 		}
 		fmt.Fprintf(cio.stderr, "skein run: history %s, plot %s\n", path, experiment.HistoryPlotPath(path))
 	}
-	return driftError(cio, oc.Verdict, opt.Against, oc.Dir)
+	err = driftError(cio, oc.Verdict, opt.Against, oc.Dir)
+	if oc.ViewsErr != nil {
+		// The results are committed, but the run is not what was asked
+		// for: a script must not take it for a success.
+		if err != nil {
+			fmt.Fprintf(cio.stderr, "skein run: %v\n", err)
+		}
+		return fmt.Errorf("the figures and report.html could not be written: %w; the results are complete in %s: draw them again with skein report %s",
+			oc.ViewsErr, oc.Dir, experiment.ShellQuote(oc.Dir))
+	}
+	return err
 }
 
 // driftError returns the exit-4 error for a broken drift rule, after
