@@ -6,7 +6,9 @@ import (
 	"image/color"
 	"io"
 	"math"
+	"path/filepath"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -22,27 +24,18 @@ const (
 	plotHeight = 4.5 * vg.Inch
 )
 
-// PlotHistory draws the headline r (r within folds) of every model and target of the
-// history over the run dates, one line per model and target, and writes it
-// to w as a PNG image (8 × 4.5 in at 96 dpi). Rows with an undefined r are
-// left out of the lines. It is an error to pass no rows.
+// PlotHistory draws the headline r (r within folds) of every experiment,
+// model and target of the history over the run dates, one line per
+// experiment, model and target (rows of different experiments never share
+// a line), and writes it to w as a PNG image (8 × 4.5 in at 96 dpi). The
+// legend names the model and target, and the experiment file too when the
+// history holds more than one. Rows with an undefined r are left out of
+// the lines. It is an error to pass no rows.
 func PlotHistory(w io.Writer, rows []HistoryRow) error {
 	if len(rows) == 0 {
 		return errors.New("runs: no history to plot")
 	}
-	series := make(map[[2]string]plotter.XYs)
-	var keys [][2]string
-	for _, r := range rows {
-		k := [2]string{r.Model, r.Target}
-		if _, ok := series[k]; !ok {
-			keys = append(keys, k)
-			series[k] = plotter.XYs{}
-		}
-		if !math.IsNaN(r.RWithinFolds) {
-			series[k] = append(series[k], plotter.XY{X: float64(r.Date.Unix()), Y: r.RWithinFolds})
-		}
-	}
-	sortKeys(keys)
+	keys, series, labels := historyLines(rows)
 	p := plot.New()
 	p.Title.Text = "r within folds of each run (research software, not a diagnostic device)"
 	p.X.Label.Text = "run date (UTC)"
@@ -53,7 +46,7 @@ func PlotHistory(w io.Writer, rows []HistoryRow) error {
 	for i, k := range keys {
 		xys := series[k]
 		sort.SliceStable(xys, func(a, b int) bool { return xys[a].X < xys[b].X })
-		if err := addLine(p, i, k[0]+" · "+k[1], xys); err != nil {
+		if err := addLine(p, i, labels[i], xys); err != nil {
 			return err
 		}
 	}
@@ -63,6 +56,52 @@ func PlotHistory(w io.Writer, rows []HistoryRow) error {
 	}
 	padAxes(p)
 	return writePNG(w, p)
+}
+
+// historyKey is one line of the history plot.
+type historyKey struct{ experiment, model, target string }
+
+// historyLines gathers the rows of a history into the lines of its plot,
+// one per experiment, model and target, ordered by them: the points (run
+// date in Unix seconds, r within folds; undefined r left out) and the
+// legend label of each.
+func historyLines(rows []HistoryRow) ([]historyKey, map[historyKey]plotter.XYs, []string) {
+	series := make(map[historyKey]plotter.XYs)
+	var keys []historyKey
+	experiments := make(map[string]bool)
+	for _, r := range rows {
+		k := historyKey{r.Experiment, r.Model, r.Target}
+		experiments[r.Experiment] = true
+		if _, ok := series[k]; !ok {
+			keys = append(keys, k)
+			series[k] = plotter.XYs{}
+		}
+		if !math.IsNaN(r.RWithinFolds) {
+			series[k] = append(series[k], plotter.XY{X: float64(r.Date.Unix()), Y: r.RWithinFolds})
+		}
+	}
+	sort.SliceStable(keys, func(i, j int) bool {
+		a, b := keys[i], keys[j]
+		if a.experiment != b.experiment {
+			return a.experiment < b.experiment
+		}
+		if a.model != b.model {
+			return a.model < b.model
+		}
+		return a.target < b.target
+	})
+	labels := make([]string, len(keys))
+	for i, k := range keys {
+		labels[i] = k.model + " · " + k.target
+		if len(experiments) > 1 {
+			name := "(experiment not recorded)"
+			if k.experiment != "" {
+				name = strings.TrimSuffix(filepath.Base(k.experiment), filepath.Ext(k.experiment))
+			}
+			labels[i] = name + " · " + labels[i]
+		}
+	}
+	return keys, series, labels
 }
 
 // PlotSampleSize draws the sample-size curve: for every model and target,

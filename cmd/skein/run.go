@@ -25,7 +25,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins for NMI and AMI")
 	unit := fs.Int("unit", 0, "run only unit `K` of the plan in --out (skein plan); default $SLURM_ARRAY_TASK_ID when --out holds a plan")
 	against := fs.String("against", "", "compare with the earlier run folder `DIR` and apply the experiment's [drift] rule (exit 4 when broken)")
-	history := fs.String("history", "", "history `FILE` the run's headline figures are appended to (default history.csv beside the run folder)")
+	history := fs.String("history", "", "history `FILE` the run's headline figures are appended to, its plot beside it as .png (default NAME.history.csv beside the experiment file NAME.toml)")
 	noHistory := fs.Bool("no-history", false, "do not append to the history file")
 	fs.Usage = func() {
 		fmt.Fprintln(cio.stderr, "usage: skein run EXPERIMENT.toml [--out DIR] [--jobs N] [--force] [--resume] [--unit K] [--against DIR]")
@@ -85,7 +85,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	}
 	fmt.Fprintf(cio.stdout, "\nResults in %s\n", oc.Dir)
 	if !*noHistory {
-		path, err := experiment.RecordHistory(oc.Dir, *history)
+		path, err := experiment.RecordHistory(expPath, oc.Dir, *history)
 		if err != nil {
 			return err
 		}
