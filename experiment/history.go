@@ -123,7 +123,7 @@ func ReadHistory(r io.Reader, name string) ([]HistoryRow, error) {
 	cr := csv.NewReader(r)
 	header, err := cr.Read()
 	if err == io.EOF {
-		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("empty file, want the header %v", historyColumns)}
+		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("empty file, want the header %s", strings.Join(historyColumns, ","))}
 	}
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", name, err)
@@ -137,7 +137,7 @@ func ReadHistory(r io.Reader, name string) ([]HistoryRow, error) {
 		return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("a history of an older skein, which recorded pooled " +
 			"Pearson r (biased in cross-validation) where it now records r within folds: move it aside to start a new history")}
 	default:
-		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("want the header %v, found %v", historyColumns, header)}
+		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("want the header %s, found %s", strings.Join(historyColumns, ","), strings.Join(header, ","))}
 	}
 	at := func(col string) int { return slices.Index(columns, col) }
 	var rows []HistoryRow

@@ -102,11 +102,11 @@ func (cv CV) folds(seed int64, c *data.Cohort) Folds {
 // checkAgainst reports settings that name what the cohort lacks.
 func (cv CV) checkAgainst(c *data.Cohort) error {
 	if cv.Stratify != "" && !slices.Contains(c.Targets, cv.Stratify) {
-		return fmt.Errorf("cv.stratify: %q is not a target of the cohort (have %v)", cv.Stratify, c.Targets)
+		return fmt.Errorf("cv.stratify: %q is not a target of the cohort (targets: %s)", cv.Stratify, wordList(c.Targets))
 	}
 	for _, name := range cv.Confounds {
 		if !slices.Contains(c.Covariates, name) {
-			return fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
+			return fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (covariates: %s)", name, wordList(c.Covariates))
 		}
 	}
 	return nil

@@ -697,7 +697,7 @@ func scoresAndConfounds(cv CV, c *data.Cohort) (y, cov *mat.Dense, err error) {
 			}
 		}
 		if cols[k] < 0 {
-			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
+			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (covariates: %s)", name, wordList(c.Covariates))
 		}
 	}
 	cov = mat.NewDense(n, len(cols), nil)

@@ -21,7 +21,7 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	out := fs.String("out", "", "run folder to create (default runs/NAME-YYYYMMDD-HHMMSS)")
 	jobs := fs.Int("jobs", 0, "units trained at once (default: from the number of units and cores); results do not depend on it")
 	force := fs.Bool("force", false, "replace an existing run folder once the new run has finished")
-	resume := fs.Bool("resume", false, "finish an interrupted run in the same folder")
+	resume := fs.Bool("resume", false, "finish an interrupted run in the same folder (refused when the experiment or a cohort file changed since)")
 	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins for NMI and AMI")
 	unit := fs.Int("unit", 0, "run only unit `K` of the plan in --out (skein plan); default $SLURM_ARRAY_TASK_ID when --out holds a plan")
 	against := fs.String("against", "", "compare with the earlier run folder `DIR` and apply the experiment's [drift] rule (exit 4 when broken)")
