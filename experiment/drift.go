@@ -85,4 +85,3 @@ func (d Drift) Validate(models []train.ModelConfig) error {
 	}
 	return nil
 }
-
