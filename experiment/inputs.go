@@ -39,7 +39,8 @@ type Inputs struct {
 // they make, names included), and
 // every setting against the cohort (train.Design.Check: folds against
 // participants and groups, inner validation, stratify and confound
-// columns, models' inner folds). skein check and skein run both call it,
+// columns, models' inner folds, the same on the sample-size curve's
+// subsets). skein check and skein run both call it,
 // so that check passes exactly what run accepts, but for an experiment
 // without models, which check accepts (a cohort-only file) and Run
 // refuses. Every problem found is
@@ -60,7 +61,12 @@ func CheckInputs(path string, exp *Experiment) (*Inputs, error) {
 	} else {
 		in.Experiment, in.Variants = expanded, variants
 		if cohort != nil && len(expanded.Models) > 0 {
-			errs = append(errs, prefixEach(path, expanded.Design().Check(cohort)))
+			d := expanded.Design()
+			err := d.Check(cohort)
+			if ss := expanded.SampleSize; err == nil && len(ss.Fractions) > 0 {
+				err = d.CheckSampleSizes(cohort, ss.Fractions, ss.Models)
+			}
+			errs = append(errs, prefixEach(path, err))
 		}
 	}
 	if err := errors.Join(errs...); err != nil {

@@ -40,6 +40,42 @@ func (d *Design) Check(c *data.Cohort) error {
 	if err != nil {
 		return errors.Join(append(errs, fmt.Errorf("cv.folds: %w", err))...)
 	}
+	return errors.Join(append(errs, d.checkSplits(splits, groups, d.Models)...)...)
+}
+
+// CheckSampleSizes reports, as Check does, every setting that cannot work
+// on the training subsets of the sample-size curve (SubsetSplits) of the
+// named models (all when names is empty): an inner validation part or a
+// kind's MinTrain that the subset of some fraction is too small for. The
+// errors name the key sample_size.fractions and the fraction. It expects
+// Check to have passed.
+func (d *Design) CheckSampleSizes(c *data.Cohort, fractions []float64, names []string) error {
+	splits, err := d.CV.folds(d.Seed, c).Splits(len(c.Participants))
+	if err != nil {
+		return nil // Check reports it
+	}
+	var models []ModelConfig
+	for _, m := range d.Models {
+		if len(names) == 0 || slices.Contains(names, m.Name) {
+			models = append(models, m)
+		}
+	}
+	sub := *d
+	sub.InnerLoss = false // sample-size runs record no inner validation error
+	groups := Groups(c)
+	var errs []error
+	for fi, subsets := range SubsetSplits(splits, groups, fractions, d.Seed) {
+		for _, err := range sub.checkSplits(subsets, groups, models) {
+			errs = append(errs, fmt.Errorf("sample_size.fractions: %g: %w", fractions[fi], err))
+		}
+	}
+	return errors.Join(errs...)
+}
+
+// checkSplits checks the inner validation part of every training fold of
+// splits and the MinTrain of every model of models against them.
+func (d *Design) checkSplits(splits []Split, groups []string, models []ModelConfig) []error {
+	var errs []error
 	// The smallest training fold, and the smallest part of one left to
 	// train on beside its inner validation part.
 	minTrain, minFit, minFitUnits := -1, -1, -1
@@ -62,7 +98,7 @@ func (d *Design) Check(c *data.Cohort) error {
 		errs = append(errs, fmt.Errorf("cv.inner_validation: %v takes %d of the %d participants of the training fold of repeat %d, fold %d, leaving %d to train on; want at least 2 (lower it, or set it to 0 for none)",
 			*d.CV.InnerValidation, worstValid, len(worstFit.Train), worstFit.Repeat+1, worstFit.Fold+1, minFit))
 	}
-	for _, m := range d.Models {
+	for _, m := range models {
 		k, err := m.Spec()
 		if err != nil || k.MinTrain == nil {
 			continue
@@ -79,7 +115,7 @@ func (d *Design) Check(c *data.Cohort) error {
 				m.Name, key, need, minFitUnits, unitWord(groups)))
 		}
 	}
-	return errors.Join(errs...)
+	return errs
 }
 
 // countUnits returns how many groups (participants, when groups is nil)

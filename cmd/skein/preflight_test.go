@@ -43,6 +43,8 @@ func TestCheckAndRunRefuseTheSame(t *testing.T) {
 		{"sweep variants sharing a folder", "[[model]]\nname = \"r\"\n[model.ridge]\n[[model]]\nname = \"R[alphas=[1]]\"\n[model.mean]\n" +
 			"[[sweep]]\nmodel = \"r\"\nkey = \"ridge.alphas\"\nvalues = [[1.0], [2.0]]\n",
 			[]string{`expanding the sweeps: model[2]: name "R[alphas=[1]]" and model "r[alphas=[1]]" would share the folder`}},
+		{"a sample-size subset too small to train on", "[cv]\nfolds = 2\n[sample_size]\nfractions = [0.1, 1.0]\n" + ridge,
+			[]string{`sample_size.fractions: 0.1: model "ridge": model.ridge.inner_folds: 5, but the training fold of repeat 1, fold 1 holds only 1 groups (cohort.group)`}},
 		{"fine, with batch_size beyond the cohort", "[cv]\nfolds = 2\n" + net, nil},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
