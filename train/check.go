@@ -22,13 +22,8 @@ import (
 // Check does not fail on these grounds after training has begun.
 func (d *Design) Check(c *data.Cohort) error {
 	var errs []error
-	if d.CV.Stratify != "" && !slices.Contains(c.Targets, d.CV.Stratify) {
-		errs = append(errs, fmt.Errorf("cv.stratify: %q is not a target of the cohort (targets: %s)", d.CV.Stratify, wordList(c.Targets)))
-	}
-	for _, name := range d.CV.Confounds {
-		if !slices.Contains(c.Covariates, name) {
-			errs = append(errs, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (covariates: %s)", name, wordList(c.Covariates)))
-		}
+	if err := d.CV.checkAgainst(c); err != nil {
+		errs = append(errs, err)
 	}
 	groups := Groups(c)
 	f := d.CV.folds(d.Seed, c)
