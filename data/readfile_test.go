@@ -5,7 +5,6 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
-	"syscall"
 	"testing"
 	"time"
 
@@ -24,7 +23,7 @@ func TestCheckRefusesFilesThatAreNotMatrices(t *testing.T) {
 		want string
 	}{
 		{"named pipe", func(t *testing.T, path string) {
-			if err := syscall.Mkfifo(path, 0o644); err != nil {
+			if err := mkfifo(path); err != nil {
 				t.Skipf("no FIFO here: %v", err)
 			}
 		}, "s2.txt: not a regular file but a named pipe (FIFO)"},
