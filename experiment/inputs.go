@@ -35,18 +35,16 @@ type Inputs struct {
 
 // CheckInputs loads the cohort of exp, read from path, and checks
 // everything a run would refuse, before anything is trained: the cohort's
-// files (data.Check), the sweeps (Expand, which validates the models
-// they make, names included), and
-// every setting against the cohort (train.Design.Check: folds against
-// participants and groups, inner validation, stratify and confound
-// columns, models' inner folds, the same on the sample-size curve's
-// subsets). skein check and skein run both call it,
-// so that check passes exactly what run accepts, but for an experiment
+// files (data.Check), the sweeps (Expand, which validates the models they
+// make, names included) and every setting against the cohort
+// (train.Design.Check: folds against participants and groups, inner
+// validation, stratify and confound columns, models' inner folds; the same
+// on the sample-size curve's subsets). skein check and skein run both call
+// it, so that check passes exactly what run accepts, but for an experiment
 // without models, which check accepts (a cohort-only file) and Run
-// refuses. Every problem found is
-// returned at once, joined (errors.Join), and the error matches ErrInput;
-// Inputs.Report is set whenever the cohort's files could be read, even
-// with an error.
+// refuses. Every problem found is returned at once, joined (errors.Join),
+// and the error matches ErrInput; Inputs.Report is set whenever the
+// cohort's files could be read, even with an error.
 func CheckInputs(path string, exp *Experiment) (*Inputs, error) {
 	in := &Inputs{}
 	var errs []error
