@@ -80,16 +80,26 @@ func (o *Output) SetDefaults() {
 // settings that cannot work are all reported at once (Validate), each
 // prefixed with path.
 func ReadExperiment(path string) (*Experiment, error) {
+	exp, err := readExperiment(path)
+	if err != nil {
+		return nil, err
+	}
+	return exp, nil
+}
+
+// readExperiment is ReadExperiment, but when the file decodes and only
+// Validate refuses it, it returns the experiment (defaults filled) with
+// the error, so that CheckFile can check the cohort as well.
+func readExperiment(path string) (*Experiment, error) {
 	raw, err := os.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}
-	exp, err := ParseExperiment(raw)
-	if err != nil {
-		return nil, prefixEach(path, err)
+	exp, err := parseExperiment(raw)
+	if exp != nil {
+		exp.Dir = filepath.Dir(path)
 	}
-	exp.Dir = filepath.Dir(path)
-	return exp, nil
+	return exp, prefixEach(path, err)
 }
 
 // ParseExperiment decodes an experiment file's text, fills defaults and
@@ -97,6 +107,16 @@ func ReadExperiment(path string) (*Experiment, error) {
 // word it does not know is an error naming the key and its line and
 // listing the words.
 func ParseExperiment(raw []byte) (*Experiment, error) {
+	exp, err := parseExperiment(raw)
+	if err != nil {
+		return nil, err
+	}
+	return exp, nil
+}
+
+// parseExperiment is ParseExperiment, but returns the decoded experiment
+// with Validate's error.
+func parseExperiment(raw []byte) (*Experiment, error) {
 	var exp Experiment
 	if err := checkWords(raw, reflect.TypeFor[Experiment]()); err != nil {
 		return nil, err
@@ -107,10 +127,7 @@ func ParseExperiment(raw []byte) (*Experiment, error) {
 		return nil, describeTOMLError(err)
 	}
 	exp.SetDefaults()
-	if err := exp.Validate(); err != nil {
-		return nil, err
-	}
-	return &exp, nil
+	return &exp, exp.Validate()
 }
 
 // SetDefaults fills every unset field with its documented default.

@@ -82,6 +82,29 @@ func CheckInputs(path string, exp *Experiment) (*Inputs, error) {
 	return in, nil
 }
 
+// CheckFile reads the experiment file at path and checks it as
+// CheckInputs does, for skein check: when the file decodes but some
+// settings cannot work (Validate), the cohort is still loaded and checked,
+// provided its own tables are sound, so that the problems of the file and
+// of the cohort's files are reported together. The error joins every
+// problem and matches ErrInput; Inputs.Report is set whenever the cohort's
+// files could be read.
+func CheckFile(path string) (*Inputs, error) {
+	exp, err := readExperiment(path)
+	switch {
+	case exp == nil:
+		return &Inputs{}, badInput(err)
+	case err == nil:
+		return CheckInputs(path, exp)
+	case exp.Cohort.Validate() != nil || exp.Preprocess.Validate() != nil:
+		return &Inputs{}, badInput(err) // the cohort cannot be read as written
+	}
+	in := &Inputs{}
+	cohort, report, cerr := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
+	in.Cohort, in.Report = cohort, report
+	return in, badInput(errors.Join(err, cerr))
+}
+
 // inputsRecord is the content of InputsFile.
 type inputsRecord struct {
 	Files []data.FileDigest `json:"files"`

@@ -29,12 +29,8 @@ func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	exp, err := experiment.ReadExperiment(positional[0])
-	if err != nil {
-		return badInput(err)
-	}
 	// The same checks as skein run's, all problems at once.
-	in, err := experiment.CheckInputs(positional[0], exp)
+	in, err := experiment.CheckFile(positional[0])
 	if in.Report != nil {
 		if werr := writeReport(cio, in.Report, *asJSON); werr != nil {
 			return werr

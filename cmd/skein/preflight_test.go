@@ -84,3 +84,29 @@ func TestCheckAndRunRefuseTheSame(t *testing.T) {
 		})
 	}
 }
+
+// TestCheckListsFileAndCohortProblemsTogether: skein check reports the
+// experiment file's problems and the cohort files' problems in one
+// attempt.
+func TestCheckListsFileAndCohortProblemsTogether(t *testing.T) {
+	t.Parallel()
+	exp := writeExperiment(t, synth.Config{N: 20, P: 8, Seed: 5}, "\n[permutation]\ncount = 200000\n"+
+		"[[model]]\nname = \"..\"\n[model.mean]\n")
+	matrix := filepath.Join(filepath.Dir(exp), "fc", "sub-004_fc.tsv")
+	if err := os.Remove(matrix); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Symlink("gone.tsv", matrix); err != nil {
+		t.Fatal(err)
+	}
+	code, _, stderr := runSkein(t, "check", exp)
+	for _, want := range []string{"3 problems:", "permutation.count: at most 100000", `name ".." cannot name a folder`,
+		`sub-004_fc.tsv: a symbolic link to "gone.tsv", which does not exist`} {
+		if !strings.Contains(stderr, want) {
+			t.Errorf("stderr %q\nlacks %q", stderr, want)
+		}
+	}
+	if code != exitBadInput {
+		t.Errorf("exit %d, want %d", code, exitBadInput)
+	}
+}
