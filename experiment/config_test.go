@@ -120,6 +120,8 @@ func TestMessagesSayNoGo(t *testing.T) {
 			[]string{`key "cv.confounds": want a list of text in quotes, found a whole number`}},
 		{"table for a number", "seed = {a = 1}\n" + models,
 			[]string{`key "seed": want a whole number, found a table`}},
+		{"list of tables for a table", "[[cv]]\nfolds = 3\n" + models,
+			[]string{`key "cv": want a table, found a list of tables ([[...]])`}},
 		{"model key of the wrong type", "[[model]]\nname = \"n\"\n[model.network]\nepochs = \"ten\"\n",
 			[]string{`key "model.network.epochs": want a whole number, found text`}},
 		{"several problems at once", "[cv]\nfolds = 1\nrepeats = 0\n[permutation]\ncount = 1000000000000\n" +

@@ -314,8 +314,10 @@ func describeMismatch(msg string, t reflect.Type) string {
 		found = "true or false"
 	case "array":
 		found = "a list"
-	case "table", "inline table", "array table":
+	case "table", "inline table":
 		found = "a table"
+	case "array table":
+		found = "a list of tables ([[...]])"
 	default:
 		found = "a " + found
 	}
