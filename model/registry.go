@@ -53,7 +53,8 @@ type Kind struct {
 	// MinTrain, when not nil, returns the fewest participants (groups,
 	// when the cohort has a group column) a training set must hold for
 	// the kind's Fit with settings s, and the key that sets it, such as
-	// 5 and "model.ridge.inner_folds"; nil means 2. A run checks it
+	// 5 and "model.ridge.inner_folds"; nil, or n ≤ 0, asks for nothing
+	// beyond the two participants every fit needs. A run checks it
 	// against every training fold before it trains anything.
 	MinTrain func(s Settings) (n int, key string)
 	// Describe, when not nil, summarizes the settings in a few words for a

@@ -89,7 +89,11 @@ func (d *Design) checkSplits(splits []Split, groups []string, models []ModelConf
 			minFitUnits = n
 		}
 	}
-	if minFit < 2 {
+	switch {
+	case minFit < 2 && worstValid == 0:
+		errs = append(errs, fmt.Errorf("cv.folds: the training fold of repeat %d, fold %d holds only %d participants; want at least 2",
+			worstFit.Repeat+1, worstFit.Fold+1, minFit))
+	case minFit < 2:
 		errs = append(errs, fmt.Errorf("cv.inner_validation: %v takes %d of the %d participants of the training fold of repeat %d, fold %d, leaving %d to train on; want at least 2 (lower it, or set it to 0 for none)",
 			*d.CV.InnerValidation, worstValid, len(worstFit.Train), worstFit.Repeat+1, worstFit.Fold+1, minFit))
 	}
@@ -100,6 +104,7 @@ func (d *Design) checkSplits(splits []Split, groups []string, models []ModelConf
 		}
 		need, key := k.MinTrain(m.Settings())
 		switch {
+		case need <= 0:
 		case minTrain < need:
 			errs = append(errs, fmt.Errorf("model %q: %s: %d, but the training fold of repeat %d, fold %d holds only %d %s",
 				m.Name, key, need, worstTrain.Repeat+1, worstTrain.Fold+1, minTrain, unitWord(groups)))

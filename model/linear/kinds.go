@@ -48,7 +48,7 @@ func init() {
 		MinTrain: func(s model.Settings) (int, string) {
 			c, ok := s.(*RidgeConfig)
 			if !ok || len(c.Alphas) < 2 || c.InnerFolds == nil {
-				return 2, ""
+				return 0, "" // one penalty: no inner folds
 			}
 			return *c.InnerFolds, "model.ridge.inner_folds"
 		},
@@ -66,7 +66,7 @@ func init() {
 		MinTrain: func(s model.Settings) (int, string) {
 			c, ok := s.(*KernelRidgeConfig)
 			if !ok || len(c.Alphas) < 2 || c.InnerFolds == nil {
-				return 2, ""
+				return 0, "" // one penalty: no inner folds
 			}
 			return *c.InnerFolds, "model.kernel_ridge.inner_folds"
 		},
