@@ -42,6 +42,21 @@ type Cohort struct {
 	Regions []string
 	// Excluded lists every participant that was left out, with its reason.
 	Excluded []Exclusion
+	// Files lists every file Check read, in the order read, with the
+	// SHA-256 of its bytes: the participants table, the region labels,
+	// each stack and its participant list, each included participant's
+	// matrices. A run keeps them to tell whether its inputs changed.
+	Files []FileDigest
+}
+
+// FileDigest is a file Check read and the SHA-256 of its bytes.
+type FileDigest struct {
+	// Path is the file as written in the experiment file's terms:
+	// relative to the experiment file's folder unless it was given as an
+	// absolute path.
+	Path string `json:"path"`
+	// SHA256 is the digest of the file's bytes, in lower-case hex.
+	SHA256 string `json:"sha256"`
 }
 
 // P returns the number of regions.

@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
-	"os"
 	"strings"
 )
 
@@ -13,9 +12,10 @@ const regionLabel = "region label"
 
 // readIDList reads a file holding one name a line: a stack's participant
 // order or a region-labels file. what names the entries in messages: the
-// id column's name (such as "participant_id") or regionLabel.
-func readIDList(path, what string) (names []string, lines []int, err error) {
-	raw, err := os.ReadFile(path)
+// id column's name (such as "participant_id") or regionLabel; read reads
+// the file (loader.read).
+func readIDList(path, what string, read func(string, int64) ([]byte, error)) (names []string, lines []int, err error) {
+	raw, err := read(path, maxTableBytes)
 	if err != nil {
 		return nil, nil, err
 	}

@@ -1,6 +1,8 @@
 package data
 
 import (
+	"crypto/sha256"
+	"encoding/hex"
 	"errors"
 	"fmt"
 	"maps"
@@ -114,6 +116,25 @@ type loader struct {
 	labelsSrc string   // where labels came from, for messages and the report
 	p         int      // number of regions; 0 until known
 	pSrc      string   // the file that set p
+	files     []FileDigest
+}
+
+// read reads the regular file at path (readRegular) and records its
+// digest for Cohort.Files.
+func (l *loader) read(path string, limit int64) ([]byte, error) {
+	raw, err := readRegular(path, limit)
+	if err != nil {
+		return nil, err
+	}
+	name := path
+	if !filepath.IsAbs(path) || filepath.IsAbs(l.baseDir) {
+		if rel, err := filepath.Rel(l.baseDir, path); err == nil && !strings.HasPrefix(rel, "..") {
+			name = rel
+		}
+	}
+	sum := sha256.Sum256(raw)
+	l.files = append(l.files, FileDigest{Path: filepath.ToSlash(name), SHA256: hex.EncodeToString(sum[:])})
+	return raw, nil
 }
 
 func (l *loader) path(p string) string {
@@ -148,7 +169,7 @@ type modality struct {
 
 func (l *loader) load() (*Cohort, *Report, error) {
 	l.tablePath = l.path(l.src.Participants)
-	tbl, err := readTable(l.tablePath)
+	tbl, err := readTable(l.tablePath, l.read)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -179,7 +200,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 
 	if l.src.Regions != "" {
 		lp := l.path(l.src.Regions)
-		names, _, err := readIDList(lp, regionLabel)
+		names, _, err := readIDList(lp, regionLabel, l.read)
 		if err != nil {
 			return nil, nil, fmt.Errorf("cohort.regions: %w", err)
 		}
@@ -247,6 +268,8 @@ func (l *loader) load() (*Cohort, *Report, error) {
 				}
 				if err != nil {
 					err = fmt.Errorf("%s: participant %s: preprocessing the %s matrix: %w", f.path, r.id, m.name, err)
+				} else {
+					err = checkPreprocessed(m.name, f)
 				}
 			}
 			if err != nil {
@@ -270,6 +293,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		return nil, nil, err
 	}
 	c.Participants = kept
+	c.Files = l.files
 	c.Regions = l.labels
 	if c.Regions == nil {
 		c.Regions = DefaultRegions(l.p)
@@ -490,13 +514,13 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 	if m.spec.Stack != "" {
 		m.report = &ModalityReport{Source: m.spec.Stack}
 		m.idsPath = l.path(m.spec.StackIDs)
-		ids, lines, err := readIDList(m.idsPath, l.src.IDColumn)
+		ids, lines, err := readIDList(m.idsPath, l.src.IDColumn, l.read)
 		if err != nil {
 			l.errs.add(fmt.Errorf("%s.stack_ids: %w", key, err))
 			return
 		}
 		m.stackPath = l.path(m.spec.Stack)
-		raw, err := os.ReadFile(m.stackPath)
+		raw, err := l.read(m.stackPath, 8*maxTableBytes)
 		if err != nil {
 			l.errs.add(fmt.Errorf("%s.stack: %w", key, err))
 			return
@@ -557,10 +581,10 @@ func (l *loader) absent(m *modality, id string) string {
 		return ""
 	}
 	f := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
-	if _, err := os.Stat(f); err != nil {
+	if _, err := os.Lstat(f); err != nil {
 		return fmt.Sprintf("no %s file %s", m.name, f)
 	}
-	return ""
+	return "" // a link that leads nowhere is an error of matrix, not an absence
 }
 
 // matrixFile is one participant's matrix of one modality with where it
@@ -579,11 +603,12 @@ func (l *loader) matrix(m *modality, id string) (*matrixFile, error) {
 		return &matrixFile{a: m.stack.stack(k), path: m.stackPath, entry: fmt.Sprintf("participant %s (matrix %d of the stack)", id, k+1)}, nil
 	}
 	path := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
-	raw, err := os.ReadFile(path)
+	npy := strings.EqualFold(filepath.Ext(path), ".npy")
+	raw, err := l.read(path, matrixLimit(l.p, npy))
 	if err != nil {
 		return nil, err
 	}
-	if strings.EqualFold(filepath.Ext(path), ".npy") {
+	if npy {
 		arr, err := decodeNPY(path, raw)
 		if err != nil {
 			return nil, err
@@ -604,6 +629,36 @@ func (l *loader) matrix(m *modality, id string) (*matrixFile, error) {
 		}
 	}
 	return &matrixFile{a: tm.m, path: path, where: tm.position}, nil
+}
+
+// errorAt returns a FileError at entry (i, j) of f (0-based; i = -1 for
+// the whole matrix), with its line and column in a text file.
+func (f *matrixFile) errorAt(i, j int, format string, args ...any) error {
+	e := &FileError{Path: f.path, Err: fmt.Errorf(format, args...)}
+	if f.where != nil && i >= 0 {
+		e.Line, e.Column = f.where(i, j)
+	}
+	if f.entry != "" {
+		e.Err = fmt.Errorf("%s: %w", f.entry, e.Err)
+	}
+	return e
+}
+
+// checkPreprocessed makes sure preprocessing left every entry of f finite
+// and of a magnitude of at most MaxMagnitude: a transform or a scaling
+// can overflow (a total of huge counts is +Inf, and x/Inf is 0 or NaN).
+// The error names the file, the entry as read and the step's key.
+func checkPreprocessed(modality string, f *matrixFile) error {
+	r, c := f.a.Dims()
+	for i := range r {
+		for j := range c {
+			if v := f.a.At(i, j); math.IsNaN(v) || math.IsInf(v, 0) || math.Abs(v) > MaxMagnitude {
+				return f.errorAt(i, j, "entry (%d, %d) is %v after preprocessing (see [preprocess.%s]); expected a finite number of magnitude at most %g",
+					i+1, j+1, v, modality, MaxMagnitude)
+			}
+		}
+	}
+	return nil
 }
 
 // agreeLabels checks a matrix's header labels against the cohort's.
@@ -629,16 +684,7 @@ func (l *loader) agreeLabels(path string, labels []string) error {
 // problems of the whole matrix (i = -1) name none.
 func (l *loader) checkMatrix(m *modality, f *matrixFile) error {
 	a, path := f.a, f.path
-	at := func(i, j int, format string, args ...any) error {
-		e := &FileError{Path: path, Err: fmt.Errorf(format, args...)}
-		if f.where != nil && i >= 0 {
-			e.Line, e.Column = f.where(i, j)
-		}
-		if f.entry != "" {
-			e.Err = fmt.Errorf("%s: %w", f.entry, e.Err)
-		}
-		return e
-	}
+	at := f.errorAt
 	r, c := a.Dims()
 	if r != c {
 		hint := ""
@@ -662,6 +708,8 @@ func (l *loader) checkMatrix(m *modality, f *matrixFile) error {
 		for j := range c {
 			if v := a.At(i, j); math.IsNaN(v) || math.IsInf(v, 0) {
 				return at(i, j, "entry (%d, %d) is %v; expected a finite number", i+1, j+1, v)
+			} else if math.Abs(v) > MaxMagnitude {
+				return at(i, j, "entry (%d, %d) is %v; expected a magnitude of at most %g, beyond which sums of squares overflow", i+1, j+1, v, MaxMagnitude)
 			}
 		}
 	}

@@ -6,7 +6,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"strings"
 )
@@ -32,7 +31,7 @@ func (t *table) column(name string) int {
 // readTable reads a participants table, choosing the format by extension:
 // .tsv is tab-separated without quoting (as BIDS writes it), .csv is
 // comma-separated with RFC 4180 quoting.
-func readTable(path string) (*table, error) {
+func readTable(path string, read func(string, int64) ([]byte, error)) (*table, error) {
 	var comma rune
 	switch strings.ToLower(filepath.Ext(path)) {
 	case ".tsv":
@@ -42,7 +41,7 @@ func readTable(path string) (*table, error) {
 	default:
 		return nil, &FileError{Path: path, Err: fmt.Errorf("participants table must end in .tsv (tab-separated) or .csv (comma-separated), found %q", filepath.Ext(path))}
 	}
-	raw, err := os.ReadFile(path)
+	raw, err := read(path, maxTableBytes)
 	if err != nil {
 		return nil, fmt.Errorf("participants table: %w", err)
 	}

@@ -6,6 +6,7 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/gonum/stat"
 
@@ -303,7 +304,16 @@ func ParseMetric(s string) (Metric, error) {
 			return m, nil
 		}
 	}
-	return "", fmt.Errorf("unknown metric %q: want one of %v", s, Metrics())
+	return "", fmt.Errorf("unknown metric %q: want one of %s", s, metricNames())
+}
+
+// metricNames lists the names of Metrics for a message: "a, b, c".
+func metricNames() string {
+	names := make([]string, 0, len(Metrics()))
+	for _, m := range Metrics() {
+		names = append(names, string(m))
+	}
+	return strings.Join(names, ", ")
 }
 
 // LowerIsBetter reports whether smaller values of m mean better predictions

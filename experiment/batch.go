@@ -16,8 +16,6 @@ import (
 	"strings"
 	"time"
 
-	"github.com/pelletier/go-toml/v2"
-
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/train"
@@ -127,12 +125,14 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 	if err != nil {
 		return nil, badInput(err)
 	}
+	defer rd.Close()
 	if err := rd.CheckResume(ExperimentFile, b.resolved); err != nil {
 		return nil, badInputf("%w (its finished units would not belong to this plan)", err)
 	}
-	if old, err := os.ReadFile(rd.WorkPath(CohortFile)); resume && err == nil && !bytes.Equal(old, b.cohortJSON) {
-		return nil, badInputf("%s: the cohort's files changed since its units ran (%s differs); pass --force to start over",
-			rd.Partial, CohortFile)
+	if resume {
+		if err := checkInputsUnchanged(rd, b.in, "units", "pass --force to start over"); err != nil {
+			return nil, err
+		}
 	}
 	units, err := BatchUnits(b.runner, b.exp, opt.Block)
 	if err != nil {
@@ -159,6 +159,7 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 	}{
 		{ExperimentFile, b.resolved},
 		{CohortFile, b.cohortJSON},
+		{InputsFile, b.in.InputsJSON},
 		{UnitsFile, unitsTable(units, opt.Skein, rec)},
 		{JobFile, jobScript(len(units), opt.Skein, rec, rd, opt.Slurm)},
 		{PlanFile, recJSON}, // last: a folder with a plan file is a complete plan
@@ -188,6 +189,7 @@ func Plan(path string, opt PlanOptions, msgs io.Writer) (*PlanSummary, error) {
 
 // batch is an experiment opened for planning, running a unit or merging.
 type batch struct {
+	in         *Inputs
 	exp        *Experiment // sweeps expanded
 	variants   []Variant   // the sweeps' variants
 	cohort     *data.Cohort
@@ -209,21 +211,12 @@ func openBatchExperiment(expPath string, exp *Experiment) (*batch, error) {
 	if len(exp.Models) == 0 {
 		return nil, badInputf("%s: no [[model]] to run", expPath)
 	}
-	cohort, report, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
+	in, err := CheckInputs(expPath, exp)
 	if err != nil {
-		return nil, badInput(err)
-	}
-	b := &batch{cohort: cohort}
-	if b.exp, b.variants, err = exp.Expand(); err != nil {
-		return nil, badInputf("%s: %w", expPath, err)
-	}
-	if b.resolved, err = toml.Marshal(b.exp); err != nil {
 		return nil, err
 	}
-	if b.cohortJSON, err = json.MarshalIndent(report, "", "  "); err != nil {
-		return nil, err
-	}
-	b.runner = &train.Runner{Design: b.exp.Design(), Cohort: cohort}
+	b := &batch{in: in, exp: in.Experiment, variants: in.Variants, cohort: in.Cohort, resolved: in.Resolved, cohortJSON: in.CohortJSON}
+	b.runner = &train.Runner{Design: b.exp.Design(), Cohort: in.Cohort}
 	return b, nil
 }
 
@@ -260,13 +253,11 @@ func (b *batch) checkPlanned(rd *RunDir, rec *planRecord) error {
 	if err := rd.CheckResume(ExperimentFile, b.resolved); err != nil {
 		return badInputf("the experiment differs from the one planned: %w", err)
 	}
-	old, err := os.ReadFile(rd.WorkPath(CohortFile))
-	if err != nil {
+	if _, err := os.Stat(rd.WorkPath(CohortFile)); err != nil {
 		return err
 	}
-	if !bytes.Equal(old, b.cohortJSON) {
-		return badInputf("the cohort's files changed since %s was planned (%s differs); plan again with --force",
-			rd.Final, rd.WorkPath(CohortFile))
+	if err := checkInputsUnchanged(rd, b.in, "planned units", "plan again with skein plan --force"); err != nil {
+		return err
 	}
 	units, err := BatchUnits(b.runner, b.exp, rec.Block)
 	if err != nil {
@@ -280,27 +271,17 @@ func (b *batch) checkPlanned(rd *RunDir, rec *planRecord) error {
 
 // nullFile names the null scores of a permutation block.
 func nullFile(u BatchUnit) string {
-	return filepath.Join(NullsDir, safeName(u.Model), fmt.Sprintf("p%d-%d.csv", u.First+1, u.End))
+	return filepath.Join(NullsDir, train.FolderName(u.Model), fmt.Sprintf("p%d-%d.csv", u.First+1, u.End))
 }
 
 // sampleSizeUnitFile names the sample-size rows of a curve unit.
 func sampleSizeUnitFile(u BatchUnit) string {
-	return filepath.Join(SampleSizeDir, safeName(u.Model), "f"+strconv.FormatFloat(u.Fraction, 'g', -1, 64)+".csv")
+	return filepath.Join(SampleSizeDir, train.FolderName(u.Model), "f"+strconv.FormatFloat(u.Fraction, 'g', -1, 64)+".csv")
 }
 
 func failedFile(k int) string { return filepath.Join(FailedDir, strconv.Itoa(k)+".txt") }
 
 func unitLog(k int) string { return filepath.Join(LogsDir, "unit-"+strconv.Itoa(k)+".log") }
-
-// safeName makes a model name safe as a file name.
-func safeName(name string) string {
-	return strings.Map(func(r rune) rune {
-		if r == '/' || r == '\\' || r == ':' || r < ' ' {
-			return '_'
-		}
-		return r
-	}, name)
-}
 
 // RunUnit runs unit k of the plan in the work folder of out, for the
 // experiment at expPath, with jobs units of training at once, and writes
@@ -322,10 +303,11 @@ func RunUnit(ctx context.Context, expPath, out string, k, jobs int) (u BatchUnit
 	if err != nil {
 		return u, false, err
 	}
-	rd, err := OpenRunDir(out, rec.Replace, true)
+	rd, err := openRunDir(out, rec.Replace, true, true) // units run side by side
 	if err != nil {
 		return u, false, badInput(err)
 	}
+	defer rd.Close()
 	if err := b.checkPlanned(rd, rec); err != nil {
 		return u, false, err
 	}
@@ -546,6 +528,7 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 	if err != nil {
 		return nil, 0, badInput(err)
 	}
+	defer rd.Close()
 	if err := b.checkPlanned(rd, rec); err != nil {
 		return nil, 0, err
 	}

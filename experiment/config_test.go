@@ -20,6 +20,9 @@ func TestPermutationValidate(t *testing.T) {
 		{Permutation{Blocks: "whole"}, ""},
 		{Permutation{Blocks: "families"}, `permutation.blocks: want "auto", "within" or "whole", found "families"`},
 		{Permutation{Count: -1}, "permutation.count"},
+		{Permutation{Count: MaxPermutations}, ""},
+		{Permutation{Count: 1e12}, "permutation.count: at most 100000, found 1000000000000"},
+		{Permutation{Count: 10, Chunk: new(1 << 40)}, "permutation.chunk: at most 100000"},
 	}
 	for _, tt := range tests {
 		p := tt.p
@@ -96,6 +99,70 @@ func TestDesignAsksForInnerLoss(t *testing.T) {
 		exp.SetDefaults()
 		if got := exp.Design().InnerLoss; got != tt.want {
 			t.Errorf("%s: InnerLoss %v, want %v", tt.name, got, tt.want)
+		}
+	}
+}
+
+// TestMessagesSayNoGo: an experiment file's mistakes are told in words
+// of the file (keys, lines, "a whole number"), never in Go's (struct
+// fields, types, maps), and all of them at once.
+func TestMessagesSayNoGo(t *testing.T) {
+	const models = "[[model]]\nname = \"m\"\n[model.mean]\n"
+	for _, tc := range []struct {
+		name, file string
+		want       []string
+	}{
+		{"text for a count", "[cv]\nfolds = \"5\"\n" + models,
+			[]string{`line 2, column 9: key "cv.folds": want a whole number, found text`}},
+		{"fraction for a count", "[cv]\nrepeats = 2.5\n" + models,
+			[]string{`key "cv.repeats": want a whole number, found a number with a fraction or exponent`}},
+		{"number for a list of words", "[cv]\nconfounds = 3\n" + models,
+			[]string{`key "cv.confounds": want a list of text in quotes, found a whole number`}},
+		{"table for a number", "seed = {a = 1}\n" + models,
+			[]string{`key "seed": want a whole number, found a table`}},
+		{"list of tables for a table", "[[cv]]\nfolds = 3\n" + models,
+			[]string{`key "cv": want a table, found a list of tables ([[...]])`}},
+		{"model key of the wrong type", "[[model]]\nname = \"n\"\n[model.network]\nepochs = \"ten\"\n",
+			[]string{`key "model.network.epochs": want a whole number, found text`}},
+		{"several problems at once", "[cv]\nfolds = 1\nrepeats = 0\n[permutation]\ncount = 1000000000000\n" +
+			"[[model]]\nname = \"..\"\n[model.mean]\n[[model]]\nname = \"a/b\"\n[model.mean]\n",
+			[]string{"cv.folds: need at least 2", "permutation.count: at most 100000", `name ".." cannot name a folder`, `name "a/b" holds a path separator`}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			_, err := ParseExperiment([]byte(tc.file))
+			if err == nil {
+				t.Fatalf("no error, want %q", tc.want)
+			}
+			for _, w := range tc.want {
+				if !strings.Contains(err.Error(), w) {
+					t.Errorf("error %q\nlacks %q", err, w)
+				}
+			}
+			for _, goWord := range []string{"struct field", "of type", "map[", "train.", "graphnet."} {
+				if strings.Contains(err.Error(), goWord) {
+					t.Errorf("error %q shows Go's %q", err, goWord)
+				}
+			}
+		})
+	}
+}
+
+// TestVariantNamesSayNoGo: a swept table value names its variant as TOML
+// writes it, not as a Go map.
+func TestVariantNamesSayNoGo(t *testing.T) {
+	for _, tc := range []struct {
+		value any
+		want  string
+	}{
+		{"adamw", "adamw"},
+		{1e-3, "0.001"},
+		{int64(32), "32"},
+		{[]any{16.0, 8.0}, "[16, 8]"},
+		{map[string]any{"pearson_r": 10.0, "kind": "e2n"}, `{kind = "e2n", pearson_r = 10}`},
+		{[]any{map[string]any{"kind": "e2n", "channels": int64(8)}}, `[{channels = 8, kind = "e2n"}]`},
+	} {
+		if got := variantValue(tc.value); got != tc.want {
+			t.Errorf("variantValue(%v) = %q, want %q", tc.value, got, tc.want)
 		}
 	}
 }

@@ -65,8 +65,8 @@ func (d Drift) Validate(models []train.ModelConfig) error {
 	sort.Strings(names)
 	for _, name := range names {
 		v := d.Worsen[name]
-		if err := enum.Check(eval.Metric(name)); err != nil || name == "" {
-			return fmt.Errorf("drift.worsen: %q is not a metric (want one of %v)", name, eval.Metrics())
+		if _, err := eval.ParseMetric(name); err != nil {
+			return fmt.Errorf("drift.worsen: %w", err)
 		}
 		if v < 0 || math.IsNaN(v) || math.IsInf(v, 0) {
 			return fmt.Errorf("drift.worsen.%s: want a finite amount ≥ 0, found %v", name, v)

@@ -7,8 +7,10 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"regexp"
 	"slices"
 	"strings"
+	"unicode"
 
 	"github.com/pelletier/go-toml/v2"
 
@@ -79,18 +81,30 @@ func (o *Output) SetDefaults() {
 }
 
 // ReadExperiment reads and checks the experiment file at path. Unknown keys
-// and values of the wrong type are errors naming the key and its line.
+// and values of the wrong type are errors naming the key and its line;
+// settings that cannot work are all reported at once (Validate), each
+// prefixed with path.
 func ReadExperiment(path string) (*Experiment, error) {
+	exp, err := readExperiment(path)
+	if err != nil {
+		return nil, err
+	}
+	return exp, nil
+}
+
+// readExperiment is ReadExperiment, but when the file decodes and only
+// Validate refuses it, it returns the experiment (defaults filled) with
+// the error, so that CheckFile can check the cohort as well.
+func readExperiment(path string) (*Experiment, error) {
 	raw, err := os.ReadFile(path)
 	if err != nil {
 		return nil, err
 	}
-	exp, err := ParseExperiment(raw)
-	if err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
+	exp, err := parseExperiment(raw)
+	if exp != nil {
+		exp.Dir = filepath.Dir(path)
 	}
-	exp.Dir = filepath.Dir(path)
-	return exp, nil
+	return exp, prefixEach(path, err)
 }
 
 // ParseExperiment decodes an experiment file's text, fills defaults and
@@ -98,14 +112,21 @@ func ReadExperiment(path string) (*Experiment, error) {
 // word it does not know is an error naming the key and its line and
 // listing the words.
 func ParseExperiment(raw []byte) (*Experiment, error) {
+	exp, err := parseExperiment(raw)
+	if err != nil {
+		return nil, err
+	}
+	return exp, nil
+}
+
+// parseExperiment is ParseExperiment, but returns the decoded experiment
+// with Validate's error.
+func parseExperiment(raw []byte) (*Experiment, error) {
 	exp, err := decodeExperiment(raw)
 	if err != nil {
 		return nil, err
 	}
-	if err := exp.Validate(); err != nil {
-		return nil, err
-	}
-	return exp, nil
+	return exp, exp.Validate()
 }
 
 // decodeExperiment decodes an experiment file's text and fills defaults,
@@ -158,46 +179,71 @@ func (e *Experiment) SetDefaults() {
 	}
 }
 
-// Validate reports the first setting that cannot work, naming its key.
+// Validate reports every setting that cannot work, each naming its key,
+// joined (errors.Join); nil when there is none. Each table is checked
+// on its own, so one mistake does not hide another. Model names must be
+// set, distinct, not "." or "..", free of '/', '\\' and control
+// characters, and give distinct folder names (train.FolderName, compared
+// without case, as some file systems do).
 func (e *Experiment) Validate() error {
+	var nameErr error
 	if e.Name != "" && (strings.ContainsAny(e.Name, `/\`+"\x00") || strings.HasPrefix(e.Name, ".") || strings.TrimSpace(e.Name) != e.Name) {
-		return fmt.Errorf("name: %q cannot name a run folder: use letters, digits, - and _ (no path separator, no leading dot or space)", e.Name)
+		nameErr = fmt.Errorf("name: %q cannot name a run folder: use letters, digits, - and _ (no path separator, no leading dot or space)", e.Name)
 	}
-	if err := e.Cohort.Validate(); err != nil {
-		return err
+	errs := []error{
+		nameErr,
+		e.Cohort.Validate(),
+		e.Preprocess.Validate(),
+		e.CV.Validate(),
+		e.Permutation.Validate(e.Models),
+		e.Drift.Validate(e.Models),
+		e.SampleSize.Validate(e.Models),
+		validateSweeps(e.Sweeps, e.Models),
 	}
-	if err := e.Preprocess.Validate(); err != nil {
-		return err
-	}
-	if err := e.CV.Validate(); err != nil {
-		return err
-	}
-	if err := e.Permutation.Validate(e.Models); err != nil {
-		return err
-	}
-	if err := e.Drift.Validate(e.Models); err != nil {
-		return err
-	}
-	if err := e.SampleSize.Validate(e.Models); err != nil {
-		return err
-	}
-	if err := validateSweeps(e.Sweeps, e.Models); err != nil {
-		return err
-	}
-	seen := make(map[string]bool)
 	for i, m := range e.Models {
 		if m.Name == "" {
-			return fmt.Errorf("model[%d]: key \"name\" is required", i)
+			errs = append(errs, fmt.Errorf("model[%d]: key \"name\" is required", i))
+			continue
 		}
-		if seen[m.Name] {
-			return fmt.Errorf("model[%d]: name %q is used twice", i, m.Name)
-		}
-		seen[m.Name] = true
 		if err := m.Validate(); err != nil {
-			return fmt.Errorf("model %q: %w", m.Name, err)
+			errs = append(errs, fmt.Errorf("model %q: %w", m.Name, err))
 		}
 	}
-	return e.Comparison.Validate(e.Models, e.Sweeps)
+	errs = append(errs, checkModelNames(e.Models))
+	errs = append(errs, e.Comparison.Validate(e.Models, e.Sweeps))
+	return errors.Join(errs...)
+}
+
+// checkModelNames reports names of models that cannot name their folders
+// in a run folder: "." and "..", names with '/', '\\' or a control
+// character, and names used twice or whose folder names
+// (train.FolderName) are equal but for case.
+func checkModelNames(models []train.ModelConfig) error {
+	var errs []error
+	folders := make(map[string]string)
+	for i, m := range models {
+		if m.Name == "" {
+			continue
+		}
+		switch {
+		case m.Name == "." || m.Name == "..":
+			errs = append(errs, fmt.Errorf("model[%d]: name %q cannot name a folder; choose a word such as \"ridge-fc\"", i, m.Name))
+			continue
+		case strings.ContainsAny(m.Name, `/\`) || strings.ContainsFunc(m.Name, unicode.IsControl):
+			errs = append(errs, fmt.Errorf("model[%d]: name %q holds a path separator or control character; models are folders of the run folder, so a name must be one plain word", i, m.Name))
+			continue
+		}
+		folder := strings.ToLower(train.FolderName(m.Name))
+		switch other, ok := folders[folder]; {
+		case ok && other == m.Name:
+			errs = append(errs, fmt.Errorf("model[%d]: name %q is used twice", i, m.Name))
+		case ok:
+			errs = append(errs, fmt.Errorf("model[%d]: name %q and model %q would share the folder %q in the run folder; rename one", i, m.Name, other, train.FolderName(m.Name)))
+		default:
+			folders[folder] = m.Name
+		}
+	}
+	return errors.Join(errs...)
 }
 
 // Comparison says how the models of an experiment are compared: the
@@ -256,7 +302,9 @@ func (c Comparison) Validate(models []train.ModelConfig, sweeps []Sweep) error {
 	return nil
 }
 
-// describeTOMLError rewrites go-toml's errors to name the key and its line.
+// describeTOMLError rewrites go-toml's errors to name the key and its
+// line, and to say in words what the key wants and what the file has
+// instead of naming Go types.
 func describeTOMLError(err error) error {
 	var strict *toml.StrictMissingError
 	if errors.As(err, &strict) {
@@ -270,13 +318,72 @@ func describeTOMLError(err error) error {
 	var de *toml.DecodeError
 	if errors.As(err, &de) {
 		row, col := de.Position()
-		key := strings.Join(de.Key(), ".")
-		if key != "" {
-			return fmt.Errorf("line %d, column %d: key %q: %s", row, col, key, strings.TrimPrefix(de.Error(), "toml: "))
+		msg := strings.TrimPrefix(de.Error(), "toml: ")
+		if de.Key() != nil {
+			msg = describeMismatch(msg, fieldType(reflect.TypeFor[Experiment](), de.Key()))
+			return fmt.Errorf("line %d, column %d: key %q: %s", row, col, strings.Join(de.Key(), "."), msg)
 		}
-		return fmt.Errorf("line %d, column %d: %s", row, col, strings.TrimPrefix(de.Error(), "toml: "))
+		return fmt.Errorf("line %d, column %d: %s", row, col, msg)
 	}
 	return err
+}
+
+// tomlMismatch matches go-toml's messages for a value of the wrong type:
+// "cannot decode TOML string into struct field train.CV.Folds of type
+// int", "cannot decode TOML integer into float64", "cannot store a table
+// in a int".
+var tomlMismatch = regexp.MustCompile(`^cannot (?:decode TOML (.+?) into .*|store (?:a|an) (table|array table) in an? .*)$`)
+
+// describeMismatch turns go-toml's message msg about a value that does not
+// fit the key's Go type t (nil when unknown) into "want a whole number,
+// found text"; other messages are returned as they are.
+func describeMismatch(msg string, t reflect.Type) string {
+	m := tomlMismatch.FindStringSubmatch(msg)
+	if m == nil || t == nil {
+		return msg
+	}
+	found := m[1] + m[2]
+	switch found {
+	case "string":
+		found = "text"
+	case "integer":
+		found = "a whole number"
+	case "float":
+		found = "a number with a fraction or exponent"
+	case "boolean", "bool":
+		found = "true or false"
+	case "array":
+		found = "a list"
+	case "table", "inline table":
+		found = "a table"
+	case "array table":
+		found = "a list of tables ([[...]])"
+	default:
+		found = "a " + found
+	}
+	return fmt.Sprintf("want %s, found %s", wantWords(t), found)
+}
+
+// wantWords says in words what a key of Go type t holds.
+func wantWords(t reflect.Type) string {
+	for t.Kind() == reflect.Pointer {
+		t = t.Elem()
+	}
+	switch t.Kind() {
+	case reflect.Int, reflect.Int8, reflect.Int16, reflect.Int32, reflect.Int64,
+		reflect.Uint, reflect.Uint8, reflect.Uint16, reflect.Uint32, reflect.Uint64:
+		return "a whole number"
+	case reflect.Float32, reflect.Float64:
+		return "a number"
+	case reflect.String:
+		return "text in quotes"
+	case reflect.Bool:
+		return "true or false"
+	case reflect.Slice, reflect.Array:
+		return "a list of " + strings.TrimPrefix(wantWords(t.Elem()), "a ")
+	default:
+		return "a table"
+	}
 }
 
 // Design returns what a train.Runner needs of e: its seed, cross-validation

@@ -9,6 +9,10 @@ const (
 	ExperimentFile = "experiment.toml"
 	// CohortFile is the cohort report of skein check --json.
 	CohortFile = "cohort.json"
+	// InputsFile lists every cohort file the run read with the SHA-256 of
+	// its bytes (data.Cohort.Files, as JSON): a resumed run, a unit of a
+	// plan or a merge refuses to go on when one changed.
+	InputsFile = "inputs.json"
 	// VersionsFile records what made the run: Go, the machine, the seed,
 	// skein's and its modules' versions.
 	VersionsFile = "versions.txt"

@@ -73,17 +73,24 @@ func writeNightly(rd *RunDir, report *Report, prev *Folder, rule Drift) (*DriftR
 }
 
 // RecordHistory appends the headline figures of the committed run folder
-// final to the history file at path ("" means HistoryFile beside the run
-// folder) and redraws its plot; it returns the path used.
-func RecordHistory(final, path string) (string, error) {
+// final, a run of the experiment file at expPath, to the history file at
+// path ("" means DefaultHistory(expPath): NAME.history.csv beside the
+// experiment file) and redraws its plot; it returns the path used. Rows
+// record the experiment file's absolute path, so that a history shared by
+// several experiments never joins their runs on one line of the plot.
+func RecordHistory(expPath, final, path string) (string, error) {
 	if path == "" {
-		path = filepath.Join(filepath.Dir(final), HistoryFile)
+		path = DefaultHistory(expPath)
+	}
+	abs, err := filepath.Abs(expPath)
+	if err != nil {
+		return path, err
 	}
 	cur, err := ReadFolder(final)
 	if err != nil {
 		return path, err
 	}
-	if err := UpdateHistory(path, cur, time.Now()); err != nil {
+	if err := UpdateHistory(path, abs, cur, time.Now()); err != nil {
 		return path, fmt.Errorf("history (the run itself is complete in %s): %w", final, err)
 	}
 	return path, nil

@@ -85,6 +85,12 @@ func (p *Permutation) SetDefaults() {
 	}
 }
 
+// MaxPermutations bounds permutation.count and permutation.chunk: every
+// permutation keeps its null scores in memory and, for a chunk, a score
+// column per permutation, so that a mistyped count (1e12) fails at once
+// instead of exhausting memory after training.
+const MaxPermutations = 100_000
+
 // Validate reports the first setting that cannot work, naming its key.
 func (p Permutation) Validate(models []train.ModelConfig) error {
 	if err := enum.Check(p.Blocks); err != nil {
@@ -93,10 +99,15 @@ func (p Permutation) Validate(models []train.ModelConfig) error {
 	switch {
 	case p.Count < 0:
 		return fmt.Errorf("permutation.count: must not be negative, found %d", p.Count)
+	case p.Count > MaxPermutations:
+		return fmt.Errorf("permutation.count: at most %d, found %d (a test of %d permutations resolves p down to 1/%d already)",
+			MaxPermutations, p.Count, MaxPermutations, MaxPermutations+1)
 	case p.Chunk == nil:
 		return errors.New("permutation.chunk: must be at least 1, found nothing")
 	case *p.Chunk < 1:
 		return fmt.Errorf("permutation.chunk: must be at least 1, found %d", *p.Chunk)
+	case *p.Chunk > MaxPermutations:
+		return fmt.Errorf("permutation.chunk: at most %d, found %d", MaxPermutations, *p.Chunk)
 	}
 	for _, name := range p.Models {
 		if !slices.ContainsFunc(models, func(m train.ModelConfig) bool { return m.Name == name }) {

@@ -5,7 +5,9 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path/filepath"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -23,36 +25,26 @@ const (
 	plotHeight = 3.5
 )
 
-// PlotHistory draws the headline r (r within folds) of every model and
-// target of the history over the run dates, one line per model and target
-// named in the key under the plot, and writes it to png as a PNG image
-// (7 × 3.5 in at 150 dpi) and, when svg is not nil, to svg as SVG. Rows
-// with an undefined r are left out of the lines. It is an error to pass
-// no rows.
+// PlotHistory draws the headline r (r within folds) of every experiment,
+// model and target of the history over the run dates, one line per
+// experiment, model and target (rows of different experiments never share
+// a line), and writes it to png as a PNG image (7 × 3.5 in at 150 dpi)
+// and, when svg is not nil, to svg as SVG. The key under the plot names
+// the model and target, and the experiment file too when the history
+// holds more than one. Rows with an undefined r are left out of the
+// lines. It is an error to pass no rows.
 func PlotHistory(png, svg io.Writer, rows []HistoryRow) error {
 	if len(rows) == 0 {
 		return errors.New("runs: no history to plot")
 	}
-	series := make(map[[2]string]plotter.XYs)
-	var keys [][2]string
-	for _, r := range rows {
-		k := [2]string{r.Model, r.Target}
-		if _, ok := series[k]; !ok {
-			keys = append(keys, k)
-			series[k] = plotter.XYs{}
-		}
-		if !math.IsNaN(r.RWithinFolds) {
-			series[k] = append(series[k], plotter.XY{X: float64(r.Date.Unix()), Y: r.RWithinFolds})
-		}
-	}
-	sortKeys(keys)
+	keys, series, labels := historyLines(rows)
 	p := figure.NewPlot("r within folds of each run (research software, not a diagnostic device)", "run date (UTC)", "r within folds")
 	p.X.Tick.Marker = plot.TimeTicks{Format: "2006-01-02"}
 	var key figure.Key
 	for i, k := range keys {
 		xys := series[k]
 		sort.SliceStable(xys, func(a, b int) bool { return xys[a].X < xys[b].X })
-		if err := addLine(p, &key, i, k[0]+" · "+k[1], xys); err != nil {
+		if err := addLine(p, &key, i, labels[i], xys); err != nil {
 			return err
 		}
 	}
@@ -62,6 +54,52 @@ func PlotHistory(png, svg io.Writer, rows []HistoryRow) error {
 	}
 	padAxes(p)
 	return writePlot(png, svg, p, key)
+}
+
+// historyKey is one line of the history plot.
+type historyKey struct{ experiment, model, target string }
+
+// historyLines gathers the rows of a history into the lines of its plot,
+// one per experiment, model and target, ordered by them: the points (run
+// date in Unix seconds, r within folds; undefined r left out) and the
+// legend label of each.
+func historyLines(rows []HistoryRow) ([]historyKey, map[historyKey]plotter.XYs, []string) {
+	series := make(map[historyKey]plotter.XYs)
+	var keys []historyKey
+	experiments := make(map[string]bool)
+	for _, r := range rows {
+		k := historyKey{r.Experiment, r.Model, r.Target}
+		experiments[r.Experiment] = true
+		if _, ok := series[k]; !ok {
+			keys = append(keys, k)
+			series[k] = plotter.XYs{}
+		}
+		if !math.IsNaN(r.RWithinFolds) {
+			series[k] = append(series[k], plotter.XY{X: float64(r.Date.Unix()), Y: r.RWithinFolds})
+		}
+	}
+	sort.SliceStable(keys, func(i, j int) bool {
+		a, b := keys[i], keys[j]
+		if a.experiment != b.experiment {
+			return a.experiment < b.experiment
+		}
+		if a.model != b.model {
+			return a.model < b.model
+		}
+		return a.target < b.target
+	})
+	labels := make([]string, len(keys))
+	for i, k := range keys {
+		labels[i] = k.model + " · " + k.target
+		if len(experiments) > 1 {
+			name := "(experiment not recorded)"
+			if k.experiment != "" {
+				name = strings.TrimSuffix(filepath.Base(k.experiment), filepath.Ext(k.experiment))
+			}
+			labels[i] = name + " · " + labels[i]
+		}
+	}
+	return keys, series, labels
 }
 
 // PlotSampleSize draws the sample-size curve: for every model and target,

@@ -2,7 +2,6 @@ package experiment
 
 import (
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
@@ -14,9 +13,6 @@ import (
 	"strings"
 	"time"
 
-	"github.com/pelletier/go-toml/v2"
-
-	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/train"
 )
@@ -109,24 +105,17 @@ func DefaultOut(path, name string, now time.Time) string {
 // model.ErrDiverged.
 func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Outcome, error) {
 	say := messages(opt.Messages, "skein run")
-	if len(exp.Models) == 0 {
-		return nil, badInputf("%s: no [[model]] to run", path)
-	}
-	cohort, cohortReport, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
-	if err != nil {
-		return nil, badInput(err)
-	}
 	if opt.Out == "" && opt.Resume {
 		return nil, badInput(errors.New("--resume needs the --out folder of the interrupted run"))
 	}
-	exp, variants, err := exp.Expand()
-	if err != nil {
-		return nil, badInputf("%s: %w", path, err)
+	if len(exp.Models) == 0 {
+		return nil, badInputf("%s: no [[model]] to run", path)
 	}
-	resolved, err := toml.Marshal(exp)
+	in, err := CheckInputs(path, exp)
 	if err != nil {
 		return nil, err
 	}
+	exp, variants, cohort := in.Experiment, in.Variants, in.Cohort
 	var rd *RunDir
 	if opt.Out == "" {
 		rd, err = CreateRunDir(DefaultOut(path, exp.Name, time.Now()))
@@ -136,18 +125,20 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	if err != nil {
 		return nil, badInput(err)
 	}
-	if err := rd.CheckResume(ExperimentFile, resolved); err != nil {
+	defer rd.Close()
+	if err := rd.CheckResume(ExperimentFile, in.Resolved); err != nil {
 		return nil, badInput(err)
 	}
-	if err := rd.WriteFile(ExperimentFile, resolved); err != nil {
+	if err := checkInputsUnchanged(rd, in, "finished units", "pass --force to start over"); err != nil {
 		return nil, err
 	}
-	cohortJSON, err := json.MarshalIndent(cohortReport, "", "  ")
-	if err != nil {
-		return nil, err
-	}
-	if err := rd.WriteFile(CohortFile, cohortJSON); err != nil {
-		return nil, err
+	for _, f := range []struct {
+		name    string
+		content []byte
+	}{{ExperimentFile, in.Resolved}, {CohortFile, in.CohortJSON}, {InputsFile, in.InputsJSON}} {
+		if err := rd.WriteFile(f.name, f.content); err != nil {
+			return nil, err
+		}
 	}
 	logOut, err := os.OpenFile(rd.WorkPath(LogFile), os.O_CREATE|os.O_WRONLY|os.O_APPEND, 0o644)
 	if err != nil {
@@ -177,21 +168,25 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 		log.Error(step+" failed", "error", err.Error())
 		return err
 	}
+	interrupted := func(err error) error {
+		if !errors.Is(err, context.Canceled) {
+			return err
+		}
+		return &interruptedError{fmt.Sprintf("interrupted; finished units are kept in %s: resume with skein run %s --resume --out %s",
+			rd.Partial, ShellQuote(path), ShellQuote(rd.Final)), err}
+	}
 	res, err := runner.Run(ctx)
 	if err != nil {
 		fail("run", err)
-		switch {
-		case errors.Is(err, context.Canceled):
-			return nil, fmt.Errorf("%w; finished units are kept in %s: rerun with --resume --out %s", err, rd.Partial, rd.Final)
-		case errors.Is(err, model.ErrDiverged):
+		if errors.Is(err, model.ErrDiverged) {
 			return nil, fmt.Errorf("%w (nothing written to %s; the work folder %s keeps finished units)", err, rd.Final, rd.Partial)
 		}
-		return nil, err
+		return nil, interrupted(err)
 	}
 	if exp.Output.Refit {
 		say("refitting on all participants")
 		if err := runner.Refit(ctx); err != nil {
-			return nil, fail("refit", err)
+			return nil, interrupted(fail("refit", err))
 		}
 	}
 	if exp.Permutation.Count > 0 {
@@ -199,7 +194,7 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	}
 	rep, err := Evaluate(ctx, exp, runner, res, opt.Bins)
 	if err != nil {
-		return nil, fail("evaluation", err)
+		return nil, interrupted(fail("evaluation", err))
 	}
 	oc := &Outcome{Dir: rd.Final, Report: rep}
 	if oc.Verdict, err = writeResults(rd, exp, variants, rep, opt.Against); err != nil {
@@ -211,6 +206,16 @@ func Run(ctx context.Context, path string, exp *Experiment, opt RunOptions) (*Ou
 	log.Info("run finished")
 	return oc, rd.Commit()
 }
+
+// interruptedError is a run stopped by its context (Ctrl-C, SIGTERM): its
+// message says how to resume, and it wraps the context's error.
+type interruptedError struct {
+	msg string
+	err error
+}
+
+func (e *interruptedError) Error() string { return e.msg }
+func (e *interruptedError) Unwrap() error { return e.err }
 
 // writeResults writes into the work folder of rd everything a run
 // concludes besides its checkpoints and models: the report's files, the

@@ -18,11 +18,13 @@ import (
 // a sibling work folder, Final + ".partial", and the work folder becomes
 // Final only when the run has finished, so a failed or interrupted run
 // never touches earlier results. An interrupted run's work folder keeps
-// its finished units for OpenRunDir's resume.
+// its finished units for OpenRunDir's resume. While a RunDir is open its
+// work folder is locked (see OpenRunDir); Close or Commit releases it.
 type RunDir struct {
 	Final   string
 	Partial string
 	force   bool
+	lock    *folderLock
 }
 
 // ErrRunExists is wrapped by OpenRunDir's error when the output folder
@@ -33,21 +35,43 @@ var ErrRunExists = errors.New("output folder exists")
 // An existing final folder is an error unless force is set, in which case
 // it is replaced only when the new run commits. An existing work folder
 // (an interrupted run) is an error unless resume is set, which continues
-// it, or force, which starts over.
+// it, or force, which starts over. The work folder is locked for this
+// process alone (flock(2) on its lock file, released when the process
+// ends, however it ends): a work folder another process holds, a running
+// run or units of a plan, is an error saying so, whatever force and
+// resume say, and nothing is created or removed.
 func OpenRunDir(final string, force, resume bool) (*RunDir, error) {
+	return openRunDir(final, force, resume, false)
+}
+
+// openRunDir is OpenRunDir; with shared, the lock is shared with other
+// shared holders (the units of a plan, which run side by side) and
+// excludes only exclusive ones.
+func openRunDir(final string, force, resume, shared bool) (*RunDir, error) {
 	d := &RunDir{Final: filepath.Clean(final), force: force}
 	d.Partial = d.Final + ".partial"
 	if _, err := os.Stat(d.Final); err == nil && !force {
 		return nil, fmt.Errorf("%s: %w; choose another --out or pass --force to replace it", d.Final, ErrRunExists)
 	}
 	switch _, err := os.Stat(d.Partial); {
-	case err == nil && resume:
-	case err == nil && force:
-		if err := os.RemoveAll(d.Partial); err != nil {
+	case err == nil:
+		lock, err := lockWorkFolder(d.Partial, shared)
+		if err != nil {
 			return nil, err
 		}
-	case err == nil:
-		return nil, fmt.Errorf("%s holds an interrupted run: pass --resume to finish it or --force to start over", d.Partial)
+		switch {
+		case resume:
+			d.lock = lock
+			return d, os.MkdirAll(filepath.Join(d.Partial, "units"), 0o755)
+		case !force:
+			lock.release()
+			return nil, fmt.Errorf("%s holds an interrupted run: pass --resume to finish it or --force to start over", d.Partial)
+		}
+		err = os.RemoveAll(d.Partial)
+		lock.release()
+		if err != nil {
+			return nil, err
+		}
 	case !errors.Is(err, fs.ErrNotExist):
 		return nil, err
 	case resume:
@@ -56,6 +80,11 @@ func OpenRunDir(final string, force, resume bool) (*RunDir, error) {
 	if err := os.MkdirAll(filepath.Join(d.Partial, "units"), 0o755); err != nil {
 		return nil, err
 	}
+	lock, err := lockWorkFolder(d.Partial, shared)
+	if err != nil {
+		return nil, err
+	}
+	d.lock = lock
 	return d, nil
 }
 
@@ -96,10 +125,19 @@ func CreateRunDir(base string) (*RunDir, error) {
 		if err := os.Mkdir(filepath.Join(d.Partial, "units"), 0o755); err != nil {
 			return nil, err
 		}
+		lock, err := lockWorkFolder(d.Partial, false)
+		if err != nil {
+			return nil, err
+		}
+		d.lock = lock
 		return d, nil
 	}
 	return nil, fmt.Errorf("%s: %w, and so do the names with suffixes -2 to -%d; pass --out", base, ErrRunExists, maxRunSuffix)
 }
+
+// Close releases the lock of the work folder, leaving it as it is; a
+// committed RunDir has no lock left. It may be called more than once.
+func (d *RunDir) Close() { d.lock.release() }
 
 // WriteFile writes name (a path relative to the run folder) atomically in
 // the work folder: into a temporary file, then renamed.
@@ -150,8 +188,10 @@ func (d *RunDir) CheckResume(resolvedName string, resolved []byte) error {
 }
 
 // Commit makes the work folder the run's folder, replacing an earlier one
-// when the run was opened with force.
+// when the run was opened with force, and releases the lock (its file is
+// removed from the run folder).
 func (d *RunDir) Commit() error {
+	defer d.Close()
 	var old string
 	if _, err := os.Stat(d.Final); err == nil {
 		if !d.force {
@@ -166,6 +206,9 @@ func (d *RunDir) Commit() error {
 		if old != "" {
 			os.Rename(old, d.Final)
 		}
+		return err
+	}
+	if err := os.Remove(filepath.Join(d.Final, lockName)); err != nil && !errors.Is(err, fs.ErrNotExist) {
 		return err
 	}
 	if old != "" {

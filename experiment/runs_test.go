@@ -166,7 +166,7 @@ func TestHistoryAppendReadPlot(t *testing.T) {
 		run := fakeRun(filepath.Join(dir, "night"),
 			map[string]float64{"ridge/recall": 0.3 + 0.02*float64(night), "mean/recall": math.NaN()},
 			map[string]float64{"ridge/recall": 5, "mean/recall": 6}, nil)
-		if err := UpdateHistory(path, run, start.AddDate(0, 0, night)); err != nil {
+		if err := UpdateHistory(path, "/lab/memory.toml", run, start.AddDate(0, 0, night)); err != nil {
 			t.Fatal(err)
 		}
 	}
@@ -174,7 +174,7 @@ func TestHistoryAppendReadPlot(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(rows) != 14 || !rows[13].Date.Equal(start.AddDate(0, 0, 6)) || rows[13].Model != "ridge" ||
+	if len(rows) != 14 || !rows[13].Date.Equal(start.AddDate(0, 0, 6)) || rows[13].Model != "ridge" || rows[13].Experiment != "/lab/memory.toml" ||
 		math.Abs(rows[13].RWithinFolds-0.42) > 1e-12 || !math.IsNaN(rows[12].RWithinFolds) || !math.IsNaN(rows[13].PermutationP) || rows[13].N != 50 {
 		t.Fatalf("history read back: %d rows, last %+v", len(rows), rows[len(rows)-1])
 	}
@@ -195,13 +195,70 @@ func TestHistoryAppendReadPlot(t *testing.T) {
 	if err := AppendHistory(path, nil); err == nil || !strings.Contains(err.Error(), "history.csv: line 1: want the header") {
 		t.Errorf("foreign file: %v", err)
 	}
-	bad := "date,run,model,target,r_within_folds,mae,permutation_p,n\n2026-03-01,n1,ridge,recall,0.3,5,,50\n"
+	bad := "date,experiment,run,model,target,r_within_folds,mae,permutation_p,n\n2026-03-01,/e.toml,n1,ridge,recall,0.3,5,,50\n"
 	if _, err := ReadHistory(strings.NewReader(bad), "h.csv"); err == nil || !strings.Contains(err.Error(), `h.csv: line 2, column 1 ("date")`) {
 		t.Errorf("bad date: %v", err)
 	}
 	older := "date,run,model,target,pearson_r,mae,permutation_p,n\n"
 	if _, err := ReadHistory(strings.NewReader(older), "h.csv"); err == nil || !strings.Contains(err.Error(), "move it aside") {
 		t.Errorf("history of an older skein: %v", err)
+	}
+}
+
+// TestHistoryPerExperiment: each experiment file has its own default
+// history beside it; a history shared by two experiments keeps their
+// rows apart by experiment; a history written before the experiment
+// column is read (experiment empty) and rewritten with the column.
+func TestHistoryPerExperiment(t *testing.T) {
+	for _, tc := range []struct {
+		path, want string
+	}{
+		{"/lab/memory/experiment.toml", "/lab/memory/experiment.history.csv"},
+		{"cohort/demo.toml", "cohort/demo.history.csv"},
+		{"fluency.v2.toml", "fluency.v2.history.csv"},
+	} {
+		if got := DefaultHistory(tc.path); got != tc.want {
+			t.Errorf("DefaultHistory(%q) = %q, want %q", tc.path, got, tc.want)
+		}
+	}
+	dir := t.TempDir()
+	path := filepath.Join(dir, "shared.csv")
+	legacy := "date,run,model,target,r_within_folds,mae,permutation_p,n\n2026-02-01T02:00:00Z,old,ridge,recall,0.25,5,,40\n"
+	if err := os.WriteFile(path, []byte(legacy), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	start := time.Date(2026, 3, 1, 2, 0, 0, 0, time.UTC)
+	for i, exp := range []string{"/lab/a.toml", "/lab/b.toml", "/lab/a.toml"} {
+		run := fakeRun(filepath.Join(dir, "night"), map[string]float64{"ridge/recall": 0.3}, map[string]float64{"ridge/recall": 5}, nil)
+		if err := UpdateHistory(path, exp, run, start.AddDate(0, 0, i)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	raw, _ := os.ReadFile(path)
+	want := "date,experiment,run,model,target,r_within_folds,mae,permutation_p,n\n" +
+		"2026-02-01T02:00:00Z,,old,ridge,recall,0.25,5,,40\n" +
+		"2026-03-01T02:00:00Z,/lab/a.toml,night,ridge,recall,0.3,5,,50\n" +
+		"2026-03-02T02:00:00Z,/lab/b.toml,night,ridge,recall,0.3,5,,50\n" +
+		"2026-03-03T02:00:00Z,/lab/a.toml,night,ridge,recall,0.3,5,,50\n"
+	if string(raw) != want {
+		t.Errorf("history file\n%s\nwant\n%s", raw, want)
+	}
+	rows, err := ReadHistoryFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, series, labels := historyLines(rows)
+	wantLabels := []string{"(experiment not recorded) · ridge · recall", "a · ridge · recall", "b · ridge · recall"}
+	if !slices.Equal(labels, wantLabels) {
+		t.Errorf("plot lines %q, want %q", labels, wantLabels)
+	}
+	for _, tc := range []struct {
+		experiment string
+		points     int
+	}{{"", 1}, {"/lab/a.toml", 2}, {"/lab/b.toml", 1}} {
+		if got := len(series[historyKey{tc.experiment, "ridge", "recall"}]); got != tc.points {
+			t.Errorf("line of %q has %d points, want %d", tc.experiment, got, tc.points)
+		}
 	}
 }
 

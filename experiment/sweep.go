@@ -5,8 +5,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"reflect"
 	"slices"
-	"strconv"
 	"strings"
 
 	"github.com/pelletier/go-toml/v2"
@@ -250,7 +250,8 @@ func decodeModel(table map[string]any) (train.ModelConfig, error) {
 		}
 		var de *toml.DecodeError
 		if errors.As(err, &de) {
-			return train.ModelConfig{}, fmt.Errorf("key %q: %s", strings.Join(de.Key(), "."), strings.TrimPrefix(de.Error(), "toml: "))
+			msg := describeMismatch(strings.TrimPrefix(de.Error(), "toml: "), fieldType(reflect.TypeFor[train.ModelConfig](), de.Key()))
+			return train.ModelConfig{}, fmt.Errorf("key %q: %s", strings.Join(de.Key(), "."), msg)
 		}
 		return train.ModelConfig{}, err
 	}
@@ -261,14 +262,14 @@ func decodeModel(table map[string]any) (train.ModelConfig, error) {
 	return cfg, nil
 }
 
+// variantValue writes a swept value for a variant's name: a string as it
+// is, anything else as TOML writes it (settingValue), so that a table
+// reads {kind = "e2n"} and never as a Go map.
 func variantValue(v any) string {
-	switch x := v.(type) {
-	case float64:
-		return strconv.FormatFloat(x, 'g', -1, 64)
-	case string:
+	if x, ok := v.(string); ok {
 		return x
 	}
-	return fmt.Sprint(v)
+	return settingValue(v)
 }
 
 // A SweepRank is one variant's inner-validation score.

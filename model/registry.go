@@ -65,6 +65,13 @@ type Kind struct {
 	// fuses structure with function, the question a report answers
 	// first. Nil means neither, as for the mean predictor.
 	Inputs func(s Settings) (functional, structural bool)
+	// MinTrain, when not nil, returns the fewest participants (groups,
+	// when the cohort has a group column) a training set must hold for
+	// the kind's Fit with settings s, and the key that sets it, such as
+	// 5 and "model.ridge.inner_folds"; nil, or n ≤ 0, asks for nothing
+	// beyond the two participants every fit needs. A run checks it
+	// against every training fold before it trains anything.
+	MinTrain func(s Settings) (n int, key string)
 	// Describe, when not nil, summarizes the settings in a few words for a
 	// report's table of models, such as "2 branches, up to 100 epochs".
 	Describe func(s Settings) string

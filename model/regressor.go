@@ -83,8 +83,17 @@ type Interpreter interface {
 	// over ps; for a kind with several importance views
 	// (Kind.ImportanceViews), one map per view and target, view after
 	// view. The runner calls it on each fitted model with its test fold.
+	// A kind whose importance is a statistic over ps (a covariance) returns
+	// an error wrapping ErrTooFewToExplain when ps is too small for it;
+	// the runner then keeps no map for that fold.
 	EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error)
 }
+
+// ErrTooFewToExplain is wrapped by an Interpreter's error when the
+// participants it was given are too few for its importance measure, such
+// as the single test participant of a leave-one-out fold for a
+// covariance.
+var ErrTooFewToExplain = errors.New("too few participants for edge importance")
 
 // A ReferenceInterpreter is an Interpreter whose importance can be
 // measured from reference inputs, for a kind whose inputs are transformed

@@ -72,15 +72,23 @@ func (c *Checkpoints) path(name string, u Unit) string {
 }
 
 // unitPath names a unit in file paths: NAME/rR-fF with 1-based repeat and
-// fold, the model name made safe for a file name.
+// fold, the model name made safe for a file name (FolderName).
 func unitPath(name string, u Unit) string {
-	safe := strings.Map(func(r rune) rune {
+	return filepath.Join(FolderName(name), "r"+strconv.Itoa(u.Repeat+1)+"-f"+strconv.Itoa(u.Fold+1))
+}
+
+// FolderName returns the name of the folders and files of model name in a
+// run folder (models/NAME/, units/NAME/, ...): name with every '/', '\',
+// ':' and control character replaced by '_'. Two models whose folder
+// names are equal, or equal but for case, would share their files; the
+// experiment file refuses such names before a run starts.
+func FolderName(name string) string {
+	return strings.Map(func(r rune) rune {
 		if r == '/' || r == '\\' || r == ':' || r < ' ' {
 			return '_'
 		}
 		return r
 	}, name)
-	return filepath.Join(safe, "r"+strconv.Itoa(u.Repeat+1)+"-f"+strconv.Itoa(u.Fold+1))
 }
 
 func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {

@@ -1,6 +1,7 @@
 package train
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -99,15 +100,17 @@ func (cv CV) folds(seed int64, c *data.Cohort) Folds {
 	return f
 }
 
-// checkAgainst reports settings that name what the cohort lacks.
+// checkAgainst reports every setting that names what the cohort lacks:
+// a cv.stratify target or cv.confounds covariate, joined (errors.Join).
 func (cv CV) checkAgainst(c *data.Cohort) error {
+	var errs []error
 	if cv.Stratify != "" && !slices.Contains(c.Targets, cv.Stratify) {
-		return fmt.Errorf("cv.stratify: %q is not a target of the cohort (have %v)", cv.Stratify, c.Targets)
+		errs = append(errs, fmt.Errorf("cv.stratify: %q is not a target of the cohort (targets: %s)", cv.Stratify, wordList(c.Targets)))
 	}
 	for _, name := range cv.Confounds {
 		if !slices.Contains(c.Covariates, name) {
-			return fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
+			errs = append(errs, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (covariates: %s)", name, wordList(c.Covariates)))
 		}
 	}
-	return nil
+	return errors.Join(errs...)
 }

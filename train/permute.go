@@ -226,7 +226,7 @@ func permutedCohort(c *data.Cohort, batch [][]int, confounds []string) (*data.Co
 	cols := make([]int, len(confounds))
 	for j, name := range confounds {
 		if cols[j] = slices.Index(c.Covariates, name); cols[j] < 0 {
-			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
+			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (covariates: %s)", name, wordList(c.Covariates))
 		}
 	}
 	pc := &data.Cohort{Regions: c.Regions}

@@ -277,7 +277,7 @@ func covariateMatrix(c *data.Cohort, names []string) (*mat.Dense, error) {
 	cols := make([]int, len(names))
 	for k, name := range names {
 		if cols[k] = slices.Index(c.Covariates, name); cols[k] < 0 {
-			return nil, fmt.Errorf("covariate %q is not in the cohort (have %v)", name, c.Covariates)
+			return nil, fmt.Errorf("covariate %q is not in the cohort (covariates: %s)", name, wordList(c.Covariates))
 		}
 	}
 	cov := mat.NewDense(len(c.Participants), len(names), nil)

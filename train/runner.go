@@ -560,7 +560,15 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 		}
 	}
 	if in, ok := reg.(model.Interpreter); ok && !r.scoresOnly {
-		if out.importance, err = fd.edgeImportance(in); err != nil {
+		switch out.importance, err = fd.edgeImportance(in); {
+		case errors.Is(err, model.ErrTooFewToExplain):
+			// A test fold of one (leave-one-out) has no covariance:
+			// this fold adds no map, the others still do.
+			out.importance = nil
+			if r.Logger != nil {
+				r.Logger.Info("no edge importance for this fold", "model", cfg.Name, "repeat", unit.Repeat+1, "fold", unit.Fold+1, "reason", err.Error())
+			}
+		case err != nil:
 			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
 		}
 	}
@@ -695,7 +703,7 @@ func scoresAndConfounds(cv CV, c *data.Cohort) (y, cov *mat.Dense, err error) {
 			}
 		}
 		if cols[k] < 0 {
-			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
+			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (covariates: %s)", name, wordList(c.Covariates))
 		}
 	}
 	cov = mat.NewDense(n, len(cols), nil)

@@ -25,20 +25,14 @@ func cmdCheck(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	exp, err := experiment.ReadExperiment(positional[0])
-	if err != nil {
-		return badInput(err)
-	}
-	_, report, err := data.Check(exp.Cohort, exp.Preprocess, exp.Dir)
-	if report != nil {
-		if werr := writeReport(cio, report, *asJSON); werr != nil {
+	// The same checks as skein run's, all problems at once.
+	in, err := experiment.CheckFile(positional[0])
+	if in.Report != nil {
+		if werr := writeReport(cio, in.Report, *asJSON); werr != nil {
 			return werr
 		}
 	}
-	if err != nil {
-		return badInput(err)
-	}
-	return nil
+	return err
 }
 
 func writeReport(cio commandIO, r *data.Report, asJSON bool) error {

@@ -159,7 +159,8 @@ func TestCompareShowsExactlyTheChanges(t *testing.T) {
 
 // TestRunAgainstDrift: an identical rerun keeps to the drift rule; a rerun
 // whose scores were shuffled breaks it with exit code 4, its results still
-// committed; every run adds its rows to the history beside the experiment.
+// committed; every run adds its rows to the history beside the experiment
+// file (nightly.history.csv), never beside the run folders.
 func TestRunAgainstDrift(t *testing.T) {
 	t.Parallel()
 	dir := nightlyCohort(t, synth.Config{N: 80, P: 10, Seed: 8, Ceiling: 0.9})
@@ -219,16 +220,19 @@ name = "ridge"
 		t.Error("the drifting run was not committed")
 	}
 
-	raw, err := os.ReadFile(filepath.Join(root, "history.csv"))
+	raw, err := os.ReadFile(filepath.Join(dir, "nightly.history.csv"))
 	if err != nil {
 		t.Fatal(err)
 	}
 	lines := strings.Split(strings.TrimSpace(string(raw)), "\n")
-	if lines[0] != "date,run,model,target,r_within_folds,mae,permutation_p,n" || len(lines) != 1+3*2 {
-		t.Errorf("history.csv: want a header and 3 nights × 2 targets, found\n%s", raw)
+	if lines[0] != "date,experiment,run,model,target,r_within_folds,mae,permutation_p,n" || len(lines) != 1+3*2 {
+		t.Errorf("nightly.history.csv: want a header and 3 nights × 2 targets, found\n%s", raw)
 	}
-	if png, err := os.ReadFile(filepath.Join(root, "history.png")); err != nil || !bytes.HasPrefix(png, []byte("\x89PNG")) {
-		t.Errorf("history.png: %v", err)
+	if png, err := os.ReadFile(filepath.Join(dir, "nightly.history.png")); err != nil || !bytes.HasPrefix(png, []byte("\x89PNG")) {
+		t.Errorf("nightly.history.png: %v", err)
+	}
+	if entries, _ := os.ReadDir(root); len(entries) != 3 {
+		t.Errorf("the runs' folder holds %d entries, want the 3 run folders alone (no history beside them)", len(entries))
 	}
 
 	code, _, stderr = runSkein(t, "run", exp, "--out", night("4"), "--against", filepath.Join(root, "nothing"))

@@ -18,6 +18,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 	"syscall"
 
 	"github.com/skein-neuro/skein/eval"
@@ -59,7 +60,9 @@ func commands() []command {
 		{"check", "load and check the cohort of an experiment file",
 			"Loads the [cohort] of the experiment file, checks every file and prints a summary: " +
 				"included and excluded participants with reasons, regions, per-modality statistics, " +
-				"scores, covariate codings and outlier flags. Nothing is trained or written.", cmdCheck},
+				"scores, covariate codings and outlier flags. It also checks every setting against the " +
+				"cohort as skein run does (folds, inner validation, columns, model names), lists every " +
+				"problem at once and exits with code 2 when there is one. Nothing is trained or written.", cmdCheck},
 		{"run", "cross-validate every model of an experiment file",
 			"Checks the cohort of the experiment file, trains and tests every model under its " +
 				"repeated k-fold cross-validation (all models on the same splits), runs the " +
@@ -134,12 +137,32 @@ func run(ctx context.Context, args []string, cio commandIO) int {
 		if err == nil || errors.Is(err, flag.ErrHelp) {
 			return exitOK
 		}
-		fmt.Fprintf(cio.stderr, "skein %s: %v\n", c.name, err)
+		printError(cio.stderr, c.name, err)
 		return exitCode(err)
 	}
 	fmt.Fprintf(cio.stderr, "skein: unknown command %q\n", args[0])
 	usage(cio.stderr)
 	return exitBadInput
+}
+
+// printError writes err as "skein NAME: message", or, when err joins
+// several problems (errors.Join gives one a line), as a count and one
+// problem a line.
+func printError(w io.Writer, name string, err error) {
+	msg := err.Error()
+	if errors.Is(err, context.Canceled) {
+		// A command stopped by Ctrl-C or SIGTERM whose error says no more.
+		msg = strings.ReplaceAll(msg, context.Canceled.Error(), "interrupted")
+	}
+	lines := strings.Split(strings.TrimRight(msg, "\n"), "\n")
+	if len(lines) == 1 {
+		fmt.Fprintf(w, "skein %s: %s\n", name, lines[0])
+		return
+	}
+	fmt.Fprintf(w, "skein %s: %d problems:\n", name, len(lines))
+	for _, l := range lines {
+		fmt.Fprintf(w, "  - %s\n", l)
+	}
 }
 
 func usage(w io.Writer) {

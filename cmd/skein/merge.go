@@ -33,12 +33,13 @@ func cmdMerge(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	if oc.ViewsErr != nil {
-		fmt.Fprintf(cio.stderr, "skein merge: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", oc.ViewsErr, oc.Dir)
-	}
 	if err := oc.Report.WriteText(cio.stdout); err != nil {
 		return err
 	}
 	fmt.Fprintf(cio.stdout, "\nMerged %d units; results in %s (the same tables in summary.md)\n", units, oc.Dir)
+	if oc.ViewsErr != nil {
+		return fmt.Errorf("the figures and report.html could not be written: %w; the results are complete in %s: draw them again with skein report %s",
+			oc.ViewsErr, oc.Dir, experiment.ShellQuote(oc.Dir))
+	}
 	return nil
 }

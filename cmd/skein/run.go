@@ -21,11 +21,11 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	out := fs.String("out", "", "run folder to create (default runs/NAME-YYYYMMDD-HHMMSS)")
 	jobs := fs.Int("jobs", 0, "units trained at once (default: from the number of units and cores); results do not depend on it")
 	force := fs.Bool("force", false, "replace an existing run folder once the new run has finished")
-	resume := fs.Bool("resume", false, "finish an interrupted run in the same folder")
+	resume := fs.Bool("resume", false, "finish an interrupted run in the same folder (refused when the experiment or a cohort file changed since)")
 	bins := fs.Int("bins", eval.DefaultBins, "equal-frequency bins for NMI and AMI")
 	unit := fs.Int("unit", 0, "run only unit `K` of the plan in --out (skein plan); default $SLURM_ARRAY_TASK_ID when --out holds a plan")
 	against := fs.String("against", "", "compare with the earlier run folder `DIR` and apply the experiment's [drift] rule (exit 4 when broken)")
-	history := fs.String("history", "", "history `FILE` the run's headline figures are appended to (default history.csv beside the run folder)")
+	history := fs.String("history", "", "history `FILE` the run's headline figures are appended to, its plot beside it as .png (default NAME.history.csv beside the experiment file NAME.toml)")
 	noHistory := fs.Bool("no-history", false, "do not append to the history file")
 	fs.Usage = func() {
 		describe(cio.stderr, "run")
@@ -87,21 +87,28 @@ func cmdRun(ctx context.Context, cio commandIO, args []string) error {
 	if err != nil {
 		return err
 	}
-	if oc.ViewsErr != nil {
-		fmt.Fprintf(cio.stderr, "skein run: the figures and report failed (%v); the results are kept: rerun \"skein report %s\"\n", oc.ViewsErr, oc.Dir)
-	}
 	if err := oc.Report.WriteText(cio.stdout); err != nil {
 		return err
 	}
 	fmt.Fprintf(cio.stdout, "\nResults in %s (the same tables in summary.md, figures in report.html)\n", oc.Dir)
 	if !*noHistory {
-		path, err := experiment.RecordHistory(oc.Dir, *history)
+		path, err := experiment.RecordHistory(expPath, oc.Dir, *history)
 		if err != nil {
 			return err
 		}
 		fmt.Fprintf(cio.stderr, "skein run: history %s, plot %s\n", path, experiment.HistoryPlotPath(path))
 	}
-	return driftError(cio, oc.Verdict, opt.Against, oc.Dir)
+	err = driftError(cio, oc.Verdict, opt.Against, oc.Dir)
+	if oc.ViewsErr != nil {
+		// The results are committed, but the run is not what was asked
+		// for: a script must not take it for a success.
+		if err != nil {
+			fmt.Fprintf(cio.stderr, "skein run: %v\n", err)
+		}
+		return fmt.Errorf("the figures and report.html could not be written: %w; the results are complete in %s: draw them again with skein report %s",
+			oc.ViewsErr, oc.Dir, experiment.ShellQuote(oc.Dir))
+	}
+	return err
 }
 
 // driftError returns the exit-4 error for a broken drift rule, after

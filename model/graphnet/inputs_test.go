@@ -1,11 +1,13 @@
 package graphnet
 
 import (
+	"context"
 	"math"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
 
+	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/model/graphnet/internal/ops"
 )
 
@@ -173,5 +175,34 @@ func TestEdgeImportanceFrom(t *testing.T) {
 	}
 	if _, err := net.EdgeImportanceFrom(ps, ref[:2]); err == nil {
 		t.Error("2 references for 6 participants: no error")
+	}
+}
+
+// TestBatchSizeBeyondTheData: a batch_size far beyond the participants
+// (1e9) trains and explains in one batch, as batch_size = n does, with no
+// allocation sized by the setting (it would take 8 GB here).
+func TestBatchSizeBeyondTheData(t *testing.T) {
+	const p = 5
+	ps, y := plantedCohort(12, p, 0.5, 3)
+	for _, tc := range []struct {
+		name  string
+		batch int
+	}{{"batch = n", 12}, {"batch = 1e9", 1_000_000_000}} {
+		t.Run(tc.name, func(t *testing.T) {
+			cfg := Config{
+				Branches: []BranchConfig{{Layers: layers(LayerConfig{Kind: LayerN2G, Size: 2, Activation: ActivationNone})}},
+				DType:    Float64, OutputInit: OutputRandom, BatchSize: new(tc.batch), Epochs: new(2),
+			}
+			net, err := New(cfg, p, 1, 4)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if err := net.Fit(context.Background(), model.Dataset{Participants: ps, Y: y}, model.Dataset{}); err != nil {
+				t.Fatal(err)
+			}
+			if _, err := net.EdgeImportance(ps); err != nil {
+				t.Fatal(err)
+			}
+		})
 	}
 }

@@ -70,7 +70,7 @@ func (n *Network) EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense,
 		sums[k] = make([]float64, pp)
 	}
 	for start := 0; start < set.len(); start += *n.cfg.BatchSize {
-		idx := make([]int, 0, *n.cfg.BatchSize)
+		idx := make([]int, 0, min(*n.cfg.BatchSize, set.len()))
 		for i := start; i < min(start+*n.cfg.BatchSize, set.len()); i++ {
 			idx = append(idx, i)
 		}

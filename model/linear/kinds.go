@@ -52,6 +52,13 @@ func init() {
 			}
 			return nil
 		},
+		MinTrain: func(s model.Settings) (int, string) {
+			c, ok := s.(*RidgeConfig)
+			if !ok || len(c.Alphas) < 2 || c.InnerFolds == nil {
+				return 0, "" // one penalty: no inner folds
+			}
+			return *c.InnerFolds, "model.ridge.inner_folds"
+		},
 	})
 	model.Register(model.Kind{
 		Name: kindKernelRidge, Baseline: true, ColumnWise: true, Importance: patternImportance,
@@ -69,6 +76,13 @@ func init() {
 				return importanceViews(c.Input)
 			}
 			return nil
+		},
+		MinTrain: func(s model.Settings) (int, string) {
+			c, ok := s.(*KernelRidgeConfig)
+			if !ok || len(c.Alphas) < 2 || c.InnerFolds == nil {
+				return 0, "" // one penalty: no inner folds
+			}
+			return *c.InnerFolds, "model.kernel_ridge.inner_folds"
 		},
 	})
 	model.Register(model.Kind{

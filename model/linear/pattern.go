@@ -1,7 +1,6 @@
 package linear
 
 import (
-	"errors"
 	"fmt"
 
 	"gonum.org/v1/gonum/mat"
@@ -91,7 +90,7 @@ func importanceViews(input Input) []string {
 // structural edges'.
 func activationPatterns(reg model.Regressor, input Input, p int, ps []*data.Participant) ([]*mat.Dense, error) {
 	if len(ps) < 2 {
-		return nil, errors.New("linear: EdgeImportance needs at least two participants")
+		return nil, fmt.Errorf("linear: EdgeImportance needs at least two participants, found %d: %w", len(ps), model.ErrTooFewToExplain)
 	}
 	x, _, err := edgeMatrix(ps, input, p)
 	if err != nil {
