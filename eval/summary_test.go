@@ -216,3 +216,22 @@ func TestWriteMarkdownKeepsGroupOrder(t *testing.T) {
 		t.Errorf("tables out of the groups' order:\n%s", md)
 	}
 }
+
+func TestUndefinedNoteInWords(t *testing.T) {
+	for _, tc := range []struct {
+		in   map[Metric]int
+		want string
+	}{
+		{nil, ""},
+		{map[Metric]int{MetricPearson: 2}, "undefined " + MetricPearson.Label() + " in 2 folds (left out of the mean ± SD over folds)"},
+		{map[Metric]int{MetricPearson: 1, MetricNMI: 3}, "undefined " + MetricPearson.Label() + " in 1 fold, " + MetricNMI.Label() + " in 3 folds (left out of the mean ± SD over folds)"},
+	} {
+		got := undefinedNote(tc.in)
+		if got != tc.want {
+			t.Errorf("undefinedNote(%v) = %q, want %q", tc.in, got, tc.want)
+		}
+		if strings.Contains(got, "map[") {
+			t.Errorf("undefinedNote(%v) shows a Go map: %q", tc.in, got)
+		}
+	}
+}

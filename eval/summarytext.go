@@ -29,8 +29,8 @@ func (s *Summary) WriteText(w io.Writer) error {
 		b.WriteString(WrapText(note, TextWidth))
 	}
 	for _, g := range s.Groups {
-		if undefined := len(g.FoldUndefined); undefined > 0 {
-			b.WriteString(WrapText(fmt.Sprintf("%s/%s: folds where a metric was undefined, left out of its mean ± SD: %v", show(g.Model), show(g.Target), g.FoldUndefined), TextWidth))
+		if note := undefinedNote(g.FoldUndefined); note != "" {
+			b.WriteString(WrapText(fmt.Sprintf("%s/%s: %s", show(g.Model), show(g.Target), note), TextWidth))
 		}
 	}
 	b.WriteString("\n" + WrapText(Disclaimer, TextWidth))
@@ -80,4 +80,26 @@ func formatFigure(x float64) string {
 		return "-"
 	}
 	return strconv.FormatFloat(x, 'f', 3, 64)
+}
+
+// undefinedNote says in words in how many folds each metric of undefined
+// was undefined (NaN), such as "Pearson r undefined in 2 folds, NMI in 1
+// fold, left out of their mean ± SD"; "" when none was.
+func undefinedNote(undefined map[Metric]int) string {
+	var parts []string
+	for _, m := range Metrics() {
+		n := undefined[m]
+		if n == 0 {
+			continue
+		}
+		folds := "folds"
+		if n == 1 {
+			folds = "fold"
+		}
+		parts = append(parts, fmt.Sprintf("%s in %d %s", m.Label(), n, folds))
+	}
+	if len(parts) == 0 {
+		return ""
+	}
+	return "undefined " + strings.Join(parts, ", ") + " (left out of the mean ± SD over folds)"
 }

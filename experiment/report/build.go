@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"strings"
 
 	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/internal/atomicfile"
@@ -31,6 +32,7 @@ func Build(dir string) ([]Figure, error) {
 	}
 	filters := r.FilterSummaries()
 	figs, drawProblems := r.Figures(imp, filters)
+	uniqueFiles(figs)
 	problems = append(problems, drawProblems...)
 	figDir := filepath.Join(dir, experiment.FiguresDir)
 	if err := os.MkdirAll(figDir, 0o755); err != nil {
@@ -101,4 +103,20 @@ func drawSafely(draw func() ([]Figure, error)) (figs []Figure, err error) {
 		}
 	}()
 	return draw()
+}
+
+// uniqueFiles gives figures whose file names coincide (names such as
+// "fc+net" and "fc_net" map to the same file) the suffixes -2, -3, ...
+// in their order, so that no figure overwrites another.
+func uniqueFiles(figs []Figure) {
+	used := make(map[string]bool, len(figs))
+	for i := range figs {
+		base := strings.TrimSuffix(figs[i].File, ".png")
+		name := figs[i].File
+		for k := 2; used[strings.ToLower(name)]; k++ {
+			name = fmt.Sprintf("%s-%d.png", base, k)
+		}
+		used[strings.ToLower(name)] = true
+		figs[i].File = name
+	}
 }

@@ -118,3 +118,16 @@ func TestMatchFiltersUndoesChannelOrder(t *testing.T) {
 		}
 	}
 }
+
+func TestUniqueFiles(t *testing.T) {
+	// Model names that differ only in characters a file name cannot hold
+	// (or in case) must not share a figure file.
+	figs := []Figure{{File: "observed-fc_net-recall.png"}, {File: "observed-fc_net-recall.png"}, {File: "observed-FC_net-recall.png"}, {File: "observed-fc_net-recall-2.png"}}
+	uniqueFiles(figs)
+	want := []string{"observed-fc_net-recall.png", "observed-fc_net-recall-2.png", "observed-FC_net-recall-3.png", "observed-fc_net-recall-2-2.png"}
+	for i, f := range figs {
+		if f.File != want[i] {
+			t.Errorf("figure %d: file %q, want %q", i, f.File, want[i])
+		}
+	}
+}
