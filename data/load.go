@@ -137,7 +137,7 @@ type modality struct {
 	spec      *Modality
 	stackPath string
 	idsPath   string
-	stack     *npyArray
+	stack     *array
 	stackIdx  map[string]int // participant_id -> index in the stack
 	report    *ModalityReport
 
