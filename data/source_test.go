@@ -49,8 +49,8 @@ func TestSourceValidate(t *testing.T) {
 		{"other placeholder", func(s *Source) { s.Functional.Files = "{session}/{participant_id}.tsv" }, `cohort.functional.files: template "{session}/{participant_id}.tsv": the only placeholder is {participant_id}`},
 		{"ids with files", func(s *Source) { s.Functional.StackIDs = "ids.txt" }, `cohort.functional.stack_ids: goes with "stack", not "files"`},
 		{"stack not npy", func(s *Source) {
-			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs = "", "fc.mat", "ids.txt"
-		}, `cohort.functional.stack: "fc.mat" must be a .npy file`},
+			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs = "", "fc.csv", "ids.txt"
+		}, `cohort.functional.stack: "fc.csv" must be a .npy, .npz or .mat file`},
 		{"stack without ids", func(s *Source) { s.Functional.Files, s.Functional.Stack = "", "fc.npy" }, `cohort.functional: "stack" needs "stack_ids"`},
 		{"values", func(s *Source) { s.Functional.Values = "partial" }, `cohort.functional.values: want "correlation" or "any", found "partial"`},
 		{"structural values", func(s *Source) {
