@@ -41,10 +41,10 @@ type ciftiXML struct {
 	XMLName xml.Name `xml:"CIFTI"`
 	Version string   `xml:"Version,attr"`
 	Maps    []struct {
-		Dims     string `xml:"AppliesToMatrixDimension,attr"`
-		Type     string `xml:"IndicesMapToDataType,attr"`
-		NSeries  string `xml:"NumberOfSeriesPoints,attr"`
-		Parcels  []struct {
+		Dims    string `xml:"AppliesToMatrixDimension,attr"`
+		Type    string `xml:"IndicesMapToDataType,attr"`
+		NSeries string `xml:"NumberOfSeriesPoints,attr"`
+		Parcels []struct {
 			Name string `xml:"Name,attr"`
 		} `xml:"Parcel"`
 	} `xml:"Matrix>MatrixIndicesMap"`

@@ -11,7 +11,6 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
-
 // npyDtypes are the element types decodeNPY accepts: float32 and float64 in
 // either byte order, as NumPy writes them in the header's 'descr'.
 var npyDtypes = map[string]string{"<f4": "float32", ">f4": "float32", "<f8": "float64", ">f8": "float64"}
