@@ -50,7 +50,7 @@ const (
 	formatText     = "text"          // delimited text, any other extension
 	formatNPY      = ".npy"          // NumPy array
 	formatNPZ      = ".npz"          // NumPy archive of named arrays
-	formatMAT      = ".mat"          // MATLAB MAT-file, level 5
+	formatMAT      = ".mat"          // MATLAB MAT-file, level 5 or v7.3
 	formatPconn    = ".pconn.nii"    // CIFTI-2 parcellated connectivity
 	formatPtseries = ".ptseries.nii" // CIFTI-2 parcellated time series
 )
@@ -129,8 +129,9 @@ func keyName(opts readOptions) string {
 //     index column (such as "Node" or empty) is accepted, and an index
 //     column counting the rows from 0 or 1 is dropped;
 //   - .npy: a 2-D float32 or float64 array;
-//   - .npz and .mat (MATLAB level 5, compressed or not): the 2-D numeric
-//     array named variable ("" takes the file's only array);
+//   - .npz and .mat (MATLAB level 5, compressed or not, or v7.3 with
+//     contiguous variables): the 2-D numeric array named variable (""
+//     takes the file's only array);
 //   - .ptseries.nii: CIFTI-2 parcellated series, names from its parcels
 //     map.
 //

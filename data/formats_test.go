@@ -80,6 +80,12 @@ func TestReadArrayFixtures(t *testing.T) {
 		{"v5z.mat", "series", "mat.json", "series"},
 		{"v5z.mat", "stack", "mat.json", "stack"},
 		{"v5z.mat", "fcstack", "mat.json", "fcstack"},
+		// h5py, MATLAB's v7.3 layout (gen_mat.py).
+		{"v73.mat", "conn", "mat.json", "conn"},
+		{"v73.mat", "series", "mat.json", "series"},
+		{"v73.mat", "stack", "mat.json", "stack"},
+		{"v73.mat", "counts", "mat.json", "counts"},
+		{"v73.mat", "fcstack", "mat.json", "fcstack"},
 		// numpy.savez and numpy.savez_compressed.
 		{"arrays.npz", "conn", "npz.json", "conn"},
 		{"arrays.npz", "fortran", "npz.json", "fortran"},
@@ -172,7 +178,11 @@ func TestReadArrayErrors(t *testing.T) {
 		{".mat truncated", "v5.mat", fixtureBytes(t, "v5.mat")[:200], "conn", "v5.mat: byte 128: element of type 14 declares"},
 		{".mat header", "v5.mat", fixtureBytes(t, "v5.mat")[:100], "conn", "MAT-file header truncated"},
 		// h5py wrote v73.mat in MATLAB's v7.3 layout.
-		{".mat v7.3", "v73.mat", nil, "conn", "v73.mat: a MATLAB v7.3 MAT-file (HDF5 after a 512-byte header), which skein does not read yet"},
+		{".mat v7.3 without the named variable", "v73.mat", nil, "fc", `v73.mat: no variable "fc" (named by variable); the file holds "conn", "counts", "fcstack", "info", "label", "series", "stack", "zipped"`},
+		{".mat v7.3 compressed variable", "v73.mat", nil, "zipped", `v73.mat: variable "zipped": is stored in chunks (compressed), which skein does not read`},
+		{".mat v7.3 char variable", "v73.mat", nil, "label", `v73.mat: variable "label": is of MATLAB class "char"`},
+		{".mat v7.3 struct", "v73.mat", nil, "info", `v73.mat: variable "info": is of MATLAB class "struct"`},
+		{".mat v7.3 truncated", "v73.mat", fixtureBytes(t, "v73.mat")[:1200], "conn", "v73.mat: HDF5 at byte"},
 		// numpy.savez of a dtype=object array.
 		{"object .npz", "object.npz", nil, "conn", `object.npz (array "conn"): array holds Python objects (dtype 'O', pickled data)`},
 		{".npz without the named array", "arrays.npz", nil, "fc", `arrays.npz: no array "fc" (named by variable); the archive holds "conn", "fortran"`},

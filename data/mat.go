@@ -58,14 +58,14 @@ type matVar struct {
 // integers, logical) is read as float64, whatever type the file stores
 // the values in; MATLAB's column-major order is turned into C order. A
 // complex, sparse, cell, struct, object or char variable is an error
-// naming it. A v7.3 file (HDF5 inside) is detected and refused with an
-// error saying how to save a level 5 file instead.
+// naming it. A v7.3 file (HDF5 after a 512-byte header) is read by
+// decodeMAT73, within the limits stated there.
 func decodeMAT(path string, raw []byte, opts readOptions) (*array, error) {
 	bad := func(format string, args ...any) error {
 		return &FileError{Path: path, Err: fmt.Errorf(format, args...)}
 	}
 	if isMATv73(raw) {
-		return nil, bad("a MATLAB v7.3 MAT-file (HDF5 after a 512-byte header), which skein does not read yet; save it with save(..., '-v7') or from Python with scipy.io.savemat")
+		return decodeMAT73(path, raw, opts)
 	}
 	if len(raw) < matHeaderSize {
 		return nil, bad("MAT-file header truncated: file has %d bytes, the header needs %d", len(raw), matHeaderSize)

@@ -111,8 +111,9 @@ type Source struct {
 //     Fortran order;
 //   - .npz: a NumPy archive (numpy.savez, numpy.savez_compressed) of named
 //     arrays, the one named by Variable;
-//   - .mat: a MATLAB level 5 MAT-file (save -v6 or -v7, compressed or
-//     not; not -v7.3), the numeric variable named by Variable;
+//   - .mat: a MATLAB MAT-file, the numeric variable named by Variable:
+//     level 5 (save -v6 or -v7, compressed or not) or v7.3 (HDF5 inside;
+//     variables stored contiguously, not chunked or compressed);
 //   - .pconn.nii: a CIFTI-2 parcellated connectivity file, whose parcel
 //     names are the region labels;
 //   - any other: delimited text (tab, comma or white space, with an

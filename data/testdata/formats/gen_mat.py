@@ -38,6 +38,15 @@ with h5py.File("v73.mat", "w", userblock_size=512) as h:
     for k, v in variables.items():
         d = h.create_dataset(k, data=v.T)  # transposed, as MATLAB stores it
         d.attrs["MATLAB_class"] = np.bytes_({"float64": "double", "float32": "single", "int16": "int16"}[str(v.dtype)])
+    # What skein refuses: a chunked, compressed variable (MATLAB's choice
+    # for large ones), a char array (uint16 with class "char") and a struct
+    # (a group).
+    z = h.create_dataset("zipped", data=conn.T, chunks=(2, 2), compression="gzip")
+    z.attrs["MATLAB_class"] = np.bytes_("double")
+    c = h.create_dataset("label", data=np.frombuffer("made up".encode("utf-16-le"), dtype=np.uint16).reshape(-1, 1))
+    c.attrs["MATLAB_class"] = np.bytes_("char")
+    g = h.create_group("info")
+    g.attrs["MATLAB_class"] = np.bytes_("struct")
 text = b"MATLAB 7.3 MAT-file, Platform: GLNXA64, Created on: Mon Jan  5 10:00:00 2026 HDF5 schema 1.00 ."
 header = text.ljust(116, b" ") + b"\x00" * 8 + b"\x00\x02" + b"IM"
 with open("v73.mat", "r+b") as f:
