@@ -513,7 +513,11 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 			return
 		}
 		if arr.shape[0] != len(ids) {
-			l.errs.add(&FileError{Path: m.stackPath, Err: fmt.Errorf("stack holds %d matrices (shape %v) but %s lists %d participants", arr.shape[0], arr.shape, m.idsPath, len(ids))})
+			hint := ""
+			if arr.shape[2] == len(ids) && arr.shape[0] == arr.shape[1] {
+				hint = "; a MATLAB p × p × n array puts the participants last: save permute(x, [3 1 2]) instead"
+			}
+			l.errs.add(&FileError{Path: m.stackPath, Err: fmt.Errorf("stack holds %d matrices (shape %v) but %s lists %d participants%s", arr.shape[0], arr.shape, m.idsPath, len(ids), hint)})
 			return
 		}
 		if arr.shape[1] != arr.shape[2] {

@@ -418,6 +418,11 @@ func TestCheckSmallCohorts(t *testing.T) {
 			f["ids.txt"] = "s1\ns2\ns3\n"
 			s.Functional = &Modality{Stack: "fc.mat", Variable: "fcstack", StackIDs: "ids.txt"}
 		}, "", []string{"R001", "R002", "R003", "R004"}, 2},
+		{".mat stack with the participants last", func(f map[string]string, s *Source) {
+			f["fc.mat"] = string(fixtureBytes(t, "v5z.mat")) // "stack" is 3 × 4 × 4
+			f["ids.txt"] = "s1\ns2\ns3\ns4\n"
+			s.Functional = &Modality{Stack: "fc.mat", Variable: "stack", StackIDs: "ids.txt"}
+		}, "stack holds 3 matrices (shape [3 4 4]) but", nil, 0},
 		{".mat files without the variable", func(f map[string]string, s *Source) {
 			f["fc/s1.mat"] = string(fixtureBytes(t, "v5.mat"))
 			s.Functional = &Modality{Files: "fc/{participant_id}.mat", Variable: "fc"}
