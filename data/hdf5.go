@@ -30,7 +30,7 @@ type h5file struct {
 	undefAdd uint64 // the undefined address, all bits set
 }
 
-// h5Errorf is an error at address addr of the HDF5 data (file byte
+// errorf is an error at address addr of the HDF5 data (file byte
 // base+addr).
 func (h *h5file) errorf(addr uint64, format string, args ...any) error {
 	return fmt.Errorf("HDF5 at byte %d: %s", uint64(h.base)+addr, fmt.Sprintf(format, args...))
@@ -45,7 +45,7 @@ func (h *h5file) at(addr uint64, n int) ([]byte, error) {
 	return h.b[addr : addr+uint64(n)], nil
 }
 
-// uint reads a little-endian unsigned integer of size bytes (1 to 8).
+// h5uint reads a little-endian unsigned integer of size bytes (1 to 8).
 func h5uint(b []byte, size int) uint64 {
 	var v uint64
 	for k := size - 1; k >= 0; k-- {
