@@ -83,3 +83,18 @@ func ExampleCheck() {
 	//   sub-09: functional mean connectivity 0.9 (median 0.1203, robust SD 0.0814, robust z = +9.6)
 	// research software, not a diagnostic device: results need ethics approval, data-use agreements and clinical judgement; defer to your local regulations
 }
+
+// ExampleReadSeries reads a participant's regional time series from a
+// CIFTI-2 parcellated series file (written by nibabel, see
+// testdata/formats/gen_cifti.py): T time points by p parcels, with the
+// parcel names.
+func ExampleReadSeries() {
+	series, regions, err := data.ReadSeries("testdata/formats/series.ptseries.nii", "")
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	t, p := series.Dims()
+	fmt.Println(t, "time points,", p, "regions:", regions)
+	// Output: 7 time points, 4 regions: [L_visual L_motor R_visual R_motor]
+}

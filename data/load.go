@@ -158,7 +158,7 @@ type modality struct {
 	spec      *Modality
 	stackPath string
 	idsPath   string
-	stack     *npyArray
+	stack     *array
 	stackIdx  map[string]int // participant_id -> index in the stack
 	report    *ModalityReport
 
@@ -513,28 +513,40 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 	}
 	if m.spec.Stack != "" {
 		m.report = &ModalityReport{Source: m.spec.Stack}
-		m.idsPath = l.path(m.spec.StackIDs)
-		ids, lines, err := readIDList(m.idsPath, l.src.IDColumn, l.read)
-		if err != nil {
-			l.errs.add(fmt.Errorf("%s.stack_ids: %w", key, err))
-			return
-		}
 		m.stackPath = l.path(m.spec.Stack)
 		raw, err := l.read(m.stackPath, 8*maxTableBytes)
 		if err != nil {
 			l.errs.add(fmt.Errorf("%s.stack: %w", key, err))
 			return
 		}
-		arr, err := decodeNPY(m.stackPath, raw)
-		if err == nil {
-			err = arr.checkStack(m.stackPath)
-		}
+		arr, err := decodeArray(m.stackPath, raw, m.options(key))
 		if err != nil {
+			l.errs.add(fmt.Errorf("%s.stack: %w", key, err))
+			return
+		}
+		if err := arr.checkStack(m.stackPath); err != nil {
 			l.errs.add(err)
 			return
 		}
+		ids, lines := arr.ids, []int(nil)
+		m.idsPath = fmt.Sprintf("%s (array %q)", m.stackPath, m.spec.IDsVariable)
+		if m.spec.IDsVariable == "" {
+			m.idsPath = l.path(m.spec.StackIDs)
+			ids, lines, err = readIDList(m.idsPath, l.src.IDColumn, l.read)
+			if err != nil {
+				l.errs.add(fmt.Errorf("%s.stack_ids: %w", key, err))
+				return
+			}
+		} else if err := checkIDs(m.idsPath, ids, l.src.IDColumn); err != nil {
+			l.errs.add(fmt.Errorf("%s.ids_variable: %w", key, err))
+			return
+		}
 		if arr.shape[0] != len(ids) {
-			l.errs.add(&FileError{Path: m.stackPath, Err: fmt.Errorf("stack holds %d matrices (shape %v) but %s lists %d participants", arr.shape[0], arr.shape, m.idsPath, len(ids))})
+			hint := ""
+			if arr.shape[2] == len(ids) && arr.shape[0] == arr.shape[1] {
+				hint = "; a MATLAB p × p × n array puts the participants last: save permute(x, [3 1 2]) instead"
+			}
+			l.errs.add(&FileError{Path: m.stackPath, Err: fmt.Errorf("stack holds %d matrices (shape %v) but %s lists %d participants%s", arr.shape[0], arr.shape, m.idsPath, len(ids), hint)})
 			return
 		}
 		if arr.shape[1] != arr.shape[2] {
@@ -546,7 +558,11 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 		for k, id := range ids {
 			m.stackIdx[id] = k
 			if !known[id] {
-				unlisted(id, m.idsPath, fileErrorf(m.idsPath, lines[k], 0, "%s %q has a matrix in %s but no row in %s (set cohort.unlisted = %q to go on without it)", l.src.IDColumn, id, m.stackPath, l.tablePath, UnlistedReport))
+				line := 0
+				if lines != nil {
+					line = lines[k]
+				}
+				unlisted(id, m.idsPath, fileErrorf(m.idsPath, line, 0, "%s %q has a matrix in %s but no row in %s (set cohort.unlisted = %q to go on without it)", l.src.IDColumn, id, m.stackPath, l.tablePath, UnlistedReport))
 			}
 		}
 		return
@@ -603,32 +619,49 @@ func (l *loader) matrix(m *modality, id string) (*matrixFile, error) {
 		return &matrixFile{a: m.stack.stack(k), path: m.stackPath, entry: fmt.Sprintf("participant %s (matrix %d of the stack)", id, k+1)}, nil
 	}
 	path := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
-	npy := strings.EqualFold(filepath.Ext(path), ".npy")
-	raw, err := l.read(path, matrixLimit(l.p, npy))
+	raw, err := l.read(path, matrixLimit(l.p, formatOf(path) != formatText))
 	if err != nil {
 		return nil, err
 	}
-	if npy {
-		arr, err := decodeNPY(path, raw)
-		if err != nil {
-			return nil, err
-		}
-		a, err := arr.matrix(path)
-		if err != nil {
-			return nil, err
-		}
-		return &matrixFile{a: a, path: path}, nil
-	}
-	tm, err := parseMatrixText(path, raw)
+	arr, err := decodeArray(path, raw, m.options("cohort."+m.name))
 	if err != nil {
 		return nil, err
 	}
-	if tm.labels != nil {
-		if err := l.agreeLabels(path, tm.labels); err != nil {
+	a, err := arr.matrix(path)
+	if err != nil {
+		return nil, err
+	}
+	if arr.names != nil {
+		if err := l.agreeLabels(path, arr.names); err != nil {
 			return nil, err
 		}
 	}
-	return &matrixFile{a: tm.m, path: path, where: tm.position}, nil
+	return &matrixFile{a: a, path: path, where: arr.where}, nil
+}
+
+// options are the read options of modality m's files; key is the
+// modality's table ("cohort.functional").
+func (m *modality) options(key string) readOptions {
+	return readOptions{variable: m.spec.Variable, idsVariable: m.spec.IDsVariable, key: key + ".variable"}
+}
+
+// checkIDs checks the participant ids read from a stack's id array: none
+// empty, none naming a file path, no two alike.
+func checkIDs(where string, ids []string, what string) error {
+	seen := make(map[string]int, len(ids))
+	for k, id := range ids {
+		switch {
+		case strings.TrimSpace(id) == "":
+			return &FileError{Path: where, Err: fmt.Errorf("entry %d: %s is empty", k+1, what)}
+		case strings.ContainsAny(id, `/\`) || id == "." || id == "..":
+			return &FileError{Path: where, Err: fmt.Errorf("entry %d: %s %q cannot name a file: it holds a path separator or is a dot name", k+1, what, id)}
+		}
+		if prev, dup := seen[id]; dup {
+			return &FileError{Path: where, Err: fmt.Errorf("entry %d: %s %q is already entry %d", k+1, what, id, prev+1)}
+		}
+		seen[id] = k
+	}
+	return nil
 }
 
 // errorAt returns a FileError at entry (i, j) of f (0-based; i = -1 for

@@ -386,6 +386,47 @@ func TestCheckSmallCohorts(t *testing.T) {
 			f["ids.txt"] = "s2\n"
 			f["fc.npy"] = npyBytes(t, "m2_f8_C_le.npy")
 		}, "fc.npy: array has 2 dimensions (shape [3 4]); expected a 3-D n × p × p stack", nil, 0},
+		// Fixtures of testdata/formats, written by nibabel, numpy and scipy.io.savemat.
+		{"CIFTI-2 .pconn.nii files with parcel names", func(f map[string]string, s *Source) {
+			sym := string(fixtureBytes(t, "sym.pconn.nii"))
+			f["fc/s1.pconn.nii"], f["fc/s2.pconn.nii"], f["fc/s3.pconn.nii"] = sym, sym, sym
+			s.Functional.Files = "fc/{participant_id}.pconn.nii"
+		}, "", []string{"L_visual", "L_motor", "R_visual", "R_motor"}, 2},
+		{"asymmetric .pconn.nii", func(f map[string]string, s *Source) {
+			f["fc/s1.pconn.nii"] = string(fixtureBytes(t, "conn.pconn.nii"))
+			s.Functional.Files, s.Functional.Values = "fc/{participant_id}.pconn.nii", ValuesAny
+		}, "fc/s1.pconn.nii: not symmetric", nil, 0},
+		{".ptseries.nii as matrix files", func(f map[string]string, s *Source) {
+			s.Functional.Files = "fc/{participant_id}.ptseries.nii"
+		}, "cohort.functional.files: \"fc/{participant_id}.ptseries.nii\" is a CIFTI-2 time series", nil, 0},
+		{".npz stack with its id array", func(f map[string]string, s *Source) {
+			f["participants.csv"] = "participant_id,score\nsub-01,1\nsub-02,2\nsub-03,3\n"
+			f["fc.npz"] = string(fixtureBytes(t, "stack.npz"))
+			s.Functional = &Modality{Stack: "fc.npz", Variable: "fc", IDsVariable: "ids", Values: ValuesAny}
+		}, "", []string{"R001", "R002", "R003", "R004"}, 3},
+		{".npz stack with an id unlisted", func(f map[string]string, s *Source) {
+			f["participants.csv"] = "participant_id,score\nsub-01,1\nsub-02,2\n"
+			f["fc.npz"] = string(fixtureBytes(t, "stack.npz"))
+			s.Functional = &Modality{Stack: "fc.npz", Variable: "fc", IDsVariable: "ids", Values: ValuesAny}
+		}, `fc.npz (array "ids"): participant_id "sub-03" has a matrix in`, nil, 0},
+		{".npz stack, id array missing", func(f map[string]string, s *Source) {
+			f["fc.npz"] = string(fixtureBytes(t, "stack.npz"))
+			s.Functional = &Modality{Stack: "fc.npz", Variable: "fc", IDsVariable: "subjects"}
+		}, `cohort.functional.stack: `, nil, 0},
+		{".mat stack, compressed", func(f map[string]string, s *Source) {
+			f["fc.mat"] = string(fixtureBytes(t, "v5z.mat"))
+			f["ids.txt"] = "s1\ns2\ns3\n"
+			s.Functional = &Modality{Stack: "fc.mat", Variable: "fcstack", StackIDs: "ids.txt"}
+		}, "", []string{"R001", "R002", "R003", "R004"}, 2},
+		{".mat stack with the participants last", func(f map[string]string, s *Source) {
+			f["fc.mat"] = string(fixtureBytes(t, "v5z.mat")) // "stack" is 3 × 4 × 4
+			f["ids.txt"] = "s1\ns2\ns3\ns4\n"
+			s.Functional = &Modality{Stack: "fc.mat", Variable: "stack", StackIDs: "ids.txt"}
+		}, "stack holds 3 matrices (shape [3 4 4]) but", nil, 0},
+		{".mat files without the variable", func(f map[string]string, s *Source) {
+			f["fc/s1.mat"] = string(fixtureBytes(t, "v5.mat"))
+			s.Functional = &Modality{Files: "fc/{participant_id}.mat", Variable: "fc"}
+		}, `fc/s1.mat: no variable "fc" (named by cohort.functional.variable)`, nil, 0},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			files, s := base(), src()

@@ -36,6 +36,13 @@ func (t *textMatrix) position(i, j int) (line, column int) {
 // "Inf" parse and are caught by the finiteness check). Rows may have any
 // equal length; squareness is checked by the caller.
 func parseMatrixText(path string, raw []byte) (*textMatrix, error) {
+	return parseText(path, raw, true)
+}
+
+// parseText is parseMatrixText; with square false, a label column and a
+// header row need not agree (a series' rows are time points, its columns
+// regions) and the labels returned are the header's.
+func parseText(path string, raw []byte, square bool) (*textMatrix, error) {
 	raw = bytes.TrimPrefix(raw, []byte("\ufeff"))
 	var rows [][]string
 	var lines []int
@@ -108,7 +115,7 @@ func parseMatrixText(path string, raw []byte) (*textMatrix, error) {
 		for k := range hdr {
 			hdr[k] = unquote(hdr[k])
 		}
-		if t.labels != nil {
+		if t.labels != nil && square {
 			for k := range min(len(hdr), len(t.labels)) {
 				if hdr[k] != t.labels[k] {
 					return nil, &FileError{Path: path, Line: lines[k], Column: 1, Err: fmt.Errorf("row label %q differs from column label %d %q of the header row", t.labels[k], k+1, hdr[k])}
@@ -119,6 +126,8 @@ func parseMatrixText(path string, raw []byte) (*textMatrix, error) {
 			}
 		}
 		t.labels = hdr
+	} else if !square {
+		t.labels = nil // row labels of a series name time points, not regions
 	}
 	t.m = mat.NewDense(len(rows), ncols, nil)
 	for i, r := range rows {

@@ -11,13 +11,6 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
-// npyArray is a float array read from a NumPy .npy file, in C (row-major)
-// order whatever the file's order.
-type npyArray struct {
-	shape []int
-	data  []float64
-}
-
 // npyDtypes are the element types decodeNPY accepts: float32 and float64 in
 // either byte order, as NumPy writes them in the header's 'descr'.
 var npyDtypes = map[string]string{"<f4": "float32", ">f4": "float32", "<f8": "float64", ">f8": "float64"}
@@ -28,7 +21,7 @@ var npyDtypes = map[string]string{"<f4": "float32", ">f4": "float32", "<f8": "fl
 // codeberg.org/sbinet/npyio; this wrapper checks the header first (dtype,
 // shape against the data's length) and turns every failure into a
 // FileError.
-func decodeNPY(path string, raw []byte) (arr *npyArray, err error) {
+func decodeNPY(path string, raw []byte) (arr *array, err error) {
 	defer func() {
 		if r := recover(); r != nil { // npyio panics on some malformed headers
 			arr, err = nil, &FileError{Path: path, Err: fmt.Errorf("not a readable .npy file: %v", r)}
@@ -44,6 +37,9 @@ func decodeNPY(path string, raw []byte) (arr *npyArray, err error) {
 	}
 	descr := strings.Trim(strings.TrimSpace(r.Header.Descr.Type), `'"`)
 	kind, ok := npyDtypes[descr]
+	if strings.Contains(descr, "O") {
+		return nil, &FileError{Path: path, Err: errors.New("array holds Python objects (dtype 'O', pickled data), which skein does not read; save a float32 or float64 array (numpy.asarray(x, dtype=float))")}
+	}
 	if !ok {
 		return nil, &FileError{Path: path, Err: fmt.Errorf("dtype %q is not supported; expected float32 or float64 ('<f4', '>f4', '<f8', '>f8')", descr)}
 	}
@@ -80,7 +76,7 @@ func decodeNPY(path string, raw []byte) (arr *npyArray, err error) {
 	if r.Header.Descr.Fortran && len(shape) > 1 {
 		data = fortranToC(data, shape)
 	}
-	return &npyArray{shape: shape, data: data}, nil
+	return &array{shape: shape, data: data}, nil
 }
 
 // checkNPYPreamble checks the magic string, the format version and that
@@ -136,7 +132,7 @@ func fortranToC(data []float64, shape []int) []float64 {
 }
 
 // matrix returns the 2-D array as a matrix, or an error naming the shape.
-func (a *npyArray) matrix(path string) (*mat.Dense, error) {
+func (a *array) matrix(path string) (*mat.Dense, error) {
 	if len(a.shape) != 2 {
 		return nil, &FileError{Path: path, Err: fmt.Errorf("array has %d dimensions (shape %v); expected a 2-D p × p matrix", len(a.shape), a.shape)}
 	}
@@ -147,13 +143,13 @@ func (a *npyArray) matrix(path string) (*mat.Dense, error) {
 }
 
 // stack returns the k-th p × p matrix of an n × p × p array.
-func (a *npyArray) stack(k int) *mat.Dense {
+func (a *array) stack(k int) *mat.Dense {
 	r, c := a.shape[1], a.shape[2]
 	return mat.NewDense(r, c, append([]float64(nil), a.data[k*r*c:(k+1)*r*c]...))
 }
 
 // checkStack reports an error unless the array is a non-empty n × p × q stack.
-func (a *npyArray) checkStack(path string) error {
+func (a *array) checkStack(path string) error {
 	if len(a.shape) != 3 {
 		return &FileError{Path: path, Err: fmt.Errorf("array has %d dimensions (shape %v); expected a 3-D n × p × p stack", len(a.shape), a.shape)}
 	}

@@ -79,17 +79,19 @@ func describeMode(m fs.FileMode) string {
 }
 
 // matrixLimit returns the most bytes a matrix file of p regions may hold:
-// for .npy, a header of up to 64 KiB plus p × p float64 values; for text,
+// for a binary file (.npy, .npz, .mat, CIFTI-2), headers of up to 64 KiB,
+// 1 KiB a region for names (CIFTI-2's XML) and room for four p × p
+// float64 arrays (an .npz or .mat may hold a few named arrays); for text,
 // 64 bytes a value (a number in full precision with its separator) and
 // 1 KiB a row for labels and white space. With p unknown (the first file)
 // it allows p = 10,000 regions.
-func matrixLimit(p int, npy bool) int64 {
+func matrixLimit(p int, binary bool) int64 {
 	if p <= 0 {
 		p = 10000
 	}
 	n := int64(p) * int64(p)
-	if npy {
-		return 64<<10 + 8*n
+	if binary {
+		return 64<<10 + 32*n + 1024*int64(p+1)
 	}
 	return 64<<10 + 64*n + 1024*int64(p+1)
 }

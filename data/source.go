@@ -102,21 +102,41 @@ type Source struct {
 }
 
 // Modality locates one modality's p × p matrices: either one file per
-// participant by path template, or one stacked n × p × p .npy file with a
-// list of the participants in its order.
+// participant by path template, or one stacked n × p × p file with the
+// participants in its order.
+//
+// The format of a file is chosen by its extension (case-insensitive):
+//
+//   - .npy: a NumPy array, float32 or float64, either byte order, C or
+//     Fortran order;
+//   - .npz: a NumPy archive (numpy.savez, numpy.savez_compressed) of named
+//     arrays, the one named by Variable;
+//   - .mat: a MATLAB MAT-file, the numeric variable named by Variable:
+//     level 5 (save -v6 or -v7, compressed or not) or v7.3 (HDF5 inside;
+//     variables stored contiguously, not chunked or compressed);
+//   - .pconn.nii: a CIFTI-2 parcellated connectivity file, whose parcel
+//     names are the region labels;
+//   - any other: delimited text (tab, comma or white space, with an
+//     optional header row and first column of region labels).
 type Modality struct {
 	// Files is a path template holding "{participant_id}", for example
-	// "fc/{participant_id}_fc.tsv". Files ending in .npy are NumPy arrays
-	// (2-D, float32 or float64, either byte order, C or Fortran order);
-	// any other file is delimited text (tab, comma or white space, with an
-	// optional header row and first column of region labels).
+	// "fc/{participant_id}_fc.tsv".
 	Files string `toml:"files"`
-	// Stack is a NumPy .npy file holding an n × p × p array, set instead
-	// of Files.
+	// Stack is one file holding an n × p × p array (.npy, .npz or .mat),
+	// set instead of Files.
 	Stack string `toml:"stack"`
 	// StackIDs is a text file naming the participant_id of each of the
-	// stack's n matrices, one a line, in order. Required with Stack.
+	// stack's n matrices, one a line, in order. Required with Stack unless
+	// IDsVariable is set.
 	StackIDs string `toml:"stack_ids"`
+	// Variable names the array to read in .npz and .mat files, which hold
+	// named arrays; empty takes the file's only array (an .npz stack's
+	// only array besides IDsVariable). Only for those formats.
+	Variable string `toml:"variable"`
+	// IDsVariable names, in an .npz stack, the 1-D array of participant
+	// ids (strings or integers) in the stack's order, set instead of
+	// StackIDs.
+	IDsVariable string `toml:"ids_variable"`
 	// Values is "correlation" (default for functional: every entry must lie
 	// within [-1, 1]) or "any" (no range check). Structural matrices are
 	// always checked non-negative and take no Values key.
@@ -330,10 +350,13 @@ func (m Modality) validate(key string) error {
 	case m.Files != "" && m.Stack != "":
 		return fmt.Errorf(`%s: set either "files" or "stack", not both`, key)
 	case m.Files == "" && m.Stack == "":
-		return fmt.Errorf(`%s: set "files" (a path template) or "stack" (an n × p × p .npy file)`, key)
+		return fmt.Errorf(`%s: set "files" (a path template) or "stack" (an n × p × p .npy, .npz or .mat file)`, key)
 	case m.Files != "":
 		if m.StackIDs != "" {
 			return fmt.Errorf(`%s.stack_ids: goes with "stack", not "files"`, key)
+		}
+		if m.IDsVariable != "" {
+			return fmt.Errorf(`%s.ids_variable: goes with an .npz "stack", not "files"`, key)
 		}
 		if n := strings.Count(m.Files, Placeholder); n != 1 {
 			return fmt.Errorf("%s.files: template %q must hold %s exactly once, found %d", key, m.Files, Placeholder, n)
@@ -341,12 +364,27 @@ func (m Modality) validate(key string) error {
 		if rest := strings.ReplaceAll(m.Files, Placeholder, ""); strings.ContainsAny(rest, "{}") {
 			return fmt.Errorf("%s.files: template %q: the only placeholder is %s", key, m.Files, Placeholder)
 		}
-	case m.Stack != "":
-		if !strings.EqualFold(filepath.Ext(m.Stack), ".npy") {
-			return fmt.Errorf("%s.stack: %q must be a .npy file", key, m.Stack)
+		if f := formatOf(m.Files); f == formatPtseries {
+			return fmt.Errorf("%s.files: %q is a CIFTI-2 time series (.ptseries.nii); matrix files hold p × p connectivity (.pconn.nii)", key, m.Files)
 		}
-		if m.StackIDs == "" {
-			return fmt.Errorf(`%s: "stack" needs "stack_ids", the file listing its participants in order`, key)
+		if m.Variable != "" && !hasVariables(formatOf(m.Files)) {
+			return fmt.Errorf("%s.variable: names an array in .npz or .mat files, but %q is neither", key, m.Files)
+		}
+	case m.Stack != "":
+		f := formatOf(m.Stack)
+		if f != formatNPY && f != formatNPZ && f != formatMAT {
+			return fmt.Errorf("%s.stack: %q must be a .npy, .npz or .mat file", key, m.Stack)
+		}
+		if m.Variable != "" && !hasVariables(f) {
+			return fmt.Errorf("%s.variable: names an array in .npz or .mat files, but %q is neither", key, m.Stack)
+		}
+		switch {
+		case m.IDsVariable != "" && f != formatNPZ:
+			return fmt.Errorf("%s.ids_variable: names an id array in an .npz stack, but %q is not .npz; list the ids in stack_ids", key, m.Stack)
+		case m.IDsVariable != "" && m.StackIDs != "":
+			return fmt.Errorf(`%s: set either "stack_ids" (a file) or "ids_variable" (an array of the .npz), not both`, key)
+		case m.IDsVariable == "" && m.StackIDs == "":
+			return fmt.Errorf(`%s: "stack" needs "stack_ids", the file listing its participants in order (or, for an .npz, "ids_variable")`, key)
 		}
 	}
 	if m.SymmetryTolerance == nil || !(*m.SymmetryTolerance >= 0) || math.IsInf(*m.SymmetryTolerance, 1) {

@@ -49,8 +49,22 @@ func TestSourceValidate(t *testing.T) {
 		{"other placeholder", func(s *Source) { s.Functional.Files = "{session}/{participant_id}.tsv" }, `cohort.functional.files: template "{session}/{participant_id}.tsv": the only placeholder is {participant_id}`},
 		{"ids with files", func(s *Source) { s.Functional.StackIDs = "ids.txt" }, `cohort.functional.stack_ids: goes with "stack", not "files"`},
 		{"stack not npy", func(s *Source) {
-			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs = "", "fc.mat", "ids.txt"
-		}, `cohort.functional.stack: "fc.mat" must be a .npy file`},
+			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs = "", "fc.csv", "ids.txt"
+		}, `cohort.functional.stack: "fc.csv" must be a .npy, .npz or .mat file`},
+		{"npz stack with an id array", func(s *Source) {
+			s.Functional.Files, s.Functional.Stack, s.Functional.IDsVariable = "", "fc.npz", "ids"
+		}, ""},
+		{"variable on text files", func(s *Source) { s.Functional.Variable = "fc" }, `cohort.functional.variable: names an array in .npz or .mat files, but "fc/{participant_id}.tsv" is neither`},
+		{"variable on a npy stack", func(s *Source) {
+			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs, s.Functional.Variable = "", "fc.npy", "ids.txt", "fc"
+		}, `cohort.functional.variable: names an array in .npz or .mat files, but "fc.npy" is neither`},
+		{"id array in a mat stack", func(s *Source) {
+			s.Functional.Files, s.Functional.Stack, s.Functional.IDsVariable = "", "fc.mat", "ids"
+		}, `cohort.functional.ids_variable: names an id array in an .npz stack, but "fc.mat" is not .npz`},
+		{"both id sources", func(s *Source) {
+			s.Functional.Files, s.Functional.Stack, s.Functional.StackIDs, s.Functional.IDsVariable = "", "fc.npz", "ids.txt", "ids"
+		}, `cohort.functional: set either "stack_ids" (a file) or "ids_variable"`},
+		{"id array with files", func(s *Source) { s.Functional.IDsVariable = "ids" }, `cohort.functional.ids_variable: goes with an .npz "stack", not "files"`},
 		{"stack without ids", func(s *Source) { s.Functional.Files, s.Functional.Stack = "", "fc.npy" }, `cohort.functional: "stack" needs "stack_ids"`},
 		{"values", func(s *Source) { s.Functional.Values = "partial" }, `cohort.functional.values: want "correlation" or "any", found "partial"`},
 		{"structural values", func(s *Source) {

@@ -1,0 +1,320 @@
+package data
+
+import (
+	"encoding/binary"
+	"encoding/json"
+	"errors"
+	"math"
+	"os"
+	"path/filepath"
+	"reflect"
+	"strings"
+	"testing"
+)
+
+// formatsDir holds the fixtures of the file formats, each written by the
+// script beside it (gen_cifti.py: nibabel; gen_mat.py: scipy.io.savemat
+// and h5py; gen_npz.py: numpy), with the arrays as those libraries read
+// them back in .json files.
+var formatsDir = filepath.Join("testdata", "formats")
+
+// wantArray is an array as the generating library sees it.
+type wantArray struct {
+	Shape []int     `json:"shape"`
+	Data  []float64 `json:"data"`
+	Names []string  `json:"names"`
+}
+
+// readWant reads the array key of a fixture's .json file ("" for a file
+// holding one array).
+func readWant(t *testing.T, file, key string) wantArray {
+	t.Helper()
+	raw, err := os.ReadFile(filepath.Join(formatsDir, file))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var w wantArray
+	if key == "" {
+		err = json.Unmarshal(raw, &w)
+	} else {
+		var all map[string]json.RawMessage
+		if err = json.Unmarshal(raw, &all); err == nil {
+			err = json.Unmarshal(all[key], &w)
+		}
+	}
+	if err != nil {
+		t.Fatal(err)
+	}
+	return w
+}
+
+func fixtureBytes(t testing.TB, name string) []byte {
+	t.Helper()
+	raw, err := os.ReadFile(filepath.Join(formatsDir, name))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return raw
+}
+
+// TestReadArrayFixtures reads each fixture and compares it with the array
+// the library that wrote it reads back: same shape, same values in C
+// order (exactly: float32 values widen to float64 without rounding), and
+// the parcel names of a CIFTI-2 file.
+func TestReadArrayFixtures(t *testing.T) {
+	for _, tc := range []struct {
+		file, variable string
+		json, key      string
+	}{
+		// nibabel 5 (python3-nibabel): Cifti2Image.to_filename, read back with nib.load.
+		{"conn.pconn.nii", "", "conn.json", ""},
+		{"sym.pconn.nii", "", "sym.json", ""},
+		{"series.ptseries.nii", "", "series.json", ""},
+		// scipy.io.savemat(do_compression=False), level 5.
+		{"v5.mat", "conn", "mat.json", "conn"},
+		{"v5.mat", "series", "mat.json", "series"},
+		{"v5.mat", "stack", "mat.json", "stack"},
+		{"v5.mat", "counts", "mat.json", "counts"},
+		// scipy.io.savemat(do_compression=True): miCOMPRESSED elements.
+		{"v5z.mat", "conn", "mat.json", "conn"},
+		{"v5z.mat", "series", "mat.json", "series"},
+		{"v5z.mat", "stack", "mat.json", "stack"},
+		{"v5z.mat", "fcstack", "mat.json", "fcstack"},
+		// h5py, MATLAB's v7.3 layout (gen_mat.py).
+		{"v73.mat", "conn", "mat.json", "conn"},
+		{"v73.mat", "series", "mat.json", "series"},
+		{"v73.mat", "stack", "mat.json", "stack"},
+		{"v73.mat", "counts", "mat.json", "counts"},
+		{"v73.mat", "fcstack", "mat.json", "fcstack"},
+		// numpy.savez and numpy.savez_compressed.
+		{"arrays.npz", "conn", "npz.json", "conn"},
+		{"arrays.npz", "fortran", "npz.json", "fortran"},
+		{"stack.npz", "fc", "npz.json", "fc"},
+	} {
+		t.Run(tc.file+"/"+tc.variable, func(t *testing.T) {
+			want := readWant(t, tc.json, tc.key)
+			got, err := readArray(filepath.Join(formatsDir, tc.file), readOptions{variable: tc.variable})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !reflect.DeepEqual(got.shape, want.Shape) {
+				t.Fatalf("shape %v, want %v", got.shape, want.Shape)
+			}
+			for k := range want.Data {
+				if got.data[k] != want.Data[k] {
+					t.Fatalf("value %d is %v, want %v", k, got.data[k], want.Data[k])
+				}
+			}
+			if !reflect.DeepEqual(got.names, want.Names) {
+				t.Errorf("names %q, want %q", got.names, want.Names)
+			}
+		})
+	}
+}
+
+// TestReadArrayStackIDs reads an .npz stack's id arrays: strings ('<U6')
+// and integers ('<i8'), as numpy wrote them (gen_npz.py).
+func TestReadArrayStackIDs(t *testing.T) {
+	var want struct{ IDs []string }
+	if err := json.Unmarshal(fixtureBytes(t, "npz.json"), &want); err != nil {
+		t.Fatal(err)
+	}
+	for _, tc := range []struct {
+		ids  string
+		want []string
+	}{
+		{"ids", want.IDs},
+		{"numbers", []string{"101", "102", "103"}}, // np.array([101, 102, 103]) in gen_npz.py
+	} {
+		a, err := readArray(filepath.Join(formatsDir, "stack.npz"), readOptions{variable: "fc", idsVariable: tc.ids})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(a.ids, tc.want) {
+			t.Errorf("%s: ids %q, want %q", tc.ids, a.ids, tc.want)
+		}
+	}
+}
+
+// TestReadArrayErrors: every malformed or unreadable input is a
+// *FileError naming the file and the place.
+func TestReadArrayErrors(t *testing.T) {
+	conn := fixtureBytes(t, "conn.pconn.nii")
+	withHeader := func(off int, v uint64, size int) []byte {
+		b := append([]byte(nil), conn...)
+		switch size {
+		case 2:
+			binary.LittleEndian.PutUint16(b[off:], uint16(v))
+		default:
+			binary.LittleEndian.PutUint64(b[off:], v)
+		}
+		return b
+	}
+	noExt := append([]byte(nil), conn...)
+	noExt[540] = 0
+	for _, tc := range []struct {
+		name, file string
+		raw        []byte // nil: the fixture file itself
+		variable   string
+		want       string
+	}{
+		{"truncated NIfTI-2 header", "a.pconn.nii", conn[:300], "", "a.pconn.nii: NIfTI-2 header truncated: file has 300 bytes, the header needs 540"},
+		{"NIfTI-1 header", "a.pconn.nii", withHeader(0, 348, 2), "", "header offset 0 (sizeof_hdr): found 348, expected 540"},
+		{"bad magic", "a.pconn.nii", append([]byte("\x1c\x02\x00\x00n+1\x00"), conn[8:]...), "", "header offset 4 (magic)"},
+		{"complex datatype", "a.pconn.nii", withHeader(12, 32, 2), "", "header offset 12 (datatype): code 32 is not read"},
+		{"three dimensions", "a.pconn.nii", withHeader(16, 3, 8), "", "header offset 16 (dim[0]): 3 dimensions, expected 6"},
+		{"vox_offset past the end", "a.pconn.nii", withHeader(168, 1<<40, 8), "", "header offset 168 (vox_offset)"},
+		{"no extension", "a.pconn.nii", noExt, "", "byte 540 (extension flag) is 0"},
+		{"data truncated", "a.pconn.nii", conn[:len(conn)-4], "", "data truncated: 4 × 4 values of 4 bytes"},
+		// nibabel: a dense series (BrainModelAxis) saved under a .ptseries.nii name.
+		{"CIFTI XML without a parcels map", "dense.ptseries.nii", nil, "", "CIFTI XML: no parcels map (CIFTI_INDEX_TYPE_PARCELS) for matrix dimension 1, the columns (found CIFTI_INDEX_TYPE_BRAIN_MODELS)"},
+		{"dense CIFTI", "a.dconn.nii", conn, "", "a .nii file is read only as CIFTI-2 parcellated data"},
+		// scipy.io.savemat wrote these files with the variables conn, series, stack, counts, fcstack, label, cells.
+		{".mat without the named variable", "v5.mat", nil, "fc", `v5.mat: no variable "fc" (named by variable); the file holds "cells", "conn", "counts", "fcstack", "label", "series", "stack"`},
+		{".mat compressed without the named variable", "v5z.mat", nil, "fc", `v5z.mat: no variable "fc"`},
+		{".mat with several variables and no key", "v5.mat", nil, "", "file holds 7 variables"},
+		{".mat char variable", "v5.mat", nil, "label", `variable "label" (element at byte`},
+		{".mat cell variable", "v5z.mat", nil, "cells", `variable "cells" (compressed element at byte`},
+		{".mat truncated", "v5.mat", fixtureBytes(t, "v5.mat")[:200], "conn", "v5.mat: byte 128: element of type 14 declares"},
+		{".mat header", "v5.mat", fixtureBytes(t, "v5.mat")[:100], "conn", "MAT-file header truncated"},
+		// h5py wrote v73.mat in MATLAB's v7.3 layout.
+		{".mat v7.3 without the named variable", "v73.mat", nil, "fc", `v73.mat: no variable "fc" (named by variable); the file holds "conn", "counts", "fcstack", "info", "label", "series", "stack", "zipped"`},
+		{".mat v7.3 compressed variable", "v73.mat", nil, "zipped", `v73.mat: variable "zipped": is stored in chunks (compressed), which skein does not read`},
+		{".mat v7.3 char variable", "v73.mat", nil, "label", `v73.mat: variable "label": is of MATLAB class "char"`},
+		{".mat v7.3 struct", "v73.mat", nil, "info", `v73.mat: variable "info": is of MATLAB class "struct"`},
+		{".mat v7.3 truncated", "v73.mat", fixtureBytes(t, "v73.mat")[:1200], "conn", "v73.mat: HDF5 at byte"},
+		// numpy.savez of a dtype=object array.
+		{"object .npz", "object.npz", nil, "conn", `object.npz (array "conn"): array holds Python objects (dtype 'O', pickled data)`},
+		{".npz without the named array", "arrays.npz", nil, "fc", `arrays.npz: no array "fc" (named by variable); the archive holds "conn", "fortran"`},
+		{".npz with two arrays and no key", "arrays.npz", nil, "", `archive holds 2 arrays ("conn", "fortran"); set variable`},
+		{".npz not a zip", "a.npz", []byte("PK\x03\x04 not really"), "", "a.npz: not a readable .npz file"},
+		{"variable on a .npy", "a.npy", []byte{}, "x", `variable "x" names an array, but a .npy file holds one unnamed array`},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			raw := tc.raw
+			if raw == nil {
+				raw = fixtureBytes(t, tc.file)
+			}
+			_, err := decodeArray(tc.file, raw, readOptions{variable: tc.variable})
+			var fe *FileError
+			if !errors.As(err, &fe) || fe.Path == "" || !strings.HasPrefix(fe.Path, tc.file) {
+				t.Fatalf("error %v (%T), want a *FileError naming %s", err, err, tc.file)
+			}
+			if !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("error %q, want one holding %q", err, tc.want)
+			}
+		})
+	}
+}
+
+// TestReadSeries reads T × p series in each format that holds them, with
+// the region names where the file gives them.
+func TestReadSeries(t *testing.T) {
+	dir := t.TempDir()
+	text := filepath.Join(dir, "index.tsv")
+	// Made up: a header with a corner cell, an index column counting from 0.
+	if err := os.WriteFile(text, []byte("Node\tA\tB\n0\t0.5\t-1\n1\t1.5\t2\n2\t2.5\t0\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	plain := filepath.Join(dir, "plain.csv")
+	if err := os.WriteFile(plain, []byte("A,B\n0.5,-1\n1.5,2\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	ptseries := readWant(t, "series.json", "")   // nibabel
+	mseries := readWant(t, "mat.json", "series") // scipy.io.savemat
+	for _, tc := range []struct {
+		path, variable string
+		want           wantArray
+	}{
+		{text, "", wantArray{Shape: []int{3, 2}, Data: []float64{0.5, -1, 1.5, 2, 2.5, 0}, Names: []string{"A", "B"}}},
+		{plain, "", wantArray{Shape: []int{2, 2}, Data: []float64{0.5, -1, 1.5, 2}, Names: []string{"A", "B"}}},
+		{filepath.Join(formatsDir, "series.ptseries.nii"), "", ptseries},
+		{filepath.Join(formatsDir, "v5z.mat"), "series", wantArray{Shape: mseries.Shape, Data: mseries.Data}},
+	} {
+		t.Run(filepath.Base(tc.path), func(t *testing.T) {
+			m, names, err := ReadSeries(tc.path, tc.variable)
+			if err != nil {
+				t.Fatal(err)
+			}
+			r, c := m.Dims()
+			if r != tc.want.Shape[0] || c != tc.want.Shape[1] {
+				t.Fatalf("%d × %d, want %v", r, c, tc.want.Shape)
+			}
+			for i := range r {
+				for j := range c {
+					if v, w := m.At(i, j), tc.want.Data[i*c+j]; v != w && !(math.IsNaN(v) && math.IsNaN(w)) {
+						t.Fatalf("(%d, %d) is %v, want %v", i, j, v, w)
+					}
+				}
+			}
+			if !reflect.DeepEqual(names, tc.want.Names) {
+				t.Errorf("names %q, want %q", names, tc.want.Names)
+			}
+		})
+	}
+	if _, _, err := ReadSeries(filepath.Join(formatsDir, "conn.pconn.nii"), ""); err == nil || !strings.Contains(err.Error(), "not time series; expected .ptseries.nii") {
+		t.Errorf("a .pconn.nii as series: error %v", err)
+	}
+	if _, _, err := ReadSeries(filepath.Join(formatsDir, "v5.mat"), "stack"); err == nil || !strings.Contains(err.Error(), "expected a 2-D T × p series") {
+		t.Errorf("a stack as series: error %v", err)
+	}
+}
+
+// fuzzSeeds adds each fixture to f.
+func fuzzSeeds(f *testing.F, names ...string) {
+	for _, n := range names {
+		f.Add(fixtureBytes(f, n))
+	}
+}
+
+// FuzzDecodeCIFTI: no input makes the CIFTI-2 reader panic, and what it
+// accepts is a consistent 2-D array with a name for every column.
+func FuzzDecodeCIFTI(f *testing.F) {
+	fuzzSeeds(f, "conn.pconn.nii", "sym.pconn.nii", "series.ptseries.nii", "dense.ptseries.nii")
+	f.Fuzz(func(t *testing.T, raw []byte) {
+		a, err := decodeCIFTI("f.pconn.nii", raw)
+		if err != nil {
+			return
+		}
+		if len(a.shape) != 2 || a.shape[0]*a.shape[1] != len(a.data) || len(a.names) != a.shape[1] {
+			t.Fatalf("shape %v, %d values, %d names", a.shape, len(a.data), len(a.names))
+		}
+	})
+}
+
+// FuzzDecodeMAT: no input makes the MAT-file reader panic, and what it
+// accepts has as many values as its shape says.
+func FuzzDecodeMAT(f *testing.F) {
+	fuzzSeeds(f, "v5.mat", "v5z.mat", "v73.mat")
+	f.Fuzz(func(t *testing.T, raw []byte) {
+		for _, v := range []string{"", "conn", "stack"} {
+			a, err := decodeMAT("f.mat", raw, readOptions{variable: v})
+			if err != nil {
+				continue
+			}
+			n := 1
+			for _, d := range a.shape {
+				n *= d
+			}
+			if n != len(a.data) {
+				t.Fatalf("shape %v, %d values", a.shape, len(a.data))
+			}
+		}
+	})
+}
+
+// FuzzDecodeNPZ: no input makes the .npz reader panic.
+func FuzzDecodeNPZ(f *testing.F) {
+	fuzzSeeds(f, "arrays.npz", "stack.npz", "object.npz")
+	f.Fuzz(func(t *testing.T, raw []byte) {
+		for _, o := range []readOptions{{}, {variable: "conn"}, {variable: "fc", idsVariable: "ids"}} {
+			a, err := decodeNPZ("f.npz", raw, o)
+			if err != nil {
+				continue
+			}
+			if o.idsVariable != "" && a.ids == nil && len(a.shape) > 0 && a.shape[0] > 0 {
+				t.Fatalf("no ids read for shape %v", a.shape)
+			}
+		}
+	})
+}
