@@ -9,6 +9,9 @@ type Participant struct {
 	// Group is the participant's value in the grouping column (family or
 	// scanning site); it is "" when the cohort has no grouping column.
 	Group string
+	// Site is the participant's value in the site column (cohort.site);
+	// "" when the cohort has none.
+	Site string
 	// Functional is the p × p functional connectome after preprocessing
 	// (for example Fisher z with a zero diagonal); nil when the cohort has no
 	// functional modality.

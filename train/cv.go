@@ -1,11 +1,13 @@
 package train
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
 
 	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/internal/enum"
 )
 
 // CV is the cross-validation scheme: the [cv] table of an experiment file.
@@ -31,6 +33,48 @@ type CV struct {
 	// each training fold alone (cross-validated confound regression).
 	// Default none.
 	Confounds []string `toml:"confounds"`
+	// SiteConfound also regresses the site (cohort.site) out of every
+	// score, as one-hot columns (one per training site but the first,
+	// sorted) fitted in each training fold with the confounds. Default
+	// false.
+	SiteConfound bool `toml:"site_confound"`
+	// SitesOut, when above 0, makes the folds leave-k-sites-out with
+	// k = SitesOut: the sites (cohort.site) are shuffled and dealt k to a
+	// fold, so there are ⌈S/k⌉ folds for S sites and Folds is not read;
+	// 1 is leave-one-site-out. Default 0 (k-fold).
+	SitesOut int `toml:"sites_out"`
+	// StratifySite balances k-fold folds on site: each site's
+	// participants (or groups) are spread as evenly over the folds as
+	// they can be. Default false.
+	StratifySite bool `toml:"stratify_site"`
+	// Harmonize is the ComBat harmonisation of the edges across sites
+	// ([cv.harmonize]), fitted on each training fold; nil for none.
+	Harmonize *Harmonize `toml:"harmonize"`
+}
+
+// Harmonize is the [cv.harmonize] table of an experiment file: ComBat
+// harmonisation of the connectome edges across the sites of cohort.site,
+// fitted on each training fold alone and applied to its test fold (see
+// Harmonizer). Every model, baseline or network, learns from the
+// harmonised edges. For example:
+//
+//	[cv.harmonize]
+//	method = "parametric"
+//	preserve = ["age", "sex"]
+//	unseen_site = "error"
+type Harmonize struct {
+	// Method is "parametric" (default) or "nonparametric" empirical Bayes.
+	Method ComBatMethod `toml:"method"`
+	// Preserve names covariates (cohort.covariates) whose effects on the
+	// edges ComBat keeps. A target is never allowed: its effect would be
+	// written into the edges of the test participants' neighbours in the
+	// fit, which leaks the scores into the inputs.
+	Preserve []string `toml:"preserve"`
+	// UnseenSite is "error" (default): a test participant from a site
+	// absent from the training fold stops the run naming the site; or
+	// "pooled": such a participant is harmonised as the average training
+	// site. Leave-site-out folds (cv.sites_out) need "pooled".
+	UnseenSite UnseenSite `toml:"unseen_site"`
 }
 
 // SetDefaults fills every unset field with its documented default.
@@ -47,6 +91,14 @@ func (cv *CV) SetDefaults() {
 	if cv.Confounds == nil {
 		cv.Confounds = []string{}
 	}
+	if h := cv.Harmonize; h != nil {
+		if h.Method == "" {
+			h.Method = HarmonizeParametric
+		}
+		if h.UnseenSite == "" {
+			h.UnseenSite = UnseenError
+		}
+	}
 }
 
 // Validate reports the first setting that cannot work, naming its key.
@@ -60,6 +112,23 @@ func (cv CV) Validate() error {
 	case cv.InnerValidation != nil && (*cv.InnerValidation < 0 || math.IsNaN(*cv.InnerValidation) ||
 		*cv.InnerValidation >= 1 && *cv.InnerValidation != math.Trunc(*cv.InnerValidation)):
 		return fmt.Errorf("cv.inner_validation: want a fraction in [0, 1) or a whole count, found %v", *cv.InnerValidation)
+	case cv.SitesOut < 0:
+		return fmt.Errorf("cv.sites_out: want 0 (k-fold) or a number of sites per fold, found %d", cv.SitesOut)
+	case cv.SitesOut > 0 && cv.StratifySite:
+		return errors.New("cv.stratify_site: leave-site-out folds (cv.sites_out) hold whole sites; stratifying them by site means nothing")
+	case cv.SitesOut > 0 && cv.Stratify != "":
+		return errors.New("cv.stratify: leave-site-out folds (cv.sites_out) are made of whole sites and cannot be stratified on a target")
+	}
+	if h := cv.Harmonize; h != nil {
+		if err := enum.Check(h.Method); err != nil {
+			return fmt.Errorf("cv.harmonize.method: %w", err)
+		}
+		if err := enum.Check(h.UnseenSite); err != nil {
+			return fmt.Errorf("cv.harmonize.unseen_site: %w", err)
+		}
+		if cv.SitesOut > 0 && h.UnseenSite != UnseenPooled {
+			return fmt.Errorf("cv.harmonize.unseen_site: leave-site-out folds (cv.sites_out = %d) test on sites absent from training; set unseen_site = %q to harmonise them as the average training site", cv.SitesOut, UnseenPooled)
+		}
 	}
 	return nil
 }
@@ -108,6 +177,55 @@ func (cv CV) checkAgainst(c *data.Cohort) error {
 		if !slices.Contains(c.Covariates, name) {
 			return fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
 		}
+	}
+	if h := cv.Harmonize; h != nil {
+		for _, name := range h.Preserve {
+			if slices.Contains(c.Targets, name) {
+				return fmt.Errorf("cv.harmonize.preserve: %q is a target; preserving the scores' effect on the edges would write each training fold's scores into the inputs the models learn from (leakage), so targets are never preserved", name)
+			}
+			if !slices.Contains(c.Covariates, name) {
+				return fmt.Errorf("cv.harmonize.preserve: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
+			}
+		}
+	}
+	if cv.Harmonize != nil || cv.SiteConfound || cv.SitesOut > 0 || cv.StratifySite {
+		if err := CheckSites(c, cv.SitesOut); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+// CheckSites reports a cohort whose sites cannot serve a site-aware run:
+// a participant without a site (cohort.site unset, or its cell empty), a
+// site with a single participant (no site effect can be estimated from
+// it), fewer than two sites, or, with sitesOut > 0, fewer than sitesOut
+// + 1 sites (every fold must leave a site to train on). The error names
+// the key cohort.site and the site or participant.
+func CheckSites(c *data.Cohort, sitesOut int) error {
+	count := make(map[string]int)
+	var order []string
+	for _, p := range c.Participants {
+		if p.Site == "" {
+			return fmt.Errorf("cohort.site: participant %s has no site (a site-aware run needs the site column, and a site for everyone)", p.ID)
+		}
+		if count[p.Site] == 0 {
+			order = append(order, p.Site)
+		}
+		count[p.Site]++
+	}
+	for _, s := range order {
+		if count[s] < 2 {
+			return fmt.Errorf("cohort.site: site %q has one participant; a site's effect needs at least two (merge it with a similar site or leave it out)", s)
+		}
+	}
+	switch {
+	case len(order) == 0:
+		return errors.New("cohort.site: no participants")
+	case len(order) < 2:
+		return fmt.Errorf("cohort.site: one site (%q); harmonisation, site confounds and site-aware folds need at least two", order[0])
+	case sitesOut > 0 && len(order) <= sitesOut:
+		return fmt.Errorf("cv.sites_out: %d sites per fold, but the cohort has %d sites (need more than %d)", sitesOut, len(order), sitesOut)
 	}
 	return nil
 }
