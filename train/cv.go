@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strings"
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/internal/enum"
@@ -158,7 +159,10 @@ func (cv CV) innerFraction() float64 {
 
 // folds returns the fold scheme of the experiment for the cohort.
 func (cv CV) folds(seed int64, c *data.Cohort) Folds {
-	f := Folds{K: *cv.Folds, Repeats: *cv.Repeats, Seed: uint64(seed), Groups: Groups(c)}
+	f := Folds{K: *cv.Folds, Repeats: *cv.Repeats, Seed: uint64(seed), Groups: Groups(c), SitesOut: cv.SitesOut}
+	if cv.SitesOut > 0 || cv.StratifySite {
+		f.Sites = siteLabels(c)
+	}
 	if t := slices.Index(c.Targets, cv.Stratify); cv.Stratify != "" && t >= 0 {
 		f.Strata = make([]float64, len(c.Participants))
 		for i, p := range c.Participants {
@@ -226,6 +230,100 @@ func CheckSites(c *data.Cohort, sitesOut int) error {
 		return fmt.Errorf("cohort.site: one site (%q); harmonisation, site confounds and site-aware folds need at least two", order[0])
 	case sitesOut > 0 && len(order) <= sitesOut:
 		return fmt.Errorf("cv.sites_out: %d sites per fold, but the cohort has %d sites (need more than %d)", sitesOut, len(order), sitesOut)
+	}
+	return nil
+}
+
+// siteDummyPrefix begins the name of a site's one-hot confound column.
+const siteDummyPrefix = "site="
+
+// withSiteConfound returns d and c unchanged without cv.site_confound;
+// with it, a copy of d whose cv.confounds also name one one-hot column per
+// site but the first (sites sorted), "site=NAME", and a copy of c whose
+// participants carry those columns as covariates (1 at the participant's
+// site, else 0). The columns only code the sites; their coefficients are
+// fitted in each training fold with the other confounds (TargetPrep). The
+// copy of d has SiteConfound unset, so that it is not applied twice.
+func withSiteConfound(d *Design, c *data.Cohort) (*Design, *data.Cohort) {
+	if !d.CV.SiteConfound {
+		return d, c
+	}
+	sites := slices.Sorted(slices.Values(uniq(siteLabels(c))))
+	out := *d
+	out.CV.SiteConfound = false
+	out.CV.Confounds = append(slices.Clone(d.CV.Confounds), siteColumns(sites)...)
+	oc, _ := AddSiteColumns(c, sites)
+	return &out, oc
+}
+
+// siteColumns returns the names of the one-hot columns of sites (sorted):
+// "site=NAME" for every site but the first.
+func siteColumns(sites []string) []string {
+	names := make([]string, 0, len(sites)-1)
+	for _, s := range sites[1:] {
+		names = append(names, siteDummyPrefix+s)
+	}
+	return names
+}
+
+// AddSiteColumns returns a copy of c whose participants carry the one-hot
+// site columns of sites (sorted; a TargetPrep's SiteLevels) as covariates
+// "site=NAME", one per site but the first: 1 at the participant's site,
+// else 0. c's matrices and scores are shared. A participant whose site is
+// not among sites is an error naming the site: the site's confound effect
+// was never fitted.
+func AddSiteColumns(c *data.Cohort, sites []string) (*data.Cohort, error) {
+	names := siteColumns(sites)
+	oc := *c
+	oc.Covariates = append(slices.Clone(c.Covariates), names...)
+	oc.Participants = make([]*data.Participant, len(c.Participants))
+	for i, p := range c.Participants {
+		if !slices.Contains(sites, p.Site) {
+			return nil, fmt.Errorf("cohort.site: participant %s is from site %q, which none of the training participants came from (sites %v), so its confound effect is unknown", p.ID, p.Site, sites)
+		}
+		q := *p
+		q.Covariates = slices.Grow(slices.Clone(p.Covariates), len(names))
+		for _, s := range sites[1:] {
+			v := 0.0
+			if p.Site == s {
+				v = 1
+			}
+			q.Covariates = append(q.Covariates, v)
+		}
+		oc.Participants[i] = &q
+	}
+	return &oc, nil
+}
+
+// siteLabels returns the site of every participant of c.
+func siteLabels(c *data.Cohort) []string {
+	sites := make([]string, len(c.Participants))
+	for i, p := range c.Participants {
+		sites[i] = p.Site
+	}
+	return sites
+}
+
+// checkFoldSites reports a test-fold site that no training participant of
+// split shares when a fold-fitted step needs every site in training: the
+// site confound always, harmonisation unless unseen_site = "pooled".
+func checkFoldSites(cv CV, c *data.Cohort, split Split) error {
+	siteConfound := slices.ContainsFunc(cv.Confounds, func(name string) bool { return strings.HasPrefix(name, siteDummyPrefix) })
+	harmonize := cv.Harmonize != nil && cv.Harmonize.UnseenSite != UnseenPooled
+	if !siteConfound && !harmonize {
+		return nil
+	}
+	inTrain := make(map[string]bool)
+	for _, i := range split.Train {
+		inTrain[c.Participants[i].Site] = true
+	}
+	for _, i := range split.Test {
+		if s := c.Participants[i].Site; !inTrain[s] {
+			if siteConfound {
+				return fmt.Errorf("cohort.site: site %q is in the test fold only, so its confound effect (cv.site_confound) cannot be fitted; cv.stratify_site = true spreads every site over the folds", s)
+			}
+			return fmt.Errorf("cohort.site: site %q is in the test fold only, so ComBat cannot estimate its effect; cv.stratify_site = true spreads every site over the folds, cv.harmonize.unseen_site = %q harmonises it as the average training site", s, UnseenPooled)
+		}
 	}
 	return nil
 }

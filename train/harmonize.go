@@ -283,4 +283,3 @@ func (h *Harmonizer) Apply(c *data.Cohort) (*data.Cohort, error) {
 	}
 	return &out, nil
 }
-
