@@ -192,8 +192,11 @@ func FitComBat(y *mat.Dense, sites []string, cov *mat.Dense, method ComBatMethod
 	if ok := chol.Factorize(&gram); !ok || chol.Cond() > 1e12 {
 		return nil, errors.New("the preserved covariates are constant, or fixed by site, within the training participants: ComBat cannot tell their effects from the sites'")
 	}
-	yk := mat.NewDense(n, max(K, 1), nil)
-	if K > 0 {
+	yk := y // the kept features; y itself when every feature is kept
+	if K < G {
+		yk = mat.NewDense(n, max(K, 1), nil)
+	}
+	if K > 0 && K < G {
 		for i := 0; i < n; i++ {
 			row, out := y.RawRowView(i), yk.RawRowView(i)
 			for k, g := range keep {
