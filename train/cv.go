@@ -117,6 +117,8 @@ func (cv CV) Validate() error {
 		return fmt.Errorf("cv.sites_out: want 0 (k-fold) or a number of sites per fold, found %d", cv.SitesOut)
 	case cv.SitesOut > 0 && cv.StratifySite:
 		return errors.New("cv.stratify_site: leave-site-out folds (cv.sites_out) hold whole sites; stratifying them by site means nothing")
+	case cv.SitesOut > 0 && cv.SiteConfound:
+		return errors.New("cv.site_confound: leave-site-out folds (cv.sites_out) test on sites no training participant is from, whose confound effect cannot be fitted")
 	case cv.SitesOut > 0 && cv.Stratify != "":
 		return errors.New("cv.stratify: leave-site-out folds (cv.sites_out) are made of whole sites and cannot be stratified on a target")
 	}
