@@ -208,7 +208,7 @@ func (r *Runner) Refit(ctx context.Context) error {
 	if r.Models == "" {
 		return errors.New("train: Refit without a Models folder")
 	}
-	exp, cohort := r.Design, r.Cohort
+	exp, cohort := withSiteConfound(r.Design, r.Cohort)
 	if _, _, err := scoresAndConfounds(exp.CV, cohort); err != nil {
 		return err
 	}

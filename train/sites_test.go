@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"path/filepath"
 	"slices"
 	"strings"
 	"testing"
@@ -306,5 +307,79 @@ func TestSiteFolds(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+// TestSavedHarmonizedModel: a fold model saved from a run with ComBat and
+// the site confound predicts its test participants, through skein
+// predict's path (LoadModel, SavedModel.Predict, participants without
+// scores), as the run did; a participant from a site the fold never saw
+// is an error naming the site.
+func TestSavedHarmonizedModel(t *testing.T) {
+	c := multiSiteCohort(t, true)
+	dir := t.TempDir()
+	d := &Design{Seed: 2, SaveModels: true, CV: CV{Folds: new(4), StratifySite: true, SiteConfound: true,
+		Harmonize: &Harmonize{Preserve: []string{"age"}}},
+		Models: []ModelConfig{{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}}}}
+	d.SetDefaults()
+	res, err := (&Runner{Design: d, Cohort: c, Jobs: 1, Models: dir}).Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	saved, err := LoadModel(filepath.Join(dir, unitPath("ridge", Unit{Repeat: 0, Fold: 0})))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, ok := saved.Fitted.Prep.Steps[0].(*Harmonizer); !ok {
+		t.Fatalf("the saved preparation starts with %s, want combat", saved.Fitted.Prep.Steps[0].Name())
+	}
+	test := subCohort(c, res.Splits[0].Test)
+	for i, p := range test.Participants {
+		q := *p
+		q.Scores = nil
+		test.Participants[i] = &q
+	}
+	_, residual, err := saved.Predict(test)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := make(map[string]float64)
+	for _, p := range res.Predictions {
+		if p.Repeat == 0 && p.Fold == 0 {
+			want[p.ParticipantID] = p.Predicted
+		}
+	}
+	for i, p := range test.Participants {
+		if got := residual.At(i, 0); math.Abs(got-want[p.ID]) > 1e-9 {
+			t.Errorf("%s: predicted %v from the saved model, %v in the run", p.ID, got, want[p.ID])
+		}
+	}
+	test.Participants[0].Site = "site-Z"
+	if _, _, err := saved.Predict(test); err == nil || !strings.Contains(err.Error(), `"site-Z"`) {
+		t.Errorf("unseen site: error %v, want one naming \"site-Z\"", err)
+	}
+}
+
+// TestLeaveOneSiteOutRun: leave-one-site-out folds with ComBat, each test
+// site harmonised as the average training site (unseen_site = "pooled"),
+// predict every participant once.
+func TestLeaveOneSiteOutRun(t *testing.T) {
+	c := multiSiteCohort(t, true)
+	d := &Design{Seed: 2, CV: CV{SitesOut: 1, Harmonize: &Harmonize{Method: HarmonizeNonparametric, UnseenSite: UnseenPooled}},
+		Models: []ModelConfig{{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}}}}
+	d.SetDefaults()
+	if err := d.CV.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	res, err := (&Runner{Design: d, Cohort: c, Jobs: 1}).Run(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Splits) != 4 || len(res.Predictions) != len(c.Participants) {
+		t.Errorf("%d folds and %d predictions, want 4 and %d", len(res.Splits), len(res.Predictions), len(c.Participants))
+	}
+	d.CV.Harmonize.UnseenSite = UnseenError
+	if _, err := (&Runner{Design: d, Cohort: c, Jobs: 1}).Run(context.Background()); err == nil || !strings.Contains(err.Error(), "test fold only") {
+		t.Errorf("leave-one-site-out with unseen_site = \"error\": %v, want the site named", err)
 	}
 }
