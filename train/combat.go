@@ -449,6 +449,9 @@ func (cb *ComBat) Apply(y *mat.Dense, sites []string, cov *mat.Dense, pooled boo
 	if G != len(cb.Mean) {
 		return nil, fmt.Errorf("%d features, ComBat was fitted on %d", G, len(cb.Mean))
 	}
+	if err := cb.check(G); err != nil {
+		return nil, err
+	}
 	if len(sites) != n {
 		panic("train: ComBat.Apply: sites differ in length from y")
 	}
@@ -484,6 +487,42 @@ func (cb *ComBat) Apply(y *mat.Dense, sites []string, cov *mat.Dense, pooled boo
 		}
 	}
 	return out, nil
+}
+
+// check reports estimates that do not fit together or do not fit G
+// features, such as those of a damaged saved file; the error names the
+// field at fault.
+func (cb *ComBat) check(G int) error {
+	B := len(cb.Sites)
+	switch {
+	case len(cb.Mean) != G || len(cb.SD) != G:
+		return fmt.Errorf("mean and sd hold %d and %d values, want one per feature (%d)", len(cb.Mean), len(cb.SD), G)
+	case B == 0 || len(cb.Count) != B || len(cb.Shift) != B || len(cb.Scale) != B:
+		return fmt.Errorf("%d sites with %d counts, %d shift rows and %d scale rows", B, len(cb.Count), len(cb.Shift), len(cb.Scale))
+	case !slices.IsSorted(cb.Sites):
+		return errors.New("sites are not sorted")
+	}
+	for b := range cb.Shift {
+		if len(cb.Shift[b]) != G || len(cb.Scale[b]) != G {
+			return fmt.Errorf("site %q: shift and scale hold %d and %d values, want %d", cb.Sites[b], len(cb.Shift[b]), len(cb.Scale[b]), G)
+		}
+		for g, v := range cb.Scale[b] {
+			if !(v > 0) || math.IsInf(v, 0) {
+				return fmt.Errorf("site %q: scale[%d] is %v, want a positive number", cb.Sites[b], g, v)
+			}
+		}
+	}
+	for c, row := range cb.Coef {
+		if len(row) != G {
+			return fmt.Errorf("coef row %d holds %d values, want %d", c, len(row), G)
+		}
+	}
+	for _, g := range cb.Left {
+		if g < 0 || g >= G {
+			return fmt.Errorf("left: feature %d of %d", g, G)
+		}
+	}
+	return nil
 }
 
 // site returns the estimates γ* and δ*² of site name, or with pooled the

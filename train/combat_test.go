@@ -8,6 +8,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"strconv"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -157,5 +158,33 @@ func TestComBatSiteErrors(t *testing.T) {
 	}
 	if _, err := cb.Apply(y, []string{"a", "a", "b", "b", "z"}, nil, true); err != nil {
 		t.Errorf("pooled: %v", err)
+	}
+}
+
+// TestComBatDamagedEstimates: estimates that do not fit together are an
+// error naming the field, never a panic.
+func TestComBatDamagedEstimates(t *testing.T) {
+	y := mat.NewDense(4, 2, []float64{1, 2, 3, 4, 5, 7, 2, 1})
+	sites := []string{"a", "a", "b", "b"}
+	for _, tc := range []struct {
+		name   string
+		damage func(*ComBat)
+		want   string
+	}{
+		{"short mean", func(cb *ComBat) { cb.Mean = cb.Mean[:1] }, "features"},
+		{"missing scale row", func(cb *ComBat) { cb.Scale = cb.Scale[:1] }, "scale rows"},
+		{"zero scale", func(cb *ComBat) { cb.Scale[1][0] = 0 }, "scale[0]"},
+		{"unsorted sites", func(cb *ComBat) { cb.Sites[0], cb.Sites[1] = cb.Sites[1], cb.Sites[0] }, "sorted"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			cb, err := FitComBat(y, sites, nil, HarmonizeParametric)
+			if err != nil {
+				t.Fatal(err)
+			}
+			tc.damage(cb)
+			if _, err := cb.Apply(y, sites, nil, false); err == nil || !strings.Contains(err.Error(), tc.want) {
+				t.Errorf("error %v, want one saying %q", err, tc.want)
+			}
+		})
 	}
 }

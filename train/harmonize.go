@@ -237,6 +237,9 @@ func (h *Harmonizer) Apply(c *data.Cohort) (*data.Cohort, error) {
 		if *m.fit == nil {
 			return nil, fmt.Errorf("%s: not fitted", m.name)
 		}
+		if err := (*m.fit).check(h.P * (h.P - 1) / 2); err != nil {
+			return nil, fmt.Errorf("%s_fit: %w", m.name, err)
+		}
 	}
 	out := *c
 	out.Participants = make([]*data.Participant, len(c.Participants))
