@@ -43,6 +43,10 @@ type Cohort struct {
 	Covariates []string
 	// Regions holds the p region labels, in matrix order.
 	Regions []string
+	// SiteColumn names the participants table's site column (cohort.site)
+	// for messages; "" when the cohort has none or was not read from a
+	// table.
+	SiteColumn string
 	// Excluded lists every participant that was left out, with its reason.
 	Excluded []Exclusion
 }

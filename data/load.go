@@ -181,7 +181,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		return nil, nil, err
 	}
 
-	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates}
+	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates, SiteColumn: l.src.Site}
 	var kept []*Participant
 	for _, r := range rows {
 		var reasons []string

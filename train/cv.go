@@ -207,13 +207,13 @@ func (cv CV) checkAgainst(c *data.Cohort) error {
 // site with a single participant (no site effect can be estimated from
 // it), fewer than two sites, or, with sitesOut > 0, fewer than sitesOut
 // + 1 sites (every fold must leave a site to train on). The error names
-// the key cohort.site and the site or participant.
+// the site column (siteKey) and the site or participant.
 func CheckSites(c *data.Cohort, sitesOut int) error {
 	count := make(map[string]int)
 	var order []string
 	for _, p := range c.Participants {
 		if p.Site == "" {
-			return fmt.Errorf("cohort.site: participant %s has no site (a site-aware run needs the site column, and a site for everyone)", p.ID)
+			return fmt.Errorf("%s: participant %s has no site (a site-aware run needs the site column, and a site for everyone)", siteKey(c), p.ID)
 		}
 		if count[p.Site] == 0 {
 			order = append(order, p.Site)
@@ -222,14 +222,14 @@ func CheckSites(c *data.Cohort, sitesOut int) error {
 	}
 	for _, s := range order {
 		if count[s] < 2 {
-			return fmt.Errorf("cohort.site: site %q has one participant; a site's effect needs at least two (merge it with a similar site or leave it out)", s)
+			return fmt.Errorf("%s: site %q has one participant; a site's effect needs at least two (merge it with a similar site or leave it out)", siteKey(c), s)
 		}
 	}
 	switch {
 	case len(order) == 0:
 		return errors.New("cohort.site: no participants")
 	case len(order) < 2:
-		return fmt.Errorf("cohort.site: one site (%q); harmonisation, site confounds and site-aware folds need at least two", order[0])
+		return fmt.Errorf("%s: one site (%q); harmonisation, site confounds and site-aware folds need at least two", siteKey(c), order[0])
 	case sitesOut > 0 && len(order) <= sitesOut:
 		return fmt.Errorf("cv.sites_out: %d sites per fold, but the cohort has %d sites (need more than %d)", sitesOut, len(order), sitesOut)
 	}
@@ -281,7 +281,7 @@ func AddSiteColumns(c *data.Cohort, sites []string) (*data.Cohort, error) {
 	oc.Participants = make([]*data.Participant, len(c.Participants))
 	for i, p := range c.Participants {
 		if !slices.Contains(sites, p.Site) {
-			return nil, fmt.Errorf("cohort.site: participant %s is from site %q, which none of the training participants came from (sites %v), so its confound effect is unknown", p.ID, p.Site, sites)
+			return nil, fmt.Errorf("%s: participant %s is from site %q, which none of the training participants came from (sites %v), so its confound effect is unknown", siteKey(c), p.ID, p.Site, sites)
 		}
 		q := *p
 		q.Covariates = slices.Grow(slices.Clone(p.Covariates), len(names))
@@ -322,10 +322,19 @@ func checkFoldSites(cv CV, c *data.Cohort, split Split) error {
 	for _, i := range split.Test {
 		if s := c.Participants[i].Site; !inTrain[s] {
 			if siteConfound {
-				return fmt.Errorf("cohort.site: site %q is in the test fold only, so its confound effect (cv.site_confound) cannot be fitted; cv.stratify_site = true spreads every site over the folds", s)
+				return fmt.Errorf("%s: site %q is in the test fold only, so its confound effect (cv.site_confound) cannot be fitted; cv.stratify_site = true spreads every site over the folds", siteKey(c), s)
 			}
-			return fmt.Errorf("cohort.site: site %q is in the test fold only, so ComBat cannot estimate its effect; cv.stratify_site = true spreads every site over the folds, cv.harmonize.unseen_site = %q harmonises it as the average training site", s, UnseenPooled)
+			return fmt.Errorf("%s: site %q is in the test fold only, so ComBat cannot estimate its effect; cv.stratify_site = true spreads every site over the folds, cv.harmonize.unseen_site = %q harmonises it as the average training site", siteKey(c), s, UnseenPooled)
 		}
 	}
 	return nil
+}
+
+// siteKey names the site column of c in messages: the key cohort.site and,
+// when known, the column's name.
+func siteKey(c *data.Cohort) string {
+	if c.SiteColumn == "" {
+		return "cohort.site"
+	}
+	return fmt.Sprintf("cohort.site (column %q)", c.SiteColumn)
 }

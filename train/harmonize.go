@@ -86,7 +86,7 @@ type Harmonizer struct {
 	// Unseen is what Apply does with a site Fit did not see; "" means
 	// UnseenError.
 	Unseen UnseenSite `json:"unseen_site"`
-	// SiteColumn names the site column in messages.
+	// SiteColumn names the site column in messages (data.Cohort.SiteColumn).
 	SiteColumn string `json:"site_column,omitempty"`
 	// P is the number of regions, set by Fit.
 	P int `json:"p"`
@@ -122,7 +122,7 @@ func (h *Harmonizer) column() string {
 	if h.SiteColumn == "" {
 		return "cohort.site"
 	}
-	return fmt.Sprintf("site column %q", h.SiteColumn)
+	return fmt.Sprintf("cohort.site (column %q)", h.SiteColumn)
 }
 
 // sites returns the site of every participant of c, an error naming the

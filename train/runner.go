@@ -356,7 +356,7 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	if h := exp.CV.Harmonize; h != nil {
 		first := cohort.Participants[0]
 		prep.Steps = append(prep.Steps, &Harmonizer{Functional: first.Functional != nil, Structural: first.Structural != nil,
-			Covariates: h.Preserve, Method: h.Method, Unseen: h.UnseenSite})
+			Covariates: h.Preserve, Method: h.Method, Unseen: h.UnseenSite, SiteColumn: cohort.SiteColumn})
 	}
 	tp := &TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}
 	if slices.ContainsFunc(exp.CV.Confounds, func(name string) bool { return strings.HasPrefix(name, siteDummyPrefix) }) {

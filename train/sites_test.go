@@ -207,7 +207,7 @@ func TestHarmonizerRoundTrip(t *testing.T) {
 // the site (or participant).
 func TestSiteErrors(t *testing.T) {
 	base := func() *data.Cohort {
-		c := &data.Cohort{Targets: []string{"recall"}, Covariates: []string{"age"}, Regions: []string{"a", "b", "c"}}
+		c := &data.Cohort{Targets: []string{"recall"}, Covariates: []string{"age"}, Regions: []string{"a", "b", "c"}, SiteColumn: "scanner"}
 		for i, s := range []string{"x", "x", "y", "y", "z", "z"} {
 			f := mat.NewDense(3, 3, []float64{0, 0.1 * float64(i), 0.2, 0.1 * float64(i), 0, 0.3 * float64(i%3), 0.2, 0.3 * float64(i%3), 0})
 			c.Participants = append(c.Participants, &data.Participant{ID: fmt.Sprintf("p%d", i), Site: s, Functional: f,
@@ -223,10 +223,10 @@ func TestSiteErrors(t *testing.T) {
 		split *Split
 		want  []string
 	}{
-		{"missing site", func(c *data.Cohort) { c.Participants[3].Site = "" }, CV{Harmonize: harm}, nil, []string{"cohort.site", "p3"}},
-		{"one participant at a site", func(c *data.Cohort) { c.Participants[4].Site = "x" }, CV{Harmonize: harm}, nil, []string{"cohort.site", `"z"`, "one participant"}},
-		{"site in test only", nil, CV{Harmonize: harm}, &Split{Train: []int{0, 1, 2, 3}, Test: []int{4, 5}}, []string{"cohort.site", `"z"`, "test fold only"}},
-		{"site in test only, confound", nil, CV{SiteConfound: true}, &Split{Train: []int{0, 1, 2, 3}, Test: []int{4, 5}}, []string{"cohort.site", `"z"`, "cv.site_confound"}},
+		{"missing site", func(c *data.Cohort) { c.Participants[3].Site = "" }, CV{Harmonize: harm}, nil, []string{`cohort.site (column "scanner")`, "p3"}},
+		{"one participant at a site", func(c *data.Cohort) { c.Participants[4].Site = "x" }, CV{Harmonize: harm}, nil, []string{`column "scanner"`, `"z"`, "one participant"}},
+		{"site in test only", nil, CV{Harmonize: harm}, &Split{Train: []int{0, 1, 2, 3}, Test: []int{4, 5}}, []string{`column "scanner"`, `"z"`, "test fold only"}},
+		{"site in test only, confound", nil, CV{SiteConfound: true}, &Split{Train: []int{0, 1, 2, 3}, Test: []int{4, 5}}, []string{`column "scanner"`, `"z"`, "cv.site_confound"}},
 		{"preserved target", nil, CV{Harmonize: &Harmonize{Preserve: []string{"recall"}}}, nil, []string{"cv.harmonize.preserve", "recall", "leakage"}},
 	}
 	for _, tc := range cases {
