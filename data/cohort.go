@@ -9,6 +9,9 @@ type Participant struct {
 	// Group is the participant's value in the grouping column (family or
 	// scanning site); it is "" when the cohort has no grouping column.
 	Group string
+	// Site is the participant's value in the site column (cohort.site);
+	// "" when the cohort has none.
+	Site string
 	// Functional is the p × p functional connectome after preprocessing
 	// (for example Fisher z with a zero diagonal); nil when the cohort has no
 	// functional modality.
@@ -40,6 +43,10 @@ type Cohort struct {
 	Covariates []string
 	// Regions holds the p region labels, in matrix order.
 	Regions []string
+	// SiteColumn names the participants table's site column (cohort.site)
+	// for messages; "" when the cohort has none or was not read from a
+	// table.
+	SiteColumn string
 	// Excluded lists every participant that was left out, with its reason.
 	Excluded []Exclusion
 	// Files lists every file Check read, in the order read, with the

@@ -148,6 +148,7 @@ func (l *loader) path(p string) string {
 type tableRow struct {
 	id         string
 	group      string
+	site       string
 	scores     []float64
 	covariates []float64
 }
@@ -225,7 +226,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		return nil, nil, err
 	}
 
-	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates}
+	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates, SiteColumn: l.src.Site}
 	var kept []*Participant
 	for _, r := range rows {
 		if reason, ok := l.src.Exclude[r.id]; ok {
@@ -248,7 +249,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 			c.Excluded = append(c.Excluded, Exclusion{ID: r.id, Reason: strings.Join(reasons, "; ")})
 			continue
 		}
-		p := &Participant{ID: r.id, Group: r.group, Scores: r.scores, Covariates: r.covariates}
+		p := &Participant{ID: r.id, Group: r.group, Site: r.site, Scores: r.scores, Covariates: r.covariates}
 		var failed []string
 		means, densities := make([]float64, len(mods)), make([]float64, len(mods))
 		for k, m := range mods {
@@ -388,6 +389,10 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 	if l.src.Group != "" {
 		groupCol = find("group", l.src.Group)
 	}
+	siteCol := -1
+	if l.src.Site != "" {
+		siteCol = find("site", l.src.Site)
+	}
 	if l.errs.err() != nil {
 		return nil, nil
 	}
@@ -434,6 +439,13 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 		}
 		if groupCol >= 0 && !isMissing(cells[groupCol]) {
 			row.group = cells[groupCol]
+		}
+		if siteCol >= 0 {
+			if isMissing(cells[siteCol]) {
+				cellErr(r, siteCol, "participant %s has no site (cohort.site names this column; every participant needs one)", id)
+			} else {
+				row.site = cells[siteCol]
+			}
 		}
 		rows[r] = row
 	}

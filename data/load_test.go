@@ -358,6 +358,12 @@ func TestCheckSmallCohorts(t *testing.T) {
 			f["participants.csv"] = "participant_id,score,sex\ns1,1,F\ns2,2,1\n"
 			s.Covariates = []string{"sex"}
 		}, `line 3, column 3 ("sex"): value "1" is a number, but this covariate is text from line 2 on ("F")`, nil, 0},
+		{"site column", func(_ map[string]string, s *Source) { s.Site = "site" }, "", []string{"R001", "R002", "R003"}, 2},
+		{"missing site", func(f map[string]string, s *Source) {
+			f["participants.csv"] = "participant_id,score,site\ns1,1,x\ns2,2,\n"
+			s.Site = "site"
+		}, `line 3, column 3 ("site"): participant s2 has no site (cohort.site names this column`, nil, 0},
+		{"no site column", func(_ map[string]string, s *Source) { s.Site = "scanner" }, `no column "scanner" (named in cohort.site)`, nil, 0},
 		{"values any", func(f map[string]string, s *Source) {
 			f["fc/s1.txt"] = "1 2\n2 1\n"
 			f["fc/s2.txt"] = "1 2\n2 1\n"

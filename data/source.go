@@ -27,6 +27,7 @@ const Placeholder = "{participant_id}"
 //	targets = ["recall", "fluency"]
 //	covariates = ["age", "sex", "motion"]
 //	group = "family"
+//	site = "scanner"
 //	regions = "regions.txt"
 //	min_participants = 20
 //	outlier_sd = 3.0
@@ -64,6 +65,13 @@ type Source struct {
 	// Group names an optional grouping column (family or scanning site).
 	// A participant with no value in it is excluded.
 	Group string `toml:"group"`
+	// Site names an optional column of scanning sites (text; any label),
+	// which harmonisation (ComBat), site-aware folds and the site
+	// confound read. Unlike a group, a participant with no value in it is
+	// an error naming the row: a run on sites must know every site. It may
+	// be the same column as Group, which then also keeps a site's
+	// participants in one fold.
+	Site string `toml:"site"`
 	// Regions is an optional file of region labels, one a line. Without
 	// it, labels come from the matrices' header rows or are "R001", "R002"...
 	Regions string `toml:"regions"`
@@ -304,6 +312,14 @@ func (s Source) validate(needTargets bool) error {
 	if s.Group != "" {
 		if err := note("group", s.Group); err != nil {
 			return err
+		}
+	}
+	if s.Site != "" {
+		if s.Site == "participant_id" {
+			return fmt.Errorf("cohort.site: %q is the id column, not a site", s.Site)
+		}
+		if prev, ok := seen[s.Site]; ok && prev != "group" {
+			return fmt.Errorf("cohort.site: column %q is already named in cohort.%s", s.Site, prev)
 		}
 	}
 	if s.MinParticipants == nil || *s.MinParticipants < 1 {

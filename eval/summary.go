@@ -34,6 +34,10 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 //	      "fold_mean": VALUES,          // mean over the folds of each metric; absent without folds
 //	      "fold_sd": VALUES,            // sample SD (n − 1) over the folds; absent without folds
 //	      "fold_undefined": {"pearson_r": 1}   // folds where a metric was NaN; absent when none
+//	      "sites": [                    // one per site (Summary.AddSites), sorted; absent without sites
+//	        {"site": "site-A", "participants": 40, SCORES...}, ...
+//	      ],
+//	      "heterogeneity": {"sites": S, "sd_r": .., "q": .., "df": .., "p": .., "i2": .., "pooled_r": ..}
 //	    }, ...
 //	  ]
 //	}
@@ -68,6 +72,10 @@ type Group struct {
 	// FoldUndefined counts, for each metric, the folds in which it was NaN
 	// and which FoldMean and FoldSD therefore leave out.
 	FoldUndefined map[Metric]int
+	// Sites scores each site alone and Heterogeneity says how r varies
+	// across them; set by AddSites, nil for a cohort without sites.
+	Sites         []SiteScores
+	Heterogeneity *Heterogeneity
 }
 
 // FoldScores are the scores of one test fold of one repeat.
@@ -371,6 +379,8 @@ type groupJSON struct {
 	FoldMean      *Values        `json:"fold_mean,omitempty"`
 	FoldSD        *Values        `json:"fold_sd,omitempty"`
 	FoldUndefined map[Metric]int `json:"fold_undefined,omitempty"`
+	Sites         []siteJSON     `json:"sites,omitempty"`
+	Heterogeneity *heteroJSON    `json:"heterogeneity,omitempty"`
 }
 
 type summaryJSON struct {
@@ -384,6 +394,13 @@ func (s *Summary) MarshalJSON() ([]byte, error) {
 	out := summaryJSON{Note: Disclaimer, Bins: s.Bins, Groups: make([]groupJSON, len(s.Groups))}
 	for i, g := range s.Groups {
 		out.Groups[i] = groupJSON{Model: g.Model, Target: g.Target, Pooled: g.Pooled, FoldUndefined: g.FoldUndefined}
+		for _, ss := range g.Sites {
+			out.Groups[i].Sites = append(out.Groups[i].Sites, siteJSON{Site: ss.Site, Participants: ss.Participants, Scores: ss.Scores})
+		}
+		if h := g.Heterogeneity; h != nil {
+			out.Groups[i].Heterogeneity = &heteroJSON{Sites: h.Sites, SD: jsonFloat(h.SD), Q: jsonFloat(h.Q), DF: h.DF,
+				P: jsonFloat(h.P), I2: jsonFloat(h.I2), Pooled: jsonFloat(h.Pooled)}
+		}
 		if len(g.Folds) > 0 {
 			mean, sd := g.FoldMean, g.FoldSD
 			out.Groups[i].Folds, out.Groups[i].FoldMean, out.Groups[i].FoldSD = g.Folds, &mean, &sd
@@ -402,6 +419,13 @@ func (s *Summary) UnmarshalJSON(b []byte) error {
 	s.Groups = make([]Group, len(in.Groups))
 	for i, g := range in.Groups {
 		out := Group{Model: g.Model, Target: g.Target, Pooled: g.Pooled, Folds: g.Folds, FoldUndefined: g.FoldUndefined}
+		for _, ss := range g.Sites {
+			out.Sites = append(out.Sites, SiteScores{Site: ss.Site, Participants: ss.Participants, Scores: ss.Scores})
+		}
+		if h := g.Heterogeneity; h != nil {
+			out.Heterogeneity = &Heterogeneity{Sites: h.Sites, SD: float64(h.SD), Q: float64(h.Q), DF: h.DF, P: float64(h.P),
+				I2: float64(h.I2), Pooled: float64(h.Pooled)}
+		}
 		out.FoldMean, out.FoldSD, _ = foldSpread(nil)
 		if g.FoldMean != nil {
 			out.FoldMean = *g.FoldMean
@@ -507,6 +531,7 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 		"pairing of the same bins. AMI is NMI corrected for chance (0 at chance, 1 for matching bins). The chance "+
 		"level of r, ρ and AMI is 0; R² is out of sample and slightly below 0 at chance; the mean predictor's MAE "+
 		"and RMSE are the chance level of the errors. Predictions constant to rounding have no r or ρ (–).\n", s.Bins)
+	s.writeSitesMarkdown(&b)
 	if note := s.SmallFoldNote(); note != "" {
 		b.WriteString("\n" + note + "\n")
 	}

@@ -17,6 +17,8 @@ import (
 //   - keys whose value is empty text or an empty list (nothing set);
 //   - [permutation]'s keys other than count when count is 0 (no test),
 //     and permutation.blocks without a group column;
+//   - cv.site_confound, cv.sites_out and cv.stratify_site without a site
+//     column (cohort.site);
 //   - [drift] when it sets no rule, and drift.p_metric when p_level is 0;
 //   - [sample_size] when it asks for no curve;
 //   - each model's keys that its kind reports as inapplicable to its
@@ -37,6 +39,11 @@ func (e *Experiment) MarshalApplicable() ([]byte, error) {
 	}
 	if e.Cohort.Group == "" {
 		drop["permutation.blocks"] = true
+	}
+	if e.Cohort.Site == "" {
+		for _, k := range []string{"site_confound", "sites_out", "stratify_site"} {
+			drop["cv."+k] = true
+		}
 	}
 	if e.Drift.PLevel == 0 {
 		drop["drift.p_metric"] = true

@@ -69,6 +69,9 @@ func EvaluateWith(ctx context.Context, exp *Experiment, r *train.Runner, res *tr
 		Grouped: train.Groups(r.Cohort) != nil}
 	rep.Rows = res.Predictions
 	rep.Summary = eval.Summarize(rep.Rows, bins, true)
+	if siteOf := participantSites(r.Cohort); siteOf != nil {
+		rep.Summary.AddSites(rep.Rows, siteOf)
+	}
 	orderGroups(rep.Summary, exp, r.Cohort.Targets)
 	if exp.Permutation.Count > 0 {
 		nulls := done.Nulls
@@ -299,6 +302,7 @@ func runCautions(rep *Report, r *train.Runner) []string {
 				"distinct splits and permutations exist.", len(r.Cohort.Participants), distinct, k))
 		}
 	}
+	out = append(out, siteCautions(r.Cohort)...)
 	out = append(out, gridEdgeCautions(rep.Experiment, rep.Result, r.Cohort.Targets)...)
 	out = append(out, predictionCautions(rep.Summary, rep.Rows)...)
 	if count := rep.Experiment.Permutation.Count; count > 0 && count < 99 {
@@ -449,4 +453,51 @@ func orderGroups(sum *eval.Summary, exp *Experiment, targets []string) {
 		}
 		return at - bt
 	})
+}
+
+// participantSites maps each participant_id of c to its site (cohort.site);
+// nil when the cohort has no sites.
+func participantSites(c *data.Cohort) map[string]string {
+	if len(c.Participants) == 0 || c.Participants[0].Site == "" {
+		return nil
+	}
+	out := make(map[string]string, len(c.Participants))
+	for _, p := range c.Participants {
+		out[p.ID] = p.Site
+	}
+	return out
+}
+
+// SiteScoreEta2 is the η² of a one-way analysis of variance of a score on
+// site from which the summary cautions that the sites alone predict the
+// score: 0.06, Cohen's (1988, section 8.2) "medium" effect (from memory).
+const SiteScoreEta2 = 0.06
+
+// siteCautions returns one caution per target whose scores the sites of
+// c explain with η² ≥ SiteScoreEta2 (eval.EtaSquared): connectomes carry
+// the site too, so a model can predict such a score from the site alone.
+func siteCautions(c *data.Cohort) []string {
+	sites := participantSites(c)
+	if sites == nil {
+		return nil
+	}
+	labels := make([]string, len(c.Participants))
+	for i, p := range c.Participants {
+		labels[i] = p.Site
+	}
+	var out []string
+	for t, target := range c.Targets {
+		y := make([]float64, len(c.Participants))
+		for i, p := range c.Participants {
+			y[i] = p.Scores[t]
+		}
+		if eta := eval.EtaSquared(y, labels); eta >= SiteScoreEta2 {
+			out = append(out, fmt.Sprintf("Site and score: the sites explain %.0f%% of the variance of %s (η² of a one-way "+
+				"ANOVA = %.2f, at or above %.2f). Connectomes carry the site too, so a model can predict %s through the "+
+				"site alone: harmonise the edges in the folds ([cv.harmonize]), regress the site out of the scores "+
+				"(cv.site_confound = true), or validate across sites (cv.sites_out), and read the per-site r.",
+				100*eta, target, eta, SiteScoreEta2, target))
+		}
+	}
+	return out
 }

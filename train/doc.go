@@ -1,8 +1,10 @@
 // Package train cross-validates models on a cohort: it splits the cohort
-// into repeated (grouped, optionally stratified) k-fold folds (Folds), fits
-// the fold's preparation on its training participants only (Prep,
-// Pipeline: target standardisation and confound regression, shared by
-// every model of the fold, then the input steps of a model's own kind,
+// into repeated (grouped, optionally stratified by a target or by site)
+// k-fold folds or leave-k-sites-out folds (Folds), fits the fold's
+// preparation on its training participants only (Prep, Pipeline: ComBat
+// harmonisation of the edges across sites (Harmonizer, FitComBat), target
+// standardisation and confound regression, site one-hot included, shared
+// by every model of the fold, then the input steps of a model's own kind,
 // such as the per-edge standardization of networks, EdgeScaler), picks
 // the inner validation part, trains every model of a Design under the same
 // splits and collects their test predictions (Runner, Result).

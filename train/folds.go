@@ -35,6 +35,16 @@ type Folds struct {
 	// Strata, when not nil, holds one value per participant (a target;
 	// NaN where missing) and asks for folds balanced on its quantiles.
 	Strata []float64
+	// Sites, when not nil, holds one site label per participant. With
+	// SitesOut = 0 it balances the folds on site: units are ordered by
+	// site (then by stratum, with Strata) and dealt in blocks of K, so
+	// each site's participants spread evenly over the folds.
+	Sites []string
+	// SitesOut, when above 0, makes the splits leave-k-sites-out with
+	// k = SitesOut (Sites must be set): each repeat shuffles the sites and
+	// deals them k to a test fold, which makes ⌈S/k⌉ folds of S sites
+	// (K is not read). Groups are not needed: whole sites move.
+	SitesOut int
 }
 
 // Splits returns the Repeats × K splits of n participants, repeat by repeat.
@@ -45,15 +55,21 @@ type Folds struct {
 // on the strata; without Strata each group goes to the fold with the fewest
 // participants so far, which balances fold sizes. It is an error to ask for
 // more folds than there are groups.
+//
+// With SitesOut > 0 the splits are leave-k-sites-out instead (see
+// SitesOut); a test fold then holds every participant of its sites.
 func (f Folds) Splits(n int) ([]Split, error) {
+	if f.SitesOut > 0 {
+		return f.siteSplits(n)
+	}
 	if f.K < 2 {
 		return nil, fmt.Errorf("train: %d folds: need at least 2", f.K)
 	}
 	if f.Repeats < 1 {
 		return nil, fmt.Errorf("train: %d repeats: need at least 1", f.Repeats)
 	}
-	if f.Groups != nil && len(f.Groups) != n || f.Strata != nil && len(f.Strata) != n {
-		panic("train: Folds.Groups or Strata length differs from n")
+	if f.Groups != nil && len(f.Groups) != n || f.Strata != nil && len(f.Strata) != n || f.Sites != nil && len(f.Sites) != n {
+		panic("train: Folds.Groups, Strata or Sites length differs from n")
 	}
 	units := f.units(n)
 	if len(units) < f.K {
@@ -89,10 +105,89 @@ func (f Folds) units(n int) [][]int {
 	return data.GroupIndices(f.Groups)
 }
 
+// siteSplits returns the leave-k-sites-out splits of n participants.
+func (f Folds) siteSplits(n int) ([]Split, error) {
+	if f.Sites == nil || len(f.Sites) != n {
+		panic("train: Folds.SitesOut without a site per participant")
+	}
+	if f.Repeats < 1 {
+		return nil, fmt.Errorf("train: %d repeats: need at least 1", f.Repeats)
+	}
+	bySite := data.GroupIndices(f.Sites)
+	S := len(bySite)
+	if S <= f.SitesOut {
+		return nil, fmt.Errorf("train: %d sites out per fold, but only %d sites", f.SitesOut, S)
+	}
+	K := (S + f.SitesOut - 1) / f.SitesOut
+	var splits []Split
+	for r := 0; r < f.Repeats; r++ {
+		rng := rand.New(rand.NewPCG(f.Seed, uint64(r)+1))
+		order := rng.Perm(S)
+		if f.SitesOut == 1 {
+			order = order[:0]
+			for u := range S {
+				order = append(order, u)
+			}
+		}
+		for k := 0; k < K; k++ {
+			s := Split{Repeat: r, Fold: k}
+			out := make([]bool, S)
+			for _, u := range order[k*f.SitesOut : min((k+1)*f.SitesOut, S)] {
+				out[u] = true
+			}
+			for u, members := range bySite {
+				if out[u] {
+					s.Test = append(s.Test, members...)
+				} else {
+					s.Train = append(s.Train, members...)
+				}
+			}
+			slices.Sort(s.Test)
+			slices.Sort(s.Train)
+			splits = append(splits, s)
+		}
+	}
+	return splits, nil
+}
+
 // deal assigns each unit a fold.
 func (f Folds) deal(units [][]int, rng *rand.Rand) []int {
 	order := rng.Perm(len(units))
 	fold := make([]int, len(units))
+	if f.Sites != nil {
+		// Stable sort of the shuffled order by site, then stratum:
+		// dealing blocks of K then spreads each site over the folds.
+		site := make([]string, len(units))
+		key := make([]float64, len(units))
+		for u, members := range units {
+			site[u] = f.Sites[members[0]]
+			key[u] = math.NaN()
+			if f.Strata != nil {
+				key[u] = meanIgnoringNaN(f.Strata, members)
+			}
+		}
+		sort.SliceStable(order, func(a, b int) bool {
+			ua, ub := order[a], order[b]
+			if site[ua] != site[ub] {
+				return site[ua] < site[ub]
+			}
+			ka, kb := key[ua], key[ub]
+			if math.IsNaN(kb) {
+				return !math.IsNaN(ka)
+			}
+			return ka < kb
+		})
+		// Continue the deal across sites: the next block starts where the
+		// last site's left off, so small sites do not all land in fold 0.
+		slots := rng.Perm(f.K)
+		for j, u := range order {
+			if j%f.K == 0 && j > 0 {
+				slots = rng.Perm(f.K)
+			}
+			fold[u] = slots[j%f.K]
+		}
+		return fold
+	}
 	if f.Strata != nil {
 		key := make([]float64, len(units))
 		for u, members := range units {

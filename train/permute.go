@@ -149,7 +149,7 @@ type NullRun struct {
 // r.OnEvent, when set, receives a PermutationDone event after each
 // permutation of each model has been passed to null.
 func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []string, chunk int, null func(NullRun) error) error {
-	exp, cohort := r.Design, r.Cohort
+	exp, cohort := withSiteConfound(r.Design, r.Cohort)
 	splits, err := exp.CV.folds(exp.Seed, cohort).Splits(len(cohort.Participants))
 	if err != nil {
 		return err
@@ -175,7 +175,11 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 		}
 		for first := 0; first < len(perms); first += step {
 			batch := perms[first:min(first+step, len(perms))]
-			pc, confounds, err := permutedCohort(cohort, batch, exp.CV.Confounds)
+			var preserved []string
+			if exp.CV.Harmonize != nil {
+				preserved = exp.CV.Harmonize.Preserve
+			}
+			pc, confounds, err := permutedCohort(cohort, batch, exp.CV.Confounds, preserved)
 			if err != nil {
 				return err
 			}
@@ -221,7 +225,9 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 // of batch, the scores and the named confounds of participant perm[i]:
 // targets "TARGET|k" and covariates "CONFOUND|k", block after block. The
 // second result names the covariates, the permuted run's cv.confounds.
-func permutedCohort(c *data.Cohort, batch [][]int, confounds []string) (*data.Cohort, []string, error) {
+// The covariates preserved names (those harmonisation preserves, which
+// describe the matrices) follow, unpermuted, under their own names.
+func permutedCohort(c *data.Cohort, batch [][]int, confounds, preserved []string) (*data.Cohort, []string, error) {
 	T := len(c.Targets)
 	cols := make([]int, len(confounds))
 	for j, name := range confounds {
@@ -229,7 +235,7 @@ func permutedCohort(c *data.Cohort, batch [][]int, confounds []string) (*data.Co
 			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (covariates: %s)", name, wordList(c.Covariates))
 		}
 	}
-	pc := &data.Cohort{Regions: c.Regions}
+	pc := &data.Cohort{Regions: c.Regions, SiteColumn: c.SiteColumn}
 	for k := range batch {
 		for _, t := range c.Targets {
 			pc.Targets = append(pc.Targets, t+"|"+strconv.Itoa(k))
@@ -238,10 +244,18 @@ func permutedCohort(c *data.Cohort, batch [][]int, confounds []string) (*data.Co
 			pc.Covariates = append(pc.Covariates, name+"|"+strconv.Itoa(k))
 		}
 	}
+	permuted := slices.Clone(pc.Covariates)
+	keep := make([]int, len(preserved))
+	for j, name := range preserved {
+		if keep[j] = slices.Index(c.Covariates, name); keep[j] < 0 {
+			return nil, nil, fmt.Errorf("cv.harmonize.preserve: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
+		}
+	}
+	pc.Covariates = append(pc.Covariates, preserved...)
 	for i, p := range c.Participants {
 		q := *p
 		q.Scores = make([]float64, 0, T*len(batch))
-		q.Covariates = make([]float64, 0, len(cols)*len(batch))
+		q.Covariates = make([]float64, 0, len(cols)*len(batch)+len(keep))
 		for _, perm := range batch {
 			src := c.Participants[perm[i]]
 			q.Scores = append(q.Scores, src.Scores...)
@@ -249,9 +263,12 @@ func permutedCohort(c *data.Cohort, batch [][]int, confounds []string) (*data.Co
 				q.Covariates = append(q.Covariates, src.Covariates[j])
 			}
 		}
+		for _, j := range keep {
+			q.Covariates = append(q.Covariates, p.Covariates[j])
+		}
 		pc.Participants = append(pc.Participants, &q)
 	}
-	return pc, pc.Covariates, nil
+	return pc, permuted, nil
 }
 
 func splitPermutedTarget(name string) (int, string) {

@@ -185,7 +185,7 @@ func (r *Runner) planSplits() ([]Split, error) {
 // is cancelled, finished units are kept in the checkpoints and Run returns
 // an error wrapping ctx.Err().
 func (r *Runner) Run(ctx context.Context) (*Result, error) {
-	exp, cohort := r.Design, r.Cohort
+	exp, cohort := withSiteConfound(r.Design, r.Cohort)
 	logger := r.Logger
 	if logger == nil {
 		logger = slog.New(slog.DiscardHandler)
@@ -349,15 +349,37 @@ type foldData struct {
 // training part, its inner validation part and the test fold, and
 // gathers what every model of the split shares. Every step of the
 // preparation is in the Pipeline made here.
+//
+// With cv.harmonize, the first step is a Harmonizer of every modality the
+// cohort has, so that every model, baseline or network, learns from
+// harmonised edges; a test-fold site that a fold-fitted site step cannot
+// meet (checkFoldSites) is an error naming it.
 func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*foldData, error) {
-	prep := &Pipeline{Steps: []Prep{&TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}}}
+	if err := checkFoldSites(exp.CV, cohort, split); err != nil {
+		return nil, err
+	}
+	prep := &Pipeline{}
+	if h := exp.CV.Harmonize; h != nil {
+		first := cohort.Participants[0]
+		prep.Steps = append(prep.Steps, &Harmonizer{Functional: first.Functional != nil, Structural: first.Structural != nil,
+			Covariates: h.Preserve, Method: h.Method, Unseen: h.UnseenSite, SiteColumn: cohort.SiteColumn})
+	}
+	tp := &TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}
+	if slices.ContainsFunc(exp.CV.Confounds, func(name string) bool { return strings.HasPrefix(name, siteDummyPrefix) }) {
+		tp.SiteLevels = slices.Sorted(slices.Values(uniq(siteLabels(cohort))))
+	}
+	prep.Steps = append(prep.Steps, tp)
 	if err := prep.Fit(subCohort(cohort, split.Train)); err != nil {
 		return nil, err
 	}
 	var edges *EdgeScaler
 	if f, s := exp.edgeScaling(); f || s {
 		edges = &EdgeScaler{Functional: f, Structural: s}
-		if err := edges.Fit(subCohort(cohort, split.Train)); err != nil {
+		trainCohort, err := prep.Apply(subCohort(cohort, split.Train))
+		if err != nil {
+			return nil, err
+		}
+		if err := edges.Fit(trainCohort); err != nil {
 			return nil, fmt.Errorf("%s: %w", edges.Name(), err)
 		}
 	}

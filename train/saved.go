@@ -274,6 +274,13 @@ func (s *SavedModel) Predict(c *data.Cohort) (score, residual *mat.Dense, err er
 	if !slices.Equal(c.Regions, f.Regions) {
 		return nil, nil, fmt.Errorf("the cohort's %d regions are not the %d regions the model was trained on (labels and order must match)", len(c.Regions), len(f.Regions))
 	}
+	for _, step := range f.Prep.Steps {
+		if tp, ok := step.(*TargetPrep); ok && tp.SiteLevels != nil {
+			if c, err = AddSiteColumns(c, tp.SiteLevels); err != nil {
+				return nil, nil, err
+			}
+		}
+	}
 	prepared, err := f.Prep.Apply(c)
 	if err != nil {
 		return nil, nil, fmt.Errorf("preparation: %w", err)
@@ -303,7 +310,7 @@ func (r *Runner) Refit(ctx context.Context) error {
 	if r.Models == "" {
 		return errors.New("train: Refit without a Models folder")
 	}
-	exp, cohort := r.Design, r.Cohort
+	exp, cohort := withSiteConfound(r.Design, r.Cohort)
 	if _, _, err := scoresAndConfounds(exp.CV, cohort); err != nil {
 		return err
 	}

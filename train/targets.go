@@ -56,6 +56,12 @@ type TargetPrep struct {
 	// Mean and SD standardize each target's residuals.
 	Mean []float64
 	SD   []float64
+	// SiteLevels, set when the site is among the confounds
+	// (cv.site_confound), lists the cohort's sites, sorted: the covariates
+	// "site=NAME" are the one-hot columns of every site but the first.
+	// New participants (skein predict) get these columns from their site
+	// (AddSiteColumns).
+	SiteLevels []string
 }
 
 // FitTargetPrep fits a TargetPrep on the given rows of y (n × T, NaN where
@@ -436,13 +442,14 @@ type targetPrepJSON struct {
 	CovariateMean []float64   `json:"covariate_mean,omitempty"`
 	Mean          []float64   `json:"mean"`
 	SD            []float64   `json:"sd"`
+	SiteLevels    []string    `json:"site_levels,omitempty"`
 }
 
 // MarshalJSON encodes tp as a JSON object: covariates (Covariates),
 // blocks (B), confound_coef (the 1 + C rows of Confounds, intercept
-// first), covariate_mean, mean and sd.
+// first), covariate_mean, mean, sd and site_levels (SiteLevels, when set).
 func (tp *TargetPrep) MarshalJSON() ([]byte, error) {
-	j := targetPrepJSON{Covariates: tp.Covariates, Blocks: tp.numBlocks(), CovariateMean: tp.CovariateMean, Mean: tp.Mean, SD: tp.SD}
+	j := targetPrepJSON{Covariates: tp.Covariates, Blocks: tp.numBlocks(), CovariateMean: tp.CovariateMean, Mean: tp.Mean, SD: tp.SD, SiteLevels: tp.SiteLevels}
 	if tp.Confounds != nil {
 		r, _ := tp.Confounds.Dims()
 		for i := 0; i < r; i++ {
@@ -491,7 +498,7 @@ func (j *targetPrepJSON) targetPrep() (*TargetPrep, error) {
 			return nil, fmt.Errorf("sd[%d] is %v, want a positive number", t, sd)
 		}
 	}
-	tp := &TargetPrep{Covariates: j.Covariates, Blocks: B, CovariateMean: j.CovariateMean, Mean: j.Mean, SD: j.SD}
+	tp := &TargetPrep{Covariates: j.Covariates, Blocks: B, CovariateMean: j.CovariateMean, Mean: j.Mean, SD: j.SD, SiteLevels: j.SiteLevels}
 	if CB > 0 {
 		tp.Confounds = mat.NewDense(len(j.ConfoundCoef), T, nil)
 		for i, row := range j.ConfoundCoef {

@@ -253,6 +253,9 @@ func writeParticipants(path string, c *Cohort) error {
 	if c.Grouped() {
 		header = append(header, "family")
 	}
+	if c.sited() {
+		header = append(header, "site")
+	}
 	header = append(header, c.Targets...)
 	header = append(header, c.Covariates...)
 	sexColumn := -1
@@ -267,6 +270,9 @@ func writeParticipants(path string, c *Cohort) error {
 			row := []string{part.ID}
 			if c.Grouped() {
 				row = append(row, part.Group)
+			}
+			if c.sited() {
+				row = append(row, part.Site)
 			}
 			for _, s := range part.Scores {
 				row = append(row, formatNumber(s))
@@ -372,6 +378,9 @@ func experimentTOML(c *Cohort, format string) string {
 	if c.Grouped() {
 		b.WriteString("group = \"family\"\n")
 	}
+	if c.sited() {
+		b.WriteString("site = \"site\"\n")
+	}
 	b.WriteString("regions = \"regions.txt\"\n")
 	fmt.Fprintf(&b, "\n[cohort.functional]\nfiles = \"fc/{participant_id}_fc.%s\"\n", format)
 	fmt.Fprintf(&b, "\n[cohort.structural]\nfiles = \"sc/{participant_id}_sc.%s\"\n", format)
@@ -380,4 +389,9 @@ func experimentTOML(c *Cohort, format string) string {
 	fmt.Fprintf(&b, "\n[preprocess.structural]\ntransform = %q\nscale = %q\ndensity = %.1f\n",
 		pre.SC.Transform, pre.SC.Scale, *pre.SC.Density)
 	return b.String()
+}
+
+// sited reports whether the participants have sites (AddSites).
+func (c *Cohort) sited() bool {
+	return len(c.Participants) > 0 && c.Participants[0].Site != ""
 }
