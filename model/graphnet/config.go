@@ -242,7 +242,10 @@ type OptimizerConfig struct {
 	Rate *float64 `toml:"rate" json:"rate"`
 	// WeightDecay is the weight decay λ (key "weight_decay"), applied to
 	// every weight and bias: decoupled (w ← w − rate·λ·w) for adamw, added to
-	// the gradient (g ← g + λ·w) for sgd. Default 0.
+	// the gradient (g ← g + λ·w) for sgd. Default 0. For adamw the shrink
+	// of a step is rate·λ, as in Loshchilov & Hutter's and torch's AdamW:
+	// λ = 1e-2 at rate 1e-3 takes 1e-5 of every weight a step, about 1% over
+	// a thousand steps, so λ near 1 is needed for a strong penalty.
 	WeightDecay float64 `toml:"weight_decay" json:"weight_decay"`
 	// Beta1 and Beta2 are Adam's moment decay rates (keys "beta1",
 	// "beta2"), each in [0, 1). Defaults 0.9 and 0.999. A 0 is honoured:
