@@ -22,6 +22,10 @@
 // such as F_ij·S_ij) before the edge-to-edge and edge-to-node filters;
 // the view product gives the network those terms directly, so that even
 // its linear layers see the interaction of the modalities at each edge.
+// A branch may be screened (key screen): Fit keeps, of each view, only
+// the edges most correlated with the training scores and sets the others
+// to 0, so that a network can find a truth held by a few edges among
+// thousands.
 // The branch outputs are flattened and merged by concatenation or
 // element-wise product, then pass through the hidden dense layers of the
 // head and a linear output layer with one output per target. Every layer
