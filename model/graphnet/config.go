@@ -118,8 +118,12 @@ type Config struct {
 type BranchConfig struct {
 	// Input is the branch's p × p input signal (key "input"): "functional"
 	// (the functional matrix F), "structural" (the structural matrix, for
-	// structure-only models) or "propagated" (F propagated by the
-	// participant's structural operator S, see Propagate). Default
+	// structure-only models), "propagated" (F propagated by the
+	// participant's structural operator S, see Propagate) or "product"
+	// (F∘S, the functional and the structural matrix multiplied edge by
+	// edge, each as the network receives it: with standardize_inputs and
+	// no operator, zF_ij·zS_ij, a multiplicative interaction of the two
+	// modalities at every edge, after Jayakumar et al. 2020). Default
 	// "functional" when views is not set; with views, input stays unset.
 	Input Input `toml:"input" json:"input,omitempty"`
 	// Views lists several input signals that the branch takes at once, as
@@ -143,6 +147,19 @@ type BranchConfig struct {
 	// 1 − rate (inverted dropout, so the expected input is the input);
 	// when predicting, the input passes unchanged. Default 0.
 	InputDropout float64 `toml:"input_dropout" json:"input_dropout,omitempty"`
+	// Screen is the number of edges of each view the branch keeps (key
+	// "screen"): the Screen edges i < j whose values over the training
+	// participants correlate most strongly with the training scores
+	// (largest |Pearson r|; with several targets, the largest over them,
+	// each on its present scores), after standardize_inputs. Every other
+	// edge of the view is set to 0, for training and prediction alike: a
+	// fold-fitted univariate screen (sure independence screening, Fan & Lv
+	// 2008), which lets a network find a truth held by few edges among
+	// many, as connectome-based predictive modelling selects its edges.
+	// Fit chooses the edges on its training set (each member of an
+	// ensemble on its own part) and they are saved with the network.
+	// 0 (default), or at least p(p−1)/2, keeps every edge.
+	Screen int `toml:"screen" json:"screen,omitempty"`
 	// Propagate says how a "propagated" input is formed (key "propagate"):
 	// "left" for S·F or "both" (default) for S·F·Sᵀ.
 	Propagate Propagate `toml:"propagate" json:"propagate,omitempty"`
@@ -225,7 +242,10 @@ type OptimizerConfig struct {
 	Rate *float64 `toml:"rate" json:"rate"`
 	// WeightDecay is the weight decay λ (key "weight_decay"), applied to
 	// every weight and bias: decoupled (w ← w − rate·λ·w) for adamw, added to
-	// the gradient (g ← g + λ·w) for sgd. Default 0.
+	// the gradient (g ← g + λ·w) for sgd. Default 0. For adamw the shrink
+	// of a step is rate·λ, as in Loshchilov & Hutter's and torch's AdamW:
+	// λ = 1e-2 at rate 1e-3 takes 1e-5 of every weight a step, about 1% over
+	// a thousand steps, so λ near 1 is needed for a strong penalty.
 	WeightDecay float64 `toml:"weight_decay" json:"weight_decay"`
 	// Beta1 and Beta2 are Adam's moment decay rates (keys "beta1",
 	// "beta2"), each in [0, 1). Defaults 0.9 and 0.999. A 0 is honoured:
@@ -307,6 +327,7 @@ const (
 	InputFunctional Input = "functional" // the functional matrix F
 	InputStructural Input = "structural" // the structural matrix
 	InputPropagated Input = "propagated" // F propagated by the structural operator S
+	InputProduct    Input = "product"    // F∘S, the functional and structural matrices multiplied edge by edge
 )
 
 // Propagate is the value of the key propagate of a branch: PropagateLeft
@@ -412,9 +433,10 @@ func (d DType) MarshalText() ([]byte, error) { return []byte(d), nil }
 func (d DType) String() string { return string(d) }
 
 // UnmarshalText sets in to the word text: "functional", "structural",
-// "propagated" or "" (unset). Another word is an error listing these.
+// "propagated", "product" or "" (unset). Another word is an error listing
+// these.
 func (in *Input) UnmarshalText(text []byte) error {
-	return enum.Parse(in, text, InputFunctional, InputStructural, InputPropagated)
+	return enum.Parse(in, text, InputFunctional, InputStructural, InputPropagated, InputProduct)
 }
 
 // MarshalText returns the word of in.
@@ -577,9 +599,10 @@ func (c *Config) SetDefaults() {
 // EdgeScaling reports which matrices the network learns from
 // standardized per edge (see StandardizeInputs and model.Kind.EdgeScaling):
 // with standardize_inputs true (the default), the functional matrix when
-// a branch reads it (input or view "functional" or "propagated", which
-// propagates the standardized F), and the structural matrix when a branch
-// reads it as its input or one of its views ("structural") and no branch
+// a branch reads it (input or view "functional", "propagated", which
+// propagates the standardized F, or "product"), and the structural matrix
+// when a branch reads it as its input or one of its views ("structural" or
+// "product") and no branch
 // builds a structural operator
 // from it (an operator needs the non-negative weights preprocessing
 // leaves, so the structural matrix then stays as it is for every branch).
@@ -598,6 +621,8 @@ func (c Config) EdgeScaling() (functional, structural bool) {
 				functional = true
 			case InputStructural:
 				structural = !operator
+			case InputProduct:
+				functional, structural = true, !operator
 			}
 		}
 	}
@@ -966,6 +991,9 @@ func archOf(c Config, p int) (arch, error) {
 		}
 		if !(b.InputDropout >= 0 && b.InputDropout < 1) {
 			return a, fmt.Errorf("%s.input_dropout: want a rate in [0, 1), found %v", key, b.InputDropout)
+		}
+		if b.Screen < 0 {
+			return a, fmt.Errorf("%s.screen: want a number of edges ≥ 0, found %d", key, b.Screen)
 		}
 		if len(b.Layers) == 0 {
 			return a, fmt.Errorf("%s.layers: want at least one layer, found none", key)

@@ -86,7 +86,7 @@ func TestConfigValidate(t *testing.T) {
 			c.Merge = "product"
 			c.Branches = append(c.Branches, BranchConfig{Layers: layers(e2n(2))})
 		}, 0, "branch[0] ends in 16, this branch in 2·p"},
-		{"unknown input", func(c *Config) { c.Branches[0].Input = "diffusion" }, 0, `model.network.branch[0].input: want "functional", "structural" or "propagated", found "diffusion"`},
+		{"unknown input", func(c *Config) { c.Branches[0].Input = "diffusion" }, 0, `model.network.branch[0].input: want "functional", "structural", "propagated" or "product", found "diffusion"`},
 		{"unknown operator", func(c *Config) { c.Branches[0].Input = "propagated"; c.Branches[0].Operator = "heat" }, 0, `model.network.branch[0].operator: want "identity", "laplacian", "normalized-laplacian", "renormalized-adjacency" or "scaled-laplacian", found "heat"`},
 		{"operator unused", func(c *Config) { c.Branches[0].Operator = "laplacian" }, 0, "model.network.branch[0].operator: \"laplacian\" is set but the branch uses no operator"},
 		{"bad propagate", func(c *Config) { c.Branches[0].Input = "propagated"; c.Branches[0].Propagate = "right" }, 0, `model.network.branch[0].propagate: want "left" or "both", found "right"`},
@@ -112,7 +112,8 @@ func TestConfigValidate(t *testing.T) {
 		{"view twice", func(c *Config) {
 			c.Branches[0].Input, c.Branches[0].Views = "", []Input{InputStructural, InputStructural}
 		}, 0, `model.network.branch[0].views[1]: "structural" is listed twice`},
-		{"unknown view", func(c *Config) { c.Branches[0].Input, c.Branches[0].Views = "", []Input{"diffusion"} }, 0, `model.network.branch[0].views[0]: want "functional", "structural" or "propagated", found "diffusion"`},
+		{"unknown view", func(c *Config) { c.Branches[0].Input, c.Branches[0].Views = "", []Input{"diffusion"} }, 0, `model.network.branch[0].views[0]: want "functional", "structural", "propagated" or "product", found "diffusion"`},
+		{"negative screen", func(c *Config) { c.Branches[0].Screen = -1 }, 0, `model.network.branch[0].screen: want a number of edges ≥ 0, found -1`},
 		{"propagate without a propagated view", func(c *Config) {
 			c.Branches[0].Input, c.Branches[0].Views, c.Branches[0].Propagate = "", []Input{InputFunctional, InputStructural}, PropagateLeft
 		}, 0, "model.network.branch[0].propagate: is set but no input or view is \"propagated\""},

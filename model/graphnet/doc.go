@@ -11,14 +11,21 @@
 // A Config (the [model.network] table of an experiment file) lists one or
 // more branches. Each branch takes one p × p matrix per participant — the
 // functional matrix F, the structural matrix, or F propagated by the
-// participant's structural operator S (S·F or S·F·Sᵀ) — or several of
+// participant's structural operator S (S·F or S·F·Sᵀ), or the product
+// F∘S of the functional and structural matrices edge by edge — or several of
 // them at once as the channels of one C × p × p input (key views), and
 // applies its layers in order. A per-edge layer (kind "edge") is a dense
 // layer applied to each edge's vector of channel values, its weights
 // shared by all edges (a 1 × 1 convolution): placed first in a branch
 // with the views functional and structural, it lets the modalities
 // interact edge by edge (with the activation, the network can form terms
-// such as F_ij·S_ij) before the edge-to-edge and edge-to-node filters.
+// such as F_ij·S_ij) before the edge-to-edge and edge-to-node filters;
+// the view product gives the network those terms directly, so that even
+// its linear layers see the interaction of the modalities at each edge.
+// A branch may be screened (key screen): Fit keeps, of each view, only
+// the edges most correlated with the training scores and sets the others
+// to 0, so that a network can find a truth held by a few edges among
+// thousands.
 // The branch outputs are flattened and merged by concatenation or
 // element-wise product, then pass through the hidden dense layers of the
 // head and a linear output layer with one output per target. Every layer
@@ -94,6 +101,11 @@
 //	fitted     free-form JSON the caller stored in Network.Fitted, such
 //	           as the preprocessing and score scaling it fitted on the
 //	           training data (absent when empty)
+//	screens    per branch, the edges its screen keeps (key screen of
+//	           a branch), as indices c·p² + i·p + j of edge i < j of view
+//	           c in increasing order, null for a branch without a screen;
+//	           every other edge of the branch's input is set to 0 (absent
+//	           when no branch is screened)
 //
 // weights.npz is a NumPy .npz archive (numpy.load opens it) with one
 // C-order array per entry of arrays. For branch b and layer l, the names

@@ -7,6 +7,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 	"gorgonia.org/tensor"
@@ -33,6 +34,10 @@ type Network struct {
 	history []model.Epoch
 	onEpoch func(model.Epoch)
 	pool    *parallel.Pool // the ops' and the optimizer's helpers
+	// screens holds, per branch, the sorted indices c·p² + i·p + j of the
+	// edges i < j its screen keeps (BranchConfig.Screen), set by Fit; nil
+	// (for the network or a branch) keeps every edge.
+	screens [][]int
 
 	// Fitted is free-form data a caller stores with the network in a
 	// saved model, such as what it fitted on the training data
@@ -120,14 +125,27 @@ func (n *Network) History() []model.Epoch { return append([]model.Epoch(nil), n.
 // present score of the epoch. Fit checks ctx between steps and returns its
 // error when it is done. A loss that becomes NaN, infinite or more than
 // 1e6 times its first-epoch value stops Fit with an error wrapping
-// model.ErrDiverged. Y columns must match the targets given to New.
+// model.ErrDiverged. Y columns must match the targets given to New. A
+// branch with a screen (BranchConfig.Screen) has its kept edges chosen
+// anew on train at every Fit, before training.
 func (n *Network) Fit(ctx context.Context, train, valid model.Dataset) error {
 	if train.Len() == 0 {
 		return fmt.Errorf("graphnet: Fit: the training set is empty")
 	}
+	screened := slices.ContainsFunc(n.cfg.Branches, func(b BranchConfig) bool { return b.Screen > 0 })
+	if screened {
+		n.screens = nil // refitted on this training set
+	}
 	trainSet, err := n.prepare(train, "training set", true)
 	if err != nil {
 		return err
+	}
+	if screened {
+		if trainSet.present() == 0 {
+			return fmt.Errorf("graphnet: Fit: the training set has no present score")
+		}
+		n.fitScreens(trainSet)
+		n.applyScreens(trainSet)
 	}
 	validSet, err := n.prepare(valid, "validation set", true)
 	if err != nil {
@@ -416,6 +434,7 @@ func (n *Network) prepare(d model.Dataset, what string, needY bool) (*prepared, 
 		s.inputs = append(s.inputs, in)
 		s.operators = append(s.operators, opers)
 	}
+	n.applyScreens(s)
 	return s, nil
 }
 
@@ -470,6 +489,16 @@ func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.P
 				sf.Mul(&sf, op.T())
 			}
 			m = &sf
+		case InputProduct:
+			if err := check(pt.Functional, "functional"); err != nil {
+				return nil, nil, err
+			}
+			if err := check(pt.Structural, "structural"); err != nil {
+				return nil, nil, err
+			}
+			var fs mat.Dense
+			fs.MulElem(pt.Functional, pt.Structural)
+			m = &fs
 		}
 		v := flatView(m)
 		for _, e := range v {

@@ -40,7 +40,9 @@ func (n *Network) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
 // μ)/σ: then X − R = x/σ, and the map is Σ x ∘ ∂ŷ/∂x over the raw
 // matrices x (by the chain rule), in the same units as without
 // standardization. For a "propagated" branch, X − R = S·(x/σ)·Sᵀ (or
-// S·(x/σ)), the propagated raw matrix.
+// S·(x/σ)), the propagated raw matrix; for a "product" view, X − R =
+// zF∘zS − rF∘rS, the product view measured from that of the zero
+// matrices.
 func (n *Network) EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense, error) {
 	if len(ps) == 0 {
 		return nil, fmt.Errorf("graphnet: EdgeImportance: no participants")

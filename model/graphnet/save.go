@@ -39,6 +39,9 @@ type manifest struct {
 	Arrays    []arrayInfo         `json:"arrays"`
 	History   []epochRecord       `json:"history"`
 	Fitted    json.RawMessage     `json:"fitted,omitempty"`
+	// Screens holds the edges each branch's screen keeps, as
+	// Network.screens: omitted when no branch is screened.
+	Screens [][]int `json:"screens,omitempty"`
 }
 
 type arrayInfo struct {
@@ -67,6 +70,7 @@ func (n *Network) Save(dir string) error {
 		Weights: weightsFile,
 		Fitted:  n.Fitted,
 		History: []epochRecord{},
+		Screens: n.screens,
 	}
 	for _, b := range n.cfg.Branches {
 		m.Operators = append(m.Operators, b.Operator)
@@ -201,6 +205,10 @@ func Load(dir string) (*Network, error) {
 		}
 		n.history = append(n.history, ep)
 	}
+	if err := n.checkScreens(m.Screens); err != nil {
+		return nil, fmt.Errorf("graphnet: Load: %s: %w", mpath, err)
+	}
+	n.screens = m.Screens
 	n.Fitted = m.Fitted
 	return n, nil
 }
