@@ -84,28 +84,38 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	n, d := x.Dims()
 	_, t := y.Dims()
 	zscore := r.cfg.Standardize == StandardizeZScore
+	loo := r.cfg.Inner == InnerLOO && len(r.cfg.Alphas) > 1
 	var foldOf []int
-	if len(r.cfg.Alphas) > 1 {
+	if len(r.cfg.Alphas) > 1 && !loo {
 		if foldOf, err = innerFolds(ps, *r.cfg.InnerFolds, r.seed, "model.ridge.inner_folds"); err != nil {
 			return err
 		}
 	}
+	// buf holds standardized rows and kbuf (dual only) their kernel, reused
+	// by every inner fold and pattern.
 	buf := mat.NewDense(n, d, nil)
+	var kbuf *mat.Dense
+	if n <= d {
+		kbuf = mat.NewDense(n, n, nil)
+	}
 	// problem standardizes the rows fit and query with the statistics of
-	// fit and factorizes the fit rows: in the dual through their kernel
-	// (already centred, the edges being centred on the fit rows), in the
-	// primal through their SVD.
-	problem := func(fit, query []int) (foldProblem, error) {
+	// fit and factorizes the fit rows: in the dual through the kernel of
+	// fit and query together (already centred, the edges being centred on
+	// the fit rows; see kernelFold), in the primal through their SVD.
+	problem := func(fit, query []int, penalties []float64) (foldProblem, error) {
 		sc := fitScaler(x, fit, zscore)
-		xf := sc.applyRows(buf.Slice(0, len(fit), 0, d).(*mat.Dense), x, fit)
-		xq := sc.applyRows(buf.Slice(len(fit), len(fit)+len(query), 0, d).(*mat.Dense), x, query)
-		if !(len(fit) <= d) {
+		nf, m := len(fit), len(fit)+len(query)
+		xf := sc.applyRows(buf.Slice(0, nf, 0, d).(*mat.Dense), x, fit)
+		xq := sc.applyRows(buf.Slice(nf, m, 0, d).(*mat.Dense), x, query)
+		if !(nf <= d) {
 			return primalFold(xf, xq)
 		}
-		var kff, kqf mat.Dense
-		kff.Mul(xf, xf.T())
-		kqf.Mul(xq, xf.T())
-		return dualProblem(&kff, &kqf)
+		if kbuf == nil {
+			kbuf = mat.NewDense(n, n, nil)
+		}
+		g := kbuf.Slice(0, m, 0, m).(*mat.Dense)
+		gram(g, buf.Slice(0, m, 0, d).(*mat.Dense))
+		return kernelFold(g, nf, penalties)
 	}
 
 	r.p = p
@@ -124,30 +134,57 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			return fmt.Errorf("linear: ridge: score column %d: every %s edge is constant over the participants with that score", pat.cols[0]+1, r.cfg.Input)
 		}
 		penalties := scalePenalties(r.cfg.Alphas, r.cfg.AlphaScale, sc.spread)
-		best, err := chooseCV(ctx, y, pat, foldOf, *r.cfg.InnerFolds, penalties, problem)
-		if err != nil {
-			return fmt.Errorf("linear: ridge: %w", err)
+		best := make([]int, len(pat.cols))
+		if !loo {
+			if best, err = chooseCV(ctx, y, pat, foldOf, *r.cfg.InnerFolds, penalties, problem); err != nil {
+				return fmt.Errorf("linear: ridge: %w", err)
+			}
 		}
 		if err := ctx.Err(); err != nil {
 			return err
+		}
+		np := len(pat.rows)
+		xs := sc.applyRows(buf.Slice(0, np, 0, d).(*mat.Dense), x, pat.rows)
+		yFit := subMatrix(y, pat.rows, pat.cols)
+		means := centreColumns(yFit)
+		var k *mat.Dense // dual: the kernel of the pattern's rows
+		var spec factor
+		if r.train != nil {
+			k = kbuf.Slice(0, np, 0, np).(*mat.Dense)
+			gram(k, xs)
+		}
+		if loo {
+			// One factorization serves the choice and the fit.
+			if r.train != nil {
+				spec = reduceKernel(k)
+			} else if spec, err = primalSpectrum(xs); err != nil {
+				return err
+			}
+			if best, err = chooseLOO(ctx, spec, yFit, penalties); err != nil {
+				return fmt.Errorf("linear: ridge: score column %d: %w", pat.cols[0]+1, err)
+			}
 		}
 		colPenalty := make([]float64, len(pat.cols))
 		for c, b := range best {
 			r.alphas[pat.cols[c]] = r.cfg.Alphas[b]
 			colPenalty[c] = penalties[b]
 		}
-		xs := sc.applyRows(buf.Slice(0, len(pat.rows), 0, d).(*mat.Dense), x, pat.rows)
-		yFit := subMatrix(y, pat.rows, pat.cols)
-		means := centreColumns(yFit)
-		var w *mat.Dense // d × c raw-scale weights
-		if r.train != nil {
-			var kff mat.Dense
-			kff.Mul(xs, xs.T())
-			spec, err := dualSpectrum(&kff)
+		if spec == nil {
+			if r.train != nil {
+				spec, err = fitKernel(k, colPenalty)
+			} else {
+				spec, err = primalSpectrum(xs)
+			}
 			if err != nil {
 				return err
 			}
-			alpha := spec.coefficients(spec.project(yFit), colPenalty)
+		}
+		coef, err := spec.coefficients(spec.project(yFit), colPenalty)
+		if err != nil {
+			return fmt.Errorf("linear: ridge: score column %d: %w", pat.cols[0]+1, err)
+		}
+		if r.train != nil {
+			alpha := coef
 			centreColumns(alpha) // Hα: the weights become Σᵢ α̂ᵢ xᵢ, free of the edge means
 			factorSq := make([]float64, d)
 			for k, f := range sc.factor {
@@ -175,11 +212,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			}
 			continue
 		}
-		spec, err := primalSpectrum(xs)
-		if err != nil {
-			return err
-		}
-		w = spec.coefficients(spec.project(yFit), colPenalty)
+		w := coef // d × c weights on the standardized edges
 		for c, j := range pat.cols {
 			var mw float64
 			for k := 0; k < d; k++ {
@@ -195,7 +228,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 
 // dualProblem factorizes the fitting kernel kff and expresses the query
 // kernel kqf in its eigenvectors.
-func dualProblem(kff, kqf *mat.Dense) (foldProblem, error) {
+func dualProblem(kff, kqf mat.Matrix) (foldProblem, error) {
 	spec, err := dualSpectrum(kff)
 	if err != nil {
 		return foldProblem{}, err
