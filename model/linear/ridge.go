@@ -26,14 +26,21 @@ import (
 // standardizing with its own fitting rows; with alpha_scale = "relative",
 // a = alpha · trace(K)/n, K = X̃X̃ᵀ the centred kernel of the n
 // participants (for z-scored edges trace(K)/n is the number of
-// non-constant edges).
+// non-constant edges). With inner = "loo" the penalty minimizes the mean
+// squared leave-one-out error instead, computed exactly for every penalty
+// with the edges standardized once on all n participants (see InnerLOO):
+// scikit-learn's StandardScaler followed by RidgeCV with
+// alpha_per_target.
 //
 // When participants are no more than edges, Ridge solves in the dual: one
-// kernel K = X̃X̃ᵀ (a single matrix product) and one eigendecomposition
-// K = UΛUᵀ per inner fold give the solution at every penalty and for every
-// column. With fewer edges than participants it solves in the primal
-// through one SVD of X̃. Columns of Y missing the same scores share these
-// factorizations (each other pattern costs its own), so Ridge is a
+// kernel K = X̃X̃ᵀ (a single symmetric product) and one Householder
+// reduction K = QTQᵀ per inner fold give the solution at every penalty and
+// for every column, (K + aI)⁻¹y = Q(T + aI)⁻¹Qᵀy with T tridiagonal; a
+// penalty at or below n·ε·trace(K) takes the eigendecomposition instead,
+// whose negligible components get no weight (a zero penalty is then the
+// pseudo-inverse). With fewer edges than participants it solves in the
+// primal through one SVD of X̃. Columns of Y missing the same scores share
+// these factorizations (each other pattern costs its own), so Ridge is a
 // model.ColumnWise: hundreds of permuted columns cost little more than one.
 type Ridge struct {
 	cfg  RidgeConfig

@@ -2,7 +2,6 @@ package linear
 
 import (
 	"fmt"
-	"math"
 	"slices"
 
 	"gonum.org/v1/gonum/lapack/gonum"
@@ -166,9 +165,4 @@ func fitKernel(k *mat.Dense, penalties []float64) (factor, error) {
 		return dualSpectrum(k)
 	}
 	return reduceKernel(k), nil
-}
-
-// nonPositive reports whether any penalty is zero or less (or NaN).
-func nonPositive(penalties []float64) bool {
-	return slices.ContainsFunc(penalties, func(a float64) bool { return !(a > 0) || math.IsInf(a, 0) })
 }
