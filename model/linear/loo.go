@@ -32,10 +32,10 @@ func chooseLOO(ctx context.Context, f factor, yc *mat.Dense, penalties []float64
 	resid := mat.NewDense(n, c, nil)
 	hat := make([]float64, n) // 1 − Hᵢᵢ
 	scaled := mat.NewDense(r, c, nil)
-	var q, qt, z *mat.Dense
+	var qt, z *mat.Dense // Qᵀ and Z, both n × n
 	if tri, ok := f.(*tridiagonal); ok {
-		q = mat.NewDense(n, n, tri.t.Q())
-		qt = mat.DenseCopyOf(q.T())
+		qt = mat.NewDense(n, n, tri.t.Q())
+		qt.Copy(mat.DenseCopyOf(qt.T()))
 		z = mat.NewDense(n, n, nil)
 	}
 	same := make([]float64, c)
@@ -74,7 +74,7 @@ func chooseLOO(ctx context.Context, f factor, yc *mat.Dense, penalties []float64
 			if err := f.solve(scaled, proj, same); err != nil {
 				return nil, err
 			}
-			resid.Mul(q, scaled)
+			resid.Mul(qt.T(), scaled)
 			resid.Scale(pen, resid)
 		case *spectrum:
 			if !f.primal {

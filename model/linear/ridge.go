@@ -80,7 +80,9 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	if err != nil {
 		return err
 	}
-	x, p, err := edgeMatrix(ps, r.cfg.Input, 0)
+	// The edges are read from the participants' matrices as they are
+	// needed, not copied into an n × d matrix beside buf.
+	x, p, err := newEdgeRows(ps, r.cfg.Input, 0)
 	if err != nil {
 		return err
 	}
@@ -88,7 +90,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	if err != nil {
 		return err
 	}
-	n, d := x.Dims()
+	n, d := len(ps), x.width()
 	_, t := y.Dims()
 	zscore := r.cfg.Standardize == StandardizeZScore
 	loo := r.cfg.Inner == InnerLOO && len(r.cfg.Alphas) > 1
@@ -129,8 +131,11 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	r.alphas = make([]float64, t)
 	r.intercept = make([]float64, t)
 	r.train, r.patterns, r.dualCoef, r.weights = nil, nil, nil, nil
-	if n <= d {
-		r.train = x
+	// In the dual with more columns than participants (a permutation
+	// test's chunk), Predict works from the training edges and the dual
+	// coefficients (n × d and n × T); otherwise from the weights (d × T).
+	if n <= d && t > n {
+		r.train = x.matrix()
 		r.dualCoef = mat.NewDense(n, t, nil)
 	} else {
 		r.weights = mat.NewDense(d, t, nil)
@@ -154,15 +159,16 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 		xs := sc.applyRows(buf.Slice(0, np, 0, d).(*mat.Dense), x, pat.rows)
 		yFit := subMatrix(y, pat.rows, pat.cols)
 		means := centreColumns(yFit)
+		dual := np <= d
 		var k *mat.Dense // dual: the kernel of the pattern's rows
 		var spec factor
-		if r.train != nil {
+		if dual {
 			k = kbuf.Slice(0, np, 0, np).(*mat.Dense)
 			gram(k, xs)
 		}
 		if loo {
 			// One factorization serves the choice and the fit.
-			if r.train != nil {
+			if dual {
 				spec = reduceKernel(k)
 			} else if spec, err = primalSpectrum(xs); err != nil {
 				return err
@@ -177,7 +183,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			colPenalty[c] = penalties[b]
 		}
 		if spec == nil {
-			if r.train != nil {
+			if dual {
 				spec, err = fitKernel(k, colPenalty)
 			} else {
 				spec, err = primalSpectrum(xs)
@@ -190,9 +196,11 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 		if err != nil {
 			return fmt.Errorf("linear: ridge: score column %d: %w", pat.cols[0]+1, err)
 		}
-		if r.train != nil {
+		if dual {
+			centreColumns(coef) // Hα: the weights become Σᵢ α̂ᵢ xᵢ, free of the edge means
+		}
+		if dual && r.train != nil {
 			alpha := coef
-			centreColumns(alpha) // Hα: the weights become Σᵢ α̂ᵢ xᵢ, free of the edge means
 			factorSq := make([]float64, d)
 			for k, f := range sc.factor {
 				factorSq[k] = f * f
@@ -207,7 +215,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			meanK := mat.NewDense(1, len(pat.rows), nil)
 			for a, i := range pat.rows {
 				var v float64
-				for k, xk := range x.RawRowView(i) {
+				for k, xk := range x.row(i) {
 					v += xk * sc.mean[k] * factorSq[k]
 				}
 				meanK.Set(0, a, v)
@@ -220,6 +228,10 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			continue
 		}
 		w := coef // d × c weights on the standardized edges
+		if dual {
+			w = new(mat.Dense)
+			w.Mul(xs.T(), coef) // X̃ᵀα̂
+		}
 		for c, j := range pat.cols {
 			var mw float64
 			for k := 0; k < d; k++ {

@@ -1,10 +1,13 @@
 package linear
 
 import (
+	"context"
 	"math/rand/v2"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/model"
 )
 
 // TestTridiagonalMatchesSpectrum checks the tridiagonal route against the
@@ -31,8 +34,8 @@ func TestTridiagonalMatchesSpectrum(t *testing.T) {
 				x.Set(i, k, rng.NormFloat64()+float64(k%4))
 			}
 		}
-		sc := fitScaler(x, seq(tt.n), true)
-		xs := sc.applyRows(mat.NewDense(tt.n, tt.d, nil), x, seq(tt.n))
+		sc := fitScaler(denseRows{x}, seq(tt.n), true)
+		xs := sc.applyRows(mat.NewDense(tt.n, tt.d, nil), denseRows{x}, seq(tt.n))
 		k := mat.NewDense(tt.n, tt.n, nil)
 		gram(k, xs)
 		var full mat.Dense
@@ -66,6 +69,46 @@ func TestTridiagonalMatchesSpectrum(t *testing.T) {
 		kg.Mul(k, got)
 		if !mat.EqualApprox(&kg, &kw, 1e-9*mat.Norm(&kw, 1)) {
 			t.Errorf("n=%d d=%d penalties %v: tridiagonal fit differs from the eigendecomposition's", tt.n, tt.d, tt.penalties)
+		}
+	}
+}
+
+// TestRidgeWideY checks that a Y with more columns than participants (a
+// permutation chunk, which Ridge predicts from its training edges and dual
+// coefficients) predicts each column as a narrow Y (predicted from
+// weights) does: the two are the same sums in another order (common
+// practice, no source).
+func TestRidgeWideY(t *testing.T) {
+	const p, n, wide = 10, 20, 30 // 45 edges: the dual
+	all := randomCohort(8, n+5, p, 1).Participants
+	rng := rand.New(rand.NewPCG(8, 9))
+	y := mat.NewDense(n, wide, nil)
+	for i := 0; i < n; i++ {
+		for j := 0; j < wide; j++ {
+			y.Set(i, j, rng.NormFloat64())
+		}
+	}
+	for _, inner := range []InnerCV{InnerKFold, InnerLOO} {
+		fit := func(cols int) *mat.Dense {
+			cfg := Config{Ridge: &RidgeConfig{Inner: inner, InnerFolds: new(4)}}
+			cfg.SetDefaults()
+			reg, err := cfg.New(cols, 1)
+			if err != nil {
+				t.Fatal(err)
+			}
+			train := model.Dataset{Participants: all[:n], Y: y.Slice(0, n, 0, cols).(*mat.Dense)}
+			if err := reg.Fit(context.Background(), train, model.Dataset{}); err != nil {
+				t.Fatal(err)
+			}
+			pred, err := reg.Predict(all[n:])
+			if err != nil {
+				t.Fatal(err)
+			}
+			return pred
+		}
+		wideP, narrowP := fit(wide), fit(2)
+		if !mat.EqualApprox(wideP.Slice(0, 5, 0, 2), narrowP, 1e-10) {
+			t.Errorf("%s: wide Y predicts\n%v\nnarrow Y\n%v", inner, mat.Formatted(wideP.Slice(0, 5, 0, 2)), mat.Formatted(narrowP))
 		}
 	}
 }
