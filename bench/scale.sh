@@ -15,7 +15,9 @@
 # StandardScaler, Ridge)) with inner 5-fold over the same 13 alphas, and
 # Pipeline(StandardScaler, RidgeCV) (efficient leave-one-out). skein's
 # seconds are whole runs (loading and writing included; peak RSS from
-# /usr/bin/time); scikit-learn's are fitting and predicting only.
+# /usr/bin/time); scikit-learn's are fitting and predicting only. Each line
+# gives wall seconds and CPU seconds (all threads): on a shared machine the
+# CPU seconds are the steadier figure. Ratios are of wall seconds.
 #
 # usage: bench/scale.sh   (from the repository root)
 # knobs: N=2000 P=100 TARGETS=2 BUILDS="gonum openblas" PERM=1 (0: no
@@ -70,13 +72,13 @@ experiment kfold kfold 0
 experiment loo loo 0
 experiment perm kfold 1000
 
-# run BUILD NAME prints "seconds peak-MiB" of one skein run.
+# run BUILD NAME prints "seconds peak-MiB cpu-seconds" of one skein run.
 run() {
   local out=$work/run-$1-$2
   rm -rf "$out"
-  /usr/bin/time -f '%e %M' -o "$work/time" "$work/skein-$1" run "$work/$2.toml" --out "$out" --force --no-history >/dev/null 2>"$work/stderr" ||
+  /usr/bin/time -f '%e %M %U %S' -o "$work/time" "$work/skein-$1" run "$work/$2.toml" --out "$out" --force --no-history >/dev/null 2>"$work/stderr" ||
     { cat "$work/stderr" >&2; exit 1; }
-  awk '{printf "%.1f %.0f\n", $1, $2/1024}' "$work/time"
+  awk '{printf "%.1f %.0f %.1f\n", $1, $2/1024, $3+$4}' "$work/time"
 }
 
 echo "load before: $(uptime)"
@@ -86,11 +88,11 @@ if [[ $SKLEARN == 1 ]]; then
   while read -r method s rest; do
     secs[$method]=$s
     printf '%-28s %8s s  %s\n' "scikit-learn $method" "$s" "$rest"
-  done < <(bench/scale_sklearn.py "$cohort" --targets "${targets//\"/}" | tr -d ' ' | sed 's/\([0-9]\)r=/\1 r=/; s/^\([a-z]*\)/\1 /')
+  done < <(bench/scale_sklearn.py "$cohort" --targets "$(tr -d '" ' <<<"$targets")")
 fi
 for build in $BUILDS; do
   for name in kfold loo $([[ $PERM == 1 ]] && echo perm); do
-    read -r s mib < <(run "$build" "$name")
+    read -r s mib cpu < <(run "$build" "$name")
     ratio=""
     case $name in
     kfold) [[ -n ${secs[gridsearch]:-} ]] && ratio=$(awk -v a="$s" -v b="${secs[gridsearch]}" 'BEGIN {printf "%.2f× GridSearchCV", a/b}')
@@ -98,7 +100,7 @@ for build in $BUILDS; do
     loo) [[ -n ${secs[ridgecv]:-} ]] && ratio=$(awk -v a="$s" -v b="${secs[ridgecv]}" 'BEGIN {printf "%.2f× RidgeCV", a/b}') ;;
     perm) ratio=$(awk -v a="$s" -v b="${secs[kfold-$build]}" 'BEGIN {printf "test %.1f s", a-b}') ;;
     esac
-    printf '%-28s %8s s  %6s MiB  %s\n' "skein $build $name" "$s" "$mib" "$ratio"
+    printf '%-28s %8s s  cpu %7s s  %6s MiB  %s\n' "skein $build $name" "$s" "$cpu" "$mib" "$ratio"
   done
 done
 echo "load after: $(uptime)"

@@ -19,8 +19,9 @@ runs 5 outer folds (KFold, shuffled) of
 The alphas are skein's relative grid (10^-3 ... 10^3, half a decade apart)
 times the number of edges, which is what skein's alpha_scale = "relative"
 makes of them for z-scored edges. Prints one line per method:
-"METHOD SECONDS" (fitting and predicting, loading not counted), and the load
-time, and the pooled Pearson r of each score as a sanity check.
+"METHOD SECONDS cpu=CPU-SECONDS r=..." (fitting and predicting, loading not
+counted; CPU seconds of all threads), the load time, and the pooled Pearson
+r of each score as a sanity check.
 """
 
 import argparse
@@ -67,7 +68,7 @@ def main():
     outer = KFold(args.folds, shuffle=True, random_state=args.seed)
     for method in args.methods.split(","):
         pred = np.empty_like(y)
-        start = time.perf_counter()
+        start, cpu = time.perf_counter(), time.process_time()
         for train, test in outer.split(x):
             if method == "gridsearch":
                 inner = KFold(args.inner_folds, shuffle=True, random_state=args.seed)
@@ -79,9 +80,9 @@ def main():
                                   ("ridge", RidgeCV(alphas=alphas, alpha_per_target=True))])
             model.fit(x[train], y[train])
             pred[test] = model.predict(x[test])
-        secs = time.perf_counter() - start
+        secs, cpu = time.perf_counter() - start, time.process_time() - cpu
         r = [np.corrcoef(pred[:, j], y[:, j])[0, 1] for j in range(y.shape[1])]
-        print(f"{method} {secs:.2f} r={','.join(f'{v:.3f}' for v in r)}")
+        print(f"{method} {secs:.2f} cpu={cpu:.1f} r={','.join(f'{v:.3f}' for v in r)}")
 
 
 if __name__ == "__main__":
