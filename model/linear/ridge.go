@@ -81,7 +81,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 		return err
 	}
 	// The edges are read from the participants' matrices as they are
-	// needed, not copied into an n × d matrix beside buf.
+	// needed, not copied into an n × d matrix.
 	x, p, err := newEdgeRows(ps, r.cfg.Input, 0)
 	if err != nil {
 		return err
@@ -100,12 +100,16 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			return err
 		}
 	}
-	// buf holds standardized rows and kbuf (dual only) their kernel, reused
-	// by every inner fold and pattern.
-	buf := mat.NewDense(n, d, nil)
-	var kbuf *mat.Dense
-	if n <= d {
-		kbuf = mat.NewDense(n, n, nil)
+	// kbuf holds a kernel (dual) and buf standardized rows (primal only;
+	// the dual standardizes a block of rows at a time, see stdGram), each
+	// made when first needed and reused by every inner fold and pattern.
+	var buf, kbuf *mat.Dense
+	var blocks gramBuffers
+	rowsBuf := func(m int) *mat.Dense {
+		if buf == nil {
+			buf = mat.NewDense(n, d, nil)
+		}
+		return buf.Slice(0, m, 0, d).(*mat.Dense)
 	}
 	// problem standardizes the rows fit and query with the statistics of
 	// fit and factorizes the fit rows: in the dual through the kernel of
@@ -114,16 +118,17 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	problem := func(fit, query []int, penalties []float64) (foldProblem, error) {
 		sc := fitScaler(x, fit, zscore)
 		nf, m := len(fit), len(fit)+len(query)
-		xf := sc.applyRows(buf.Slice(0, nf, 0, d).(*mat.Dense), x, fit)
-		xq := sc.applyRows(buf.Slice(nf, m, 0, d).(*mat.Dense), x, query)
 		if !(nf <= d) {
+			xs := rowsBuf(m)
+			xf := sc.applyRows(xs.Slice(0, nf, 0, d).(*mat.Dense), x, fit)
+			xq := sc.applyRows(xs.Slice(nf, m, 0, d).(*mat.Dense), x, query)
 			return primalFold(xf, xq)
 		}
 		if kbuf == nil {
 			kbuf = mat.NewDense(n, n, nil)
 		}
 		g := kbuf.Slice(0, m, 0, m).(*mat.Dense)
-		gram(g, buf.Slice(0, m, 0, d).(*mat.Dense))
+		blocks.stdGram(g, sc, x, append(slices.Clip(fit), query...))
 		return kernelFold(g, nf, penalties)
 	}
 
@@ -156,15 +161,19 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			return err
 		}
 		np := len(pat.rows)
-		xs := sc.applyRows(buf.Slice(0, np, 0, d).(*mat.Dense), x, pat.rows)
 		yFit := subMatrix(y, pat.rows, pat.cols)
 		means := centreColumns(yFit)
 		dual := np <= d
-		var k *mat.Dense // dual: the kernel of the pattern's rows
+		var k, xs *mat.Dense // dual: the kernel of the pattern's rows; primal: the rows
 		var spec factor
 		if dual {
+			if kbuf == nil {
+				kbuf = mat.NewDense(n, n, nil)
+			}
 			k = kbuf.Slice(0, np, 0, np).(*mat.Dense)
-			gram(k, xs)
+			blocks.stdGram(k, sc, x, pat.rows)
+		} else {
+			xs = sc.applyRows(rowsBuf(np), x, pat.rows)
 		}
 		if loo {
 			// One factorization serves the choice and the fit.
@@ -229,8 +238,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 		}
 		w := coef // d × c weights on the standardized edges
 		if dual {
-			w = new(mat.Dense)
-			w.Mul(xs.T(), coef) // X̃ᵀα̂
+			w = blocks.stdMulT(sc, x, pat.rows, coef) // X̃ᵀα̂
 		}
 		for c, j := range pat.cols {
 			var mw float64

@@ -110,12 +110,12 @@ func (f *tridiagonal) coefficients(proj *mat.Dense, penalty []float64) (*mat.Den
 }
 
 // gramBlock is the number of rows gram multiplies at a time.
-const gramBlock = 128
+const gramBlock = 256
 
 // gram sets the n × n dst to x·xᵀ for the n × d x. It computes the upper
 // triangle block row by block row with general products (gonum's or
 // OpenBLAS's Dgemm, which keep their speed where a rank-k update might
-// not), about (n² + n·128)·d flops against 2n²·d for the whole product,
+// not), about (n² + n·256)·d flops against 2n²·d for the whole product,
 // and copies it to the lower triangle.
 func gram(dst, x *mat.Dense) {
 	n, d := x.Dims()
@@ -130,6 +130,65 @@ func gram(dst, x *mat.Dense) {
 			row[j] = raw.Data[j*raw.Stride+i]
 		}
 	}
+}
+
+// gramBuffers are two blocks of standardized rows, gramBlock × d each,
+// reused by stdGram and stdMulT.
+type gramBuffers struct{ a, b *mat.Dense }
+
+func (g *gramBuffers) ensure(d int) {
+	if g.a == nil {
+		g.a, g.b = mat.NewDense(gramBlock, d, nil), mat.NewDense(gramBlock, d, nil)
+	}
+}
+
+// stdGram sets the m × m dst to X̃X̃ᵀ for the rows of x standardized by
+// sc, X̃[a] = sc(x.row(rows[a])), without holding X̃: it standardizes two
+// blocks of gramBlock rows at a time and multiplies them (gonum's or
+// OpenBLAS's Dgemm) for the blocks on and above the diagonal, then copies
+// the upper triangle to the lower. Rows are standardized again for every
+// block they meet, about m²·d/(2·gramBlock) flops against m²·d for the
+// products.
+func (g *gramBuffers) stdGram(dst *mat.Dense, sc scaler, x rowReader, rows []int) {
+	m, d := len(rows), x.width()
+	g.ensure(d)
+	for i0 := 0; i0 < m; i0 += gramBlock {
+		i1 := min(i0+gramBlock, m)
+		a := sc.applyRows(g.a.Slice(0, i1-i0, 0, d).(*mat.Dense), x, rows[i0:i1])
+		for j0 := i0; j0 < m; j0 += gramBlock {
+			j1 := min(j0+gramBlock, m)
+			b := a
+			if j0 != i0 {
+				b = sc.applyRows(g.b.Slice(0, j1-j0, 0, d).(*mat.Dense), x, rows[j0:j1])
+			}
+			dst.Slice(i0, i1, j0, j1).(*mat.Dense).Mul(a, b.T())
+		}
+	}
+	raw := dst.RawMatrix()
+	for i := 1; i < m; i++ {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+i]
+		for j := range row {
+			row[j] = raw.Data[j*raw.Stride+i]
+		}
+	}
+}
+
+// stdMulT returns X̃ᵀc (d × c) for the standardized rows X̃ of stdGram and
+// the len(rows) × c matrix c, a block of rows at a time.
+func (g *gramBuffers) stdMulT(sc scaler, x rowReader, rows []int, c *mat.Dense) *mat.Dense {
+	d := x.width()
+	_, cols := c.Dims()
+	g.ensure(d)
+	out := mat.NewDense(d, cols, nil)
+	var part mat.Dense
+	for i0 := 0; i0 < len(rows); i0 += gramBlock {
+		i1 := min(i0+gramBlock, len(rows))
+		a := sc.applyRows(g.a.Slice(0, i1-i0, 0, d).(*mat.Dense), x, rows[i0:i1])
+		part.Reset()
+		part.Mul(a.T(), c.Slice(i0, i1, 0, cols))
+		out.Add(out, &part)
+	}
+	return out
 }
 
 // trace returns the sum of the diagonal of the square k.
