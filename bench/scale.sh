@@ -20,16 +20,16 @@
 # CPU seconds are the steadier figure. Ratios are of wall seconds.
 #
 # usage: bench/scale.sh   (from the repository root)
-# knobs: N=2000 P=100 TARGETS=2 BUILDS="gonum openblas" PERM=1 (0: no
-#        permutation runs) SKLEARN=1 (0: skip scikit-learn) KEEP=DIR (keep
-#        the cohort and runs in DIR)
+# knobs: N=2000 P=100 TARGETS=2 BUILDS="gonum openblas" PERM="gonum openblas"
+#        (the builds that run the permutation test; "" for none) SKLEARN=1
+#        (0: skip scikit-learn) KEEP=DIR (keep the cohort and runs in DIR)
 set -euo pipefail
 cd "$(dirname "$0")/.."
 N=${N:-2000}
 P=${P:-100}
 TARGETS=${TARGETS:-2}
 BUILDS=${BUILDS:-"gonum openblas"}
-PERM=${PERM:-1}
+PERM=${PERM-gonum openblas}
 SKLEARN=${SKLEARN:-1}
 
 work=${KEEP:-$(mktemp -d)}
@@ -91,7 +91,7 @@ if [[ $SKLEARN == 1 ]]; then
   done < <(bench/scale_sklearn.py "$cohort" --targets "$(tr -d '" ' <<<"$targets")")
 fi
 for build in $BUILDS; do
-  for name in kfold loo $([[ $PERM == 1 ]] && echo perm); do
+  for name in kfold loo $([[ " $PERM " == *" $build "* ]] && echo perm); do
     read -r s mib cpu < <(run "$build" "$name")
     ratio=""
     case $name in
