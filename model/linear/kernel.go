@@ -27,7 +27,9 @@ import (
 // penalty is chosen per column from the alphas grid by inner k-fold
 // cross-validation as in Ridge, sharing its machinery; with alpha_scale =
 // "relative", a = alpha · trace(K)/n over the participants with the score
-// (1 for the correlation kernel). He et
+// (1 for the correlation kernel). There is no leave-one-out choice as in
+// Ridge: the intercept ȳ is not fitted with the penalty, so removing a
+// participant is not the rank-one update the shortcut assumes. He et
 // al. (2020, NeuroImage) found this baseline as accurate as deep networks
 // for predicting behaviour from functional connectivity.
 type KernelRidge struct {
