@@ -13,6 +13,10 @@
 //   - scenarios.sh runs cmd/scenarios: the baselines and a set of networks
 //     on invented cohorts whose score follows a known truth (package
 //     bench/scenario), one table per scenario beside the oracle r;
+//   - scale.sh times skein's ridge run (inner k-fold, efficient
+//     leave-one-out, a 1000-permutation test) in both builds beside
+//     scale_sklearn.py (scikit-learn's GridSearchCV and RidgeCV) on one
+//     invented cohort, with peak memory;
 //   - cmd/refnet is the driver of compare.sh, parallel.sh and scaling.sh;
 //   - BenchmarkRidgePermutation times the permutation test of a
 //     cross-validated ridge at N = 275, p = 268.

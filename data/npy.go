@@ -142,10 +142,13 @@ func (a *array) matrix(path string) (*mat.Dense, error) {
 	return mat.NewDense(a.shape[0], a.shape[1], a.data), nil
 }
 
-// stack returns the k-th p × p matrix of an n × p × p array.
+// stack returns the k-th p × p matrix of an n × p × p array as a view of
+// the array's data, not a copy, so that a stack is held once: the matrices
+// of different k share no element, and each participant's matrix is read
+// (and preprocessed in place) once.
 func (a *array) stack(k int) *mat.Dense {
 	r, c := a.shape[1], a.shape[2]
-	return mat.NewDense(r, c, append([]float64(nil), a.data[k*r*c:(k+1)*r*c]...))
+	return mat.NewDense(r, c, a.data[k*r*c:(k+1)*r*c:(k+1)*r*c])
 }
 
 // checkStack reports an error unless the array is a non-empty n × p × q stack.

@@ -60,6 +60,30 @@ const (
 	StandardizeCenter Standardization = "center" // subtract the training mean only
 )
 
+// InnerCV is the value of the inner key of [model.ridge]: how the penalty
+// is chosen from the alphas grid, InnerKFold or InnerLOO; "" is unset
+// (SetDefaults makes it InnerKFold).
+type InnerCV string
+
+// Values of the inner key of [model.ridge].
+const (
+	// InnerKFold chooses by inner k-fold cross-validation (inner_folds
+	// folds, families kept whole), each inner fold standardizing the edges
+	// with its own fitting rows: the lowest mean over folds of the fold's
+	// mean squared error. It costs one kernel and one factorization per
+	// inner fold.
+	InnerKFold InnerCV = "kfold"
+	// InnerLOO chooses by efficient leave-one-out cross-validation: the
+	// lowest mean squared leave-one-out error, computed exactly for every
+	// penalty from the one factorization of the training fold that the
+	// final fit uses, so it costs about one fit. The edges are standardized
+	// once with the whole training fold (a left-out participant's edges
+	// count in the mean and SD it is scaled by), as scikit-learn's RidgeCV
+	// after a StandardScaler does, and families are not kept whole. Every
+	// alpha must be positive.
+	InnerLOO InnerCV = "loo"
+)
+
 // Kernel is the value of the kernel key of [model.kernel_ridge]:
 // KernelLinear or KernelCorrelation; "" is unset (SetDefaults makes it
 // KernelCorrelation).
@@ -130,6 +154,18 @@ func (s Standardization) MarshalText() ([]byte, error) { return []byte(s), nil }
 
 // String returns the word of s.
 func (s Standardization) String() string { return string(s) }
+
+// UnmarshalText sets v to the word text: "kfold", "loo" or "" (unset).
+// Another word is an error listing these.
+func (v *InnerCV) UnmarshalText(text []byte) error {
+	return enum.Parse(v, text, InnerKFold, InnerLOO)
+}
+
+// MarshalText returns the word of v.
+func (v InnerCV) MarshalText() ([]byte, error) { return []byte(v), nil }
+
+// String returns the word of v.
+func (v InnerCV) String() string { return string(v) }
 
 // UnmarshalText sets k to the word text: "correlation", "linear" or ""
 // (unset). Another word is an error listing these.
@@ -207,6 +243,10 @@ type RidgeConfig struct {
 	// least 2; nil takes DefaultInnerFolds (set it from Go as new(10)).
 	// With a single alpha no inner cross-validation is run.
 	InnerFolds *int `toml:"inner_folds"`
+	// Inner is "kfold" (default: inner k-fold cross-validation) or "loo"
+	// (efficient leave-one-out, about as costly as one fit; every alpha
+	// must then be positive): see InnerKFold and InnerLOO.
+	Inner InnerCV `toml:"inner"`
 }
 
 // KernelRidgeConfig configures kernel ridge regression between
@@ -277,6 +317,7 @@ func (c *Config) SetDefaults() {
 	if r := c.Ridge; r != nil {
 		setDefault(&r.Input, InputFunctional)
 		setDefault(&r.Standardize, StandardizeZScore)
+		setDefault(&r.Inner, InnerKFold)
 		setAlphaDefaults(&r.Alphas, &r.AlphaScale, &r.InnerFolds)
 	}
 	if k := c.KernelRidge; k != nil {
@@ -330,7 +371,20 @@ func (c Config) Validate() error {
 		if err := enum.Check(r.Standardize); err != nil {
 			return fmt.Errorf("%s.standardize: %w", key, err)
 		}
-		return checkAlphas(key, r.Alphas, r.AlphaScale, r.InnerFolds)
+		if err := enum.Check(r.Inner); err != nil {
+			return fmt.Errorf("%s.inner: %w", key, err)
+		}
+		if err := checkAlphas(key, r.Alphas, r.AlphaScale, r.InnerFolds); err != nil {
+			return err
+		}
+		if r.Inner == InnerLOO && len(r.Alphas) > 1 {
+			for _, a := range r.Alphas {
+				if a == 0 {
+					return fmt.Errorf("%s.alphas: must be positive with inner = %q, found 0", key, InnerLOO)
+				}
+			}
+		}
+		return nil
 	}
 	if k := c.KernelRidge; k != nil {
 		const key = "model.kernel_ridge"

@@ -32,6 +32,12 @@ func TestConfigDefaults(t *testing.T) {
 	if got := *c.Ridge; got.Input != want.Input || got.Standardize != want.Standardize || !slices.Equal(got.Alphas, want.Alphas) || got.AlphaScale != want.AlphaScale || *got.InnerFolds != *want.InnerFolds {
 		t.Errorf("ridge defaults %+v, want %+v", got, want)
 	}
+	if c.Ridge.Inner != InnerKFold {
+		t.Errorf("ridge inner defaults to %q, want %q", c.Ridge.Inner, InnerKFold)
+	}
+	if l := decodeConfig(t, "[model.ridge]\ninner = \"loo\"\n"); l.Ridge.Inner != InnerLOO || l.Validate() != nil {
+		t.Errorf("inner = \"loo\": %q, validate %v", l.Ridge.Inner, l.Validate())
+	}
 	if a := DefaultAlphas(); a[0] != 1e-3 || a[6] != 1 || a[12] != 1e3 {
 		t.Errorf("DefaultAlphas() = %v", a)
 	}
@@ -54,6 +60,8 @@ func TestConfigValidate(t *testing.T) {
 		{"[model.ridge]\ninput = \"fmri\"\n", `model.ridge.input: want "functional", "structural" or "both", found "fmri"`},
 		{"[model.ridge]\nstandardize = \"robust\"\n", `model.ridge.standardize: want "zscore" or "center", found "robust"`},
 		{"[model.ridge]\ninner_folds = 1\n", "model.ridge.inner_folds: must be at least 2, found 1"},
+		{"[model.ridge]\ninner = \"gcv\"\n", `model.ridge.inner: want "kfold" or "loo", found "gcv"`},
+		{"[model.ridge]\ninner = \"loo\"\nalphas = [0, 1]\n", `model.ridge.alphas: must be positive with inner = "loo", found 0`},
 		{"[model.ridge]\nalpha_scale = \"absolute\"\n", `model.ridge.alphas: at least one penalty is required with alpha_scale = "absolute"`},
 		{"[model.ridge]\nalpha_scale = \"trace\"\n", `model.ridge.alpha_scale: want "relative" or "absolute", found "trace"`},
 		{"[model.kernel_ridge]\nkernel = \"rbf\"\n", `model.kernel_ridge.kernel: want "correlation" or "linear", found "rbf"`},

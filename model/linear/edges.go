@@ -52,6 +52,39 @@ func EdgePair(p, k int) (i, j int) {
 // modality, with a matrix of another size or with a non-finite edge is an
 // error naming the participant.
 func edgeMatrix(ps []*data.Participant, input Input, p int) (*mat.Dense, int, error) {
+	src, p, err := newEdgeRows(ps, input, p)
+	if err != nil {
+		return nil, p, err
+	}
+	return src.matrix(), p, nil
+}
+
+// A rowReader gives the rows of an n × d matrix one at a time. The slice
+// row returns may be overwritten by the next call and must not be changed.
+type rowReader interface {
+	row(i int) []float64
+	width() int
+}
+
+// denseRows reads the rows of a matrix.
+type denseRows struct{ *mat.Dense }
+
+func (m denseRows) row(i int) []float64 { return m.RawRowView(i) }
+func (m denseRows) width() int          { _, d := m.Dims(); return d }
+
+// edgeRows reads participants' edge vectors (the rows of edgeMatrix)
+// from their matrices as they are asked for, so that a model need not hold
+// a second copy of the cohort.
+type edgeRows struct {
+	ps      []*data.Participant
+	mats    []func(*data.Participant) (*mat.Dense, string)
+	d       int
+	scratch []float64
+}
+
+// newEdgeRows checks every participant's matrices as edgeMatrix does and
+// returns a reader of their edges.
+func newEdgeRows(ps []*data.Participant, input Input, p int) (*edgeRows, int, error) {
 	if len(ps) == 0 {
 		return nil, p, fmt.Errorf("linear: no participants")
 	}
@@ -75,11 +108,10 @@ func edgeMatrix(ps []*data.Participant, input Input, p int) (*mat.Dense, int, er
 		}
 		p, _ = m.Dims()
 	}
-	e := NumEdges(p)
-	d := e * len(mats)
-	x := mat.NewDense(len(ps), d, nil)
-	for i, q := range ps {
-		row := x.RawRowView(i)[:0]
+	d := NumEdges(p) * len(mats)
+	src := &edgeRows{ps: ps, mats: mats, d: d, scratch: make([]float64, 0, d)}
+	for _, q := range ps {
+		row := src.scratch[:0]
 		for _, get := range mats {
 			m, name := get(q)
 			if m == nil {
@@ -98,5 +130,25 @@ func edgeMatrix(ps []*data.Participant, input Input, p int) (*mat.Dense, int, er
 			}
 		}
 	}
-	return x, p, nil
+	return src, p, nil
+}
+
+func (e *edgeRows) row(i int) []float64 {
+	row := e.scratch[:0]
+	for _, get := range e.mats {
+		m, _ := get(e.ps[i])
+		row = appendEdges(row, m)
+	}
+	return row
+}
+
+func (e *edgeRows) width() int { return e.d }
+
+// matrix returns the edges as a len(ps) × d matrix.
+func (e *edgeRows) matrix() *mat.Dense {
+	x := mat.NewDense(len(e.ps), e.d, nil)
+	for i := range e.ps {
+		copy(x.RawRowView(i), e.row(i))
+	}
+	return x
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/mat"
 
@@ -26,7 +27,9 @@ import (
 // penalty is chosen per column from the alphas grid by inner k-fold
 // cross-validation as in Ridge, sharing its machinery; with alpha_scale =
 // "relative", a = alpha · trace(K)/n over the participants with the score
-// (1 for the correlation kernel). He et
+// (1 for the correlation kernel). There is no leave-one-out choice as in
+// Ridge: the intercept ȳ is not fitted with the penalty, so removing a
+// participant is not the rank-one update the shortcut assumes. He et
 // al. (2020, NeuroImage) found this baseline as accurate as deep networks
 // for predicting behaviour from functional connectivity.
 type KernelRidge struct {
@@ -70,23 +73,24 @@ func (k *KernelRidge) Fit(ctx context.Context, train, valid model.Dataset) error
 	}
 	n, _ := x.Dims()
 	_, t := y.Dims()
-	var gram mat.Dense
-	gram.Mul(x, x.T())
+	kern := mat.NewDense(n, n, nil)
+	gram(kern, x)
 	var foldOf []int
 	if len(k.cfg.Alphas) > 1 {
 		if foldOf, err = innerFolds(ps, *k.cfg.InnerFolds, k.seed, "model.kernel_ridge.inner_folds"); err != nil {
 			return err
 		}
 	}
-	problem := func(fit, query []int) (foldProblem, error) {
-		return dualProblem(subMatrix(&gram, fit, fit), subMatrix(&gram, query, fit))
+	problem := func(fit, query []int, penalties []float64) (foldProblem, error) {
+		rows := append(slices.Clip(fit), query...)
+		return kernelFold(subMatrix(kern, rows, rows), len(fit), penalties)
 	}
 	k.p, k.train = p, x
 	k.alphas = make([]float64, t)
 	k.means = make([]float64, t)
 	k.dualCoef = mat.NewDense(n, t, nil)
 	for _, pat := range pats {
-		kff := subMatrix(&gram, pat.rows, pat.rows)
+		kff := subMatrix(kern, pat.rows, pat.rows)
 		spread := mat.Trace(kff) / float64(len(pat.rows))
 		if spread == 0 {
 			return fmt.Errorf("linear: kernel ridge: score column %d: every %s edge is zero for the participants with that score", pat.cols[0]+1, k.cfg.Input)
@@ -104,13 +108,16 @@ func (k *KernelRidge) Fit(ctx context.Context, train, valid model.Dataset) error
 			k.alphas[pat.cols[c]] = k.cfg.Alphas[b]
 			colPenalty[c] = penalties[b]
 		}
-		spec, err := dualSpectrum(kff)
+		spec, err := fitKernel(kff, colPenalty)
 		if err != nil {
 			return err
 		}
 		yFit := subMatrix(y, pat.rows, pat.cols)
 		means := centreColumns(yFit)
-		alpha := spec.coefficients(spec.project(yFit), colPenalty)
+		alpha, err := spec.coefficients(spec.project(yFit), colPenalty)
+		if err != nil {
+			return fmt.Errorf("linear: kernel ridge: score column %d: %w", pat.cols[0]+1, err)
+		}
 		for c, j := range pat.cols {
 			k.means[j] = means[c]
 			for a, i := range pat.rows {

@@ -73,11 +73,12 @@ func (c fixtureCohort) dataset(rows []int) model.Dataset {
 }
 
 // TestAgainstScikitLearn fits every case of the fixtures of
-// testdata/linear/make_fixtures.py (sklearn.json) and make_grid_edges.py
-// (grid_edges.json) and compares the predictions, and the penalties chosen
-// by inner cross-validation, with scikit-learn's.
+// testdata/linear/make_fixtures.py (sklearn.json), make_grid_edges.py
+// (grid_edges.json) and make_loo.py (loo.json: RidgeCV's efficient
+// leave-one-out against inner = "loo") and compares the predictions, and
+// the penalties chosen by inner cross-validation, with scikit-learn's.
 func TestAgainstScikitLearn(t *testing.T) {
-	for _, file := range []string{"sklearn.json", "grid_edges.json"} {
+	for _, file := range []string{"sklearn.json", "grid_edges.json", "loo.json"} {
 		var fixture struct {
 			Cohorts []fixtureCohort `json:"cohorts"`
 		}
@@ -99,6 +100,7 @@ func testFixtureCohort(t *testing.T, name string, c fixtureCohort) {
 				Alphas      []float64       `json:"alphas"`
 				AlphaScale  AlphaScale      `json:"alpha_scale"`
 				InnerFolds  *int            `json:"inner_folds"`
+				Inner       InnerCV         `json:"inner"`
 			}
 			if err := json.Unmarshal(tc.Settings, &set); err != nil {
 				t.Fatal(err)
@@ -107,7 +109,7 @@ func testFixtureCohort(t *testing.T, name string, c fixtureCohort) {
 			switch tc.Model {
 			case "ridge":
 				cfg.Ridge = &RidgeConfig{Input: set.Input, Standardize: set.Standardize,
-					Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds}
+					Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds, Inner: set.Inner}
 			case "kernel_ridge":
 				cfg.KernelRidge = &KernelRidgeConfig{Input: set.Input, Kernel: set.Kernel,
 					Alphas: set.Alphas, AlphaScale: set.AlphaScale, InnerFolds: set.InnerFolds}

@@ -26,14 +26,21 @@ import (
 // standardizing with its own fitting rows; with alpha_scale = "relative",
 // a = alpha · trace(K)/n, K = X̃X̃ᵀ the centred kernel of the n
 // participants (for z-scored edges trace(K)/n is the number of
-// non-constant edges).
+// non-constant edges). With inner = "loo" the penalty minimizes the mean
+// squared leave-one-out error instead, computed exactly for every penalty
+// with the edges standardized once on all n participants (see InnerLOO):
+// scikit-learn's StandardScaler followed by RidgeCV with
+// alpha_per_target.
 //
 // When participants are no more than edges, Ridge solves in the dual: one
-// kernel K = X̃X̃ᵀ (a single matrix product) and one eigendecomposition
-// K = UΛUᵀ per inner fold give the solution at every penalty and for every
-// column. With fewer edges than participants it solves in the primal
-// through one SVD of X̃. Columns of Y missing the same scores share these
-// factorizations (each other pattern costs its own), so Ridge is a
+// kernel K = X̃X̃ᵀ (a single symmetric product) and one Householder
+// reduction K = QTQᵀ per inner fold give the solution at every penalty and
+// for every column, (K + aI)⁻¹y = Q(T + aI)⁻¹Qᵀy with T tridiagonal; a
+// penalty at or below n·ε·trace(K) takes the eigendecomposition instead,
+// whose negligible components get no weight (a zero penalty is then the
+// pseudo-inverse). With fewer edges than participants it solves in the
+// primal through one SVD of X̃. Columns of Y missing the same scores share
+// these factorizations (each other pattern costs its own), so Ridge is a
 // model.ColumnWise: hundreds of permuted columns cost little more than one.
 type Ridge struct {
 	cfg  RidgeConfig
@@ -73,7 +80,9 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	if err != nil {
 		return err
 	}
-	x, p, err := edgeMatrix(ps, r.cfg.Input, 0)
+	// The edges are read from the participants' matrices as they are
+	// needed, not copied into an n × d matrix.
+	x, p, err := newEdgeRows(ps, r.cfg.Input, 0)
 	if err != nil {
 		return err
 	}
@@ -81,39 +90,57 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 	if err != nil {
 		return err
 	}
-	n, d := x.Dims()
+	n, d := len(ps), x.width()
 	_, t := y.Dims()
 	zscore := r.cfg.Standardize == StandardizeZScore
+	loo := r.cfg.Inner == InnerLOO && len(r.cfg.Alphas) > 1
 	var foldOf []int
-	if len(r.cfg.Alphas) > 1 {
+	if len(r.cfg.Alphas) > 1 && !loo {
 		if foldOf, err = innerFolds(ps, *r.cfg.InnerFolds, r.seed, "model.ridge.inner_folds"); err != nil {
 			return err
 		}
 	}
-	buf := mat.NewDense(n, d, nil)
+	// kbuf holds a kernel (dual) and buf standardized rows (primal only;
+	// the dual standardizes a block of rows at a time, see stdGram), each
+	// made when first needed and reused by every inner fold and pattern.
+	var buf, kbuf *mat.Dense
+	var blocks gramBuffers
+	rowsBuf := func(m int) *mat.Dense {
+		if buf == nil {
+			buf = mat.NewDense(n, d, nil)
+		}
+		return buf.Slice(0, m, 0, d).(*mat.Dense)
+	}
 	// problem standardizes the rows fit and query with the statistics of
-	// fit and factorizes the fit rows: in the dual through their kernel
-	// (already centred, the edges being centred on the fit rows), in the
-	// primal through their SVD.
-	problem := func(fit, query []int) (foldProblem, error) {
+	// fit and factorizes the fit rows: in the dual through the kernel of
+	// fit and query together (already centred, the edges being centred on
+	// the fit rows; see kernelFold), in the primal through their SVD.
+	problem := func(fit, query []int, penalties []float64) (foldProblem, error) {
 		sc := fitScaler(x, fit, zscore)
-		xf := sc.applyRows(buf.Slice(0, len(fit), 0, d).(*mat.Dense), x, fit)
-		xq := sc.applyRows(buf.Slice(len(fit), len(fit)+len(query), 0, d).(*mat.Dense), x, query)
-		if !(len(fit) <= d) {
+		nf, m := len(fit), len(fit)+len(query)
+		if !(nf <= d) {
+			xs := rowsBuf(m)
+			xf := sc.applyRows(xs.Slice(0, nf, 0, d).(*mat.Dense), x, fit)
+			xq := sc.applyRows(xs.Slice(nf, m, 0, d).(*mat.Dense), x, query)
 			return primalFold(xf, xq)
 		}
-		var kff, kqf mat.Dense
-		kff.Mul(xf, xf.T())
-		kqf.Mul(xq, xf.T())
-		return dualProblem(&kff, &kqf)
+		if kbuf == nil {
+			kbuf = mat.NewDense(n, n, nil)
+		}
+		g := kbuf.Slice(0, m, 0, m).(*mat.Dense)
+		blocks.stdGram(g, sc, x, append(slices.Clip(fit), query...))
+		return kernelFold(g, nf, penalties)
 	}
 
 	r.p = p
 	r.alphas = make([]float64, t)
 	r.intercept = make([]float64, t)
 	r.train, r.patterns, r.dualCoef, r.weights = nil, nil, nil, nil
-	if n <= d {
-		r.train = x
+	// In the dual with more columns than participants (a permutation
+	// test's chunk), Predict works from the training edges and the dual
+	// coefficients (n × d and n × T); otherwise from the weights (d × T).
+	if n <= d && t > n {
+		r.train = x.matrix()
 		r.dualCoef = mat.NewDense(n, t, nil)
 	} else {
 		r.weights = mat.NewDense(d, t, nil)
@@ -124,31 +151,65 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			return fmt.Errorf("linear: ridge: score column %d: every %s edge is constant over the participants with that score", pat.cols[0]+1, r.cfg.Input)
 		}
 		penalties := scalePenalties(r.cfg.Alphas, r.cfg.AlphaScale, sc.spread)
-		best, err := chooseCV(ctx, y, pat, foldOf, *r.cfg.InnerFolds, penalties, problem)
-		if err != nil {
-			return fmt.Errorf("linear: ridge: %w", err)
+		best := make([]int, len(pat.cols))
+		if !loo {
+			if best, err = chooseCV(ctx, y, pat, foldOf, *r.cfg.InnerFolds, penalties, problem); err != nil {
+				return fmt.Errorf("linear: ridge: %w", err)
+			}
 		}
 		if err := ctx.Err(); err != nil {
 			return err
+		}
+		np := len(pat.rows)
+		yFit := subMatrix(y, pat.rows, pat.cols)
+		means := centreColumns(yFit)
+		dual := np <= d
+		var k, xs *mat.Dense // dual: the kernel of the pattern's rows; primal: the rows
+		var spec factor
+		if dual {
+			if kbuf == nil {
+				kbuf = mat.NewDense(n, n, nil)
+			}
+			k = kbuf.Slice(0, np, 0, np).(*mat.Dense)
+			blocks.stdGram(k, sc, x, pat.rows)
+		} else {
+			xs = sc.applyRows(rowsBuf(np), x, pat.rows)
+		}
+		if loo {
+			// One factorization serves the choice and the fit.
+			if dual {
+				spec = reduceKernel(k)
+			} else if spec, err = primalSpectrum(xs); err != nil {
+				return err
+			}
+			if best, err = chooseLOO(ctx, spec, yFit, penalties); err != nil {
+				return fmt.Errorf("linear: ridge: score column %d: %w", pat.cols[0]+1, err)
+			}
 		}
 		colPenalty := make([]float64, len(pat.cols))
 		for c, b := range best {
 			r.alphas[pat.cols[c]] = r.cfg.Alphas[b]
 			colPenalty[c] = penalties[b]
 		}
-		xs := sc.applyRows(buf.Slice(0, len(pat.rows), 0, d).(*mat.Dense), x, pat.rows)
-		yFit := subMatrix(y, pat.rows, pat.cols)
-		means := centreColumns(yFit)
-		var w *mat.Dense // d × c raw-scale weights
-		if r.train != nil {
-			var kff mat.Dense
-			kff.Mul(xs, xs.T())
-			spec, err := dualSpectrum(&kff)
+		if spec == nil {
+			if dual {
+				spec, err = fitKernel(k, colPenalty)
+			} else {
+				spec, err = primalSpectrum(xs)
+			}
 			if err != nil {
 				return err
 			}
-			alpha := spec.coefficients(spec.project(yFit), colPenalty)
-			centreColumns(alpha) // Hα: the weights become Σᵢ α̂ᵢ xᵢ, free of the edge means
+		}
+		coef, err := spec.coefficients(spec.project(yFit), colPenalty)
+		if err != nil {
+			return fmt.Errorf("linear: ridge: score column %d: %w", pat.cols[0]+1, err)
+		}
+		if dual {
+			centreColumns(coef) // Hα: the weights become Σᵢ α̂ᵢ xᵢ, free of the edge means
+		}
+		if dual && r.train != nil {
+			alpha := coef
 			factorSq := make([]float64, d)
 			for k, f := range sc.factor {
 				factorSq[k] = f * f
@@ -163,7 +224,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			meanK := mat.NewDense(1, len(pat.rows), nil)
 			for a, i := range pat.rows {
 				var v float64
-				for k, xk := range x.RawRowView(i) {
+				for k, xk := range x.row(i) {
 					v += xk * sc.mean[k] * factorSq[k]
 				}
 				meanK.Set(0, a, v)
@@ -175,11 +236,10 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 			}
 			continue
 		}
-		spec, err := primalSpectrum(xs)
-		if err != nil {
-			return err
+		w := coef // d × c weights on the standardized edges
+		if dual {
+			w = blocks.stdMulT(sc, x, pat.rows, coef) // X̃ᵀα̂
 		}
-		w = spec.coefficients(spec.project(yFit), colPenalty)
 		for c, j := range pat.cols {
 			var mw float64
 			for k := 0; k < d; k++ {
@@ -195,7 +255,7 @@ func (r *Ridge) Fit(ctx context.Context, train, valid model.Dataset) error {
 
 // dualProblem factorizes the fitting kernel kff and expresses the query
 // kernel kqf in its eigenvectors.
-func dualProblem(kff, kqf *mat.Dense) (foldProblem, error) {
+func dualProblem(kff, kqf mat.Matrix) (foldProblem, error) {
 	spec, err := dualSpectrum(kff)
 	if err != nil {
 		return foldProblem{}, err

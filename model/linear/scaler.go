@@ -18,12 +18,12 @@ type scaler struct {
 }
 
 // fitScaler computes the statistics of x's rows.
-func fitScaler(x *mat.Dense, rows []int, zscore bool) scaler {
-	_, d := x.Dims()
+func fitScaler(x rowReader, rows []int, zscore bool) scaler {
+	d := x.width()
 	s := scaler{mean: make([]float64, d), factor: make([]float64, d)}
 	sumSq := make([]float64, d)
 	for _, i := range rows {
-		row := x.RawRowView(i)
+		row := x.row(i)
 		for k, v := range row {
 			s.mean[k] += v
 		}
@@ -33,7 +33,7 @@ func fitScaler(x *mat.Dense, rows []int, zscore bool) scaler {
 		s.mean[k] /= n
 	}
 	for _, i := range rows {
-		row := x.RawRowView(i)
+		row := x.row(i)
 		for k, v := range row {
 			dv := v - s.mean[k]
 			sumSq[k] += dv * dv
@@ -58,9 +58,9 @@ func sq(x float64) float64 { return x * x }
 
 // applyRows writes the standardized rows of x into the len(rows) × d
 // matrix dst and returns it.
-func (s scaler) applyRows(dst, x *mat.Dense, rows []int) *mat.Dense {
+func (s scaler) applyRows(dst *mat.Dense, x rowReader, rows []int) *mat.Dense {
 	for a, i := range rows {
-		src, out := x.RawRowView(i), dst.RawRowView(a)
+		src, out := x.row(i), dst.RawRowView(a)
 		for k, v := range src {
 			out[k] = (v - s.mean[k]) * s.factor[k]
 		}

@@ -30,7 +30,7 @@ type spectrum struct {
 }
 
 // dualSpectrum factorizes the symmetric n × n kernel k.
-func dualSpectrum(k *mat.Dense) (*spectrum, error) {
+func dualSpectrum(k mat.Matrix) (*spectrum, error) {
 	n, _ := k.Dims()
 	sym := mat.NewSymDense(n, nil)
 	for i := 0; i < n; i++ {
@@ -84,28 +84,38 @@ func (s *spectrum) project(y *mat.Dense) *mat.Dense {
 	return &proj
 }
 
+// solve sets dst[i, j] to gain(i, penalty[j])·proj[i, j].
+func (s *spectrum) solve(dst, proj *mat.Dense, penalty []float64) error {
+	r, _ := proj.Dims()
+	for i := 0; i < r; i++ {
+		src, out := proj.RawRowView(i), dst.RawRowView(i)
+		for j, v := range src {
+			out[j] = s.gain(i, penalty[j]) * v
+		}
+	}
+	return nil
+}
+
 // coefficients returns basis · diag(gain(penalty[j])) · proj[:, j] for
 // every column j of proj: α (n × c) in the dual, w (d × c) in the primal.
-func (s *spectrum) coefficients(proj *mat.Dense, penalty []float64) *mat.Dense {
+func (s *spectrum) coefficients(proj *mat.Dense, penalty []float64) (*mat.Dense, error) {
 	r, c := proj.Dims()
 	scaled := mat.NewDense(r, c, nil)
-	for i := 0; i < r; i++ {
-		for j := 0; j < c; j++ {
-			scaled.Set(i, j, s.gain(i, penalty[j])*proj.At(i, j))
-		}
+	if err := s.solve(scaled, proj, penalty); err != nil {
+		return nil, err
 	}
 	var coef mat.Dense
 	coef.Mul(s.basis, scaled)
-	return &coef
+	return &coef, nil
 }
 
 // A foldProblem is the ridge problem of one missing-score pattern inside
-// one fold: the spectrum of its fitting rows and the query rows expressed
-// in the spectrum's basis (dual: centred query kernel × U; primal: centred
-// query edges × V), queryBasis being len(query) × r.
+// one fold: the factor of its fitting rows and the query rows expressed
+// in the factor's basis B (dual: centred query kernel × B; primal:
+// centred query edges × V), queryBasis being len(query) × r.
 type foldProblem struct {
-	spec       *spectrum
-	queryBasis *mat.Dense
+	spec       factor
+	queryBasis mat.Matrix
 }
 
 // chooseCV returns, for every column of pattern pat, the index into
@@ -116,7 +126,7 @@ type foldProblem struct {
 // as scikit-learn's GridSearchCV averages). A fold holding out none of the
 // pattern's rows does not count. Ties go to the earlier penalty. y is the
 // training pool's n × T scores.
-func chooseCV(ctx context.Context, y *mat.Dense, pat pattern, foldOf []int, folds int, penalties []float64, problem func(fit, query []int) (foldProblem, error)) ([]int, error) {
+func chooseCV(ctx context.Context, y *mat.Dense, pat pattern, foldOf []int, folds int, penalties []float64, problem func(fit, query []int, penalties []float64) (foldProblem, error)) ([]int, error) {
 	best := make([]int, len(pat.cols))
 	if len(penalties) == 1 {
 		return best, nil
@@ -141,7 +151,7 @@ func chooseCV(ctx context.Context, y *mat.Dense, pat pattern, foldOf []int, fold
 		if len(fit) < 2 {
 			return nil, fmt.Errorf("inner fold %d: score column %d has %d scores to fit on, need at least 2", f+1, pat.cols[0]+1, len(fit))
 		}
-		prob, err := problem(fit, query)
+		prob, err := problem(fit, query, penalties)
 		if err != nil {
 			return nil, fmt.Errorf("inner fold %d: %w", f+1, err)
 		}
@@ -152,13 +162,13 @@ func chooseCV(ctx context.Context, y *mat.Dense, pat pattern, foldOf []int, fold
 		r, c := proj.Dims()
 		scaled := mat.NewDense(r, c, nil)
 		var pred mat.Dense
+		same := make([]float64, c)
 		for a, pen := range penalties {
-			for i := 0; i < r; i++ {
-				g := prob.spec.gain(i, pen)
-				src, dst := proj.RawRowView(i), scaled.RawRowView(i)
-				for j, v := range src {
-					dst[j] = g * v
-				}
+			for j := range same {
+				same[j] = pen
+			}
+			if err := prob.spec.solve(scaled, proj, same); err != nil {
+				return nil, fmt.Errorf("inner fold %d: %w", f+1, err)
 			}
 			pred.Mul(prob.queryBasis, scaled)
 			for j := range pat.cols {
