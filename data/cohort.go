@@ -42,6 +42,13 @@ type Cohort struct {
 	Regions []string
 	// Excluded lists every participant that was left out, with its reason.
 	Excluded []Exclusion
+	// Series, when the functional matrices were estimated from regional
+	// time series (cohort.functional.series), says how; nil when they were
+	// read as matrices. With Series.Estimator = EstimatorTangent each
+	// Functional matrix is the participant's p × p covariance, which the
+	// fold's preparation embeds in a tangent space fitted on the training
+	// participants (train.TangentSpace).
+	Series *SeriesSettings
 }
 
 // P returns the number of regions.
