@@ -361,7 +361,7 @@ func (m Modality) validate(key string) error {
 	case m.Files != "" && m.Stack != "":
 		return fmt.Errorf(`%s: set either "files" or "stack", not both`, key)
 	case m.Files == "" && m.Stack == "":
-		return fmt.Errorf(`%s: set "files" (a path template), "stack" (an n × p × p .npy file) or, functional only, "series" (regional time series)`, key)
+		return fmt.Errorf(`%s: set "files" (a path template) or "stack" (an n × p × p .npy file), or "series" (regional time series, functional only)`, key)
 	case m.Files != "":
 		if m.StackIDs != "" {
 			return fmt.Errorf(`%s.stack_ids: goes with "stack", not "files"`, key)
