@@ -229,7 +229,7 @@ func permutedCohort(c *data.Cohort, batch [][]int, confounds []string) (*data.Co
 			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (have %v)", name, c.Covariates)
 		}
 	}
-	pc := &data.Cohort{Regions: c.Regions}
+	pc := &data.Cohort{Regions: c.Regions, Series: c.Series}
 	for k := range batch {
 		for _, t := range c.Targets {
 			pc.Targets = append(pc.Targets, t+"|"+strconv.Itoa(k))

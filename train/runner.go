@@ -351,15 +351,12 @@ type foldData struct {
 // preparation is in the Pipeline made here.
 func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*foldData, error) {
 	prep := &Pipeline{Steps: []Prep{&TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}}}
+	tangent := newTangentSpace(cohort.Series)
+	if tangent != nil {
+		prep.Steps = append(prep.Steps, tangent)
+	}
 	if err := prep.Fit(subCohort(cohort, split.Train)); err != nil {
 		return nil, err
-	}
-	var edges *EdgeScaler
-	if f, s := exp.edgeScaling(); f || s {
-		edges = &EdgeScaler{Functional: f, Structural: s}
-		if err := edges.Fit(subCohort(cohort, split.Train)); err != nil {
-			return nil, fmt.Errorf("%s: %w", edges.Name(), err)
-		}
 	}
 	seed := unitSeed(exp.Seed, "inner", split.Repeat, split.Fold)
 	fitIdx, validIdx := InnerValidation(split.Train, Groups(cohort), exp.CV.innerCount(), exp.CV.innerFraction(), seed)
@@ -370,6 +367,17 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	valid, err := prep.Apply(subCohort(cohort, validIdx))
 	if err != nil {
 		return nil, err
+	}
+	var edges *EdgeScaler
+	if f, s := exp.edgeScaling(); f || s {
+		edges = &EdgeScaler{Functional: f, Structural: s}
+		edgeTrain := subCohort(cohort, split.Train)
+		if tangent != nil {
+			edgeTrain = preparedInOrder(edgeTrain, split.Train, fitIdx, fit, validIdx, valid)
+		}
+		if err := edges.Fit(edgeTrain); err != nil {
+			return nil, fmt.Errorf("%s: %w", edges.Name(), err)
+		}
 	}
 	test, err := prep.Apply(subCohort(cohort, split.Test))
 	if err != nil {
@@ -400,6 +408,27 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		}
 	}
 	return fd, nil
+}
+
+// preparedInOrder returns train with its participants (cohort indices
+// order) replaced by the prepared ones of fit (indices fitIdx) and valid
+// (validIdx), which together hold them all: the fold's training
+// participants as the input steps leave them, for the steps fitted after
+// the Pipeline (EdgeScaler).
+func preparedInOrder(train *data.Cohort, order, fitIdx []int, fit *data.Cohort, validIdx []int, valid *data.Cohort) *data.Cohort {
+	byIndex := make(map[int]*data.Participant, len(order))
+	for k, i := range fitIdx {
+		byIndex[i] = fit.Participants[k]
+	}
+	for k, i := range validIdx {
+		byIndex[i] = valid.Participants[k]
+	}
+	out := *train
+	out.Participants = make([]*data.Participant, len(order))
+	for k, i := range order {
+		out.Participants[k] = byIndex[i]
+	}
+	return &out
 }
 
 // edgeScaling returns the modalities some model of d learns from
