@@ -1,0 +1,81 @@
+package train
+
+import (
+	"fmt"
+	"math/rand/v2"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+
+	"github.com/skein-neuro/skein/data"
+	"github.com/skein-neuro/skein/data/connectivity"
+)
+
+// benchCovariances returns n Ledoit–Wolf covariances of T × p series
+// drawn from one 10-factor model, so that participants differ by
+// sampling noise as in a resting-state cohort.
+func benchCovariances(n, p, T int, set data.SeriesSettings) *data.Cohort {
+	rng := rand.New(rand.NewPCG(1, 2))
+	const factors = 10
+	load := mat.NewDense(factors, p, nil)
+	for k := range factors {
+		for j := range p {
+			load.Set(k, j, 0.5*rng.NormFloat64())
+		}
+	}
+	c := &data.Cohort{Targets: []string{"score"}, Regions: data.DefaultRegions(p), Series: &set}
+	z := mat.NewDense(T, factors, nil)
+	x := mat.NewDense(T, p, nil)
+	for i := range n {
+		for t := range T {
+			for k := range factors {
+				z.Set(t, k, rng.NormFloat64())
+			}
+		}
+		x.Mul(z, load)
+		for t := range T {
+			for j := range p {
+				x.Set(t, j, x.At(t, j)+rng.NormFloat64())
+			}
+		}
+		cov, _ := connectivity.LedoitWolf(x)
+		c.Participants = append(c.Participants, &data.Participant{ID: fmt.Sprintf("sub-%04d", i), Functional: mat.DenseCopyOf(cov), Scores: []float64{0}})
+	}
+	return c
+}
+
+// BenchmarkTangentFold times the tangent space of one fold of 5-fold
+// cross-validation at p = 200 and N = 1000: the reference mean fitted on
+// 800 training covariances and all 1000 embedded. Run it with
+//
+//	nice go test ./train -run '^$' -bench TangentFold -benchtime 1x -timeout 60m
+//
+// (the covariances, estimated once at load, are made before the timer).
+func BenchmarkTangentFold(b *testing.B) {
+	const n, p, T = 1000, 200, 300
+	for _, mean := range []data.TangentMean{data.TangentLogEuclidean, data.TangentGeometric} {
+		set := data.SeriesSettings{Estimator: data.EstimatorTangent, Shrinkage: data.ShrinkageLedoitWolf, TangentMean: mean, TangentDiagonal: data.DiagonalDrop}
+		c := benchCovariances(n, p, T, set)
+		train := subCohort(c, seq(0, n*4/5))
+		b.Run(string(mean), func(b *testing.B) {
+			for b.Loop() {
+				s := newTangentSpace(&set)
+				if err := s.Fit(train); err != nil {
+					b.Fatal(err)
+				}
+				if _, err := s.Apply(c); err != nil {
+					b.Fatal(err)
+				}
+				b.ReportMetric(float64(s.Iterations), "iterations")
+			}
+		})
+	}
+}
+
+func seq(from, to int) []int {
+	out := make([]int, 0, to-from)
+	for i := from; i < to; i++ {
+		out = append(out, i)
+	}
+	return out
+}
