@@ -265,3 +265,44 @@ func TestTangentNoLeakage(t *testing.T) {
 		})
 	}
 }
+
+// TestTangentThenEdgeScaler: for a network, whose kind standardizes
+// edges, the fold's edge means are those of the training participants'
+// tangent matrices (the step after the embedding), and a network trains
+// on tangent matrices.
+func TestTangentThenEdgeScaler(t *testing.T) {
+	const n, p, T = 30, 5, 40
+	seeds := make([]uint64, n)
+	for i := range seeds {
+		seeds[i] = uint64(i + 100)
+	}
+	c := seriesToyCohort(n, p, T, seeds, data.TangentLogEuclidean)
+	exp := toyDesign(tinyNetwork("network"))
+	exp.CV.Repeats = new(1)
+	splits, err := exp.CV.folds(exp.Seed, c).Splits(n)
+	if err != nil {
+		t.Fatal(err)
+	}
+	split := splits[0]
+	fd, err := prepareFold(exp, c, split, 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	embedded, err := fd.prep.Steps[1].Apply(subCohort(c, split.Train))
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Mean of edge (0, 1) over the training participants, as the
+	// population formula of EdgeScaler says.
+	var mean float64
+	for _, pt := range embedded.Participants {
+		mean += pt.Functional.At(0, 1)
+	}
+	mean /= float64(len(embedded.Participants))
+	if got := fd.edges.FunctionalMean[0]; math.Abs(got-mean) > 1e-12 {
+		t.Errorf("edge (0, 1): the scaler's mean is %v, the embedded training participants' %v", got, mean)
+	}
+	if _, err := (&Runner{Design: exp, Cohort: c, Jobs: 1}).Run(context.Background()); err != nil {
+		t.Fatal(err)
+	}
+}
