@@ -302,3 +302,31 @@ func TestSeriesTimePointsDiffer(t *testing.T) {
 		t.Errorf("time points %+v; report:\n%s", tp, b.String())
 	}
 }
+
+// FuzzParseSeriesText: no input makes the series parser panic, and what
+// it accepts is a finite T × p matrix with p names or none.
+func FuzzParseSeriesText(f *testing.F) {
+	f.Add([]byte("a\tb\n1\t2\n3\t4\n"))
+	f.Add([]byte("Node,a,b\n0,1,2\n1,3,4\n"))
+	f.Add([]byte("t1 1 2\nt2 3 4\n"))
+	f.Add([]byte("a\tb\n1\tNaN\n"))
+	f.Add([]byte("\ufeff\n\n"))
+	f.Fuzz(func(t *testing.T, raw []byte) {
+		x, names, err := parseSeriesText("fuzz.tsv", raw)
+		if err != nil {
+			if !errors.Is(err, ErrBadFile) {
+				t.Fatalf("error %v is not a FileError", err)
+			}
+			return
+		}
+		T, p := x.Dims()
+		if T == 0 || p == 0 || (names != nil && len(names) != p) {
+			t.Fatalf("%d × %d matrix with %d names", T, p, len(names))
+		}
+		for _, v := range x.RawMatrix().Data {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				t.Fatalf("accepted %v", v)
+			}
+		}
+	})
+}
