@@ -197,6 +197,9 @@ func (l *loader) seriesMatrix(m *modality, id string) (*matrixFile, error) {
 			}
 		}
 	}
+	if T < 3 {
+		return nil, &FileError{Path: path, Err: fmt.Errorf("%d time points; expected at least 3 rows, one per time point", T)}
+	}
 	for j := range p {
 		constant := true
 		for t := 1; t < T; t++ {
@@ -210,9 +213,6 @@ func (l *loader) seriesMatrix(m *modality, id string) (*matrixFile, error) {
 		}
 	}
 	set := m.spec.Settings()
-	if T < 3 {
-		return nil, &FileError{Path: path, Err: fmt.Errorf("%d time points; expected at least 3 rows, one per time point", T)}
-	}
 	if set.Shrinkage == ShrinkageNone && T <= p && (set.Estimator == EstimatorPartial || set.Estimator == EstimatorTangent) {
 		return nil, &FileError{Path: path, Err: fmt.Errorf("%d time points for %d regions: the sample covariance of T ≤ p time points is singular (rank at most T − 1 = %d), so estimator %q cannot be computed; set shrinkage = %q in [cohort.functional], or use fewer regions", T, p, T-1, set.Estimator, ShrinkageLedoitWolf)}
 	}

@@ -89,7 +89,7 @@ func InvSqrtm(a mat.Symmetric) (*mat.SymDense, error) {
 	return apply(a, func(v float64) float64 { return 1 / math.Sqrt(v) })
 }
 
-// Whitened returns w c w, for a whitening matrix w = M^(−1/2).
+// whitened returns w c w, for a whitening matrix w = M^(−1/2).
 func whitened(w, c mat.Symmetric) *mat.SymDense {
 	p := c.SymmetricDim()
 	var wc, wcw mat.Dense
