@@ -47,10 +47,11 @@ func benchCovariances(n, p, T int, set data.SeriesSettings) *data.Cohort {
 }
 
 // BenchmarkTangentFold times the tangent space of one fold of 5-fold
-// cross-validation at p = 200 and N = 1000: the reference mean fitted on
-// 800 training covariances and all 1000 embedded. Run it with
+// cross-validation at p = 200 and N = 1000 (and N = 100, a tenth of the
+// work): the reference mean fitted on the first 80 % of the covariances
+// and all N embedded. Run it with
 //
-//	nice go test ./train -run '^$' -bench TangentFold -benchtime 1x -timeout 60m
+//	nice go test ./train -run '^$' -bench 'TangentFold/.*/N=1000' -benchtime 1x -timeout 60m
 //
 // (the covariances, estimated once at load, are made before the timer).
 // Besides the wall time it reports cpu-s/op, the CPU seconds the process
@@ -58,26 +59,33 @@ func benchCovariances(n, p, T int, set data.SeriesSettings) *data.Cohort {
 // work inflates far less than the wall time; on two otherwise idle cores
 // the wall time is about half of it.
 func BenchmarkTangentFold(b *testing.B) {
-	const n, p, T = 1000, 200, 300
+	const p, T = 200, 300
 	for _, mean := range []data.TangentMean{data.TangentLogEuclidean, data.TangentGeometric} {
-		set := data.SeriesSettings{Estimator: data.EstimatorTangent, Shrinkage: data.ShrinkageLedoitWolf, TangentMean: mean, TangentDiagonal: data.DiagonalDrop}
-		b.Run(string(mean), func(b *testing.B) {
-			c := benchCovariances(n, p, T, set)
-			train := subCohort(c, seq(0, n*4/5))
-			before := cpuTime()
-			for b.Loop() {
-				s := newTangentSpace(&set)
-				if err := s.Fit(train); err != nil {
-					b.Fatal(err)
-				}
-				if _, err := s.Apply(c); err != nil {
-					b.Fatal(err)
-				}
-				b.ReportMetric(float64(s.Iterations), "iterations")
-			}
-			b.ReportMetric((cpuTime()-before).Seconds()/float64(b.N), "cpu-s/op")
-		})
+		for _, n := range []int{1000, 100} {
+			benchTangentFold(b, mean, n, p, T)
+		}
 	}
+}
+
+// benchTangentFold is the sub-benchmark MEAN/N=n of BenchmarkTangentFold.
+func benchTangentFold(b *testing.B, mean data.TangentMean, n, p, T int) {
+	set := data.SeriesSettings{Estimator: data.EstimatorTangent, Shrinkage: data.ShrinkageLedoitWolf, TangentMean: mean, TangentDiagonal: data.DiagonalDrop}
+	b.Run(fmt.Sprintf("%s/N=%d", mean, n), func(b *testing.B) {
+		c := benchCovariances(n, p, T, set)
+		train := subCohort(c, seq(0, n*4/5))
+		before := cpuTime()
+		for b.Loop() {
+			s := newTangentSpace(&set)
+			if err := s.Fit(train); err != nil {
+				b.Fatal(err)
+			}
+			if _, err := s.Apply(c); err != nil {
+				b.Fatal(err)
+			}
+			b.ReportMetric(float64(s.Iterations), "iterations")
+		}
+		b.ReportMetric((cpuTime()-before).Seconds()/float64(b.N), "cpu-s/op")
+	})
 }
 
 // cpuTime returns the user and system CPU time of the process so far.
