@@ -107,8 +107,9 @@ const (
 	// vectorisation is the p(p−1)/2 entries √2 t_ij, i < j.
 	DiagonalDrop TangentDiagonal = "drop"
 	// DiagonalKeep keeps t_ii on the diagonal of each tangent matrix, for
-	// models that read the diagonal (graph networks); the baselines read
-	// a matrix's edges i < j only.
+	// models that read the diagonal; the baselines read a matrix's edges
+	// i < j only, and a network's per-edge standardization (EdgeScaler)
+	// zeroes the diagonal.
 	DiagonalKeep TangentDiagonal = "keep"
 )
 
