@@ -139,10 +139,26 @@ func keyName(opts readOptions) string {
 // number of time points are the caller's checks. Errors are *FileError
 // values naming the file and the place.
 func ReadSeries(path, variable string) (*mat.Dense, []string, error) {
-	if formatOf(path) == formatPconn {
-		return nil, nil, &FileError{Path: path, Err: errors.New("a .pconn.nii file holds a connectivity matrix, not time series; expected .ptseries.nii")}
+	raw, err := readRegular(path, 8*maxTableBytes)
+	if err != nil {
+		return nil, nil, err
 	}
-	a, err := readArray(path, readOptions{variable: variable, series: true})
+	return decodeSeries(path, raw, variable)
+}
+
+// decodeSeries is ReadSeries on the file's contents raw: delimited text
+// through parseSeriesText, any other format through decodeArray.
+func decodeSeries(path string, raw []byte, variable string) (*mat.Dense, []string, error) {
+	switch formatOf(path) {
+	case formatPconn:
+		return nil, nil, &FileError{Path: path, Err: errors.New("a .pconn.nii file holds a connectivity matrix, not time series; expected .ptseries.nii")}
+	case formatText:
+		if variable != "" {
+			return nil, nil, &FileError{Path: path, Err: fmt.Errorf("variable %q names an array, but a text file holds one unnamed table; remove the key", variable)}
+		}
+		return parseSeriesText(path, raw)
+	}
+	a, err := decodeArray(path, raw, readOptions{variable: variable, series: true})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -152,31 +168,5 @@ func ReadSeries(path, variable string) (*mat.Dense, []string, error) {
 	if a.shape[0] == 0 || a.shape[1] == 0 {
 		return nil, nil, &FileError{Path: path, Err: fmt.Errorf("array of shape %v is empty", a.shape)}
 	}
-	m := mat.NewDense(a.shape[0], a.shape[1], a.data)
-	names := a.names
-	if a.where != nil && names != nil && isIndexColumn(m) && len(names) == a.shape[1] {
-		// A header over an index column: "Node, A, B" above "0, x, y".
-		m = mat.DenseCopyOf(m.Slice(0, a.shape[0], 1, a.shape[1]))
-		names = names[1:]
-	}
-	return m, names, nil
-}
-
-// isIndexColumn reports whether m's first column counts its rows from 0
-// or from 1 (0, 1, 2, ... or 1, 2, 3, ...) and m has another column.
-func isIndexColumn(m *mat.Dense) bool {
-	r, c := m.Dims()
-	if c < 2 {
-		return false
-	}
-	start := m.At(0, 0)
-	if start != 0 && start != 1 {
-		return false
-	}
-	for i := range r {
-		if m.At(i, 0) != start+float64(i) {
-			return false
-		}
-	}
-	return true
+	return mat.NewDense(a.shape[0], a.shape[1], a.data), a.names, nil
 }

@@ -49,6 +49,13 @@ type Cohort struct {
 	SiteColumn string
 	// Excluded lists every participant that was left out, with its reason.
 	Excluded []Exclusion
+	// Series, when the functional matrices were estimated from regional
+	// time series (cohort.functional.series), says how; nil when they were
+	// read as matrices. With Series.Estimator = EstimatorTangent each
+	// Functional matrix is the participant's p × p covariance, which the
+	// fold's preparation embeds in a tangent space fitted on the training
+	// participants (train.TangentSpace).
+	Series *SeriesSettings
 	// Files lists every file Check read, in the order read, with the
 	// SHA-256 of its bytes: the participants table, the region labels,
 	// each stack and its participant list, each included participant's

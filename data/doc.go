@@ -8,5 +8,11 @@
 // nothing here can leak information between cross-validation folds.
 // Every file error names its place (FileError, matched by ErrBadFile).
 //
-// data is the bottom of skein's layers: it imports no other skein package.
+// Functional connectomes may also be estimated from each participant's
+// regional time series (Modality.Series, with the estimators of package
+// data/connectivity); an estimator that learns from the cohort (the
+// tangent space) is left to the fold's preparation (Cohort.Series).
+//
+// data is the bottom of skein's layers: it imports no other skein package
+// but its own data/connectivity and internal helpers.
 package data

@@ -164,8 +164,9 @@ type modality struct {
 	report    *ModalityReport
 
 	// Per included participant, in order: mean off-diagonal entry and
-	// density of the matrix as read.
-	means, densities []float64
+	// density of the matrix as read, and the number of time points of a
+	// modality read from series.
+	means, densities, timePoints []float64
 }
 
 func (l *loader) load() (*Cohort, *Report, error) {
@@ -252,16 +253,20 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		p := &Participant{ID: r.id, Group: r.group, Site: r.site, Scores: r.scores, Covariates: r.covariates}
 		var failed []string
 		means, densities := make([]float64, len(mods)), make([]float64, len(mods))
+		timePoints := make([]float64, len(mods))
 		for k, m := range mods {
 			f, err := l.matrix(m, r.id)
-			if err == nil {
+			if err == nil && m.spec.Series == "" {
 				err = l.checkMatrix(m, f)
 			}
 			if err == nil {
 				a := f.a
 				means[k], densities[k] = offDiagonal(a)
+				timePoints[k] = float64(f.timePoints)
 				if m.name == "functional" {
-					err = l.pre.Functional(a)
+					if set := m.spec.Settings(); set == nil || set.Estimator == EstimatorCorrelation || set.Estimator == EstimatorPartial {
+						err = l.pre.Functional(a)
+					}
 					p.Functional = a
 				} else {
 					err = l.pre.Structural(a)
@@ -287,6 +292,9 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		for k, m := range mods {
 			m.means = append(m.means, means[k])
 			m.densities = append(m.densities, densities[k])
+			if m.spec.Series != "" {
+				m.timePoints = append(m.timePoints, timePoints[k])
+			}
 		}
 		kept = append(kept, p)
 	}
@@ -295,6 +303,9 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	}
 	c.Participants = kept
 	c.Files = l.files
+	if l.src.Functional != nil {
+		c.Series = l.src.Functional.Settings()
+	}
 	c.Regions = l.labels
 	if c.Regions == nil {
 		c.Regions = DefaultRegions(l.p)
@@ -324,6 +335,12 @@ func (l *loader) describe(rep *Report, c *Cohort, mods []*modality, covReports [
 	for _, m := range mods {
 		m.report.MeanConnectivity = describe(m.means)
 		m.report.ParticipantMeans = m.means
+		if set := m.spec.Settings(); set != nil {
+			t := describe(m.timePoints)
+			m.report.Series = set
+			m.report.TimePoints = &t
+			m.report.ParticipantTimePoints = m.timePoints
+		}
 		if m.name == "functional" {
 			rep.Functional = m.report
 			rep.Outliers = append(rep.Outliers, outliers(kept, m.means, "functional mean connectivity", *l.src.OutlierSD)...)
@@ -579,8 +596,8 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 		}
 		return
 	}
-	m.report = &ModalityReport{Source: m.spec.Files}
-	pattern := l.path(m.spec.Files)
+	m.report = &ModalityReport{Source: m.spec.template()}
+	pattern := l.path(m.spec.template())
 	at := strings.Index(pattern, Placeholder)
 	prefix, suffix := pattern[:at], pattern[at+len(Placeholder):]
 	matches, err := filepath.Glob(escapeGlob(prefix) + "*" + escapeGlob(suffix))
@@ -596,7 +613,7 @@ func (l *loader) locate(m *modality, known map[string]bool, rep *Report) {
 		if strings.ContainsAny(id, `/\`) || known[id] {
 			continue
 		}
-		unlisted(id, f, &FileError{Path: f, Err: fmt.Errorf("file matches %s.files %q but %s %q has no row in %s (set cohort.unlisted = %q to go on without it)", key, m.spec.Files, l.src.IDColumn, id, l.tablePath, UnlistedReport)})
+		unlisted(id, f, &FileError{Path: f, Err: fmt.Errorf("file matches %s %q but %s %q has no row in %s (set cohort.unlisted = %q to go on without it)", key+"."+m.spec.templateKey(), m.spec.template(), l.src.IDColumn, id, l.tablePath, UnlistedReport)})
 	}
 }
 
@@ -608,7 +625,7 @@ func (l *loader) absent(m *modality, id string) string {
 		}
 		return ""
 	}
-	f := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
+	f := l.path(strings.ReplaceAll(m.spec.template(), Placeholder, id))
 	if _, err := os.Lstat(f); err != nil {
 		return fmt.Sprintf("no %s file %s", m.name, f)
 	}
@@ -622,6 +639,9 @@ type matrixFile struct {
 	path  string
 	where func(i, j int) (line, column int) // nil when entries have no line (.npy)
 	entry string                            // for a stack, which participant's matrix
+	// timePoints is T of the series a matrix was estimated from; 0 for a
+	// matrix read as one.
+	timePoints int
 }
 
 // matrix reads participant id's matrix of modality m.
@@ -629,6 +649,9 @@ func (l *loader) matrix(m *modality, id string) (*matrixFile, error) {
 	if m.stack != nil {
 		k := m.stackIdx[id]
 		return &matrixFile{a: m.stack.stack(k), path: m.stackPath, entry: fmt.Sprintf("participant %s (matrix %d of the stack)", id, k+1)}, nil
+	}
+	if m.spec.Series != "" {
+		return l.seriesMatrix(m, id)
 	}
 	path := l.path(strings.ReplaceAll(m.spec.Files, Placeholder, id))
 	raw, err := l.read(path, matrixLimit(l.p, formatOf(path) != formatText))

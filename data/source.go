@@ -152,6 +152,30 @@ type Modality struct {
 	// SymmetryTolerance is the largest |a_ij − a_ji| accepted (absolute);
 	// default 1e-6. Zero demands exact symmetry.
 	SymmetryTolerance *float64 `toml:"symmetry_tolerance"`
+
+	// Series is a path template holding "{participant_id}" of each
+	// participant's regional time series, set instead of Files or Stack
+	// (functional only): a T × p array, a row per time point and a column
+	// per region, as a .npy file or delimited text with a header row of
+	// region names (a corner cell above an index or time column is
+	// accepted). The participant's p × p matrix is estimated from it as
+	// Estimator and Shrinkage say (see SeriesSettings). T may differ
+	// between participants; the check reports its range.
+	Series string `toml:"series"`
+	// Estimator is the connectome estimated from the series: "correlation"
+	// (default), "partial", "covariance" or "tangent" (see Estimator).
+	// The functional preprocessing (Fisher z, diagonal) applies to
+	// correlation and partial correlation; covariances and tangent
+	// matrices are used as estimated.
+	Estimator Estimator `toml:"estimator"`
+	// Shrinkage is "none" (default: the sample covariance) or
+	// "ledoit_wolf" (see Shrinkage).
+	Shrinkage Shrinkage `toml:"shrinkage"`
+	// TangentMean is the reference of estimator = "tangent": "geometric"
+	// (default) or "log_euclidean" (see TangentMean).
+	TangentMean TangentMean `toml:"tangent_mean"`
+	// TangentDiagonal is "drop" (default) or "keep" (see TangentDiagonal).
+	TangentDiagonal TangentDiagonal `toml:"tangent_diagonal"`
 }
 
 // DefaultSymmetryTolerance is the default of symmetry_tolerance.
@@ -262,7 +286,7 @@ func (s *Source) SetDefaults() {
 			m.SymmetryTolerance = &tol
 		}
 	}
-	if s.Functional != nil && s.Functional.Values == "" {
+	if s.Functional != nil && s.Functional.Values == "" && s.Functional.Series == "" {
 		s.Functional.Values = ValuesCorrelation
 	}
 }
@@ -363,10 +387,17 @@ func (s Source) validate(needTargets bool) error {
 
 func (m Modality) validate(key string) error {
 	switch {
+	case m.Series != "" || m.Estimator != "" || m.Shrinkage != "" || m.TangentMean != "" || m.TangentDiagonal != "":
+		if err := m.validateSeries(key); err != nil {
+			return err
+		}
+		if m.StackIDs != "" {
+			return fmt.Errorf(`%s.stack_ids: goes with "stack", not "series"`, key)
+		}
 	case m.Files != "" && m.Stack != "":
 		return fmt.Errorf(`%s: set either "files" or "stack", not both`, key)
 	case m.Files == "" && m.Stack == "":
-		return fmt.Errorf(`%s: set "files" (a path template) or "stack" (an n × p × p .npy, .npz or .mat file)`, key)
+		return fmt.Errorf(`%s: set "files" (a path template) or "stack" (an n × p × p .npy, .npz or .mat file), or "series" (regional time series, functional only)`, key)
 	case m.Files != "":
 		if m.StackIDs != "" {
 			return fmt.Errorf(`%s.stack_ids: goes with "stack", not "files"`, key)
@@ -374,11 +405,8 @@ func (m Modality) validate(key string) error {
 		if m.IDsVariable != "" {
 			return fmt.Errorf(`%s.ids_variable: goes with an .npz "stack", not "files"`, key)
 		}
-		if n := strings.Count(m.Files, Placeholder); n != 1 {
-			return fmt.Errorf("%s.files: template %q must hold %s exactly once, found %d", key, m.Files, Placeholder, n)
-		}
-		if rest := strings.ReplaceAll(m.Files, Placeholder, ""); strings.ContainsAny(rest, "{}") {
-			return fmt.Errorf("%s.files: template %q: the only placeholder is %s", key, m.Files, Placeholder)
+		if err := checkTemplate(key+".files", m.Files); err != nil {
+			return err
 		}
 		if f := formatOf(m.Files); f == formatPtseries {
 			return fmt.Errorf("%s.files: %q is a CIFTI-2 time series (.ptseries.nii); matrix files hold p × p connectivity (.pconn.nii)", key, m.Files)
@@ -407,6 +435,35 @@ func (m Modality) validate(key string) error {
 		return fmt.Errorf("%s.symmetry_tolerance: must be a finite number, zero or positive, found %s", key, optionalFloat(m.SymmetryTolerance))
 	}
 	return nil
+}
+
+// checkTemplate checks a path template of key: Placeholder exactly once
+// and no other braces.
+func checkTemplate(key, template string) error {
+	if n := strings.Count(template, Placeholder); n != 1 {
+		return fmt.Errorf("%s: template %q must hold %s exactly once, found %d", key, template, Placeholder, n)
+	}
+	if rest := strings.ReplaceAll(template, Placeholder, ""); strings.ContainsAny(rest, "{}") {
+		return fmt.Errorf("%s: template %q: the only placeholder is %s", key, template, Placeholder)
+	}
+	return nil
+}
+
+// template returns the modality's per-participant path template: Files
+// or Series.
+func (m *Modality) template() string {
+	if m.Series != "" {
+		return m.Series
+	}
+	return m.Files
+}
+
+// templateKey names the key of template: "files" or "series".
+func (m *Modality) templateKey() string {
+	if m.Series != "" {
+		return "series"
+	}
+	return "files"
 }
 
 func optionalFloat(v *float64) string {

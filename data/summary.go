@@ -59,6 +59,13 @@ type ModalityReport struct {
 	// of the distributions.
 	ParticipantMeans     []float64 `json:"participant_mean_connectivity"`
 	ParticipantDensities []float64 `json:"participant_density,omitempty"`
+	// Series (functional read from time series only) is how the matrices
+	// were estimated; TimePoints describes the participants' numbers of
+	// time points T, which may differ, and ParticipantTimePoints holds
+	// each included participant's T in the order of Report.IncludedIDs.
+	Series                *SeriesSettings `json:"series,omitempty"`
+	TimePoints            *Stat           `json:"time_points,omitempty"`
+	ParticipantTimePoints []float64       `json:"participant_time_points,omitempty"`
 }
 
 // VariableReport describes one score or covariate column across the
@@ -235,6 +242,20 @@ func (r *Report) WriteText(w io.Writer) error {
 	fmt.Fprintf(&b, "regions: %d (labels: %s)\n", r.Regions, r.RegionLabels)
 	if m := r.Functional; m != nil {
 		fmt.Fprintf(&b, "functional (%s):\n  mean connectivity %s\n", m.Source, m.MeanConnectivity.text())
+		if s := m.Series; s != nil {
+			est := fmt.Sprintf("%s, shrinkage %s", s.Estimator, s.Shrinkage)
+			if s.Estimator == EstimatorTangent {
+				est += fmt.Sprintf(", %s reference mean fitted on each training fold, diagonal %s (mean connectivity above: of the covariances)", s.TangentMean, s.TangentDiagonal)
+			}
+			fmt.Fprintf(&b, "  estimated from time series: %s\n", est)
+			if t := m.TimePoints; t != nil {
+				differ := "the same for every participant"
+				if t.Min != t.Max {
+					differ = "differs between participants (allowed)"
+				}
+				fmt.Fprintf(&b, "  time points T: %.0f to %.0f, mean %.1f; T %s\n", t.Min, t.Max, t.Mean, differ)
+			}
+		}
 	}
 	if m := r.Structural; m != nil {
 		fmt.Fprintf(&b, "structural (%s):\n  mean connectivity %s\n", m.Source, m.MeanConnectivity.text())

@@ -235,7 +235,7 @@ func permutedCohort(c *data.Cohort, batch [][]int, confounds, preserved []string
 			return nil, nil, fmt.Errorf("cv.confounds: %q is not a covariate of the cohort (covariates: %s)", name, wordList(c.Covariates))
 		}
 	}
-	pc := &data.Cohort{Regions: c.Regions, SiteColumn: c.SiteColumn}
+	pc := &data.Cohort{Regions: c.Regions, SiteColumn: c.SiteColumn, Series: c.Series}
 	for k := range batch {
 		for _, t := range c.Targets {
 			pc.Targets = append(pc.Targets, t+"|"+strconv.Itoa(k))

@@ -92,7 +92,8 @@ type Residualizer interface {
 //
 // with NAME a step's Name and PARAMS the step's own JSON encoding.
 // Decoding knows the steps of this package by name: "targets" is a
-// TargetPrep, "edges" an EdgeScaler, "combat" a Harmonizer.
+// TargetPrep, "edges" an EdgeScaler, "combat" a Harmonizer, "tangent" a
+// TangentSpace.
 type Pipeline struct {
 	Steps []Prep
 }
@@ -241,8 +242,10 @@ func (p *Pipeline) UnmarshalJSON(raw []byte) error {
 			s = new(EdgeScaler)
 		case harmonizerName:
 			s = new(Harmonizer)
+		case tangentName:
+			s = new(TangentSpace)
 		default:
-			return fmt.Errorf("step %d: unknown preparation step %q (this skein knows %q, %q and %q)", k+1, saved.Step, targetPrepName, edgeScalerName, harmonizerName)
+			return fmt.Errorf("step %d: unknown preparation step %q (this skein knows %q, %q, %q and %q)", k+1, saved.Step, targetPrepName, edgeScalerName, harmonizerName, tangentName)
 		}
 		if err := json.Unmarshal(saved.Params, s); err != nil {
 			return fmt.Errorf("step %d (%s): %w", k+1, saved.Step, err)
@@ -254,7 +257,7 @@ func (p *Pipeline) UnmarshalJSON(raw []byte) error {
 
 // subCohort returns the participants idx of c under c's names.
 func subCohort(c *data.Cohort, idx []int) *data.Cohort {
-	return &data.Cohort{Participants: pick(c, idx), Targets: c.Targets, Covariates: c.Covariates, Regions: c.Regions, SiteColumn: c.SiteColumn}
+	return &data.Cohort{Participants: pick(c, idx), Targets: c.Targets, Covariates: c.Covariates, Regions: c.Regions, SiteColumn: c.SiteColumn, Series: c.Series}
 }
 
 // scoreMatrix returns the scores of c's participants, len × T; every

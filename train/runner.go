@@ -369,6 +369,9 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		tp.SiteLevels = slices.Sorted(slices.Values(uniq(siteLabels(cohort))))
 	}
 	prep.Steps = append(prep.Steps, tp)
+	if tangent := newTangentSpace(cohort.Series); tangent != nil {
+		prep.Steps = append(prep.Steps, tangent)
+	}
 	if err := prep.Fit(subCohort(cohort, split.Train)); err != nil {
 		return nil, err
 	}

@@ -33,6 +33,9 @@ func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
 	fs.Float64Var(&cfg.Missing, "missing", 0, "fraction of scores left missing (n/a)")
 	fs.IntVar(&cfg.TimePoints, "timepoints", synth.DefaultTimePoints, "length of the simulated time series behind each functional matrix")
 	fs.Float64Var(&cfg.StructuralShare, "structural-share", 0, "share of the planted signal carried by structural edges, in [0, 1]")
+	fs.BoolVar(&cfg.Series, "series", false, "also write each participant's regional time series (ts/), read by the experiment file to estimate the connectomes")
+	fs.BoolVar(&cfg.Amplitudes, "amplitudes", false, "plant the signal in the amplitude of regions' fluctuations (covariances, tangent coordinates; no correlation sees it) instead of shared sources")
+	fs.BoolVar(&cfg.Couplings, "couplings", false, "plant the signal in direct couplings between region pairs (partial correlations, precision) instead of shared sources")
 	fs.Usage = func() {
 		describe(fs.Output(), "synth")
 		fmt.Fprintln(fs.Output(), "usage: skein synth --out DIR [options]")
@@ -75,6 +78,8 @@ func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
 		"Missing":         "missing",
 		"TimePoints":      "timepoints",
 		"StructuralShare": "structural-share",
+		"Couplings":       "couplings",
+		"Amplitudes":      "amplitudes",
 	}
 
 	c, err := synth.Generate(cfg)

@@ -125,7 +125,44 @@ type Config struct {
 	// variance that comes from structural edges, in [0, 1]; default 0 (all
 	// functional).
 	StructuralShare float64
+	// Series keeps each participant's simulated T × p regional time
+	// series in Cohort.Series, for Write to write them (ts/ folder) with
+	// an experiment file that estimates the connectomes from them.
+	Series bool
+	// Couplings plants each target's functional signal in direct
+	// couplings instead of shared sources: the regions of set A are
+	// paired (first with second, third with fourth, …) and so are those of
+	// set B, and the trait t adds +β·c(t) to the coupling of each A pair
+	// in I − aS and −β·c(t) to each B pair's (β = 0.1, c(t) = t clipped
+	// to [−2.5, 2.5], so I − aS stays invertible), with no trait-driven
+	// sources. The trait then lives in the precision matrix (partial
+	// correlations) of those pairs and reaches the full correlations only
+	// mixed through the network. A global source of variance
+	// exp(N(0, 1)) per participant, unrelated to the scores (a nuisance
+	// such as a global physiological signal), is added to every region:
+	// it moves every correlation, and partial correlations far less. The
+	// planted signal s is the
+	// standardized trait itself (Planted.Signal), not a function of the
+	// correlations, and Planted.Positive and Negative are the A and B
+	// pairs. Not with StructuralShare > 0.
+	Couplings bool
+	// Amplitudes plants each target's functional signal in the amplitude
+	// of the regions' fluctuations instead of shared sources: after the
+	// network, set A's series are multiplied by exp(+0.35·t) and set B's
+	// by exp(−0.35·t), with no trait-driven sources. Every correlation
+	// and partial correlation is blind to it (they do not change when a
+	// series is scaled); covariances, and so tangent coordinates, carry
+	// it. The planted signal s is the standardized trait itself
+	// (Planted.Signal), and Planted.Positive and Negative are the edges
+	// within A and within B. Not with Couplings or StructuralShare > 0.
+	Amplitudes bool
 }
+
+// amplitudeEffect is the 0.35 of Config.Amplitudes.
+const amplitudeEffect = 0.35
+
+// couplingEffect is β of Config.Couplings.
+const couplingEffect = 0.1
 
 // Edge is a region pair, 0-based indices into Cohort.Regions with I < J.
 type Edge struct{ I, J int }
@@ -185,6 +222,10 @@ type Cohort struct {
 	*data.Cohort
 	// Truth holds one Planted per target, in Targets order.
 	Truth []Planted
+	// Series holds each participant's T × p regional time series (a row
+	// per time point), in Participants order, when Config.Series is set;
+	// nil otherwise.
+	Series []*mat.Dense
 }
 
 // Grouped reports whether the participants are in families.
@@ -224,6 +265,10 @@ func (cfg *Config) fill() error {
 		return bad("TimePoints", cfg.TimePoints, "at least 20 time points")
 	case !(cfg.StructuralShare >= 0 && cfg.StructuralShare <= 1):
 		return bad("StructuralShare", cfg.StructuralShare, "a fraction in [0, 1]")
+	case cfg.Amplitudes && cfg.Couplings:
+		return bad("Amplitudes", cfg.Amplitudes, "false with Couplings (one place for the signal)")
+	case (cfg.Couplings || cfg.Amplitudes) && cfg.StructuralShare > 0:
+		return bad("StructuralShare", cfg.StructuralShare, "0 with Couplings (the coupling signal is functional)")
 	}
 	if !cfg.Null && 1/(cfg.Ceiling*cfg.Ceiling)-1-cfg.Motion*cfg.Motion < 0 {
 		return bad("Ceiling", cfg.Ceiling, fmt.Sprintf("at most %.4g: with Motion = %v the motion part of the scores limits the ceiling (it cannot be reached)",
@@ -305,6 +350,7 @@ func Generate(cfg Config) (*Cohort, error) {
 	edgeFactor := familyEdgeFactors(cfg, family, rng)
 
 	motion := make([]float64, n)
+	var series []*mat.Dense
 	for i := range n {
 		age := math.Round((20+50*rng.Float64())*10) / 10
 		sex := float64(rng.IntN(2))
@@ -325,7 +371,11 @@ func Generate(cfg Config) (*Cohort, error) {
 		for k := range nt {
 			traits[k] = fcTrait[k][i]
 		}
-		part.Functional = pl.functional(part.Structural, traits, motion[i], rng)
+		var x *mat.Dense
+		part.Functional, x = pl.functional(part.Structural, traits, motion[i], rng)
+		if cfg.Series {
+			series = append(series, x)
+		}
 		c.Participants = append(c.Participants, part)
 	}
 
@@ -342,7 +392,15 @@ func Generate(cfg Config) (*Cohort, error) {
 			if cfg.StructuralShare > 0 {
 				pt.StructuralPositive, pt.StructuralNegative = pl.structPos[k], pl.structNeg[k]
 			}
-			signal = PlantedSignal(c.Participants, pt)
+			switch {
+			case cfg.Couplings:
+				pt.Positive, pt.Negative = pairs(pl.setA[k]), pairs(pl.setB[k])
+				signal = standardized(fcTrait[k])
+			case cfg.Amplitudes:
+				signal = standardized(fcTrait[k])
+			default:
+				signal = PlantedSignal(c.Participants, pt)
+			}
 			pt.Signal = signal
 			pt.NoiseSD = math.Sqrt(1/(cfg.Ceiling*cfg.Ceiling) - 1 - cfg.Motion*cfg.Motion)
 			pt.Ceiling = 1 / math.Sqrt(1+cfg.Motion*cfg.Motion+pt.NoiseSD*pt.NoiseSD)
@@ -371,7 +429,17 @@ func Generate(cfg Config) (*Cohort, error) {
 			}
 		}
 	}
-	return &Cohort{Cohort: c, Truth: truth}, nil
+	return &Cohort{Cohort: c, Truth: truth, Series: series}, nil
+}
+
+// pairs returns the region pairs of Config.Couplings: the first region
+// of the set with the second, the third with the fourth, and so on.
+func pairs(regions []int) []Edge {
+	var out []Edge
+	for k := 0; k+1 < len(regions); k += 2 {
+		out = append(out, Edge{regions[k], regions[k+1]})
+	}
+	return out
 }
 
 // PlantedSignal computes the planted signal s of Planted from the raw
@@ -583,7 +651,7 @@ func (pl *plan) structural(traits []float64, factor *mat.Dense, rng *rand.Rand) 
 
 // functional simulates one participant's regional time series on the
 // structural counts and returns their correlation matrix, to 6 decimals.
-func (pl *plan) functional(counts *mat.Dense, traits []float64, motion float64, rng *rand.Rand) *mat.Dense {
+func (pl *plan) functional(counts *mat.Dense, traits []float64, motion float64, rng *rand.Rand) (*mat.Dense, *mat.Dense) {
 	p, T := pl.cfg.P, pl.cfg.TimePoints
 	w := mat.NewDense(p, p, nil)
 	w.Apply(func(_, _ int, v float64) float64 { return math.Log1p(v) }, counts)
@@ -604,6 +672,19 @@ func (pl *plan) functional(counts *mat.Dense, traits []float64, motion float64, 
 		}
 		return -coupling * s
 	}, w)
+	if pl.cfg.Couplings {
+		for k, t := range traits {
+			c := couplingEffect * math.Max(-2.5, math.Min(2.5, t))
+			for _, e := range pairs(pl.setA[k]) {
+				system.Set(e.I, e.J, system.At(e.I, e.J)-c)
+				system.Set(e.J, e.I, system.At(e.J, e.I)-c)
+			}
+			for _, e := range pairs(pl.setB[k]) {
+				system.Set(e.I, e.J, system.At(e.I, e.J)+c)
+				system.Set(e.J, e.I, system.At(e.J, e.I)+c)
+			}
+		}
+	}
 	var mix mat.Dense
 	if err := mix.Inverse(system); err != nil {
 		panic(fmt.Sprintf("synth: I − aS is singular: %v", err)) // cannot happen: the spectral radius of S is at most 1
@@ -630,9 +711,31 @@ func (pl *plan) functional(counts *mat.Dense, traits []float64, motion float64, 
 			}
 		}
 	}
-	for k, t := range traits {
-		addSource(pl.setA[k], sourceVariance*math.Exp(traitEffect*t))
-		addSource(pl.setB[k], sourceVariance*math.Exp(-traitEffect*t))
+	if pl.cfg.Amplitudes {
+		for k, t := range traits {
+			for _, set := range []struct {
+				regions []int
+				sign    float64
+			}{{pl.setA[k], 1}, {pl.setB[k], -1}} {
+				f := math.Exp(set.sign * amplitudeEffect * t)
+				for _, r := range set.regions {
+					for tp := range T {
+						x.Set(tp, r, f*x.At(tp, r))
+					}
+				}
+			}
+		}
+	} else if pl.cfg.Couplings {
+		all := make([]int, p)
+		for i := range all {
+			all[i] = i
+		}
+		addSource(all, 4*math.Exp(rng.NormFloat64()))
+	} else {
+		for k, t := range traits {
+			addSource(pl.setA[k], sourceVariance*math.Exp(traitEffect*t))
+			addSource(pl.setB[k], sourceVariance*math.Exp(-traitEffect*t))
+		}
 	}
 	if pl.cfg.Motion > 0 {
 		all := make([]int, p)
@@ -653,7 +756,7 @@ func (pl *plan) functional(counts *mat.Dense, traits []float64, motion float64, 
 			fc.Set(i, j, v)
 		}
 	}
-	return fc
+	return fc, &x
 }
 
 // Preprocess applies pre (its defaults filled in) to every participant's

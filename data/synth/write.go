@@ -36,6 +36,10 @@ const (
 //	regions.txt                   the region labels, one a line
 //	fc/{participant_id}_fc.tsv    raw correlations (or _fc.npy)
 //	sc/{participant_id}_sc.tsv    raw streamline counts (or _sc.npy)
+//	ts/{participant_id}_ts.tsv    with Config.Series: the T × p regional
+//	                              time series, a header row of region
+//	                              names (or _ts.npy, without names); the
+//	                              experiment file then reads them
 //	planted.tsv                   the truth: target, modality, sign, region_1, region_2
 //	experiment.toml               the [cohort] and [preprocess] tables for these files
 //
@@ -200,6 +204,19 @@ func writeFiles(dir string, c *Cohort, format string) error {
 			}
 		}
 	}
+	if c.Series != nil {
+		if len(c.Series) != len(c.Participants) {
+			return fmt.Errorf("synth: %d time series for %d participants", len(c.Series), len(c.Participants))
+		}
+		if err := os.Mkdir(filepath.Join(dir, "ts"), 0o755); err != nil {
+			return err
+		}
+		for i, part := range c.Participants {
+			if err := writeSeries(filepath.Join(dir, "ts", part.ID+"_ts."+format), c.Series[i], c.Regions, format); err != nil {
+				return err
+			}
+		}
+	}
 	if err := writePlanted(filepath.Join(dir, "planted.tsv"), c); err != nil {
 		return err
 	}
@@ -312,6 +329,28 @@ func writeMatrix(path string, m *mat.Dense, format string) error {
 	})
 }
 
+// writeSeries writes a T × p series: .npy, or tab-separated text under
+// a header row of the region names, values to 6 significant digits.
+func writeSeries(path string, x *mat.Dense, regions []string, format string) error {
+	if format == FormatNPY {
+		return writeMatrix(path, x, format)
+	}
+	return writeFile(path, func(w *bufio.Writer) error {
+		w.WriteString(strings.Join(regions, "\t") + "\n")
+		rows, cols := x.Dims()
+		for t := range rows {
+			for j := range cols {
+				if j > 0 {
+					w.WriteByte('\t')
+				}
+				w.WriteString(strconv.FormatFloat(x.At(t, j), 'g', 6, 64))
+			}
+			w.WriteByte('\n')
+		}
+		return nil
+	})
+}
+
 func writePlanted(path string, c *Cohort) error {
 	return writeFile(path, func(w *bufio.Writer) error {
 		w.WriteString("target\tmodality\tsign\tregion_1\tregion_2\n")
@@ -382,7 +421,15 @@ func experimentTOML(c *Cohort, format string) string {
 		b.WriteString("site = \"site\"\n")
 	}
 	b.WriteString("regions = \"regions.txt\"\n")
-	fmt.Fprintf(&b, "\n[cohort.functional]\nfiles = \"fc/{participant_id}_fc.%s\"\n", format)
+	if c.Series != nil {
+		b.WriteString("\n# The functional connectomes are estimated from the regional time series;\n")
+		b.WriteString("# the correlations skein synth made of them are in fc/. Other estimators:\n")
+		b.WriteString("# \"partial\", \"covariance\", \"tangent\" (with tangent_mean = \"geometric\"\n")
+		b.WriteString("# or \"log_euclidean\"); shrinkage = \"ledoit_wolf\" shrinks each covariance.\n")
+		fmt.Fprintf(&b, "[cohort.functional]\nseries = \"ts/{participant_id}_ts.%s\"\nestimator = \"correlation\"\n", format)
+	} else {
+		fmt.Fprintf(&b, "\n[cohort.functional]\nfiles = \"fc/{participant_id}_fc.%s\"\n", format)
+	}
 	fmt.Fprintf(&b, "\n[cohort.structural]\nfiles = \"sc/{participant_id}_sc.%s\"\n", format)
 	fmt.Fprintf(&b, "\n[preprocess.functional]\ntransform = %q\nclip = %g\ndiagonal = %q\n",
 		pre.FC.Transform, *pre.FC.Clip, pre.FC.Diagonal)
