@@ -1,0 +1,258 @@
+package gemm
+
+import (
+	"runtime"
+	"sync"
+)
+
+// float is the element type of a product.
+type float interface{ float32 | float64 }
+
+// kernel is a micro-kernel and the blocking that suits it.
+type kernel[T float] struct {
+	name string
+	// mr × nr is the tile the micro-kernel computes; mc, kc and nc are the
+	// blocks of rows of C, of the sum over k and of columns of C (mc a
+	// multiple of mr, nc of nr).
+	mr, nr, mc, kc, nc int
+	// micro sets (add false) or adds to (add true) the mr × nr tile of C
+	// at c (row stride ldc) the product of a packed panel of A (a, k steps
+	// of mr values) and one of B (b, k steps of nr values), k ≥ 1.
+	micro func(k int, a, b, c []T, ldc int, add bool)
+}
+
+// buffers are one goroutine's packed blocks: a holds mc × kc values of
+// op(A), b kc × nc of op(B), tile one mr × nr tile at the edges of C.
+type buffers[T float] struct {
+	a, b, tile []T
+}
+
+// Pools of buffers, so that a product allocates nothing in steady state.
+// They are caches, not state: a buffer's contents never outlive a call.
+var (
+	pool32 sync.Pool // *buffers[float32]
+	pool64 sync.Pool // *buffers[float64]
+)
+
+// getBuffers returns buffers sized for kn, from the pool when it has some.
+func getBuffers[T float](kn *kernel[T]) *buffers[T] {
+	p := &pool64
+	var z T
+	if _, ok := any(z).(float32); ok {
+		p = &pool32
+	}
+	if buf, ok := p.Get().(*buffers[T]); ok && len(buf.a) == kn.mc*kn.kc && len(buf.b) == kn.kc*kn.nc {
+		return buf
+	}
+	return &buffers[T]{a: make([]T, kn.mc*kn.kc), b: make([]T, kn.kc*kn.nc), tile: make([]T, kn.mr*kn.nr)}
+}
+
+// putBuffers returns buf to its pool.
+func putBuffers[T float](buf *buffers[T]) {
+	var z T
+	if _, ok := any(z).(float32); ok {
+		pool32.Put(buf)
+		return
+	}
+	pool64.Put(buf)
+}
+
+// gemm computes C = alpha·op(A)·op(B) + beta·C with kn, for arguments
+// already checked.
+func gemm[T float](kn *kernel[T], tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
+	if m == 0 || n == 0 || ((alpha == 0 || k == 0) && beta == 1) {
+		return
+	}
+	if alpha == 0 || k == 0 {
+		scale(m, n, beta, c, ldc)
+		return
+	}
+	// beta = 0 is done by the first slice of k setting C, not adding to
+	// it, so that C is never read (reference BLAS semantics).
+	overwrite := beta == 0
+	if !overwrite && beta != 1 {
+		scale(m, n, beta, c, ldc)
+	}
+	w := 1
+	if m*n*k >= SerialBelow {
+		// At least one block of rows (or columns) per goroutine.
+		w = min(runtime.GOMAXPROCS(0), max(ceilDiv(m, kn.mc), ceilDiv(n, 2*kn.nr)))
+	}
+	if w <= 1 {
+		buf := getBuffers(kn)
+		kn.serial(buf, tA, tB, m, n, k, alpha, a, lda, b, ldb, overwrite, c, ldc)
+		putBuffers(buf)
+		return
+	}
+	// Strips of the longer side of C, whole tiles wide.
+	byRows := m >= n
+	long, unit := n, kn.nr
+	if byRows {
+		long, unit = m, kn.mr
+	}
+	strip := unit * ceilDiv(ceilDiv(long, w), unit)
+	var wg sync.WaitGroup
+	for lo := 0; lo < long; lo += strip {
+		size := min(strip, long-lo)
+		as, bs, cs := a, b, c
+		ms, ns := m, n
+		if byRows {
+			ms = size
+			cs = c[lo*ldc:]
+			if tA {
+				as = a[lo:]
+			} else {
+				as = a[lo*lda:]
+			}
+		} else {
+			ns = size
+			cs = c[lo:]
+			if tB {
+				bs = b[lo*ldb:]
+			} else {
+				bs = b[lo:]
+			}
+		}
+		run := func() {
+			buf := getBuffers(kn)
+			kn.serial(buf, tA, tB, ms, ns, k, alpha, as, lda, bs, ldb, overwrite, cs, ldc)
+			putBuffers(buf)
+		}
+		if lo+strip >= long { // the last strip on the calling goroutine
+			run()
+			break
+		}
+		wg.Go(run)
+	}
+	wg.Wait()
+}
+
+// serial computes C = alpha·op(A)·op(B) + C (overwrite false) or
+// alpha·op(A)·op(B) (overwrite true) on the calling goroutine, k ≥ 1.
+func (kn *kernel[T]) serial(buf *buffers[T], tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, overwrite bool, c []T, ldc int) {
+	for jc := 0; jc < n; jc += kn.nc {
+		nb := min(kn.nc, n-jc)
+		for pc := 0; pc < k; pc += kn.kc {
+			kb := min(kn.kc, k-pc)
+			packB(tB, b, ldb, pc, jc, kb, nb, kn.nr, buf.b)
+			add := !overwrite || pc > 0
+			for ic := 0; ic < m; ic += kn.mc {
+				mb := min(kn.mc, m-ic)
+				packA(tA, a, lda, ic, pc, mb, kb, kn.mr, alpha, buf.a)
+				kn.macro(buf, mb, nb, kb, c[ic*ldc+jc:], ldc, add)
+			}
+		}
+	}
+}
+
+// macro runs the micro-kernel over an mb × nb block of C from the packed
+// blocks in buf (kb steps of k).
+func (kn *kernel[T]) macro(buf *buffers[T], mb, nb, kb int, c []T, ldc int, add bool) {
+	mr, nr := kn.mr, kn.nr
+	for jr := 0; jr < nb; jr += nr {
+		bp := buf.b[jr*kb:]
+		nt := min(nr, nb-jr)
+		for ir := 0; ir < mb; ir += mr {
+			ap := buf.a[ir*kb:]
+			mt := min(mr, mb-ir)
+			ct := c[ir*ldc+jr:]
+			if mt == mr && nt == nr {
+				kn.micro(kb, ap, bp, ct, ldc, add)
+				continue
+			}
+			// An edge tile: computed whole into buf.tile, then the part
+			// inside C is set or added.
+			kn.micro(kb, ap, bp, buf.tile, nr, false)
+			for i := range mt {
+				row, tile := ct[i*ldc:i*ldc+nt], buf.tile[i*nr:i*nr+nt]
+				if add {
+					for j, v := range tile {
+						row[j] += v
+					}
+				} else {
+					copy(row, tile)
+				}
+			}
+		}
+	}
+}
+
+// packA copies alpha·op(A)[ic:ic+mb, pc:pc+kb] into dst as panels of mr
+// rows, each kb steps of mr values (op(A)[i, p] at p·mr + i within its
+// panel), padding the last panel with zeros.
+func packA[T float](tA bool, a []T, lda, ic, pc, mb, kb, mr int, alpha T, dst []T) {
+	for ir := 0; ir < mb; ir += mr {
+		panel := dst[ir*kb : ir*kb+mr*kb]
+		rows := min(mr, mb-ir)
+		if tA {
+			// op(A)[i, p] = A[p, i]: a step of k is contiguous in A.
+			for p := range kb {
+				src := a[(pc+p)*lda+ic+ir:][:rows]
+				d := panel[p*mr : p*mr+mr]
+				for i, v := range src {
+					d[i] = alpha * v
+				}
+				clear(d[rows:])
+			}
+			continue
+		}
+		for i := range rows {
+			src := a[(ic+ir+i)*lda+pc:][:kb]
+			for p, v := range src {
+				panel[p*mr+i] = alpha * v
+			}
+		}
+		for i := rows; i < mr; i++ {
+			for p := range kb {
+				panel[p*mr+i] = 0
+			}
+		}
+	}
+}
+
+// packB copies op(B)[pc:pc+kb, jc:jc+nb] into dst as panels of nr
+// columns, each kb steps of nr values (op(B)[p, j] at p·nr + j within its
+// panel), padding the last panel with zeros.
+func packB[T float](tB bool, b []T, ldb, pc, jc, kb, nb, nr int, dst []T) {
+	for jr := 0; jr < nb; jr += nr {
+		panel := dst[jr*kb : jr*kb+nr*kb]
+		cols := min(nr, nb-jr)
+		if !tB {
+			// op(B)[p, j] = B[p, j]: a step of k is contiguous in B.
+			for p := range kb {
+				d := panel[p*nr : p*nr+nr]
+				copy(d, b[(pc+p)*ldb+jc+jr:][:cols])
+				clear(d[cols:])
+			}
+			continue
+		}
+		for j := range cols {
+			src := b[(jc+jr+j)*ldb+pc:][:kb]
+			for p, v := range src {
+				panel[p*nr+j] = v
+			}
+		}
+		for j := cols; j < nr; j++ {
+			for p := range kb {
+				panel[p*nr+j] = 0
+			}
+		}
+	}
+}
+
+// scale sets C = beta·C, and C = 0 when beta is 0 (whatever C held).
+func scale[T float](m, n int, beta T, c []T, ldc int) {
+	for i := range m {
+		row := c[i*ldc : i*ldc+n]
+		if beta == 0 {
+			clear(row)
+			continue
+		}
+		for j := range row {
+			row[j] *= beta
+		}
+	}
+}
+
+// ceilDiv returns ⌈a/b⌉ for a ≥ 0, b > 0.
+func ceilDiv(a, b int) int { return (a + b - 1) / b }
