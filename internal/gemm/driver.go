@@ -58,8 +58,9 @@ func putBuffers[T float](buf *buffers[T]) {
 }
 
 // gemm computes C = alpha·op(A)·op(B) + beta·C with kn, for arguments
-// already checked.
-func gemm[T float](kn *kernel[T], tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
+// already checked, over goroutines when split is true and the product is
+// large enough.
+func gemm[T float](kn *kernel[T], tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int, split bool) {
 	if m == 0 || n == 0 || ((alpha == 0 || k == 0) && beta == 1) {
 		return
 	}
@@ -74,7 +75,7 @@ func gemm[T float](kn *kernel[T], tA, tB bool, m, n, k int, alpha T, a []T, lda 
 		scale(m, n, beta, c, ldc)
 	}
 	w := 1
-	if m*n*k >= SerialBelow {
+	if split && m*n*k >= SerialBelow {
 		// At least one block of rows (or columns) per goroutine.
 		w = min(runtime.GOMAXPROCS(0), max(ceilDiv(m, kn.mc), ceilDiv(n, 2*kn.nr)))
 	}

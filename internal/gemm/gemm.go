@@ -18,7 +18,17 @@ type Implementation struct {
 var (
 	_ blas.Float32 = Implementation{}
 	_ blas.Float64 = Implementation{}
+	_ blas.Float32 = Serial{}
+	_ blas.Float64 = Serial{}
 )
+
+// Serial is Implementation with products that always run on the calling
+// goroutine, whatever their size, for callers that spread tiles of a
+// product over goroutines themselves. Its results are the same bits as
+// Implementation's.
+type Serial struct {
+	Implementation
+}
 
 // SerialBelow is the number of multiply-adds, m·n·k, below which a product
 // runs on the calling goroutine only. Larger products use up to
@@ -45,7 +55,7 @@ func Kernel() string { return kernels64[0].name }
 // slices too short.
 func (Implementation) Dgemm(tA, tB blas.Transpose, m, n, k int, alpha float64, a []float64, lda int, b []float64, ldb int, beta float64, c []float64, ldc int) {
 	check(tA, tB, m, n, k, lda, ldb, ldc, len(a), len(b), len(c))
-	gemm(&kernels64[0], tA != blas.NoTrans, tB != blas.NoTrans, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
+	gemm(&kernels64[0], tA != blas.NoTrans, tB != blas.NoTrans, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc, true)
 }
 
 // Sgemm performs one of the matrix-matrix operations
@@ -58,7 +68,19 @@ func (Implementation) Dgemm(tA, tB blas.Transpose, m, n, k int, alpha float64, a
 // in float32, with the contract of Dgemm.
 func (Implementation) Sgemm(tA, tB blas.Transpose, m, n, k int, alpha float32, a []float32, lda int, b []float32, ldb int, beta float32, c []float32, ldc int) {
 	check(tA, tB, m, n, k, lda, ldb, ldc, len(a), len(b), len(c))
-	gemm(&kernels32[0], tA != blas.NoTrans, tB != blas.NoTrans, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
+	gemm(&kernels32[0], tA != blas.NoTrans, tB != blas.NoTrans, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc, true)
+}
+
+// Dgemm is Implementation.Dgemm on the calling goroutine only.
+func (Serial) Dgemm(tA, tB blas.Transpose, m, n, k int, alpha float64, a []float64, lda int, b []float64, ldb int, beta float64, c []float64, ldc int) {
+	check(tA, tB, m, n, k, lda, ldb, ldc, len(a), len(b), len(c))
+	gemm(&kernels64[0], tA != blas.NoTrans, tB != blas.NoTrans, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc, false)
+}
+
+// Sgemm is Implementation.Sgemm on the calling goroutine only.
+func (Serial) Sgemm(tA, tB blas.Transpose, m, n, k int, alpha float32, a []float32, lda int, b []float32, ldb int, beta float32, c []float32, ldc int) {
+	check(tA, tB, m, n, k, lda, ldb, ldc, len(a), len(b), len(c))
+	gemm(&kernels32[0], tA != blas.NoTrans, tB != blas.NoTrans, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc, false)
 }
 
 // Panic messages, gonum's own (gonum.org/v1/gonum/blas/gonum/errors.go).

@@ -170,7 +170,7 @@ func TestDgemm(t *testing.T) {
 			for _, p := range products() {
 				a, b, c0 := p.inputs(rng)
 				got := slices.Clone(c0)
-				gemm(&kn.kernel, p.tA, p.tB, p.m, p.n, p.k, p.alpha, a, p.lda, b, p.ldb, p.beta, got, p.ldc)
+				gemm(&kn.kernel, p.tA, p.tB, p.m, p.n, p.k, p.alpha, a, p.lda, b, p.ldb, p.beta, got, p.ldc, true)
 				t.Run(p.String(), func(t *testing.T) { compare(t, p, a, b, c0, got, 1e-12) })
 			}
 		})
@@ -187,7 +187,7 @@ func TestSgemm(t *testing.T) {
 				a, b, c0 := p.inputs(rng)
 				a32, b32, c32 := to32(a), to32(b), to32(c0)
 				a, b, c0 = to64(a32), to64(b32), to64(c32)
-				gemm(&kn.kernel, p.tA, p.tB, p.m, p.n, p.k, float32(p.alpha), a32, p.lda, b32, p.ldb, float32(p.beta), c32, p.ldc)
+				gemm(&kn.kernel, p.tA, p.tB, p.m, p.n, p.k, float32(p.alpha), a32, p.lda, b32, p.ldb, float32(p.beta), c32, p.ldc, true)
 				t.Run(p.String(), func(t *testing.T) { compare(t, p, a, b, c0, to64(c32), 1e-5) })
 			}
 		})
@@ -196,7 +196,7 @@ func TestSgemm(t *testing.T) {
 
 // TestLarge checks products larger than the blocks of the kernels in use
 // and than SerialBelow (so split over goroutines when GOMAXPROCS > 1), and
-// that they are the same bits as on one goroutine.
+// that they are the same bits as Serial's, on one goroutine.
 func TestLarge(t *testing.T) {
 	for _, p := range []product{
 		{m: 301, n: 150, k: 300, alpha: 1, beta: 0},
@@ -218,9 +218,7 @@ func TestLarge(t *testing.T) {
 			compare(t, p, a, b, c0, got, 1e-12)
 
 			one := slices.Clone(c0)
-			scale(p.m, p.n, p.beta, one, p.ldc)
-			kn := &kernels64[0]
-			kn.serial(getBuffers(kn), p.tA, p.tB, p.m, p.n, p.k, p.alpha, a, p.lda, b, p.ldb, p.beta == 0, one, p.ldc)
+			Serial{}.Dgemm(trans(p.tA), trans(p.tB), p.m, p.n, p.k, p.alpha, a, p.lda, b, p.ldb, p.beta, one, p.ldc)
 			for i := range got {
 				if !sameBits(got[i], one[i]) {
 					t.Fatalf("C[%d] = %v split over goroutines, %v on one", i, got[i], one[i])
