@@ -3,6 +3,7 @@ package gemm
 import (
 	"runtime"
 	"sync"
+	"unsafe"
 )
 
 // float is the element type of a product.
@@ -185,7 +186,8 @@ func packA[T float](tA bool, a []T, lda, ic, pc, mb, kb, mr int, alpha T, dst []
 	for ir := 0; ir < mb; ir += mr {
 		panel := dst[ir*kb : ir*kb+mr*kb]
 		rows := min(mr, mb-ir)
-		if tA {
+		switch {
+		case tA:
 			// op(A)[i, p] = A[p, i]: a step of k is contiguous in A.
 			for p := range kb {
 				src := a[(pc+p)*lda+ic+ir:][:rows]
@@ -195,19 +197,41 @@ func packA[T float](tA bool, a []T, lda, ic, pc, mb, kb, mr int, alpha T, dst []
 				}
 				clear(d[rows:])
 			}
-			continue
-		}
-		for i := range rows {
-			src := a[(ic+ir+i)*lda+pc:][:kb]
-			for p, v := range src {
-				panel[p*mr+i] = alpha * v
+		case rows == 6 && mr == 6:
+			gather6(panel, a[(ic+ir)*lda+pc:], lda, kb, alpha)
+		default:
+			for i := range rows {
+				src := a[(ic+ir+i)*lda+pc:][:kb]
+				for p, v := range src {
+					panel[p*mr+i] = alpha * v
+				}
+			}
+			for i := rows; i < mr; i++ {
+				for p := range kb {
+					panel[p*mr+i] = 0
+				}
 			}
 		}
-		for i := rows; i < mr; i++ {
-			for p := range kb {
-				panel[p*mr+i] = 0
-			}
+	}
+}
+
+// gather6 sets dst[6p + i] = alpha·a[i·lda + p] for i < 6, p < kb: six
+// rows of A interleaved, a step of k at a time.
+func gather6[T float](dst, a []T, lda, kb int, alpha T) {
+	r0, r1, r2 := a[:kb], a[lda:][:kb], a[2*lda:][:kb]
+	r3, r4, r5 := a[3*lda:][:kb], a[4*lda:][:kb], a[5*lda:][:kb]
+	dst = dst[:6*kb]
+	if alpha == 1 {
+		for p := range kb {
+			d := (*[6]T)(dst[6*p:])
+			d[0], d[1], d[2], d[3], d[4], d[5] = r0[p], r1[p], r2[p], r3[p], r4[p], r5[p]
 		}
+		return
+	}
+	for p := range kb {
+		d := (*[6]T)(dst[6*p:])
+		d[0], d[1], d[2] = alpha*r0[p], alpha*r1[p], alpha*r2[p]
+		d[3], d[4], d[5] = alpha*r3[p], alpha*r4[p], alpha*r5[p]
 	}
 }
 
@@ -215,27 +239,44 @@ func packA[T float](tA bool, a []T, lda, ic, pc, mb, kb, mr int, alpha T, dst []
 // columns, each kb steps of nr values (op(B)[p, j] at p·nr + j within its
 // panel), padding the last panel with zeros.
 func packB[T float](tB bool, b []T, ldb, pc, jc, kb, nb, nr int, dst []T) {
+	var z T
+	wide := nr*int(unsafe.Sizeof(z)) == 64 // a step of a panel is 64 bytes
 	for jr := 0; jr < nb; jr += nr {
 		panel := dst[jr*kb : jr*kb+nr*kb]
 		cols := min(nr, nb-jr)
-		if !tB {
-			// op(B)[p, j] = B[p, j]: a step of k is contiguous in B.
+		switch {
+		case !tB && cols == nr && wide:
+			// op(B)[p, j] = B[p, j]: a step of k is contiguous in B,
+			// copied 64 bytes at a time.
+			copySteps(panel, b[pc*ldb+jc+jr:], ldb, kb)
+		case !tB:
 			for p := range kb {
 				d := panel[p*nr : p*nr+nr]
 				copy(d, b[(pc+p)*ldb+jc+jr:][:cols])
 				clear(d[cols:])
 			}
-			continue
-		}
-		for j := range cols {
-			src := b[(jc+jr+j)*ldb+pc:][:kb]
-			for p, v := range src {
-				panel[p*nr+j] = v
+		case cols == nr && nr%8 == 0 && kb >= 8 && transposeSteps(panel, b[(jc+jr)*ldb+pc:], ldb, nr, kb/8):
+			// op(B)[p, j] = B[j, p]: 8 × 8 blocks transposed on vectors,
+			// then the last kb mod 8 steps.
+			for j0 := 8; j0 < nr; j0 += 8 {
+				transposeSteps(panel[j0:], b[(jc+jr+j0)*ldb+pc:], ldb, nr, kb/8)
 			}
-		}
-		for j := cols; j < nr; j++ {
-			for p := range kb {
-				panel[p*nr+j] = 0
+			for p := kb &^ 7; p < kb; p++ {
+				for j := range nr {
+					panel[p*nr+j] = b[(jc+jr+j)*ldb+pc+p]
+				}
+			}
+		default:
+			for j := range cols {
+				src := b[(jc+jr+j)*ldb+pc:][:kb]
+				for p, v := range src {
+					panel[p*nr+j] = v
+				}
+			}
+			for j := cols; j < nr; j++ {
+				for p := range kb {
+					panel[p*nr+j] = 0
+				}
 			}
 		}
 	}

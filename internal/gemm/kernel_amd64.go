@@ -2,7 +2,11 @@
 
 package gemm
 
-import "golang.org/x/sys/cpu"
+import (
+	"unsafe"
+
+	"golang.org/x/sys/cpu"
+)
 
 // The kernels in use, best first: the assembly ones when the processor has
 // AVX2 and FMA (and the operating system saves the vector registers, which
@@ -42,3 +46,35 @@ func sgemm6x16(k int, a, b, c *float32, ldc int, add bool)
 //
 //go:noescape
 func dgemm6x8(k int, a, b, c *float64, ldc int, add bool)
+
+// hasAVX2 reports whether transpose8 may run.
+var hasAVX2 = cpu.X86.HasAVX2
+
+// copySteps copies n steps of 64 bytes, ld elements apart in src, to
+// consecutive 64-byte steps of dst; n ≥ 1.
+func copySteps[T float](dst, src []T, ld, n int) {
+	var z T
+	size := int(unsafe.Sizeof(z))
+	step := 64 / size
+	_, _ = dst[n*step-1], src[(n-1)*ld+step-1]
+	copyRows64(unsafe.Pointer(&dst[0]), unsafe.Pointer(&src[0]), ld*size, n)
+}
+
+// transposeSteps sets dst[p·ldd + i] = src[i·ld + p] for i < 8, p < 8n,
+// when T is float32 and the processor has AVX2, and reports whether it
+// did; n ≥ 1.
+func transposeSteps[T float](dst, src []T, ld, ldd, n int) bool {
+	var z T
+	if _, ok := any(z).(float32); !ok || !hasAVX2 {
+		return false
+	}
+	_, _ = dst[(8*n-1)*ldd+7], src[7*ld+8*n-1]
+	transpose8((*float32)(unsafe.Pointer(&dst[0])), (*float32)(unsafe.Pointer(&src[0])), ld, ldd, n)
+	return true
+}
+
+//go:noescape
+func copyRows64(dst, src unsafe.Pointer, stride, n int)
+
+//go:noescape
+func transpose8(dst, src *float32, ld, ldd, n int)

@@ -213,3 +213,100 @@ d_set:
 	DSET(Y14, Y15)
 	VZEROUPPER
 	RET
+
+// func copyRows64(dst, src unsafe.Pointer, stride, n int)
+// Copies n rows of 64 bytes, stride bytes apart at src, to consecutive
+// 64-byte rows at dst (SSE2, which every amd64 processor has); n ≥ 1.
+TEXT ·copyRows64(SB), NOSPLIT, $0-32
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ stride+16(FP), BX
+	MOVQ n+24(FP), CX
+
+c_loop:
+	MOVUPS (SI), X0
+	MOVUPS 16(SI), X1
+	MOVUPS 32(SI), X2
+	MOVUPS 48(SI), X3
+	MOVUPS X0, (DI)
+	MOVUPS X1, 16(DI)
+	MOVUPS X2, 32(DI)
+	MOVUPS X3, 48(DI)
+	ADDQ   BX, SI
+	ADDQ   $64, DI
+	DECQ   CX
+	JNZ    c_loop
+	RET
+
+// TRANSPOSE8 transposes the 8 × 8 float32 block in Y0–Y7 (row i in Yi)
+// into Y8–Y15 (column j in Y(8+j)), through Y0–Y7.
+#define TRANSPOSE8 \
+	VUNPCKLPS  Y1, Y0, Y8;          \
+	VUNPCKHPS  Y1, Y0, Y9;          \
+	VUNPCKLPS  Y3, Y2, Y10;         \
+	VUNPCKHPS  Y3, Y2, Y11;         \
+	VUNPCKLPS  Y5, Y4, Y12;         \
+	VUNPCKHPS  Y5, Y4, Y13;         \
+	VUNPCKLPS  Y7, Y6, Y14;         \
+	VUNPCKHPS  Y7, Y6, Y15;         \
+	VSHUFPS    $0x44, Y10, Y8, Y0;  \
+	VSHUFPS    $0xEE, Y10, Y8, Y1;  \
+	VSHUFPS    $0x44, Y11, Y9, Y2;  \
+	VSHUFPS    $0xEE, Y11, Y9, Y3;  \
+	VSHUFPS    $0x44, Y14, Y12, Y4; \
+	VSHUFPS    $0xEE, Y14, Y12, Y5; \
+	VSHUFPS    $0x44, Y15, Y13, Y6; \
+	VSHUFPS    $0xEE, Y15, Y13, Y7; \
+	VPERM2F128 $0x20, Y4, Y0, Y8;   \
+	VPERM2F128 $0x20, Y5, Y1, Y9;   \
+	VPERM2F128 $0x20, Y6, Y2, Y10;  \
+	VPERM2F128 $0x20, Y7, Y3, Y11;  \
+	VPERM2F128 $0x31, Y4, Y0, Y12;  \
+	VPERM2F128 $0x31, Y5, Y1, Y13;  \
+	VPERM2F128 $0x31, Y6, Y2, Y14;  \
+	VPERM2F128 $0x31, Y7, Y3, Y15
+
+// func transpose8(dst *float32, src *float32, ld int, ldd int, n int)
+// For each of n blocks b: dst[(8b+p)·ldd + i] = src[i·ld + 8b + p] for
+// i, p < 8: eight rows of src (ld elements apart), eight steps at a time,
+// written as columns of dst (rows ldd elements apart); n ≥ 1. It needs
+// AVX.
+TEXT ·transpose8(SB), NOSPLIT, $0-40
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ ld+16(FP), BX
+	SHLQ $2, BX
+	MOVQ ldd+24(FP), DX
+	SHLQ $2, DX
+	MOVQ n+32(FP), CX
+	LEAQ (BX)(BX*2), R9  // 3·ld
+	LEAQ (BX)(BX*4), R10 // 5·ld
+	LEAQ (R9)(R9*1), R11 // 6·ld
+	LEAQ (R11)(BX*1), R12 // 7·ld
+	LEAQ (DX)(DX*2), R13  // 3·ldd
+
+t_loop:
+	VMOVUPS (SI), Y0
+	VMOVUPS (SI)(BX*1), Y1
+	VMOVUPS (SI)(BX*2), Y2
+	VMOVUPS (SI)(R9*1), Y3
+	VMOVUPS (SI)(BX*4), Y4
+	VMOVUPS (SI)(R10*1), Y5
+	VMOVUPS (SI)(R11*1), Y6
+	VMOVUPS (SI)(R12*1), Y7
+	TRANSPOSE8
+	VMOVUPS Y8, (DI)
+	VMOVUPS Y9, (DI)(DX*1)
+	VMOVUPS Y10, (DI)(DX*2)
+	VMOVUPS Y11, (DI)(R13*1)
+	LEAQ    (DI)(DX*4), DI
+	VMOVUPS Y12, (DI)
+	VMOVUPS Y13, (DI)(DX*1)
+	VMOVUPS Y14, (DI)(DX*2)
+	VMOVUPS Y15, (DI)(R13*1)
+	LEAQ    (DI)(DX*4), DI
+	ADDQ    $32, SI
+	DECQ    CX
+	JNZ     t_loop
+	VZEROUPPER
+	RET

@@ -25,3 +25,17 @@ func gemm[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb
 func gemmTile[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
 	gemm(tA, tB, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
 }
+
+// serialGemm is gemm tile by tile on the calling goroutine.
+func serialGemm[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
+	t := newGemmTask(tA, tB, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
+	t.serial()
+}
+
+// serial computes every tile on the calling goroutine: the product inside
+// a chunk of another task.
+func (t *gemmTask[T]) serial() {
+	for i := range t.tiles() {
+		t.Chunk(i)
+	}
+}

@@ -19,3 +19,11 @@ func gemmTile[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T,
 	}
 	gemm.Serial{}.Sgemm(trans(tA), trans(tB), m, n, k, float32(alpha), as32(a), lda, as32(b), ldb, float32(beta), as32(c), ldc)
 }
+
+// serialGemm is gemm on the calling goroutine, in one piece: internal/gemm
+// blocks the product itself, and packs each block of an operand once
+// where tiles would pack it once per tile. Every element is the same sum
+// either way.
+func serialGemm[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
+	gemmTile(tA, tB, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
+}
