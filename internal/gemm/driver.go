@@ -241,6 +241,7 @@ func gather6[T float](dst, a []T, lda, kb int, alpha T) {
 func packB[T float](tB bool, b []T, ldb, pc, jc, kb, nb, nr int, dst []T) {
 	var z T
 	wide := nr*int(unsafe.Sizeof(z)) == 64 // a step of a panel is 64 bytes
+	tw := transposeWidth[T]()
 	for jr := 0; jr < nb; jr += nr {
 		panel := dst[jr*kb : jr*kb+nr*kb]
 		cols := min(nr, nb-jr)
@@ -255,13 +256,13 @@ func packB[T float](tB bool, b []T, ldb, pc, jc, kb, nb, nr int, dst []T) {
 				copy(d, b[(pc+p)*ldb+jc+jr:][:cols])
 				clear(d[cols:])
 			}
-		case cols == nr && nr%8 == 0 && kb >= 8 && transposeSteps(panel, b[(jc+jr)*ldb+pc:], ldb, nr, kb/8):
-			// op(B)[p, j] = B[j, p]: 8 × 8 blocks transposed on vectors,
-			// then the last kb mod 8 steps.
-			for j0 := 8; j0 < nr; j0 += 8 {
-				transposeSteps(panel[j0:], b[(jc+jr+j0)*ldb+pc:], ldb, nr, kb/8)
+		case cols == nr && nr%tw == 0 && kb >= tw && transposeSteps(panel, b[(jc+jr)*ldb+pc:], ldb, nr, kb/tw):
+			// op(B)[p, j] = B[j, p]: tw × tw blocks transposed on
+			// vectors, then the last kb mod tw steps.
+			for j0 := tw; j0 < nr; j0 += tw {
+				transposeSteps(panel[j0:], b[(jc+jr+j0)*ldb+pc:], ldb, nr, kb/tw)
 			}
-			for p := kb &^ 7; p < kb; p++ {
+			for p := kb - kb%tw; p < kb; p++ {
 				for j := range nr {
 					panel[p*nr+j] = b[(jc+jr+j)*ldb+pc+p]
 				}
@@ -280,6 +281,13 @@ func packB[T float](tB bool, b []T, ldb, pc, jc, kb, nb, nr int, dst []T) {
 			}
 		}
 	}
+}
+
+// transposeWidth is the side of the blocks transposeSteps transposes: 32
+// bytes of T.
+func transposeWidth[T float]() int {
+	var z T
+	return 32 / int(unsafe.Sizeof(z))
 }
 
 // scale sets C = beta·C, and C = 0 when beta is 0 (whatever C held).

@@ -60,16 +60,20 @@ func copySteps[T float](dst, src []T, ld, n int) {
 	copyRows64(unsafe.Pointer(&dst[0]), unsafe.Pointer(&src[0]), ld*size, n)
 }
 
-// transposeSteps sets dst[p·ldd + i] = src[i·ld + p] for i < 8, p < 8n,
-// when T is float32 and the processor has AVX2, and reports whether it
-// did; n ≥ 1.
+// transposeSteps sets dst[p·ldd + i] = src[i·ld + p] for i < w, p < w·n,
+// where w is 8 for float32 and 4 for float64, when the processor has AVX2,
+// and reports whether it did; n ≥ 1.
 func transposeSteps[T float](dst, src []T, ld, ldd, n int) bool {
-	var z T
-	if _, ok := any(z).(float32); !ok || !hasAVX2 {
+	if !hasAVX2 {
 		return false
 	}
-	_, _ = dst[(8*n-1)*ldd+7], src[7*ld+8*n-1]
-	transpose8((*float32)(unsafe.Pointer(&dst[0])), (*float32)(unsafe.Pointer(&src[0])), ld, ldd, n)
+	w := transposeWidth[T]()
+	_, _ = dst[(w*n-1)*ldd+w-1], src[(w-1)*ld+w*n-1]
+	if w == 8 {
+		transpose8((*float32)(unsafe.Pointer(&dst[0])), (*float32)(unsafe.Pointer(&src[0])), ld, ldd, n)
+	} else {
+		transpose4((*float64)(unsafe.Pointer(&dst[0])), (*float64)(unsafe.Pointer(&src[0])), ld, ldd, n)
+	}
 	return true
 }
 
@@ -78,3 +82,6 @@ func copyRows64(dst, src unsafe.Pointer, stride, n int)
 
 //go:noescape
 func transpose8(dst, src *float32, ld, ldd, n int)
+
+//go:noescape
+func transpose4(dst, src *float64, ld, ldd, n int)

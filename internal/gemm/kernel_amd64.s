@@ -310,3 +310,43 @@ t_loop:
 	JNZ     t_loop
 	VZEROUPPER
 	RET
+
+// func transpose4(dst *float64, src *float64, ld int, ldd int, n int)
+// For each of n blocks b: dst[(4b+p)·ldd + i] = src[i·ld + 4b + p] for
+// i, p < 4: four rows of src (ld elements apart), four steps at a time,
+// written as columns of dst (rows ldd elements apart); n ≥ 1. It needs
+// AVX.
+TEXT ·transpose4(SB), NOSPLIT, $0-40
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ ld+16(FP), BX
+	SHLQ $3, BX
+	MOVQ ldd+24(FP), DX
+	SHLQ $3, DX
+	MOVQ n+32(FP), CX
+	LEAQ (BX)(BX*2), R9 // 3·ld
+	LEAQ (DX)(DX*2), R13 // 3·ldd
+
+t4_loop:
+	VMOVUPD    (SI), Y0
+	VMOVUPD    (SI)(BX*1), Y1
+	VMOVUPD    (SI)(BX*2), Y2
+	VMOVUPD    (SI)(R9*1), Y3
+	VUNPCKLPD  Y1, Y0, Y4
+	VUNPCKHPD  Y1, Y0, Y5
+	VUNPCKLPD  Y3, Y2, Y6
+	VUNPCKHPD  Y3, Y2, Y7
+	VPERM2F128 $0x20, Y6, Y4, Y0
+	VPERM2F128 $0x20, Y7, Y5, Y1
+	VPERM2F128 $0x31, Y6, Y4, Y2
+	VPERM2F128 $0x31, Y7, Y5, Y3
+	VMOVUPD    Y0, (DI)
+	VMOVUPD    Y1, (DI)(DX*1)
+	VMOVUPD    Y2, (DI)(DX*2)
+	VMOVUPD    Y3, (DI)(R13*1)
+	LEAQ       (DI)(DX*4), DI
+	ADDQ       $32, SI
+	DECQ       CX
+	JNZ        t4_loop
+	VZEROUPPER
+	RET

@@ -20,6 +20,6 @@ func copySteps[T float](dst, src []T, ld, n int) {
 	}
 }
 
-// transposeSteps does nothing and reports false: there is no vector
+// transposeSteps (see the amd64 version) does nothing and reports false: there is no vector
 // transpose in this build.
 func transposeSteps[T float](dst, src []T, ld, ldd, n int) bool { return false }
