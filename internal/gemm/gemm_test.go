@@ -367,3 +367,13 @@ func to64(s []float32) []float64 {
 	}
 	return r
 }
+
+// TestKernelInUse logs the micro-kernel in use ("kernel: avx2" or
+// "kernel: go"), which .ci/run checks on processors with AVX2 and FMA.
+func TestKernelInUse(t *testing.T) {
+	k := Kernel()
+	if k != "avx2" && k != "go" {
+		t.Fatalf("Kernel() = %q", k)
+	}
+	t.Logf("kernel: %s", k)
+}
