@@ -58,6 +58,11 @@ fi
 epoch() { sed -n 's/.*epoch median \([0-9.]*\) s.*/\1/p'; }
 median() { sort -g | awk '{v[NR]=$1} END {print (NR%2 ? v[(NR+1)/2] : (v[NR/2]+v[NR/2+1])/2)}'; }
 
+# OpenBLAS picks its kernels from the processor's identity, which some
+# virtual machines hide (it then takes its generic SSE3 kernels, several
+# times slower): OPENBLAS_CORETYPE names them instead, for skein's fast
+# build and for PyTorch alike.
+echo "OPENBLAS_CORETYPE=${OPENBLAS_CORETYPE:-(unset)}"
 echo "load before: $(uptime)"
 declare -A times gflop
 rates=""
