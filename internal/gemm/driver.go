@@ -22,8 +22,9 @@ type kernel[T float] struct {
 	micro func(k int, a, b, c []T, ldc int, add bool)
 }
 
-// buffers are one goroutine's packed blocks: a holds mc × kc values of
-// op(A), b kc × nc of op(B), tile one mr × nr tile at the edges of C.
+// buffers are one goroutine's packed blocks: a holds up to mc × kc values
+// of op(A), b up to kc × nc of op(B), tile one mr × nr tile at the edges
+// of C.
 type buffers[T float] struct {
 	a, b, tile []T
 }
@@ -35,27 +36,36 @@ var (
 	pool64 sync.Pool // *buffers[float64]
 )
 
-// getBuffers returns buffers sized for kn, from the pool when it has some.
-func getBuffers[T float](kn *kernel[T]) *buffers[T] {
-	p := &pool64
-	var z T
-	if _, ok := any(z).(float32); ok {
-		p = &pool32
+// getBuffers returns buffers for an m × n × k product with kn, from the
+// pool when it has large enough ones: blocks no larger than the product
+// needs, so that small products do not allocate (or clear) large blocks.
+func getBuffers[T float](kn *kernel[T], m, n, k int) *buffers[T] {
+	la := kn.mr * ceilDiv(min(m, kn.mc), kn.mr) * min(k, kn.kc)
+	lb := kn.nr * ceilDiv(min(n, kn.nc), kn.nr) * min(k, kn.kc)
+	buf, ok := pool(kn).Get().(*buffers[T])
+	if !ok || len(buf.tile) != kn.mr*kn.nr {
+		buf = &buffers[T]{tile: make([]T, kn.mr*kn.nr)}
 	}
-	if buf, ok := p.Get().(*buffers[T]); ok && len(buf.a) == kn.mc*kn.kc && len(buf.b) == kn.kc*kn.nc {
-		return buf
+	if cap(buf.a) < la {
+		buf.a = make([]T, la)
 	}
-	return &buffers[T]{a: make([]T, kn.mc*kn.kc), b: make([]T, kn.kc*kn.nc), tile: make([]T, kn.mr*kn.nr)}
+	if cap(buf.b) < lb {
+		buf.b = make([]T, lb)
+	}
+	buf.a, buf.b = buf.a[:cap(buf.a)], buf.b[:cap(buf.b)]
+	return buf
 }
 
 // putBuffers returns buf to its pool.
-func putBuffers[T float](buf *buffers[T]) {
+func putBuffers[T float](kn *kernel[T], buf *buffers[T]) { pool(kn).Put(buf) }
+
+// pool returns the pool of buffers of T.
+func pool[T float](*kernel[T]) *sync.Pool {
 	var z T
 	if _, ok := any(z).(float32); ok {
-		pool32.Put(buf)
-		return
+		return &pool32
 	}
-	pool64.Put(buf)
+	return &pool64
 }
 
 // gemm computes C = alpha·op(A)·op(B) + beta·C with kn, for arguments
@@ -81,9 +91,9 @@ func gemm[T float](kn *kernel[T], tA, tB bool, m, n, k int, alpha T, a []T, lda 
 		w = min(runtime.GOMAXPROCS(0), max(ceilDiv(m, kn.mc), ceilDiv(n, 2*kn.nr)))
 	}
 	if w <= 1 {
-		buf := getBuffers(kn)
+		buf := getBuffers(kn, m, n, k)
 		kn.serial(buf, tA, tB, m, n, k, alpha, a, lda, b, ldb, overwrite, c, ldc)
-		putBuffers(buf)
+		putBuffers(kn, buf)
 		return
 	}
 	// Strips of the longer side of C, whole tiles wide.
@@ -116,9 +126,9 @@ func gemm[T float](kn *kernel[T], tA, tB bool, m, n, k int, alpha T, a []T, lda 
 			}
 		}
 		run := func() {
-			buf := getBuffers(kn)
+			buf := getBuffers(kn, ms, ns, k)
 			kn.serial(buf, tA, tB, ms, ns, k, alpha, as, lda, bs, ldb, overwrite, cs, ldc)
-			putBuffers(buf)
+			putBuffers(kn, buf)
 		}
 		if lo+strip >= long { // the last strip on the calling goroutine
 			run()
