@@ -10,6 +10,10 @@
 # OpenBLAS sgemm on THREADS threads (refnet -sgemm), measured in the same
 # alternation.
 #
+# PROCS=1 THREADS=1 compares one core each (skein's GOMAXPROCS, PyTorch's
+# threads): under heavy load from other work, threads that wait for each
+# other suffer most, and this comparison is the fairer one.
+#
 # BEFORE=REV adds, to every round, the pure-Go build of git revision REV
 # (for example a commit before a change), so that before and after are
 # measured side by side.
@@ -21,6 +25,7 @@
 # usage: bench/compare.sh            (from the repository root)
 # knobs: SIZES="116 268" N=275 BATCH=16 EPOCHS=4 REPS=3 THREADS=2 SHARED=../shared
 #        VECTOR=0 (the OpenBLAS build without the vector loops) BEFORE=REV
+#        PROCS=C (skein's GOMAXPROCS; default all cores)
 #
 # THREADS is PyTorch's thread count. skein uses every core (GOMAXPROCS)
 # through its own goroutines, with single-threaded OpenBLAS products:
@@ -81,7 +86,7 @@ for p in $SIZES; do
         rates+="$(echo "$line" | sed -n 's/.*: \([0-9.]*\) GFLOP\/s.*/\1/p') "
         continue
       else
-        line=$("$bin/refnet-$side" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -threads 1 -dtype float32)
+        line=$("$bin/refnet-$side" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -threads 1 -procs "${PROCS:-0}" -dtype float32)
       fi
       echo "  run $r: $line"
       times[$p,$side]+="$(echo "$line" | epoch) "
