@@ -6,6 +6,7 @@ require (
 	codeberg.org/sbinet/npyio v0.14.0
 	github.com/chewxy/hm v1.0.0
 	github.com/pelletier/go-toml/v2 v2.4.3
+	golang.org/x/sys v0.50.0
 	golang.org/x/term v0.48.0
 	gonum.org/v1/gonum v0.17.0
 	gonum.org/v1/netlib v0.0.0-20220323200511-14de99971b2d
@@ -41,7 +42,6 @@ require (
 	// one asks the runtime instead (Go 1.21 on). Keep it.
 	go4.org/unsafe/assume-no-moving-gc v0.0.0-20231121144256-b99613f794b6 // indirect
 	golang.org/x/image v0.30.0 // indirect
-	golang.org/x/sys v0.50.0 // indirect
 	golang.org/x/text v0.34.0 // indirect
 	golang.org/x/xerrors v0.0.0-20200804184101-5ec99f83aff1 // indirect
 	google.golang.org/protobuf v1.28.0 // indirect

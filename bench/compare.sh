@@ -2,10 +2,21 @@
 # Side-by-side benchmark: the reference network trained through skein
 # (float32; the pure-Go build and the fast build, OpenBLAS with the vector
 # loops of GOEXPERIMENT=simd: see bench/build.sh) and through PyTorch,
-# in alternating runs, at each size in SIZES. Prints the median seconds per
-# epoch of each and the ratios skein / PyTorch, and the arithmetic floor of
-# an epoch: its GFLOP over the rate of one large OpenBLAS sgemm on THREADS
-# threads (refnet -sgemm), measured in the same alternation.
+# in alternating runs, at each size in SIZES. PyTorch runs in two settings
+# of its BLAS threads, OPENBLAS_NUM_THREADS=1 and =THREADS (its own threads
+# THREADS in both); the faster median of the two is PyTorch's time. Prints
+# the median seconds per epoch of each and the ratios skein / PyTorch, and
+# the arithmetic floor of an epoch: its GFLOP over the rate of one large
+# OpenBLAS sgemm on THREADS threads (refnet -sgemm), measured in the same
+# alternation.
+#
+# PROCS=1 THREADS=1 compares one core each (skein's GOMAXPROCS, PyTorch's
+# threads): under heavy load from other work, threads that wait for each
+# other suffer most, and this comparison is the fairer one.
+#
+# BEFORE=REV adds, to every round, the pure-Go build of git revision REV
+# (for example a commit before a change), so that before and after are
+# measured side by side.
 #
 # The PyTorch side is the shared script torch_reference.py, used as it is
 # from ${SHARED:-../shared}/bench/ (relative to the repository root), run
@@ -13,7 +24,8 @@
 #
 # usage: bench/compare.sh            (from the repository root)
 # knobs: SIZES="116 268" N=275 BATCH=16 EPOCHS=4 REPS=3 THREADS=2 SHARED=../shared
-#        VECTOR=0 (the OpenBLAS build without the vector loops)
+#        VECTOR=0 (the OpenBLAS build without the vector loops) BEFORE=REV
+#        PROCS=C (skein's GOMAXPROCS; default all cores)
 #
 # THREADS is PyTorch's thread count. skein uses every core (GOMAXPROCS)
 # through its own goroutines, with single-threaded OpenBLAS products:
@@ -39,27 +51,42 @@ trap 'rm -rf "$bin"' EXIT
 # shellcheck source=bench/build.sh
 source bench/build.sh
 build_refnet "$bin"
+sides="gonum openblas torch1 torchT sgemm"
+if [[ -n ${BEFORE:-} ]]; then
+  git archive "$BEFORE" | tar -x -C "$bin" --one-top-level=before
+  (cd "$bin/before" && go build -o "$bin/refnet-before" ./bench/cmd/refnet)
+  sides="before $sides"
+fi
 
 # epoch prints the median seconds per epoch from a result line of refnet or
 # of torch_reference.py ("... epoch median 1.234 s ...").
 epoch() { sed -n 's/.*epoch median \([0-9.]*\) s.*/\1/p'; }
 median() { sort -g | awk '{v[NR]=$1} END {print (NR%2 ? v[(NR+1)/2] : (v[NR/2]+v[NR/2+1])/2)}'; }
 
+# OpenBLAS picks its kernels from the processor's identity, which some
+# virtual machines hide (it then takes its generic SSE3 kernels, several
+# times slower): OPENBLAS_CORETYPE names them instead, for skein's fast
+# build and for PyTorch alike.
+echo "OPENBLAS_CORETYPE=${OPENBLAS_CORETYPE:-(unset)}"
 echo "load before: $(uptime)"
 declare -A times gflop
 rates=""
 for p in $SIZES; do
   for ((r = 1; r <= REPS; r++)); do
-    for side in gonum openblas torch sgemm; do
-      if [[ $side == torch ]]; then
-        line=$("$PYTHON" "$TORCH_SCRIPT" "$p" "$N" "$BATCH" "$EPOCHS" "$THREADS" float32)
+    for side in $sides; do
+      if [[ $side == torch1 ]]; then
+        line=$(OPENBLAS_NUM_THREADS=1 "$PYTHON" "$TORCH_SCRIPT" "$p" "$N" "$BATCH" "$EPOCHS" "$THREADS" float32)
+        line="torch OPENBLAS_NUM_THREADS=1: $line"
+      elif [[ $side == torchT ]]; then
+        line=$(OPENBLAS_NUM_THREADS=$THREADS "$PYTHON" "$TORCH_SCRIPT" "$p" "$N" "$BATCH" "$EPOCHS" "$THREADS" float32)
+        line="torch OPENBLAS_NUM_THREADS=$THREADS: $line"
       elif [[ $side == sgemm ]]; then
         line=$("$bin/refnet-openblas" -sgemm -threads "$THREADS")
         echo "  run $r: $line"
         rates+="$(echo "$line" | sed -n 's/.*: \([0-9.]*\) GFLOP\/s.*/\1/p') "
         continue
       else
-        line=$("$bin/refnet-$side" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -threads 1 -dtype float32)
+        line=$("$bin/refnet-$side" -p "$p" -n "$N" -batch "$BATCH" -epochs "$EPOCHS" -threads 1 -procs "${PROCS:-0}" -dtype float32)
       fi
       echo "  run $r: $line"
       times[$p,$side]+="$(echo "$line" | epoch) "
@@ -71,11 +98,18 @@ echo "load after: $(uptime)"
 echo
 rate=$(echo "$rates" | tr ' ' '\n' | grep . | median)
 echo "OpenBLAS sgemm on $THREADS threads: median $rate GFLOP/s"
-printf '%-6s %12s %12s %12s %14s %14s %10s %14s\n' p "torch s" "openblas s" "pure-Go s" "openblas/torch" "pure-Go/torch" "floor s" "openblas/floor"
+printf '%-6s %9s %9s %9s %10s %10s %14s %14s %10s %14s\n' p "torch1 s" "torchT s" "torch s" "openblas s" "pure-Go s" "openblas/torch" "pure-Go/torch" "floor s" "openblas/floor"
 for p in $SIZES; do
-  t=$(echo "${times[$p,torch]}" | tr ' ' '\n' | grep . | median)
-  o=$(echo "${times[$p,openblas]}" | tr ' ' '\n' | grep . | median)
-  g=$(echo "${times[$p,gonum]}" | tr ' ' '\n' | grep . | median)
-  awk -v p="$p" -v t="$t" -v o="$o" -v g="$g" -v f="${gflop[$p]}" -v r="$rate" \
-    'BEGIN {printf "%-6s %12.3f %12.3f %12.3f %14.2f %14.2f %10.3f %14.2f\n", p, t, o, g, o/t, g/t, f/r, o/(f/r)}'
+  med() { echo "${times[$p,$1]}" | tr ' ' '\n' | grep . | median; }
+  t1=$(med torch1)
+  tT=$(med torchT)
+  o=$(med openblas)
+  g=$(med gonum)
+  awk -v p="$p" -v t1="$t1" -v tT="$tT" -v o="$o" -v g="$g" -v f="${gflop[$p]}" -v r="$rate" \
+    'BEGIN {t = (t1 < tT ? t1 : tT); printf "%-6s %9.3f %9.3f %9.3f %10.3f %10.3f %14.2f %14.2f %10.3f %14.2f\n", p, t1, tT, t, o, g, o/t, g/t, f/r, o/(f/r)}'
+  if [[ -n ${BEFORE:-} ]]; then
+    b=$(med before)
+    awk -v p="$p" -v b="$b" -v g="$g" -v t1="$t1" -v tT="$tT" -v rev="$BEFORE" \
+      'BEGIN {t = (t1 < tT ? t1 : tT); printf "%-6s pure-Go at %s: %.3f s, %.2f x PyTorch; now / then %.2f\n", p, rev, b, b/t, g/b}'
+  fi
 done

@@ -1,6 +1,8 @@
 // Package blas selects the BLAS that skein's matrix products use, in one
-// place: gonum's pure-Go implementation by default, or OpenBLAS (through
-// cgo and gonum.org/v1/netlib) when built with the openblas build tag:
+// place: by default gonum's pure-Go implementation with the faster Sgemm
+// and Dgemm of package internal/gemm (still pure Go, no cgo), or OpenBLAS
+// (through cgo and gonum.org/v1/netlib) when built with the openblas build
+// tag:
 //
 //	CGO_LDFLAGS=-lopenblas go build -tags openblas ./...
 //
@@ -10,5 +12,6 @@
 // follow the choice import it.
 package blas
 
-// Name tells which BLAS is in use: "gonum" (pure Go) or "openblas".
+// Name tells which BLAS is in use: "gonum" (pure Go: gonum's, with the
+// products of internal/gemm) or "openblas".
 func Name() string { return name }

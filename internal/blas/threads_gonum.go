@@ -2,9 +2,9 @@
 
 package blas
 
-// Threads returns the number of threads one matrix product may use. Gonum's
-// pure-Go Gemm splits a large product into blocks computed by up to
-// runtime.GOMAXPROCS(0) goroutines; they share the Go scheduler with every
+// Threads returns the number of threads one matrix product may use. The
+// pure-Go Gemm (package internal/gemm) splits a large product into strips
+// computed by up to runtime.GOMAXPROCS(0) goroutines; they share the Go scheduler with every
 // other goroutine, so products in concurrent goroutines do not
 // oversubscribe the cores. Threads reports 1 here, meaning that the BLAS
 // keeps no threads of its own.

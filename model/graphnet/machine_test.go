@@ -17,10 +17,9 @@ import (
 // rectifier), e2n, graph_conv on the one-channel input (a reshape) and on
 // e2n features (a transpose), n2g on edge, node and graph-conv features,
 // dropout in a branch and in the head, both merges, the head and the
-// masked loss. Their sizes keep every matrix product of a batch of 4 at
-// p = 8 below 4 blocks of 64 × 64, which gonum's pure-Go Sgemm and Dgemm
-// compute serially: larger ones go to sgemmParallel, whose goroutines and
-// channels allocate at every product.
+// masked loss. Their sizes are small (a batch of 4 at p = 8); the ops
+// compute every tile of a product on the calling goroutine in either build
+// (internal/gemm's Serial, or single-threaded OpenBLAS).
 func machineConfigs() map[string]Config {
 	drop := LayerConfig{Kind: LayerDropout, Rate: 0.25}
 	linear := func(l LayerConfig) LayerConfig { l.Activation = ActivationNone; return l }

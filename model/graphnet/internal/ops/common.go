@@ -9,8 +9,6 @@ import (
 
 	"github.com/chewxy/hm"
 	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas32"
-	"gonum.org/v1/gonum/blas/blas64"
 	"gorgonia.org/gorgonia"
 	"gorgonia.org/tensor"
 
@@ -109,20 +107,6 @@ func trans(t bool) blas.Transpose {
 		return blas.Trans
 	}
 	return blas.NoTrans
-}
-
-// gemm computes C = alpha·op(A)·op(B) + beta·C on row-major slices, with
-// op(A) m×k and op(B) k×n, through blas64/blas32 (so that the BLAS chosen
-// by package internal/blas is used).
-func gemm[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
-	if m == 0 || n == 0 {
-		return
-	}
-	if is64[T]() {
-		blas64.Implementation().Dgemm(trans(tA), trans(tB), m, n, k, float64(alpha), as64(a), lda, as64(b), ldb, float64(beta), as64(c), ldc)
-		return
-	}
-	blas32.Implementation().Sgemm(trans(tA), trans(tB), m, n, k, float32(alpha), as32(a), lda, as32(b), ldb, float32(beta), as32(c), ldc)
 }
 
 // slice returns the backing slice of a dense tensor of element type T.

@@ -67,20 +67,6 @@ func (t *gemmTask[T]) Chunk(i int) {
 	gemmTile(t.tA, t.tB, m, n, t.k, t.alpha, a, t.lda, b, t.ldb, t.beta, t.c[i0*t.ldc+j0:], t.ldc)
 }
 
-// serial computes every tile on the calling goroutine: the product inside
-// a chunk of another task.
-func (t *gemmTask[T]) serial() {
-	for i := range t.tiles() {
-		t.Chunk(i)
-	}
-}
-
-// serialGemm is gemm tile by tile on the calling goroutine.
-func serialGemm[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
-	t := newGemmTask(tA, tB, m, n, k, alpha, a, lda, b, ldb, beta, c, ldc)
-	t.serial()
-}
-
 // tasks holds an op's task records, made at its first run and reused, so
 // that running a task allocates nothing.
 type tasks struct {
