@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -86,6 +87,12 @@ func TestReadArrayFixtures(t *testing.T) {
 		{"v73.mat", "stack", "mat.json", "stack"},
 		{"v73.mat", "counts", "mat.json", "counts"},
 		{"v73.mat", "fcstack", "mat.json", "fcstack"},
+		// h5py, chunked v7.3 variables (version 1 B-tree chunk index) with
+		// edge chunks, compared with h5py's own read-back (gen_mat.py):
+		// gzip after shuffle, no filter, gzip with Fletcher-32.
+		{"v73.mat", "bigstack", "mat73.json", "bigstack"},
+		{"v73.mat", "bigseries", "mat73.json", "bigseries"},
+		{"v73.mat", "checked", "mat73.json", "checked"},
 		// numpy.savez and numpy.savez_compressed.
 		{"arrays.npz", "conn", "npz.json", "conn"},
 		{"arrays.npz", "fortran", "npz.json", "fortran"},
@@ -97,11 +104,11 @@ func TestReadArrayFixtures(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if !reflect.DeepEqual(got.shape, want.Shape) {
-				t.Fatalf("shape %v, want %v", got.shape, want.Shape)
+			if !reflect.DeepEqual(got.shape, want.Shape) || len(got.data) != len(want.Data) {
+				t.Fatalf("shape %v with %d values, want %v with %d", got.shape, len(got.data), want.Shape, len(want.Data))
 			}
 			for k := range want.Data {
-				if got.data[k] != want.Data[k] {
+				if math.Float64bits(got.data[k]) != math.Float64bits(want.Data[k]) {
 					t.Fatalf("value %d is %v, want %v", k, got.data[k], want.Data[k])
 				}
 			}
@@ -150,6 +157,21 @@ func TestReadArrayErrors(t *testing.T) {
 		}
 		return b
 	}
+	// v73.mat with the B-tree key of bigstack's first chunk changed: its
+	// stored size cut by 20 bytes (a truncated deflate stream) or its
+	// filter mask saying deflate (the second filter) was skipped.
+	var chunk0 struct {
+		Key  int `json:"key"`
+		Size uint32
+	}
+	if err := json.Unmarshal([]byte(mustField(t, "mat73.json", "bigstack_chunk0")), &chunk0); err != nil {
+		t.Fatal(err)
+	}
+	v73Key := func(off int, v uint32) []byte {
+		b := append([]byte(nil), fixtureBytes(t, "v73.mat")...)
+		binary.LittleEndian.PutUint32(b[chunk0.Key+off:], v)
+		return b
+	}
 	noExt := append([]byte(nil), conn...)
 	noExt[540] = 0
 	for _, tc := range []struct {
@@ -178,8 +200,11 @@ func TestReadArrayErrors(t *testing.T) {
 		{".mat truncated", "v5.mat", fixtureBytes(t, "v5.mat")[:200], "conn", "v5.mat: byte 128: element of type 14 declares"},
 		{".mat header", "v5.mat", fixtureBytes(t, "v5.mat")[:100], "conn", "MAT-file header truncated"},
 		// h5py wrote v73.mat in MATLAB's v7.3 layout.
-		{".mat v7.3 without the named variable", "v73.mat", nil, "fc", `v73.mat: no variable "fc" (named by variable); the file holds "conn", "counts", "fcstack", "info", "label", "series", "stack", "zipped"`},
-		{".mat v7.3 compressed variable", "v73.mat", nil, "zipped", `v73.mat: variable "zipped": is stored in chunks (compressed), which skein does not read`},
+		{".mat v7.3 without the named variable", "v73.mat", nil, "fc", `v73.mat: no variable "fc" (named by variable); the file holds "bigseries", "bigstack", "checked", "conn", "counts", "fcstack", "info", "label", "lzf", "series", "stack"`},
+		{".mat v7.3 unknown filter", "v73.mat", nil, "lzf", `v73.mat: variable "lzf": filter pipeline: filter 32000 ("lzf"), which skein does not read`},
+		{".mat v7.3 truncated chunk", "v73.mat", v73Key(0, chunk0.Size-20), "bigstack", `v73.mat: variable "bigstack": HDF5 at byte`},
+		{".mat v7.3 truncated chunk says so", "v73.mat", v73Key(0, chunk0.Size-20), "bigstack", `chunk at [0 0 0]: deflate: unexpected EOF`},
+		{".mat v7.3 filter mask", "v73.mat", v73Key(4, 2), "bigstack", fmt.Sprintf("chunk at [0 0 0]: decodes to %d bytes; a chunk holds 192", chunk0.Size)},
 		{".mat v7.3 char variable", "v73.mat", nil, "label", `v73.mat: variable "label": is of MATLAB class "char"`},
 		{".mat v7.3 struct", "v73.mat", nil, "info", `v73.mat: variable "info": is of MATLAB class "struct"`},
 		{".mat v7.3 truncated", "v73.mat", fixtureBytes(t, "v73.mat")[:1200], "conn", "v73.mat: HDF5 at byte"},
@@ -260,6 +285,19 @@ func TestReadSeries(t *testing.T) {
 	}
 }
 
+// mustField returns the raw JSON of key in a fixture's .json file.
+func mustField(t *testing.T, file, key string) json.RawMessage {
+	t.Helper()
+	var all map[string]json.RawMessage
+	if err := json.Unmarshal(fixtureBytes(t, file), &all); err != nil {
+		t.Fatal(err)
+	}
+	if all[key] == nil {
+		t.Fatalf("%s: no %q", file, key)
+	}
+	return all[key]
+}
+
 // fuzzSeeds adds each fixture to f.
 func fuzzSeeds(f *testing.F, names ...string) {
 	for _, n := range names {
@@ -287,7 +325,7 @@ func FuzzDecodeCIFTI(f *testing.F) {
 func FuzzDecodeMAT(f *testing.F) {
 	fuzzSeeds(f, "v5.mat", "v5z.mat", "v73.mat")
 	f.Fuzz(func(t *testing.T, raw []byte) {
-		for _, v := range []string{"", "conn", "stack"} {
+		for _, v := range []string{"", "conn", "stack", "bigstack", "bigseries", "checked"} {
 			a, err := decodeMAT("f.mat", raw, readOptions{variable: v})
 			if err != nil {
 				continue

@@ -2,9 +2,11 @@ package data
 
 import (
 	"bytes"
+	"compress/zlib"
 	"encoding/binary"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"slices"
 	"strings"
@@ -16,9 +18,12 @@ import (
 // version 2.0 sections cited below): superblock version 0 or 1, the root
 // group's symbol table (version 1 B-tree and local heap), version 1 object
 // headers, and datasets of fixed-point or floating-point numbers stored
-// contiguously or compactly. Chunked (and so compressed) datasets, which
-// MATLAB writes for large or compressed variables, are refused with an
-// error saying so.
+// contiguously, compactly or in chunks. Chunked datasets, which MATLAB
+// writes for large or compressed variables, are read when their chunks
+// are indexed by a version 1 B-tree (data layout message version 3) and
+// their filter pipeline holds only deflate, shuffle and Fletcher-32
+// (whose checksum is dropped, not checked); other chunk indexes and
+// filters are refused with an error naming them.
 
 // h5file is an HDF5 file being read: its bytes from the superblock's base
 // address on, and the sizes of addresses and lengths.
@@ -297,7 +302,7 @@ func (h *h5file) dataset(addr uint64) (*array, error) {
 	if err != nil {
 		return nil, err
 	}
-	var space, dtype, layout []byte
+	var space, dtype, layout, pipeline []byte
 	class := ""
 	for _, m := range msgs {
 		switch m.typ {
@@ -307,6 +312,8 @@ func (h *h5file) dataset(addr uint64) (*array, error) {
 			dtype = m.data
 		case 0x0008:
 			layout = m.data
+		case 0x000B:
+			pipeline = m.data
 		case 0x000C:
 			name, value, ok := h5stringAttribute(m.data)
 			if ok && name == "MATLAB_class" {
@@ -357,6 +364,9 @@ func (h *h5file) dataset(addr uint64) (*array, error) {
 		return nil, fmt.Errorf("datatype class %d of %d bytes; expected integers or float32/float64", tclass, esize)
 	}
 	if len(layout) < 2 || layout[0] != 3 {
+		if len(layout) >= 2 && layout[0] == 4 && layout[1] == 2 {
+			return nil, errors.New("is stored in chunks indexed by a structure of data layout message version 4 (HDF5 1.10 and later), which skein does not read; only version 1 B-tree chunk indexes are read")
+		}
 		return nil, errors.New("data layout message of a version other than 3")
 	}
 	var raw []byte
@@ -381,8 +391,14 @@ func (h *h5file) dataset(addr uint64) (*array, error) {
 		if raw, err = h.at(at, total*esize); err != nil {
 			return nil, err
 		}
-	case 2:
-		return nil, errors.New("is stored in chunks (compressed), which skein does not read; save it with save(..., '-v7') or uncompressed")
+	case 2: // chunked
+		filters, err := h5filters(pipeline)
+		if err != nil {
+			return nil, fmt.Errorf("filter pipeline: %w", err)
+		}
+		if raw, err = h.chunked(layout, dims, esize, filters); err != nil {
+			return nil, err
+		}
 	default:
 		return nil, fmt.Errorf("data layout class %d", layout[1])
 	}
@@ -500,4 +516,318 @@ func h5stringAttribute(b []byte) (name, value string, ok bool) {
 	}
 	value = string(bytes.TrimRight(b[off:off+size], "\x00 "))
 	return name, value, true
+}
+
+// h5filter is one filter of a filter pipeline: its identification and
+// client data.
+type h5filter struct {
+	id     uint16
+	name   string
+	client []uint32
+}
+
+// Filter identifications read (section IV.A.2.l).
+const (
+	h5Deflate    = 1
+	h5Shuffle    = 2
+	h5Fletcher32 = 3
+)
+
+// h5filters decodes a filter pipeline message (section IV.A.2.l,
+// versions 1 and 2); nil b is an empty pipeline. Filters other than
+// deflate, shuffle and Fletcher-32 are refused.
+func h5filters(b []byte) ([]h5filter, error) {
+	if b == nil {
+		return nil, nil
+	}
+	if len(b) < 2 {
+		return nil, errors.New("truncated")
+	}
+	version, n := b[0], int(b[1])
+	off := 2
+	switch version {
+	case 1:
+		off = 8
+	case 2:
+	default:
+		return nil, fmt.Errorf("version %d; only versions 1 and 2 are read", version)
+	}
+	pad8 := func(k int) int {
+		if version == 1 {
+			return (k + 7) / 8 * 8
+		}
+		return k
+	}
+	var out []h5filter
+	for k := range n {
+		if off+4 > len(b) {
+			return nil, fmt.Errorf("filter %d truncated", k+1)
+		}
+		f := h5filter{id: binary.LittleEndian.Uint16(b[off:])}
+		nameLen := 0
+		if version == 1 || f.id >= 256 {
+			nameLen = int(binary.LittleEndian.Uint16(b[off+2:]))
+			off += 2
+		}
+		off += 2
+		if off+4 > len(b) {
+			return nil, fmt.Errorf("filter %d truncated", k+1)
+		}
+		nvalues := int(binary.LittleEndian.Uint16(b[off+2:]))
+		off += 4
+		if off+pad8(nameLen) > len(b) {
+			return nil, fmt.Errorf("filter %d truncated", k+1)
+		}
+		f.name, _, _ = strings.Cut(string(b[off:off+nameLen]), "\x00")
+		off += pad8(nameLen)
+		if off+4*nvalues > len(b) {
+			return nil, fmt.Errorf("filter %d truncated", k+1)
+		}
+		for v := range nvalues {
+			f.client = append(f.client, binary.LittleEndian.Uint32(b[off+4*v:]))
+		}
+		off += 4 * nvalues
+		if version == 1 && nvalues%2 == 1 {
+			off += 4
+		}
+		switch f.id {
+		case h5Deflate, h5Shuffle, h5Fletcher32:
+		default:
+			name := ""
+			if f.name != "" {
+				name = fmt.Sprintf(" (%q)", f.name)
+			}
+			return nil, fmt.Errorf("filter %d%s, which skein does not read; only deflate (1), shuffle (2) and Fletcher-32 (3) are read", f.id, name)
+		}
+		out = append(out, f)
+	}
+	return out, nil
+}
+
+// chunked gathers the data of a chunked dataset of dimensions dims and
+// elements of esize bytes from its data layout message (version 3, class
+// 2) and filter pipeline: the chunks listed by the version 1 B-tree
+// (section III.A.1, node type 1) are decoded, cropped where they run past
+// the dimensions, and copied into place. Every element must be in some
+// chunk: chunks never written (left to the fill value) are refused.
+func (h *h5file) chunked(layout []byte, dims []int, esize int, filters []h5filter) ([]byte, error) {
+	if len(layout) < 3 {
+		return nil, errors.New("chunked layout truncated")
+	}
+	rank := int(layout[2]) - 1 // the last "dimension" is the element size
+	if rank < 1 || rank != len(dims) {
+		return nil, fmt.Errorf("chunked layout of %d dimensions for a dataspace of %d", rank, len(dims))
+	}
+	if len(layout) < 3+h.offSize+4*(rank+1) {
+		return nil, errors.New("chunked layout truncated")
+	}
+	btree := h5uint(layout[3:], h.offSize)
+	cdims := make([]int, rank)
+	chunkLen := 1 // elements in a chunk
+	total := 1
+	for k := range cdims {
+		total *= dims[k]
+		c := binary.LittleEndian.Uint32(layout[3+h.offSize+4*k:])
+		if c == 0 || uint64(c) > math.MaxInt32 || uint64(chunkLen)*uint64(c) > math.MaxInt32 {
+			return nil, fmt.Errorf("chunk dimension %d is %d", k+1, c)
+		}
+		cdims[k] = int(c)
+		chunkLen *= int(c)
+	}
+	if es := binary.LittleEndian.Uint32(layout[3+h.offSize+4*rank:]); int64(es) != int64(esize) {
+		return nil, fmt.Errorf("chunked layout element size %d; the datatype's is %d", es, esize)
+	}
+	// A chunk may be larger than the data (HDF5 allows chunks beyond
+	// fixed dimensions only for extendible datasets); bound it so that a
+	// malformed file cannot demand an arbitrary allocation.
+	if chunkLen > max(total, 1<<20) {
+		return nil, fmt.Errorf("chunks of %v elements for a dataset of %v", cdims, dims)
+	}
+	// Deflate expands data at most about 1032 times, so a file cannot
+	// hold more than that many bytes of data per byte; bounding by it
+	// keeps a malformed header from demanding an arbitrary allocation.
+	if uint64(total)*uint64(esize) > 1100*uint64(len(h.b)) {
+		return nil, fmt.Errorf("dimensions %v need %d bytes, more than a file of %d bytes can hold compressed", dims, uint64(total)*uint64(esize), len(h.b))
+	}
+	raw := make([]byte, total*esize)
+	if total == 0 {
+		return raw, nil
+	}
+	// grid counts the chunks along each dimension; seen marks the
+	// chunks read.
+	grid := make([]int, rank)
+	nchunks := 1
+	for k := range grid {
+		grid[k] = (dims[k] + cdims[k] - 1) / cdims[k]
+		nchunks *= grid[k]
+	}
+	seen := make([]bool, nchunks)
+	nseen := 0
+	var buf []byte // one chunk, allocated at the first
+	keySize := 8 + 8*(rank+1)
+	visited := map[uint64]bool{}
+	var walk func(addr uint64, depth int) error
+	walk = func(addr uint64, depth int) error {
+		if visited[addr] || depth > 64 {
+			return h.errorf(addr, "chunk B-tree node visited twice or nested too deep")
+		}
+		visited[addr] = true
+		hdr, err := h.at(addr, 8+2*h.offSize)
+		if err != nil {
+			return err
+		}
+		if string(hdr[:4]) != "TREE" {
+			return h.errorf(addr, "expected a chunk B-tree node (\"TREE\")")
+		}
+		if hdr[4] != 1 {
+			return h.errorf(addr, "B-tree node of type %d; expected type 1 (chunks)", hdr[4])
+		}
+		level, used := hdr[5], int(binary.LittleEndian.Uint16(hdr[6:]))
+		pos := addr + uint64(8+2*h.offSize)
+		entries, err := h.at(pos, used*(keySize+h.offSize)+keySize)
+		if err != nil {
+			return err
+		}
+		for e := range used {
+			key := entries[e*(keySize+h.offSize):]
+			child := h5uint(key[keySize:], h.offSize)
+			if level > 0 {
+				if err := walk(child, depth+1); err != nil {
+					return err
+				}
+				continue
+			}
+			size := binary.LittleEndian.Uint32(key)
+			mask := binary.LittleEndian.Uint32(key[4:])
+			index := 0
+			offsets := make([]int, rank)
+			for k := range offsets {
+				o := binary.LittleEndian.Uint64(key[8+8*k:])
+				if o >= uint64(dims[k]) || o%uint64(cdims[k]) != 0 {
+					return h.errorf(child, "chunk at offset %d along dimension %d of %d with chunks of %d", o, k+1, dims[k], cdims[k])
+				}
+				offsets[k] = int(o)
+				index = index*grid[k] + offsets[k]/cdims[k]
+			}
+			if seen[index] {
+				return h.errorf(child, "chunk at %v listed twice", offsets)
+			}
+			seen[index] = true
+			nseen++
+			stored, err := h.at(child, int(min(uint64(size), uint64(len(h.b)))))
+			if err != nil {
+				return err
+			}
+			if uint64(len(stored)) != uint64(size) {
+				return h.errorf(child, "chunk of %d bytes runs past the end of the file", size)
+			}
+			if buf == nil {
+				buf = make([]byte, chunkLen*esize)
+			}
+			if err := h5unfilter(buf, stored, filters, mask, esize); err != nil {
+				return h.errorf(child, "chunk at %v: %v", offsets, err)
+			}
+			h5copyChunk(raw, buf, dims, cdims, offsets, esize)
+		}
+		return nil
+	}
+	if err := walk(btree, 0); err != nil {
+		return nil, err
+	}
+	if nseen != nchunks {
+		return nil, fmt.Errorf("%d of %d chunks are stored; unwritten chunks (left to the fill value) are not read", nseen, nchunks)
+	}
+	return raw, nil
+}
+
+// h5unfilter undoes the filters of a chunk's pipeline in reverse order,
+// skipping those whose bit is set in mask, and writes the chunk's bytes
+// to out, whose length is the chunk's size unfiltered. A chunk that does
+// not decode to exactly that many bytes is an error.
+func h5unfilter(out, stored []byte, filters []h5filter, mask uint32, esize int) error {
+	b := stored
+	for k := len(filters) - 1; k >= 0; k-- {
+		if k < 32 && mask&(1<<k) != 0 {
+			continue
+		}
+		switch f := filters[k]; f.id {
+		case h5Fletcher32:
+			if len(b) < 4 {
+				return errors.New("shorter than its Fletcher-32 checksum")
+			}
+			b = b[:len(b)-4]
+		case h5Deflate:
+			zr, err := zlib.NewReader(bytes.NewReader(b))
+			if err != nil {
+				return fmt.Errorf("deflate: %w", err)
+			}
+			// Read at most one byte more than the chunk holds.
+			d, err := io.ReadAll(io.LimitReader(zr, int64(len(out))+1))
+			if err != nil {
+				return fmt.Errorf("deflate: %w", err)
+			}
+			if len(d) > len(out) {
+				return fmt.Errorf("deflate: decompresses to more than the chunk's %d bytes", len(out))
+			}
+			b = d
+		case h5Shuffle:
+			size := esize
+			if len(f.client) > 0 {
+				size = int(f.client[0])
+			}
+			if size > 1 && size <= len(b) {
+				b = h5unshuffle(b, size)
+			}
+		}
+	}
+	if len(b) != len(out) {
+		return fmt.Errorf("decodes to %d bytes; a chunk holds %d", len(b), len(out))
+	}
+	copy(out, b)
+	return nil
+}
+
+// h5unshuffle undoes the shuffle filter on b, elements of size bytes:
+// the shuffled data holds the first byte of every element, then the
+// second, and so on; bytes past the last whole element stay in place.
+func h5unshuffle(b []byte, size int) []byte {
+	n := len(b) / size
+	out := make([]byte, len(b))
+	for j := range size {
+		for i := range n {
+			out[i*size+j] = b[j*n+i]
+		}
+	}
+	copy(out[n*size:], b[n*size:])
+	return out
+}
+
+// h5copyChunk copies the chunk chunk (row-major, dimensions cdims) whose
+// first element is at offsets into raw (row-major, dimensions dims),
+// leaving out the parts that run past dims.
+func h5copyChunk(raw, chunk []byte, dims, cdims, offsets []int, esize int) {
+	rank := len(dims)
+	// Along the last dimension, whole runs of elements are copied.
+	last := rank - 1
+	run := min(cdims[last], dims[last]-offsets[last]) * esize
+	idx := make([]int, rank) // position within the chunk, last dimension fixed at 0
+	for {
+		src, dst := 0, 0
+		for k := range rank {
+			src = src*cdims[k] + idx[k]
+			dst = dst*dims[k] + offsets[k] + idx[k]
+		}
+		copy(raw[dst*esize:dst*esize+run], chunk[src*esize:])
+		k := last - 1
+		for ; k >= 0; k-- {
+			idx[k]++
+			if idx[k] < cdims[k] && offsets[k]+idx[k] < dims[k] {
+				break
+			}
+			idx[k] = 0
+		}
+		if k < 0 {
+			return
+		}
+	}
 }

@@ -10,6 +10,7 @@ variable as numpy sees it (shape, C-order data).
     cd data/testdata/formats && /usr/bin/python3 gen_mat.py
 """
 import json
+import struct
 
 import h5py
 import numpy as np
@@ -24,6 +25,13 @@ b = rng.standard_normal((n, p, 2 * p))
 fcstack = np.stack([np.corrcoef(x) for x in b])  # symmetric, for a cohort's stack
 counts = rng.integers(-300, 300, (p, p)).astype(np.int16)
 variables = {"conn": conn, "series": series, "stack": stack, "counts": counts, "fcstack": fcstack}
+# Chunked v7.3 variables (drawn after the others, which keep their values):
+# a 5 × 7 × 7 double stack and a 9 × 5 single array, both with chunks
+# that do not divide the dimensions, so the last chunk along each axis
+# runs past the data.
+bigstack = rng.standard_normal((5, 7, 7))
+bigseries = rng.standard_normal((9, 5)).astype(np.float32)
+chunked = {"bigstack": bigstack, "bigseries": bigseries}
 other = {"label": "made-up cohort", "cells": np.array([[1.0], "x"], dtype=object)}
 
 scipy.io.savemat("v5.mat", {**variables, **other}, do_compression=False)
@@ -38,10 +46,20 @@ with h5py.File("v73.mat", "w", userblock_size=512) as h:
     for k, v in variables.items():
         d = h.create_dataset(k, data=v.T)  # transposed, as MATLAB stores it
         d.attrs["MATLAB_class"] = np.bytes_({"float64": "double", "float32": "single", "int16": "int16"}[str(v.dtype)])
-    # What skein refuses: a chunked, compressed variable (MATLAB's choice
-    # for large ones), a char array (uint16 with class "char") and a struct
-    # (a group).
-    z = h.create_dataset("zipped", data=conn.T, chunks=(2, 2), compression="gzip")
+    # Chunked variables with a version 1 B-tree chunk index (MATLAB's
+    # choice for large or compressed ones): gzip after shuffle, chunks of
+    # 2 × 3 × 4 over HDF5's 7 × 7 × 5; uncompressed, chunks of 2 × 4 over
+    # 5 × 9; gzip with a Fletcher-32 checksum, chunks of 3 × 3 over 4 × 4.
+    z = h.create_dataset("bigstack", data=bigstack.T, chunks=(2, 3, 4), compression="gzip", shuffle=True)
+    z.attrs["MATLAB_class"] = np.bytes_("double")
+    z = h.create_dataset("bigseries", data=bigseries.T, chunks=(2, 4))
+    z.attrs["MATLAB_class"] = np.bytes_("single")
+    z = h.create_dataset("checked", data=conn.T, chunks=(3, 3), compression="gzip", fletcher32=True)
+    z.attrs["MATLAB_class"] = np.bytes_("double")
+    # What skein refuses: a filter it does not know (LZF, which h5py
+    # ships as filter 32000), a char array (uint16 with class "char") and
+    # a struct (a group).
+    z = h.create_dataset("lzf", data=conn.T, chunks=(2, 2), compression="lzf")
     z.attrs["MATLAB_class"] = np.bytes_("double")
     c = h.create_dataset("label", data=np.frombuffer("made up".encode("utf-16-le"), dtype=np.uint16).reshape(-1, 1))
     c.attrs["MATLAB_class"] = np.bytes_("char")
@@ -51,3 +69,20 @@ text = b"MATLAB 7.3 MAT-file, Platform: GLNXA64, Created on: Mon Jan  5 10:00:00
 header = text.ljust(116, b" ") + b"\x00" * 8 + b"\x00\x02" + b"IM"
 with open("v73.mat", "r+b") as f:
     f.write(header.ljust(512, b"\x00"))
+
+# The chunked variables as h5py reads them back from v73.mat, transposed
+# to MATLAB's order.
+with h5py.File("v73.mat", "r") as h, open("mat73.json", "w") as f:
+    back = {k: h[k][()].T for k in chunked}
+    assert all(np.array_equal(back[k], v) for k, v in chunked.items())
+    back["checked"] = h["checked"][()].T
+    out = {k: {"shape": list(v.shape), "data": v.astype(float).ravel(order="C").tolist()} for k, v in back.items()}
+    # Where the first chunk of bigstack is listed: the file byte of its
+    # B-tree key (chunk size, filter mask, 4 zero offsets, then the chunk's
+    # address), for the tests that damage it.
+    info = h["bigstack"].id.get_chunk_info(0)
+    key = struct.pack("<II", info.size, info.filter_mask) + bytes(32) + struct.pack("<Q", info.byte_offset)
+    raw = open("v73.mat", "rb").read()
+    assert raw.count(key) == 1
+    out["bigstack_chunk0"] = {"key": raw.index(key), "size": info.size}
+    json.dump(out, f)
