@@ -129,8 +129,8 @@ func keyName(opts readOptions) string {
 //     column counting the rows from 0 or 1 is dropped;
 //   - .npy: a 2-D float32 or float64 array;
 //   - .npz and .mat (MATLAB level 5, compressed or not, or v7.3 with
-//     contiguous variables): the 2-D numeric array named variable (""
-//     takes the file's only array);
+//     contiguous or chunked, deflated variables): the 2-D numeric array
+//     named variable ("" takes the file's only array);
 //   - .ptseries.nii: CIFTI-2 parcellated series, names from its parcels
 //     map.
 //

@@ -121,7 +121,8 @@ type Source struct {
 //     arrays, the one named by Variable;
 //   - .mat: a MATLAB MAT-file, the numeric variable named by Variable:
 //     level 5 (save -v6 or -v7, compressed or not) or v7.3 (HDF5 inside;
-//     variables stored contiguously, not chunked or compressed);
+//     variables stored contiguously or in chunks indexed by a version 1
+//     B-tree, uncompressed or deflated, with or without shuffle);
 //   - .pconn.nii: a CIFTI-2 parcellated connectivity file, whose parcel
 //     names are the region labels;
 //   - any other: delimited text (tab, comma or white space, with an
