@@ -174,6 +174,15 @@ func TestReadArrayErrors(t *testing.T) {
 		binary.LittleEndian.PutUint32(b[chunk0.Key+off:], v)
 		return b
 	}
+	// v73.mat with bigseries's data layout message (version 3, chunked,
+	// 3 dimensions, B-tree address, then chunk dimensions 2, 4 and the
+	// element size 4) given version 4, whose chunk indexes are not read.
+	layout4 := append([]byte(nil), fixtureBytes(t, "v73.mat")...)
+	if at := bytes.Index(layout4, []byte{2, 0, 0, 0, 4, 0, 0, 0, 4, 0, 0, 0}) - 11; at < 0 || !bytes.Equal(layout4[at:at+3], []byte{3, 2, 3}) {
+		t.Fatal("v73.mat: bigseries's data layout message not found")
+	} else {
+		layout4[at] = 4
+	}
 	noExt := append([]byte(nil), conn...)
 	noExt[540] = 0
 	for _, tc := range []struct {
@@ -206,6 +215,7 @@ func TestReadArrayErrors(t *testing.T) {
 		{".mat v7.3 unknown filter", "v73.mat", nil, "lzf", `v73.mat: variable "lzf": filter pipeline: filter 32000 ("lzf"), which skein does not read`},
 		{".mat v7.3 truncated chunk", "v73.mat", v73Key(0, chunk0.Size-20), "bigstack", `v73.mat: variable "bigstack": HDF5 at byte`},
 		{".mat v7.3 truncated chunk says so", "v73.mat", v73Key(0, chunk0.Size-20), "bigstack", `chunk at [0 0 0]: deflate: unexpected EOF`},
+		{".mat v7.3 layout version 4", "v73.mat", layout4, "bigseries", `v73.mat: variable "bigseries": is stored in chunks indexed by a structure of data layout message version 4`},
 		{".mat v7.3 filter mask", "v73.mat", v73Key(4, 2), "bigstack", fmt.Sprintf("chunk at [0 0 0]: decodes to %d bytes; a chunk holds 192", chunk0.Size)},
 		{".mat v7.3 char variable", "v73.mat", nil, "label", `v73.mat: variable "label": is of MATLAB class "char"`},
 		{".mat v7.3 struct", "v73.mat", nil, "info", `v73.mat: variable "info": is of MATLAB class "struct"`},
