@@ -7,7 +7,7 @@
 # the generator's oracle r. See bench/cmd/scenarios and bench/scenario.
 #
 # usage: bench/scenarios.sh [flags of scenarios]   (from anywhere)
-#   bench/scenarios.sh -quick                       smoke run, < 1 minute
+#   bench/scenarios.sh -quick                       smoke run, about 2 minutes of CPU
 #   bench/scenarios.sh -n 300 -p 60 -baselines-only
 #   bench/scenarios.sh -n 300 -p 60 -models examples/networks.toml
 set -euo pipefail
