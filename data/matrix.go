@@ -43,28 +43,7 @@ func parseMatrixText(path string, raw []byte) (*textMatrix, error) {
 // header row need not agree (a series' rows are time points, its columns
 // regions) and the labels returned are the header's.
 func parseText(path string, raw []byte, square bool) (*textMatrix, error) {
-	raw = bytes.TrimPrefix(raw, []byte("\ufeff"))
-	var rows [][]string
-	var lines []int
-	var split func(string) []string
-	for i, line := range strings.Split(string(raw), "\n") {
-		line = strings.TrimSuffix(line, "\r")
-		if strings.TrimSpace(line) == "" {
-			continue
-		}
-		if split == nil {
-			switch {
-			case strings.Contains(line, "\t"):
-				split = splitOn("\t")
-			case strings.Contains(line, ","):
-				split = splitOn(",")
-			default:
-				split = strings.Fields
-			}
-		}
-		rows = append(rows, split(line))
-		lines = append(lines, i+1)
-	}
+	rows, lines := splitRows(raw)
 	if len(rows) == 0 {
 		return nil, &FileError{Path: path, Err: errors.New("file is empty; expected rows of numbers")}
 	}
@@ -180,4 +159,32 @@ func unquote(s string) string {
 		return s[1 : len(s)-1]
 	}
 	return s
+}
+
+// splitRows splits delimited text into the cells of its non-blank lines,
+// with each row's line number (from 1). A leading byte-order mark is
+// dropped; the delimiter is the first non-blank line's: a tab, else a
+// comma, else white space.
+func splitRows(raw []byte) (rows [][]string, lines []int) {
+	raw = bytes.TrimPrefix(raw, []byte("\ufeff"))
+	var split func(string) []string
+	for i, line := range strings.Split(string(raw), "\n") {
+		line = strings.TrimSuffix(line, "\r")
+		if strings.TrimSpace(line) == "" {
+			continue
+		}
+		if split == nil {
+			switch {
+			case strings.Contains(line, "\t"):
+				split = splitOn("\t")
+			case strings.Contains(line, ","):
+				split = splitOn(",")
+			default:
+				split = strings.Fields
+			}
+		}
+		rows = append(rows, split(line))
+		lines = append(lines, i+1)
+	}
+	return rows, lines
 }

@@ -1,7 +1,6 @@
 package data
 
 import (
-	"bytes"
 	"errors"
 	"fmt"
 	"math"
@@ -23,28 +22,7 @@ import (
 // that is not a number or not finite is an error naming its line and
 // column.
 func parseSeriesText(path string, raw []byte) (*mat.Dense, []string, error) {
-	raw = bytes.TrimPrefix(raw, []byte("\ufeff"))
-	var rows [][]string
-	var lines []int
-	var split func(string) []string
-	for i, line := range strings.Split(string(raw), "\n") {
-		line = strings.TrimSuffix(line, "\r")
-		if strings.TrimSpace(line) == "" {
-			continue
-		}
-		if split == nil {
-			switch {
-			case strings.Contains(line, "\t"):
-				split = splitOn("\t")
-			case strings.Contains(line, ","):
-				split = splitOn(",")
-			default:
-				split = strings.Fields
-			}
-		}
-		rows = append(rows, split(line))
-		lines = append(lines, i+1)
-	}
+	rows, lines := splitRows(raw)
 	if len(rows) == 0 {
 		return nil, nil, &FileError{Path: path, Err: errors.New("file is empty; expected a row of numbers per time point")}
 	}
