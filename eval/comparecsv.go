@@ -2,12 +2,10 @@ package eval
 
 import (
 	"encoding/csv"
-	"errors"
 	"fmt"
 	"io"
 	"math"
 	"strconv"
-	"strings"
 
 	"github.com/skein-neuro/skein/data"
 )
@@ -82,21 +80,9 @@ func cell(x float64) string {
 // and column.
 func ReadComparisonCSV(r io.Reader, name string) ([]Comparison, error) {
 	cr := csv.NewReader(r)
-	header, err := cr.Read()
-	if err == io.EOF {
-		return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row")}
-	}
+	col, err := readHeader(cr, name, comparisonColumns)
 	if err != nil {
-		return nil, csvError(name, err)
-	}
-	col := make(map[string]int)
-	for c, h := range header {
-		col[h] = c
-	}
-	for _, need := range comparisonColumns {
-		if _, ok := col[need]; !ok {
-			return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("no %q column (found %s)", need, strings.Join(header, ","))}
-		}
+		return nil, err
 	}
 	var out []Comparison
 	for {

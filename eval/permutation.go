@@ -2,12 +2,10 @@ package eval
 
 import (
 	"encoding/csv"
-	"errors"
 	"fmt"
 	"io"
 	"math"
 	"strconv"
-	"strings"
 
 	"github.com/skein-neuro/skein/data"
 )
@@ -61,21 +59,9 @@ func WriteNullCSV(out io.Writer, nulls []NullDistribution) error {
 // order is a *data.FileError naming name, the line and the column.
 func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, error) {
 	cr := csv.NewReader(r)
-	header, err := cr.Read()
-	if err == io.EOF {
-		return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row")}
-	}
+	col, err := readHeader(cr, name, []string{"model", "target", "permutation"})
 	if err != nil {
-		return nil, csvError(name, err)
-	}
-	col := make(map[string]int)
-	for c, h := range header {
-		col[h] = c
-	}
-	for _, need := range []string{"model", "target", "permutation"} {
-		if _, ok := col[need]; !ok {
-			return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("no %q column (found %s)", need, strings.Join(header, ","))}
-		}
+		return nil, err
 	}
 	var out []NullDistribution
 	index := make(map[[2]string]int)

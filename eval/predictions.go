@@ -224,6 +224,29 @@ func parseValue(s string) (float64, error) {
 	return v, nil
 }
 
+// readHeader reads the header row of the CSV file name from cr and returns
+// each column's index by name. An empty file, or a header without one of
+// the columns need, is an error naming the file and line 1.
+func readHeader(cr *csv.Reader, name string, need []string) (map[string]int, error) {
+	header, err := cr.Read()
+	if err == io.EOF {
+		return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row")}
+	}
+	if err != nil {
+		return nil, csvError(name, err)
+	}
+	col := make(map[string]int, len(header))
+	for c, h := range header {
+		col[h] = c
+	}
+	for _, n := range need {
+		if _, ok := col[n]; !ok {
+			return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("no %q column (found %s)", n, strings.Join(header, ","))}
+		}
+	}
+	return col, nil
+}
+
 func csvError(name string, err error) error {
 	var pe *csv.ParseError
 	if errors.As(err, &pe) {
