@@ -375,17 +375,6 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	if err := prep.Fit(subCohort(cohort, split.Train)); err != nil {
 		return nil, err
 	}
-	var edges *EdgeScaler
-	if f, s := exp.edgeScaling(); f || s {
-		edges = &EdgeScaler{Functional: f, Structural: s}
-		trainCohort, err := prep.Apply(subCohort(cohort, split.Train))
-		if err != nil {
-			return nil, err
-		}
-		if err := edges.Fit(trainCohort); err != nil {
-			return nil, fmt.Errorf("%s: %w", edges.Name(), err)
-		}
-	}
 	seed := unitSeed(exp.Seed, "inner", split.Repeat, split.Fold)
 	fitIdx, validIdx := InnerValidation(split.Train, Groups(cohort), exp.CV.innerCount(), exp.CV.innerFraction(), seed)
 	fit, err := prep.Apply(subCohort(cohort, fitIdx))
@@ -395,6 +384,13 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	valid, err := prep.Apply(subCohort(cohort, validIdx))
 	if err != nil {
 		return nil, err
+	}
+	var edges *EdgeScaler
+	if f, s := exp.edgeScaling(); f || s {
+		edges = &EdgeScaler{Functional: f, Structural: s}
+		if err := edges.Fit(preparedTrain(cohort, split.Train, fitIdx, fit, validIdx, valid)); err != nil {
+			return nil, fmt.Errorf("%s: %w", edges.Name(), err)
+		}
 	}
 	test, err := prep.Apply(subCohort(cohort, split.Test))
 	if err != nil {
@@ -738,4 +734,24 @@ func scoresAndConfounds(cv CV, c *data.Cohort) (y, cov *mat.Dense, err error) {
 		}
 	}
 	return y, cov, nil
+}
+
+// preparedTrain returns the training participants train of cohort, in
+// that order, as the fold's preparation left them: the participants of
+// fit (cohort indices fitIdx) and of valid (validIdx), which together are
+// train, so that no step is applied to them twice.
+func preparedTrain(cohort *data.Cohort, train, fitIdx []int, fit *data.Cohort, validIdx []int, valid *data.Cohort) *data.Cohort {
+	prepared := make(map[int]*data.Participant, len(train))
+	for k, i := range fitIdx {
+		prepared[i] = fit.Participants[k]
+	}
+	for k, i := range validIdx {
+		prepared[i] = valid.Participants[k]
+	}
+	out := subCohort(cohort, train)
+	out.Participants = make([]*data.Participant, len(train))
+	for k, i := range train {
+		out.Participants[k] = prepared[i]
+	}
+	return out
 }
