@@ -25,6 +25,9 @@ type Participant struct {
 	// Covariates holds one value per Cohort.Covariates entry, NaN where
 	// missing. Text covariates such as sex are coded as numbers.
 	Covariates []float64
+	// Labels holds one class per Cohort.Labels entry: an index into that
+	// label's Cohort.Classes, or −1 where the label is missing.
+	Labels []int
 }
 
 // Exclusion records a participant left out of the cohort and why.
@@ -41,6 +44,14 @@ type Cohort struct {
 	Targets []string
 	// Covariates names the covariates, in the order of Participant.Covariates.
 	Covariates []string
+	// Labels names the categorical targets (class labels such as a
+	// diagnosis), in the order of Participant.Labels.
+	Labels []string
+	// Classes holds, for each entry of Labels, the names of its classes
+	// (at least two) in their order: a participant's class k is
+	// Classes[l][k]. For a binary label the class at index 1 is the
+	// positive class that sensitivity and the ROC curve are about.
+	Classes [][]string
 	// Regions holds the p region labels, in matrix order.
 	Regions []string
 	// SiteColumn names the participants table's site column (cohort.site)

@@ -34,7 +34,17 @@ type Kind struct {
 	// filled and Validate accepted; seed drives everything random in it.
 	// The settings are the kind's table as decoded from the experiment
 	// file; New returns an error when they are of another kind.
+	// New is nil for a kind that only classifies (NewClassifier).
 	New func(s Settings, p, targets int, seed int64) (Regressor, error)
+	// NewClassifier builds an untrained Classifier for p regions and a
+	// label of classes ≥ 2 classes from the kind's settings, as New does
+	// for scores; nil for a kind that does not classify. A kind sets New,
+	// NewClassifier or both: an experiment fits each model to the targets
+	// its kind can learn (scores with New, labels with NewClassifier).
+	NewClassifier func(s Settings, p, classes int, seed int64) (Classifier, error)
+	// LoadClassifier reads a Classifier saved by its Save from the folder
+	// dir; nil when the kind's classifiers are not saved.
+	LoadClassifier func(dir string) (Classifier, error)
 	// Load reads a regressor saved by its Save (Saver) from the folder
 	// dir; nil when the kind's regressors are not saved. When Load is set,
 	// every regressor New returns is a Saver.
@@ -132,16 +142,16 @@ var (
 // Register makes a kind available under k.Name. It is meant to be called
 // from the init function of the package that implements the kind. It
 // panics if k.Name is empty or not made of lower-case letters, digits and
-// underscores, if k.New is nil, or if a kind of that name is already
-// registered.
+// underscores, if both k.New and k.NewClassifier are nil, or if a kind of
+// that name is already registered.
 func Register(k Kind) {
 	if k.Name == "" || strings.TrimFunc(k.Name, func(r rune) bool {
 		return r >= 'a' && r <= 'z' || r >= '0' && r <= '9' || r == '_'
 	}) != "" {
 		panic(fmt.Sprintf("model: Register: invalid kind name %q", k.Name))
 	}
-	if k.New == nil {
-		panic("model: Register: kind " + k.Name + " has no New")
+	if k.New == nil && k.NewClassifier == nil {
+		panic("model: Register: kind " + k.Name + " has neither New nor NewClassifier")
 	}
 	registryMu.Lock()
 	defer registryMu.Unlock()
