@@ -448,14 +448,15 @@ type CalibrationBin struct {
 // bins lie on the diagonal. Empty bins are omitted, so fewer than bins
 // may be returned, in increasing order.
 //
-// Bin i has edges Low = i/bins and High = (i+1)/bins and holds the p with
-// Low < p ≤ High; the first bin also holds p = 0. A probability on an
-// inner edge thus goes to the lower bin, as in scikit-learn's
-// calibration_curve with strategy="uniform" (whose edges are those of
-// numpy's linspace, equal to i/bins up to rounding). A probability below 0
-// or above 1 (rounding of a model's output) goes to the first or last bin
-// and counts in its mean as it is. Pairs whose p is NaN are skipped. bins
-// must be at least 1, and positive and p of equal lengths.
+// The edges are those of numpy's linspace(0, 1, bins+1), eᵢ = i·(1/bins)
+// for 0 < i < bins, e₀ = 0 and e_bins = 1 (i/bins up to rounding). Bin i
+// holds the p with eᵢ < p ≤ eᵢ₊₁, the first bin also p = 0, so a
+// probability on an inner edge goes to the lower bin: the bins of
+// scikit-learn's calibration_curve with strategy="uniform". A probability
+// below 0 or above 1 (rounding of a model's output) goes to the first or
+// last bin and counts in its mean as it is (scikit-learn rejects it). Pairs
+// whose p is NaN are skipped. bins must be at least 1, and positive and p
+// of equal lengths.
 func Calibration(positive []bool, p []float64, bins int) []CalibrationBin {
 	if len(positive) != len(p) {
 		panic(fmt.Sprintf("eval: %d classes but %d probabilities", len(positive), len(p)))
@@ -463,6 +464,13 @@ func Calibration(positive []bool, p []float64, bins int) []CalibrationBin {
 	if bins < 1 {
 		panic(fmt.Sprintf("eval: %d calibration bins", bins))
 	}
+	width := 1 / float64(bins)
+	edges := make([]float64, bins+1)
+	for i := range bins {
+		edges[i] = float64(i) * width
+	}
+	edges[bins] = 1
+	inner := edges[1:bins]
 	sums := make([]float64, bins)
 	hits := make([]int, bins)
 	counts := make([]int, bins)
@@ -470,16 +478,8 @@ func Calibration(positive []bool, p []float64, bins int) []CalibrationBin {
 		if math.IsNaN(v) {
 			continue
 		}
-		// The smallest b with v ≤ (b+1)/bins.
-		b := int(math.Ceil(v*float64(bins))) - 1
-		b = min(max(b, 0), bins-1)
-		// v·bins may round across an edge; place v by the edges themselves.
-		for b > 0 && v <= float64(b)/float64(bins) {
-			b--
-		}
-		for b < bins-1 && v > float64(b+1)/float64(bins) {
-			b++
-		}
+		// The first inner edge at or above v: numpy's searchsorted.
+		b := sort.SearchFloat64s(inner, v)
 		sums[b] += v
 		counts[b]++
 		if positive[i] {
@@ -492,8 +492,8 @@ func Calibration(positive []bool, p []float64, bins int) []CalibrationBin {
 			continue
 		}
 		out = append(out, CalibrationBin{
-			Low:           float64(b) / float64(bins),
-			High:          float64(b+1) / float64(bins),
+			Low:           edges[b],
+			High:          edges[b+1],
 			MeanPredicted: sums[b] / float64(c),
 			ObservedRate:  float64(hits[b]) / float64(c),
 			Count:         c,
