@@ -3,6 +3,7 @@ package eval
 import (
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"sort"
 
 	"gonum.org/v1/gonum/mat"
@@ -500,4 +501,47 @@ func Calibration(positive []bool, p []float64, bins int) []CalibrationBin {
 		})
 	}
 	return out
+}
+
+// BootstrapClassCI returns a percentile bootstrap confidence interval at
+// level (0 < level < 1) for a classification metric of the class
+// probabilities proba (n × K) of participants with the classes in labels,
+// such as
+//
+//	func(y []int, p *mat.Dense) float64 { return eval.OneVsRestAUC(y, p) }
+//
+// or a field of ScoreClasses at a threshold. ids names the participant of
+// each row (length n); the rows of one participant, such as its
+// predictions in each repeat, are resampled together, exactly as
+// BootstrapCI resamples the predictions of scores: each of resamples draws
+// as many participants as ids holds, uniformly with replacement from rng,
+// and metric is computed on all rows of the drawn participants. An empty id
+// is a participant of its own. Estimate is metric of all rows; the bounds
+// are the empirical (1 − level)/2 and (1 + level)/2 quantiles
+// (EmpiricalQuantile) of the resamples where metric is defined, the others
+// counted in Undefined (a resample that misses a class has no AUC).
+func BootstrapClassCI(ids []string, labels []int, proba *mat.Dense, metric func(labels []int, proba *mat.Dense) float64,
+	resamples int, level float64, rng *rand.Rand) Interval {
+	if resamples < 1 {
+		panic(fmt.Sprintf("eval: %d bootstrap resamples", resamples))
+	}
+	if !(level > 0 && level < 1) {
+		panic(fmt.Sprintf("eval: confidence level %v outside (0, 1)", level))
+	}
+	n, k := proba.Dims()
+	if len(ids) != n || len(labels) != n {
+		panic(fmt.Sprintf("eval: %d participant ids and %d labels for %d rows of probabilities", len(ids), len(labels), n))
+	}
+	return bootstrapParticipants(ids, resamples, level, rng, func(idx []int) float64 {
+		if idx == nil {
+			return metric(labels, proba)
+		}
+		y := make([]int, len(idx))
+		p := mat.NewDense(len(idx), k, nil)
+		for j, i := range idx {
+			y[j] = labels[i]
+			p.SetRow(j, proba.RawRowView(i))
+		}
+		return metric(y, p)
+	})
 }

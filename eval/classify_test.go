@@ -2,9 +2,12 @@ package eval
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -315,5 +318,112 @@ func TestClassMetricsPanics(t *testing.T) {
 			}()
 			tt.f()
 		}()
+	}
+}
+
+// Hanley & McNeil (1982, Radiology 143:29, their equations 1–3) give the
+// standard error of an AUC A from n₊ positives and n₋ negatives,
+//
+//	SE² = (A(1 − A) + (n₊ − 1)(Q₁ − A²) + (n₋ − 1)(Q₂ − A²)) / (n₊ n₋),
+//	Q₁ = A/(2 − A), Q₂ = 2A²/(1 + A),
+//
+// so the 95% percentile interval of a large sample spans about 2·1.96·SE.
+func TestBootstrapClassCIAUCWidth(t *testing.T) {
+	src := rand.New(rand.NewPCG(7, 8))
+	const n = 300
+	ids := make([]string, n)
+	labels := make([]int, n)
+	proba := mat.NewDense(n, 2, nil)
+	for i := range n {
+		ids[i] = fmt.Sprintf("sub-%03d", i)
+		labels[i] = i % 2
+		p1 := 1 / (1 + math.Exp(-(float64(labels[i]) - 0.5 + src.NormFloat64())))
+		proba.SetRow(i, []float64{1 - p1, p1})
+	}
+	auc := func(y []int, p *mat.Dense) float64 { return OneVsRestAUC(y, p) }
+	iv := BootstrapClassCI(ids, labels, proba, auc, 1000, 0.95, rand.New(rand.NewPCG(9, 10)))
+	a := iv.Estimate
+	if a != OneVsRestAUC(labels, proba) {
+		t.Errorf("estimate %v is not the AUC of the rows", a)
+	}
+	q1, q2 := a/(2-a), 2*a*a/(1+a)
+	const half = n / 2
+	se := math.Sqrt((a*(1-a) + (half-1)*(q1-a*a) + (half-1)*(q2-a*a)) / (half * half))
+	if !(iv.Lower < a && a < iv.Upper) || iv.Undefined != 0 {
+		t.Fatalf("interval %+v", iv)
+	}
+	if width, want := iv.Upper-iv.Lower, 2*1.96*se; math.Abs(width-want) > 0.15*want {
+		t.Errorf("95%% interval width %.4f, want about %.4f (Hanley & McNeil)", width, want)
+	}
+}
+
+// BootstrapClassCI draws participants as BootstrapCI does: with the same
+// stream, the interval of mean |y − p₁| equals BootstrapCI's MAE interval of
+// the same numbers; and the two identical repeats of each participant stay
+// together, so doubling every row leaves the AUC interval as it was.
+func TestBootstrapClassCIResamplesParticipants(t *testing.T) {
+	src := rand.New(rand.NewPCG(11, 12))
+	const n = 40
+	var ids, ids2 []string
+	var labels, labels2 []int
+	var p1s []float64
+	var rows []Prediction
+	for i := range n {
+		id := fmt.Sprintf("sub-%02d", i)
+		y := i % 2
+		if i%7 == 0 {
+			y = 1 - y
+		}
+		p1 := math.Min(1, math.Max(0, 0.3+0.4*float64(y)+0.25*src.NormFloat64()))
+		ids, labels, p1s = append(ids, id), append(labels, y), append(p1s, p1)
+		rows = append(rows, Prediction{ParticipantID: id, Model: "m", Target: "dx", Observed: float64(y), Predicted: p1})
+	}
+	for repeat := 0; repeat < 2; repeat++ {
+		ids2 = append(ids2, ids...)
+		labels2 = append(labels2, labels...)
+	}
+	dense := func(p1 []float64) *mat.Dense {
+		m := mat.NewDense(len(p1), 2, nil)
+		for i, p := range p1 {
+			m.SetRow(i, []float64{1 - p, p})
+		}
+		return m
+	}
+	proba, proba2 := dense(p1s), dense(append(slices.Clone(p1s), p1s...))
+
+	meanAbs := func(y []int, p *mat.Dense) float64 {
+		obs := make([]float64, len(y))
+		for i, c := range y {
+			obs[i] = float64(c)
+		}
+		return MAE(obs, mat.Col(nil, 1, p))
+	}
+	got := BootstrapClassCI(ids, labels, proba, meanAbs, 500, 0.9, rand.New(rand.NewPCG(1, 1)))
+	want, err := BootstrapCI(rows, MetricMAE, 0, 500, 0.9, rand.New(rand.NewPCG(1, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got != want {
+		t.Errorf("class bootstrap %+v, score bootstrap %+v", got, want)
+	}
+
+	auc := func(y []int, p *mat.Dense) float64 { return ROCAUC(positiveClass(y), mat.Col(nil, 1, p)) }
+	one := BootstrapClassCI(ids, labels, proba, auc, 500, 0.95, rand.New(rand.NewPCG(2, 2)))
+	two := BootstrapClassCI(ids2, labels2, proba2, auc, 500, 0.95, rand.New(rand.NewPCG(2, 2)))
+	if one != two {
+		t.Errorf("one repeat %+v, two identical repeats %+v", one, two)
+	}
+}
+
+// A resample that draws no positive has no AUC: it is counted, not used.
+func TestBootstrapClassCIUndefined(t *testing.T) {
+	labels := []int{0, 0, 0, 0, 1}
+	proba := mat.NewDense(5, 2, []float64{0.9, 0.1, 0.8, 0.2, 0.7, 0.3, 0.6, 0.4, 0.2, 0.8})
+	ids := []string{"a", "b", "c", "d", "e"}
+	auc := func(y []int, p *mat.Dense) float64 { return OneVsRestAUC(y, p) }
+	iv := BootstrapClassCI(ids, labels, proba, auc, 200, 0.95, rand.New(rand.NewPCG(3, 3)))
+	// P(no positive among 5 draws) = (4/5)⁵ ≈ 0.33, so about 66 of 200.
+	if iv.Undefined < 30 || iv.Undefined > 110 || iv.Estimate != 1 || iv.Lower != 1 || iv.Upper != 1 {
+		t.Errorf("interval %+v", iv)
 	}
 }

@@ -17,7 +17,8 @@
 // classes, OneVsRestAUC) and the ROC curve (ROCCurve), balanced accuracy and
 // accuracy, log loss, the Brier score, sensitivity and specificity at a
 // threshold (ScoreClasses, PredictedClasses), confusion matrices (Confusion)
-// and reliability curves (Calibration).
+// and reliability curves (Calibration), and bootstrap intervals of any of
+// them over participants (BootstrapClassCI).
 //
 // Pooled Pearson r of cross-validated predictions is biased downwards by
 // the folds' training means; r within folds is not. Binning keeps tied
