@@ -674,6 +674,12 @@ func (c Config) EdgeScaling() (functional, structural bool) {
 // threshold without a Huber term, head_dropout without a hidden head
 // layer, a branch's operator and propagate where it needs none, and each
 // layer's keys that its kind does not take.
+//
+// It does not list the keys that only scores or only labels read
+// (ScoreOnlyKeys, LabelOnlyKeys): one [model.network] table serves both in
+// a mixed experiment, so whether they apply depends on the experiment's
+// targets, not on c. An experiment without labels may leave out
+// LabelOnlyKeys too, and one without scores ScoreOnlyKeys.
 func (c Config) InapplicableKeys() []string {
 	var out []string
 	if len(c.Head) == 0 {
@@ -723,6 +729,18 @@ func (c Config) InapplicableKeys() []string {
 	}
 	return out
 }
+
+// ScoreOnlyKeys returns the keys of c that only a network fitted to scores
+// reads, as InapplicableKeys writes them: those of [model.network.loss]. A
+// network fitted to a label (Classifier) minimizes the cross-entropy; it
+// still validates them, and refuses none.
+func (c Config) ScoreOnlyKeys() []string {
+	return []string{"loss.abs", "loss.squared", "loss.huber", "loss.delta"}
+}
+
+// LabelOnlyKeys returns the keys of c that only a network fitted to a
+// label reads, as InapplicableKeys writes them: class_weight.
+func (c Config) LabelOnlyKeys() []string { return []string{"class_weight"} }
 
 // Inputs reports which connectomes the network learns from: functional
 // when a branch reads the functional matrix or its propagation, structural

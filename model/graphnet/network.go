@@ -353,7 +353,9 @@ func (n *Network) forEachBatch(set *prepared, f func(g *graph, idx []int)) error
 }
 
 // Predict returns the len(ps) × T predictions of the network, without
-// dropout, on the scale of the Y it was fitted on.
+// dropout, on the scale of the Y it was fitted on. For a network of a
+// Classifier they are the K logits, whose softmax gives the class
+// probabilities (Classifier.PredictProba).
 func (n *Network) Predict(ps []*data.Participant) (*mat.Dense, error) {
 	if len(ps) == 0 {
 		return nil, fmt.Errorf("graphnet: Predict: no participants")
