@@ -139,4 +139,3 @@ func ExampleClassifier() {
 	// probabilities: 30 × 2
 	// held-out accuracy above 0.7: true
 }
-
