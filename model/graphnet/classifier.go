@@ -43,9 +43,9 @@ import (
 // With K_e = 1 it trains one network on the training set and stops it on
 // the validation set.
 //
-// A Classifier is also a model.Iterative's OnEpoch and History (without
-// Fit and Predict of scores) and saves itself with Save. It is not safe
-// for concurrent use.
+// Like a model.Iterative, a Classifier reports its epochs (OnEpoch,
+// History); Save writes it and LoadClassifier reads it back. It has no
+// edge importance. It is not safe for concurrent use.
 type Classifier struct {
 	cfg     Config
 	p       int
