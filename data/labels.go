@@ -142,8 +142,8 @@ func LabelCautions(c *Cohort) []string {
 			continue
 		}
 		if share := float64(counts[top]) / float64(total); share > MajorityCaution {
-			out = append(out, fmt.Sprintf("label %q: class %q holds %d of %d participants (%.0f%%, above %.0f%%); predicting it for everyone scores an accuracy of %.2f, so read balanced accuracy and the ROC AUC (class_weight = \"balanced\" weighs the classes)",
-				name, c.Classes[k][top], counts[top], total, 100*share, 100*MajorityCaution, share))
+			out = append(out, fmt.Sprintf("Imbalanced classes: class %q of label %q holds %d of the %d participants with a known value (%.0f%%, above %.0f%%). Predicting it for everyone scores an accuracy of %.2f, so read balanced accuracy and the ROC AUC; class_weight = \"balanced\" weighs the classes in training.",
+				c.Classes[k][top], name, counts[top], total, 100*share, 100*MajorityCaution, share))
 		}
 	}
 	return out

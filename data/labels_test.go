@@ -149,7 +149,7 @@ func TestLabelReport(t *testing.T) {
 	}
 	for _, want := range []string{
 		`dx: "control" = 0: 9, "patient" = 1: 1; missing 1 (positive class "patient")`,
-		`caution: label "dx": class "control" holds 9 of 10 participants (90%, above 80%)`,
+		`caution: Imbalanced classes: class "control" of label "dx" holds 9 of the 10 participants with a known value (90%, above 80%).`,
 	} {
 		if !strings.Contains(b.String(), want) {
 			t.Errorf("report lacks %q:\n%s", want, b.String())

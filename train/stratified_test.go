@@ -230,3 +230,26 @@ func TestCheckClassesAgainstFolds(t *testing.T) {
 		}
 	}
 }
+
+// TestDesignCheckClasses: Design.Check reports a class too small for the
+// folds among its other findings.
+func TestDesignCheckClasses(t *testing.T) {
+	c := toyCohort(20, 5, 1, false)
+	c.Labels, c.Classes = []string{"dx"}, [][]string{{"a", "b"}}
+	for i, p := range c.Participants {
+		p.Labels = []int{0}
+		if i < 3 {
+			p.Labels[0] = 1
+		}
+	}
+	d := toyDesign(ridgeAndMean()[:1]...)
+	d.CV.Folds = new(5)
+	err := d.Check(c)
+	if want := `cv.folds: 5 folds, but class "b" of label "dx" has only 3 participants`; err == nil || !contains(err.Error(), want) {
+		t.Errorf("error %v, want one holding %q", err, want)
+	}
+	d.CV.Folds = new(3)
+	if err := d.Check(c); err != nil {
+		t.Errorf("3 folds: %v", err)
+	}
+}
