@@ -70,12 +70,13 @@ type Folds struct {
 // repeat: every fold holds ⌊n_c/K⌋ or ⌈n_c/K⌉ participants of each class
 // c (and ⌊n/K⌋ or ⌈n/K⌉ in all). With Groups, the groups are shuffled,
 // ordered by the size of their rarest class (rarest first), larger groups
-// first among equals, and each goes to the fold where its classes are so
-// far least represented: the fold with the smallest Σ_c m_c·f_kc/n_c,
+// first among equals, and each goes to a fold that lacks the group's
+// rarest class if there is one, and among those to the fold where its
+// classes are so far least represented: the smallest Σ_c m_c·f_kc/n_c,
 // where m_c is the group's count of class c, f_kc the fold's and n_c the
-// cohort's, ties to the smaller fold, then at random. The first K groups
-// holding a class thus go to K different folds, so every class is in
-// every fold whenever it spans at least K groups.
+// cohort's; ties to the smaller fold, then at random. The cohort's rarest
+// class is thus in every fold whenever it spans at least K groups, and
+// the others as far as the groups allow.
 //
 // With SitesOut > 0 the splits are leave-k-sites-out instead (see
 // SitesOut); a test fold then holds every participant of its sites.
@@ -286,19 +287,22 @@ func (f Folds) dealGroupsByClass(units [][]int, order []int, rng *rand.Rand) []i
 		total[c+1]++
 	}
 	counts := make([][]int, len(units)) // per unit, per stratum
-	rarest := make([]int, len(units))   // per unit, the cohort count of its rarest stratum
+	rarest := make([]int, len(units))   // per unit, its rarest stratum
 	for u, members := range units {
 		counts[u] = make([]int, nStrata)
-		rarest[u] = len(f.Classes)
+		rarest[u] = stratum(members[0])
 		for _, i := range members {
-			counts[u][stratum(i)]++
-			rarest[u] = min(rarest[u], total[stratum(i)])
+			s := stratum(i)
+			counts[u][s]++
+			if total[s] < total[rarest[u]] || total[s] == total[rarest[u]] && s < rarest[u] {
+				rarest[u] = s
+			}
 		}
 	}
 	sort.SliceStable(order, func(a, b int) bool {
 		ua, ub := order[a], order[b]
-		if rarest[ua] != rarest[ub] {
-			return rarest[ua] < rarest[ub]
+		if ta, tb := total[rarest[ua]], total[rarest[ub]]; ta != tb {
+			return ta < tb
 		}
 		return len(units[ua]) > len(units[ub])
 	})
@@ -310,17 +314,25 @@ func (f Folds) dealGroupsByClass(units [][]int, order []int, rng *rand.Rand) []i
 	size := make([]int, f.K)
 	fold := make([]int, len(units))
 	for _, u := range order {
-		best, bestCost := -1, math.Inf(1)
+		best, bestHas, bestCost := -1, false, math.Inf(1)
 		for _, k := range tieBreak {
+			has := inFold[k][rarest[u]] > 0
 			var cost float64
 			for s, m := range counts[u] {
 				if m > 0 {
 					cost += float64(m) * float64(inFold[k][s]) / float64(total[s])
 				}
 			}
-			if best < 0 || cost < bestCost-1e-12 || math.Abs(cost-bestCost) <= 1e-12 && size[k] < size[best] {
-				best, bestCost = k, cost
+			switch {
+			case best < 0, bestHas && !has:
+			case has && !bestHas:
+				continue
+			case cost < bestCost-1e-12:
+			case math.Abs(cost-bestCost) <= 1e-12 && size[k] < size[best]:
+			default:
+				continue
 			}
+			best, bestHas, bestCost = k, has, cost
 		}
 		fold[u] = best
 		size[best] += len(units[u])

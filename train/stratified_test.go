@@ -253,3 +253,36 @@ func TestDesignCheckClasses(t *testing.T) {
 		t.Errorf("3 folds: %v", err)
 	}
 }
+
+// TestRareClassInEveryFold: a class held by one member each of exactly K
+// families, which also hold the common class, is in every test fold.
+func TestRareClassInEveryFold(t *testing.T) {
+	const k = 4
+	var classes []int
+	var families []string
+	for f := range 12 {
+		for m := range 3 {
+			class := 0
+			if f%3 == 0 && m == 1 { // families 0, 3, 6, 9
+				class = 1
+			}
+			classes = append(classes, class)
+			families = append(families, fmt.Sprintf("fam%02d", f))
+		}
+	}
+	for seed := uint64(0); seed < 10; seed++ {
+		splits, err := Folds{K: k, Repeats: 2, Seed: seed, Classes: classes, Groups: families}.Splits(len(classes))
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, s := range splits {
+			rare := 0
+			for _, i := range s.Test {
+				rare += classes[i]
+			}
+			if rare != 1 {
+				t.Errorf("seed %d repeat %d fold %d: %d of the rare class, want 1", seed, s.Repeat, s.Fold, rare)
+			}
+		}
+	}
+}
