@@ -34,8 +34,10 @@ import (
 // in the parametrisation it uses (binary for two classes, multinomial for
 // more; the softmax model with two classes would be the binary model with
 // half the penalty). The penalty makes the softmax weights sum to zero
-// over the classes; the intercepts are determined up to a common shift,
-// which changes no probability.
+// over the classes; the intercepts are determined only up to a common
+// shift, which changes no probability, and the fit (started from zero, its
+// steps made of gradients, whose intercept parts sum to zero) returns
+// them summing to zero.
 //
 // C is chosen from the cs grid by inner k-fold cross-validation over the
 // training participants, folds stratified by class (and families kept

@@ -177,6 +177,9 @@ func TestLogisticAgainstScikitLearn(t *testing.T) {
 			}
 			gotB := l.Intercept()
 			if m > 1 {
+				if sum := floats.Sum(gotB); math.Abs(sum) > 1e-10 {
+					t.Errorf("softmax intercepts %v sum to %v, want 0", gotB, sum)
+				}
 				gotB, wantB = centred(gotB), centred(wantB)
 			}
 			dp := elementMax(proba, denseOf(tc.Proba))
