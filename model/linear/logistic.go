@@ -93,6 +93,10 @@ func (l *Logistic) Fit(ctx context.Context, train, valid model.LabelledSet) erro
 		return err
 	}
 	zscore := l.cfg.Standardize == StandardizeZScore
+	all := seq(len(ps))
+	if fitScaler(x, all, zscore).spread == 0 {
+		return fmt.Errorf("%s: every %s edge is constant over the training participants", key, l.cfg.Input)
+	}
 	solver := solverSettings{maxIter: *l.cfg.MaxIter, tol: *l.cfg.Tol}
 	lambdas := make([]float64, len(l.cfg.Cs))
 	for j, c := range l.cfg.Cs {
@@ -118,13 +122,9 @@ func (l *Logistic) Fit(ctx context.Context, train, valid model.LabelledSet) erro
 	if err := ctx.Err(); err != nil {
 		return err
 	}
-	all := seq(len(ps))
 	z, _, sc, toWeights, err := edgeDesign(&blocks, x, all, nil, zscore)
 	if err != nil {
 		return err
-	}
-	if sc.spread == 0 {
-		return fmt.Errorf("%s: every %s edge is constant over the training participants", key, l.cfg.Input)
 	}
 	lp := logitProblem{z: z, labels: labels, weights: classWeights(labels, l.classes, l.cfg.ClassWeight),
 		classes: l.classes, lambda: lambdas[best]}
