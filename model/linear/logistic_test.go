@@ -507,12 +507,9 @@ func TestStratifiedFolds(t *testing.T) {
 	labels := []int{0, 0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 2, 2, 2, 2, 2, 2, 2, 2, 2, 2, 2}
 	ps := edgeParticipants(make2(len(labels)))
 	for _, grouped := range []bool{false, true} {
-		if grouped {
-			for i, p := range ps {
-				p.Group = ""
-				if i%4 == 0 && i+1 < len(ps) {
-					p.Group, ps[i+1].Group = fmt.Sprint("family", i), fmt.Sprint("family", i)
-				}
+		if grouped { // pairs (0, 1), (4, 5), … are families
+			for i := 0; i+1 < len(ps); i += 4 {
+				ps[i].Group, ps[i+1].Group = fmt.Sprint("family", i), fmt.Sprint("family", i)
 			}
 		}
 		foldOf, err := stratifiedFolds(ps, labels, 3, 3, 9, "model.logistic.inner_folds")
