@@ -12,6 +12,14 @@
 // (ChooseReference, Compare). The metrics are usable alone, on predictions
 // made anywhere (ReadPredictions, Summary.WriteText).
 //
+// For a categorical target (a class label such as a diagnosis), eval scores
+// predicted class probabilities: ROC AUC (ROCAUC, one-vs-rest for more
+// classes, OneVsRestAUC) and the ROC curve (ROCCurve), balanced accuracy and
+// accuracy, log loss, the Brier score, sensitivity and specificity at a
+// threshold (ScoreClasses, PredictedClasses), confusion matrices (Confusion)
+// and reliability curves (Calibration), and bootstrap intervals of any of
+// them over participants (BootstrapClassCI).
+//
 // Pooled Pearson r of cross-validated predictions is biased downwards by
 // the folds' training means; r within folds is not. Binning keeps tied
 // values together (EqualFrequencyBins), so NMI and AMI do not depend on

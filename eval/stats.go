@@ -152,20 +152,38 @@ func BootstrapCI(rows []Prediction, m Metric, bins, resamples int, level float64
 		}
 		ids[i] = p.ParticipantID
 	}
-	units := data.GroupIndices(ids)
-
-	iv := Interval{Estimate: metricOfRows(rows, m, bins), Level: level, Resamples: resamples}
-
-	stats := make([]float64, 0, resamples)
 	resample := make([]Prediction, 0, len(rows))
-	for range resamples {
-		resample = resample[:0]
-		for range units {
-			for _, i := range units[rng.IntN(len(units))] {
-				resample = append(resample, rows[i])
-			}
+	iv := bootstrapParticipants(ids, resamples, level, rng, func(idx []int) float64 {
+		if idx == nil {
+			return metricOfRows(rows, m, bins)
 		}
-		v := metricOfRows(resample, m, bins)
+		resample = resample[:0]
+		for _, i := range idx {
+			resample = append(resample, rows[i])
+		}
+		return metricOfRows(resample, m, bins)
+	})
+	return iv, nil
+}
+
+// bootstrapParticipants returns the percentile bootstrap interval of a
+// statistic of rows that belong to the participants ids (one id per row;
+// an empty id is a participant of its own). statOf(nil) is the statistic
+// of all rows as given; statOf(idx) that of the rows idx, which lists, for
+// each of len(units) participants drawn uniformly with replacement from
+// rng, all rows of the participant in their order. The bounds are the
+// empirical quantiles of the defined resampled values.
+func bootstrapParticipants(ids []string, resamples int, level float64, rng *rand.Rand, statOf func(idx []int) float64) Interval {
+	units := data.GroupIndices(ids)
+	iv := Interval{Estimate: statOf(nil), Level: level, Resamples: resamples}
+	stats := make([]float64, 0, resamples)
+	idx := make([]int, 0, len(ids))
+	for range resamples {
+		idx = idx[:0]
+		for range units {
+			idx = append(idx, units[rng.IntN(len(units))]...)
+		}
+		v := statOf(idx)
 		if math.IsNaN(v) {
 			iv.Undefined++
 			continue
@@ -174,12 +192,12 @@ func BootstrapCI(rows []Prediction, m Metric, bins, resamples int, level float64
 	}
 	if len(stats) == 0 {
 		iv.Lower, iv.Upper = math.NaN(), math.NaN()
-		return iv, nil
+		return iv
 	}
 	sort.Float64s(stats)
 	iv.Lower = EmpiricalQuantile((1-level)/2, stats)
 	iv.Upper = EmpiricalQuantile((1+level)/2, stats)
-	return iv, nil
+	return iv
 }
 
 // metricOfRows returns m of the rows of one model and target, pooled as in
