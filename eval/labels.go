@@ -675,7 +675,7 @@ func (g ClassGroup) toJSON() classGroupJSON {
 	if len(g.Folds) > 0 {
 		out.FoldMean, out.FoldSD = &classObject{g.FoldMean}, &classObject{g.FoldSD}
 	}
-	if g.NullAUC != nil {
+	if g.NullAUC != nil || !math.IsNaN(g.PAUC) {
 		p := jsonFloat(g.PAUC)
 		out.PAUC = &p
 	}

@@ -15,6 +15,7 @@ import (
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/data/synth"
+	"github.com/skein-neuro/skein/eval"
 	"github.com/skein-neuro/skein/model"
 	"github.com/skein-neuro/skein/model/linear"
 )
@@ -268,9 +269,9 @@ func TestLabelsNoLeakage(t *testing.T) {
 	}
 }
 
-// runAccuracy cross-validates the nearest-neighbour classifier (5 folds,
-// one repeat, no inner validation part) and returns its accuracy.
-func runAccuracy(t *testing.T, c *data.Cohort, seed int64) float64 {
+// runLabels cross-validates the nearest-neighbour classifier (5 folds,
+// one repeat, no inner validation part).
+func runLabels(t *testing.T, c *data.Cohort, seed int64) *Result {
 	t.Helper()
 	noInner := 0.0
 	exp := &Design{Seed: seed, CV: CV{Folds: new(5), Repeats: new(1), InnerValidation: &noInner},
@@ -280,28 +281,91 @@ func runAccuracy(t *testing.T, c *data.Cohort, seed int64) float64 {
 	if err != nil {
 		t.Fatal(err)
 	}
-	return accuracy(res.ClassPredictions)
+	return res
 }
 
 // TestNullLabelsStayAtChance: with labels independent of the connectomes
-// the cross-validated accuracy of a classifier that reads the connectomes
-// stays near that of guessing. Guessing with the nearest neighbour's class
-// is right with probability 0.6² + 0.4² = 0.52 for classes of shares 0.6
-// and 0.4 (common practice, no source); bounds are loose on purpose.
+// the cross-validated AUC of a classifier that reads the connectomes
+// stays near 0.5, the AUC of guessing (Hanley & McNeil 1982; from
+// memory); the bounds are loose on purpose. The accuracy of the nearest
+// neighbour's class stays near 0.6² + 0.4² = 0.52 for classes of shares
+// 0.6 and 0.4 (common practice, no source).
 func TestNullLabelsStayAtChance(t *testing.T) {
-	var sum float64
+	var sumAUC, sumAcc float64
 	const seeds = 4
 	for s := range seeds {
 		c := withLabel(preprocessed(t, synth.Config{N: 120, P: 12, Seed: int64(s + 1), Null: true}), uint64(s+1))
-		acc := runAccuracy(t, c, int64(s+1))
-		t.Logf("seed %d: accuracy %.3f", s+1, acc)
-		if acc > 0.7 {
-			t.Errorf("null labels, seed %d: accuracy %.3f, want near 0.52", s+1, acc)
+		res := runLabels(t, c, int64(s+1))
+		auc, acc := pooledAUC(res.ClassPredictions), accuracy(res.ClassPredictions)
+		t.Logf("seed %d: AUC %.3f, accuracy %.3f", s+1, auc, acc)
+		if math.Abs(auc-0.5) > 0.15 {
+			t.Errorf("null labels, seed %d: AUC %.3f, want near 0.5", s+1, auc)
 		}
-		sum += acc
+		sumAUC += auc
+		sumAcc += acc
 	}
-	if mean := sum / seeds; mean > 0.62 {
+	if mean := sumAUC / seeds; math.Abs(mean-0.5) > 0.08 {
+		t.Errorf("null labels: mean AUC %.3f, want near 0.5", mean)
+	}
+	if mean := sumAcc / seeds; mean > 0.62 {
 		t.Errorf("null labels: mean accuracy %.3f, want near 0.52", mean)
+	}
+}
+
+// pooledAUC returns the AUC of the pooled class predictions (eval.ROCAUC
+// of the probability of class 1).
+func pooledAUC(cps []model.ClassPrediction) float64 {
+	positive := make([]bool, len(cps))
+	score := make([]float64, len(cps))
+	for i, cp := range cps {
+		positive[i], score[i] = cp.Observed == 1, cp.Probabilities[1]
+	}
+	return eval.ROCAUC(positive, score)
+}
+
+// TestLabelPermutationsUniform: on null cohorts, the permutation p-value of
+// the pooled AUC, labels permuted and the classifier refitted, is uniform
+// (Phipson & Smyth 2010: exact when rows are exchangeable under the null),
+// checked with the Kolmogorov–Smirnov test (reject at p < 0.01) over 40
+// cohorts of 19 permutations each. Permuted runs see the same splits as
+// the observed one and permute the labels with the scores.
+func TestLabelPermutationsUniform(t *testing.T) {
+	if testing.Short() {
+		t.Skip("-short: 40 permutation tests")
+	}
+	const cohorts, perms = 40, 19
+	var ps []float64
+	for s := range cohorts {
+		seed := int64(s + 1)
+		c := withLabel(preprocessed(t, synth.Config{N: 40, P: 8, Seed: seed, Null: true}), uint64(seed))
+		noInner := 0.0
+		exp := &Design{Seed: seed, CV: CV{Folds: new(4), Repeats: new(1), InnerValidation: &noInner},
+			Models: []ModelConfig{{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}}}}
+		exp.SetDefaults()
+		r := &Runner{Design: exp, Cohort: c, Jobs: 1, newClassifier: newNearestNeighbour}
+		res, err := r.Run(context.Background())
+		if err != nil {
+			t.Fatal(err)
+		}
+		observed := pooledAUC(res.ClassPredictions)
+		null := make([]float64, perms)
+		err = r.RunPermutations(context.Background(), Permutations(len(c.Participants), nil, BlocksAuto, perms, uint64(seed)), nil, 1,
+			func(run NullRun) error {
+				if len(run.ClassPredictions) != len(res.ClassPredictions) || run.ClassPredictions[0].Label != "diagnosis" {
+					return fmt.Errorf("permutation %d: %d class predictions of %q", run.Permutation, len(run.ClassPredictions), run.ClassPredictions[0].Label)
+				}
+				null[run.Permutation] = pooledAUC(run.ClassPredictions)
+				return nil
+			})
+		if err != nil {
+			t.Fatal(err)
+		}
+		ps = append(ps, eval.PermutationPValue(observed, null, false))
+	}
+	d, p := eval.KSUniform(ps)
+	t.Logf("KS D = %.3f, p = %.3f over %d null cohorts", d, p, cohorts)
+	if p < 0.01 {
+		t.Errorf("permutation p-values of AUC on null cohorts are not uniform: KS D = %.3f, p = %.2g", d, p)
 	}
 }
 
@@ -317,14 +381,14 @@ func TestSiblingsNeedGroupedFoldsLabels(t *testing.T) {
 	for i, p := range ungrouped.Participants { // the same classes, siblings alike
 		p.Labels = grouped.Participants[i].Labels
 	}
-	accGrouped := runAccuracy(t, grouped, 5)
-	accUngrouped := runAccuracy(t, ungrouped, 5)
-	t.Logf("accuracy: grouped %.3f, ungrouped %.3f", accGrouped, accUngrouped)
-	if accGrouped > 0.65 {
-		t.Errorf("grouped folds on a null sibling cohort: accuracy %.3f, want near chance", accGrouped)
+	aucGrouped := pooledAUC(runLabels(t, grouped, 5).ClassPredictions)
+	aucUngrouped := pooledAUC(runLabels(t, ungrouped, 5).ClassPredictions)
+	t.Logf("AUC: grouped %.3f, ungrouped %.3f", aucGrouped, aucUngrouped)
+	if aucGrouped > 0.65 {
+		t.Errorf("grouped folds on a null sibling cohort: AUC %.3f, want near 0.5", aucGrouped)
 	}
-	if accUngrouped < 0.85 {
-		t.Errorf("ungrouped folds gave accuracy %.3f: the sibling leak this test guards against did not show", accUngrouped)
+	if aucUngrouped < 0.8 {
+		t.Errorf("ungrouped folds gave AUC %.3f: the sibling leak this test guards against did not show", aucUngrouped)
 	}
 }
 
