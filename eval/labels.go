@@ -793,3 +793,79 @@ func (g *ClassGroup) cell(m ClassMetric) string {
 	}
 	return fmt.Sprintf("%s ± %s [%s]", formatNumber(g.FoldMean.Get(m)), formatNumber(g.FoldSD.Get(m)), pooled)
 }
+
+// ReadClassPredictions reads class_predictions.csv as
+// WriteClassPredictions writes it, columns found by name: the class
+// predictions, in file order, and the class names of each label in class
+// index order, which is the order of the class rows of a prediction (the
+// first prediction of a label sets it; every other must list the same
+// classes in the same order). The rows of one prediction (same
+// participant, model, target, repeat and fold) must be consecutive. A bad
+// cell is a *data.FileError naming name, the line and the column.
+func ReadClassPredictions(r io.Reader, name string) ([]ClassPrediction, map[string][]string, error) {
+	cr := csv.NewReader(r)
+	need := []string{ColumnParticipant, ColumnModel, ColumnTarget, ColumnRepeat, ColumnFold, ColumnObserved, ColumnClass, ColumnProbability}
+	col, err := readHeader(cr, name, need)
+	if err != nil {
+		return nil, nil, err
+	}
+	var rows []ClassPrediction
+	classes := make(map[string][]string)
+	var cur []string // class names of the prediction being read
+	var observed string
+	finish := func(line int) error {
+		if len(rows) == 0 {
+			return nil
+		}
+		last := &rows[len(rows)-1]
+		if known, ok := classes[last.Label]; !ok {
+			classes[last.Label] = cur
+		} else if !slices.Equal(known, cur) {
+			return &data.FileError{Path: name, Line: line, Err: fmt.Errorf("participant %s, target %s: classes %s, earlier rows %s",
+				last.ParticipantID, last.Label, strings.Join(cur, ","), strings.Join(known, ","))}
+		}
+		if last.Observed = slices.Index(cur, observed); last.Observed < 0 {
+			return &data.FileError{Path: name, Line: line, Err: fmt.Errorf("participant %s, target %s: observed class %q is not among %s",
+				last.ParticipantID, last.Label, observed, strings.Join(cur, ","))}
+		}
+		return nil
+	}
+	cell := func(rec []string, c string) string { return rec[col[c]] }
+	for line := 2; ; line++ {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			if err := finish(line - 1); err != nil {
+				return nil, nil, err
+			}
+			return rows, classes, nil
+		}
+		if err != nil {
+			return nil, nil, csvError(name, err)
+		}
+		var pos [2]int
+		for k, c := range []string{ColumnRepeat, ColumnFold} {
+			v, err := strconv.Atoi(cell(rec, c))
+			if err != nil || v < 1 {
+				return nil, nil, &data.FileError{Path: name, Line: line, Column: col[c] + 1, ColumnName: c, Err: fmt.Errorf("want a whole number ≥ 1, found %q", cell(rec, c))}
+			}
+			pos[k] = v - 1
+		}
+		p, err := strconv.ParseFloat(cell(rec, ColumnProbability), 64)
+		if err != nil || !(p >= 0 && p <= 1) {
+			return nil, nil, &data.FileError{Path: name, Line: line, Column: col[ColumnProbability] + 1, ColumnName: ColumnProbability,
+				Err: fmt.Errorf("want a probability in [0, 1], found %q", cell(rec, ColumnProbability))}
+		}
+		id, mdl, label := cell(rec, ColumnParticipant), cell(rec, ColumnModel), cell(rec, ColumnTarget)
+		if n := len(rows); n == 0 || rows[n-1].ParticipantID != id || rows[n-1].Model != mdl || rows[n-1].Label != label ||
+			rows[n-1].Repeat != pos[0] || rows[n-1].Fold != pos[1] {
+			if err := finish(line - 1); err != nil {
+				return nil, nil, err
+			}
+			rows = append(rows, ClassPrediction{ParticipantID: id, Model: mdl, Label: label, Repeat: pos[0], Fold: pos[1]})
+			cur, observed = nil, cell(rec, ColumnObserved)
+		}
+		last := &rows[len(rows)-1]
+		last.Probabilities = append(last.Probabilities, p)
+		cur = append(cur, cell(rec, ColumnClass))
+	}
+}
