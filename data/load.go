@@ -49,7 +49,14 @@ func Load(src Source, pre Preprocess, baseDir string) (*Cohort, error) {
 // participant's own matrix (with the check's message). A functional
 // diagonal within DiagonalTolerance of 1 is accepted when preprocessing
 // replaces the diagonal.
-// A participant missing some but not all scores is kept with NaN there.
+// A participant missing some but not all scores is kept with NaN there;
+// with labels (src.Labels), a participant is excluded only when every
+// score and every label is missing, and a missing label is class −1.
+//
+// Class labels are checked against the table: a value outside the
+// label's declared classes (cohort.classes) is an error naming its row; a
+// label with fewer than two classes among the included participants, or
+// a declared class that none of them has, is an error naming the column.
 //
 // When fewer than src.MinParticipants are left Check returns the report
 // and a *TooFewError.
@@ -62,8 +69,8 @@ func Check(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error)
 
 // CheckUnscored is Check for participants whose scores are unknown, such
 // as the ones a saved model is asked to predict: src.Targets is ignored,
-// the table needs no score columns, nobody is excluded for lacking
-// scores, src.MinParticipants is ignored (one participant is a cohort),
+// src.Labels and src.Classes are ignored too, the table needs no score or
+// label columns, nobody is excluded for lacking scores, src.MinParticipants is ignored (one participant is a cohort),
 // and matrix files of participants without a table row are passed over
 // (unlisted = "report": the table lists who is to be predicted, such as a
 // few new participants whose files lie among the cohort's). The cohort's
@@ -71,6 +78,8 @@ func Check(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error)
 func CheckUnscored(src Source, pre Preprocess, baseDir string) (*Cohort, *Report, error) {
 	src = src.clone()
 	src.Targets = nil
+	src.Labels = nil
+	src.Classes = nil
 	src.MinParticipants = new(1)
 	src.Unlisted = UnlistedReport
 	return check(src, pre, baseDir, true)
@@ -151,6 +160,9 @@ type tableRow struct {
 	site       string
 	scores     []float64
 	covariates []float64
+	// labels holds the cell of each label column, "" where missing or
+	// for a participant excluded by id.
+	labels []string
 }
 
 // modality is one modality's files, located.
@@ -229,6 +241,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 
 	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates, SiteColumn: l.src.Site}
 	var kept []*Participant
+	var keptRows []tableRow
 	for _, r := range rows {
 		if reason, ok := l.src.Exclude[r.id]; ok {
 			c.Excluded = append(c.Excluded, Exclusion{ID: r.id, Reason: "excluded in the experiment file (cohort.exclude): " + reason})
@@ -240,7 +253,10 @@ func (l *loader) load() (*Cohort, *Report, error) {
 				reasons = append(reasons, reason)
 			}
 		}
-		if len(l.src.Targets) > 0 && allNaN(r.scores) {
+		switch {
+		case len(l.src.Labels) > 0 && allNaN(r.scores) && allEmpty(r.labels):
+			reasons = append(reasons, fmt.Sprintf("no value in any target or label column (%s)", strings.Join(slices.Concat(l.src.Targets, l.src.Labels), ", ")))
+		case len(l.src.Labels) == 0 && len(l.src.Targets) > 0 && allNaN(r.scores):
 			reasons = append(reasons, fmt.Sprintf("no value in any target column (%s)", strings.Join(l.src.Targets, ", ")))
 		}
 		if l.src.Group != "" && r.group == "" {
@@ -297,11 +313,17 @@ func (l *loader) load() (*Cohort, *Report, error) {
 			}
 		}
 		kept = append(kept, p)
+		keptRows = append(keptRows, r)
 	}
 	if err := l.errs.err(); err != nil {
 		return nil, nil, err
 	}
 	c.Participants = kept
+	if len(l.src.Labels) > 0 {
+		if err := l.codeLabels(tbl, c, keptRows); err != nil {
+			return nil, nil, err
+		}
+	}
 	c.Files = l.files
 	if l.src.Functional != nil {
 		c.Series = l.src.Functional.Settings()
@@ -316,6 +338,8 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	}
 
 	l.describe(rep, c, mods, covReports)
+	rep.Labels = describeLabels(c)
+	rep.Cautions = LabelCautions(c)
 	if len(kept) < *l.src.MinParticipants {
 		return nil, rep, &TooFewError{Included: len(kept), Min: *l.src.MinParticipants, Excluded: len(c.Excluded)}
 	}
@@ -398,6 +422,10 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 	for k, t := range l.src.Targets {
 		targetCols[k] = find("targets", t)
 	}
+	labelCols := make([]int, len(l.src.Labels))
+	for k, name := range l.src.Labels {
+		labelCols[k] = find("labels", name)
+	}
 	covCols := make([]int, len(l.src.Covariates))
 	for k, c := range l.src.Covariates {
 		covCols[k] = find("covariates", c)
@@ -453,6 +481,18 @@ func (l *loader) parseRows(tbl *table) ([]tableRow, []VariableReport) {
 			default:
 				row.scores[k] = v
 			}
+		}
+		row.labels = make([]string, len(labelCols))
+		for k, col := range labelCols {
+			cell := cells[col]
+			if isMissing(cell) || excluded {
+				continue
+			}
+			if declared := l.src.Classes[l.src.Labels[k]]; declared != nil && !slices.Contains(declared, cell) {
+				cellErr(r, col, "value %q is not a class of label %q (cohort.classes.%s: %s; a missing label is an empty cell or n/a)", cell, l.src.Labels[k], l.src.Labels[k], quoteAll(declared))
+				continue
+			}
+			row.labels[k] = cell
 		}
 		if groupCol >= 0 && !isMissing(cells[groupCol]) {
 			row.group = cells[groupCol]
@@ -839,6 +879,15 @@ func quoteAll(names []string) string {
 		q[i] = strconv.Quote(n)
 	}
 	return strings.Join(q, ", ")
+}
+
+func allEmpty(xs []string) bool {
+	for _, x := range xs {
+		if x != "" {
+			return false
+		}
+	}
+	return true
 }
 
 func allNaN(xs []float64) bool {

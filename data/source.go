@@ -25,6 +25,7 @@ const Placeholder = "{participant_id}"
 //	participants = "participants.tsv"
 //	id_column = "participant_id"
 //	targets = ["recall", "fluency"]
+//	labels = ["diagnosis"]
 //	covariates = ["age", "sex", "motion"]
 //	group = "family"
 //	site = "scanner"
@@ -33,6 +34,9 @@ const Placeholder = "{participant_id}"
 //	outlier_sd = 3.0
 //	unlisted = "error"
 //	on_bad_participant = "exclude"
+//
+//	[cohort.classes]
+//	diagnosis = ["control", "patient"]
 //
 //	[cohort.exclude]
 //	sub-017 = "region 12 lost in acquisition"
@@ -55,8 +59,21 @@ type Source struct {
 	// templates and that a stack's stack_ids list. Default
 	// "participant_id", the BIDS convention.
 	IDColumn string `toml:"id_column"`
-	// Targets names the score columns to predict; at least one.
+	// Targets names the score columns to predict. Targets and Labels
+	// together name at least one column.
 	Targets []string `toml:"targets"`
+	// Labels names class-label columns to predict (categorical targets
+	// such as a diagnosis): text or integer values, missing cells empty or
+	// "n/a". A participant's class is the index of its value among the
+	// label's classes (Cohort.Classes), −1 when missing. Default none.
+	Labels []string `toml:"labels"`
+	// Classes fixes, per label ([cohort.classes], label = ["a", "b"]), the
+	// order of its classes: at least two distinct names, each present
+	// among the included participants; for a binary label the second is
+	// the positive class. A value of the column outside the list is an
+	// error naming its row. A label not listed takes its values sorted:
+	// numerically when every value is an integer, else in byte order.
+	Classes map[string][]string `toml:"classes"`
 	// Covariates names covariate columns (optional). A column whose
 	// non-missing cells are all numbers is numeric; a column whose cells
 	// are all text is coded by its sorted distinct values (byte order) as
@@ -304,8 +321,8 @@ func (s Source) validate(needTargets bool) error {
 	if ext := strings.ToLower(filepath.Ext(s.Participants)); ext != ".tsv" && ext != ".csv" {
 		return fmt.Errorf("cohort.participants: %q must end in .tsv or .csv, found %q", s.Participants, ext)
 	}
-	if needTargets && len(s.Targets) == 0 {
-		return errors.New(`cohort: key "targets" needs at least one score column`)
+	if needTargets && len(s.Targets) == 0 && len(s.Labels) == 0 {
+		return errors.New(`cohort: key "targets" needs at least one score column (or "labels" a class-label column)`)
 	}
 	if strings.TrimSpace(s.IDColumn) == "" {
 		return errors.New(`cohort.id_column: empty column name`)
@@ -333,6 +350,14 @@ func (s Source) validate(needTargets bool) error {
 		if err := note("covariates", c); err != nil {
 			return err
 		}
+	}
+	for _, l := range s.Labels {
+		if err := note("labels", l); err != nil {
+			return err
+		}
+	}
+	if err := s.validateClasses(); err != nil {
+		return err
 	}
 	if s.Group != "" {
 		if err := note("group", s.Group); err != nil {
@@ -381,6 +406,34 @@ func (s Source) validate(needTargets bool) error {
 		}
 		if s.Structural.Values != "" {
 			return errors.New(`cohort.structural.values: structural matrices are always checked non-negative; remove the key`)
+		}
+	}
+	return nil
+}
+
+// validateClasses checks [cohort.classes]: every key a label of
+// cohort.labels, every list of at least two distinct, non-empty names that
+// are not a missing-value mark.
+func (s Source) validateClasses() error {
+	for _, name := range slices.Sorted(maps.Keys(s.Classes)) {
+		key := "cohort.classes." + name
+		if !slices.Contains(s.Labels, name) {
+			return fmt.Errorf("%s: %q is not named in cohort.labels (labels: %s)", key, name, quoteAll(s.Labels))
+		}
+		classes := s.Classes[name]
+		if len(classes) < 2 {
+			return fmt.Errorf("%s: a label needs at least 2 classes, found %d", key, len(classes))
+		}
+		for i, c := range classes {
+			if isMissing(strings.TrimSpace(c)) {
+				return fmt.Errorf("%s: class %d is %q, which marks a missing value", key, i+1, c)
+			}
+			if c != strings.TrimSpace(c) {
+				return fmt.Errorf("%s: class %d %q has surrounding white space, which table cells never keep", key, i+1, c)
+			}
+			if j := slices.Index(classes[:i], c); j >= 0 {
+				return fmt.Errorf("%s: class %q is listed twice (%d and %d)", key, c, j+1, i+1)
+			}
 		}
 	}
 	return nil

@@ -35,14 +35,20 @@ type Report struct {
 	Structural *ModalityReport  `json:"structural,omitempty"`
 	Scores     []VariableReport `json:"scores"`
 	Covariates []VariableReport `json:"covariates,omitempty"`
-	Group      *GroupReport     `json:"group,omitempty"`
+	// Labels gives the class counts of each class label (cohort.labels).
+	Labels []LabelReport `json:"labels,omitempty"`
+	Group  *GroupReport  `json:"group,omitempty"`
 	// OutlierSD is the threshold of the outlier flags, in robust SDs.
 	OutlierSD float64   `json:"outlier_sd"`
 	Outliers  []Outlier `json:"outliers"`
 	// Unlisted lists matrix files or stack entries with no table row,
 	// when cohort.unlisted = "report".
 	Unlisted []Unlisted `json:"unlisted,omitempty"`
-	Notice   string     `json:"notice"`
+	// Cautions are what the cohort should be read with, not errors, such
+	// as a label whose largest class holds most participants
+	// (LabelCautions).
+	Cautions []string `json:"cautions,omitempty"`
+	Notice   string   `json:"notice"`
 }
 
 // ModalityReport describes one modality across the included participants.
@@ -281,6 +287,12 @@ func (r *Report) WriteText(w io.Writer) error {
 			fmt.Fprintf(&b, "  %s: %s\n", v.Name, v.Stat.text())
 		}
 	}
+	if len(r.Labels) > 0 {
+		b.WriteString("labels (class = index: participants):\n")
+		for _, l := range r.Labels {
+			fmt.Fprintf(&b, "  %s\n", l.text())
+		}
+	}
 	if g := r.Group; g != nil {
 		fmt.Fprintf(&b, "groups (%s): %d, of %d to %d participants\n", g.Column, g.Groups, g.Smallest, g.Largest)
 	}
@@ -293,6 +305,9 @@ func (r *Report) WriteText(w io.Writer) error {
 		for _, u := range r.Unlisted {
 			fmt.Fprintf(&b, "  %s: %s %s\n", u.ID, u.Modality, u.File)
 		}
+	}
+	for _, c := range r.Cautions {
+		fmt.Fprintf(&b, "caution: %s\n", c)
 	}
 	b.WriteString(Notice + "\n")
 	_, err := io.WriteString(w, b.String())

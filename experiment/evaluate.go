@@ -376,6 +376,7 @@ func runCautions(rep *Report, r *train.Runner) []string {
 		}
 	}
 	out = append(out, siteCautions(r.Cohort)...)
+	out = append(out, data.LabelCautions(r.Cohort)...)
 	out = append(out, gridEdgeCautions(rep.Experiment, rep.Result, r.Cohort.Targets)...)
 	out = append(out, predictionCautions(rep.Summary, rep.Rows)...)
 	if count := rep.Experiment.Permutation.Count; count > 0 && count < 99 {

@@ -17,9 +17,11 @@ import (
 // participants to train on in some training fold (cv.inner_validation),
 // a model whose kind needs more participants or groups in a training
 // set than the smallest training fold holds (model.Kind.MinTrain, such as
-// a ridge's inner folds), a label that is also a score target, a label no
-// model can learn (no kind with NewClassifier) and a model whose kind
-// learns neither the cohort's scores nor its labels. It returns all of them joined (errors.Join),
+// a ridge's inner folds), a class of a label (cohort.labels) with fewer
+// participants, or groups, than k-fold folds (cv.folds), a label that is
+// also a score target, a label no model can learn (no kind with
+// NewClassifier) and a model whose kind learns neither the cohort's scores
+// nor its labels. It returns all of them joined (errors.Join),
 // or nil. The splits it checks are the run's own, so a run that passes
 // Check does not fail on these grounds after training has begun.
 func (d *Design) Check(c *data.Cohort) error {
@@ -29,6 +31,7 @@ func (d *Design) Check(c *data.Cohort) error {
 	}
 	errs = append(errs, d.checkLabels(c)...)
 	groups := Groups(c)
+	errs = append(errs, d.CV.checkClasses(c, groups)...)
 	f := d.CV.folds(d.Seed, c)
 	if len(f.units(len(c.Participants))) < f.K {
 		have := len(f.units(len(c.Participants)))
@@ -116,6 +119,38 @@ func (d *Design) checkSplits(splits []Split, groups []string, models []ModelConf
 			// errors, for which the model trains without that part.
 			errs = append(errs, fmt.Errorf("model %q: %s: %d, but a training fold without its inner validation part (cv.inner_validation) holds only %d %s; lower one, or name a comparison.reference",
 				m.Name, key, need, minFitUnits, unitWord(groups)))
+		}
+	}
+	return errs
+}
+
+// checkClasses returns an error for each class of each label of c held
+// by fewer participants (or, with groups, groups) than there are k-fold
+// folds, naming the label, the class, its count and cv.folds. It says
+// nothing of leave-site-out folds, whose number the sites set.
+func (cv CV) checkClasses(c *data.Cohort, groups []string) []error {
+	if cv.SitesOut > 0 {
+		return nil
+	}
+	k := *cv.Folds
+	var errs []error
+	for l, name := range c.Labels {
+		members := make([][]int, len(c.Classes[l]))
+		for i, p := range c.Participants {
+			if j := p.Labels[l]; j >= 0 {
+				members[j] = append(members[j], i)
+			}
+		}
+		for j, class := range c.Classes[l] {
+			n, units := len(members[j]), countUnits(members[j], groups)
+			switch {
+			case n < k:
+				errs = append(errs, fmt.Errorf("cv.folds: %d folds, but class %q of label %q has only %d participants: some test fold would hold none of it; use at most %d folds or gather more participants of the class",
+					k, class, name, n, max(n, 1)))
+			case units < k:
+				errs = append(errs, fmt.Errorf("cv.folds: %d folds, but class %q of label %q has its %d participants in only %d groups (cohort.group): some test fold would hold none of it; use at most %d folds",
+					k, class, name, n, units, max(units, 1)))
+			}
 		}
 	}
 	return errs

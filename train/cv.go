@@ -22,8 +22,10 @@ type CV struct {
 	// Repeats is how many times the k-fold cut is redone with a fresh
 	// shuffle, at least 1; nil takes the default 1.
 	Repeats *int `toml:"repeats"`
-	// Stratify names a target whose quantiles the folds are balanced on;
-	// "" (the default) does not stratify.
+	// Stratify names a target whose quantiles the folds are balanced on,
+	// or a label (cohort.labels) whose classes the folds are stratified
+	// by exactly (Folds.Classes); "" (the default) stratifies by the
+	// cohort's first label when it has one, and not at all otherwise.
 	Stratify string `toml:"stratify"`
 	// InnerValidation is the inner validation part of each training fold,
 	// which drives early stopping and model choice: a fraction of the
@@ -177,7 +179,12 @@ func (cv CV) folds(seed int64, c *data.Cohort) Folds {
 	if cv.SitesOut > 0 || cv.StratifySite {
 		f.Sites = siteLabels(c)
 	}
-	if t := slices.Index(c.Targets, cv.Stratify); cv.Stratify != "" && t >= 0 {
+	if l := cv.stratifyLabel(c); l >= 0 {
+		f.Classes = make([]int, len(c.Participants))
+		for i, p := range c.Participants {
+			f.Classes[i] = p.Labels[l]
+		}
+	} else if t := slices.Index(c.Targets, cv.Stratify); cv.Stratify != "" && t >= 0 {
 		f.Strata = make([]float64, len(c.Participants))
 		for i, p := range c.Participants {
 			f.Strata[i] = p.Scores[t]
@@ -186,12 +193,29 @@ func (cv CV) folds(seed int64, c *data.Cohort) Folds {
 	return f
 }
 
+// stratifyLabel returns the index of the label of c the folds are
+// stratified by: cv.Stratify when it names a label, the first label when
+// cv.Stratify is "" (and the folds are not leave-site-out), else −1.
+func (cv CV) stratifyLabel(c *data.Cohort) int {
+	switch {
+	case cv.Stratify != "":
+		return slices.Index(c.Labels, cv.Stratify)
+	case len(c.Labels) > 0 && cv.SitesOut == 0:
+		return 0
+	}
+	return -1
+}
+
 // checkAgainst reports every setting that names what the cohort lacks:
 // a cv.stratify target or cv.confounds covariate, joined (errors.Join).
 func (cv CV) checkAgainst(c *data.Cohort) error {
 	var errs []error
-	if cv.Stratify != "" && !slices.Contains(c.Targets, cv.Stratify) {
-		errs = append(errs, fmt.Errorf("cv.stratify: %q is not a target of the cohort (targets: %s)", cv.Stratify, wordList(c.Targets)))
+	if cv.Stratify != "" && !slices.Contains(c.Targets, cv.Stratify) && !slices.Contains(c.Labels, cv.Stratify) {
+		if len(c.Labels) == 0 {
+			errs = append(errs, fmt.Errorf("cv.stratify: %q is not a target of the cohort (targets: %s)", cv.Stratify, wordList(c.Targets)))
+		} else {
+			errs = append(errs, fmt.Errorf("cv.stratify: %q is not a target or label of the cohort (targets: %s; labels: %s)", cv.Stratify, wordList(c.Targets), wordList(c.Labels)))
+		}
 	}
 	for _, name := range cv.Confounds {
 		if !slices.Contains(c.Covariates, name) {

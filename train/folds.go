@@ -35,6 +35,14 @@ type Folds struct {
 	// Strata, when not nil, holds one value per participant (a target;
 	// NaN where missing) and asks for folds balanced on its quantiles.
 	Strata []float64
+	// Classes, when not nil, holds one class per participant (an index
+	// 0..K−1 of a label; −1 where missing, which is a stratum of its own)
+	// and asks for folds stratified by class exactly: without Groups,
+	// every class is dealt round the folds in turn, so each fold holds
+	// ⌊n_c/K⌋ or ⌈n_c/K⌉ of the n_c participants of class c; with Groups,
+	// whole groups are placed as evenly as they allow (see Splits). It
+	// takes the place of Strata, which is not read when Classes is set.
+	Classes []int
 	// Sites, when not nil, holds one site label per participant. With
 	// SitesOut = 0 it balances the folds on site: units are ordered by
 	// site (then by stratum, with Strata) and dealt in blocks of K, so
@@ -56,6 +64,20 @@ type Folds struct {
 // participants so far, which balances fold sizes. It is an error to ask for
 // more folds than there are groups.
 //
+// With Classes (and no Sites), the folds are stratified by class. Without
+// Groups the participants are shuffled, ordered by class (missing last)
+// and dealt round the folds in turn, the fold order shuffled once per
+// repeat: every fold holds ⌊n_c/K⌋ or ⌈n_c/K⌉ participants of each class
+// c (and ⌊n/K⌋ or ⌈n/K⌉ in all). With Groups, the groups are shuffled,
+// ordered by the size of their rarest class (rarest first), larger groups
+// first among equals, and each goes to a fold that lacks the group's
+// rarest class if there is one, and among those to the fold where its
+// classes are so far least represented: the smallest Σ_c m_c·f_kc/n_c,
+// where m_c is the group's count of class c, f_kc the fold's and n_c the
+// cohort's; ties to the smaller fold, then at random. The cohort's rarest
+// class is thus in every fold whenever it spans at least K groups, and
+// the others as far as the groups allow.
+//
 // With SitesOut > 0 the splits are leave-k-sites-out instead (see
 // SitesOut); a test fold then holds every participant of its sites.
 func (f Folds) Splits(n int) ([]Split, error) {
@@ -68,8 +90,9 @@ func (f Folds) Splits(n int) ([]Split, error) {
 	if f.Repeats < 1 {
 		return nil, fmt.Errorf("train: %d repeats: need at least 1", f.Repeats)
 	}
-	if f.Groups != nil && len(f.Groups) != n || f.Strata != nil && len(f.Strata) != n || f.Sites != nil && len(f.Sites) != n {
-		panic("train: Folds.Groups, Strata or Sites length differs from n")
+	if f.Groups != nil && len(f.Groups) != n || f.Strata != nil && len(f.Strata) != n || f.Sites != nil && len(f.Sites) != n ||
+		f.Classes != nil && len(f.Classes) != n {
+		panic("train: Folds.Groups, Strata, Classes or Sites length differs from n")
 	}
 	units := f.units(n)
 	if len(units) < f.K {
@@ -162,7 +185,10 @@ func (f Folds) deal(units [][]int, rng *rand.Rand) []int {
 		for u, members := range units {
 			site[u] = f.Sites[members[0]]
 			key[u] = math.NaN()
-			if f.Strata != nil {
+			switch {
+			case f.Classes != nil:
+				key[u] = float64(majorityClass(f.Classes, members))
+			case f.Strata != nil:
 				key[u] = meanIgnoringNaN(f.Strata, members)
 			}
 		}
@@ -187,6 +213,25 @@ func (f Folds) deal(units [][]int, rng *rand.Rand) []int {
 			fold[u] = slots[j%f.K]
 		}
 		return fold
+	}
+	if f.Classes != nil && f.Groups == nil {
+		// Stable sort of the shuffled order by class, missing (−1) last,
+		// then one deal round the folds across all classes.
+		sort.SliceStable(order, func(a, b int) bool {
+			ca, cb := f.Classes[units[order[a]][0]], f.Classes[units[order[b]][0]]
+			if ca < 0 || cb < 0 {
+				return cb < 0 && ca >= 0
+			}
+			return ca < cb
+		})
+		slots := rng.Perm(f.K)
+		for j, u := range order {
+			fold[u] = slots[j%f.K]
+		}
+		return fold
+	}
+	if f.Classes != nil {
+		return f.dealGroupsByClass(units, order, rng)
 	}
 	if f.Strata != nil {
 		key := make([]float64, len(units))
@@ -225,6 +270,95 @@ func (f Folds) deal(units [][]int, rng *rand.Rand) []int {
 		size[k] += len(units[u])
 	}
 	return fold
+}
+
+// dealGroupsByClass assigns each group a fold so that every fold holds
+// each class as nearly in the cohort's proportion as whole groups allow
+// (see Splits); order is the shuffled order of the units.
+func (f Folds) dealGroupsByClass(units [][]int, order []int, rng *rand.Rand) []int {
+	// Strata: the classes, with missing as a stratum of its own (index 0).
+	stratum := func(i int) int { return f.Classes[i] + 1 }
+	nStrata := 0
+	for _, c := range f.Classes {
+		nStrata = max(nStrata, c+2)
+	}
+	total := make([]int, nStrata)
+	for _, c := range f.Classes {
+		total[c+1]++
+	}
+	counts := make([][]int, len(units)) // per unit, per stratum
+	rarest := make([]int, len(units))   // per unit, its rarest stratum
+	for u, members := range units {
+		counts[u] = make([]int, nStrata)
+		rarest[u] = stratum(members[0])
+		for _, i := range members {
+			s := stratum(i)
+			counts[u][s]++
+			if total[s] < total[rarest[u]] || total[s] == total[rarest[u]] && s < rarest[u] {
+				rarest[u] = s
+			}
+		}
+	}
+	sort.SliceStable(order, func(a, b int) bool {
+		ua, ub := order[a], order[b]
+		if ta, tb := total[rarest[ua]], total[rarest[ub]]; ta != tb {
+			return ta < tb
+		}
+		return len(units[ua]) > len(units[ub])
+	})
+	tieBreak := rng.Perm(f.K)
+	inFold := make([][]int, f.K) // per fold, per stratum
+	for k := range inFold {
+		inFold[k] = make([]int, nStrata)
+	}
+	size := make([]int, f.K)
+	fold := make([]int, len(units))
+	for _, u := range order {
+		best, bestHas, bestCost := -1, false, math.Inf(1)
+		for _, k := range tieBreak {
+			has := inFold[k][rarest[u]] > 0
+			var cost float64
+			for s, m := range counts[u] {
+				if m > 0 {
+					cost += float64(m) * float64(inFold[k][s]) / float64(total[s])
+				}
+			}
+			switch {
+			case best < 0, bestHas && !has:
+			case has && !bestHas:
+				continue
+			case cost < bestCost-1e-12:
+			case math.Abs(cost-bestCost) <= 1e-12 && size[k] < size[best]:
+			default:
+				continue
+			}
+			best, bestHas, bestCost = k, has, cost
+		}
+		fold[u] = best
+		size[best] += len(units[u])
+		for s, m := range counts[u] {
+			inFold[best][s] += m
+		}
+	}
+	return fold
+}
+
+// majorityClass returns the most frequent class among the participants
+// idx (the lowest on ties; −1 when all are missing).
+func majorityClass(classes []int, idx []int) int {
+	count := map[int]int{}
+	best := -1
+	for _, i := range idx {
+		c := classes[i]
+		if c < 0 {
+			continue
+		}
+		count[c]++
+		if best < 0 || count[c] > count[best] || count[c] == count[best] && c < best {
+			best = c
+		}
+	}
+	return best
 }
 
 func meanIgnoringNaN(x []float64, idx []int) float64 {

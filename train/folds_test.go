@@ -18,6 +18,11 @@ func TestSplitsPartition(t *testing.T) {
 		strata[i] = float64((i * 37) % 50)
 	}
 	strata[7] = math.NaN()
+	classes := make([]int, 50)
+	for i := range classes {
+		classes[i] = (i * 7) % 3
+	}
+	classes[11] = -1
 	tests := []struct {
 		name string
 		f    Folds
@@ -26,6 +31,9 @@ func TestSplitsPartition(t *testing.T) {
 		{"grouped", Folds{K: 5, Repeats: 2, Seed: 2, Groups: families}},
 		{"stratified", Folds{K: 4, Repeats: 2, Seed: 3, Strata: strata}},
 		{"grouped and stratified", Folds{K: 3, Repeats: 2, Seed: 4, Groups: families, Strata: strata}},
+		{"by class", Folds{K: 5, Repeats: 2, Seed: 5, Classes: classes}},
+		{"grouped by class", Folds{K: 4, Repeats: 2, Seed: 6, Groups: families, Classes: classes}},
+		{"by class and site", Folds{K: 3, Repeats: 2, Seed: 7, Classes: classes, Sites: families}},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {

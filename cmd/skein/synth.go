@@ -36,6 +36,11 @@ func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
 	fs.BoolVar(&cfg.Series, "series", false, "also write each participant's regional time series (ts/), read by the experiment file to estimate the connectomes")
 	fs.BoolVar(&cfg.Amplitudes, "amplitudes", false, "plant the signal in the amplitude of regions' fluctuations (covariances, tangent coordinates; no correlation sees it) instead of shared sources")
 	fs.BoolVar(&cfg.Couplings, "couplings", false, "plant the signal in direct couplings between region pairs (partial correlations, precision) instead of shared sources")
+	var label synth.Label
+	fs.StringVar(&label.Name, "label", "", fmt.Sprintf("add a class label column of this name (classes %q, %q) with a planted group difference on functional edges; \"\" for none", synth.LabelClasses[0], synth.LabelClasses[1]))
+	fs.Float64Var(&label.Prevalence, "prevalence", synth.DefaultPrevalence, fmt.Sprintf("with --label, the share of %q", synth.LabelClasses[1]))
+	fs.Float64Var(&label.AUC, "label-auc", synth.DefaultLabelAUC, "with --label, the ROC AUC of the planted difference: the best any classifier can reach")
+	fs.BoolVar(&label.Null, "null-label", false, "with --label, a label independent of the connectomes (a cohort where no classifier should beat AUC 0.5)")
 	fs.Usage = func() {
 		describe(fs.Output(), "synth")
 		fmt.Fprintln(fs.Output(), "usage: skein synth --out DIR [options]")
@@ -62,6 +67,15 @@ func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
 	} else {
 		cfg.FamilySize = 0
 	}
+	if label.Name != "" {
+		cfg.Label = &label
+	} else {
+		for _, name := range []string{"prevalence", "label-auc", "null-label"} {
+			if set(fs, name) {
+				return badInput(fmt.Errorf("option --%s: goes with --label NAME", name))
+			}
+		}
+	}
 	if err := ctx.Err(); err != nil {
 		return err
 	}
@@ -69,17 +83,20 @@ func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
 	// synthFlags maps synth.Config fields to the options that set them, so
 	// that a bad value is reported under the option the user typed.
 	synthFlags := map[string]string{
-		"N":               "n",
-		"P":               "p",
-		"Targets":         "targets",
-		"Ceiling":         "ceiling",
-		"FamilySize":      "family-size",
-		"Motion":          "motion",
-		"Missing":         "missing",
-		"TimePoints":      "timepoints",
-		"StructuralShare": "structural-share",
-		"Couplings":       "couplings",
-		"Amplitudes":      "amplitudes",
+		"N":                "n",
+		"P":                "p",
+		"Targets":          "targets",
+		"Ceiling":          "ceiling",
+		"FamilySize":       "family-size",
+		"Motion":           "motion",
+		"Missing":          "missing",
+		"TimePoints":       "timepoints",
+		"StructuralShare":  "structural-share",
+		"Couplings":        "couplings",
+		"Amplitudes":       "amplitudes",
+		"Label.Name":       "label",
+		"Label.Prevalence": "prevalence",
+		"Label.AUC":        "label-auc",
 	}
 
 	c, err := synth.Generate(cfg)
@@ -121,7 +138,22 @@ func cmdSynth(ctx context.Context, cio commandIO, args []string) error {
 		}
 		fmt.Fprintf(w, " edges; ceiling r = %.3f\n", pt.Ceiling)
 	}
+	if lt := c.LabelTruth; lt != nil {
+		if lt.Signal == nil {
+			fmt.Fprintf(w, "  %-10s null label: independent of the connectomes; %s share %.2f\n", lt.Label, synth.LabelClasses[1], lt.Prevalence)
+		} else {
+			fmt.Fprintf(w, "  %-10s planted group difference on %d+%d functional edges; %s share %.2f; oracle AUC = %.3f\n",
+				lt.Label, len(lt.Positive), len(lt.Negative), synth.LabelClasses[1], lt.Prevalence, lt.AUC)
+		}
+	}
 	fmt.Fprintf(w, "next: skein check %s\n", filepath.Join(*out, "experiment.toml"))
 	fmt.Fprintln(w, "The data are invented (no real participants). skein is "+data.Notice+".")
 	return nil
+}
+
+// set reports whether the option name was given on the command line.
+func set(fs *flag.FlagSet, name string) bool {
+	given := false
+	fs.Visit(func(f *flag.Flag) { given = given || f.Name == name })
+	return given
 }

@@ -59,6 +59,41 @@ func TestSynthNull(t *testing.T) {
 	}
 }
 
+// TestSynthLabel: --label adds a class label whose oracle AUC the output
+// reports, and skein check reads it and prints its class counts.
+func TestSynthLabel(t *testing.T) {
+	t.Parallel()
+	for _, tc := range []struct {
+		name string
+		args []string
+		want []string
+	}{
+		{"planted", []string{"--label", "diagnosis", "--prevalence", "0.4", "--label-auc", "0.9"},
+			[]string{"diagnosis  planted group difference on", "patient share 0.40; oracle AUC = 0.900"}},
+		{"null", []string{"--label", "dx", "--null-label"}, []string{"dx         null label: independent of the connectomes; patient share 0.30"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			dir := filepath.Join(t.TempDir(), "cohort")
+			code, out, errOut := runSynthCLI(t, append([]string{"synth", "--out", dir, "--n", "20", "--p", "8", "--seed", "4"}, tc.args...)...)
+			if code != exitOK {
+				t.Fatalf("synth: exit %d: %s", code, errOut)
+			}
+			for _, want := range tc.want {
+				if !strings.Contains(out, want) {
+					t.Errorf("synth output lacks %q:\n%s", want, out)
+				}
+			}
+			code, out, errOut = runSynthCLI(t, "check", filepath.Join(dir, "experiment.toml"))
+			if code != exitOK {
+				t.Fatalf("check: exit %d:\n%s\n%s", code, out, errOut)
+			}
+			if !strings.Contains(out, `"control" = 0: `) || !strings.Contains(out, `(positive class "patient")`) {
+				t.Errorf("check output lacks the class counts:\n%s", out)
+			}
+		})
+	}
+}
+
 func TestSynthRefusesToOverwrite(t *testing.T) {
 	t.Parallel()
 	dir := t.TempDir()
@@ -93,6 +128,9 @@ func TestSynthBadOptions(t *testing.T) {
 		{[]string{"--out", out, "--siblings", "--family-size", "1"}, "option --family-size"},
 		{[]string{"--out", out, "--n", "many"}, "-n"},
 		{[]string{"--out", out, "extra"}, `unexpected argument "extra"`},
+		{[]string{"--out", out, "--prevalence", "0.2"}, "option --prevalence: goes with --label NAME"},
+		{[]string{"--out", out, "--label", "dx", "--label-auc", "0.3"}, "option --label-auc: got 0.3, want an AUC in (0.5, 1)"},
+		{[]string{"--out", out, "--label", "recall"}, "option --label: got recall"},
 	} {
 		code, _, errOut := runSynthCLI(t, append([]string{"synth"}, tc.args...)...)
 		if code != exitBadInput || !strings.Contains(errOut, tc.want) {

@@ -156,6 +156,11 @@ type Config struct {
 	// (Planted.Signal), and Planted.Positive and Negative are the edges
 	// within A and within B. Not with Couplings or StructuralShare > 0.
 	Amplitudes bool
+	// Label, when not nil, adds a binary class label with a planted group
+	// difference (see Label and AddLabel), drawn after everything else
+	// from a random stream of its own: the rest of the cohort is the same
+	// with or without it. nil: no label.
+	Label *Label
 }
 
 // amplitudeEffect is the 0.35 of Config.Amplitudes.
@@ -226,6 +231,9 @@ type Cohort struct {
 	// per time point), in Participants order, when Config.Series is set;
 	// nil otherwise.
 	Series []*mat.Dense
+	// LabelTruth is the truth about the class label of Config.Label; nil
+	// when the cohort has none.
+	LabelTruth *PlantedLabel
 }
 
 // Grouped reports whether the participants are in families.
@@ -429,7 +437,13 @@ func Generate(cfg Config) (*Cohort, error) {
 			}
 		}
 	}
-	return &Cohort{Cohort: c, Truth: truth, Series: series}, nil
+	out := &Cohort{Cohort: c, Truth: truth, Series: series}
+	if cfg.Label != nil {
+		if err := AddLabel(out, *cfg.Label, cfg.Seed); err != nil {
+			return nil, err
+		}
+	}
+	return out, nil
 }
 
 // pairs returns the region pairs of Config.Couplings: the first region

@@ -31,7 +31,8 @@ const (
 // leaves, with format "tsv" or "npy" for the matrices:
 //
 //	participants.tsv              participant_id, family (when grouped), the
-//	                              scores, age, sex ("F"/"M"), motion; "n/a"
+//	                              scores, age, sex ("F"/"M"), motion, then
+//	                              the class label (when there is one); "n/a"
 //	                              where missing
 //	regions.txt                   the region labels, one a line
 //	fc/{participant_id}_fc.tsv    raw correlations (or _fc.npy)
@@ -41,6 +42,7 @@ const (
 //	                              names (or _ts.npy, without names); the
 //	                              experiment file then reads them
 //	planted.tsv                   the truth: target, modality, sign, region_1, region_2
+//	                              (a label's edges under its name)
 //	experiment.toml               the [cohort] and [preprocess] tables for these files
 //
 // dir must not exist or be an empty folder (otherwise the error wraps
@@ -275,6 +277,7 @@ func writeParticipants(path string, c *Cohort) error {
 	}
 	header = append(header, c.Targets...)
 	header = append(header, c.Covariates...)
+	header = append(header, c.Labels...)
 	sexColumn := -1
 	for j, name := range c.Covariates {
 		if name == "sex" {
@@ -302,6 +305,13 @@ func writeParticipants(path string, c *Cohort) error {
 					row = append(row, "M")
 				default:
 					row = append(row, formatNumber(v))
+				}
+			}
+			for k, class := range part.Labels {
+				if class < 0 {
+					row = append(row, "n/a")
+				} else {
+					row = append(row, c.Classes[k][class])
 				}
 			}
 			w.WriteString(strings.Join(row, "\t") + "\n")
@@ -369,6 +379,14 @@ func writePlanted(path string, c *Cohort) error {
 				}
 			}
 		}
+		if lt := c.LabelTruth; lt != nil {
+			for _, e := range lt.Positive {
+				fmt.Fprintf(w, "%s\tfunctional\t+\t%s\t%s\n", lt.Label, c.Regions[e.I], c.Regions[e.J])
+			}
+			for _, e := range lt.Negative {
+				fmt.Fprintf(w, "%s\tfunctional\t-\t%s\t%s\n", lt.Label, c.Regions[e.I], c.Regions[e.J])
+			}
+		}
 		return nil
 	})
 }
@@ -408,11 +426,23 @@ func experimentTOML(c *Cohort, format string) string {
 		}
 		b.WriteString(")\n")
 	}
+	if lt := c.LabelTruth; lt != nil {
+		b.WriteString("# Planted class label: the best ROC AUC any classifier can reach (oracle)\n")
+		if lt.Signal == nil {
+			fmt.Fprintf(&b, "#   %-10s null: independent of the connectomes (AUC 0.5; %s share %.2f)\n", lt.Label, LabelClasses[1], lt.Prevalence)
+		} else {
+			fmt.Fprintf(&b, "#   %-10s oracle AUC = %.3f (%s share %.2f, effect rho %.3f on the %d+%d functional edges)\n",
+				lt.Label, lt.AUC, LabelClasses[1], lt.Prevalence, lt.Effect, len(lt.Positive), len(lt.Negative))
+		}
+	}
 	var pre data.Preprocess
 	pre.SetDefaults()
 	b.WriteString("\n[cohort]\n")
 	b.WriteString("participants = \"participants.tsv\"\n")
 	fmt.Fprintf(&b, "targets = %s\n", quotedList(c.Targets))
+	if len(c.Labels) > 0 {
+		fmt.Fprintf(&b, "labels = %s\n", quotedList(c.Labels))
+	}
 	fmt.Fprintf(&b, "covariates = %s\n", quotedList(c.Covariates))
 	if c.Grouped() {
 		b.WriteString("group = \"family\"\n")
@@ -429,6 +459,9 @@ func experimentTOML(c *Cohort, format string) string {
 		fmt.Fprintf(&b, "[cohort.functional]\nseries = \"ts/{participant_id}_ts.%s\"\nestimator = \"correlation\"\n", format)
 	} else {
 		fmt.Fprintf(&b, "\n[cohort.functional]\nfiles = \"fc/{participant_id}_fc.%s\"\n", format)
+	}
+	for k, name := range c.Labels {
+		fmt.Fprintf(&b, "\n[cohort.classes]\n%s = %s\n", name, quotedList(c.Classes[k]))
 	}
 	fmt.Fprintf(&b, "\n[cohort.structural]\nfiles = \"sc/{participant_id}_sc.%s\"\n", format)
 	fmt.Fprintf(&b, "\n[preprocess.functional]\ntransform = %q\nclip = %g\ndiagonal = %q\n",
