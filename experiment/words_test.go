@@ -70,6 +70,8 @@ func TestWordKeys(t *testing.T) {
 			[]string{"he", "glorot"}, func(e *Experiment) string { return string(e.Models[0].Network.Init) }, nil},
 		{"model.network.dtype", "[[model]]\nname = \"net\"\n[model.network]\ndtype = %s\n[[model.network.branch]]\nlayers = [{kind = \"n2g\", size = 2}]\n",
 			[]string{"float32", "float64"}, func(e *Experiment) string { return string(e.Models[0].Network.DType) }, nil},
+		{"model.network.class_weight", "[[model]]\nname = \"net\"\n[model.network]\nclass_weight = %s\n[[model.network.branch]]\nlayers = [{kind = \"n2g\", size = 2}]\n",
+			[]string{"none", "balanced"}, func(e *Experiment) string { return string(e.Models[0].Network.ClassWeight) }, nil},
 		{"model.network.branch.input", "[[model]]\nname = \"net\"\n[model.network]\n[[model.network.branch]]\ninput = %s\nlayers = [{kind = \"n2g\", size = 2}]\n",
 			[]string{"functional", "structural", "propagated", "product"}, func(e *Experiment) string { return string(e.Models[0].Network.Branches[0].Input) }, nil},
 		{"model.network.branch.views", "[[model]]\nname = \"net\"\n[model.network]\n[[model.network.branch]]\nviews = [%s]\nlayers = [{kind = \"n2g\", size = 2}]\n",

@@ -84,7 +84,9 @@ type Config struct {
 	// "dtype"): "float32" (default) or "float64".
 	DType DType `toml:"dtype" json:"dtype"`
 
-	// Loss is the training loss ([model.network.loss]).
+	// Loss is the training loss for scores ([model.network.loss]); a
+	// network fitted to a label minimizes the cross-entropy and ignores
+	// it (see LossConfig).
 	Loss LossConfig `toml:"loss" json:"loss"`
 	// Optimizer updates the weights ([model.network.optimizer]).
 	Optimizer OptimizerConfig `toml:"optimizer" json:"optimizer"`
@@ -111,6 +113,14 @@ type Config struct {
 	// trained on the training set and stopped on the validation set.
 	// Training takes about K times as long. Default 5.
 	Ensemble *int `toml:"ensemble" json:"ensemble,omitempty"`
+	// ClassWeight weighs the participants of each class in the
+	// cross-entropy of a network fitted to a label (key "class_weight";
+	// see Classifier): "none" (default; every participant weighs 1) or
+	// "balanced" (class k weighs w_k = n/(K·n_k) for n participants of
+	// K classes, n_k of class k, counted on the training part, as
+	// scikit-learn's class_weight="balanced"). A network fitted to scores
+	// does not read it.
+	ClassWeight ClassWeight `toml:"class_weight" json:"class_weight,omitempty"`
 }
 
 // BranchConfig is one branch of a network: an input signal and the layers
@@ -212,7 +222,11 @@ type LayerConfig struct {
 	Activation Activation `toml:"activation" json:"activation,omitempty"`
 }
 
-// LossConfig weighs the terms of the training loss. For the residuals
+// LossConfig weighs the terms of the training loss of a network fitted to
+// scores. A network fitted to a label (Classifier) minimizes the
+// cross-entropy instead and reads none of these keys; they are still
+// checked, so that one [model.network] table serves the scores and the
+// labels of a mixed experiment. For the residuals
 // e = prediction − score over the present (non-NaN) scores of a batch,
 //
 //	loss = abs·mean|e| + squared·mean e² + huber·mean h(e),
@@ -277,6 +291,28 @@ type OptimizerConfig struct {
 	// Default 0.
 	MinRate float64 `toml:"min_rate" json:"min_rate,omitempty"`
 }
+
+// ClassWeight is the value of the key model.network.class_weight:
+// ClassWeightNone or ClassWeightBalanced ("" is unset).
+type ClassWeight string
+
+// Values of model.network.class_weight.
+const (
+	ClassWeightNone     ClassWeight = "none"     // every participant weighs 1
+	ClassWeightBalanced ClassWeight = "balanced" // class k weighs n/(K·n_k)
+)
+
+// UnmarshalText sets w to the word text: "none", "balanced" or ""
+// (unset). Another word is an error listing these.
+func (w *ClassWeight) UnmarshalText(text []byte) error {
+	return enum.Parse(w, text, ClassWeightNone, ClassWeightBalanced)
+}
+
+// MarshalText returns the word of w.
+func (w ClassWeight) MarshalText() ([]byte, error) { return []byte(w), nil }
+
+// String returns the word of w.
+func (w ClassWeight) String() string { return string(w) }
 
 // Merge is the value of the key model.network.merge: MergeConcat or
 // MergeProduct ("" is unset).
@@ -536,6 +572,9 @@ func (c *Config) SetDefaults() {
 	if c.Ensemble == nil {
 		c.Ensemble = new(5)
 	}
+	if c.ClassWeight == "" {
+		c.ClassWeight = ClassWeightNone
+	}
 	for i := range c.Branches {
 		b := &c.Branches[i]
 		if b.Input == "" && len(b.Views) == 0 {
@@ -635,6 +674,12 @@ func (c Config) EdgeScaling() (functional, structural bool) {
 // threshold without a Huber term, head_dropout without a hidden head
 // layer, a branch's operator and propagate where it needs none, and each
 // layer's keys that its kind does not take.
+//
+// It does not list the keys that only scores or only labels read
+// (ScoreOnlyKeys, LabelOnlyKeys): one [model.network] table serves both in
+// a mixed experiment, so whether they apply depends on the experiment's
+// targets, not on c. An experiment without labels may leave out
+// LabelOnlyKeys too, and one without scores ScoreOnlyKeys.
 func (c Config) InapplicableKeys() []string {
 	var out []string
 	if len(c.Head) == 0 {
@@ -684,6 +729,18 @@ func (c Config) InapplicableKeys() []string {
 	}
 	return out
 }
+
+// ScoreOnlyKeys returns the keys of c that only a network fitted to scores
+// reads, as InapplicableKeys writes them: those of [model.network.loss]. A
+// network fitted to a label (Classifier) minimizes the cross-entropy; it
+// still validates them, and refuses none.
+func (c Config) ScoreOnlyKeys() []string {
+	return []string{"loss.abs", "loss.squared", "loss.huber", "loss.delta"}
+}
+
+// LabelOnlyKeys returns the keys of c that only a network fitted to a
+// label reads, as InapplicableKeys writes them: class_weight.
+func (c Config) LabelOnlyKeys() []string { return []string{"class_weight"} }
 
 // Inputs reports which connectomes the network learns from: functional
 // when a branch reads the functional matrix or its propagation, structural
@@ -821,6 +878,9 @@ func (c Config) Validate() error {
 	}
 	if c.Ensemble == nil || *c.Ensemble < 1 {
 		return fmt.Errorf("model.network.ensemble: want at least 1 network, found %v", deref(c.Ensemble))
+	}
+	if err := enum.Check(c.ClassWeight); err != nil {
+		return fmt.Errorf("model.network.class_weight: %w", err)
 	}
 	if err := c.Loss.validate(); err != nil {
 		return err

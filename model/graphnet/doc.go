@@ -3,8 +3,10 @@
 // 2017), graph convolution over the structural graph (Kipf & Welling 2017),
 // two-branch fusion of modalities and a multi-layer perceptron head. A
 // Network is a model.Regressor and a model.Iterative; an Ensemble averages
-// several. The package registers them as the model.Kind "network",
-// configured by Config.
+// several. A Classifier is one network or an ensemble fitted to a class
+// label (a model.Classifier): K softmax outputs and the (optionally
+// class-weighted) cross-entropy. The package registers them as the
+// model.Kind "network", configured by Config.
 //
 // # Architecture
 //
@@ -63,6 +65,22 @@
 // New drives the initial weights, the shuffling and the dropout masks, so
 // the same seed on the same data gives the same trajectory.
 //
+// # Labels
+//
+// NewClassifier builds, from the same Config, networks whose output layer
+// has one unit per class of a label; their softmax gives the class
+// probabilities and they minimize the mean cross-entropy, each participant
+// weighted by its class under class_weight "balanced" (n/(K·n_k) on the
+// training part) and the weighted sum divided by the sum of the weights,
+// as torch's cross_entropy does. Everything else is as for scores: every
+// layer and branch, input and head dropout, edge standardization, early
+// stopping on the inner validation loss (the same weighted cross-entropy),
+// ensembles (which average the members' probabilities). A screened branch
+// ranks edges by their correlation ratio with the class, which orders
+// them as the one-way ANOVA F does. The keys of [model.network.loss] do
+// not apply to labels (Config.ScoreOnlyKeys). With output_init "zero" the
+// untrained classifier gives every class probability 1/K.
+//
 // # Ensembles
 //
 // The kind "network" builds an Ensemble of K = Config.Ensemble networks
@@ -91,6 +109,9 @@
 //	config     the Config, with the keys of the experiment file
 //	p          number of regions
 //	targets    number of outputs T
+//	classes    for a network of a Classifier, the number of classes K =
+//	           T (its outputs are the K logits, whose softmax gives the
+//	           class probabilities); absent for a network fitted to scores
 //	seed       the seed given to New
 //	dtype      "float32" or "float64", the type of every weight array
 //	operators  per branch, the structural operator kind ("" for none)
@@ -132,10 +153,16 @@
 //	version    1; LoadEnsemble refuses any other
 //	config     the Config, ensemble = K
 //	p, targets, seed
+//	classes    for a Classifier, its number of classes (as for a
+//	           network); absent for an Ensemble
 //	members    ["member1", …, "memberK"]
 //
 // and a folder member1 … memberK per member, each a saved network as
-// above. The kind's Load reads either by the format of manifest.json.
+// above. The kind's Load reads either by the format of manifest.json, and
+// its LoadClassifier (LoadClassifier) either kind of saved Classifier: a
+// network or an ensemble whose manifests hold classes. Load and
+// LoadEnsemble refuse a saved Classifier, and LoadClassifier a model
+// fitted to scores.
 //
 // This is research software; its predictions are not a diagnosis.
 package graphnet

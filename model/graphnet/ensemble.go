@@ -314,11 +314,13 @@ const (
 
 // ensembleManifest is the JSON document manifest.json of a saved ensemble.
 type ensembleManifest struct {
-	Format  string   `json:"format"`
-	Version int      `json:"version"`
-	Config  Config   `json:"config"`
-	P       int      `json:"p"`
-	Targets int      `json:"targets"`
+	Format  string `json:"format"`
+	Version int    `json:"version"`
+	Config  Config `json:"config"`
+	P       int    `json:"p"`
+	Targets int    `json:"targets"`
+	// Classes is K for a Classifier, absent for an Ensemble.
+	Classes int      `json:"classes,omitempty"`
 	Seed    int64    `json:"seed"`
 	Members []string `json:"members"`
 }
@@ -331,11 +333,16 @@ func memberDir(k int) string { return "member" + strconv.Itoa(k+1) }
 // holding the member as Network.Save writes it (see the package
 // documentation).
 func (e *Ensemble) Save(dir string) error {
+	return saveEnsemble(dir, ensembleManifest{Format: ensembleFormat, Version: ensembleVersion, Config: e.cfg, P: e.p, Targets: e.targets, Seed: e.seed}, e.members)
+}
+
+// saveEnsemble writes m, with its Members filled, and the members to the
+// folder dir (see Ensemble.Save).
+func saveEnsemble(dir string, m ensembleManifest, members []*Network) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return fmt.Errorf("graphnet: Ensemble.Save: %w", err)
 	}
-	m := ensembleManifest{Format: ensembleFormat, Version: ensembleVersion, Config: e.cfg, P: e.p, Targets: e.targets, Seed: e.seed}
-	for k, n := range e.members {
+	for k, n := range members {
 		m.Members = append(m.Members, memberDir(k))
 		if err := n.Save(filepath.Join(dir, memberDir(k))); err != nil {
 			return fmt.Errorf("graphnet: Ensemble.Save: member %d: %w", k+1, err)
@@ -354,41 +361,56 @@ func (e *Ensemble) Save(dir string) error {
 // LoadEnsemble reads an ensemble saved by Ensemble.Save from the folder
 // dir. A manifest of another format or version, a member folder other
 // than those Save writes, or a member that Load refuses or that does not
-// match the ensemble's p and targets gives an error naming the file.
+// match the ensemble's p and targets gives an error naming the file, and
+// so does an ensemble of a Classifier (read it with LoadClassifier).
 func LoadEnsemble(dir string) (*Ensemble, error) {
+	m, members, err := readEnsemble(dir)
+	if err != nil {
+		return nil, err
+	}
+	if m.Classes > 0 {
+		return nil, fmt.Errorf("graphnet: LoadEnsemble: %s: a classifier of %d classes; read it with LoadClassifier", filepath.Join(dir, manifestFile), m.Classes)
+	}
+	e := &Ensemble{cfg: m.Config, p: m.P, targets: m.Targets, seed: m.Seed, members: members}
+	e.cfg.SetDefaults()
+	return e, nil
+}
+
+// readEnsemble reads the manifest and the members of a saved Ensemble or
+// ensemble Classifier, checking that they agree (see LoadEnsemble).
+func readEnsemble(dir string) (ensembleManifest, []*Network, error) {
 	mpath := filepath.Join(dir, manifestFile)
+	var m ensembleManifest
 	raw, err := os.ReadFile(mpath)
 	if err != nil {
-		return nil, fmt.Errorf("graphnet: LoadEnsemble: %w", err)
+		return m, nil, fmt.Errorf("graphnet: LoadEnsemble: %w", err)
 	}
-	var m ensembleManifest
 	dec := json.NewDecoder(bytes.NewReader(raw))
 	dec.DisallowUnknownFields()
 	if err := dec.Decode(&m); err != nil {
-		return nil, fmt.Errorf("graphnet: LoadEnsemble: %s: %w", mpath, err)
+		return m, nil, fmt.Errorf("graphnet: LoadEnsemble: %s: %w", mpath, err)
 	}
 	if m.Format != ensembleFormat || m.Version != ensembleVersion {
-		return nil, fmt.Errorf("graphnet: LoadEnsemble: %s: format %q version %d, want %q version %d", mpath, m.Format, m.Version, ensembleFormat, ensembleVersion)
+		return m, nil, fmt.Errorf("graphnet: LoadEnsemble: %s: format %q version %d, want %q version %d", mpath, m.Format, m.Version, ensembleFormat, ensembleVersion)
 	}
 	if m.Config.Ensemble == nil || *m.Config.Ensemble != len(m.Members) || len(m.Members) < 2 {
-		return nil, fmt.Errorf("graphnet: LoadEnsemble: %s: %d members listed, config.ensemble is %v", mpath, len(m.Members), deref(m.Config.Ensemble))
+		return m, nil, fmt.Errorf("graphnet: LoadEnsemble: %s: %d members listed, config.ensemble is %v", mpath, len(m.Members), deref(m.Config.Ensemble))
 	}
-	e := &Ensemble{cfg: m.Config, p: m.P, targets: m.Targets, seed: m.Seed}
+	var members []*Network
 	for k, name := range m.Members {
 		if name != memberDir(k) {
-			return nil, fmt.Errorf("graphnet: LoadEnsemble: %s: members[%d] is %q, want %q", mpath, k, name, memberDir(k))
+			return m, nil, fmt.Errorf("graphnet: LoadEnsemble: %s: members[%d] is %q, want %q", mpath, k, name, memberDir(k))
 		}
-		n, err := Load(filepath.Join(dir, name))
+		n, err := loadNetwork(filepath.Join(dir, name))
 		if err != nil {
-			return nil, fmt.Errorf("graphnet: LoadEnsemble: member %d: %w", k+1, err)
+			return m, nil, fmt.Errorf("graphnet: LoadEnsemble: member %d: %w", k+1, err)
 		}
-		if n.p != m.P || n.targets != m.Targets {
-			return nil, fmt.Errorf("graphnet: LoadEnsemble: %s: member %d takes p = %d and %d targets, the ensemble p = %d and %d", mpath, k+1, n.p, n.targets, m.P, m.Targets)
+		if n.p != m.P || n.targets != m.Targets || n.classes != m.Classes {
+			return m, nil, fmt.Errorf("graphnet: LoadEnsemble: %s: member %d takes p = %d, %d targets and %d classes, the ensemble p = %d, %d targets and %d classes", mpath, k+1, n.p, n.targets, n.classes, m.P, m.Targets, m.Classes)
 		}
-		e.members = append(e.members, n)
+		members = append(members, n)
 	}
-	e.cfg.SetDefaults()
-	return e, nil
+	return m, members, nil
 }
 
 // loadSaved reads a saved Network or Ensemble from dir, by the format of

@@ -13,7 +13,8 @@ const kindNetwork = "network"
 // Networks register themselves as a kind of model: not a baseline,
 // fitting all score columns together, saved, with gradient × input edge
 // importance. New builds an Ensemble when model.network.ensemble > 1 and a
-// Network otherwise; Load reads either.
+// Network otherwise; Load reads either. NewClassifier builds a Classifier
+// (one network or an ensemble) for a label, and LoadClassifier reads it.
 func init() {
 	model.Register(model.Kind{
 		Name: kindNetwork,
@@ -46,6 +47,24 @@ func init() {
 			return n, nil
 		},
 		Load: loadSaved,
+		NewClassifier: func(s model.Settings, p, classes int, seed int64) (model.Classifier, error) {
+			c, ok := s.(*Config)
+			if !ok {
+				return nil, fmt.Errorf("graphnet: kind %s takes settings of type %T, not %T", kindNetwork, c, s)
+			}
+			cl, err := NewClassifier(*c, p, classes, seed)
+			if err != nil {
+				return nil, err
+			}
+			return cl, nil
+		},
+		LoadClassifier: func(dir string) (model.Classifier, error) {
+			c, err := LoadClassifier(dir)
+			if err != nil {
+				return nil, err
+			}
+			return c, nil
+		},
 		EdgeScaling: func(s model.Settings) (functional, structural bool) {
 			if c, ok := s.(*Config); ok {
 				return c.EdgeScaling()

@@ -11,16 +11,36 @@ import (
 	"gorgonia.org/tensor"
 )
 
-// lossFunc is the masked training loss of LossConfig: for residuals
-// e = prediction − score over the present scores,
+// lossFunc is the masked training loss of a network. For scores (classes
+// 0) it is the loss of LossConfig: for residuals e = prediction − score
+// over the present scores,
 // loss = abs·mean|e| + squared·mean e² + huber·mean h(e).
+//
+// For a label of K = classes ≥ 2 classes it is the weighted mean
+// cross-entropy of the softmax of the outputs. The predictions are then
+// B × K logits z_i and the targets B × K rows t_i = w_i·onehot(y_i), the
+// weight w_i of participant i (its class weight, 1 without class weights)
+// at its class y_i and 0 elsewhere, a row of NaN for a missing label, and
+//
+//	CE_i = logsumexp(z_i) − z_i,y_i = −log softmax(z_i)_y_i,
+//	loss = Σ_i w_i·CE_i / Σ_i w_i
+//
+// over the present rows, 0 when Σ_i w_i = 0. This is the normalisation of
+// torch.nn.functional.cross_entropy with weight and reduction "mean"
+// (each term divided by the sum of the weights, not by the number of
+// terms), so without class weights it is the plain mean.
 type lossFunc struct {
 	abs, squared, huber, delta float64
+	classes                    int
 }
 
 func newLossFunc(c LossConfig) lossFunc {
 	return lossFunc{abs: *c.Abs, squared: *c.Squared, huber: *c.Huber, delta: *c.Delta}
 }
+
+// crossEntropyLoss returns the loss of a label of the given number of
+// classes ≥ 2: the weighted mean cross-entropy.
+func crossEntropyLoss(classes int) lossFunc { return lossFunc{classes: classes} }
 
 // term returns the loss of one residual e, before averaging.
 func (f lossFunc) term(e float64) float64 {
@@ -46,30 +66,75 @@ func (f lossFunc) slope(e float64) float64 {
 	return f.abs*sign + 2*f.squared*e + f.huber*clipped
 }
 
-// sum returns the summed loss terms of pred against target and the number of
-// present (non-NaN) targets. pred and target have the same length.
-func sum[T float32 | float64](f lossFunc, pred, target []T) (total float64, count int) {
+// sum returns the summed (weighted) loss terms of pred against target and
+// their total weight: for scores, the number of present (non-NaN)
+// targets; for a label, Σ_i w_i over the present rows. The loss is
+// total/weight. pred and target have the same length, a multiple of
+// f.classes for a label.
+func sum[T float32 | float64](f lossFunc, pred, target []T) (total, weight float64) {
 	if len(pred) != len(target) {
 		panic("graphnet: loss of slices of different lengths")
+	}
+	if f.classes > 0 {
+		return crossEntropySum(f.classes, pred, target)
 	}
 	for i, y := range target {
 		if y != y {
 			continue
 		}
 		total += f.term(float64(pred[i]) - float64(y))
-		count++
+		weight++
 	}
-	return total, count
+	return total, weight
+}
+
+// crossEntropySum returns Σ_i w_i·CE_i and Σ_i w_i over the present rows
+// of K columns (see lossFunc), with w_i = Σ_k t_ik.
+func crossEntropySum[T float32 | float64](K int, logits, target []T) (total, weight float64) {
+	if len(target)%K != 0 {
+		panic("graphnet: cross-entropy of a length that is not a multiple of the classes")
+	}
+	for off := 0; off < len(target); off += K {
+		t := target[off : off+K]
+		if t[0] != t[0] {
+			continue
+		}
+		lse := logSumExp(logits[off : off+K])
+		for k, tk := range t {
+			if tk != 0 {
+				total += float64(tk) * (lse - float64(logits[off+k]))
+				weight += float64(tk)
+			}
+		}
+	}
+	return total, weight
+}
+
+// logSumExp returns log Σ_k exp(z_k), computed as m + log Σ_k exp(z_k − m)
+// with m = max_k z_k so that no exp overflows (common practice, no source).
+func logSumExp[T float32 | float64](z []T) float64 {
+	m := math.Inf(-1)
+	for _, v := range z {
+		m = math.Max(m, float64(v))
+	}
+	if math.IsInf(m, 0) {
+		return m
+	}
+	var s float64
+	for _, v := range z {
+		s += math.Exp(float64(v) - m)
+	}
+	return m + math.Log(s)
 }
 
 // mean returns the loss of pred against target: the mean of the loss terms
 // over the present targets, 0 if there is none.
 func (f lossFunc) mean(pred, target []float64) float64 {
-	total, count := sum(f, pred, target)
-	if count == 0 {
+	total, weight := sum(f, pred, target)
+	if weight == 0 {
 		return 0
 	}
-	return total / float64(count)
+	return total / weight
 }
 
 // lossOp is the gorgonia op of lossFunc: (pred B×T, target B×T) -> scalar,
@@ -101,7 +166,7 @@ func (op *lossOp) OverwritesInput() int { return -1 }
 // WriteHash writes the op's address too: each op owns its output, so
 // gorgonia must never merge two nodes built by two calls.
 func (op *lossOp) WriteHash(h hash.Hash) {
-	fmt.Fprintf(h, "maskedLoss{%v,%v,%v,%v}@%p", op.f.abs, op.f.squared, op.f.huber, op.f.delta, op)
+	fmt.Fprintf(h, "maskedLoss{%v,%v,%v,%v,%d}@%p", op.f.abs, op.f.squared, op.f.huber, op.f.delta, op.f.classes, op)
 }
 func (op *lossOp) Hashcode() uint32 { return hashOf(op) }
 func (op *lossOp) String() string   { return "maskedLoss" }
@@ -113,11 +178,11 @@ func (op *lossOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	if err != nil {
 		return nil, err
 	}
-	mean := func(total float64, count int) float64 {
-		if count == 0 {
+	mean := func(total, weight float64) float64 {
+		if weight == 0 {
 			return 0
 		}
-		return total / float64(count)
+		return total / weight
 	}
 	switch pred.Dtype() {
 	case tensor.Float64:
@@ -194,7 +259,7 @@ func (op *lossGradOp) OverwritesInput() int { return -1 }
 
 // WriteHash writes the op's address too (see lossOp.WriteHash).
 func (op *lossGradOp) WriteHash(h hash.Hash) {
-	fmt.Fprintf(h, "maskedLossGrad{%v,%v,%v,%v}@%p", op.f.abs, op.f.squared, op.f.huber, op.f.delta, op)
+	fmt.Fprintf(h, "maskedLossGrad{%v,%v,%v,%v,%d}@%p", op.f.abs, op.f.squared, op.f.huber, op.f.delta, op.f.classes, op)
 }
 func (op *lossGradOp) Hashcode() uint32 { return hashOf(op) }
 func (op *lossGradOp) String() string   { return "maskedLossGrad" }
@@ -226,8 +291,18 @@ func (op *lossGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	return op.out, nil
 }
 
-// lossGrad writes upstream·∂loss/∂pred into dst.
+// lossGrad writes upstream·∂loss/∂pred into dst. For scores that is
+// upstream·slope(e_i)/count at the present targets, 0 at missing ones; for
+// a label (see lossFunc), row i of a present label gets
+//
+//	upstream·(w_i·softmax(z_i) − t_i) / Σ_j w_j
+//
+// and a missing row 0.
 func lossGrad[T float32 | float64](f lossFunc, upstream float64, pred, target, dst []T) {
+	if f.classes > 0 {
+		crossEntropyGrad(f.classes, upstream, pred, target, dst)
+		return
+	}
 	count := 0
 	for _, y := range target {
 		if y == y {
@@ -244,6 +319,36 @@ func lossGrad[T float32 | float64](f lossFunc, upstream float64, pred, target, d
 			continue
 		}
 		dst[i] = T(scale * f.slope(float64(pred[i])-float64(y)))
+	}
+}
+
+// crossEntropyGrad writes upstream·∂loss/∂z of the weighted mean
+// cross-entropy of K classes into dst (see lossGrad).
+func crossEntropyGrad[T float32 | float64](K int, upstream float64, logits, target, dst []T) {
+	var weight float64
+	for _, t := range target {
+		if t == t {
+			weight += float64(t)
+		}
+	}
+	scale := 0.0
+	if weight > 0 {
+		scale = upstream / weight
+	}
+	for off := 0; off < len(target); off += K {
+		t, z, d := target[off:off+K], logits[off:off+K], dst[off:off+K]
+		if t[0] != t[0] {
+			clear(d)
+			continue
+		}
+		var w float64
+		for _, tk := range t {
+			w += float64(tk)
+		}
+		lse := logSumExp(z)
+		for k := range d {
+			d[k] = T(scale * (w*math.Exp(float64(z[k])-lse) - float64(t[k])))
+		}
 	}
 }
 

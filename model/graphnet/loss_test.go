@@ -15,14 +15,14 @@ func TestMaskedLoss(t *testing.T) {
 		want         float64
 	}{
 		// e = (1, −2): mean|e| = 1.5, mean e² = 2.5.
-		{"abs+squared", lossFunc{1, 1, 0, 1}, []float64{2, 0}, []float64{1, 2}, 4},
+		{"abs+squared", lossFunc{abs: 1, squared: 1, huber: 0, delta: 1}, []float64{2, 0}, []float64{1, 2}, 4},
 		// The NaN score is missing: only e = 1 and e = −2 count.
-		{"missing score", lossFunc{1, 1, 0, 1}, []float64{2, 5, 0}, []float64{1, nan, 2}, 4},
-		{"all missing", lossFunc{1, 1, 0, 1}, []float64{2, 5}, []float64{nan, nan}, 0},
+		{"missing score", lossFunc{abs: 1, squared: 1, huber: 0, delta: 1}, []float64{2, 5, 0}, []float64{1, nan, 2}, 4},
+		{"all missing", lossFunc{abs: 1, squared: 1, huber: 0, delta: 1}, []float64{2, 5}, []float64{nan, nan}, 0},
 		// Huber δ = 1: h(1) = 0.5, h(−2) = 1·(2 − 0.5) = 1.5; mean 1.
-		{"huber", lossFunc{0, 0, 1, 1}, []float64{2, 0}, []float64{1, 2}, 1},
+		{"huber", lossFunc{abs: 0, squared: 0, huber: 1, delta: 1}, []float64{2, 0}, []float64{1, 2}, 1},
 		// Weights: 0.5·1.5 + 2·2.5 + 3·1 = 8.75.
-		{"weighted", lossFunc{0.5, 2, 3, 1}, []float64{2, 0}, []float64{1, 2}, 8.75},
+		{"weighted", lossFunc{abs: 0.5, squared: 2, huber: 3, delta: 1}, []float64{2, 0}, []float64{1, 2}, 8.75},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {

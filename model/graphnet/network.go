@@ -23,7 +23,8 @@ import (
 type Network struct {
 	cfg     Config
 	p       int // regions
-	targets int // outputs T
+	targets int // outputs T: the scores, or the K classes of a label
+	classes int // K for a network fitted to a label (Classifier), 0 for scores
 	seed    int64
 	dtype   tensor.Dtype
 	arch    arch
@@ -70,6 +71,14 @@ func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 	if p < 1 || targets < 1 {
 		return nil, fmt.Errorf("graphnet: New: need p ≥ 1 and targets ≥ 1, found p = %d, targets = %d", p, targets)
 	}
+	return newNetwork(cfg, p, targets, 0, seed)
+}
+
+// newNetwork returns the network of New with the given number of outputs,
+// fitted to scores (classes 0) or to a label of classes = outputs classes
+// (the cross-entropy loss).
+func newNetwork(cfg Config, p, outputs, classes int, seed int64) (*Network, error) {
+	targets := outputs
 	cfg = cfg.clone()
 	cfg.SetDefaults()
 	if err := cfg.Validate(); err != nil {
@@ -81,7 +90,7 @@ func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 		return nil, err
 	}
 	n := &Network{
-		cfg: cfg, p: p, targets: targets, seed: seed,
+		cfg: cfg, p: p, targets: targets, classes: classes, seed: seed,
 		dtype:  tensor.Float32,
 		arch:   a,
 		loss:   newLossFunc(cfg.Loss),
@@ -92,6 +101,9 @@ func New(cfg Config, p, targets int, seed int64) (*Network, error) {
 	// The helpers stop when the network is no longer reachable (they
 	// hold the pool, not the network).
 	runtime.AddCleanup(n, (*parallel.Pool).Close, n.pool)
+	if classes > 0 {
+		n.loss = crossEntropyLoss(classes)
+	}
 	if cfg.DType == Float64 {
 		n.dtype = tensor.Float64
 	}
@@ -129,30 +141,39 @@ func (n *Network) History() []model.Epoch { return append([]model.Epoch(nil), n.
 // branch with a screen (BranchConfig.Screen) has its kept edges chosen
 // anew on train at every Fit, before training.
 func (n *Network) Fit(ctx context.Context, train, valid model.Dataset) error {
+	if n.classes > 0 {
+		return fmt.Errorf("graphnet: Fit: the network classifies %d classes; fit it through its Classifier", n.classes)
+	}
 	if train.Len() == 0 {
 		return fmt.Errorf("graphnet: Fit: the training set is empty")
 	}
+	return n.fit(ctx,
+		func() (*prepared, error) { return n.prepare(train, "training set", true) },
+		func() (*prepared, error) { return n.prepare(valid, "validation set", true) })
+}
+
+// fit trains the network (see Fit) on the sets that train and valid
+// prepare. It calls train first, then chooses the screens on the
+// training set, then calls valid, which prepare screens as chosen.
+func (n *Network) fit(ctx context.Context, train, valid func() (*prepared, error)) error {
 	screened := slices.ContainsFunc(n.cfg.Branches, func(b BranchConfig) bool { return b.Screen > 0 })
 	if screened {
 		n.screens = nil // refitted on this training set
 	}
-	trainSet, err := n.prepare(train, "training set", true)
-	if err != nil {
-		return err
-	}
-	if screened {
-		if trainSet.present() == 0 {
-			return fmt.Errorf("graphnet: Fit: the training set has no present score")
-		}
-		n.fitScreens(trainSet)
-		n.applyScreens(trainSet)
-	}
-	validSet, err := n.prepare(valid, "validation set", true)
+	trainSet, err := train()
 	if err != nil {
 		return err
 	}
 	if trainSet.present() == 0 {
-		return fmt.Errorf("graphnet: Fit: the training set has no present score")
+		return fmt.Errorf("graphnet: Fit: the training set has no present %s", trainSet.what())
+	}
+	if screened {
+		n.fitScreens(trainSet)
+		n.applyScreens(trainSet)
+	}
+	validSet, err := valid()
+	if err != nil {
+		return err
 	}
 	grads := make([]any, len(n.params))
 	ws := make([]any, len(n.params))
@@ -173,8 +194,7 @@ func (n *Network) Fit(ctx context.Context, train, valid model.Dataset) error {
 	for epoch := 1; epoch <= *n.cfg.Epochs; epoch++ {
 		rate := rateAt(n.cfg.Optimizer, epoch-1, *n.cfg.Epochs)
 		n.rng.Shuffle(len(order), func(i, j int) { order[i], order[j] = order[j], order[i] })
-		var total float64
-		var count int
+		var total, weight float64
 		for start := 0; start < len(order); start += *n.cfg.BatchSize {
 			if err := ctx.Err(); err != nil {
 				return err
@@ -188,10 +208,10 @@ func (n *Network) Fit(ctx context.Context, train, valid model.Dataset) error {
 				return fmt.Errorf("graphnet: epoch %d: the training loss is %v: %w", epoch, t, model.ErrDiverged)
 			}
 			total += t
-			count += c
+			weight += c
 			opt.step(rate)
 		}
-		e := model.Epoch{Epoch: epoch, TrainLoss: total / float64(count), ValidLoss: math.NaN()}
+		e := model.Epoch{Epoch: epoch, TrainLoss: total / weight, ValidLoss: math.NaN()}
 		if epoch == 1 {
 			firstLoss = e.TrainLoss
 		}
@@ -262,8 +282,9 @@ func copyDense(dst, src *tensor.Dense) {
 
 // trainStep runs forward and backward on the participants idx of set,
 // leaving the gradients in the params, and returns the summed loss terms and
-// the number of present scores of the batch.
-func (n *Network) trainStep(set *prepared, idx []int) (float64, int, error) {
+// their total weight (the number of present scores of the batch, or the
+// summed weights of its labels).
+func (n *Network) trainStep(set *prepared, idx []int) (total, weight float64, err error) {
 	g, err := n.graph(len(idx), true)
 	if err != nil {
 		return 0, 0, err
@@ -286,7 +307,7 @@ func (n *Network) trainStep(set *prepared, idx []int) (float64, int, error) {
 
 // batchLoss returns the summed loss terms of pred against target and the
 // number of present targets (see sum).
-func batchLoss(f lossFunc, pred, target *tensor.Dense) (float64, int) {
+func batchLoss(f lossFunc, pred, target *tensor.Dense) (total, weight float64) {
 	if pred.Dtype() == tensor.Float64 {
 		return sum(f, pred.Float64s(), target.Float64s())
 	}
@@ -294,19 +315,19 @@ func batchLoss(f lossFunc, pred, target *tensor.Dense) (float64, int) {
 }
 
 // evalLoss returns the loss of the network over all of set, without dropout:
-// the mean over every present score.
+// the mean over every present score (the weighted mean cross-entropy over
+// every label).
 func (n *Network) evalLoss(set *prepared) (float64, error) {
-	var total float64
-	var count int
+	var total, weight float64
 	err := n.forEachBatch(set, func(g *graph, idx []int) {
-		t, c := batchLoss(n.loss, g.m.dense(g.pred), g.target)
+		t, w := batchLoss(n.loss, g.m.dense(g.pred), g.target)
 		total += t
-		count += c
+		weight += w
 	})
-	if err != nil || count == 0 {
+	if err != nil || weight == 0 {
 		return 0, err
 	}
-	return total / float64(count), nil
+	return total / weight, nil
 }
 
 // forEachBatch runs the evaluation graph over set in order, in batches of
@@ -332,7 +353,9 @@ func (n *Network) forEachBatch(set *prepared, f func(g *graph, idx []int)) error
 }
 
 // Predict returns the len(ps) × T predictions of the network, without
-// dropout, on the scale of the Y it was fitted on.
+// dropout, on the scale of the Y it was fitted on. For a network of a
+// Classifier they are the K logits, whose softmax gives the class
+// probabilities (Classifier.PredictProba).
 func (n *Network) Predict(ps []*data.Participant) (*mat.Dense, error) {
 	if len(ps) == 0 {
 		return nil, fmt.Errorf("graphnet: Predict: no participants")
@@ -378,11 +401,23 @@ type prepared struct {
 	p, targets int
 	inputs     [][][]float64 // [branch][participant] C×p×p (C views), row-major
 	operators  [][][]float64 // [branch][participant] p×p, nil without operator
-	y          []float64     // participant-major n×T, NaN = missing; nil when predicting
-	n          int
+	// y is participant-major n×T, NaN = missing; nil when predicting.
+	// For a label (T = K classes), row i is w_i·onehot(labels[i]).
+	y []float64
+	// labels holds each participant's class for a label, nil for scores.
+	labels []int
+	n      int
 }
 
 func (s *prepared) len() int { return s.n }
+
+// what names the targets of s in errors: "score" or "label".
+func (s *prepared) what() string {
+	if s.labels != nil {
+		return "label"
+	}
+	return "score"
+}
 
 func (s *prepared) present() int {
 	c := 0

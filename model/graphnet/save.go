@@ -27,11 +27,14 @@ const (
 
 // manifest is the JSON document manifest.json of a saved network.
 type manifest struct {
-	Format    string              `json:"format"`
-	Version   int                 `json:"version"`
-	Config    Config              `json:"config"`
-	P         int                 `json:"p"`
-	Targets   int                 `json:"targets"`
+	Format  string `json:"format"`
+	Version int    `json:"version"`
+	Config  Config `json:"config"`
+	P       int    `json:"p"`
+	Targets int    `json:"targets"`
+	// Classes is K for a network of a Classifier (targets = K outputs,
+	// the logits), absent for a network fitted to scores.
+	Classes   int                 `json:"classes,omitempty"`
 	Seed      int64               `json:"seed"`
 	DType     DType               `json:"dtype"`
 	Operators []data.OperatorKind `json:"operators"`
@@ -66,7 +69,7 @@ func (n *Network) Save(dir string) error {
 	}
 	m := manifest{
 		Format: formatName, Version: formatVersion,
-		Config: n.cfg, P: n.p, Targets: n.targets, Seed: n.seed, DType: n.cfg.DType,
+		Config: n.cfg, P: n.p, Targets: n.targets, Classes: n.classes, Seed: n.seed, DType: n.cfg.DType,
 		Weights: weightsFile,
 		Fitted:  n.Fitted,
 		History: []epochRecord{},
@@ -133,8 +136,22 @@ func nest(flat any, shape []int) any {
 
 // Load reads a network saved by Save from the folder dir. A file that is
 // missing, corrupt, of another format or version, or that does not match
-// its manifest gives an error naming the file.
+// its manifest gives an error naming the file, and so does a network of a
+// Classifier (read it with LoadClassifier).
 func Load(dir string) (*Network, error) {
+	n, err := loadNetwork(dir)
+	if err != nil {
+		return nil, err
+	}
+	if n.classes > 0 {
+		return nil, fmt.Errorf("graphnet: Load: %s: a classifier of %d classes; read it with LoadClassifier", filepath.Join(dir, manifestFile), n.classes)
+	}
+	return n, nil
+}
+
+// loadNetwork reads a network saved by Save, fitted to scores or to a
+// label (see Load).
+func loadNetwork(dir string) (*Network, error) {
 	mpath := filepath.Join(dir, manifestFile)
 	raw, err := os.ReadFile(mpath)
 	if err != nil {
@@ -162,7 +179,13 @@ func Load(dir string) (*Network, error) {
 	if m.DType != m.Config.DType {
 		return nil, fmt.Errorf("graphnet: Load: %s: dtype %q differs from config.dtype %q", mpath, m.DType, m.Config.DType)
 	}
-	n, err := New(m.Config, m.P, m.Targets, m.Seed)
+	if m.Classes != 0 && (m.Classes < 2 || m.Classes != m.Targets) {
+		return nil, fmt.Errorf("graphnet: Load: %s: classes %d with %d targets; want classes = targets ≥ 2, or no classes", mpath, m.Classes, m.Targets)
+	}
+	if m.P < 1 || m.Targets < 1 {
+		return nil, fmt.Errorf("graphnet: Load: %s: need p ≥ 1 and targets ≥ 1, found p = %d, targets = %d", mpath, m.P, m.Targets)
+	}
+	n, err := newNetwork(m.Config, m.P, m.Targets, m.Classes, m.Seed)
 	if err != nil {
 		return nil, fmt.Errorf("graphnet: Load: %s: %w", mpath, err)
 	}

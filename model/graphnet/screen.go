@@ -18,8 +18,13 @@ import (
 //	r_t = Σ_k (x_k − x̄)(y_kt − ȳ_t) / sqrt(Σ_k (x_k − x̄)² · Σ_k (y_kt − ȳ_t)²)
 //
 // (Pearson's r; 0 when either sum of squares is 0), and the edge's score
-// is max_t |r_t|. The Screen edges of largest score are kept, ties broken
-// by the lower index i·p + j.
+// is max_t |r_t|. For a network fitted to a label (s.labels set), the
+// edge's score is instead its correlation ratio with the class,
+// η = sqrt(SS_between/SS_total) (correlationRatio), which for two classes
+// is |Pearson r| with the class coded 0/1 (the point-biserial
+// correlation) and which ranks edges as the one-way ANOVA F statistic
+// does. The Screen edges of largest score are kept, ties broken by the
+// lower index i·p + j.
 func (n *Network) fitScreens(s *prepared) {
 	n.screens = make([][]int, len(n.cfg.Branches))
 	p, pp := n.p, n.p*n.p
@@ -41,7 +46,19 @@ func (n *Network) fitScreens(s *prepared) {
 					all = append(all, scored{flat: c*pp + i*p + j})
 				}
 			}
+			if s.labels != nil {
+				xs := make([]float64, s.len())
+				for e := range all {
+					for k := range xs {
+						xs[k] = s.inputs[bi][k][all[e].flat]
+					}
+					all[e].score = correlationRatio(xs, s.labels, n.classes)
+				}
+			}
 			for t := range n.targets {
+				if s.labels != nil {
+					break
+				}
 				var ys []float64
 				var rows []int
 				for k := range s.len() {
@@ -84,6 +101,45 @@ func (n *Network) fitScreens(s *prepared) {
 		slices.Sort(keep)
 		n.screens[bi] = keep
 	}
+}
+
+// correlationRatio returns the correlation ratio η of the values x with
+// the classes labels, each in [0, classes) (Pearson 1903):
+//
+//	η² = SS_between / SS_total = Σ_k n_k (x̄_k − x̄)² / Σ_i (x_i − x̄)²,
+//
+// with n_k the number and x̄_k the mean of the values of class k; 0 when
+// SS_total is 0. For n values in K classes the one-way ANOVA F statistic is
+// F = (η²/(K − 1)) / ((1 − η²)/(n − K)), increasing in η, and for K = 2, η
+// is the absolute point-biserial correlation. x and labels have the same
+// length.
+func correlationRatio(x []float64, labels []int, classes int) float64 {
+	if len(x) != len(labels) {
+		panic("graphnet: correlation ratio of slices of different lengths")
+	}
+	if len(x) == 0 {
+		return 0
+	}
+	xm := mean(x)
+	sums := make([]float64, classes)
+	counts := make([]int, classes)
+	var sst float64
+	for i, v := range x {
+		sums[labels[i]] += v
+		counts[labels[i]]++
+		sst += (v - xm) * (v - xm)
+	}
+	if sst == 0 {
+		return 0
+	}
+	var ssb float64
+	for k, c := range counts {
+		if c > 0 {
+			d := sums[k]/float64(c) - xm
+			ssb += float64(c) * d * d
+		}
+	}
+	return math.Sqrt(min(ssb/sst, 1))
 }
 
 // mean returns the arithmetic mean of xs, which must not be empty.
