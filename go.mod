@@ -15,7 +15,10 @@ require (
 	gorgonia.org/tensor v0.9.24
 )
 
-require github.com/stretchr/testify v1.9.0 // indirect
+require (
+	github.com/stretchr/testify v1.9.0 // indirect
+	golang.org/x/tools v0.41.0 // indirect
+)
 
 require (
 	codeberg.org/go-fonts/liberation v0.5.0 // indirect

@@ -12,14 +12,19 @@ import (
 
 // Config chooses one baseline and its settings: the sub-tables of a
 // [[model]] entry of an experiment file, [model.mean], [model.ridge],
-// [model.kernel_ridge] or [model.cpm]. Exactly one field is set; a Config
-// with none set chooses no baseline (Kind returns ""). In the settings, ""
-// and nil take the default; Go code sets a number as InnerFolds: new(10).
+// [model.kernel_ridge] or [model.cpm] for scores, [model.majority],
+// [model.logistic] or [model.kernel_logistic] for class labels. Exactly
+// one field is set; a Config with none set chooses no baseline (Kind
+// returns ""). In the settings, "" and nil take the default; Go code sets
+// a number as InnerFolds: new(10).
 type Config struct {
-	Mean        *MeanConfig        `toml:"mean,omitempty"`
-	Ridge       *RidgeConfig       `toml:"ridge,omitempty"`
-	KernelRidge *KernelRidgeConfig `toml:"kernel_ridge,omitempty"`
-	CPM         *CPMConfig         `toml:"cpm,omitempty"`
+	Mean           *MeanConfig           `toml:"mean,omitempty"`
+	Ridge          *RidgeConfig          `toml:"ridge,omitempty"`
+	KernelRidge    *KernelRidgeConfig    `toml:"kernel_ridge,omitempty"`
+	CPM            *CPMConfig            `toml:"cpm,omitempty"`
+	Majority       *MajorityConfig       `toml:"majority,omitempty"`
+	Logistic       *LogisticConfig       `toml:"logistic,omitempty"`
+	KernelLogistic *KernelLogisticConfig `toml:"kernel_logistic,omitempty"`
 }
 
 // Input is the value of the input key of a baseline: which connectome's
@@ -119,6 +124,34 @@ const (
 	NetworkBoth     CPMNetwork = "both"     // y ~ positive strength + negative strength
 )
 
+// ClassWeight is the value of the class_weight key of [model.logistic]
+// and [model.kernel_logistic]: how much each training participant counts
+// in the fit. ClassWeightNone or ClassWeightBalanced; "" is unset
+// (SetDefaults makes it ClassWeightNone).
+type ClassWeight string
+
+// Values of the class_weight key.
+const (
+	ClassWeightNone ClassWeight = "none" // every participant weighs 1
+	// ClassWeightBalanced weighs a participant of class k by
+	// w_k = n/(K·n_k), n_k of the n training participants being of class k
+	// and K the number of classes (scikit-learn's class_weight="balanced"):
+	// every class then weighs n/K in all.
+	ClassWeightBalanced ClassWeight = "balanced"
+)
+
+// UnmarshalText sets w to the word text: "none", "balanced" or ""
+// (unset). Another word is an error listing these.
+func (w *ClassWeight) UnmarshalText(text []byte) error {
+	return enum.Parse(w, text, ClassWeightNone, ClassWeightBalanced)
+}
+
+// MarshalText returns the word of w.
+func (w ClassWeight) MarshalText() ([]byte, error) { return []byte(w), nil }
+
+// String returns the word of w.
+func (w ClassWeight) String() string { return string(w) }
+
 // UnmarshalText sets in to the word text: "functional", "structural",
 // "both" or "" (unset). Another word is an error listing these.
 func (in *Input) UnmarshalText(text []byte) error {
@@ -207,7 +240,27 @@ func (n CPMNetwork) String() string { return string(n) }
 const (
 	DefaultInnerFolds = 5
 	DefaultPThreshold = 0.01
+	// DefaultMaxIter is the default max_iter of the logistic baselines:
+	// L-BFGS iterations per fit.
+	DefaultMaxIter = 1000
+	// DefaultTol is the default tol of the logistic baselines: a fit stops
+	// when no element of the gradient of its objective divided by n
+	// exceeds it in absolute value (scikit-learn's tol has that meaning
+	// for solver="lbfgs", default 1e-4).
+	DefaultTol = 1e-6
 )
+
+// DefaultCs returns the default C grid of [model.logistic]: 13 values
+// log-spaced from 1e-5 to 10, half a decade apart. A connectome has
+// thousands of z-scored edges, each adding to every participant's linear
+// predictor, so the useful C lies far below scikit-learn's default of 1.
+func DefaultCs() []float64 {
+	cs := make([]float64, 13)
+	for i := range cs {
+		cs[i] = math.Pow(10, -5+0.5*float64(i))
+	}
+	return cs
+}
 
 // DefaultAlphas returns the default relative penalty grid: 13 values
 // log-spaced from 1e-3 to 1e3, half a decade apart.
@@ -277,36 +330,91 @@ type CPMConfig struct {
 	Network CPMNetwork `toml:"network"`
 }
 
+// MajorityConfig configures the majority-class predictor
+// ([model.majority]), which has no settings: it predicts the training
+// fold's class frequencies as every participant's probabilities.
+type MajorityConfig struct{}
+
+// LogisticConfig configures L2-penalised logistic regression on
+// connectome edges ([model.logistic]); see Logistic.
+type LogisticConfig struct {
+	// Input is "functional" (default), "structural" or "both".
+	Input Input `toml:"input"`
+	// Standardize is "zscore" (default) or "center", as for ridge.
+	Standardize Standardization `toml:"standardize"`
+	// Cs is the grid of inverse penalties C searched by inner
+	// cross-validation, each positive and finite, with scikit-learn's
+	// meaning: the penalty is ‖W‖²/(2C) beside the sum of the
+	// participants' cross-entropies, so a larger C penalises less (C is
+	// 1/alpha of kernel_logistic). nil takes DefaultCs(); an empty grid
+	// (cs = []) is an error.
+	Cs []float64 `toml:"cs"`
+	// InnerFolds is the number of inner folds, stratified by class, used
+	// to choose C, at least 2; nil takes DefaultInnerFolds. With a single
+	// C no inner cross-validation is run.
+	InnerFolds *int `toml:"inner_folds"`
+	// ClassWeight is "none" (default) or "balanced"; see
+	// ClassWeightBalanced.
+	ClassWeight ClassWeight `toml:"class_weight"`
+	// MaxIter is the most L-BFGS iterations of a fit, at least 1; nil
+	// takes DefaultMaxIter.
+	MaxIter *int `toml:"max_iter"`
+	// Tol stops a fit when every element of the gradient of its objective
+	// divided by n is below it in absolute value, positive; nil takes
+	// DefaultTol.
+	Tol *float64 `toml:"tol"`
+}
+
+// KernelLogisticConfig configures kernel logistic regression between
+// participants' edge vectors ([model.kernel_logistic]); see
+// KernelLogistic.
+type KernelLogisticConfig struct {
+	// Input is "functional" (default), "structural" or "both".
+	Input Input `toml:"input"`
+	// Kernel is "correlation" (default) or "linear", as for kernel ridge.
+	Kernel Kernel `toml:"kernel"`
+	// Alphas is the penalty grid searched by inner cross-validation, each
+	// positive and finite (a zero penalty has no finite solution when the
+	// kernel separates the classes). With alpha_scale = "relative"
+	// (default) each is multiplied by trace(K)/n as for kernel ridge;
+	// default DefaultAlphas() then, required with "absolute".
+	Alphas     []float64  `toml:"alphas"`
+	AlphaScale AlphaScale `toml:"alpha_scale"`
+	// InnerFolds, ClassWeight, MaxIter and Tol are as in LogisticConfig.
+	InnerFolds  *int        `toml:"inner_folds"`
+	ClassWeight ClassWeight `toml:"class_weight"`
+	MaxIter     *int        `toml:"max_iter"`
+	Tol         *float64    `toml:"tol"`
+}
+
 // Kind returns the key of the chosen baseline ("mean", "ridge",
-// "kernel_ridge" or "cpm"), or "" when none is set. With more than one
-// set it returns the first; Validate reports that case.
+// "kernel_ridge", "cpm", "majority", "logistic" or "kernel_logistic"),
+// or "" when none is set. With more than one set it returns the first;
+// Validate reports that case.
 func (c Config) Kind() string {
-	switch {
-	case c.Mean != nil:
-		return kindMean
-	case c.Ridge != nil:
-		return kindRidge
-	case c.KernelRidge != nil:
-		return kindKernelRidge
-	case c.CPM != nil:
-		return kindCPM
+	if kinds := c.kinds(); len(kinds) > 0 {
+		return kinds[0]
 	}
 	return ""
 }
 
 func (c Config) kinds() []string {
 	var kinds []string
-	if c.Mean != nil {
-		kinds = append(kinds, kindMean)
-	}
-	if c.Ridge != nil {
-		kinds = append(kinds, kindRidge)
-	}
-	if c.KernelRidge != nil {
-		kinds = append(kinds, kindKernelRidge)
-	}
-	if c.CPM != nil {
-		kinds = append(kinds, kindCPM)
+	for _, k := range []struct {
+		set  bool
+		name string
+	}{
+		{c.Mean != nil, kindMean},
+		{c.Ridge != nil, kindRidge},
+		{c.KernelRidge != nil, kindKernelRidge},
+		{c.CPM != nil, kindCPM},
+		{c.Majority != nil, kindMajority},
+		{c.Logistic != nil, kindLogistic},
+		{c.KernelLogistic != nil, kindKernelLogistic},
+	} {
+		if k.set {
+			kinds = append(kinds, k.name)
+		}
 	}
 	return kinds
 }
@@ -333,6 +441,33 @@ func (c *Config) SetDefaults() {
 			p.PThreshold = new(DefaultPThreshold)
 		}
 	}
+	if l := c.Logistic; l != nil {
+		setDefault(&l.Input, InputFunctional)
+		setDefault(&l.Standardize, StandardizeZScore)
+		if l.Cs == nil {
+			l.Cs = DefaultCs()
+		}
+		setSolverDefaults(&l.InnerFolds, &l.ClassWeight, &l.MaxIter, &l.Tol)
+	}
+	if k := c.KernelLogistic; k != nil {
+		setDefault(&k.Input, InputFunctional)
+		setDefault(&k.Kernel, KernelCorrelation)
+		setAlphaDefaults(&k.Alphas, &k.AlphaScale, &k.InnerFolds)
+		setSolverDefaults(&k.InnerFolds, &k.ClassWeight, &k.MaxIter, &k.Tol)
+	}
+}
+
+func setSolverDefaults(folds **int, cw *ClassWeight, maxIter **int, tol **float64) {
+	if *folds == nil {
+		*folds = new(DefaultInnerFolds)
+	}
+	setDefault(cw, ClassWeightNone)
+	if *maxIter == nil {
+		*maxIter = new(DefaultMaxIter)
+	}
+	if *tol == nil {
+		*tol = new(DefaultTol)
+	}
 }
 
 func setDefault[T ~string](s *T, def T) {
@@ -358,7 +493,7 @@ func setAlphaDefaults(alphas *[]float64, scale *AlphaScale, folds **int) {
 func (c Config) Validate() error {
 	switch kinds := c.kinds(); len(kinds) {
 	case 0:
-		return errors.New("model: no baseline table (mean, ridge, kernel_ridge or cpm) is set")
+		return errors.New("model: no baseline table (mean, ridge, kernel_ridge, cpm, majority, logistic or kernel_logistic) is set")
 	case 1:
 	default:
 		return fmt.Errorf("model: tables model.%s are all set; choose one", strings.Join(kinds, " and model."))
@@ -411,6 +546,58 @@ func (c Config) Validate() error {
 			return fmt.Errorf("%s.p_threshold: must be in (0, 1], found %s", key, optional(p.PThreshold))
 		}
 	}
+	if l := c.Logistic; l != nil {
+		const key = "model.logistic"
+		if err := enum.Check(l.Input); err != nil {
+			return fmt.Errorf("%s.input: %w", key, err)
+		}
+		if err := enum.Check(l.Standardize); err != nil {
+			return fmt.Errorf("%s.standardize: %w", key, err)
+		}
+		if len(l.Cs) == 0 {
+			return fmt.Errorf("%s.cs: at least one C is required", key)
+		}
+		for _, v := range l.Cs {
+			if !(v > 0) || math.IsInf(v, 1) {
+				return fmt.Errorf("%s.cs: must be positive and finite, found %v", key, v)
+			}
+		}
+		return checkSolver(key, l.InnerFolds, l.ClassWeight, l.MaxIter, l.Tol)
+	}
+	if k := c.KernelLogistic; k != nil {
+		const key = "model.kernel_logistic"
+		if err := enum.Check(k.Input); err != nil {
+			return fmt.Errorf("%s.input: %w", key, err)
+		}
+		if err := enum.Check(k.Kernel); err != nil {
+			return fmt.Errorf("%s.kernel: %w", key, err)
+		}
+		if err := checkAlphas(key, k.Alphas, k.AlphaScale, k.InnerFolds); err != nil {
+			return err
+		}
+		for _, a := range k.Alphas {
+			if a == 0 {
+				return fmt.Errorf("%s.alphas: must be positive, found 0", key)
+			}
+		}
+		return checkSolver(key, k.InnerFolds, k.ClassWeight, k.MaxIter, k.Tol)
+	}
+	return nil
+}
+
+func checkSolver(key string, folds *int, cw ClassWeight, maxIter *int, tol *float64) error {
+	if folds == nil || *folds < 2 {
+		return fmt.Errorf("%s.inner_folds: must be at least 2, found %s", key, optional(folds))
+	}
+	if err := enum.Check(cw); err != nil {
+		return fmt.Errorf("%s.class_weight: %w", key, err)
+	}
+	if maxIter == nil || *maxIter < 1 {
+		return fmt.Errorf("%s.max_iter: must be at least 1, found %s", key, optional(maxIter))
+	}
+	if tol == nil || !(*tol > 0) || math.IsInf(*tol, 1) {
+		return fmt.Errorf("%s.tol: must be positive and finite, found %s", key, optional(tol))
+	}
 	return nil
 }
 
@@ -458,7 +645,30 @@ func (c Config) New(targets int, seed int64) (model.Regressor, error) {
 		return NewRidge(*c.Ridge, seed), nil
 	case c.KernelRidge != nil:
 		return NewKernelRidge(*c.KernelRidge, seed), nil
-	default:
+	case c.CPM != nil:
 		return NewCPM(*c.CPM), nil
 	}
+	return nil, fmt.Errorf("model.%s: the kind predicts class labels, not scores", c.Kind())
+}
+
+// NewClassifier builds the chosen classification baseline (majority,
+// logistic or kernel_logistic) for a label of the given number of classes;
+// seed drives its inner fold assignment. c must pass Validate. A baseline
+// for scores is an error.
+func (c Config) NewClassifier(classes int, seed int64) (model.Classifier, error) {
+	if classes < 2 {
+		return nil, fmt.Errorf("linear: a label needs at least two classes, found %d", classes)
+	}
+	if err := c.Validate(); err != nil {
+		return nil, err
+	}
+	switch {
+	case c.Majority != nil:
+		return NewMajority(classes), nil
+	case c.Logistic != nil:
+		return NewLogistic(*c.Logistic, classes, seed), nil
+	case c.KernelLogistic != nil:
+		return NewKernelLogistic(*c.KernelLogistic, classes, seed), nil
+	}
+	return nil, fmt.Errorf("model.%s: the kind predicts scores, not class labels", c.Kind())
 }

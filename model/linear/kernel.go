@@ -128,12 +128,19 @@ func (k *KernelRidge) Fit(ctx context.Context, train, valid model.Dataset) error
 	return nil
 }
 
-// edges returns the participants' edge vectors, for the correlation kernel
-// centred and scaled to unit length. A participant whose edges are all
-// equal has no correlation with anyone and is an error.
+// edges returns the participants' edge vectors as kernelEdges does.
 func (k *KernelRidge) edges(ps []*data.Participant, p int) (*mat.Dense, int, error) {
-	x, p, err := edgeMatrix(ps, k.cfg.Input, p)
-	if err != nil || k.cfg.Kernel != KernelCorrelation {
+	return kernelEdges(ps, k.cfg.Input, k.cfg.Kernel, p)
+}
+
+// kernelEdges returns the participants' edge vectors of input (see
+// edgeMatrix), for the correlation kernel centred and scaled to unit
+// length per participant, so that the kernel is their dot product. A
+// participant whose edges are all equal has no correlation with anyone and
+// is an error.
+func kernelEdges(ps []*data.Participant, input Input, kernel Kernel, p int) (*mat.Dense, int, error) {
+	x, p, err := edgeMatrix(ps, input, p)
+	if err != nil || kernel != KernelCorrelation {
 		return x, p, err
 	}
 	n, _ := x.Dims()
@@ -151,7 +158,7 @@ func (k *KernelRidge) edges(ps []*data.Participant, p int) (*mat.Dense, int, err
 		}
 		norm = math.Sqrt(norm)
 		if norm <= 1e-12*math.Abs(mean)*math.Sqrt(float64(len(row))) || norm == 0 {
-			return nil, p, fmt.Errorf("participant %q: every %s edge has the same value %v, so the correlation kernel is undefined", ps[i].ID, k.cfg.Input, mean)
+			return nil, p, fmt.Errorf("participant %q: every %s edge has the same value %v, so the correlation kernel is undefined", ps[i].ID, input, mean)
 		}
 		for j := range row {
 			row[j] /= norm

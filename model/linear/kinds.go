@@ -13,6 +13,10 @@ const (
 	kindRidge       = "ridge"
 	kindKernelRidge = "kernel_ridge"
 	kindCPM         = "cpm"
+
+	kindMajority       = "majority"
+	kindLogistic       = "logistic"
+	kindKernelLogistic = "kernel_logistic"
 )
 
 // patternImportance is the edge importance of ridge and kernel ridge.
@@ -21,8 +25,10 @@ var patternImportance = model.Importance{
 	Description: "Activation pattern cov(edge, prediction) over the test participants (Haufe et al. 2014)",
 }
 
-// The baselines register themselves as kinds of model: all are baselines
-// and fit score columns independently, and all can be saved.
+// The baselines register themselves as kinds of model: all are baselines,
+// those for scores fit score columns independently, and all can be saved.
+// majority, logistic and kernel_logistic learn class labels only
+// (NewClassifier; New is nil).
 func init() {
 	model.Register(model.Kind{
 		Name: kindMean, Baseline: true, ColumnWise: true,
@@ -107,6 +113,55 @@ func init() {
 			return nil
 		},
 	})
+	model.Register(model.Kind{
+		Name: kindMajority, Baseline: true,
+		NewClassifier: func(s model.Settings, _, classes int, seed int64) (model.Classifier, error) {
+			c, ok := s.(*MajorityConfig)
+			if !ok {
+				return nil, settingsError(kindMajority, s, c)
+			}
+			return Config{Majority: c}.NewClassifier(classes, seed)
+		},
+		LoadClassifier: classifierLoader(kindMajority),
+	})
+	model.Register(model.Kind{
+		Name: kindLogistic, Baseline: true,
+		NewClassifier: func(s model.Settings, _, classes int, seed int64) (model.Classifier, error) {
+			c, ok := s.(*LogisticConfig)
+			if !ok {
+				return nil, settingsError(kindLogistic, s, c)
+			}
+			return Config{Logistic: c}.NewClassifier(classes, seed)
+		},
+		LoadClassifier: classifierLoader(kindLogistic),
+		Inputs:         inputs,
+		MinTrain: func(s model.Settings) (int, string) {
+			c, ok := s.(*LogisticConfig)
+			if !ok || len(c.Cs) < 2 || c.InnerFolds == nil {
+				return 0, "" // one C: no inner folds
+			}
+			return *c.InnerFolds, "model.logistic.inner_folds"
+		},
+	})
+	model.Register(model.Kind{
+		Name: kindKernelLogistic, Baseline: true,
+		NewClassifier: func(s model.Settings, _, classes int, seed int64) (model.Classifier, error) {
+			c, ok := s.(*KernelLogisticConfig)
+			if !ok {
+				return nil, settingsError(kindKernelLogistic, s, c)
+			}
+			return Config{KernelLogistic: c}.NewClassifier(classes, seed)
+		},
+		LoadClassifier: classifierLoader(kindKernelLogistic),
+		Inputs:         inputs,
+		MinTrain: func(s model.Settings) (int, string) {
+			c, ok := s.(*KernelLogisticConfig)
+			if !ok || len(c.Alphas) < 2 || c.InnerFolds == nil {
+				return 0, "" // one penalty: no inner folds
+			}
+			return *c.InnerFolds, "model.kernel_logistic.inner_folds"
+		},
+	})
 }
 
 // inputs is the Inputs of the baselines with an input key: the
@@ -119,6 +174,10 @@ func inputs(s model.Settings) (functional, structural bool) {
 	case *KernelRidgeConfig:
 		in = c.Input
 	case *CPMConfig:
+		in = c.Input
+	case *LogisticConfig:
+		in = c.Input
+	case *KernelLogisticConfig:
 		in = c.Input
 	}
 	switch in {
@@ -139,6 +198,40 @@ func settingsError(kind string, got model.Settings, want any) error {
 func loader(kind string) func(dir string) (model.Regressor, error) {
 	return func(dir string) (model.Regressor, error) { return load(dir, kind) }
 }
+
+// classifierLoader returns the LoadClassifier of a kind: LoadClassifier,
+// refusing a folder that holds a baseline of another kind.
+func classifierLoader(kind string) func(dir string) (model.Classifier, error) {
+	return func(dir string) (model.Classifier, error) { return loadClassifier(dir, kind) }
+}
+
+// SetDefaults does nothing: the majority-class predictor has no settings.
+func (*MajorityConfig) SetDefaults() {}
+
+// Validate returns nil: the majority-class predictor has no settings.
+func (MajorityConfig) Validate() error { return nil }
+
+// SetDefaults fills every unset field with its documented default.
+func (c *LogisticConfig) SetDefaults() { (&Config{Logistic: c}).SetDefaults() }
+
+// Validate reports the first setting that cannot work, naming its key
+// (for example "model.logistic.cs").
+func (c LogisticConfig) Validate() error { return Config{Logistic: &c}.Validate() }
+
+// InapplicableKeys returns inner_folds when the C grid holds one value
+// (model.Inapplicable).
+func (c LogisticConfig) InapplicableKeys() []string { return innerFoldsUnused(c.Cs) }
+
+// SetDefaults fills every unset field with its documented default.
+func (c *KernelLogisticConfig) SetDefaults() { (&Config{KernelLogistic: c}).SetDefaults() }
+
+// Validate reports the first setting that cannot work, naming its key
+// (for example "model.kernel_logistic.alphas").
+func (c KernelLogisticConfig) Validate() error { return Config{KernelLogistic: &c}.Validate() }
+
+// InapplicableKeys returns inner_folds when the alpha grid holds one value
+// (model.Inapplicable).
+func (c KernelLogisticConfig) InapplicableKeys() []string { return innerFoldsUnused(c.Alphas) }
 
 // SetDefaults does nothing: the mean predictor has no settings.
 func (*MeanConfig) SetDefaults() {}

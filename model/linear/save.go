@@ -15,27 +15,37 @@ import (
 	"github.com/skein-neuro/skein/model"
 )
 
-// A saved baseline is a folder holding manifest.json and, for ridge and
-// kernel ridge, weights.npy:
+// A saved baseline is a folder holding manifest.json and, for ridge,
+// kernel ridge, logistic and kernel logistic, weights.npy:
 //
 //	manifest.json  {"format": "skein-linear", "version": 1,
-//	               "kind": "mean", "ridge", "kernel_ridge" or "cpm",
+//	               "kind": "mean", "ridge", "kernel_ridge", "cpm", "majority",
+//	               "logistic" or "kernel_logistic",
 //	               "input": the edges read ("functional", "structural", "both"),
-//	               "kernel": kernel ridge's kernel ("linear", "correlation"),
-//	               "p": regions, "alphas": the penalty chosen per target,
+//	               "kernel": the kernel of kernel ridge or kernel logistic
+//	               ("linear", "correlation"),
+//	               "p": regions, "alphas": the penalty chosen per target
+//	               (logistic: [the chosen C]; kernel logistic: [the chosen alpha]),
 //	               "intercept" (ridge, kernel ridge) or "means" (mean): one value per target,
 //	               "positive", "negative" (cpm): per target, the selected edges
 //	               (positions in Edges, ascending),
-//	               "coef" (cpm): per target, [b₀, b₊, b₋]}
-//	weights.npy    ridge and kernel ridge: float64, d × T in C order, rows in
-//	               the order of Edges (functional edges first for "both");
-//	               prediction = z · weights + intercept, z the raw edges for
-//	               ridge and the linear kernel, and for the correlation kernel
-//	               the edges centred and scaled to unit length per participant.
+//	               "coef" (cpm): per target, [b₀, b₊, b₋],
+//	               "classes" (majority, logistic, kernel logistic): K,
+//	               "frequencies" (majority): the K training class frequencies,
+//	               "intercept" (logistic, kernel logistic): m values, m = 1
+//	               for K = 2 (binary model) and K otherwise (softmax)}
+//	weights.npy    float64 in C order, rows in the order of Edges (functional
+//	               edges first for "both"); ridge and kernel ridge d × T,
+//	               prediction = z · weights + intercept; logistic and kernel
+//	               logistic d × m, linear functions f = z · weights + intercept,
+//	               P(class 1) = σ(f) for m = 1, softmax(f) otherwise. z is the
+//	               raw edges for ridge, logistic and the linear kernel, and for
+//	               the correlation kernel the edges centred and scaled to unit
+//	               length per participant.
 //
-// Kernel ridge is saved in its primal form, W = Xᵀα (KernelRidge.Weights),
-// so that the folder holds no training participant's edges; CPM as its
-// selected networks and strength coefficients.
+// Kernel ridge and kernel logistic are saved in their primal form,
+// W = Xᵀα (Weights), so that the folder holds no training participant's
+// edges; CPM as its selected networks and strength coefficients.
 const (
 	linearFormat   = "skein-linear"
 	linearVersion  = 1
@@ -51,6 +61,10 @@ var (
 	_ model.Saver = (*Ridge)(nil)
 	_ model.Saver = (*KernelRidge)(nil)
 	_ model.Saver = (*CPM)(nil)
+
+	_ model.Classifier = (*Majority)(nil)
+	_ model.Classifier = (*Logistic)(nil)
+	_ model.Classifier = (*KernelLogistic)(nil)
 )
 
 type linearManifestJSON struct {
@@ -66,6 +80,8 @@ type linearManifestJSON struct {
 	Positive  [][]int      `json:"positive,omitempty"`
 	Negative  [][]int      `json:"negative,omitempty"`
 	Coef      [][3]float64 `json:"coef,omitempty"`
+	Classes   int          `json:"classes,omitempty"`
+	Frequency []float64    `json:"frequencies,omitempty"`
 }
 
 // Save writes the fitted mean predictor to the folder dir.
@@ -117,6 +133,44 @@ func (c *CPM) Save(dir string) error {
 	}
 	return writeManifest(dir, linearManifestJSON{Kind: kindCPM, Input: c.cfg.Input, P: c.p,
 		Positive: nonNil(c.positive), Negative: nonNil(c.negative), Coef: c.coef})
+}
+
+// Save writes the fitted majority-class predictor to the folder dir: its
+// class frequencies.
+func (m *Majority) Save(dir string) error {
+	if m.freq == nil {
+		return errSaveUnfitted
+	}
+	return writeManifest(dir, linearManifestJSON{Kind: kindMajority, Classes: m.classes, Frequency: m.freq})
+}
+
+// Save writes the fitted logistic regression to the folder dir: its
+// weights on the raw edge scale (Weights), intercepts and chosen C. The
+// loaded model predicts exactly what this one does.
+func (l *Logistic) Save(dir string) error {
+	if l.weights == nil {
+		return errSaveUnfitted
+	}
+	if err := writeWeights(dir, l.weights); err != nil {
+		return err
+	}
+	return writeManifest(dir, linearManifestJSON{Kind: kindLogistic, Input: l.cfg.Input, P: l.p,
+		Alphas: []float64{l.c}, Intercept: l.intercept, Classes: l.classes})
+}
+
+// Save writes the fitted kernel logistic regression to the folder dir in
+// its primal form (Weights and Intercept), without the training
+// participants' edges. The loaded model predicts the same up to rounding.
+func (k *KernelLogistic) Save(dir string) error {
+	w := k.Weights()
+	if w == nil {
+		return errSaveUnfitted
+	}
+	if err := writeWeights(dir, w); err != nil {
+		return err
+	}
+	return writeManifest(dir, linearManifestJSON{Kind: kindKernelLogistic, Input: k.cfg.Input, Kernel: k.cfg.Kernel,
+		P: k.p, Alphas: []float64{k.alpha}, Intercept: k.intercept, Classes: k.classes})
 }
 
 // nonNil returns sets with every nil set made empty, so that JSON holds
@@ -187,6 +241,68 @@ func writeManifest(dir string, m linearManifestJSON) error {
 	return os.WriteFile(filepath.Join(dir, linearManifest), raw, 0o644)
 }
 
+// LoadClassifier reads a classification baseline (majority, logistic or
+// kernel logistic) saved by its Save from the folder dir. A file of an
+// unknown format or version, a baseline for scores, or weights that do not
+// match the manifest are errors naming the file.
+func LoadClassifier(dir string) (model.Classifier, error) { return loadClassifier(dir, "") }
+
+// loadClassifier is LoadClassifier, refusing a baseline of another kind
+// than want unless want is empty.
+func loadClassifier(dir, want string) (model.Classifier, error) {
+	path := filepath.Join(dir, linearManifest)
+	m, err := readManifest(path, want)
+	if err != nil {
+		return nil, err
+	}
+	switch m.Kind {
+	case kindMajority:
+		if m.Classes < 2 || len(m.Frequency) != m.Classes {
+			return nil, fmt.Errorf("%s: %d frequencies for %d classes, want as many and at least 2", path, len(m.Frequency), m.Classes)
+		}
+		return &Majority{classes: m.Classes, freq: m.Frequency}, nil
+	case kindLogistic, kindKernelLogistic:
+		if m.Classes < 2 || len(m.Intercept) != outputs(m.Classes) || len(m.Alphas) != 1 {
+			return nil, fmt.Errorf("%s: %d intercepts and %d penalties for %d classes, want classes ≥ 2, %d intercepts and 1 penalty",
+				path, len(m.Intercept), len(m.Alphas), m.Classes, outputs(max(m.Classes, 2)))
+		}
+		w, err := readWeights(dir, path, m)
+		if err != nil {
+			return nil, err
+		}
+		if m.Kind == kindLogistic {
+			return &Logistic{cfg: LogisticConfig{Input: m.Input}, classes: m.Classes, p: m.P, c: m.Alphas[0],
+				weights: w, intercept: m.Intercept, converged: true}, nil
+		}
+		if m.Kernel != KernelLinear && m.Kernel != KernelCorrelation {
+			return nil, fmt.Errorf("%s: kernel %q, want %q or %q", path, m.Kernel, KernelLinear, KernelCorrelation)
+		}
+		return &KernelLogistic{cfg: KernelLogisticConfig{Input: m.Input, Kernel: m.Kernel}, classes: m.Classes, p: m.P,
+			alpha: m.Alphas[0], primal: w, intercept: m.Intercept, converged: true}, nil
+	}
+	return nil, fmt.Errorf("%s: %w: kind %q is not a classifier", path, errors.ErrUnsupported, m.Kind)
+}
+
+// readManifest reads and checks the manifest at path, refusing a
+// baseline of another kind than want unless want is empty.
+func readManifest(path, want string) (linearManifestJSON, error) {
+	var m linearManifestJSON
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		return m, err
+	}
+	if err := json.Unmarshal(raw, &m); err != nil {
+		return m, fmt.Errorf("%s: %w", path, err)
+	}
+	if m.Format != linearFormat || m.Version != linearVersion {
+		return m, fmt.Errorf("%s: format %q version %d, want %s version %d", path, m.Format, m.Version, linearFormat, linearVersion)
+	}
+	if want != "" && m.Kind != want {
+		return m, fmt.Errorf("%s: holds a saved %s model, not %s", path, m.Kind, want)
+	}
+	return m, nil
+}
+
 // Load reads a baseline saved by Save from the folder dir. A file of an
 // unknown format or version, or weights that do not match the manifest,
 // are errors naming the file.
@@ -196,19 +312,9 @@ func Load(dir string) (model.Regressor, error) { return load(dir, "") }
 // is empty.
 func load(dir, want string) (model.Regressor, error) {
 	path := filepath.Join(dir, linearManifest)
-	raw, err := os.ReadFile(path)
+	m, err := readManifest(path, want)
 	if err != nil {
 		return nil, err
-	}
-	var m linearManifestJSON
-	if err := json.Unmarshal(raw, &m); err != nil {
-		return nil, fmt.Errorf("%s: %w", path, err)
-	}
-	if m.Format != linearFormat || m.Version != linearVersion {
-		return nil, fmt.Errorf("%s: format %q version %d, want %s version %d", path, m.Format, m.Version, linearFormat, linearVersion)
-	}
-	if want != "" && m.Kind != want {
-		return nil, fmt.Errorf("%s: holds a saved %s model, not %s", path, m.Kind, want)
 	}
 	switch m.Kind {
 	case kindMean:
