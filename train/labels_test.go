@@ -116,8 +116,8 @@ func accuracy(cps []model.ClassPrediction) float64 {
 
 // TestRunLabels: every model learns what its kind can, a participant with
 // a known label gets one class prediction per repeat and label, one with
-// a missing label none, probabilities sum to 1, the scores' predictions
-// are those of a run without the label, and --jobs does not change
+// a missing label none, probabilities sum to 1, fitting the classifiers
+// does not change the scores' predictions, and --jobs does not change
 // anything.
 func TestRunLabels(t *testing.T) {
 	mixed := withLabel(toyCohort(40, 6, 1, true), 1)
@@ -168,12 +168,14 @@ func TestRunLabels(t *testing.T) {
 				}
 				return
 			}
-			plain, err := (&Runner{Design: exp, Cohort: toyCohort(40, 6, 1, true)}).Run(context.Background())
+			// The same cohort (whose label stratifies the folds), its
+			// models fitted to the scores alone.
+			plain, err := (&Runner{Design: exp, Cohort: tc.cohort}).Run(context.Background())
 			if err != nil {
 				t.Fatal(err)
 			}
-			if !reflect.DeepEqual(res.Predictions, plain.Predictions) {
-				t.Fatal("adding a label changed the scores' predictions")
+			if !reflect.DeepEqual(res.Predictions, plain.Predictions) || len(plain.ClassPredictions) != 0 {
+				t.Fatal("fitting classifiers changed the scores' predictions")
 			}
 			if len(res.LabelLoss) == 0 {
 				t.Fatal("no inner validation log loss for the baselines' classifiers")
@@ -257,7 +259,9 @@ func TestLabelsNoLeakage(t *testing.T) {
 				*l = 1 - *l
 			}
 		}
-		res, err := (&Runner{Design: exp, Cohort: changed, Jobs: 1, newClassifier: newNearestNeighbour}).Run(context.Background())
+		// The folds of the base run: they are stratified by the label,
+		// which this changes.
+		res, err := (&Runner{Design: exp, Cohort: changed, Jobs: 1, newClassifier: newNearestNeighbour, splits: base.Splits}).Run(context.Background())
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -63,7 +63,7 @@ func TestModelConfigSpecErrors(t *testing.T) {
 		cfg  ModelConfig
 		want string
 	}{
-		{"none", ModelConfig{}, "no kind table is set; add one of [model.network], [model.mean], [model.ridge], [model.kernel_ridge] or [model.cpm]"},
+		{"none", ModelConfig{}, "no kind table is set; add one of [model.network], [model.mean], [model.ridge], [model.kernel_ridge], [model.cpm], [model.majority], [model.logistic] or [model.kernel_logistic]"},
 		{"two", ModelConfig{Network: &graphnet.Config{}, Config: linear.Config{Ridge: &linear.RidgeConfig{}}},
 			"tables model.network and model.ridge are both set; choose one"},
 		{"three", ModelConfig{Config: linear.Config{Mean: &linear.MeanConfig{}, Ridge: &linear.RidgeConfig{}, CPM: &linear.CPMConfig{}}},
