@@ -211,6 +211,18 @@ func answerP(p float64) string {
 	return fmt.Sprintf("= %.3f", p)
 }
 
+// AnswerRun returns the answer that opens a run's summary and report: the
+// answer about the scores (Answer) followed by that about the class labels
+// (AnswerLabels), or the latter alone for a run with labels and no score
+// comparisons.
+func AnswerRun(exp *Experiment, comps []eval.Comparison, labels []eval.ClassGroup) string {
+	answer := AnswerLabels(exp, labels)
+	if len(comps) > 0 || answer == "" {
+		answer = strings.TrimSpace(Answer(exp, comps) + " " + answer)
+	}
+	return answer
+}
+
 // AnswerLabels returns one sentence per class label of groups (the
 // classification figures of a run, eval.SummarizeClasses after
 // eval.CompareClasses), in order of first appearance: the models that fuse

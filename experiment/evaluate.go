@@ -417,16 +417,12 @@ func (rep *Report) Write(d *RunDir) error {
 	return nil
 }
 
-// WriteMarkdown writes summary.md: the answer (Answer), the run in one
+// WriteMarkdown writes summary.md: the answer (AnswerRun), the run in one
 // paragraph, the metrics tables, the comparison tables and the cautions.
 func (rep *Report) WriteMarkdown(w io.Writer) error {
 	var buf bytes.Buffer
 	exp := rep.Experiment
-	answer := AnswerLabels(exp, rep.Summary.Labels)
-	if len(rep.Comparisons) > 0 || answer == "" {
-		answer = strings.TrimSpace(Answer(exp, rep.Comparisons) + " " + answer)
-	}
-	fmt.Fprintf(&buf, "# skein run summary\n\n%s\n\n", eval.EscapeMarkdown(answer))
+	fmt.Fprintf(&buf, "# skein run summary\n\n%s\n\n", eval.EscapeMarkdown(AnswerRun(exp, rep.Comparisons, rep.Summary.Labels)))
 	buf.WriteString(rep.overview(eval.EscapeMarkdown) + "\n\n## Metrics\n\n")
 	if err := rep.Summary.WriteMarkdown(&buf); err != nil {
 		return err
