@@ -234,3 +234,40 @@ func TestLabelRunPlantedAndNull(t *testing.T) {
 		}
 	})
 }
+
+// TestAnswerLabels: the sentence about a class label names the model of
+// highest AUC (no model fuses structure with function here), its interval
+// and its verdict against the label's reference baseline at p <
+// AnswerLevel, as Answer does for r.
+func TestAnswerLabels(t *testing.T) {
+	exp := &Experiment{Models: []train.ModelConfig{
+		{Name: "majority", Config: linear.Config{Majority: &linear.MajorityConfig{}}},
+		{Name: "logistic", Config: linear.Config{Logistic: &linear.LogisticConfig{}}},
+	}}
+	ref := eval.ClassGroup{Model: "majority", Label: "diagnosis", Pooled: eval.ClassScores{AUC: 0.5}, IsReference: true}
+	group := func(auc, diff, p float64) eval.ClassGroup {
+		return eval.ClassGroup{Model: "logistic", Label: "diagnosis", Pooled: eval.ClassScores{AUC: auc}, Reference: "majority",
+			DiffAUC: eval.TTest{MeanDiff: diff, P: p}, Intervals: map[eval.ClassMetric]eval.Interval{eval.MetricAUC: {Lower: auc - 0.1, Upper: auc + 0.1}}}
+	}
+	for _, tc := range []struct {
+		name   string
+		groups []eval.ClassGroup
+		want   string
+	}{
+		{"beats", []eval.ClassGroup{ref, group(0.8, 0.3, 0.001)},
+			"The model of highest AUC on the class label diagnosis: logistic predicts diagnosis with AUC 0.800 (0.700 to 0.900), beating the reference baseline majority (AUC 0.500), ΔAUC +0.300, p = 0.001."},
+		{"not significant", []eval.ClassGroup{ref, group(0.55, 0.05, 0.4)},
+			"logistic predicts diagnosis with AUC 0.550 (0.450 to 0.650), not significantly different from the reference baseline majority (AUC 0.500), ΔAUC +0.050, p = 0.400."},
+		{"reference is best", []eval.ClassGroup{{Model: "logistic", Label: "diagnosis", Pooled: eval.ClassScores{AUC: 0.7}, IsReference: true}},
+			"logistic predicts diagnosis with AUC 0.700, and is itself the reference baseline."},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := AnswerLabels(exp, tc.groups); !strings.Contains(got, tc.want) {
+				t.Errorf("got %q\nwant it to hold %q", got, tc.want)
+			}
+		})
+	}
+	if got := AnswerRun(exp, nil, nil); !strings.Contains(got, "No model of this experiment learns from both") {
+		t.Errorf("without labels AnswerRun is Answer; got %q", got)
+	}
+}
