@@ -390,17 +390,25 @@ func wantWords(t reflect.Type) string {
 // scheme and models, whether fold models are kept, and whether baselines
 // record the inner-validation error that the reference baseline is chosen
 // on (when no comparison.reference is named and there are two baselines
-// or more).
+// or more), and the inner-validation log loss that a class label's
+// reference is chosen on (when comparison.reference names no baseline
+// that classifies and two baselines or more classify).
 func (e *Experiment) Design() *train.Design {
-	baselines := 0
+	baselines, classifiers := 0, 0
+	namedClassifies := false
 	for _, m := range e.Models {
 		if k, err := m.Spec(); err == nil && k.Baseline {
 			baselines++
+			if k.NewClassifier != nil {
+				classifiers++
+				namedClassifies = namedClassifies || m.Name == e.Comparison.Reference
+			}
 		}
 	}
 	return &train.Design{
 		Seed: e.Seed, CV: e.CV, Models: e.Models, SaveModels: *e.Output.SaveModels,
 		InnerLoss:  e.Comparison.Reference == "" && baselines >= 2,
+		LabelLoss:  !namedClassifies && classifiers >= 2,
 		Preprocess: e.Preprocess,
 	}
 }

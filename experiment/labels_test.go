@@ -159,7 +159,9 @@ func labelRun(t *testing.T, seed int64, null bool) (map[string]eval.ClassGroup, 
 	}
 	exp.SetDefaults()
 	d := exp.Design()
-	d.InnerLoss = true
+	if !d.LabelLoss {
+		t.Fatal("two classifying baselines and no comparison.reference: the design records no inner log loss")
+	}
 	// A score that no model learns is fine: each learns the label.
 	if err := d.Check(sc.Cohort); err != nil {
 		t.Fatalf("Check: %v", err)

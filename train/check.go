@@ -114,7 +114,7 @@ func (d *Design) checkSplits(splits []Split, groups []string, models []ModelConf
 		case minTrain < need:
 			errs = append(errs, fmt.Errorf("model %q: %s: %d, but the training fold of repeat %d, fold %d holds only %d %s",
 				m.Name, key, need, worstTrain.Repeat+1, worstTrain.Fold+1, minTrain, unitWord(groups)))
-		case d.InnerLoss && k.Baseline && minFit >= 2 && minFitUnits >= 0 && minFitUnits < need:
+		case (d.InnerLoss || d.LabelLoss && k.NewClassifier != nil) && k.Baseline && minFit >= 2 && minFitUnits >= 0 && minFitUnits < need:
 			// The reference baseline is chosen on inner validation
 			// errors, for which the model trains without that part.
 			errs = append(errs, fmt.Errorf("model %q: %s: %d, but a training fold without its inner validation part (cv.inner_validation) holds only %d %s; lower one, or name a comparison.reference",

@@ -105,7 +105,7 @@ type Result struct {
 	//	−(1/n) Σᵢ log max(pᵢ,yᵢ, 10⁻¹⁵)
 	//
 	// over the n validation participants i with a class yᵢ; NaN when
-	// n = 0. It is recorded when InnerLoss is.
+	// n = 0. It is recorded when Design.LabelLoss is set.
 	LabelLoss map[Unit][]float64
 	// Units lists every unit of the run in order.
 	Units []Unit
@@ -739,7 +739,8 @@ func (r *Runner) buildClassifier(cfg ModelConfig, classes int, seed int64) (mode
 func (r *Runner) fitLabels(ctx context.Context, unit Unit, cfg ModelConfig, fd *foldData, emit func(Event), out *unitOutput) error {
 	seed := modelSeed(r.Design.Seed, unit.Repeat, unit.Fold)
 	byLabel := make([]map[string][]float64, len(fd.labelName))
-	wantLoss := wantsInnerLoss(r.Design, cfg) && fd.valid.Len() > 0 && !r.scoresOnly
+	k, err := cfg.Spec()
+	wantLoss := err == nil && k.Baseline && r.Design.LabelLoss && fd.valid.Len() > 0 && !r.scoresOnly
 	for l, label := range fd.labelName {
 		K := len(fd.classes[l])
 		trainSet := labelled(fd.train.Participants, l, K)
