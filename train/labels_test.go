@@ -4,8 +4,10 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io/fs"
 	"math"
 	"math/rand/v2"
+	"path/filepath"
 	"reflect"
 	"slices"
 	"strings"
@@ -452,4 +454,14 @@ func TestLabelsResumeAndMerge(t *testing.T) {
 		t.Fatal(err)
 	}
 	same("merged units", merged)
+}
+
+// TestLoadModelOfClassifier: classifiers are not saved, and pointing
+// LoadModel at a folder that does not exist says so, still wrapping
+// fs.ErrNotExist.
+func TestLoadModelOfClassifier(t *testing.T) {
+	_, err := LoadModel(filepath.Join(t.TempDir(), "models", "logistic", "r1-f1"))
+	if err == nil || !errors.Is(err, fs.ErrNotExist) || !strings.Contains(err.Error(), "only models fitted to scores are saved") {
+		t.Fatalf("LoadModel of a missing folder: %v", err)
+	}
 }

@@ -101,6 +101,9 @@ func LoadModel(dir string) (*SavedModel, error) {
 		if advice := modelFolderAdvice(dir); advice != "" {
 			return nil, fmt.Errorf("%s: %w (no %s): %s", dir, ErrNotModelFolder, FittedFile, advice)
 		}
+		if _, statErr := os.Stat(dir); errors.Is(statErr, fs.ErrNotExist) {
+			return nil, fmt.Errorf("%s: no saved model here; only models fitted to scores are saved (the classifiers of class labels are not, so skein predict gives no class probabilities): %w", dir, err)
+		}
 	}
 	if err != nil {
 		return nil, err
