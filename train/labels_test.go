@@ -128,6 +128,13 @@ func TestRunLabels(t *testing.T) {
 	for _, p := range labelsOnly.Participants {
 		p.Scores = nil
 	}
+	threeClasses := withLabel(toyCohort(40, 6, 1, true), 1)
+	threeClasses.Classes = [][]string{{"a", "b", "c"}}
+	for i, p := range threeClasses.Participants {
+		if p.Labels[0] >= 0 {
+			p.Labels[0] = i % 3
+		}
+	}
 	for _, tc := range []struct {
 		name   string
 		cohort *data.Cohort
@@ -135,6 +142,7 @@ func TestRunLabels(t *testing.T) {
 	}{
 		{"scores and a label", mixed, true},
 		{"a label only", labelsOnly, false},
+		{"three classes", threeClasses, true},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			exp := toyDesign(ridgeAndMean()...)
@@ -160,7 +168,12 @@ func TestRunLabels(t *testing.T) {
 				t.Fatalf("%d class predictions, want %d", len(res.ClassPredictions), want)
 			}
 			for _, cp := range res.ClassPredictions {
-				if cp.Observed < 0 || len(cp.Probabilities) != 2 || math.Abs(cp.Probabilities[0]+cp.Probabilities[1]-1) > 1e-12 || cp.Label != "diagnosis" {
+				K := len(tc.cohort.Classes[0])
+				var sum float64
+				for _, p := range cp.Probabilities {
+					sum += p
+				}
+				if cp.Observed < 0 || cp.Observed >= K || len(cp.Probabilities) != K || math.Abs(sum-1) > 1e-12 || cp.Label != "diagnosis" {
 					t.Fatalf("class prediction %+v", cp)
 				}
 			}
