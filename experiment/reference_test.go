@@ -41,6 +41,15 @@ name = "kernel-ridge"
 name = "cpm"
 [model.cpm]
 [[model]]
+name = "majority"
+[model.majority]
+[[model]]
+name = "logistic"
+[model.logistic]
+[[model]]
+name = "kernel-logistic"
+[model.kernel_logistic]
+[[model]]
 name = "network"
 [model.network]
 head = [32]

@@ -17,6 +17,8 @@ func TestExplicitZeros(t *testing.T) {
 		ridge  = "[[model]]\nname = \"m\"\n[model.ridge]\n"
 		kernel = "[[model]]\nname = \"m\"\n[model.kernel_ridge]\n"
 		cpm    = "[[model]]\nname = \"m\"\n[model.cpm]\n"
+		logit  = "[[model]]\nname = \"m\"\n[model.logistic]\n"
+		klogit = "[[model]]\nname = \"m\"\n[model.kernel_logistic]\n"
 	)
 	net := func(table, line string) string {
 		return "[[model]]\nname = \"m\"\n[model.network" + table + "]\n" + line +
@@ -41,6 +43,13 @@ func TestExplicitZeros(t *testing.T) {
 		{"model.ridge.alphas", ridge + "alphas = []\n", "model.ridge.alphas: at least one penalty is required", 0, nil},
 		{"model.kernel_ridge.inner_folds", kernel + "inner_folds = 0\n", "model.kernel_ridge.inner_folds: must be at least 2, found 0", 0, nil},
 		{"model.cpm.p_threshold", cpm + "p_threshold = 0.0\n", "model.cpm.p_threshold: must be in (0, 1], found 0", 0, nil},
+		{"model.logistic.cs", logit + "cs = [1.0, 0.0]\n", "model.logistic.cs: must be positive and finite, found 0", 0, nil},
+		{"model.logistic.inner_folds", logit + "inner_folds = 0\n", "model.logistic.inner_folds: must be at least 2, found 0", 0, nil},
+		{"model.logistic.max_iter", logit + "max_iter = 0\n", "model.logistic.max_iter: must be at least 1, found 0", 0, nil},
+		{"model.logistic.tol", logit + "tol = 0.0\n", "model.logistic.tol: must be positive and finite, found 0", 0, nil},
+		{"model.kernel_logistic.alphas", klogit + "alphas = [0.0]\n", "model.kernel_logistic.alphas: must be positive, found 0", 0, nil},
+		{"model.kernel_logistic.max_iter", klogit + "max_iter = 0\n", "model.kernel_logistic.max_iter: must be at least 1, found 0", 0, nil},
+		{"model.kernel_logistic.tol", klogit + "tol = 0.0\n", "model.kernel_logistic.tol: must be positive and finite, found 0", 0, nil},
 		{"model.network.epochs", net("", "epochs = 0\n"), "model.network.epochs: want at least 1, found 0", 0, nil},
 		{"model.network.batch_size", net("", "batch_size = 0\n"), "model.network.batch_size: want at least 1, found 0", 0, nil},
 		{"model.network.loss.delta", net(".loss", "delta = 0.0\n"), "model.network.loss.delta: want a finite threshold > 0, found 0", 0, nil},

@@ -9,7 +9,10 @@
 //
 // A kind is what the kind table of a model entry of an experiment file
 // names: [model.network], [model.mean], [model.ridge],
-// [model.kernel_ridge] or [model.cpm]. Each kind's package declares it
+// [model.kernel_ridge] or [model.cpm] for scores, and [model.majority],
+// [model.logistic] or [model.kernel_logistic] for class labels (the
+// network learns both). A kind for labels builds a Classifier
+// (NewClassifier, read back by LoadClassifier) instead of a Regressor. Each kind's package declares it
 // once, as a Kind registered with Register from its init function (in the
 // manner of database/sql drivers and image formats): its name (the table's
 // key), how to build a Regressor from its Settings (New) and how to read a

@@ -23,10 +23,13 @@ import (
 // TestKinds.
 func kindSettings() map[string]model.Settings {
 	return map[string]model.Settings{
-		"mean":         &linear.MeanConfig{},
-		"ridge":        &linear.RidgeConfig{Input: linear.InputBoth, InnerFolds: new(3)},
-		"kernel_ridge": &linear.KernelRidgeConfig{InnerFolds: new(3)},
-		"cpm":          &linear.CPMConfig{PThreshold: new(0.05)},
+		"mean":            &linear.MeanConfig{},
+		"ridge":           &linear.RidgeConfig{Input: linear.InputBoth, InnerFolds: new(3)},
+		"kernel_ridge":    &linear.KernelRidgeConfig{InnerFolds: new(3)},
+		"cpm":             &linear.CPMConfig{PThreshold: new(0.05)},
+		"majority":        &linear.MajorityConfig{},
+		"logistic":        &linear.LogisticConfig{Input: linear.InputBoth, InnerFolds: new(3)},
+		"kernel_logistic": &linear.KernelLogisticConfig{InnerFolds: new(3)},
 		"network": &graphnet.Config{Epochs: new(3), BatchSize: new(4), Branches: []graphnet.BranchConfig{{
 			Layers: []graphnet.LayerConfig{{Kind: "e2n", Channels: 2}, {Kind: "n2g", Size: 3}},
 		}}},
@@ -76,7 +79,8 @@ func part(ps []*data.Participant, y *mat.Dense, from, to int) model.Dataset {
 // interfaces they implement (ColumnWise, Interpreter, Saver), the number
 // of importance maps (one per view of ImportanceViews and target) and, for a
 // kind with a loader, that a saved and loaded regressor predicts as the
-// fitted one (a round trip; common practice, no source).
+// fitted one (a round trip; common practice, no source). Its classifiers
+// are checked by TestClassifierKinds.
 func TestKinds(t *testing.T) {
 	const n, p, nTrain, nValid = 30, 5, 18, 6
 	ps, y := tinyCohort(n, p)
@@ -86,7 +90,7 @@ func TestKinds(t *testing.T) {
 	for _, k := range model.Kinds() {
 		names = append(names, k.Name)
 	}
-	if want := []string{"cpm", "kernel_ridge", "mean", "network", "ridge"}; !slices.Equal(names, want) {
+	if want := []string{"cpm", "kernel_logistic", "kernel_ridge", "logistic", "majority", "mean", "network", "ridge"}; !slices.Equal(names, want) {
 		t.Errorf("Kinds() = %v, want %v", names, want)
 	}
 	for _, k := range model.Kinds() {
@@ -101,6 +105,13 @@ func TestKinds(t *testing.T) {
 			s.SetDefaults()
 			if err := s.Validate(); err != nil {
 				t.Fatal(err)
+			}
+			if k.New == nil {
+				if k.NewClassifier == nil || k.Load != nil || k.ColumnWise || k.Importance.Method != "" {
+					t.Errorf("has no New, but declares NewClassifier %v, Load %v, ColumnWise %v, importance %q",
+						k.NewClassifier != nil, k.Load != nil, k.ColumnWise, k.Importance.Method)
+				}
+				return
 			}
 			reg, err := k.New(s, p, 2, 11)
 			if err != nil {
@@ -165,6 +176,89 @@ func TestKinds(t *testing.T) {
 	}
 }
 
+// TestClassifierKinds builds, fits and runs every kind with a
+// NewClassifier on a tiny cohort with a binary and a three-class label (the
+// class of participant i is its latent z's tercile or sign) and checks
+// that its probabilities are len(test) × K rows summing to 1 and, for a
+// kind with a LoadClassifier, that a saved and loaded classifier predicts
+// as the fitted one (a round trip; common practice, no source).
+func TestClassifierKinds(t *testing.T) {
+	const n, p, nTrain, nValid = 36, 5, 24, 6
+	ps, y := tinyCohort(n, p)
+	settings := kindSettings()
+	for _, k := range model.Kinds() {
+		if k.NewClassifier == nil {
+			continue
+		}
+		for _, classes := range []int{2, 3} {
+			labels := make([]int, n)
+			cuts := []float64{0}
+			if classes == 3 {
+				cuts = []float64{-0.45, 0.45}
+			}
+			for i := range labels {
+				for _, c := range cuts {
+					if y.At(i, 0) > c {
+						labels[i]++
+					}
+				}
+			}
+			set := func(from, to int) model.LabelledSet {
+				return model.LabelledSet{Participants: ps[from:to], Classes: classes, Labels: labels[from:to]}
+			}
+			t.Run(fmt.Sprint(k.Name, " ", classes, " classes"), func(t *testing.T) {
+				s := settings[k.Name]
+				s.SetDefaults()
+				if err := s.Validate(); err != nil {
+					t.Fatal(err)
+				}
+				c, err := k.NewClassifier(s, p, classes, 11)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if err := c.Fit(context.Background(), set(0, nTrain), set(nTrain, nTrain+nValid)); err != nil {
+					t.Fatal(err)
+				}
+				test := ps[nTrain+nValid:]
+				proba, err := c.PredictProba(test)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if r, cols := proba.Dims(); r != len(test) || cols != classes {
+					t.Fatalf("PredictProba gave %d × %d, want %d × %d", r, cols, len(test), classes)
+				}
+				for i := range test {
+					if sum := mat.Sum(proba.RowView(i)); math.Abs(sum-1) > 1e-12 {
+						t.Errorf("row %d sums to %v", i, sum)
+					}
+				}
+				saver, ok := c.(interface{ Save(dir string) error })
+				if k.LoadClassifier == nil {
+					return
+				}
+				if !ok {
+					t.Fatalf("has a LoadClassifier, but its classifier %T has no Save", c)
+				}
+				dir := t.TempDir()
+				if err := saver.Save(dir); err != nil {
+					t.Fatal(err)
+				}
+				back, err := k.LoadClassifier(dir)
+				if err != nil {
+					t.Fatal(err)
+				}
+				got, err := back.PredictProba(test)
+				if err != nil {
+					t.Fatal(err)
+				}
+				if !mat.EqualApprox(got, proba, 1e-9) {
+					t.Errorf("probabilities after Save and LoadClassifier\n%v\nwant\n%v", mat.Formatted(got), mat.Formatted(proba))
+				}
+			})
+		}
+	}
+}
+
 // otherSettings is settings of no registered kind.
 type otherSettings struct{}
 
@@ -175,8 +269,15 @@ func (otherSettings) Validate() error { return nil }
 // panic, for settings of another type.
 func TestKindsRefuseOtherSettings(t *testing.T) {
 	for _, k := range model.Kinds() {
-		if _, err := k.New(otherSettings{}, 4, 1, 1); err == nil || !strings.Contains(err.Error(), k.Name) {
-			t.Errorf("%s: New with otherSettings: error %v, want one naming the kind", k.Name, err)
+		if k.New != nil {
+			if _, err := k.New(otherSettings{}, 4, 1, 1); err == nil || !strings.Contains(err.Error(), k.Name) {
+				t.Errorf("%s: New with otherSettings: error %v, want one naming the kind", k.Name, err)
+			}
+		}
+		if k.NewClassifier != nil {
+			if _, err := k.NewClassifier(otherSettings{}, 4, 2, 1); err == nil || !strings.Contains(err.Error(), k.Name) {
+				t.Errorf("%s: NewClassifier with otherSettings: error %v, want one naming the kind", k.Name, err)
+			}
 		}
 	}
 }
@@ -204,7 +305,7 @@ func TestLookupUnknown(t *testing.T) {
 	if !errors.Is(err, model.ErrUnknownKind) {
 		t.Fatalf("Lookup(\"lasso\"): error %v, want one wrapping ErrUnknownKind", err)
 	}
-	for _, want := range []string{`"lasso"`, "known kinds: cpm, kernel_ridge, mean, network, ridge"} {
+	for _, want := range []string{`"lasso"`, "known kinds: cpm, kernel_logistic, kernel_ridge, logistic, majority, mean, network, ridge"} {
 		if !strings.Contains(err.Error(), want) {
 			t.Errorf("Lookup(\"lasso\"): error %q does not contain %q", err, want)
 		}

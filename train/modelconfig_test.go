@@ -42,6 +42,9 @@ func TestModelConfigKind(t *testing.T) {
 		{ModelConfig{Config: linear.Config{Ridge: &linear.RidgeConfig{}}}, "ridge"},
 		{ModelConfig{Config: linear.Config{KernelRidge: &linear.KernelRidgeConfig{}}}, "kernel_ridge"},
 		{ModelConfig{Config: linear.Config{CPM: &linear.CPMConfig{}}}, "cpm"},
+		{ModelConfig{Config: linear.Config{Majority: &linear.MajorityConfig{}}}, "majority"},
+		{ModelConfig{Config: linear.Config{Logistic: &linear.LogisticConfig{}}}, "logistic"},
+		{ModelConfig{Config: linear.Config{KernelLogistic: &linear.KernelLogisticConfig{}}}, "kernel_logistic"},
 	}
 	for _, tt := range tests {
 		if got := tt.cfg.Kind(); got != tt.want {
@@ -211,5 +214,16 @@ func TestModelConfigInputs(t *testing.T) {
 		if f != tt.functional || s != tt.structural {
 			t.Errorf("%s: Inputs() = %v, %v, want %v, %v", tt.name, f, s, tt.functional, tt.structural)
 		}
+	}
+}
+
+// TestBuildModelRefusesLabelKinds: a kind that learns class labels only
+// builds no regressor; the error names the model and the kind.
+func TestBuildModelRefusesLabelKinds(t *testing.T) {
+	cfg := ModelConfig{Name: "dx", Config: linear.Config{Logistic: &linear.LogisticConfig{}}}
+	cfg.SetDefaults()
+	want := `model "dx": kind logistic learns class labels, not scores`
+	if _, err := buildModel(cfg, 4, 1, 1); err == nil || err.Error() != want {
+		t.Errorf("buildModel error %v, want %q", err, want)
 	}
 }

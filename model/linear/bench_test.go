@@ -100,3 +100,40 @@ func BenchmarkCPM(b *testing.B) {
 		})
 	}
 }
+
+// benchClassify fits a classification baseline on the benchmark cohort
+// with the sign of its (unpermuted) score as a binary label, then gives
+// the test participants' probabilities.
+func benchClassify(b *testing.B, cfg Config) {
+	train, test := benchCohort()
+	set := model.LabelledSet{Participants: train.Participants, Classes: 2, Labels: make([]int, benchTrain)}
+	for i := range set.Labels {
+		if train.Y.At(i, 0) > 0 {
+			set.Labels[i] = 1
+		}
+	}
+	cfg.SetDefaults()
+	b.ResetTimer()
+	for range b.N {
+		c, err := cfg.NewClassifier(2, 1)
+		if err != nil {
+			b.Fatal(err)
+		}
+		if err := c.Fit(context.Background(), set, model.LabelledSet{}); err != nil {
+			b.Fatal(err)
+		}
+		if _, err := c.PredictProba(test); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+// BenchmarkLogistic fits logistic regression with the default 13-C grid
+// and 5 inner folds, then predicts 55 participants.
+func BenchmarkLogistic(b *testing.B) { benchClassify(b, Config{Logistic: &LogisticConfig{}}) }
+
+// BenchmarkKernelLogistic is BenchmarkLogistic for kernel logistic
+// regression with the correlation kernel and the default alphas.
+func BenchmarkKernelLogistic(b *testing.B) {
+	benchClassify(b, Config{KernelLogistic: &KernelLogisticConfig{}})
+}

@@ -8,6 +8,21 @@
 // KernelRidgeConfig and CPMConfig. Config groups the four tables; a saved
 // mean predictor or ridge model is read back by Load.
 //
+// For a class label (a diagnosis) there are three model.Classifier
+// baselines: the majority-class predictor (Majority, [model.majority]),
+// L2-penalised logistic regression on edges (Logistic, [model.logistic]:
+// the binary model for two classes, softmax for more, as scikit-learn's
+// LogisticRegression) and kernel logistic regression with kernel ridge's
+// kernels (KernelLogistic, [model.kernel_logistic]), with settings
+// MajorityConfig, LogisticConfig and KernelLogisticConfig; Config groups
+// these tables too (Config.NewClassifier), and LoadClassifier reads a
+// saved one back. Logistic and KernelLogistic choose their penalty by
+// inner k-fold cross-validation on log loss, folds stratified by class,
+// and fit by L-BFGS (gonum's optimize) on the exact objective; with no
+// more participants than edges both solve in the n-dimensional span of the
+// training participants (the square root of their kernel), where every
+// solution lies.
+//
 // The baselines read a participant's connectome as its edges: the upper
 // triangle (i < j) of the p × p matrix, p(p−1)/2 values in the order of
 // Edges; input = "both" puts the structural edges after the functional

@@ -109,3 +109,63 @@ func ExampleEdges() {
 	// [0.5 0.2 -0.1]
 	// 1 2
 }
+
+// inventDiagnosis invents n participants of a fictional study with 6-region
+// functional connectomes and a diagnosis, "control" (class 0) or
+// "patient" (class 1), that is more likely the stronger the connectivity
+// of regions 0 and 1.
+func inventDiagnosis(rng *rand.Rand, n int) model.LabelledSet {
+	set := model.LabelledSet{Classes: 2}
+	for i := 0; i < n; i++ {
+		fc := mat.NewDense(6, 6, nil)
+		for a := 0; a < 6; a++ {
+			for b := a + 1; b < 6; b++ {
+				v := math.Atanh(0.6 * (2*rng.Float64() - 1)) // a Fisher z value
+				fc.Set(a, b, v)
+				fc.Set(b, a, v)
+			}
+		}
+		label := 0
+		if 4*fc.At(0, 1)+2*rng.NormFloat64() > 0 {
+			label = 1
+		}
+		set.Participants = append(set.Participants, &data.Participant{ID: fmt.Sprintf("sub-%02d", i+1), Functional: fc})
+		set.Labels = append(set.Labels, label)
+	}
+	return set
+}
+
+// Fit L2-penalised logistic regression on the edges of the functional
+// connectomes to a diagnosis, C chosen by 5-fold inner cross-validation
+// stratified by class, and give new participants' probabilities of each
+// class.
+func ExampleLogistic() {
+	rng := rand.New(rand.NewPCG(3, 4))
+	train, test := inventDiagnosis(rng, 80), inventDiagnosis(rng, 3)
+
+	cfg := linear.Config{Logistic: &linear.LogisticConfig{Cs: []float64{0.001, 0.01, 0.1, 1, 10}}}
+	cfg.SetDefaults()
+	clf, err := cfg.NewClassifier(2, 42)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	if err := clf.Fit(context.Background(), train, model.LabelledSet{}); err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Println("chosen C", clf.(*linear.Logistic).C())
+	proba, err := clf.PredictProba(test.Participants)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for i, p := range test.Participants {
+		fmt.Printf("%s: P(control) %.2f, P(patient) %.2f, diagnosis %d\n", p.ID, proba.At(i, 0), proba.At(i, 1), test.Labels[i])
+	}
+	// Output:
+	// chosen C 0.1
+	// sub-01: P(control) 0.17, P(patient) 0.83, diagnosis 1
+	// sub-02: P(control) 0.35, P(patient) 0.65, diagnosis 1
+	// sub-03: P(control) 0.61, P(patient) 0.39, diagnosis 0
+}

@@ -34,8 +34,10 @@ import (
 // in the parametrisation it uses (binary for two classes, multinomial for
 // more; the softmax model with two classes would be the binary model with
 // half the penalty). The penalty makes the softmax weights sum to zero
-// over the classes; the intercepts are determined up to a common shift,
-// which changes no probability.
+// over the classes; the intercepts are determined only up to a common
+// shift, which changes no probability, and the fit (started from zero, its
+// steps made of gradients, whose intercept parts sum to zero) returns
+// them summing to zero.
 //
 // C is chosen from the cs grid by inner k-fold cross-validation over the
 // training participants, folds stratified by class (and families kept
@@ -91,6 +93,10 @@ func (l *Logistic) Fit(ctx context.Context, train, valid model.LabelledSet) erro
 		return err
 	}
 	zscore := l.cfg.Standardize == StandardizeZScore
+	all := seq(len(ps))
+	if fitScaler(x, all, zscore).spread == 0 {
+		return fmt.Errorf("%s: every %s edge is constant over the training participants", key, l.cfg.Input)
+	}
 	solver := solverSettings{maxIter: *l.cfg.MaxIter, tol: *l.cfg.Tol}
 	lambdas := make([]float64, len(l.cfg.Cs))
 	for j, c := range l.cfg.Cs {
@@ -116,13 +122,9 @@ func (l *Logistic) Fit(ctx context.Context, train, valid model.LabelledSet) erro
 	if err := ctx.Err(); err != nil {
 		return err
 	}
-	all := seq(len(ps))
 	z, _, sc, toWeights, err := edgeDesign(&blocks, x, all, nil, zscore)
 	if err != nil {
 		return err
-	}
-	if sc.spread == 0 {
-		return fmt.Errorf("%s: every %s edge is constant over the training participants", key, l.cfg.Input)
 	}
 	lp := logitProblem{z: z, labels: labels, weights: classWeights(labels, l.classes, l.cfg.ClassWeight),
 		classes: l.classes, lambda: lambdas[best]}

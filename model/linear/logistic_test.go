@@ -177,6 +177,9 @@ func TestLogisticAgainstScikitLearn(t *testing.T) {
 			}
 			gotB := l.Intercept()
 			if m > 1 {
+				if sum := floats.Sum(gotB); math.Abs(sum) > 1e-10 {
+					t.Errorf("softmax intercepts %v sum to %v, want 0", gotB, sum)
+				}
 				gotB, wantB = centred(gotB), centred(wantB)
 			}
 			dp := elementMax(proba, denseOf(tc.Proba))
@@ -504,12 +507,9 @@ func TestStratifiedFolds(t *testing.T) {
 	labels := []int{0, 0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 2, 2, 2, 2, 2, 2, 2, 2, 2, 2, 2}
 	ps := edgeParticipants(make2(len(labels)))
 	for _, grouped := range []bool{false, true} {
-		if grouped {
-			for i, p := range ps {
-				p.Group = ""
-				if i%4 == 0 && i+1 < len(ps) {
-					p.Group, ps[i+1].Group = fmt.Sprint("family", i), fmt.Sprint("family", i)
-				}
+		if grouped { // pairs (0, 1), (4, 5), … are families
+			for i := 0; i+1 < len(ps); i += 4 {
+				ps[i].Group, ps[i+1].Group = fmt.Sprint("family", i), fmt.Sprint("family", i)
 			}
 		}
 		foldOf, err := stratifiedFolds(ps, labels, 3, 3, 9, "model.logistic.inner_folds")
@@ -691,8 +691,9 @@ func TestClassifiersFitSaveLoad(t *testing.T) {
 	}
 }
 
-// TestClassifierFitErrors: a class without participants, and more inner
-// folds than a class has participants, are errors naming the key.
+// TestClassifierFitErrors: a class without participants, more inner folds
+// than a class has participants, a label of another number of classes and
+// constant edges are errors naming the key.
 func TestClassifierFitErrors(t *testing.T) {
 	ps, labels := classCohort(1, 20, 5, 2)
 	only0 := []int{}
@@ -702,6 +703,10 @@ func TestClassifierFitErrors(t *testing.T) {
 		}
 	}
 	onlyOne := labelled(ps, labels, 2, only0)
+	flat := make([]*data.Participant, 20) // every edge 0
+	for i := range flat {
+		flat[i] = &data.Participant{ID: fmt.Sprint("flat-", i), Functional: mat.NewDense(5, 5, nil)}
+	}
 	few := labelled(ps, labels, 2, append(slices.Clone(only0), slices.Index(labels, 1)))
 	tests := []struct {
 		name string
@@ -713,6 +718,7 @@ func TestClassifierFitErrors(t *testing.T) {
 		{"kernel logistic, one class", NewKernelLogistic(withDefaultsK(KernelLogisticConfig{})), onlyOne, "model.kernel_logistic: class 1 has no participant"},
 		{"logistic, tiny class", NewLogistic(withDefaults(LogisticConfig{})), few, "model.logistic.inner_folds: 5 inner folds, but class 1 has only 1"},
 		{"wrong classes", NewLogistic(withDefaults(LogisticConfig{})), labelled(ps, labels, 3, seq(20)), "a label of 3 classes given to a model built for 2"},
+		{"constant edges", NewLogistic(withDefaults(LogisticConfig{Cs: []float64{1}})), labelled(flat, labels, 2, seq(20)), "model.logistic: every functional edge is constant"},
 	}
 	for _, tt := range tests {
 		err := tt.c.Fit(context.Background(), tt.set, model.LabelledSet{})

@@ -29,8 +29,9 @@ import (
 // P(class k) = e^{fᵢₖ}/Σⱼ e^{fᵢⱼ}, ℓᵢ = log Σⱼ e^{fᵢⱼ} − fᵢ,yᵢ.
 // These are the models and the objective of scikit-learn's
 // LogisticRegression(penalty="l2", C = 1/λ, solver="lbfgs") with sample
-// weights sᵢ: binary for two classes, multinomial for more (its objective
-// is F scaled by n, the same minimizer; its tol bounds the same gradient).
+// weights sᵢ: binary for two classes, multinomial for more. Its lbfgs
+// minimizes this same F (the weights divided by n), so its tol bounds
+// the same gradient as solverSettings.tol does here.
 // The gradient is ∂F/∂β = (zᵀR + λβ)/n, ∂F/∂b = (1ᵀR)/n with
 // Rᵢₖ = sᵢ·(pᵢₖ − [yᵢ = k]).
 type logitProblem struct {
