@@ -292,9 +292,8 @@ func ROCCurve(positive []bool, score []float64) (fpr, tpr, thresholds []float64)
 		}
 	}
 	sort.SliceStable(order, func(a, b int) bool { return score[order[a]] > score[order[b]] })
-	rate := func(count, total int) float64 { return ratio(count, total) }
-	fpr = []float64{rate(0, nNeg)}
-	tpr = []float64{rate(0, nPos)}
+	fpr = []float64{ratio(0, nNeg)}
+	tpr = []float64{ratio(0, nPos)}
 	thresholds = []float64{math.Inf(1)}
 	var tp, fp int
 	for j, i := range order {
@@ -306,8 +305,8 @@ func ROCCurve(positive []bool, score []float64) (fpr, tpr, thresholds []float64)
 		if j+1 < len(order) && score[order[j+1]] == score[i] {
 			continue
 		}
-		fpr = append(fpr, rate(fp, nNeg))
-		tpr = append(tpr, rate(tp, nPos))
+		fpr = append(fpr, ratio(fp, nNeg))
+		tpr = append(tpr, ratio(tp, nPos))
 		thresholds = append(thresholds, score[i])
 	}
 	return fpr, tpr, thresholds

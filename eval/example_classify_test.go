@@ -32,3 +32,18 @@ func ExampleScoreClasses() {
 	// sensitivity=0.75 specificity=0.75
 	// [[3 1] [1 3]]
 }
+
+// A tie between a positive and a negative counts one half: of the four
+// pairs of a positive and a negative, three are ordered and one tied, so
+// AUC = 3.5/4. (scikit-learn 1.2's roc_auc_score and roc_curve give the
+// same; its first threshold is 1.8, max(score) + 1, where skein's is +Inf.)
+func ExampleROCAUC() {
+	positive := []bool{false, true, false, true}
+	score := []float64{0.1, 0.4, 0.4, 0.8}
+	fmt.Println(eval.ROCAUC(positive, score))
+	fpr, tpr, thresholds := eval.ROCCurve(positive, score)
+	fmt.Println(fpr, tpr, thresholds)
+	// Output:
+	// 0.875
+	// [0 0 0.5 1] [0 0.5 1 1] [+Inf 0.8 0.4 0.1]
+}

@@ -79,6 +79,8 @@ func (r *Run) Figures(imp []ModelImportance, filters []FilterSummary) (figs []Fi
 		{SectionAnswer, r.AnswerFigures},
 		{SectionComparison, r.ComparisonFigures},
 		{SectionPredictions, r.ObservedFigures},
+		{"ROC curves", r.ROCFigures},
+		{"Calibration plots", r.CalibrationFigures},
 		{SectionLearning, r.LearningFigures},
 		{SectionNulls, r.NullFigures},
 		{SectionImportance, func() ([]Figure, error) { return r.ImportanceFigures(imp) }},

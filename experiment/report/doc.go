@@ -3,7 +3,8 @@
 //
 // Build reads a run folder (the files skein run writes: experiment.toml,
 // cohort.json, predictions.csv, metrics.json, comparison.csv, summary.md,
-// learning_curves.csv, permutations.csv, versions.txt, the unit
+// learning_curves.csv, permutations.csv, versions.txt,
+// class_predictions.csv of a run with categorical targets (labels), the unit
 // checkpoints under units/ and the saved fold networks under models/),
 // draws its figures with gonum.org/v1/plot into its figures/ folder, each
 // as PNG and SVG (in the style of internal/figure: one or two journal
@@ -17,12 +18,15 @@
 //
 // report.html opens with the answer (Run.Answer, the sentence summary.md
 // opens with) and the answer charts; every table and figure lists models
-// in the experiment's order, then scores in the order of its targets.
+// in the experiment's order, then scores in the order of its targets
+// (labels in the order of its labels).
 //
 // The figures are
 //
 //	answer-TARGET.png             every model's r within folds and MAE with bootstrap intervals
 //	observed-MODEL-TARGET.png     observed against predicted scores, pooled test predictions
+//	roc-LABEL.png                 ROC curves of every model on a label, with their AUCs
+//	calibration-LABEL.png         observed share of a class against the mean predicted probability, per bin
 //	comparison-TARGET.png         per-fold Pearson r and MAE of every model
 //	learning-MODEL.png            training and inner-validation loss per epoch of each fold
 //	null-MODEL-TARGET.png         permutation null distribution of r within folds
@@ -31,7 +35,10 @@
 //	cohort.png                    functional mean connectivity and structural density of the cohort
 //
 // each with an .svg beside it. File names are made safe for any file
-// system (see fileName).
+// system (see fileName). The ROC and calibration figures of a label are
+// in its own section (SectionLabel), after the scores' predictions, with
+// every model's confusion matrix at the threshold as a table of counts and
+// row percentages (ConfusionTables); a run without labels has none.
 //
 // report reads the run folder through package experiment's names and
 // readers and draws; it imports experiment, eval, train (for saved models),

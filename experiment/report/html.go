@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"html/template"
 	"io"
+	"math"
 	"path"
 	"path/filepath"
 	"strings"
@@ -57,6 +58,66 @@ type importanceBlock struct {
 type section struct {
 	Title   string
 	Figures []htmlFigure
+	// Confusions are the confusion matrices of a label's section.
+	Confusions []confusionView
+}
+
+// confusionView is a ConfusionTable as the page shows it: a row per
+// observed class, a cell per predicted class.
+type confusionView struct {
+	Model, Caption string
+	Classes        []string // column heads: the predicted classes
+	Rows           []confusionRow
+}
+
+type confusionRow struct {
+	Class string
+	Cells []confusionCell
+	N     int
+}
+
+type confusionCell struct {
+	Count    int
+	Percent  string
+	Diagonal bool
+}
+
+// view returns t as the page shows it: counts with the percentage of
+// their row, and a caption saying what was pooled and how classes were
+// predicted.
+func (t ConfusionTable) view() confusionView {
+	v := confusionView{Model: t.Model, Classes: t.Target.Classes}
+	for k, counts := range t.Counts {
+		row := confusionRow{Class: t.Target.Classes[k], N: t.RowTotal(k)}
+		for j, c := range counts {
+			pct := "–"
+			if p := t.RowPercent(k, j); !math.IsNaN(p) {
+				pct = fmt.Sprintf("%.0f%%", p)
+			}
+			row.Cells = append(row.Cells, confusionCell{Count: c, Percent: pct, Diagonal: j == k})
+		}
+		v.Rows = append(v.Rows, row)
+	}
+	pooled := "Test predictions of all folds"
+	if t.Repeats > 1 {
+		pooled = fmt.Sprintf("Test predictions of all folds and %d repeats (a participant counts once per repeat)", t.Repeats)
+	}
+	recalls := t.Recalls()
+	if len(t.Counts) == 2 {
+		v.Caption = fmt.Sprintf("%s; predicted %s when its probability is at least %v. Rows are the observed class, "+
+			"columns the predicted one; each cell gives the count and its share of the row. "+
+			"Sensitivity (%s found) %s, specificity (%s found) %s.",
+			pooled, t.Target.Classes[1], t.Threshold, t.Target.Classes[1], num(recalls[1]), t.Target.Classes[0], num(recalls[0]))
+		return v
+	}
+	var words []string
+	for k, rc := range recalls {
+		words = append(words, fmt.Sprintf("%s %s", t.Target.Classes[k], num(rc)))
+	}
+	v.Caption = fmt.Sprintf("%s; the predicted class is the most probable one. Rows are the observed class, "+
+		"columns the predicted one; each cell gives the count and its share of the row. Share of each class found: %s.",
+		pooled, strings.Join(words, ", "))
+	return v
 }
 
 type htmlFigure struct {
@@ -101,7 +162,16 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 			pg.Overview = append(pg.Overview, fmt.Sprintf("%d outlier flags on connectome quality (kept; see Cohort quality).", len(c.Outliers)))
 		}
 	}
-	pg.Overview = append(pg.Overview, fmt.Sprintf("Scores predicted: %s.", strings.Join(exp.Cohort.Targets, ", ")))
+	if len(exp.Cohort.Targets) > 0 {
+		pg.Overview = append(pg.Overview, fmt.Sprintf("Scores predicted: %s.", strings.Join(exp.Cohort.Targets, ", ")))
+	}
+	for _, lt := range r.Labels {
+		line := fmt.Sprintf("Label predicted: %s, classes %s", lt.Name, strings.Join(lt.Classes, ", "))
+		if len(lt.Classes) == 2 {
+			line += fmt.Sprintf(" (%s positive; predicted when its probability is at least %v)", lt.Classes[1], r.Threshold)
+		}
+		pg.Overview = append(pg.Overview, line+".")
+	}
 	cv := fmt.Sprintf("Splits: %d-fold cross-validation × %d repeats", *exp.CV.Folds, *exp.CV.Repeats)
 	if len(exp.CV.Confounds) > 0 {
 		cv += fmt.Sprintf("; confounds %s regressed out of the scores within each training fold", strings.Join(exp.CV.Confounds, ", "))
@@ -137,14 +207,25 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 		}
 		pg.Importance = append(pg.Importance, b)
 	}
-	for _, title := range []string{SectionComparison, SectionPredictions, SectionLearning, SectionNulls, SectionImportance, SectionFilters, SectionCohort} {
+	titles := []string{SectionComparison, SectionPredictions}
+	for _, lt := range r.Labels {
+		titles = append(titles, SectionLabel(lt.Name))
+	}
+	titles = append(titles, SectionLearning, SectionNulls, SectionImportance, SectionFilters, SectionCohort)
+	confusions := r.ConfusionTables()
+	for _, title := range titles {
 		s := section{Title: title}
 		for _, f := range figs {
 			if f.Section == title && title != SectionImportance {
 				s.Figures = append(s.Figures, embed(f))
 			}
 		}
-		if len(s.Figures) > 0 || (title == SectionImportance && len(imp) > 0) || (title == SectionFilters && len(filters) > 0) {
+		for _, t := range confusions {
+			if SectionLabel(t.Target.Name) == title {
+				s.Confusions = append(s.Confusions, t.view())
+			}
+		}
+		if len(s.Figures) > 0 || len(s.Confusions) > 0 || (title == SectionImportance && len(imp) > 0) || (title == SectionFilters && len(filters) > 0) {
 			pg.Sections = append(pg.Sections, s)
 		}
 	}
@@ -179,6 +260,8 @@ table { border-collapse: collapse; margin: .6rem 0 1rem; font-size: .9rem; overf
 th, td { border: 1px solid #c8c8d0; padding: .25rem .55rem; text-align: left; vertical-align: top; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
 th { background: #eef0f5; }
+td.diag { background: #eef4fb; font-weight: bold; }
+p.note { font-size: .85rem; color: #444; max-width: 44rem; }
 .caution { background: #fff6e0; border-left: 4px solid #d99a00; padding: .5rem 1rem; margin: 1rem 0; }
 .answer { font-size: 1.1rem; background: #eef4fb; border-left: 4px solid #0072b2; padding: .6rem 1rem; margin: 1rem 0; }
 figure { display: inline-block; margin: .6rem 1.5% 1.2rem 0; vertical-align: top; box-sizing: border-box; max-width: 100%; }
@@ -217,7 +300,14 @@ Rebuild it with <code>skein report</code> once the cause is fixed.</div>
 </div>
 {{range .Sections}}
 <h2>{{.Title}}</h2>
-{{range .Figures}}{{template "figure" .}}{{end}}{{if imp .Title}}{{range $.Importance}}
+{{range .Figures}}{{template "figure" .}}{{end}}{{range .Confusions}}
+<h3>{{.Model}} — confusion matrix</h3>
+<div class="scroll"><table class="confusion">
+<tr><th>observed \ predicted</th>{{range .Classes}}<th class="num">{{.}}</th>{{end}}<th class="num">n</th></tr>
+{{range .Rows}}<tr><th>{{.Class}}</th>{{range .Cells}}<td class="num{{if .Diagonal}} diag{{end}}">{{.Count}} ({{.Percent}})</td>{{end}}<td class="num">{{.N}}</td></tr>
+{{end}}</table></div>
+<p class="note">{{.Caption}}</p>
+{{end}}{{if imp .Title}}{{range $.Importance}}
 <h3>{{.Model}} — {{.Target}}{{with .View}} — {{.}} edges{{end}}</h3>
 {{with .Figure}}{{template "figure" .}}{{end}}
 <div class="scroll"><table class="edges">

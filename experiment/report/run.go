@@ -56,6 +56,16 @@ type Run struct {
 	Importance []UnitImportance
 	// Networks holds the first-layer filters of the saved fold networks.
 	Networks []SavedFilters
+	// Labels are the categorical targets of the run, in the order of the
+	// experiment's labels, and ClassRows the predictions of
+	// class_predictions.csv in report order; both nil for a run without
+	// labels (no such file).
+	Labels    []LabelTarget
+	ClassRows []ClassPrediction
+	// Threshold is the probability of class 1 of a binary label at or
+	// above which a participant is predicted class 1 (the experiment's
+	// [cv] threshold, DefaultThreshold when unset).
+	Threshold float64
 }
 
 // A CurvePoint is one row of learning_curves.csv.
@@ -158,6 +168,9 @@ func ReadRun(dir string) (*Run, error) {
 		if r.Nulls, err = eval.ReadNullCSV(bytes.NewReader(raw), filepath.Join(dir, experiment.PermutationFile)); err != nil {
 			return nil, err
 		}
+	}
+	if err := r.readClassPredictions(); err != nil {
+		return nil, err
 	}
 	if r.Importance, err = readImportance(filepath.Join(dir, experiment.UnitsDir)); err != nil {
 		return nil, err

@@ -1,0 +1,267 @@
+package report
+
+import (
+	"fmt"
+	"image/png"
+	"os"
+	"path/filepath"
+	"slices"
+	"strings"
+	"testing"
+
+	"github.com/skein-neuro/skein/experiment"
+	"github.com/skein-neuro/skein/internal/figure"
+)
+
+// classRun copies the tiny run and adds a hand-made class_predictions.csv
+// for its participants: a binary label "diagnosis" (control, patient;
+// every third participant a patient, the second participant's label
+// missing) predicted over two identical repeats by ridge (perfectly
+// separated), net (0.5 for everyone) and majority (0.3 for everyone; a
+// model the experiment does not list), and a label "subtype" of three
+// classes predicted by ridge in one repeat, wrongly (the next class) for
+// every fourth participant. It returns the folder and the expected
+// confusion counts, counted here by hand.
+func classRun(t *testing.T) (dir string, want map[string][][]int) {
+	t.Helper()
+	src, _ := buildTiny(t)
+	dir = filepath.Join(t.TempDir(), "run")
+	if err := os.CopyFS(dir, os.DirFS(src)); err != nil {
+		t.Fatal(err)
+	}
+	r, err := ReadRun(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var ids []string
+	for _, row := range r.Rows {
+		if !slices.Contains(ids, row.ParticipantID) {
+			ids = append(ids, row.ParticipantID)
+		}
+	}
+	want = map[string][][]int{
+		"ridge diagnosis": {{0, 0}, {0, 0}}, "net diagnosis": {{0, 0}, {0, 0}},
+		"majority diagnosis": {{0, 0}, {0, 0}}, "ridge subtype": {{0, 0, 0}, {0, 0, 0}, {0, 0, 0}},
+	}
+	var b strings.Builder
+	b.WriteString("participant_id,model,target,repeat,fold,observed,class,probability\n")
+	dx := []string{"control", "patient"}
+	for _, model := range []string{"ridge", "net", "majority"} {
+		for repeat := 1; repeat <= 2; repeat++ {
+			for i, id := range ids {
+				y := 0
+				if i%3 == 0 {
+					y = 1
+				}
+				observed := dx[y]
+				if i == 1 {
+					observed = ""
+				}
+				p := map[string]float64{"ridge": 0.2 + 0.6*float64(y) + 0.01*float64(i%5), "net": 0.5, "majority": 0.3}[model]
+				fmt.Fprintf(&b, "%s,%s,diagnosis,%d,%d,%s,control,%g\n", id, model, repeat, i%3+1, observed, 1-p)
+				fmt.Fprintf(&b, "%s,%s,diagnosis,%d,%d,%s,patient,%g\n", id, model, repeat, i%3+1, observed, p)
+				if observed == "" {
+					continue
+				}
+				predicted := map[string]int{"ridge": y, "net": 1, "majority": 0}[model]
+				want[model+" diagnosis"][y][predicted]++
+			}
+		}
+	}
+	sub := []string{"a", "b", "c"}
+	for i, id := range ids {
+		y := i % 3
+		predicted := y
+		if i%4 == 0 {
+			predicted = (y + 1) % 3
+		}
+		for k, class := range sub {
+			p := 0.2
+			if k == predicted {
+				p = 0.6
+			}
+			fmt.Fprintf(&b, "%s,ridge,subtype,1,%d,%s,%s,%g\n", id, i%3+1, sub[y], class, p)
+		}
+		want["ridge subtype"][y][predicted]++
+	}
+	if err := os.WriteFile(filepath.Join(dir, classPredictionsFile), []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return dir, want
+}
+
+// TestReportOfLabels: a run with class predictions gets, for each label,
+// a section with its ROC curves, calibration plot and confusion matrices,
+// between the score predictions and the learning curves; a run without
+// them gets none.
+func TestReportOfLabels(t *testing.T) {
+	dir, want := classRun(t)
+	figs, err := Build(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// A binary label draws one panel, one column wide; three classes draw
+	// three, two columns wide (common practice, no source).
+	sizes := map[string][2]float64{
+		"roc-diagnosis.png": {figure.SingleColumn, 3.6}, "calibration-diagnosis.png": {figure.SingleColumn, 3.6},
+		"roc-subtype.png": {figure.DoubleColumn, 3.2}, "calibration-subtype.png": {figure.DoubleColumn, 3.2},
+	}
+	for name, size := range sizes {
+		i := slices.IndexFunc(figs, func(f Figure) bool { return f.File == name })
+		if i < 0 {
+			t.Errorf("no figure %s; drew %v", name, names(figs))
+			continue
+		}
+		f := figs[i]
+		raw, err := os.ReadFile(filepath.Join(dir, experiment.FiguresDir, f.File))
+		if err != nil {
+			t.Fatal(err)
+		}
+		img, err := png.Decode(strings.NewReader(string(raw)))
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		if b := img.Bounds(); b.Dx() != int(size[0]*DPI) || b.Dy() != int(size[1]*DPI) {
+			t.Errorf("%s: %d × %d pixels, want %v × %v in", name, b.Dx(), b.Dy(), size[0], size[1])
+		}
+		if colours, ink := inkStats(img); colours < 3 || ink < 0.02 || ink > 0.95 {
+			t.Errorf("%s: %d colours, %.1f%% ink: blank or flooded", name, colours, 100*ink)
+		}
+		checkSVG(t, filepath.Join(dir, experiment.FiguresDir, f.SVGFile()), size[0], size[1])
+		if f.Section != SectionLabel(strings.TrimSuffix(strings.SplitN(name, "-", 2)[1], ".png")) {
+			t.Errorf("%s is in section %q", name, f.Section)
+		}
+	}
+	// The keys give each model's AUC: ridge separates the classes (1),
+	// a constant probability ranks every pair as a tie (0.5).
+	svg, err := os.ReadFile(filepath.Join(dir, experiment.FiguresDir, "roc-diagnosis.svg"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, key := range []string{"ridge: AUC 1<", "net: AUC 0.5<", "majority: AUC 0.5<", "chance (AUC 0.5)"} {
+		if !strings.Contains(string(svg), key) {
+			t.Errorf("roc-diagnosis.svg has no key %q", key)
+		}
+	}
+
+	raw, err := os.ReadFile(filepath.Join(dir, experiment.HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	page := string(raw)
+	order := []string{"<h2>Observed and predicted scores</h2>", "<h2>Classification of diagnosis</h2>", "roc-diagnosis.svg",
+		"calibration-diagnosis.svg", "<h3>ridge — confusion matrix</h3>", "<h3>net — confusion matrix</h3>",
+		"<h3>majority — confusion matrix</h3>", "<h2>Classification of subtype</h2>", "roc-subtype.svg",
+		"<h3>ridge — confusion matrix</h3>", "<h2>Learning curves</h2>", "not a diagnostic device"}
+	rest := page
+	for _, w := range order {
+		_, after, ok := strings.Cut(rest, w)
+		if !ok {
+			t.Fatalf("report.html: %q missing or out of order (want %v)", w, order)
+		}
+		rest = after
+	}
+	for _, w := range []string{"Label predicted: diagnosis, classes control, patient (patient positive; predicted when its probability is at least 0.5).",
+		"Label predicted: subtype, classes a, b, c."} {
+		if !strings.Contains(page, w) {
+			t.Errorf("report.html's summary lacks %q", w)
+		}
+	}
+	// Each table's rows, counted by hand in classRun.
+	for _, unit := range []struct {
+		name    string
+		classes []string
+	}{{"ridge diagnosis", []string{"control", "patient"}}, {"net diagnosis", []string{"control", "patient"}},
+		{"majority diagnosis", []string{"control", "patient"}}, {"ridge subtype", []string{"a", "b", "c"}}} {
+		counts := want[unit.name]
+		for k, row := range counts {
+			var n int
+			for _, c := range row {
+				n += c
+			}
+			var cells strings.Builder
+			for j, c := range row {
+				class := "num"
+				if j == k {
+					class = "num diag"
+				}
+				fmt.Fprintf(&cells, `<td class="%s">%d (%.0f%%)</td>`, class, c, 100*float64(c)/float64(n))
+			}
+			tr := fmt.Sprintf(`<tr><th>%s</th>%s<td class="num">%d</td></tr>`, unit.classes[k], cells.String(), n)
+			if !strings.Contains(page, tr) {
+				t.Errorf("%s: report.html lacks the row %s", unit.name, tr)
+			}
+		}
+	}
+	if !strings.Contains(page, "Sensitivity (patient found) 1, specificity (control found) 1.") {
+		t.Error("ridge's diagnosis table does not give sensitivity and specificity 1")
+	}
+
+	plain, err := os.ReadFile(filepath.Join(builtRun.dir, experiment.HTMLFile))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(string(plain), "Classification of") || strings.Contains(string(plain), "Label predicted") {
+		t.Error("the report of a run without labels has a classification section")
+	}
+}
+
+func TestReadClassPredictionsErrors(t *testing.T) {
+	const head = "participant_id,model,target,repeat,fold,observed,class,probability\n"
+	tests := []struct {
+		name, body, want string
+	}{
+		{"other classes", "s1,m,dx,1,1,no,no,0.4\ns1,m,dx,1,1,no,yes,0.6\ns2,m,dx,1,1,no,yes,0.6\ns2,m,dx,1,1,no,no,0.4\n",
+			`class_predictions.csv: line 4: participant "s2", model "m", target "dx", repeat 1 lists the classes yes,no, want no,yes`},
+		{"unknown observed", "s1,m,dx,1,1,maybe,no,0.4\ns1,m,dx,1,1,maybe,yes,0.6\n",
+			`class_predictions.csv: line 2, column 6 ("observed"): observed class "maybe" is not a class of target "dx" (no, yes)`},
+		{"probability", "s1,m,dx,1,1,no,no,1.5\n", `class_predictions.csv: line 2, column 8 ("probability"): want a probability between 0 and 1, found "1.5"`},
+		{"repeated class", "s1,m,dx,1,1,no,no,0.4\ns1,m,dx,1,1,no,no,0.6\n", `class_predictions.csv: line 3, column 7 ("class")`},
+		{"fold", "s1,m,dx,1,1,no,no,0.4\ns1,m,dx,1,2,no,yes,0.6\n", `class_predictions.csv: line 3, column 5 ("fold"): want fold 1, as on line 2`},
+		{"observed changes", "s1,m,dx,1,1,no,no,0.4\ns1,m,dx,1,1,yes,yes,0.6\n", `line 3, column 6 ("observed")`},
+		{"one class", "s1,m,dx,1,1,no,no,1\n", `class_predictions.csv: line 2: target "dx" has the single class "no"`},
+		{"repeat 0", "s1,m,dx,0,1,no,no,1\n", `line 2, column 4 ("repeat"): want a whole number ≥ 1`},
+		{"column", "", ""},
+	}
+	for _, tt := range tests {
+		raw := head + tt.body
+		if tt.name == "column" {
+			raw = "participant_id,model,target,repeat,fold,observed,class\n"
+			tt.want = `class_predictions.csv: line 1: no column "probability"`
+		}
+		_, _, err := parseClassPredictions([]byte(raw), "class_predictions.csv")
+		if err == nil || !strings.Contains(err.Error(), tt.want) {
+			t.Errorf("%s: %v, want an error containing %q", tt.name, err, tt.want)
+		}
+	}
+	rows, labels, err := parseClassPredictions([]byte(head+"s1,m,dx,2,3,,no,0.25\ns1,m,dx,2,3,,yes,0.75\n"), "class_predictions.csv")
+	if err != nil || len(rows) != 1 || rows[0].Observed != -1 || rows[0].Repeat != 1 || rows[0].Fold != 2 ||
+		!slices.Equal(rows[0].Proba, []float64{0.25, 0.75}) || len(labels) != 1 || !slices.Equal(labels[0].Classes, []string{"no", "yes"}) {
+		t.Errorf("a missing label: %+v %+v %v", rows, labels, err)
+	}
+}
+
+func TestReadClassSettings(t *testing.T) {
+	tests := []struct {
+		text      string
+		labels    []string
+		threshold float64
+		err       string
+	}{
+		{text: "seed = 1\n", threshold: 0.5},
+		{text: "[cohort]\nlabels = [\"subtype\", \"diagnosis\"]\n[cv]\nthreshold = 0.3\n", labels: []string{"subtype", "diagnosis"}, threshold: 0.3},
+		{text: "[cv]\nthreshold = 1.5\n", err: "experiment.toml: cv.threshold = 1.5, want a probability between 0 and 1"},
+	}
+	for _, tt := range tests {
+		labels, threshold, err := readClassSettings([]byte(tt.text), "experiment.toml")
+		if tt.err != "" {
+			if err == nil || err.Error() != tt.err {
+				t.Errorf("%q: %v, want %s", tt.text, err, tt.err)
+			}
+			continue
+		}
+		if err != nil || threshold != tt.threshold || !slices.Equal(labels, tt.labels) {
+			t.Errorf("%q: %v %v %v", tt.text, labels, threshold, err)
+		}
+	}
+}
