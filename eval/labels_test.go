@@ -124,17 +124,6 @@ sub-02,net,subtype,2,1,a,c,0.25
 	if buf.String() != want {
 		t.Fatalf("got\n%s\nwant\n%s", buf.String(), want)
 	}
-	read, readClasses, err := ReadClassPredictions(strings.NewReader(want), "class_predictions.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !reflect.DeepEqual(read, rows) || !reflect.DeepEqual(readClasses, classes) {
-		t.Fatalf("read back %+v %v, want %+v %v", read, readClasses, rows, classes)
-	}
-	bad := strings.Replace(want, "sub-01,net,diagnosis,1,2,patient,control,0.7", "sub-01,net,diagnosis,1,2,patient,control,1.7", 1)
-	if _, _, err := ReadClassPredictions(strings.NewReader(bad), "class_predictions.csv"); err == nil || !strings.Contains(err.Error(), "line 2") {
-		t.Fatalf("a probability of 1.7: %v, want an error naming line 2", err)
-	}
 	if err := WriteClassPredictions(&buf, rows, map[string][]string{"diagnosis": {"control", "patient"}}); err == nil || !strings.Contains(err.Error(), `"subtype"`) {
 		t.Fatalf("a label without class names: %v", err)
 	}
