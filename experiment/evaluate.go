@@ -126,10 +126,16 @@ func EvaluateWith(ctx context.Context, exp *Experiment, r *train.Runner, res *tr
 		}
 		if k.Baseline {
 			isBaseline[m.Name] = true
+		}
+		if k.Baseline && k.New != nil { // a reference of the scores learns them
 			baselines = append(baselines, m.Name)
 		}
 	}
-	reference, rule := eval.ChooseReference(r.Cohort.Targets, baselines, exp.Comparison.Reference, meanInnerLoss(exp, res, len(r.Cohort.Targets)))
+	named := exp.Comparison.Reference
+	if !slices.Contains(baselines, named) {
+		named = "" // it learns class labels only: the scores choose their own
+	}
+	reference, rule := eval.ChooseReference(r.Cohort.Targets, baselines, named, meanInnerLoss(exp, res, len(r.Cohort.Targets)))
 	rep.ReferenceRule = rule
 	var nTrain, nTest float64
 	for _, s := range res.Splits {

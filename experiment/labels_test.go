@@ -273,3 +273,35 @@ func TestAnswerLabels(t *testing.T) {
 		t.Errorf("without labels AnswerRun is Answer; got %q", got)
 	}
 }
+
+// TestDesignRecordsInnerLosses: the scores' reference is chosen among the
+// baselines that learn scores, a label's among those that classify; each
+// records its inner-validation loss only when comparison.reference names
+// none of its kind and two or more are there to choose from.
+func TestDesignRecordsInnerLosses(t *testing.T) {
+	models := []train.ModelConfig{
+		{Name: "mean", Config: linear.Config{Mean: &linear.MeanConfig{}}},
+		{Name: "ridge", Config: linear.Config{Ridge: &linear.RidgeConfig{}}},
+		{Name: "majority", Config: linear.Config{Majority: &linear.MajorityConfig{}}},
+		{Name: "logistic", Config: linear.Config{Logistic: &linear.LogisticConfig{}}},
+	}
+	for _, tc := range []struct {
+		reference        string
+		models           []train.ModelConfig
+		scores, labelsOK bool
+	}{
+		{"", models, true, true},
+		{"majority", models, true, false},
+		{"ridge", models, false, true},
+		{"", models[1:], false, true},
+		{"", models[:3], true, false},
+	} {
+		exp := &Experiment{Models: tc.models, Comparison: Comparison{Reference: tc.reference}}
+		exp.SetDefaults()
+		d := exp.Design()
+		if d.InnerLoss != tc.scores || d.LabelLoss != tc.labelsOK {
+			t.Errorf("reference %q, %d models: InnerLoss %v, LabelLoss %v; want %v, %v", tc.reference, len(tc.models),
+				d.InnerLoss, d.LabelLoss, tc.scores, tc.labelsOK)
+		}
+	}
+}

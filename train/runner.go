@@ -93,9 +93,10 @@ type Result struct {
 	//
 	// over the nₜ validation participants i with a score zᵢₜ for target
 	// t, in standardized score units (the units the models learn), and
-	// NaN when nₜ = 0. It is only computed when the experiment names no
-	// comparison.reference and has at least two baselines, and only for
-	// folds with an inner validation part (cv.inner_validation > 0).
+	// NaN when nₜ = 0. It is only computed when Design.InnerLoss is set
+	// (the experiment names no comparison.reference that learns scores
+	// and has at least two baselines that do), and only for folds with an
+	// inner validation part (cv.inner_validation > 0).
 	InnerLoss map[Unit][]float64
 	// LabelLoss holds, per unit of a baseline fitted to the labels, as
 	// InnerLoss does for the scores, the mean log loss on the fold's inner
@@ -859,10 +860,9 @@ func innerLogLoss(ctx context.Context, clf model.Classifier, train, valid model.
 	return sum / float64(valid.Len()), nil
 }
 
-// wantsInnerLoss reports whether a run of exp records the inner
-// validation error of model cfg: cfg is a baseline (model.Kind.Baseline),
-// and exp names no comparison.reference and has at least two baselines to
-// choose from.
+// wantsInnerLoss reports whether a run of d records the inner validation
+// error of the scores of model cfg: cfg is a baseline (model.Kind.Baseline)
+// and d.InnerLoss is set.
 func wantsInnerLoss(d *Design, cfg ModelConfig) bool {
 	k, err := cfg.Spec()
 	return d.InnerLoss && err == nil && k.Baseline
