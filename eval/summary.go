@@ -39,10 +39,24 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 //	      ],
 //	      "heterogeneity": {"sites": S, "sd_r": .., "q": .., "df": .., "p": .., "i2": .., "pooled_r": ..}
 //	    }, ...
+//	  ],
+//	  "labels": [                       // one per model × class label; absent without labels
+//	    {
+//	      "model": "logistic", "label": "diagnosis", "classes": ["control", "patient"], "threshold": 0.5,
+//	      "pooled": {"n": N, CLASS...},  // all test predictions of all repeats together
+//	      "intervals": {"auc": {"estimate", "lower", "upper", "level", "resamples", "undefined"}, ...},
+//	      "folds": [{"repeat": 1, "fold": 1, "n": N, CLASS...}, ...],
+//	      "fold_mean": CLASS, "fold_sd": CLASS,
+//	      "permutation_p_auc": p,       // absent without a permutation test
+//	      "reference": "majority",      // the label's reference baseline; absent for it and without one
+//	      "is_reference": true,         // absent when false
+//	      "diff_auc": {"folds", "mean_diff", "t", "df", "p"}  // corrected t-test of fold AUC against the reference
+//	    }, ...
 //	  ]
 //	}
 //
-// where SCORES is {"n": complete pairs, "missing": pairs skipped, "bins": B,
+// where CLASS is {"auc", "balanced_accuracy", "accuracy", "log_loss",
+// "brier", "sensitivity", "specificity"} (ClassGroup), and SCORES is {"n": complete pairs, "missing": pairs skipped, "bins": B,
 // then VALUES, then "nmi_chance": Scores.NMIChance} and VALUES is
 // {"pearson_r", "spearman_rho", "mae", "median_ae", "rmse", "r2", "nmi",
 // "ami"}, numbers in the units of the score. An
@@ -51,6 +65,9 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 type Summary struct {
 	Bins   int
 	Groups []Group
+	// Labels holds the figures of every model × class label
+	// (SummarizeClasses); nil without labels.
+	Labels []ClassGroup
 }
 
 // A Group holds the figures of one model on one target.
@@ -384,14 +401,18 @@ type groupJSON struct {
 }
 
 type summaryJSON struct {
-	Note   string      `json:"note"`
-	Bins   int         `json:"bins"`
-	Groups []groupJSON `json:"groups"`
+	Note   string           `json:"note"`
+	Bins   int              `json:"bins"`
+	Groups []groupJSON      `json:"groups"`
+	Labels []classGroupJSON `json:"labels,omitempty"`
 }
 
 // MarshalJSON writes the layout documented on Summary.
 func (s *Summary) MarshalJSON() ([]byte, error) {
 	out := summaryJSON{Note: Disclaimer, Bins: s.Bins, Groups: make([]groupJSON, len(s.Groups))}
+	for _, g := range s.Labels {
+		out.Labels = append(out.Labels, g.toJSON())
+	}
 	for i, g := range s.Groups {
 		out.Groups[i] = groupJSON{Model: g.Model, Target: g.Target, Pooled: g.Pooled, FoldUndefined: g.FoldUndefined}
 		for _, ss := range g.Sites {
@@ -417,6 +438,10 @@ func (s *Summary) UnmarshalJSON(b []byte) error {
 	}
 	s.Bins = in.Bins
 	s.Groups = make([]Group, len(in.Groups))
+	s.Labels = nil
+	for _, g := range in.Labels {
+		s.Labels = append(s.Labels, g.group())
+	}
 	for i, g := range in.Groups {
 		out := Group{Model: g.Model, Target: g.Target, Pooled: g.Pooled, Folds: g.Folds, FoldUndefined: g.FoldUndefined}
 		for _, ss := range g.Sites {
@@ -458,7 +483,9 @@ func (s *Summary) WriteJSON(w io.Writer) error {
 // the order the targets first appear in s.Groups, a table with one row
 // per model in the order of s.Groups and one column per metric, each cell the
 // mean ± SD over folds followed by the pooled value in brackets (the pooled
-// value alone when there are no folds), then a legend and Disclaimer.
+// value alone when there are no folds), then a legend; then, for each
+// class label of s.Labels, a table of its models and a legend; then
+// Disclaimer.
 func (s *Summary) WriteMarkdown(w io.Writer) error {
 	var b strings.Builder
 	var targets []string
@@ -516,21 +543,28 @@ func (s *Summary) WriteMarkdown(w io.Writer) error {
 		}
 	}
 	b.WriteString("\n")
-	if hasFolds {
+	switch {
+	case len(s.Groups) == 0:
+	case hasFolds:
 		b.WriteString("Each cell is the mean ± SD over test folds (all repeats), then in brackets the value " +
 			"pooled over all test predictions; n counts pooled pairs (a participant once per repeat). " +
 			"r within folds, the headline r, pools the predictions after centring each test fold's scores and " +
 			"predictions on their own means. Pearson r pooled without centring (in brackets) also correlates each " +
 			"fold's training mean with its test scores, which are anti-correlated: it is biased downwards, below 0 " +
 			"for a model that knows nothing, and pooled Spearman ρ shares the bias. ")
-	} else {
+	default:
 		b.WriteString("Each cell is the value over all predictions; n counts pairs. ")
 	}
-	fmt.Fprintf(&b, "NMI and AMI use %d equal-frequency bins, tied values sharing a bin. NMI is above 0 even "+
-		"when predictions carry no information: compare it with NMI by chance, its expected value under random "+
-		"pairing of the same bins. AMI is NMI corrected for chance (0 at chance, 1 for matching bins). The chance "+
-		"level of r, ρ and AMI is 0; R² is out of sample and slightly below 0 at chance; the mean predictor's MAE "+
-		"and RMSE are the chance level of the errors. Predictions constant to rounding have no r or ρ (–).\n", s.Bins)
+	if len(s.Groups) > 0 {
+		fmt.Fprintf(&b, "NMI and AMI use %d equal-frequency bins, tied values sharing a bin. NMI is above 0 even "+
+			"when predictions carry no information: compare it with NMI by chance, its expected value under random "+
+			"pairing of the same bins. AMI is NMI corrected for chance (0 at chance, 1 for matching bins). The chance "+
+			"level of r, ρ and AMI is 0; R² is out of sample and slightly below 0 at chance; the mean predictor's MAE "+
+			"and RMSE are the chance level of the errors. Predictions constant to rounding have no r or ρ (–).\n", s.Bins)
+	}
+	if len(s.Labels) > 0 {
+		writeLabelsMarkdown(&b, s.Labels)
+	}
 	s.writeSitesMarkdown(&b)
 	if note := s.SmallFoldNote(); note != "" {
 		b.WriteString("\n" + note + "\n")

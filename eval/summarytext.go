@@ -33,6 +33,10 @@ func (s *Summary) WriteText(w io.Writer) error {
 			b.WriteString(WrapText(fmt.Sprintf("%s/%s: %s", show(g.Model), show(g.Target), note), TextWidth))
 		}
 	}
+	if len(s.Labels) > 0 {
+		b.WriteString("\n")
+		s.writeLabelTable(&b)
+	}
 	b.WriteString("\n" + WrapText(Disclaimer, TextWidth))
 	_, err := io.WriteString(w, b.String())
 	return err
@@ -102,4 +106,32 @@ func undefinedNote(undefined map[Metric]int) string {
 		return ""
 	}
 	return "undefined " + strings.Join(parts, ", ") + " (left out of the mean ± SD over folds)"
+}
+
+// writeLabelTable writes the class labels' table of WriteText: per model
+// and label, the pooled metrics and the mean ± SD over folds.
+func (s *Summary) writeLabelTable(b *strings.Builder) {
+	header := []string{"model", "label", "figures", "n"}
+	for _, m := range ClassMetrics() {
+		header = append(header, m.Label())
+	}
+	var rows [][]string
+	for _, g := range s.Labels {
+		row := []string{show(g.Model), show(g.Label), "pooled", strconv.Itoa(g.N)}
+		for _, m := range ClassMetrics() {
+			row = append(row, formatFigure(g.Pooled.Get(m)))
+		}
+		rows = append(rows, row)
+		if len(g.Folds) == 0 {
+			continue
+		}
+		row = []string{"", "", fmt.Sprintf("%d folds", len(g.Folds)), ""}
+		for _, m := range ClassMetrics() {
+			row = append(row, formatFigure(g.FoldMean.Get(m))+" ± "+formatFigure(g.FoldSD.Get(m)))
+		}
+		rows = append(rows, row)
+	}
+	writeTextTable(b, header, rows, 3, TextWidth)
+	b.WriteString(WrapText("Class labels: n counts test predictions (a participant once per repeat); AUC is one-vs-rest "+
+		"for more than two classes; sensitivity and specificity are of the second class at the threshold (cv.threshold).", TextWidth))
 }

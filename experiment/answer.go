@@ -210,3 +210,103 @@ func answerP(p float64) string {
 	}
 	return fmt.Sprintf("= %.3f", p)
 }
+
+// AnswerRun returns the answer that opens a run's summary and report: the
+// answer about the scores (Answer) followed by that about the class labels
+// (AnswerLabels), or the latter alone for a run with labels and no score
+// comparisons.
+func AnswerRun(exp *Experiment, comps []eval.Comparison, labels []eval.ClassGroup) string {
+	answer := AnswerLabels(exp, labels)
+	if len(comps) > 0 || answer == "" {
+		answer = strings.TrimSpace(Answer(exp, comps) + " " + answer)
+	}
+	return answer
+}
+
+// AnswerLabels returns one sentence per class label of groups (the
+// classification figures of a run, eval.SummarizeClasses after
+// eval.CompareClasses), in order of first appearance: the models that fuse
+// structure with function (Fusion) that learn the label, or, without
+// such a model, the model of highest pooled AUC, each with its pooled AUC
+// and bootstrap interval, and its difference in fold AUC from the label's
+// reference baseline by the corrected resampled t-test, called a win or a
+// loss at p < AnswerLevel as Answer does for r. "" without labels.
+func AnswerLabels(exp *Experiment, groups []eval.ClassGroup) string {
+	isFusion := make(map[string]bool)
+	for _, name := range Fusion(exp) {
+		isFusion[name] = true
+	}
+	var labels []string
+	for _, g := range groups {
+		if !slices.Contains(labels, g.Label) {
+			labels = append(labels, g.Label)
+		}
+	}
+	var sentences []string
+	for _, label := range labels {
+		var of []eval.ClassGroup
+		for _, g := range groups {
+			if g.Label == label {
+				of = append(of, g)
+			}
+		}
+		var shown []eval.ClassGroup
+		for _, g := range of {
+			if isFusion[g.Model] {
+				shown = append(shown, g)
+			}
+		}
+		lead := "Fusing structure with function"
+		if len(shown) == 0 {
+			best := of[0]
+			for _, g := range of[1:] {
+				if g.Pooled.AUC > best.Pooled.AUC || math.IsNaN(best.Pooled.AUC) {
+					best = g
+				}
+			}
+			shown, lead = []eval.ClassGroup{best}, "The model of highest AUC"
+		}
+		parts := make([]string, len(shown))
+		for i, g := range shown {
+			parts[i] = labelItem(g, of)
+		}
+		sentences = append(sentences, fmt.Sprintf("%s on the class label %s: %s.", lead, label, strings.Join(parts, "; ")))
+	}
+	if len(sentences) == 0 {
+		return ""
+	}
+	return strings.Join(sentences, " ") + fmt.Sprintf(" (AUC pooled over all test predictions with its 95%% bootstrap "+
+		"interval; ΔAUC is the mean difference in fold AUC from the reference baseline, tested by the corrected "+
+		"resampled t-test at p < %g.)", AnswerLevel)
+}
+
+// labelItem describes g: its AUC and interval, and its comparison with
+// the reference among of (the groups of its label).
+func labelItem(g eval.ClassGroup, of []eval.ClassGroup) string {
+	ci := ""
+	if iv, ok := g.Intervals[eval.MetricAUC]; ok && !math.IsNaN(iv.Lower) {
+		ci = fmt.Sprintf(" (%s to %s)", answerNumber(iv.Lower), answerNumber(iv.Upper))
+	}
+	s := fmt.Sprintf("%s predicts %s with AUC %s%s", g.Model, g.Label, answerNumber(g.Pooled.AUC), ci)
+	switch {
+	case g.IsReference:
+		return s + ", and is itself the reference baseline"
+	case g.Reference == "":
+		return s + ", with no reference baseline to compare it with"
+	}
+	ref := math.NaN()
+	for _, r := range of {
+		if r.Model == g.Reference {
+			ref = r.Pooled.AUC
+		}
+	}
+	verdict := "not significantly different from"
+	switch d := g.DiffAUC; {
+	case d.P < AnswerLevel && d.MeanDiff > 0:
+		verdict = "beating"
+	case d.P < AnswerLevel && d.MeanDiff < 0:
+		verdict = "worse than"
+	}
+	return fmt.Sprintf("%s, %s the reference baseline %s (AUC %s), ΔAUC %s, p %s", s, verdict, g.Reference,
+		answerNumber(ref), answerDiff(g.DiffAUC.MeanDiff), answerP(g.DiffAUC.P))
+}

@@ -274,6 +274,12 @@ func nullFile(u BatchUnit) string {
 	return filepath.Join(NullsDir, train.FolderName(u.Model), fmt.Sprintf("p%d-%d.csv", u.First+1, u.End))
 }
 
+// classNullFile names the null AUC of the class labels of a permutation
+// block, beside its null scores.
+func classNullFile(u BatchUnit) string {
+	return filepath.Join(NullsDir, train.FolderName(u.Model), fmt.Sprintf("p%d-%d.labels.csv", u.First+1, u.End))
+}
+
 // sampleSizeUnitFile names the sample-size rows of a curve unit.
 func sampleSizeUnitFile(u BatchUnit) string {
 	return filepath.Join(SampleSizeDir, train.FolderName(u.Model), "f"+strconv.FormatFloat(u.Fraction, 'g', -1, 64)+".csv")
@@ -370,9 +376,19 @@ func runPlannedUnit(ctx context.Context, rd *RunDir, r *train.Runner, pc Permuta
 	if _, err := os.Stat(rd.WorkPath(name)); err == nil {
 		return true, nil
 	}
-	rows, err := PermutationBlock(ctx, r, pc, []string{u.Model}, u.First, u.End, bins)
+	rows, classRows, err := PermutationBlock(ctx, r, pc, []string{u.Model}, u.First, u.End, bins)
 	if err != nil {
 		return false, err
+	}
+	if len(classRows) > 0 {
+		// Written first: the scores' file says the unit has finished.
+		var raw bytes.Buffer
+		if err := eval.WriteClassNulls(&raw, classRows); err != nil {
+			return false, err
+		}
+		if err := rd.WriteFile(classNullFile(u), raw.Bytes()); err != nil {
+			return false, err
+		}
 	}
 	var raw bytes.Buffer
 	if err := eval.WriteNullScores(&raw, rows); err != nil {
@@ -546,6 +562,7 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 	}
 	var missing []BatchUnit
 	var nullRows []eval.NullScores
+	var classNullRows []eval.ClassNull
 	var curveRows []eval.SampleSizeRow
 	for _, u := range units {
 		switch u.Kind {
@@ -568,6 +585,19 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 				return nil, 0, fmt.Errorf("%w (delete the file and rerun unit %d)", err, u.Index)
 			}
 			nullRows = append(nullRows, rows...)
+			classPath := rd.WorkPath(classNullFile(u))
+			raw, err = os.ReadFile(classPath)
+			if errors.Is(err, fs.ErrNotExist) {
+				continue // a model that learns no label
+			}
+			if err != nil {
+				return nil, 0, err
+			}
+			classes, err := eval.ReadClassNulls(bytes.NewReader(raw), classPath)
+			if err != nil {
+				return nil, 0, fmt.Errorf("%w (delete %s and rerun unit %d)", err, path, u.Index)
+			}
+			classNullRows = append(classNullRows, classes...)
 		case BatchSampleSize:
 			path := rd.WorkPath(sampleSizeUnitFile(u))
 			f, err := os.Open(path)
@@ -599,6 +629,7 @@ func Merge(ctx context.Context, out string, force bool, views func(dir string, r
 		Nulls: func(observed *eval.Summary) ([]eval.NullDistribution, error) {
 			return eval.AssembleNulls(observed, nullRows, exp.Permutation.Count)
 		},
+		ClassNulls: classNullRows,
 		SampleSize: sortSampleSize(curveRows),
 	})
 	if err != nil {

@@ -18,9 +18,17 @@ import (
 
 // A Report is everything skein concludes from a finished run.
 type Report struct {
-	Experiment  *Experiment
-	Result      *train.Result
-	Rows        []eval.Prediction
+	Experiment *Experiment
+	Result     *train.Result
+	Rows       []eval.Prediction
+	// ClassRows are the class predictions of the models fitted to the
+	// cohort's labels (train.Result.ClassPredictions); Classes names each
+	// label's classes.
+	ClassRows []eval.ClassPrediction
+	Classes   map[string][]string
+	// LabelRule says how the reference baseline of the class labels was
+	// chosen (eval.ChooseLabelReference); "" without labels.
+	LabelRule   string
 	Summary     *eval.Summary
 	Nulls       []eval.NullDistribution // nil without a permutation test
 	Comparisons []eval.Comparison
@@ -59,6 +67,9 @@ type Computed struct {
 	Nulls func(observed *eval.Summary) ([]eval.NullDistribution, error)
 	// SampleSize, when not nil, is the sample-size curve.
 	SampleSize []eval.SampleSizeRow
+	// ClassNulls are the permutation test's null AUC of the class labels
+	// (eval.ScoreClassNull of the units' runs); read when Nulls is set.
+	ClassNulls []eval.ClassNull
 }
 
 // EvaluateWith is Evaluate for a run some of whose parts were computed
@@ -73,15 +84,28 @@ func EvaluateWith(ctx context.Context, exp *Experiment, r *train.Runner, res *tr
 		rep.Summary.AddSites(rep.Rows, siteOf)
 	}
 	orderGroups(rep.Summary, exp, r.Cohort.Targets)
+	rep.ClassRows = res.ClassPredictions
+	if len(r.Cohort.Labels) > 0 {
+		rep.Classes = make(map[string][]string, len(r.Cohort.Labels))
+		for l, label := range r.Cohort.Labels {
+			rep.Classes[label] = r.Cohort.Classes[l]
+		}
+		rep.Summary.Labels = eval.SummarizeClasses(rep.ClassRows, rep.Classes, *exp.CV.Threshold)
+	}
 	if exp.Permutation.Count > 0 {
-		nulls := done.Nulls
+		nulls, classNulls := done.Nulls, done.ClassNulls
 		if nulls == nil {
 			nulls = func(observed *eval.Summary) ([]eval.NullDistribution, error) {
-				return PermutationTest(ctx, r, exp.Permutation, observed)
+				scores, classes, err := permutationTest(ctx, r, exp.Permutation, observed)
+				classNulls = classes
+				return scores, err
 			}
 		}
 		var err error
 		if rep.Nulls, err = nulls(rep.Summary); err != nil {
+			return nil, fmt.Errorf("permutation test: %w", err)
+		}
+		if err := eval.AssembleClassNulls(rep.Summary.Labels, classNulls, exp.Permutation.Count); err != nil {
 			return nil, fmt.Errorf("permutation test: %w", err)
 		}
 	}
@@ -102,10 +126,16 @@ func EvaluateWith(ctx context.Context, exp *Experiment, r *train.Runner, res *tr
 		}
 		if k.Baseline {
 			isBaseline[m.Name] = true
+		}
+		if k.Baseline && k.New != nil { // a reference of the scores learns them
 			baselines = append(baselines, m.Name)
 		}
 	}
-	reference, rule := eval.ChooseReference(r.Cohort.Targets, baselines, exp.Comparison.Reference, meanInnerLoss(exp, res, len(r.Cohort.Targets)))
+	named := exp.Comparison.Reference
+	if !slices.Contains(baselines, named) {
+		named = "" // it learns class labels only: the scores choose their own
+	}
+	reference, rule := eval.ChooseReference(r.Cohort.Targets, baselines, named, meanInnerLoss(exp, res, len(r.Cohort.Targets)))
 	rep.ReferenceRule = rule
 	var nTrain, nTest float64
 	for _, s := range res.Splits {
@@ -121,6 +151,20 @@ func EvaluateWith(ctx context.Context, exp *Experiment, r *train.Runner, res *tr
 		return nil, err
 	}
 	rep.Comparisons = comps
+	if len(rep.Summary.Labels) > 0 {
+		var classifiers []string
+		for _, m := range exp.Models {
+			if k, _ := m.Spec(); k.Baseline && k.NewClassifier != nil {
+				classifiers = append(classifiers, m.Name)
+			}
+		}
+		var refs map[string]string
+		refs, rep.LabelRule = eval.ChooseLabelReference(r.Cohort.Labels, classifiers, labelReference(exp, classifiers),
+			meanLabelLoss(exp, res, len(r.Cohort.Labels)))
+		eval.CompareClasses(rep.Summary.Labels, rep.ClassRows, eval.CompareClassOptions{
+			Reference: refs, NTrain: nTrain, NTest: nTest, Seed: uint64(exp.Seed),
+		})
+	}
 	rep.Cautions = runCautions(rep, r)
 	return rep, nil
 }
@@ -145,6 +189,41 @@ func meanInnerLoss(exp *Experiment, res *train.Result, targets int) map[string][
 	for name, s := range sums {
 		for t := range s {
 			s[t] /= float64(counts[name][t]) // 0/0 is NaN: no unit had a loss
+		}
+	}
+	return sums
+}
+
+// labelReference returns the reference baseline the experiment names for
+// its class labels: comparison.reference when that model learns labels,
+// else "" (choose one).
+func labelReference(exp *Experiment, classifiers []string) string {
+	if slices.Contains(classifiers, exp.Comparison.Reference) {
+		return exp.Comparison.Reference
+	}
+	return ""
+}
+
+// meanLabelLoss returns, per model, the mean over its units of the
+// inner-validation log loss of each label (NaN where no unit has one).
+func meanLabelLoss(exp *Experiment, res *train.Result, labels int) map[string][]float64 {
+	sums := make(map[string][]float64)
+	counts := make(map[string][]int)
+	for u, losses := range res.LabelLoss {
+		name := exp.Models[u.Model].Name
+		if sums[name] == nil {
+			sums[name], counts[name] = make([]float64, labels), make([]int, labels)
+		}
+		for l, v := range losses {
+			if !math.IsNaN(v) {
+				sums[name][l] += v
+				counts[name][l]++
+			}
+		}
+	}
+	for name, s := range sums {
+		for l := range s {
+			s[l] /= float64(counts[name][l])
 		}
 	}
 	return sums
@@ -313,7 +392,8 @@ func runCautions(rep *Report, r *train.Runner) []string {
 	return out
 }
 
-// Write writes predictions.csv, metrics.json, comparison.csv, summary.md and, after a
+// Write writes predictions.csv, class_predictions.csv (with class
+// labels), metrics.json, comparison.csv, summary.md and, after a
 // permutation test, permutations.csv and, with a sample-size curve,
 // sample_size.csv into the work folder of d; they
 // appear in the run folder when d is committed.
@@ -324,6 +404,7 @@ func (rep *Report) Write(d *RunDir) error {
 		skip  bool
 	}{
 		{PredictionsFile, func(w io.Writer) error { return eval.WritePredictions(w, rep.Rows) }, false},
+		{ClassPredictionsFile, func(w io.Writer) error { return eval.WriteClassPredictions(w, rep.ClassRows, rep.Classes) }, len(rep.ClassRows) == 0},
 		{MetricsFile, rep.Summary.WriteJSON, false},
 		{ComparisonFile, func(w io.Writer) error { return eval.WriteComparisonCSV(w, rep.Comparisons) }, false},
 		{LearningFile, func(w io.Writer) error { return writeLearningCSV(w, rep.Experiment, rep.Result) }, len(rep.Result.Histories) == 0},
@@ -342,15 +423,18 @@ func (rep *Report) Write(d *RunDir) error {
 	return nil
 }
 
-// WriteMarkdown writes summary.md: the answer (Answer), the run in one
+// WriteMarkdown writes summary.md: the answer (AnswerRun), the run in one
 // paragraph, the metrics tables, the comparison tables and the cautions.
 func (rep *Report) WriteMarkdown(w io.Writer) error {
 	var buf bytes.Buffer
 	exp := rep.Experiment
-	fmt.Fprintf(&buf, "# skein run summary\n\n%s\n\n", eval.EscapeMarkdown(Answer(exp, rep.Comparisons)))
+	fmt.Fprintf(&buf, "# skein run summary\n\n%s\n\n", eval.EscapeMarkdown(AnswerRun(exp, rep.Comparisons, rep.Summary.Labels)))
 	buf.WriteString(rep.overview(eval.EscapeMarkdown) + "\n\n## Metrics\n\n")
 	if err := rep.Summary.WriteMarkdown(&buf); err != nil {
 		return err
+	}
+	if rep.LabelRule != "" {
+		fmt.Fprintf(&buf, "\nClass labels: %s.\n", eval.EscapeMarkdown(rep.LabelRule))
 	}
 	buf.WriteString("\n## Comparison\n")
 	if err := eval.WriteComparisonMarkdown(&buf, rep.Comparisons, rep.ReferenceRule); err != nil {
@@ -380,9 +464,16 @@ func (rep *Report) overview(esc func(string) string) string {
 		rep.Participants, len(rep.Excluded), len(exp.Models), *exp.CV.Folds, *exp.CV.Repeats, exp.Seed)
 	if len(exp.CV.Confounds) > 0 {
 		fmt.Fprintf(&b, ", confounds %s regressed out of the scores within each training fold", esc(strings.Join(exp.CV.Confounds, ", ")))
+		if len(rep.Classes) > 0 {
+			b.WriteString(" (not out of the class labels)")
+		}
 	}
 	if rep.Nulls != nil {
-		fmt.Fprintf(&b, ", %d permutations of the participants table (scores and covariates together) against the connectomes", exp.Permutation.Count)
+		what := "scores and covariates"
+		if len(rep.Classes) > 0 {
+			what = "scores, class labels and covariates"
+		}
+		fmt.Fprintf(&b, ", %d permutations of the participants table (%s together) against the connectomes", exp.Permutation.Count, what)
 		if rep.Grouped {
 			fmt.Fprintf(&b, " (%s)", blocksSentence(exp.Permutation.Blocks))
 		}

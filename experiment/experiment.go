@@ -388,19 +388,31 @@ func wantWords(t reflect.Type) string {
 
 // Design returns what a train.Runner needs of e: its seed, cross-validation
 // scheme and models, whether fold models are kept, and whether baselines
-// record the inner-validation error that the reference baseline is chosen
-// on (when no comparison.reference is named and there are two baselines
-// or more).
+// record the inner-validation error that the scores' reference baseline
+// is chosen on (when comparison.reference names no baseline that learns
+// scores and two baselines or more do), and the inner-validation log loss that a class label's
+// reference is chosen on (when comparison.reference names no baseline
+// that classifies and two baselines or more classify).
 func (e *Experiment) Design() *train.Design {
-	baselines := 0
+	regressors, classifiers := 0, 0
+	namedRegresses, namedClassifies := false, false
 	for _, m := range e.Models {
 		if k, err := m.Spec(); err == nil && k.Baseline {
-			baselines++
+			named := m.Name == e.Comparison.Reference
+			if k.New != nil {
+				regressors++
+				namedRegresses = namedRegresses || named
+			}
+			if k.NewClassifier != nil {
+				classifiers++
+				namedClassifies = namedClassifies || named
+			}
 		}
 	}
 	return &train.Design{
 		Seed: e.Seed, CV: e.CV, Models: e.Models, SaveModels: *e.Output.SaveModels,
-		InnerLoss:  e.Comparison.Reference == "" && baselines >= 2,
+		InnerLoss:  !namedRegresses && regressors >= 2,
+		LabelLoss:  !namedClassifies && classifiers >= 2,
 		Preprocess: e.Preprocess,
 	}
 }

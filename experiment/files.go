@@ -22,6 +22,9 @@ const (
 	RegionsFile = "regions.txt"
 	// PredictionsFile holds every test prediction (eval.WritePredictions).
 	PredictionsFile = "predictions.csv"
+	// ClassPredictionsFile holds every test class probability of the
+	// models fitted to class labels (eval.WriteClassPredictions).
+	ClassPredictionsFile = "class_predictions.csv"
 	// MetricsFile holds the metrics of every model and target
 	// (eval.Summary's JSON).
 	MetricsFile = "metrics.json"

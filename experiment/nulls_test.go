@@ -33,7 +33,7 @@ func TestAssembleNullsEqualsPermutationTest(t *testing.T) {
 	pc := exp.Permutation
 	var all []eval.NullScores
 	for _, block := range [][2]int{{8, 10}, {0, 4}, {4, 8}} { // in any order
-		scores, err := PermutationBlock(ctx, r, pc, nil, block[0], block[1], observed.Bins)
+		scores, _, err := PermutationBlock(ctx, r, pc, nil, block[0], block[1], observed.Bins)
 		if err != nil {
 			t.Fatal(err)
 		}

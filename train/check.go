@@ -15,11 +15,13 @@ import (
 // cv.confounds column the cohort lacks, more folds than participants or
 // groups (cv.folds), an inner validation part that leaves fewer than two
 // participants to train on in some training fold (cv.inner_validation),
-// and a model whose kind needs more participants or groups in a training
+// a model whose kind needs more participants or groups in a training
 // set than the smallest training fold holds (model.Kind.MinTrain, such as
-// a ridge's inner folds), and a class of a label (cohort.labels) with
-// fewer participants, or groups, than k-fold folds (cv.folds), which
-// leaves some test fold without it. It returns all of them joined (errors.Join),
+// a ridge's inner folds), a class of a label (cohort.labels) with fewer
+// participants, or groups, than k-fold folds (cv.folds), a label that is
+// also a score target, a label no model can learn (no kind with
+// NewClassifier) and a model whose kind learns neither the cohort's scores
+// nor its labels. It returns all of them joined (errors.Join),
 // or nil. The splits it checks are the run's own, so a run that passes
 // Check does not fail on these grounds after training has begun.
 func (d *Design) Check(c *data.Cohort) error {
@@ -27,6 +29,7 @@ func (d *Design) Check(c *data.Cohort) error {
 	if err := d.CV.checkAgainst(c); err != nil {
 		errs = append(errs, err)
 	}
+	errs = append(errs, d.checkLabels(c)...)
 	groups := Groups(c)
 	errs = append(errs, d.CV.checkClasses(c, groups)...)
 	f := d.CV.folds(d.Seed, c)
@@ -111,7 +114,7 @@ func (d *Design) checkSplits(splits []Split, groups []string, models []ModelConf
 		case minTrain < need:
 			errs = append(errs, fmt.Errorf("model %q: %s: %d, but the training fold of repeat %d, fold %d holds only %d %s",
 				m.Name, key, need, worstTrain.Repeat+1, worstTrain.Fold+1, minTrain, unitWord(groups)))
-		case d.InnerLoss && k.Baseline && minFit >= 2 && minFitUnits >= 0 && minFitUnits < need:
+		case (d.InnerLoss || d.LabelLoss && k.NewClassifier != nil) && k.Baseline && minFit >= 2 && minFitUnits >= 0 && minFitUnits < need:
 			// The reference baseline is chosen on inner validation
 			// errors, for which the model trains without that part.
 			errs = append(errs, fmt.Errorf("model %q: %s: %d, but a training fold without its inner validation part (cv.inner_validation) holds only %d %s; lower one, or name a comparison.reference",
@@ -185,4 +188,36 @@ func wordList(names []string) string {
 		quoted[i] = strconv.Quote(n)
 	}
 	return strings.Join(quoted, ", ")
+}
+
+// checkLabels reports a label that is also a score target, a label that
+// no model of d can learn (no kind with NewClassifier), and a model that
+// learns nothing of c: a kind of scores only without score targets, or
+// of labels only without labels.
+func (d *Design) checkLabels(c *data.Cohort) []error {
+	var errs []error
+	for _, label := range c.Labels {
+		if slices.Contains(c.Targets, label) {
+			errs = append(errs, fmt.Errorf("cohort.labels: %q is also in cohort.targets; a column is either a score or a class label", label))
+		}
+	}
+	classifies := false
+	for _, m := range d.Models {
+		k, err := m.Spec()
+		if err != nil {
+			continue // Validate reports it
+		}
+		if k.NewClassifier != nil {
+			classifies = true
+		}
+		scores := k.New != nil && len(c.Targets) > 0
+		labels := k.NewClassifier != nil && len(c.Labels) > 0
+		if !scores && !labels {
+			errs = append(errs, fmt.Errorf("model %q: %w", m.Name, cannotLearn(k, c)))
+		}
+	}
+	if len(c.Labels) > 0 && !classifies && len(d.Models) > 0 {
+		errs = append(errs, fmt.Errorf("cohort.labels: no model learns class labels (%s): add a [[model]] whose kind classifies, such as majority, logistic or network", wordList(c.Labels)))
+	}
+	return errs
 }

@@ -43,6 +43,19 @@ type unitFile struct {
 	// InnerLoss holds a baseline's inner validation error per target,
 	// null for NaN (see Result.InnerLoss).
 	InnerLoss []*float64 `json:"inner_loss,omitempty"`
+	// Classes holds the class probabilities of the unit's classifiers
+	// (Result.ClassPredictions).
+	Classes []unitClasses `json:"class_predictions,omitempty"`
+	// LabelLoss holds a baseline's inner validation log loss per label,
+	// null for NaN (see Result.LabelLoss).
+	LabelLoss []*float64 `json:"label_loss,omitempty"`
+}
+
+type unitClasses struct {
+	ID            string    `json:"participant_id"`
+	Label         string    `json:"label"`
+	Observed      int       `json:"observed"` // class index
+	Probabilities []float64 `json:"probabilities"`
 }
 
 type unitChoice struct {
@@ -114,13 +127,11 @@ func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
 		}
 		f.Choices = append(f.Choices, uc)
 	}
-	for _, v := range out.innerLoss {
-		var p *float64
-		if !math.IsNaN(v) {
-			p = &v
-		}
-		f.InnerLoss = append(f.InnerLoss, p)
+	f.InnerLoss = nullNaN(out.innerLoss)
+	for _, c := range out.classes {
+		f.Classes = append(f.Classes, unitClasses{c.ParticipantID, c.Label, c.Observed, c.Probabilities})
 	}
+	f.LabelLoss = nullNaN(out.labelLoss)
 	raw, err := json.Marshal(f)
 	if err != nil {
 		return fmt.Errorf("checkpoint of model %q, repeat %d, fold %d: %w", name, u.Repeat+1, u.Fold+1, err)
@@ -177,14 +188,41 @@ func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 		}
 		out.choices = append(out.choices, cs)
 	}
-	for _, p := range f.InnerLoss {
-		v := math.NaN()
-		if p != nil {
-			v = *p
-		}
-		out.innerLoss = append(out.innerLoss, v)
+	out.innerLoss = nanNull(f.InnerLoss)
+	out.labelLoss = nanNull(f.LabelLoss)
+	for _, c := range f.Classes {
+		out.classes = append(out.classes, model.ClassPrediction{
+			ParticipantID: c.ID, Model: name, Label: c.Label, Repeat: u.Repeat, Fold: u.Fold,
+			Observed: c.Observed, Probabilities: c.Probabilities,
+		})
 	}
 	return out, true, nil
+}
+
+// nullNaN returns v with NaN as nil, as JSON holds it; nil for nil.
+func nullNaN(v []float64) []*float64 {
+	var out []*float64
+	for _, x := range v {
+		var p *float64
+		if !math.IsNaN(x) {
+			p = &x
+		}
+		out = append(out, p)
+	}
+	return out
+}
+
+// nanNull undoes nullNaN.
+func nanNull(p []*float64) []float64 {
+	var out []float64
+	for _, x := range p {
+		v := math.NaN()
+		if x != nil {
+			v = *x
+		}
+		out = append(out, v)
+	}
+	return out
 }
 
 // A Checkpoint is what the file of a finished unit says beyond its

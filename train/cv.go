@@ -53,6 +53,13 @@ type CV struct {
 	// Harmonize is the ComBat harmonisation of the edges across sites
 	// ([cv.harmonize]), fitted on each training fold; nil for none.
 	Harmonize *Harmonize `toml:"harmonize"`
+	// Threshold is the probability of the positive class (a binary
+	// label's class at index 1) from which a participant is predicted
+	// positive, for accuracy, balanced accuracy, sensitivity and
+	// specificity; AUC, log loss and Brier do not depend on it, nor do
+	// labels of more than two classes (the most probable class is
+	// predicted). In (0, 1); nil takes the default 0.5.
+	Threshold *float64 `toml:"threshold"`
 }
 
 // Harmonize is the [cv.harmonize] table of an experiment file: ComBat
@@ -94,6 +101,9 @@ func (cv *CV) SetDefaults() {
 	if cv.Confounds == nil {
 		cv.Confounds = []string{}
 	}
+	if cv.Threshold == nil {
+		cv.Threshold = new(0.5)
+	}
 	if h := cv.Harmonize; h != nil {
 		if h.Method == "" {
 			h.Method = HarmonizeParametric
@@ -115,6 +125,8 @@ func (cv CV) Validate() error {
 	case cv.InnerValidation != nil && (*cv.InnerValidation < 0 || math.IsNaN(*cv.InnerValidation) ||
 		*cv.InnerValidation >= 1 && *cv.InnerValidation != math.Trunc(*cv.InnerValidation)):
 		return fmt.Errorf("cv.inner_validation: want a fraction in [0, 1) or a whole count, found %v", *cv.InnerValidation)
+	case cv.Threshold != nil && !(*cv.Threshold > 0 && *cv.Threshold < 1):
+		return fmt.Errorf("cv.threshold: want a probability in (0, 1), found %v", *cv.Threshold)
 	case cv.SitesOut < 0:
 		return fmt.Errorf("cv.sites_out: want 0 (k-fold) or a number of sites per fold, found %d", cv.SitesOut)
 	case cv.SitesOut > 0 && cv.StratifySite:

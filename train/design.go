@@ -21,6 +21,12 @@ type Design struct {
 	// scored on it (Result.InnerLoss): what a reference baseline is chosen
 	// on when the experiment names none.
 	InnerLoss bool
+	// LabelLoss records, for every unit of a baseline fitted to class
+	// labels with an inner validation part, the log loss of the
+	// baseline's classifier refitted without that part and scored on it
+	// (Result.LabelLoss): what a label's reference baseline is chosen on
+	// when the experiment names none that classifies.
+	LabelLoss bool
 	// Preprocess is how the cohort's matrices were prepared, recorded
 	// beside every saved model so that new participants are prepared
 	// alike.

@@ -132,11 +132,15 @@ type NullRun struct {
 	Model       string
 	Permutation int // index into the permutations
 	Predictions []model.Prediction
+	// ClassPredictions are the model's class probabilities for the
+	// permuted labels, when it learns the cohort's labels.
+	ClassPredictions []model.ClassPrediction
 }
 
 // RunPermutations repeats the whole cross-validation of the named models
 // (all when names is empty) once per permutation of the participants'
-// rows (scores and covariates together, as Permutation describes), under
+// rows (scores, labels and covariates together, as Permutation
+// describes), under
 // the same splits and inner validation parts as Run, and passes each
 // model's predictions for each permutation to null as they are made.
 // Each permuted run prepares its targets as Run does, regressing the
@@ -146,6 +150,8 @@ type NullRun struct {
 // decomposition, each column regressed on the confounds of its own
 // permutation (FitTargetPrepBlocks); the others are refitted per
 // permutation. Either way a permutation's predictions are the same.
+// Classifiers are refitted on each permutation's labels, which are
+// permuted with the scores, in the same exchangeability blocks.
 // r.OnEvent, when set, receives a PermutationDone event after each
 // permutation of each model has been passed to null.
 func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []string, chunk int, null func(NullRun) error) error {
@@ -186,12 +192,13 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 			cv := exp.CV
 			cv.Confounds = confounds
 			sub := &Runner{
-				Design:   &Design{Seed: exp.Seed, CV: cv, Models: []ModelConfig{m}},
-				Cohort:   pc,
-				Jobs:     r.Jobs,
-				Logger:   r.Logger,
-				newModel: r.newModel,
-				splits:   splits,
+				Design:        &Design{Seed: exp.Seed, CV: cv, Models: []ModelConfig{m}},
+				Cohort:        pc,
+				Jobs:          r.Jobs,
+				Logger:        r.Logger,
+				newModel:      r.newModel,
+				newClassifier: r.newClassifier,
+				splits:        splits,
 
 				scoresOnly: true,
 				prepBlocks: len(batch),
@@ -206,8 +213,15 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 				p.Target = target
 				byPerm[k] = append(byPerm[k], p)
 			}
+			classesByPerm := make([][]model.ClassPrediction, len(batch))
+			for _, p := range res.ClassPredictions {
+				k, label := splitPermutedTarget(p.Label)
+				p.Label = label
+				classesByPerm[k] = append(classesByPerm[k], p)
+			}
 			for k, preds := range byPerm {
-				if err := null(NullRun{Model: m.Name, Permutation: first + k, Predictions: preds}); err != nil {
+				run := NullRun{Model: m.Name, Permutation: first + k, Predictions: preds, ClassPredictions: classesByPerm[k]}
+				if err := null(run); err != nil {
 					return err
 				}
 				done++
@@ -223,7 +237,8 @@ func (r *Runner) RunPermutations(ctx context.Context, perms [][]int, names []str
 // permutedCohort returns a cohort whose participants keep their matrices
 // (shared with c), IDs and groups, and take, in the k-th permutation perm
 // of batch, the scores and the named confounds of participant perm[i]:
-// targets "TARGET|k" and covariates "CONFOUND|k", block after block. The
+// targets "TARGET|k", labels "LABEL|k" and covariates "CONFOUND|k", block
+// after block. The
 // second result names the covariates, the permuted run's cv.confounds.
 // The covariates preserved names (those harmonisation preserves, which
 // describe the matrices) follow, unpermuted, under their own names.
@@ -243,6 +258,10 @@ func permutedCohort(c *data.Cohort, batch [][]int, confounds, preserved []string
 		for _, name := range confounds {
 			pc.Covariates = append(pc.Covariates, name+"|"+strconv.Itoa(k))
 		}
+		for l, name := range c.Labels {
+			pc.Labels = append(pc.Labels, name+"|"+strconv.Itoa(k))
+			pc.Classes = append(pc.Classes, c.Classes[l])
+		}
 	}
 	permuted := slices.Clone(pc.Covariates)
 	keep := make([]int, len(preserved))
@@ -256,9 +275,11 @@ func permutedCohort(c *data.Cohort, batch [][]int, confounds, preserved []string
 		q := *p
 		q.Scores = make([]float64, 0, T*len(batch))
 		q.Covariates = make([]float64, 0, len(cols)*len(batch)+len(keep))
+		q.Labels = make([]int, 0, len(c.Labels)*len(batch))
 		for _, perm := range batch {
 			src := c.Participants[perm[i]]
 			q.Scores = append(q.Scores, src.Scores...)
+			q.Labels = append(q.Labels, src.Labels...)
 			for _, j := range cols {
 				q.Covariates = append(q.Covariates, src.Covariates[j])
 			}

@@ -257,7 +257,8 @@ func (p *Pipeline) UnmarshalJSON(raw []byte) error {
 
 // subCohort returns the participants idx of c under c's names.
 func subCohort(c *data.Cohort, idx []int) *data.Cohort {
-	return &data.Cohort{Participants: pick(c, idx), Targets: c.Targets, Covariates: c.Covariates, Regions: c.Regions, SiteColumn: c.SiteColumn, Series: c.Series}
+	return &data.Cohort{Participants: pick(c, idx), Targets: c.Targets, Covariates: c.Covariates, Labels: c.Labels, Classes: c.Classes,
+		Regions: c.Regions, SiteColumn: c.SiteColumn, Series: c.Series}
 }
 
 // scoreMatrix returns the scores of c's participants, len × T; every

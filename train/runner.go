@@ -67,6 +67,11 @@ type Result struct {
 	// Predictions are ordered by model (experiment order), repeat, fold,
 	// participant (cohort order) and target (cohort order).
 	Predictions []model.Prediction
+	// ClassPredictions are the class probabilities of every model fitted
+	// to the cohort's labels (model.Kind.NewClassifier), ordered as
+	// Predictions: by model, repeat, fold, participant and label (cohort
+	// order). A participant whose label is missing has none for it.
+	ClassPredictions []model.ClassPrediction
 	// Histories holds, per unit of an iteratively trained model, its
 	// epochs.
 	Histories map[Unit][]model.Epoch
@@ -88,10 +93,21 @@ type Result struct {
 	//
 	// over the nₜ validation participants i with a score zᵢₜ for target
 	// t, in standardized score units (the units the models learn), and
-	// NaN when nₜ = 0. It is only computed when the experiment names no
-	// comparison.reference and has at least two baselines, and only for
-	// folds with an inner validation part (cv.inner_validation > 0).
+	// NaN when nₜ = 0. It is only computed when Design.InnerLoss is set
+	// (the experiment names no comparison.reference that learns scores
+	// and has at least two baselines that do), and only for folds with an
+	// inner validation part (cv.inner_validation > 0).
 	InnerLoss map[Unit][]float64
+	// LabelLoss holds, per unit of a baseline fitted to the labels, as
+	// InnerLoss does for the scores, the mean log loss on the fold's inner
+	// validation part of a fresh classifier fitted without it, per label
+	// (cohort order):
+	//
+	//	−(1/n) Σᵢ log max(pᵢ,yᵢ, 10⁻¹⁵)
+	//
+	// over the n validation participants i with a class yᵢ; NaN when
+	// n = 0. It is recorded when Design.LabelLoss is set.
+	LabelLoss map[Unit][]float64
 	// Units lists every unit of the run in order.
 	Units []Unit
 }
@@ -119,7 +135,11 @@ type Runner struct {
 	Models string
 
 	newModel func(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error)
-	splits   []Split // when set, used instead of the experiment's folds
+	// newClassifier, when set, builds every model's classifiers instead
+	// of its kind's NewClassifier (tests), and makes every model learn
+	// the labels.
+	newClassifier func(cfg ModelConfig, p, classes int, seed int64) (model.Classifier, error)
+	splits        []Split // when set, used instead of the experiment's folds
 	// scoresOnly leaves out what only the report of a full run
 	// needs: edge importance, grid choices and inner validation errors
 	// (permuted and sample-size runs need none).
@@ -201,6 +221,11 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	if _, _, err = scoresAndConfounds(exp.CV, cohort); err != nil {
 		return nil, err
 	}
+	for _, cfg := range exp.Models {
+		if _, _, err := r.learns(cfg); err != nil {
+			return nil, err
+		}
+	}
 	folds := make([]*foldData, len(splits))
 	for s, split := range splits {
 		if folds[s], err = prepareFold(exp, cohort, split, max(1, r.prepBlocks)); err != nil {
@@ -209,7 +234,7 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	}
 
 	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense),
-		Choices: make(map[Unit][][]model.Choice), InnerLoss: make(map[Unit][]float64)}
+		Choices: make(map[Unit][][]model.Choice), InnerLoss: make(map[Unit][]float64), LabelLoss: make(map[Unit][]float64)}
 	all := unitsOf(len(exp.Models), splits)
 	res.Units = all
 	if r.Select != nil {
@@ -291,6 +316,7 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	}
 	for u, unit := range res.Units {
 		res.Predictions = append(res.Predictions, outputs[u].predictions...)
+		res.ClassPredictions = append(res.ClassPredictions, outputs[u].classes...)
 		if outputs[u].history != nil {
 			res.Histories[unit] = outputs[u].history
 		}
@@ -302,6 +328,9 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		}
 		if outputs[u].innerLoss != nil {
 			res.InnerLoss[unit] = outputs[u].innerLoss
+		}
+		if outputs[u].labelLoss != nil {
+			res.LabelLoss[unit] = outputs[u].labelLoss
 		}
 	}
 	return res, nil
@@ -337,6 +366,8 @@ type foldData struct {
 	observed   *mat.Dense   // test scores as scored (Pipeline.Observed): score units, confounds removed
 	innerSeed  uint64
 	targetName []string
+	labelName  []string   // the cohort's labels (data.Cohort.Labels)
+	classes    [][]string // their classes (data.Cohort.Classes)
 	// edges is the per-edge standardization fitted on the fold's training
 	// participants, for every modality some model of the run wants
 	// standardized; nil when none does. scaler is the part of it a model
@@ -364,11 +395,16 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		prep.Steps = append(prep.Steps, &Harmonizer{Functional: first.Functional != nil, Structural: first.Structural != nil,
 			Covariates: h.Preserve, Method: h.Method, Unseen: h.UnseenSite, SiteColumn: cohort.SiteColumn})
 	}
-	tp := &TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}
-	if slices.ContainsFunc(exp.CV.Confounds, func(name string) bool { return strings.HasPrefix(name, siteDummyPrefix) }) {
-		tp.SiteLevels = slices.Sorted(slices.Values(uniq(siteLabels(cohort))))
+	// The scores' preparation (confound regression, standardization) is
+	// for the scores alone: labels are learnt as they are, and a cohort
+	// with labels only has no such step.
+	if len(cohort.Targets) > 0 {
+		tp := &TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}
+		if slices.ContainsFunc(exp.CV.Confounds, func(name string) bool { return strings.HasPrefix(name, siteDummyPrefix) }) {
+			tp.SiteLevels = slices.Sorted(slices.Values(uniq(siteLabels(cohort))))
+		}
+		prep.Steps = append(prep.Steps, tp)
 	}
-	prep.Steps = append(prep.Steps, tp)
 	if tangent := newTangentSpace(cohort.Series); tangent != nil {
 		prep.Steps = append(prep.Steps, tangent)
 	}
@@ -405,7 +441,12 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		testCohort: test,
 		innerSeed:  seed,
 		targetName: cohort.Targets,
+		labelName:  cohort.Labels,
+		classes:    cohort.Classes,
 		edges:      edges,
+	}
+	if len(cohort.Targets) == 0 {
+		return fd, nil
 	}
 	if fd.train.Y, err = scoreMatrix(fit, len(cohort.Targets)); err != nil {
 		return nil, err
@@ -504,10 +545,43 @@ func (fd *foldData) edgeImportance(in model.Interpreter) ([]*mat.Dense, error) {
 
 type unitOutput struct {
 	predictions []model.Prediction
+	classes     []model.ClassPrediction
 	history     []model.Epoch
 	importance  []*mat.Dense
 	choices     [][]model.Choice
 	innerLoss   []float64
+	// labelLoss holds a baseline's inner validation log loss per label
+	// (Result.LabelLoss).
+	labelLoss []float64
+}
+
+// learns reports whether model cfg is fitted to the cohort's scores (its
+// kind has New and the cohort has targets) and to its labels (its kind
+// has NewClassifier and the cohort has labels). A model that learns
+// neither is an error naming it and what its kind can learn.
+func (r *Runner) learns(cfg ModelConfig) (scores, labels bool, err error) {
+	k, err := cfg.Spec()
+	if err != nil {
+		return false, false, fmt.Errorf("model %q: %w", cfg.Name, err)
+	}
+	scores = (k.New != nil || r.newModel != nil) && len(r.Cohort.Targets) > 0
+	labels = (k.NewClassifier != nil || r.newClassifier != nil) && len(r.Cohort.Labels) > 0
+	if scores || labels {
+		return scores, labels, nil
+	}
+	return false, false, fmt.Errorf("model %q: %w", cfg.Name, cannotLearn(k, r.Cohort))
+}
+
+// cannotLearn explains why a model of kind k learns nothing of cohort c.
+func cannotLearn(k model.Kind, c *data.Cohort) error {
+	switch {
+	case k.New == nil && len(c.Labels) == 0:
+		return fmt.Errorf("kind %q learns class labels only, and the cohort has no labels (targets: %s)", k.Name, wordList(c.Targets))
+	case k.NewClassifier == nil && len(c.Targets) == 0:
+		return fmt.Errorf("kind %q learns scores only, and the cohort has no score targets (labels: %s)", k.Name, wordList(c.Labels))
+	default:
+		return fmt.Errorf("kind %q learns nothing the cohort holds", k.Name)
+	}
 }
 
 func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *foldData,
@@ -525,26 +599,53 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 	if err != nil {
 		return unitOutput{}, false, err
 	}
+	scores, labels, err := r.learns(cfg)
+	if err != nil {
+		return unitOutput{}, false, err
+	}
+	var out unitOutput
+	if scores {
+		if out, err = r.fitScores(ctx, unit, cfg, fd, newModel, emit); err != nil {
+			return unitOutput{}, false, err
+		}
+	}
+	if labels {
+		if err := r.fitLabels(ctx, unit, cfg, fd, emit, &out); err != nil {
+			return unitOutput{}, false, err
+		}
+	}
+	if r.Checkpoints != nil {
+		if err := r.Checkpoints.save(cfg.Name, unit, out); err != nil {
+			return unitOutput{}, false, err
+		}
+	}
+	return out, false, nil
+}
+
+// fitScores fits model cfg to the scores of fold fd and predicts its test
+// participants.
+func (r *Runner) fitScores(ctx context.Context, unit Unit, cfg ModelConfig, fd *foldData,
+	newModel func(ModelConfig, int, int, int64) (model.Regressor, error), emit func(Event)) (unitOutput, error) {
 	seed := modelSeed(r.Design.Seed, unit.Repeat, unit.Fold)
 	reg, err := newModel(cfg, r.Cohort.P(), len(r.Cohort.Targets), seed)
 	if err != nil {
-		return unitOutput{}, false, err
+		return unitOutput{}, err
 	}
 	if it, ok := reg.(model.Iterative); ok {
 		it.OnEpoch(func(e model.Epoch) { emit(Event{Kind: EpochDone, Model: cfg.Name, Unit: unit, Epoch: e}) })
 	}
 	if err := reg.Fit(ctx, fd.train, fd.valid); err != nil {
-		return unitOutput{}, false, err
+		return unitOutput{}, err
 	}
 	pred, err := reg.Predict(fd.test)
 	if err != nil {
-		return unitOutput{}, false, err
+		return unitOutput{}, err
 	}
 	if rows, cols := pred.Dims(); rows != len(fd.test) || cols != len(fd.targetName) {
-		return unitOutput{}, false, fmt.Errorf("predictions are %d × %d, want %d × %d", rows, cols, len(fd.test), len(fd.targetName))
+		return unitOutput{}, fmt.Errorf("predictions are %d × %d, want %d × %d", rows, cols, len(fd.test), len(fd.targetName))
 	}
 	if err := fd.prep.Unscale(fd.testCohort, pred); err != nil {
-		return unitOutput{}, false, err
+		return unitOutput{}, err
 	}
 	var out unitOutput
 	for i, p := range fd.test {
@@ -555,7 +656,7 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 			}
 			v := pred.At(i, t)
 			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return unitOutput{}, false, fmt.Errorf("participant %s, target %s: prediction is %v: %w", p.ID, target, v, model.ErrDiverged)
+				return unitOutput{}, fmt.Errorf("participant %s, target %s: prediction is %v: %w", p.ID, target, v, model.ErrDiverged)
 			}
 			out.predictions = append(out.predictions, model.Prediction{
 				ParticipantID: p.ID, Model: cfg.Name, Target: target,
@@ -568,16 +669,16 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 	}
 	if tuned, ok := reg.(model.Tuned); ok && !r.scoresOnly {
 		if out.choices = tuned.Choices(); len(out.choices) != len(fd.targetName) {
-			return unitOutput{}, false, fmt.Errorf("choices for %d targets, want %d", len(out.choices), len(fd.targetName))
+			return unitOutput{}, fmt.Errorf("choices for %d targets, want %d", len(out.choices), len(fd.targetName))
 		}
 	}
 	if wantsInnerLoss(r.Design, cfg) && fd.valid.Len() > 0 && !r.scoresOnly {
 		fresh, err := newModel(cfg, r.Cohort.P(), len(r.Cohort.Targets), seed)
 		if err != nil {
-			return unitOutput{}, false, err
+			return unitOutput{}, err
 		}
 		if out.innerLoss, err = innerLoss(ctx, fresh, fd); err != nil {
-			return unitOutput{}, false, fmt.Errorf("inner validation error of the baseline (name comparison.reference to skip it): %w", err)
+			return unitOutput{}, fmt.Errorf("inner validation error of the baseline (name comparison.reference to skip it): %w", err)
 		}
 	}
 	if in, ok := reg.(model.Interpreter); ok && !r.scoresOnly {
@@ -590,26 +691,178 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 				r.Logger.Info("no edge importance for this fold", "model", cfg.Name, "repeat", unit.Repeat+1, "fold", unit.Fold+1, "reason", err.Error())
 			}
 		case err != nil:
-			return unitOutput{}, false, fmt.Errorf("edge importance: %w", err)
+			return unitOutput{}, fmt.Errorf("edge importance: %w", err)
 		}
 	}
 	if saver, ok := reg.(model.Saver); ok && r.Models != "" && r.Design.SaveModels {
 		if err := saveModel(filepath.Join(r.Models, unitPath(cfg.Name, unit)), saver, fd, r.Cohort, r.Design, cfg); err != nil {
-			return unitOutput{}, false, fmt.Errorf("saving the model: %w", err)
+			return unitOutput{}, fmt.Errorf("saving the model: %w", err)
 		}
 	}
-	if r.Checkpoints != nil {
-		if err := r.Checkpoints.save(cfg.Name, unit, out); err != nil {
-			return unitOutput{}, false, err
-		}
-	}
-	return out, false, nil
+	return out, nil
 }
 
-// wantsInnerLoss reports whether a run of exp records the inner
-// validation error of model cfg: cfg is a baseline (model.Kind.Baseline),
-// and exp names no comparison.reference and has at least two baselines to
-// choose from.
+// labelled returns the participants of ps whose label l is known, with
+// their classes, as a classifier of K classes learns from them.
+func labelled(ps []*data.Participant, l, K int) model.LabelledSet {
+	set := model.LabelledSet{Classes: K}
+	for _, p := range ps {
+		if c := p.Labels[l]; c >= 0 {
+			set.Participants = append(set.Participants, p)
+			set.Labels = append(set.Labels, c)
+		}
+	}
+	return set
+}
+
+// buildClassifier makes the untrained classifier of a unit with its
+// kind's NewClassifier, or r.newClassifier when set.
+func (r *Runner) buildClassifier(cfg ModelConfig, classes int, seed int64) (model.Classifier, error) {
+	if r.newClassifier != nil {
+		return r.newClassifier(cfg, r.Cohort.P(), classes, seed)
+	}
+	k, err := cfg.Spec()
+	if err != nil {
+		return nil, err
+	}
+	return k.NewClassifier(cfg.Settings(), r.Cohort.P(), classes, seed)
+}
+
+// fitLabels fits one classifier of model cfg to each label of fold fd,
+// on the fold's prepared participants whose label is known, and adds to
+// out the class probabilities of the test participants whose label is
+// known, ordered by participant and then label, the inner validation log
+// loss of a baseline, and, for a model fitted to no scores, the epochs of
+// its first label's classifier. Every classifier of a unit has the seed
+// of the unit's regressor. The scores' preparation (TargetPrep: confound
+// regression and standardization) does not touch labels: cv.confounds
+// are not regressed out of a label, whose classes are learnt as given.
+func (r *Runner) fitLabels(ctx context.Context, unit Unit, cfg ModelConfig, fd *foldData, emit func(Event), out *unitOutput) error {
+	seed := modelSeed(r.Design.Seed, unit.Repeat, unit.Fold)
+	byLabel := make([]map[string][]float64, len(fd.labelName))
+	k, err := cfg.Spec()
+	wantLoss := err == nil && k.Baseline && r.Design.LabelLoss && fd.valid.Len() > 0 && !r.scoresOnly
+	for l, label := range fd.labelName {
+		K := len(fd.classes[l])
+		trainSet := labelled(fd.train.Participants, l, K)
+		if trainSet.Len() == 0 {
+			return fmt.Errorf("label %s: no training participant has one", label)
+		}
+		clf, err := r.buildClassifier(cfg, K, seed)
+		if err != nil {
+			return fmt.Errorf("label %s: %w", label, err)
+		}
+		it, iterative := clf.(epochReporter)
+		if iterative {
+			it.OnEpoch(func(e model.Epoch) { emit(Event{Kind: EpochDone, Model: cfg.Name, Unit: unit, Epoch: e}) })
+		}
+		if err := clf.Fit(ctx, trainSet, labelled(fd.valid.Participants, l, K)); err != nil {
+			return fmt.Errorf("label %s: %w", label, err)
+		}
+		if iterative && l == 0 && len(fd.targetName) == 0 {
+			out.history = it.History()
+		}
+		test := labelled(fd.test, l, K)
+		byLabel[l] = make(map[string][]float64, test.Len())
+		if test.Len() > 0 {
+			proba, err := predictProba(clf, test.Participants, K)
+			if err != nil {
+				return fmt.Errorf("label %s: %w", label, err)
+			}
+			for i, p := range test.Participants {
+				byLabel[l][p.ID] = proba.RawRowView(i)
+			}
+		}
+		if wantLoss {
+			fresh, err := r.buildClassifier(cfg, K, seed)
+			if err != nil {
+				return fmt.Errorf("label %s: %w", label, err)
+			}
+			loss, err := innerLogLoss(ctx, fresh, labelled(fd.train.Participants, l, K), labelled(fd.valid.Participants, l, K))
+			if err != nil {
+				return fmt.Errorf("label %s: inner validation log loss of the baseline (name comparison.reference to skip it): %w", label, err)
+			}
+			out.labelLoss = append(out.labelLoss, loss)
+		}
+	}
+	for _, p := range fd.test {
+		for l, label := range fd.labelName {
+			if proba, ok := byLabel[l][p.ID]; ok {
+				out.classes = append(out.classes, model.ClassPrediction{
+					ParticipantID: p.ID, Model: cfg.Name, Label: label, Repeat: unit.Repeat, Fold: unit.Fold,
+					Observed: p.Labels[l], Probabilities: slices.Clone(proba),
+				})
+			}
+		}
+	}
+	return nil
+}
+
+// epochReporter is a classifier trained in epochs, reporting them as a
+// model.Iterative regressor does.
+type epochReporter interface {
+	OnEpoch(func(model.Epoch))
+	History() []model.Epoch
+}
+
+// predictProba returns clf's class probabilities for ps, checked: len(ps)
+// × K, every one finite in [0, 1] and every row summing to 1 within 1e-6;
+// a NaN or infinite one wraps model.ErrDiverged.
+func predictProba(clf model.Classifier, ps []*data.Participant, K int) (*mat.Dense, error) {
+	proba, err := clf.PredictProba(ps)
+	if err != nil {
+		return nil, err
+	}
+	if rows, cols := proba.Dims(); rows != len(ps) || cols != K {
+		return nil, fmt.Errorf("class probabilities are %d × %d, want %d × %d", rows, cols, len(ps), K)
+	}
+	for i, p := range ps {
+		var sum float64
+		for k := range K {
+			v := proba.At(i, k)
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("participant %s: probability of class %d is %v: %w", p.ID, k, v, model.ErrDiverged)
+			}
+			if v < 0 || v > 1 {
+				return nil, fmt.Errorf("participant %s: probability of class %d is %v, outside [0, 1]", p.ID, k, v)
+			}
+			sum += v
+		}
+		if math.Abs(sum-1) > 1e-6 {
+			return nil, fmt.Errorf("participant %s: class probabilities sum to %v, not 1", p.ID, sum)
+		}
+	}
+	return proba, nil
+}
+
+// innerLogLoss fits clf, a fresh classifier, on train alone and returns
+// its mean log loss on valid,
+//
+//	−(1/n) Σᵢ log max(pᵢ,yᵢ, 10⁻¹⁵)
+//
+// over the n validation participants i with class yᵢ; NaN when n = 0.
+// It is what a reference baseline for a label is chosen on (Result.LabelLoss).
+func innerLogLoss(ctx context.Context, clf model.Classifier, train, valid model.LabelledSet) (float64, error) {
+	if valid.Len() == 0 {
+		return math.NaN(), nil
+	}
+	if err := clf.Fit(ctx, train, model.LabelledSet{Classes: train.Classes}); err != nil {
+		return 0, err
+	}
+	proba, err := predictProba(clf, valid.Participants, valid.Classes)
+	if err != nil {
+		return 0, err
+	}
+	var sum float64
+	for i, y := range valid.Labels {
+		sum -= math.Log(max(proba.At(i, y), 1e-15))
+	}
+	return sum / float64(valid.Len()), nil
+}
+
+// wantsInnerLoss reports whether a run of d records the inner validation
+// error of the scores of model cfg: cfg is a baseline (model.Kind.Baseline)
+// and d.InnerLoss is set.
 func wantsInnerLoss(d *Design, cfg ModelConfig) bool {
 	k, err := cfg.Spec()
 	return d.InnerLoss && err == nil && k.Baseline
@@ -701,16 +954,19 @@ func unitSeed(seed int64, name string, repeat, fold int) uint64 {
 	return h.Sum64()
 }
 
-// scoresAndConfounds gathers the cohort's scores (n × T) and the confound
-// columns named by cv.Confounds (n × C, nil when none).
+// scoresAndConfounds gathers the cohort's scores (n × T; nil for a cohort
+// with labels and no score targets) and the confound columns named by
+// cv.Confounds (n × C, nil when none).
 func scoresAndConfounds(cv CV, c *data.Cohort) (y, cov *mat.Dense, err error) {
 	n, T := len(c.Participants), len(c.Targets)
-	if n == 0 || T == 0 {
-		return nil, nil, fmt.Errorf("cohort has %d participants and %d targets", n, T)
+	if n == 0 || T == 0 && len(c.Labels) == 0 {
+		return nil, nil, fmt.Errorf("cohort has %d participants, %d targets and %d labels", n, T, len(c.Labels))
 	}
-	y = mat.NewDense(n, T, nil)
-	for i, p := range c.Participants {
-		y.SetRow(i, p.Scores)
+	if T > 0 {
+		y = mat.NewDense(n, T, nil)
+		for i, p := range c.Participants {
+			y.SetRow(i, p.Scores)
+		}
 	}
 	if len(cv.Confounds) == 0 {
 		return y, nil, nil

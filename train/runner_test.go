@@ -53,9 +53,9 @@ func toyCohort(n, p int, seed uint64, grouped bool) *data.Cohort {
 }
 
 // toyDesign is a 4-fold × 2 design of models that records baselines'
-// inner-validation errors.
+// inner-validation errors and log losses.
 func toyDesign(models ...ModelConfig) *Design {
-	exp := &Design{Seed: 11, CV: CV{Folds: new(4), Repeats: new(2)}, Models: models, InnerLoss: true}
+	exp := &Design{Seed: 11, CV: CV{Folds: new(4), Repeats: new(2)}, Models: models, InnerLoss: true, LabelLoss: true}
 	exp.SetDefaults()
 	return exp
 }

@@ -95,12 +95,13 @@ func (r *Runner) RunSampleSizes(ctx context.Context, fractions []float64, names 
 	runs := make([]SampleSizeRun, len(fractions))
 	for fi, f := range fractions {
 		sub := &Runner{
-			Design:   &Design{Seed: exp.Seed, CV: exp.CV, Models: models},
-			Cohort:   r.Cohort,
-			Jobs:     r.Jobs,
-			Logger:   r.Logger,
-			newModel: r.newModel,
-			splits:   subsets[fi],
+			Design:        &Design{Seed: exp.Seed, CV: exp.CV, Models: models},
+			Cohort:        r.Cohort,
+			Jobs:          r.Jobs,
+			Logger:        r.Logger,
+			newModel:      r.newModel,
+			newClassifier: r.newClassifier,
+			splits:        subsets[fi],
 
 			scoresOnly: true,
 		}

@@ -101,6 +101,9 @@ func LoadModel(dir string) (*SavedModel, error) {
 		if advice := modelFolderAdvice(dir); advice != "" {
 			return nil, fmt.Errorf("%s: %w (no %s): %s", dir, ErrNotModelFolder, FittedFile, advice)
 		}
+		if _, statErr := os.Stat(dir); errors.Is(statErr, fs.ErrNotExist) {
+			return nil, fmt.Errorf("%s: no saved model here; only models fitted to scores are saved (the classifiers of class labels are not, so skein predict gives no class probabilities): %w", dir, err)
+		}
 	}
 	if err != nil {
 		return nil, err
@@ -302,8 +305,9 @@ func (s *SavedModel) Predict(c *data.Cohort) (score, residual *mat.Dense, err er
 	return score, residual, nil
 }
 
-// Refit trains every model that can be saved on all participants (an inner
-// validation part drawn from all of them, as in a fold) and saves it as
+// Refit trains every model that can be saved and learns the scores on all
+// participants (an inner validation part drawn from all of them, as in a
+// fold) and saves it as
 // Models/NAME/all/: the model to use on new participants. Its accuracy is
 // the cross-validated one of Run; it has no test fold of its own.
 func (r *Runner) Refit(ctx context.Context) error {
@@ -327,6 +331,11 @@ func (r *Runner) Refit(ctx context.Context) error {
 		newModel = buildModel
 	}
 	for _, cfg := range exp.Models {
+		// Classifiers are not saved (skein predict reads regressors
+		// only): a model is refitted for the scores it learns.
+		if scores, _, err := r.learns(cfg); err != nil || !scores {
+			continue
+		}
 		seed := modelSeed(exp.Seed, -1, -1)
 		reg, err := newModel(cfg, cohort.P(), len(cohort.Targets), seed)
 		if err != nil {

@@ -3,6 +3,7 @@ package train
 import (
 	"encoding/json"
 	"fmt"
+	"github.com/skein-neuro/skein/model/linear"
 	"math"
 	"os"
 	"path/filepath"
@@ -242,7 +243,7 @@ func TestDesignCheckClasses(t *testing.T) {
 			p.Labels[0] = 1
 		}
 	}
-	d := toyDesign(ridgeAndMean()[:1]...)
+	d := toyDesign(ridgeAndMean()[0], ModelConfig{Name: "majority", Config: linear.Config{Majority: &linear.MajorityConfig{}}})
 	d.CV.Folds = new(5)
 	err := d.Check(c)
 	if want := `cv.folds: 5 folds, but class "b" of label "dx" has only 3 participants`; err == nil || !contains(err.Error(), want) {

@@ -336,3 +336,75 @@ func TestPlanForceReplacesMergedRun(t *testing.T) {
 		t.Error("work folder left behind")
 	}
 }
+
+// batchLabelExperiment runs the mean predictor, ridge and a small network
+// on a cohort with scores and a class label (the network learns both, the
+// baselines the scores only), 3 folds × 2 repeats with confounds and a
+// permutation test of 6 permutations in chunks of 4.
+const batchLabelExperiment = `
+[cv]
+folds = 3
+repeats = 2
+confounds = ["age", "sex"]
+
+[permutation]
+count = 6
+chunk = 4
+
+[[model]]
+name = "mean"
+[model.mean]
+
+[[model]]
+name = "ridge"
+[model.ridge]
+
+[[model]]
+name = "net"
+[model.network]
+head = [4]
+epochs = 4
+batch_size = 8
+[[model.network.branch]]
+input = "functional"
+layers = [{kind = "e2n", channels = 4}, {kind = "n2g", size = 4}]
+`
+
+// TestPlanUnitsMergeEqualsSingleRunWithLabel: with a class label, the
+// merged units of a batch plan give the files of a single-machine run byte
+// for byte, class_predictions.csv and the label's metrics included.
+func TestPlanUnitsMergeEqualsSingleRunWithLabel(t *testing.T) {
+	exp := writeExperiment(t, synth.Config{N: 42, P: 8, Seed: 12, FamilySize: 2,
+		Label: &synth.Label{Name: "diagnosis", Prevalence: 0.4}}, batchLabelExperiment)
+	single := filepath.Join(t.TempDir(), "single")
+	if code, _, stderr := runSkein(t, "run", exp, "--out", single); code != exitOK {
+		t.Fatalf("run: exit %d: %s", code, stderr)
+	}
+	out := filepath.Join(t.TempDir(), "batch")
+	if code, _, stderr := runSkein(t, "plan", exp, "--out", out, "--block", "4"); code != exitOK {
+		t.Fatalf("plan: exit %d: %s", code, stderr)
+	}
+	ids := planUnits(t, out)
+	for i := len(ids) - 1; i >= 0; i-- {
+		if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--unit", ids[i], "--jobs", "2"); code != exitOK {
+			t.Fatalf("unit %s: exit %d: %s", ids[i], code, stderr)
+		}
+	}
+	if code, stdout, stderr := runSkein(t, "merge", out); code != exitOK {
+		t.Fatalf("merge: exit %d: %s%s", code, stdout, stderr)
+	}
+	files := []string{"predictions.csv", "class_predictions.csv", "metrics.json", "summary.md", "permutations.csv", "experiment.toml", "cohort.json", "units/net/r2-f3.json"}
+	compareRuns(t, single, out, files)
+	raw, err := os.ReadFile(filepath.Join(out, "metrics.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{`"label": "diagnosis"`, `"permutation_p_auc"`, `"auc"`} {
+		if !bytes.Contains(raw, []byte(want)) {
+			t.Errorf("metrics.json lacks %s", want)
+		}
+	}
+	if raw, _ := os.ReadFile(filepath.Join(out, "units/net/r2-f3.json")); !bytes.Contains(raw, []byte(`"class_predictions":`)) {
+		t.Errorf("the network's checkpoint lacks its class predictions:\n%.400s", raw)
+	}
+}

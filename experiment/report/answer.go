@@ -24,8 +24,8 @@ var (
 	colorModel    = color.RGBA{R: 0x00, G: 0x72, B: 0xb2, A: 0xff}
 )
 
-// Answer returns the sentence that opens the report, as summary.md opens
-// with it (experiment.Answer), or says that the run folder has no
+// Answer returns the sentences that open the report, as summary.md opens
+// with them (experiment.AnswerRun), or says that the run folder has no
 // comparison.csv to answer from.
 func (r *Run) Answer() string {
 	if r.Comparisons == nil {
@@ -33,7 +33,11 @@ func (r *Run) Answer() string {
 			"answer whether fusing structure with function beat the reference baseline; run the experiment again.",
 			experiment.ComparisonFile)
 	}
-	return experiment.Answer(r.Experiment, r.Comparisons)
+	var labels []eval.ClassGroup
+	if r.Summary != nil {
+		labels = r.Summary.Labels
+	}
+	return experiment.AnswerRun(r.Experiment, r.Comparisons, labels)
 }
 
 // AnswerFigures draws, for every target, the chart that answers the run's
