@@ -8,12 +8,10 @@ import (
 	"slices"
 	"strings"
 
-	"github.com/pelletier/go-toml/v2"
 	"gonum.org/v1/gonum/mat"
 
 	"github.com/skein-neuro/skein/data"
 	"github.com/skein-neuro/skein/eval"
-	"github.com/skein-neuro/skein/experiment"
 )
 
 // classPredictionsFile is the file of class probabilities that a run with
@@ -25,11 +23,6 @@ const classPredictionsFile = "class_predictions.csv"
 // count from 1; observed and class are class names, observed empty for a
 // participant whose label is missing.
 var classColumns = []string{"participant_id", "model", "target", "repeat", "fold", "observed", "class", "probability"}
-
-// DefaultThreshold is the probability of class 1 of a binary label at or
-// above which a participant is predicted class 1, when the experiment sets
-// no [cv] threshold.
-const DefaultThreshold = 0.5
 
 // A LabelTarget is a categorical target (a label such as a diagnosis) of
 // a run, with its classes in the order of their indices: for two classes,
@@ -53,44 +46,18 @@ type ClassPrediction struct {
 	Proba []float64
 }
 
-// classSettings are the keys of experiment.toml that the classification
-// parts of a report read: the order of the labels and the threshold. They
-// are decoded leniently, beside the experiment, so that a run folder
-// without labels reads as before.
-type classSettings struct {
-	Cohort struct {
-		Labels []string `toml:"labels"`
-	} `toml:"cohort"`
-	CV struct {
-		Threshold *float64 `toml:"threshold"`
-	} `toml:"cv"`
-}
-
-// readClassSettings returns the labels listed by the experiment text raw
-// and its threshold (DefaultThreshold when unset).
-func readClassSettings(raw []byte, name string) (labels []string, threshold float64, err error) {
-	var s classSettings
-	if err := toml.Unmarshal(raw, &s); err != nil {
-		return nil, 0, fmt.Errorf("%s: %w", name, err)
-	}
-	threshold = DefaultThreshold
-	if t := s.CV.Threshold; t != nil {
-		if !(*t > 0 && *t < 1) {
-			return nil, 0, fmt.Errorf("%s: cv.threshold = %v, want a probability between 0 and 1", name, *t)
-		}
-		threshold = *t
-	}
-	return s.Cohort.Labels, threshold, nil
-}
+// Threshold returns the probability of class 1 of a binary label at or
+// above which a participant is predicted class 1: the [cv] threshold of
+// the run's resolved experiment (train.CV.Threshold, whose default
+// ParseExperiment fills).
+func (r *Run) Threshold() float64 { return *r.Experiment.CV.Threshold }
 
 // readClassPredictions reads the run's class_predictions.csv into
-// r.ClassRows and r.Labels; a run without the file has no labels.
+// r.ClassRows and r.Labels, the labels in the order of the experiment's
+// [cohort] labels (data.Source.Labels); a run without the file has no
+// labels.
 func (r *Run) readClassPredictions() error {
-	order, threshold, err := readClassSettings([]byte(r.ExperimentText), filepath.Join(r.Dir, experiment.ExperimentFile))
-	if err != nil {
-		return err
-	}
-	r.Threshold = threshold
+	order := r.Experiment.Cohort.Labels
 	raw, ok, err := optional(r.Dir, classPredictionsFile)
 	if err != nil || !ok {
 		return err
@@ -271,9 +238,9 @@ func (r *Run) ConfusionTables() []ConfusionTable {
 				repeats[c.Repeat] = true
 			}
 			tab := ConfusionTable{Model: m, Target: lt, Repeats: len(repeats), Threshold: math.NaN(),
-				Counts: eval.Confusion(labels, eval.PredictedClasses(proba, r.Threshold), len(lt.Classes))}
+				Counts: eval.Confusion(labels, eval.PredictedClasses(proba, r.Threshold()), len(lt.Classes))}
 			if len(lt.Classes) == 2 {
-				tab.Threshold = r.Threshold
+				tab.Threshold = r.Threshold()
 			}
 			out = append(out, tab)
 		}

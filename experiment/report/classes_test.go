@@ -9,6 +9,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/pelletier/go-toml/v2"
+
 	"github.com/skein-neuro/skein/experiment"
 	"github.com/skein-neuro/skein/internal/figure"
 )
@@ -241,27 +243,60 @@ func TestReadClassPredictionsErrors(t *testing.T) {
 	}
 }
 
-func TestReadClassSettings(t *testing.T) {
+// TestClassSettingsFromExperiment: the report takes the order of the
+// labels and the threshold from the run's resolved experiment.toml
+// ([cohort] labels, [cv] threshold, decoded as skein run decodes them):
+// labels in that order, lexical order without them, threshold 0.5 when
+// unset; a threshold outside (0, 1) is refused naming the file and key.
+func TestClassSettingsFromExperiment(t *testing.T) {
 	tests := []struct {
-		text      string
+		name      string
 		labels    []string
-		threshold float64
+		threshold *float64
+		order     []string
+		want      float64
 		err       string
 	}{
-		{text: "seed = 1\n", threshold: 0.5},
-		{text: "[cohort]\nlabels = [\"subtype\", \"diagnosis\"]\n[cv]\nthreshold = 0.3\n", labels: []string{"subtype", "diagnosis"}, threshold: 0.3},
-		{text: "[cv]\nthreshold = 1.5\n", err: "experiment.toml: cv.threshold = 1.5, want a probability between 0 and 1"},
+		{name: "unset", order: []string{"diagnosis", "subtype"}, want: 0.5},
+		{name: "labels and threshold", labels: []string{"subtype", "diagnosis"}, threshold: new(0.3), order: []string{"subtype", "diagnosis"}, want: 0.3},
+		{name: "threshold out of range", threshold: new(1.5), err: "cv.threshold"},
 	}
 	for _, tt := range tests {
-		labels, threshold, err := readClassSettings([]byte(tt.text), "experiment.toml")
-		if tt.err != "" {
-			if err == nil || err.Error() != tt.err {
-				t.Errorf("%q: %v, want %s", tt.text, err, tt.err)
+		t.Run(tt.name, func(t *testing.T) {
+			dir, _ := classRun(t)
+			path := filepath.Join(dir, experiment.ExperimentFile)
+			raw, err := os.ReadFile(path)
+			if err != nil {
+				t.Fatal(err)
 			}
-			continue
-		}
-		if err != nil || threshold != tt.threshold || !slices.Equal(labels, tt.labels) {
-			t.Errorf("%q: %v %v %v", tt.text, labels, threshold, err)
-		}
+			exp, err := experiment.ParseExperiment(raw)
+			if err != nil {
+				t.Fatal(err)
+			}
+			exp.Cohort.Labels, exp.CV.Threshold = tt.labels, tt.threshold
+			if raw, err = toml.Marshal(exp); err != nil {
+				t.Fatal(err)
+			}
+			if err := os.WriteFile(path, raw, 0o644); err != nil {
+				t.Fatal(err)
+			}
+			r, err := ReadRun(dir)
+			if tt.err != "" {
+				if err == nil || !strings.Contains(err.Error(), tt.err) || !strings.Contains(err.Error(), experiment.ExperimentFile) {
+					t.Fatalf("ReadRun: %v, want an error naming %s and %s", err, experiment.ExperimentFile, tt.err)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			var order []string
+			for _, lt := range r.Labels {
+				order = append(order, lt.Name)
+			}
+			if !slices.Equal(order, tt.order) || r.Threshold() != tt.want {
+				t.Errorf("labels %v, threshold %v; want %v, %v", order, r.Threshold(), tt.order, tt.want)
+			}
+		})
 	}
 }

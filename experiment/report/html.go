@@ -168,7 +168,7 @@ func (r *Run) WriteHTML(w io.Writer, figs []Figure, imp []ModelImportance, filte
 	for _, lt := range r.Labels {
 		line := fmt.Sprintf("Label predicted: %s, classes %s", lt.Name, strings.Join(lt.Classes, ", "))
 		if len(lt.Classes) == 2 {
-			line += fmt.Sprintf(" (%s positive; predicted when its probability is at least %v)", lt.Classes[1], r.Threshold)
+			line += fmt.Sprintf(" (%s positive; predicted when its probability is at least %v)", lt.Classes[1], r.Threshold())
 		}
 		pg.Overview = append(pg.Overview, line+".")
 	}

@@ -62,10 +62,6 @@ type Run struct {
 	// labels (no such file).
 	Labels    []LabelTarget
 	ClassRows []ClassPrediction
-	// Threshold is the probability of class 1 of a binary label at or
-	// above which a participant is predicted class 1 (the experiment's
-	// [cv] threshold, DefaultThreshold when unset).
-	Threshold float64
 }
 
 // A CurvePoint is one row of learning_curves.csv.
