@@ -469,12 +469,12 @@ func TestLabelsResumeAndMerge(t *testing.T) {
 	same("merged units", merged)
 }
 
-// TestLoadModelOfClassifier: classifiers are not saved, and pointing
-// LoadModel at a folder that does not exist says so, still wrapping
+// TestLoadModelOfMissingFolder: pointing LoadModel at a folder that does
+// not exist says so and how models are saved, still wrapping
 // fs.ErrNotExist.
-func TestLoadModelOfClassifier(t *testing.T) {
+func TestLoadModelOfMissingFolder(t *testing.T) {
 	_, err := LoadModel(filepath.Join(t.TempDir(), "models", "logistic", "r1-f1"))
-	if err == nil || !errors.Is(err, fs.ErrNotExist) || !strings.Contains(err.Error(), "only models fitted to scores are saved") {
+	if err == nil || !errors.Is(err, fs.ErrNotExist) || !strings.Contains(err.Error(), "save_models") {
 		t.Fatalf("LoadModel of a missing folder: %v", err)
 	}
 }

@@ -518,13 +518,13 @@ func TestPipelineJSONErrors(t *testing.T) {
 }
 
 // TestLoadModelVersions: fitted.json of an unknown format or version, or
-// of version 2 without a usable prep, is an error naming the file.
+// of version 2 or 3 without a usable prep, is an error naming the file.
 func TestLoadModelVersions(t *testing.T) {
 	tests := []struct {
 		name, doc, want string
 	}{
-		{"format", `{"format": "other", "version": 2}`, `format "other" version 2, want skein-fitted version 1 to 2`},
-		{"newer", `{"format": "skein-fitted", "version": 3}`, "version 3, want skein-fitted version 1 to 2"},
+		{"format", `{"format": "other", "version": 2}`, `format "other" version 2, want skein-fitted version 1 to 3`},
+		{"newer", `{"format": "skein-fitted", "version": 4}`, "version 4, want skein-fitted version 1 to 3"},
 		{"no prep", `{"format": "skein-fitted", "version": 2, "kind": "ridge"}`, "no prep"},
 		{"unknown step", `{"format": "skein-fitted", "version": 2, "prep": [{"step": "x", "params": {}}]}`, `unknown preparation step "x"`},
 		{"version 1 scaling", `{"format": "skein-fitted", "version": 1, "targets": ["a"], "target_scaling": {"mean": [1, 2], "sd": [1, 1]}}`, "target_scaling does not match the 1 targets"},

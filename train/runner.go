@@ -553,6 +553,10 @@ type unitOutput struct {
 	// labelLoss holds a baseline's inner validation log loss per label
 	// (Result.LabelLoss).
 	labelLoss []float64
+	// regressor and classifiers (one per label) are the unit's fitted
+	// models, kept until runUnit saves them; never checkpointed.
+	regressor   model.Regressor
+	classifiers []model.Classifier
 }
 
 // learns reports whether model cfg is fitted to the cohort's scores (its
@@ -614,6 +618,12 @@ func (r *Runner) runUnit(ctx context.Context, unit Unit, cfg ModelConfig, fd *fo
 			return unitOutput{}, false, err
 		}
 	}
+	if r.Models != "" && r.Design.SaveModels {
+		if err := saveModel(filepath.Join(r.Models, unitPath(cfg.Name, unit)), out.regressor, out.classifiers, fd, r.Cohort, r.Design, cfg); err != nil {
+			return unitOutput{}, false, fmt.Errorf("saving the model: %w", err)
+		}
+	}
+	out.regressor, out.classifiers = nil, nil
 	if r.Checkpoints != nil {
 		if err := r.Checkpoints.save(cfg.Name, unit, out); err != nil {
 			return unitOutput{}, false, err
@@ -694,11 +704,7 @@ func (r *Runner) fitScores(ctx context.Context, unit Unit, cfg ModelConfig, fd *
 			return unitOutput{}, fmt.Errorf("edge importance: %w", err)
 		}
 	}
-	if saver, ok := reg.(model.Saver); ok && r.Models != "" && r.Design.SaveModels {
-		if err := saveModel(filepath.Join(r.Models, unitPath(cfg.Name, unit)), saver, fd, r.Cohort, r.Design, cfg); err != nil {
-			return unitOutput{}, fmt.Errorf("saving the model: %w", err)
-		}
-	}
+	out.regressor = reg
 	return out, nil
 }
 
@@ -762,6 +768,7 @@ func (r *Runner) fitLabels(ctx context.Context, unit Unit, cfg ModelConfig, fd *
 		if iterative && l == 0 && len(fd.targetName) == 0 {
 			out.history = it.History()
 		}
+		out.classifiers = append(out.classifiers, clf)
 		test := labelled(fd.test, l, K)
 		byLabel[l] = make(map[string][]float64, test.Len())
 		if test.Len() > 0 {

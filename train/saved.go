@@ -24,23 +24,43 @@ const FittedFile = "fitted.json"
 
 // FittedVersion is the version of FittedFile this skein writes. Version
 // 1, written by earlier skeins, held the target preparation as the keys
-// confounds, confound_coef and target_scaling instead of prep; LoadModel
-// reads both.
-const FittedVersion = 2
+// confounds, confound_coef and target_scaling instead of prep; version 2
+// had no labels and always a regressor. LoadModel reads all three.
+const FittedVersion = 3
+
+// LabelsFolder is the folder, below a saved model's folder, that holds
+// the model's classifiers: one folder per class label, named after the
+// label (FolderName), in the format of the kind's Save.
+const LabelsFolder = "labels"
 
 // Fitted is the JSON document FittedFile: what prediction with a saved
 // model needs beyond the model's own files. The model learned, and
 // predicts, participants as Prep leaves them; Prep.Invert turns its
 // predictions into scores, Prep.Unscale into scores with the confound
 // fit removed (what the run scored).
+//
+// A model fitted to scores has its regressor's files in the folder itself
+// and Targets names their columns; a model fitted to class labels has one
+// classifier per label in LabelsFolder/LABEL and Labels lists them. A
+// network of an experiment with scores and a label has both; a classifying
+// baseline such as logistic has labels only (Targets empty).
 type Fitted struct {
-	Format     string          `json:"format"`  // "skein-fitted"
-	Version    int             `json:"version"` // FittedVersion
-	Model      string          `json:"model"`
-	Kind       string          `json:"kind"`
-	Repeat     int             `json:"repeat"` // from 1, as in predictions.csv; 0 when refitted on all participants
-	Fold       int             `json:"fold"`   // from 1; 0 when refitted on all participants
-	Targets    []string        `json:"targets"`
+	Format  string `json:"format"`  // "skein-fitted"
+	Version int    `json:"version"` // FittedVersion
+	Model   string `json:"model"`
+	Kind    string `json:"kind"`
+	Repeat  int    `json:"repeat"` // from 1, as in predictions.csv; 0 when refitted on all participants
+	Fold    int    `json:"fold"`   // from 1; 0 when refitted on all participants
+	// Targets names the score columns the regressor predicts, in order;
+	// empty when no regressor was saved.
+	Targets []string `json:"targets"`
+	// Labels lists the class labels whose classifiers were saved, in the
+	// cohort's order; absent when none were.
+	Labels []FittedLabel `json:"labels,omitempty"`
+	// Threshold is the run's [cv] threshold (CV.Threshold): a participant
+	// is predicted the positive class of a binary label when its
+	// probability is at least Threshold. Set when Labels is.
+	Threshold  float64         `json:"threshold,omitempty"`
 	Regions    []string        `json:"regions"`
 	Preprocess data.Preprocess `json:"preprocess"`
 	// Prep is the preparation fitted on the fold's training participants
@@ -52,18 +72,60 @@ type Fitted struct {
 	Valid []string `json:"valid"`
 }
 
-func saveModel(dir string, m model.Saver, fd *foldData, c *data.Cohort, exp *Design, cfg ModelConfig) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return err
-	}
-	if err := m.Save(dir); err != nil {
-		return err
-	}
+// A FittedLabel is a class label that a saved model's classifier learnt.
+type FittedLabel struct {
+	Name string `json:"name"`
+	// Classes names the label's classes in index order: the columns of
+	// the classifier's probabilities. For two, Classes[1] is the positive
+	// class.
+	Classes []string `json:"classes"`
+}
+
+// labelDir returns the folder of the classifier of label in the saved
+// model's folder dir.
+func labelDir(dir, label string) string {
+	return filepath.Join(dir, LabelsFolder, FolderName(label))
+}
+
+// saveModel saves in dir what model cfg fitted on fold fd: reg, when it
+// is a model.Saver, and each classifier of classifiers (one per label of
+// c) that has a Save method (as model.Saver's) and a kind with
+// LoadClassifier, each in its labelDir; then FittedFile, written
+// last, so that a folder with FittedFile holds a whole model. It writes
+// nothing when there is nothing to save.
+func saveModel(dir string, reg model.Regressor, classifiers []model.Classifier, fd *foldData, c *data.Cohort, exp *Design, cfg ModelConfig) error {
 	f := Fitted{
 		Format: "skein-fitted", Version: FittedVersion, Model: cfg.Name, Kind: cfg.Kind(),
 		Repeat: fd.split.Repeat + 1, Fold: fd.split.Fold + 1,
-		Targets: c.Targets, Regions: c.Regions, Preprocess: exp.Preprocess,
+		Targets: []string{}, Regions: c.Regions, Preprocess: exp.Preprocess,
 		Prep: fd.prep,
+	}
+	if saver, ok := reg.(model.Saver); ok {
+		if err := os.MkdirAll(dir, 0o755); err != nil {
+			return err
+		}
+		if err := saver.Save(dir); err != nil {
+			return err
+		}
+		f.Targets = c.Targets
+	}
+	k, err := cfg.Spec()
+	if err != nil {
+		return err
+	}
+	for l, clf := range classifiers {
+		saver, ok := clf.(interface{ Save(dir string) error })
+		if !ok || k.LoadClassifier == nil {
+			continue
+		}
+		if err := saver.Save(labelDir(dir, c.Labels[l])); err != nil {
+			return fmt.Errorf("label %s: %w", c.Labels[l], err)
+		}
+		f.Labels = append(f.Labels, FittedLabel{Name: c.Labels[l], Classes: c.Classes[l]})
+		f.Threshold = *exp.CV.Threshold
+	}
+	if len(f.Targets) == 0 && len(f.Labels) == 0 {
+		return nil
 	}
 	for _, p := range fd.train.Participants {
 		f.Train = append(f.Train, p.ID)
@@ -83,12 +145,19 @@ func saveModel(dir string, m model.Saver, fd *foldData, c *data.Cohort, exp *Des
 type SavedModel struct {
 	Dir    string
 	Fitted Fitted
-	Model  model.Regressor
+	// Model is the regressor of the scores Fitted.Targets names; nil when
+	// the model learnt no scores.
+	Model model.Regressor
+	// Classifiers holds the classifier of each label of Fitted.Labels,
+	// in that order.
+	Classifiers []model.Classifier
 }
 
 // LoadModel reads the saved model in dir (a folder models/NAME/rR-fF or
 // models/NAME/all of a run folder), whose FittedFile may be of version 1
-// or FittedVersion.
+// to FittedVersion: its regressor, when Fitted.Targets names scores, and
+// the classifier of each label of Fitted.Labels from its folder below
+// LabelsFolder.
 //
 // A folder without FittedFile is an error that says what the folder holds
 // instead, when it is a model's folder (models/NAME: its fold folders, and
@@ -102,7 +171,7 @@ func LoadModel(dir string) (*SavedModel, error) {
 			return nil, fmt.Errorf("%s: %w (no %s): %s", dir, ErrNotModelFolder, FittedFile, advice)
 		}
 		if _, statErr := os.Stat(dir); errors.Is(statErr, fs.ErrNotExist) {
-			return nil, fmt.Errorf("%s: no saved model here; only models fitted to scores are saved (the classifiers of class labels are not, so skein predict gives no class probabilities): %w", dir, err)
+			return nil, fmt.Errorf("%s: no saved model here (a run saves its models with [output] save_models = true): %w", dir, err)
 		}
 	}
 	if err != nil {
@@ -131,12 +200,33 @@ func LoadModel(dir string) (*SavedModel, error) {
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
-	if k.Load == nil {
-		return nil, fmt.Errorf("%s: models of kind %q are not saved", path, f.Kind)
+	if len(f.Targets) == 0 && len(f.Labels) == 0 {
+		return nil, fmt.Errorf("%s: names neither targets nor labels", path)
 	}
 	sm := &SavedModel{Dir: dir, Fitted: f}
-	if sm.Model, err = k.Load(dir); err != nil {
-		return nil, err
+	if len(f.Targets) > 0 {
+		if k.Load == nil {
+			return nil, fmt.Errorf("%s: regressors of kind %q are not saved", path, f.Kind)
+		}
+		if sm.Model, err = k.Load(dir); err != nil {
+			return nil, err
+		}
+	}
+	for _, l := range f.Labels {
+		if len(l.Classes) < 2 {
+			return nil, fmt.Errorf("%s: label %q has %d classes, want at least 2", path, l.Name, len(l.Classes))
+		}
+		if k.LoadClassifier == nil {
+			return nil, fmt.Errorf("%s: label %q: classifiers of kind %q are not saved", path, l.Name, f.Kind)
+		}
+		clf, err := k.LoadClassifier(labelDir(dir, l.Name))
+		if err != nil {
+			return nil, fmt.Errorf("%s: classifier of label %q: %w", dir, l.Name, err)
+		}
+		sm.Classifiers = append(sm.Classifiers, clf)
+	}
+	if len(f.Labels) > 0 && !(f.Threshold > 0 && f.Threshold < 1) {
+		return nil, fmt.Errorf("%s: threshold %v, want a probability between 0 and 1", path, f.Threshold)
 	}
 	return sm, nil
 }
@@ -148,6 +238,11 @@ var ErrNotModelFolder = errors.New("not a saved model's folder")
 // modelFolderAdvice says which saved models dir holds, as a sentence for
 // a person pointing LoadModel at the wrong level; "" when it holds none.
 func modelFolderAdvice(dir string) string {
+	if up := filepath.Dir(filepath.Dir(dir)); filepath.Base(filepath.Dir(dir)) == LabelsFolder {
+		if _, err := os.Stat(filepath.Join(up, FittedFile)); err == nil {
+			return fmt.Sprintf("it is the classifier of label %s saved with the model in %s; pass that folder, which predicts every label it learnt", filepath.Base(dir), up)
+		}
+	}
 	if _, err := os.Stat(filepath.Join(filepath.Dir(dir), FittedFile)); err == nil {
 		return fmt.Sprintf("it is a member of the ensemble saved in %s; pass that folder, whose prediction is the members' mean", filepath.Dir(dir))
 	}
@@ -263,30 +358,47 @@ func readFittedV1(raw []byte) (Fitted, error) {
 	return f, nil
 }
 
-// Predict predicts the participants of c, whose matrices must have been
-// preprocessed as Fitted.Preprocess says and whose regions must be the
-// model's. It applies Fitted.Prep to c, predicts with the model and maps
-// the predictions back: row i, column t of score is target t of
-// participant i in score units (Pipeline.Invert: the standardization
-// undone and, when confounds were regressed out in training, the training
-// fold's confound fit for the participant's covariates added, a missing
-// covariate taking its training mean); residual holds the same without
-// the confound fit (Pipeline.Unscale).
-func (s *SavedModel) Predict(c *data.Cohort) (score, residual *mat.Dense, err error) {
+// prepare checks that the participants of c have the model's regions and
+// returns them as the fitted preparation (Fitted.Prep) leaves them, with
+// the site columns of a site confound added first.
+func (s *SavedModel) prepare(c *data.Cohort) (*data.Cohort, error) {
 	f := s.Fitted
 	if !slices.Equal(c.Regions, f.Regions) {
-		return nil, nil, fmt.Errorf("the cohort's %d regions are not the %d regions the model was trained on (labels and order must match)", len(c.Regions), len(f.Regions))
+		return nil, fmt.Errorf("the cohort's %d regions are not the %d regions the model was trained on (labels and order must match)", len(c.Regions), len(f.Regions))
 	}
 	for _, step := range f.Prep.Steps {
 		if tp, ok := step.(*TargetPrep); ok && tp.SiteLevels != nil {
+			var err error
 			if c, err = AddSiteColumns(c, tp.SiteLevels); err != nil {
-				return nil, nil, err
+				return nil, err
 			}
 		}
 	}
 	prepared, err := f.Prep.Apply(c)
 	if err != nil {
-		return nil, nil, fmt.Errorf("preparation: %w", err)
+		return nil, fmt.Errorf("preparation: %w", err)
+	}
+	return prepared, nil
+}
+
+// Predict predicts the scores of the participants of c, whose matrices
+// must have been preprocessed as Fitted.Preprocess says and whose regions
+// must be the model's. It applies Fitted.Prep to c, predicts with the
+// model and maps the predictions back: row i, column t of score is target
+// t of participant i in score units (Pipeline.Invert: the standardization
+// undone and, when confounds were regressed out in training, the training
+// fold's confound fit for the participant's covariates added, a missing
+// covariate taking its training mean); residual holds the same without
+// the confound fit (Pipeline.Unscale). A model that learnt no scores
+// (Model nil) is an error.
+func (s *SavedModel) Predict(c *data.Cohort) (score, residual *mat.Dense, err error) {
+	f := s.Fitted
+	if s.Model == nil {
+		return nil, nil, fmt.Errorf("%s: the model learnt no scores, only the labels %s", s.Dir, fittedLabelNames(f.Labels))
+	}
+	prepared, err := s.prepare(c)
+	if err != nil {
+		return nil, nil, err
 	}
 	score, err = s.Model.Predict(prepared.Participants)
 	if err != nil {
@@ -305,11 +417,43 @@ func (s *SavedModel) Predict(c *data.Cohort) (score, residual *mat.Dense, err er
 	return score, residual, nil
 }
 
-// Refit trains every model that can be saved and learns the scores on all
-// participants (an inner validation part drawn from all of them, as in a
-// fold) and saves it as
-// Models/NAME/all/: the model to use on new participants. Its accuracy is
-// the cross-validated one of Run; it has no test fold of its own.
+// PredictClasses predicts the classes of the participants of c, prepared
+// as for Predict, with the classifier of each label of Fitted.Labels: one
+// n × K matrix per label, in that order, row i holding the probability of
+// each class (in the order of FittedLabel.Classes) for participant i, the
+// row summing to 1. It returns nil for a model that learnt no labels.
+func (s *SavedModel) PredictClasses(c *data.Cohort) ([]*mat.Dense, error) {
+	if len(s.Classifiers) == 0 {
+		return nil, nil
+	}
+	prepared, err := s.prepare(c)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]*mat.Dense, len(s.Classifiers))
+	for l, clf := range s.Classifiers {
+		label := s.Fitted.Labels[l]
+		if out[l], err = predictProba(clf, prepared.Participants, len(label.Classes)); err != nil {
+			return nil, fmt.Errorf("label %s: %w", label.Name, err)
+		}
+	}
+	return out, nil
+}
+
+// fittedLabelNames lists the names of labels for a message.
+func fittedLabelNames(labels []FittedLabel) string {
+	names := make([]string, len(labels))
+	for i, l := range labels {
+		names[i] = l.Name
+	}
+	return wordList(names)
+}
+
+// Refit trains every model that can be saved on all participants (an
+// inner validation part drawn from all of them, as in a fold), for the
+// scores and the labels it learns, and saves it as Models/NAME/all/
+// (saveModel): the model to use on new participants. Its accuracy is the
+// cross-validated one of Run; it has no test fold of its own.
 func (r *Runner) Refit(ctx context.Context) error {
 	if r.Models == "" {
 		return errors.New("train: Refit without a Models folder")
@@ -322,7 +466,7 @@ func (r *Runner) Refit(ctx context.Context) error {
 	for i := range cohort.Participants {
 		all.Train = append(all.Train, i)
 	}
-	fd, err := prepareFold(exp, cohort, all, 1)
+	shared, err := prepareFold(exp, cohort, all, 1)
 	if err != nil {
 		return fmt.Errorf("refit on all participants: %w", err)
 	}
@@ -330,30 +474,51 @@ func (r *Runner) Refit(ctx context.Context) error {
 	if newModel == nil {
 		newModel = buildModel
 	}
+	seed := modelSeed(exp.Seed, -1, -1)
 	for _, cfg := range exp.Models {
-		// Classifiers are not saved (skein predict reads regressors
-		// only): a model is refitted for the scores it learns.
-		if scores, _, err := r.learns(cfg); err != nil || !scores {
-			continue
-		}
-		seed := modelSeed(exp.Seed, -1, -1)
-		reg, err := newModel(cfg, cohort.P(), len(cohort.Targets), seed)
+		scores, labels, err := r.learns(cfg)
 		if err != nil {
 			return err
 		}
-		saver, ok := reg.(model.Saver)
-		if !ok {
+		k, err := cfg.Spec()
+		if err != nil {
+			return err
+		}
+		// Only what can be saved is refitted.
+		scores = scores && (k.Load != nil || r.newModel != nil)
+		labels = labels && k.LoadClassifier != nil
+		if !scores && !labels {
 			continue
 		}
-		fd, err := fd.forModel(cfg)
+		fd, err := shared.forModel(cfg)
 		if err != nil {
 			return fmt.Errorf("refit of model %q on all participants: %w", cfg.Name, err)
 		}
-		if err := reg.Fit(ctx, fd.train, fd.valid); err != nil {
-			return fmt.Errorf("refit of model %q on all participants: %w", cfg.Name, err)
+		var reg model.Regressor
+		if scores {
+			if reg, err = newModel(cfg, cohort.P(), len(cohort.Targets), seed); err != nil {
+				return err
+			}
+			if err := reg.Fit(ctx, fd.train, fd.valid); err != nil {
+				return fmt.Errorf("refit of model %q on all participants: %w", cfg.Name, err)
+			}
+		}
+		var classifiers []model.Classifier
+		if labels {
+			for l, label := range fd.labelName {
+				K := len(fd.classes[l])
+				clf, err := r.buildClassifier(cfg, K, seed)
+				if err != nil {
+					return fmt.Errorf("refit of model %q, label %s: %w", cfg.Name, label, err)
+				}
+				if err := clf.Fit(ctx, labelled(fd.train.Participants, l, K), labelled(fd.valid.Participants, l, K)); err != nil {
+					return fmt.Errorf("refit of model %q on all participants, label %s: %w", cfg.Name, label, err)
+				}
+				classifiers = append(classifiers, clf)
+			}
 		}
 		dir := filepath.Join(r.Models, filepath.Dir(unitPath(cfg.Name, Unit{})), refitFolder)
-		if err := saveModel(dir, saver, fd, cohort, exp, cfg); err != nil {
+		if err := saveModel(dir, reg, classifiers, fd, cohort, exp, cfg); err != nil {
 			return fmt.Errorf("refit of model %q: saving: %w", cfg.Name, err)
 		}
 	}
