@@ -64,11 +64,13 @@ type Output struct {
 	// SaveModels keeps every fold's trained model, for models that can be
 	// saved (graph networks and every baseline), under
 	// models/NAME/rR-fF/ of the run folder with the target scaling fitted
-	// on its training fold. Default true.
+	// on its training fold, and the classifiers of class labels in its
+	// labels/LABEL/ folders (train.Fitted). Default true.
 	SaveModels *bool `toml:"save_models"`
 	// Refit also trains every model that can be saved on all
-	// participants after the cross-validation and keeps it under
-	// models/NAME/all/, for predicting new participants. Default false.
+	// participants after the cross-validation, for the scores and the
+	// labels it learns, and keeps it under models/NAME/all/, for
+	// predicting new participants. Default false.
 	Refit bool `toml:"refit"`
 }
 

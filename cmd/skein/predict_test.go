@@ -305,3 +305,76 @@ func TestPredictSavedBaselinesOnAFewNew(t *testing.T) {
 		}
 	}
 }
+
+// TestPredictClasses: the saved classifiers of a run with a class label
+// predict the participants again. A folder of a classifier alone
+// (logistic) writes participant_id,model,target,class,probability,
+// predicted_class to --out, with the probabilities the run recorded in
+// class_predictions.csv for the fold's test participants (within 1e-12:
+// predict takes every participant in one product, the run the fold's;
+// train's TestSavedClassifiers compares the same fold's rows bit for bit)
+// and the class at the run's threshold of 0.4; the refitted network
+// writes its scores to --out and its classes to --classes, and without
+// --classes says how to get them.
+func TestPredictClasses(t *testing.T) {
+	t.Parallel()
+	exp := writeExperiment(t, synth.Config{N: 30, P: 8, Seed: 4, Label: &synth.Label{Name: "diagnosis", Prevalence: 0.4}},
+		"\n[cv]\nfolds = 3\nthreshold = 0.4\n[output]\nrefit = true\n"+
+			"[[model]]\nname = \"logistic\"\n[model.logistic]\n"+
+			"[[model]]\nname = \"net\"\n[model.network]\nepochs = 2\n[[model.network.branch]]\ninput = \"functional\"\n"+
+			"layers = [{kind = \"e2n\", channels = 2}, {kind = \"n2g\", size = 4}]\n")
+	out := filepath.Join(t.TempDir(), "run")
+	if code, _, stderr := runSkein(t, "run", exp, "--out", out, "--jobs", "1", "--no-history"); code != exitOK {
+		t.Fatalf("run: exit %d: %s", code, stderr)
+	}
+	recorded := make(map[string]float64) // participant|class -> probability, repeat 1, fold 1
+	for _, rec := range readCSV(t, filepath.Join(out, "class_predictions.csv"))[1:] {
+		if rec[1] == "logistic" && rec[3] == "1" && rec[4] == "1" {
+			recorded[rec[0]+"|"+rec[6]], _ = strconv.ParseFloat(rec[7], 64)
+		}
+	}
+	predicted := filepath.Join(t.TempDir(), "classes.csv")
+	if code, _, stderr := runSkein(t, "predict", filepath.Join(out, "models", "logistic", "r1-f1"), exp, "--out", predicted); code != exitOK {
+		t.Fatalf("predict: exit %d: %s", code, stderr)
+	}
+	rows := readCSV(t, predicted)
+	if got := strings.Join(rows[0], ","); got != "participant_id,model,target,class,probability,predicted_class" {
+		t.Fatalf("header %s", got)
+	}
+	if len(rows)-1 != 30*2 {
+		t.Fatalf("%d rows, want 30 participants × 2 classes", len(rows)-1)
+	}
+	matched := 0
+	for i := 1; i < len(rows); i += 2 {
+		control, patient := rows[i], rows[i+1]
+		if control[3] != "control" || patient[3] != "patient" || control[2] != "diagnosis" || control[5] != patient[5] {
+			t.Fatalf("rows %v and %v", control, patient)
+		}
+		p, _ := strconv.ParseFloat(patient[4], 64)
+		if want := map[bool]string{true: "patient", false: "control"}[p >= 0.4]; patient[5] != want {
+			t.Errorf("%s: P(patient) = %v, predicted %s, want %s at threshold 0.4", patient[0], p, patient[5], want)
+		}
+		if w, ok := recorded[patient[0]+"|patient"]; ok {
+			matched++
+			if math.Abs(p-w) > 1e-12 {
+				t.Errorf("%s: predict gives %v, the run recorded %v", patient[0], p, w)
+			}
+		}
+	}
+	if matched == 0 {
+		t.Fatal("no test participant of fold 1 was predicted")
+	}
+
+	scores, classes := filepath.Join(t.TempDir(), "scores.csv"), filepath.Join(t.TempDir(), "net-classes.csv")
+	net := filepath.Join(out, "models", "net", "all")
+	if code, _, stderr := runSkein(t, "predict", net, exp, "--out", scores, "--classes", classes); code != exitOK {
+		t.Fatalf("predict: exit %d: %s", code, stderr)
+	}
+	if s, c := readCSV(t, scores), readCSV(t, classes); s[0][3] != "predicted" || len(s)-1 != 30*2 || c[0][5] != "predicted_class" || len(c)-1 != 30*2 {
+		t.Errorf("the network's scores (%d rows, header %v) and classes (%d rows, header %v)", len(s)-1, s[0], len(c)-1, c[0])
+	}
+	code, stdout, stderr := runSkein(t, "predict", net, exp)
+	if code != exitOK || !strings.Contains(stderr, "the model also classifies diagnosis; pass --classes FILE") || !strings.HasPrefix(stdout, "participant_id,model,target,predicted,") {
+		t.Errorf("predict without --classes: exit %d, stderr %q, stdout %.80q", code, stderr, stdout)
+	}
+}
