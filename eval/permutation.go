@@ -23,20 +23,60 @@ type NullDistribution struct {
 	P Values
 }
 
+// A ClassNullDistribution is one model's pooled AUC on one class label
+// under every permutation of the labels, with the observed pooled AUC and
+// its permutation p-value: the counterpart of NullDistribution for a
+// categorical target (ClassGroup.NullAUC and PAUC).
+type ClassNullDistribution struct {
+	Model, Label string
+	Observed     float64
+	// Null holds the pooled AUC of each permutation, in permutation order.
+	Null []float64
+	// P is the permutation p-value of the observed AUC
+	// (PermutationPValue, higher is better).
+	P float64
+}
+
+// ClassNulls returns the null distributions of AUC of the groups that
+// have one (ClassGroup.NullAUC, set by AssembleClassNulls), in the order
+// of groups; nil when none has.
+func ClassNulls(groups []ClassGroup) []ClassNullDistribution {
+	var out []ClassNullDistribution
+	for _, g := range groups {
+		if g.NullAUC != nil {
+			out = append(out, ClassNullDistribution{Model: g.Model, Label: g.Label, Observed: g.Pooled.AUC, Null: g.NullAUC, P: g.PAUC})
+		}
+	}
+	return out
+}
+
+// nullAUCColumn is the column of WriteNullCSV holding a class label's AUC.
+const nullAUCColumn = "auc"
+
 // WriteNullCSV writes null distributions as CSV: one line per model,
 // target and permutation (numbered from 1; permutation 0 is the observed
-// run), one column per metric.
-func WriteNullCSV(out io.Writer, nulls []NullDistribution) error {
+// run), one column per metric. When labels is not empty, the header gains
+// a last column auc and each class label's null distribution of AUC
+// follows the scores' lines, in the order of labels: its lines name the
+// label in the column target, leave the score metrics' cells empty and
+// hold the pooled AUC in auc, which is empty on the scores' lines.
+func WriteNullCSV(out io.Writer, nulls []NullDistribution, labels []ClassNullDistribution) error {
 	w := csv.NewWriter(out)
 	header := []string{"model", "target", "permutation"}
 	for _, m := range Metrics() {
 		header = append(header, string(m))
+	}
+	if len(labels) > 0 {
+		header = append(header, nullAUCColumn)
 	}
 	w.Write(header)
 	row := func(nd NullDistribution, k int, s Scores) {
 		rec := []string{nd.Model, nd.Target, strconv.Itoa(k)}
 		for _, m := range Metrics() {
 			rec = append(rec, strconv.FormatFloat(s.Get(m), 'g', -1, 64))
+		}
+		if len(labels) > 0 {
+			rec = append(rec, "")
 		}
 		w.Write(rec)
 	}
@@ -46,32 +86,44 @@ func WriteNullCSV(out io.Writer, nulls []NullDistribution) error {
 			row(nd, k+1, s)
 		}
 	}
+	blank := make([]string, len(Metrics()))
+	for _, cd := range labels {
+		for k, auc := range append([]float64{cd.Observed}, cd.Null...) {
+			rec := append([]string{cd.Model, cd.Label, strconv.Itoa(k)}, blank...)
+			w.Write(append(rec, strconv.FormatFloat(auc, 'g', -1, 64)))
+		}
+	}
 	w.Flush()
 	return w.Error()
 }
 
 // ReadNullCSV reads what WriteNullCSV wrote: per model and target, the
 // observed scores (permutation 0) and the scores of permutations 1, 2, …
-// in order, with the permutation p-value of each metric. A metric column
-// may be absent (a file of an older skein, before the metric existed): its
-// values and p-values are then NaN. Scores carry metric values only (N,
-// Missing and Bins are not in the file). A bad cell or a permutation out of
-// order is a *data.FileError naming name, the line and the column.
-func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, error) {
+// in order, with the permutation p-value of each metric, and likewise per
+// model and class label (the lines with an auc cell) the observed AUC and
+// that of each permutation, with its p-value. A metric column may be
+// absent (a file of an older skein, before the metric existed): its values
+// and p-values are then NaN. Scores carry metric values only (N, Missing
+// and Bins are not in the file). A bad cell or a permutation out of order
+// is a *data.FileError naming name, the line and the column.
+func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, []ClassNullDistribution, error) {
 	cr := csv.NewReader(r)
 	col, err := readHeader(cr, name, []string{"model", "target", "permutation"})
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
+	aucCol, hasAUC := col[nullAUCColumn]
 	var out []NullDistribution
+	var labels []ClassNullDistribution
 	index := make(map[[2]string]int)
+	labelIndex := make(map[[2]string]int)
 	for {
 		rec, err := cr.Read()
 		if err == io.EOF {
 			break
 		}
 		if err != nil {
-			return nil, csvError(name, err)
+			return nil, nil, csvError(name, err)
 		}
 		line, _ := cr.FieldPos(0)
 		bad := func(column string, err error) error {
@@ -80,7 +132,39 @@ func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, error) {
 		key := [2]string{rec[col["model"]], rec[col["target"]]}
 		k, err := strconv.Atoi(rec[col["permutation"]])
 		if err != nil || k < 0 {
-			return nil, bad("permutation", fmt.Errorf("want a whole number ≥ 0, found %q", rec[col["permutation"]]))
+			return nil, nil, bad("permutation", fmt.Errorf("want a whole number ≥ 0, found %q", rec[col["permutation"]]))
+		}
+		// inOrder checks that permutation k comes next for key, whose
+		// distribution holds have permutations so far (seen: any).
+		inOrder := func(what string, seen bool, have int) error {
+			switch {
+			case !seen && k != 0:
+				return bad("permutation", fmt.Errorf("model %q, %s %q starts at permutation %d, want 0 (the observed run)", key[0], what, key[1], k))
+			case seen && k != have+1:
+				return bad("permutation", fmt.Errorf("model %q, %s %q: permutation %d, want %d", key[0], what, key[1], k, have+1))
+			}
+			return nil
+		}
+		if hasAUC && rec[aucCol] != "" {
+			auc, err := strconv.ParseFloat(rec[aucCol], 64)
+			if err != nil {
+				return nil, nil, bad(nullAUCColumn, fmt.Errorf("want a number or NaN, found %q", rec[aucCol]))
+			}
+			j, seen := labelIndex[key]
+			have := 0
+			if seen {
+				have = len(labels[j].Null)
+			}
+			if err := inOrder("label", seen, have); err != nil {
+				return nil, nil, err
+			}
+			if !seen {
+				labelIndex[key] = len(labels)
+				labels = append(labels, ClassNullDistribution{Model: key[0], Label: key[1], Observed: auc})
+			} else {
+				labels[j].Null = append(labels[j].Null, auc)
+			}
+			continue
 		}
 		var s Scores
 		s.NMIChance = math.NaN()
@@ -92,20 +176,22 @@ func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, error) {
 			}
 			v, err := strconv.ParseFloat(rec[c], 64)
 			if err != nil {
-				return nil, bad(string(m), fmt.Errorf("want a number or NaN, found %q", rec[c]))
+				return nil, nil, bad(string(m), fmt.Errorf("want a number or NaN, found %q", rec[c]))
 			}
 			s.Set(m, v)
 		}
 		j, seen := index[key]
-		switch {
-		case !seen && k != 0:
-			return nil, bad("permutation", fmt.Errorf("model %q, target %q starts at permutation %d, want 0 (the observed run)", key[0], key[1], k))
-		case !seen:
+		have := 0
+		if seen {
+			have = len(out[j].Null)
+		}
+		if err := inOrder("target", seen, have); err != nil {
+			return nil, nil, err
+		}
+		if !seen {
 			index[key] = len(out)
 			out = append(out, NullDistribution{Model: key[0], Target: key[1], Observed: s})
-		case k != len(out[j].Null)+1:
-			return nil, bad("permutation", fmt.Errorf("model %q, target %q: permutation %d, want %d", key[0], key[1], k, len(out[j].Null)+1))
-		default:
+		} else {
 			out[j].Null = append(out[j].Null, s)
 		}
 	}
@@ -119,5 +205,8 @@ func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, error) {
 			nd.P.Set(m, PermutationPValue(nd.Observed.Get(m), values, m.LowerIsBetter()))
 		}
 	}
-	return out, nil
+	for i := range labels {
+		labels[i].P = PermutationPValue(labels[i].Observed, labels[i].Null, false)
+	}
+	return out, labels, nil
 }

@@ -394,10 +394,12 @@ func runCautions(rep *Report, r *train.Runner) []string {
 
 // Write writes predictions.csv, class_predictions.csv (with class
 // labels), metrics.json, comparison.csv, summary.md and, after a
-// permutation test, permutations.csv and, with a sample-size curve,
+// permutation test, permutations.csv (the scores' null distributions and
+// the labels' null AUC, eval.WriteNullCSV) and, with a sample-size curve,
 // sample_size.csv into the work folder of d; they
 // appear in the run folder when d is committed.
 func (rep *Report) Write(d *RunDir) error {
+	classNulls := eval.ClassNulls(rep.Summary.Labels)
 	files := []struct {
 		name  string
 		write func(io.Writer) error
@@ -408,7 +410,7 @@ func (rep *Report) Write(d *RunDir) error {
 		{MetricsFile, rep.Summary.WriteJSON, false},
 		{ComparisonFile, func(w io.Writer) error { return eval.WriteComparisonCSV(w, rep.Comparisons) }, false},
 		{LearningFile, func(w io.Writer) error { return writeLearningCSV(w, rep.Experiment, rep.Result) }, len(rep.Result.Histories) == 0},
-		{PermutationFile, func(w io.Writer) error { return eval.WriteNullCSV(w, rep.Nulls) }, rep.Nulls == nil},
+		{PermutationFile, func(w io.Writer) error { return eval.WriteNullCSV(w, rep.Nulls, classNulls) }, rep.Nulls == nil && classNulls == nil},
 		{SampleSizeFile, func(w io.Writer) error { return eval.WriteSampleSizeCSV(w, rep.SampleSize) }, rep.SampleSize == nil},
 		{SummaryFile, rep.WriteMarkdown, false},
 	}

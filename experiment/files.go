@@ -43,7 +43,9 @@ const (
 	// were kept).
 	LearningFile = "learning_curves.csv"
 	// PermutationFile holds the null distributions of the permutation
-	// test (eval.WriteNullCSV): permutation 0 is the observed run.
+	// test (eval.WriteNullCSV): permutation 0 is the observed run; with
+	// class labels, an auc column holds each model × label's pooled AUC
+	// under each permutation.
 	PermutationFile = "permutations.csv"
 	// SampleSizeFile holds the sample-size curve
 	// (eval.WriteSampleSizeCSV).

@@ -156,7 +156,7 @@ func parseVersions(raw []byte) [][2]string {
 // readPValues reads the permutation p-values of PermutationFile, per model
 // and target (eval.ReadNullCSV).
 func readPValues(r io.Reader, name string) (map[[2]string]eval.Values, error) {
-	nulls, err := eval.ReadNullCSV(r, name)
+	nulls, _, err := eval.ReadNullCSV(r, name)
 	if err != nil {
 		return nil, err
 	}

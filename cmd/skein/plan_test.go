@@ -372,7 +372,8 @@ layers = [{kind = "e2n", channels = 4}, {kind = "n2g", size = 4}]
 
 // TestPlanUnitsMergeEqualsSingleRunWithLabel: with a class label, the
 // merged units of a batch plan give the files of a single-machine run byte
-// for byte, class_predictions.csv and the label's metrics included.
+// for byte, class_predictions.csv, the label's metrics and its null AUC in
+// permutations.csv included.
 func TestPlanUnitsMergeEqualsSingleRunWithLabel(t *testing.T) {
 	exp := writeExperiment(t, synth.Config{N: 42, P: 8, Seed: 12, FamilySize: 2,
 		Label: &synth.Label{Name: "diagnosis", Prevalence: 0.4}}, batchLabelExperiment)
@@ -403,6 +404,15 @@ func TestPlanUnitsMergeEqualsSingleRunWithLabel(t *testing.T) {
 		if !bytes.Contains(raw, []byte(want)) {
 			t.Errorf("metrics.json lacks %s", want)
 		}
+	}
+	// permutations.csv holds the label's null AUC after the scores'
+	// nulls: permutations 0 (observed) to 6 of the network.
+	raw, err = os.ReadFile(filepath.Join(out, "permutations.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if header, _, _ := bytes.Cut(raw, []byte("\n")); !bytes.HasSuffix(header, []byte(",auc")) || !bytes.Contains(raw, []byte("\nnet,diagnosis,6,,")) {
+		t.Errorf("permutations.csv lacks the auc column or the network's null AUC of diagnosis:\n%.600s", raw)
 	}
 	if raw, _ := os.ReadFile(filepath.Join(out, "units/net/r2-f3.json")); !bytes.Contains(raw, []byte(`"class_predictions":`)) {
 		t.Errorf("the network's checkpoint lacks its class predictions:\n%.400s", raw)

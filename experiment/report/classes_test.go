@@ -300,3 +300,50 @@ func TestClassSettingsFromExperiment(t *testing.T) {
 		})
 	}
 }
+
+// TestNullFiguresOfLabels: the lines of permutations.csv with an auc cell
+// (a class label's null distribution of AUC) read back with their
+// p-value, (1 + #{null ≥ observed}) / (1 + permutations) (Phipson &
+// Smyth 2010), and draw a histogram beside the scores' in the
+// permutation test's section, titled with the observed AUC and p; the
+// scores' figures stay.
+func TestNullFiguresOfLabels(t *testing.T) {
+	dir, _ := classRun(t)
+	path := filepath.Join(dir, experiment.PermutationFile)
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSuffix(string(raw), "\n"), "\n")
+	var b strings.Builder
+	b.WriteString(lines[0] + ",auc\n")
+	for _, l := range lines[1:] {
+		b.WriteString(l + ",\n")
+	}
+	blank := strings.Repeat(",", strings.Count(lines[0], ",")-2)
+	// Observed 0.9; of 9 permutations, 0.95 alone reaches it: p = 2/10.
+	for k, auc := range []float64{0.9, 0.5, 0.45, 0.55, 0.6, 0.4, 0.95, 0.52, 0.48, 0.5} {
+		fmt.Fprintf(&b, "ridge,diagnosis,%d%s,%g\n", k, blank, auc)
+	}
+	if err := os.WriteFile(path, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	r, err := ReadRun(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.ClassNulls) != 1 || r.ClassNulls[0].P != 0.2 || len(r.ClassNulls[0].Null) != 9 || len(r.Nulls) == 0 {
+		t.Fatalf("class nulls %+v, %d score nulls", r.ClassNulls, len(r.Nulls))
+	}
+	figs, err := r.NullFigures()
+	if err != nil {
+		t.Fatal(err)
+	}
+	i := slices.IndexFunc(figs, func(f Figure) bool { return f.File == "null-ridge-diagnosis.png" })
+	if i < 0 || !slices.ContainsFunc(figs, func(f Figure) bool { return f.File == "null-ridge-recall.png" }) {
+		t.Fatalf("drew %v, want null-ridge-diagnosis.png beside null-ridge-recall.png", names(figs))
+	}
+	if f := figs[i]; f.Section != SectionNulls || !strings.Contains(f.Title, "observed AUC = 0.9") || !strings.Contains(f.Title, "p = 0.2") {
+		t.Errorf("figure %s in section %q titled %q", f.File, f.Section, f.Title)
+	}
+}

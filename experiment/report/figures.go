@@ -397,56 +397,86 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 // NullFigures draws, for every model and target of the permutation test,
 // the histogram of the headline r (r within folds) under permutation with
 // the observed r as a vertical line and its permutation p-value in the
-// title.
+// title; then, for every model and class label, the same of the pooled
+// AUC.
 func (r *Run) NullFigures() ([]Figure, error) {
 	var figs []Figure
 	for _, n := range r.Nulls {
-		var vals plotter.Values
-		for _, v := range n.Null {
-			if x := v.Get(eval.MetricPearsonWithin); !math.IsNaN(x) {
-				vals = append(vals, x)
-			}
-		}
-		if len(vals) == 0 {
-			continue
+		null := make([]float64, len(n.Null))
+		for k, v := range n.Null {
+			null[k] = v.Get(eval.MetricPearsonWithin)
 		}
 		obs := n.Observed.Get(eval.MetricPearsonWithin)
 		pv := n.P.Get(eval.MetricPearsonWithin)
 		title := fmt.Sprintf("%s — %s: observed r = %s, p = %s", n.Model, n.Target, num(obs), pValue(pv))
-		p := figure.NewPlot(title, "r within folds", "permutations")
-		bins := max(5, min(30, len(vals)/5))
-		h, err := plotter.NewHist(vals, bins)
-		if err != nil {
-			return nil, err
-		}
-		h.FillColor = color.RGBA{R: 0xa6, G: 0xc4, B: 0xe6, A: 0xff}
-		p.Add(h)
-		top := 0.0
-		for _, b := range h.Bins {
-			top = math.Max(top, b.Weight)
-		}
-		var k figure.Key
-		if !math.IsNaN(obs) {
-			l, err := line(obs, 0, obs, top*1.05, colorFit, false)
-			if err != nil {
-				return nil, err
-			}
-			l.Width = vg.Points(1.5)
-			p.Add(l)
-			k.Add("observed", l)
-		}
-		k.Add(fmt.Sprintf("null (%d permutations)", len(n.Null)), h)
-		p.Y.Min, p.Y.Max = 0, top*1.08
-		figure.PadRange(&p.X, obs, obs, 0.04)
 		caption := fmt.Sprintf("The whole cross-validation of %s repeated with the scores permuted %d times. "+
 			"p = (1 + #{null r ≥ observed r}) / (1 + permutations).", n.Model, len(n.Null))
-		f, err := drawFigure(fileName("null", n.Model, n.Target), SectionNulls, title, caption, figure.SingleColumn, 3, []*plot.Plot{p}, k)
+		f, err := nullFigure(fileName("null", n.Model, n.Target), title, "r within folds", caption, obs, null)
 		if err != nil {
 			return nil, err
 		}
-		figs = append(figs, f)
+		if f != nil {
+			figs = append(figs, *f)
+		}
+	}
+	for _, n := range r.ClassNulls {
+		title := fmt.Sprintf("%s — %s: observed AUC = %s, p = %s", n.Model, n.Label, num(n.Observed), pValue(n.P))
+		caption := fmt.Sprintf("The whole cross-validation of %s repeated with the labels permuted %d times (with the scores, "+
+			"in the same blocks), its classifiers refitted each time. AUC pooled over all test predictions of all repeats; "+
+			"0.5 is chance. p = (1 + #{null AUC ≥ observed AUC}) / (1 + permutations).", n.Model, len(n.Null))
+		f, err := nullFigure(fileName("null", n.Model, n.Label), title, "AUC", caption, n.Observed, n.Null)
+		if err != nil {
+			return nil, err
+		}
+		if f != nil {
+			figs = append(figs, *f)
+		}
 	}
 	return figs, nil
+}
+
+// nullFigure draws the histogram of the values of null that are not NaN,
+// with obs (unless NaN) as a vertical line; nil when every value is NaN.
+func nullFigure(file, title, xLabel, caption string, obs float64, null []float64) (*Figure, error) {
+	var vals plotter.Values
+	for _, x := range null {
+		if !math.IsNaN(x) {
+			vals = append(vals, x)
+		}
+	}
+	if len(vals) == 0 {
+		return nil, nil
+	}
+	p := figure.NewPlot(title, xLabel, "permutations")
+	bins := max(5, min(30, len(vals)/5))
+	h, err := plotter.NewHist(vals, bins)
+	if err != nil {
+		return nil, err
+	}
+	h.FillColor = color.RGBA{R: 0xa6, G: 0xc4, B: 0xe6, A: 0xff}
+	p.Add(h)
+	top := 0.0
+	for _, b := range h.Bins {
+		top = math.Max(top, b.Weight)
+	}
+	var k figure.Key
+	if !math.IsNaN(obs) {
+		l, err := line(obs, 0, obs, top*1.05, colorFit, false)
+		if err != nil {
+			return nil, err
+		}
+		l.Width = vg.Points(1.5)
+		p.Add(l)
+		k.Add("observed", l)
+	}
+	k.Add(fmt.Sprintf("null (%d permutations)", len(null)), h)
+	p.Y.Min, p.Y.Max = 0, top*1.08
+	figure.PadRange(&p.X, obs, obs, 0.04)
+	f, err := drawFigure(file, SectionNulls, title, caption, figure.SingleColumn, 3, []*plot.Plot{p}, k)
+	if err != nil {
+		return nil, err
+	}
+	return &f, nil
 }
 
 // matrixGrid is a GridXYZ over a rows × cols row-major matrix: column c

@@ -29,6 +29,14 @@ func (r *Run) targetRank(target string) int {
 	return len(r.Experiment.Cohort.Targets)
 }
 
+// labelRank returns the place of label in the experiment's class labels.
+func (r *Run) labelRank(label string) int {
+	if i := slices.Index(r.Experiment.Cohort.Labels, label); i >= 0 {
+		return i
+	}
+	return len(r.Experiment.Cohort.Labels)
+}
+
 // compareUnits orders (model, target) pairs in report order.
 func (r *Run) compareUnits(modelA, targetA, modelB, targetB string) int {
 	return cmp.Or(

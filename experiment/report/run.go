@@ -2,6 +2,7 @@ package report
 
 import (
 	"bytes"
+	"cmp"
 	"encoding/csv"
 	"encoding/json"
 	"errors"
@@ -48,8 +49,11 @@ type Run struct {
 	SummaryMarkdown string
 	// Curves are the rows of learning_curves.csv (nil without the file).
 	Curves []CurvePoint
-	// Nulls are permutations.csv (nil without a permutation test).
-	Nulls []eval.NullDistribution
+	// Nulls are the scores' null distributions of permutations.csv, and
+	// ClassNulls its class labels' null distributions of AUC (nil without
+	// a permutation test).
+	Nulls      []eval.NullDistribution
+	ClassNulls []eval.ClassNullDistribution
 	// Versions is versions.txt.
 	Versions string
 	// Importance holds the edge-importance maps of the unit checkpoints.
@@ -161,7 +165,7 @@ func ReadRun(dir string) (*Run, error) {
 	if raw, ok, err := optional(dir, experiment.PermutationFile); err != nil {
 		return nil, err
 	} else if ok {
-		if r.Nulls, err = eval.ReadNullCSV(bytes.NewReader(raw), filepath.Join(dir, experiment.PermutationFile)); err != nil {
+		if r.Nulls, r.ClassNulls, err = eval.ReadNullCSV(bytes.NewReader(raw), filepath.Join(dir, experiment.PermutationFile)); err != nil {
 			return nil, err
 		}
 	}
@@ -187,6 +191,9 @@ func ReadRun(dir string) (*Run, error) {
 func (r *Run) sortParts() {
 	slices.SortStableFunc(r.Nulls, func(a, b eval.NullDistribution) int {
 		return r.compareUnits(a.Model, a.Target, b.Model, b.Target)
+	})
+	slices.SortStableFunc(r.ClassNulls, func(a, b eval.ClassNullDistribution) int {
+		return cmp.Or(r.compareUnits(a.Model, "", b.Model, ""), cmp.Compare(r.labelRank(a.Label), r.labelRank(b.Label)), cmp.Compare(a.Label, b.Label))
 	})
 	slices.SortStableFunc(r.Importance, func(a, b UnitImportance) int { return r.compareUnits(a.Model, "", b.Model, "") })
 	slices.SortStableFunc(r.Networks, func(a, b SavedFilters) int { return r.compareUnits(a.Model, "", b.Model, "") })
