@@ -131,7 +131,8 @@ type Runner struct {
 	Checkpoints *Checkpoints
 	// Models, when set, is the folder where every fold's trained model is
 	// saved (when the experiment asks for it and the model is a
-	// model.Saver), as Models/NAME/rR-fF/.
+	// model.Saver), as Models/NAME/rR-fF/, with its classifiers of class
+	// labels in labels/LABEL/ below it (see Fitted).
 	Models string
 
 	newModel func(cfg ModelConfig, p, targets int, seed int64) (model.Regressor, error)
