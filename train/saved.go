@@ -122,7 +122,10 @@ func saveModel(dir string, reg model.Regressor, classifiers []model.Classifier, 
 			return fmt.Errorf("label %s: %w", c.Labels[l], err)
 		}
 		f.Labels = append(f.Labels, FittedLabel{Name: c.Labels[l], Classes: c.Classes[l]})
-		f.Threshold = *exp.CV.Threshold
+		f.Threshold = 0.5 // CV.SetDefaults's default, for a Design not filled
+		if t := exp.CV.Threshold; t != nil {
+			f.Threshold = *t
+		}
 	}
 	if len(f.Targets) == 0 && len(f.Labels) == 0 {
 		return nil
