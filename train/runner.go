@@ -78,6 +78,13 @@ type Result struct {
 	// Importance holds, per unit of a model.Interpreter, one p × p edge
 	// importance map per target, computed on the unit's test fold.
 	Importance map[Unit][]*mat.Dense
+	// LabelImportance holds, per unit of a model whose classifiers are
+	// model.ClassInterpreters, their edge importance maps on the unit's
+	// test participants whose label is known: label by label (cohort
+	// order), then as each classifier gives them, view after view and
+	// decision value after decision value. A label whose test
+	// participants are too few for the importance measure has none.
+	LabelImportance map[Unit][]LabelMap
 	// Choices holds, per unit of a model.Tuned, the settings the model
 	// chose on its training fold from grids: one list per target (cohort
 	// order), as model.Tuned.Choices returns them.
@@ -233,7 +240,7 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		}
 	}
 
-	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense),
+	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense), LabelImportance: make(map[Unit][]LabelMap),
 		Choices: make(map[Unit][][]model.Choice), InnerLoss: make(map[Unit][]float64), LabelLoss: make(map[Unit][]float64)}
 	all := unitsOf(len(exp.Models), splits)
 	res.Units = all
@@ -322,6 +329,9 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		}
 		if outputs[u].importance != nil {
 			res.Importance[unit] = outputs[u].importance
+		}
+		if outputs[u].labelImportance != nil {
+			res.LabelImportance[unit] = outputs[u].labelImportance
 		}
 		if outputs[u].choices != nil {
 			res.Choices[unit] = outputs[u].choices
@@ -628,6 +638,9 @@ type unitOutput struct {
 	// labelLoss holds a baseline's inner validation log loss per label
 	// (Result.LabelLoss).
 	labelLoss []float64
+	// labelImportance holds the classifiers' edge importance maps
+	// (Result.LabelImportance).
+	labelImportance []LabelMap
 }
 
 // learns reports whether model cfg is fitted to the cohort's scores (its
@@ -809,8 +822,9 @@ func (r *Runner) buildClassifier(cfg ModelConfig, classes int, seed int64) (mode
 // (foldData.labelSets), and adds to
 // out the class probabilities of the test participants whose label is
 // known, ordered by participant and then label, the inner validation log
-// loss of a baseline, and, for a model fitted to no scores, the epochs of
-// its first label's classifier. Every classifier of a unit has the seed
+// loss of a baseline, the edge importance of a model.ClassInterpreter on
+// those test participants, and, for a model fitted to no scores, the
+// epochs of its first label's classifier. Every classifier of a unit has the seed
 // of the unit's regressor. The scores' preparation (TargetPrep: confound
 // regression and standardization) does not touch labels: cv.confounds
 // are not regressed out of a label, whose classes are learnt as given.
@@ -848,6 +862,13 @@ func (r *Runner) fitLabels(ctx context.Context, unit Unit, cfg ModelConfig, fd *
 			}
 			for i, p := range test.Participants {
 				byLabel[l][p.ID] = proba.RawRowView(i)
+			}
+			if ci, ok := clf.(model.ClassInterpreter); ok && !r.scoresOnly {
+				maps, err := fd.classImportance(ci, l, K, test.Participants)
+				if err != nil {
+					return fmt.Errorf("label %s: edge importance: %w", label, err)
+				}
+				out.labelImportance = append(out.labelImportance, maps...)
 			}
 		}
 		if wantLoss {
