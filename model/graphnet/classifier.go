@@ -39,7 +39,8 @@ import (
 // With Config.Ensemble = K_e > 1 the Classifier trains K_e networks as an
 // Ensemble does (training and validation sets joined and split in K_e
 // parts keeping groups whole, member k stopped early on part k, each with
-// its own seed) and predicts the mean of their class probabilities.
+// its own seed), the parts stratified by class (ensemblePartsByClass), and
+// predicts the mean of their class probabilities.
 // With K_e = 1 it trains one network on the training set and stops it on
 // the validation set.
 //
@@ -177,7 +178,7 @@ func (c *Classifier) Fit(ctx context.Context, train, valid model.LabelledSet) er
 	for range c.members {
 		rng.Int64() // the member seeds
 	}
-	parts, err := ensembleParts(joined.Participants, len(c.members), rng)
+	parts, err := ensemblePartsByClass(joined.Participants, joined.Labels, len(c.members), rng)
 	if err != nil {
 		return err
 	}
