@@ -107,8 +107,9 @@ type Result struct {
 	InnerLoss map[Unit][]float64
 	// LabelLoss holds, per unit of a baseline fitted to the labels, as
 	// InnerLoss does for the scores, the mean log loss on the fold's inner
-	// validation part of a fresh classifier fitted without it, per label
-	// (cohort order):
+	// validation part for the label (stratified by its classes,
+	// InnerValidationByClass) of a fresh classifier fitted without it, per
+	// label (cohort order):
 	//
 	//	−(1/n) Σᵢ log max(pᵢ,yᵢ, 10⁻¹⁵)
 	//
