@@ -69,9 +69,9 @@ const (
 	HTMLFile = "report.html"
 	// ImportanceFile is the table of fold-averaged edge importance that
 	// package experiment/report writes: one line per model, target, input
-	// view and edge i < j, with the columns
+	// view, class (for a label) and edge i < j, with the columns
 	//
-	//	model,target,view,region_i,region_j,mean,sd,folds,same_sign
+	//	model,target,view,region_i,region_j,mean,sd,folds,same_sign,class
 	//
 	// view names the input whose edges the line is about (such as
 	// "functional", "structural" or "branch 2: structural", see
@@ -79,7 +79,13 @@ const (
 	// never summed with another's), region_i and region_j are labels,
 	// mean and sd the mean and sample
 	// SD (n − 1; empty for one fold) over the folds, same_sign the
-	// fraction of folds whose importance has the sign of the mean.
+	// fraction of folds whose importance has the sign of the mean. class
+	// is empty for a score target. For a label (target names it) the
+	// maps are of a classifier's decision value (model.ClassInterpreter)
+	// and class names its class: for a binary label the positive class,
+	// whose log-odds against the other class the maps explain; for more
+	// classes one line per class, whose centred logit (log-probability
+	// less the mean over the classes) they explain.
 	ImportanceFile = "importance.csv"
 
 	// The files of a batch plan (Plan), kept in the merged run folder.

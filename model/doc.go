@@ -17,9 +17,13 @@
 // manner of database/sql drivers and image formats): its name (the table's
 // key), how to build a Regressor from its Settings (New) and how to read a
 // saved one back (Load), whether it is a baseline, whether it fits score
-// columns independently (ColumnWise), how it defines edge importance
-// (Importance) and over which input views (ImportanceViews: the maps of
-// different matrices or branches are never summed). The rest of skein asks the registry (Lookup, Kinds) instead
+// columns independently (ColumnWise), how its regressors and its
+// classifiers define edge importance (Importance, ClassImportance: an
+// Interpreter's maps of each score; a ClassInterpreter's of each decision
+// value, the log-odds of the positive class of a binary label or the
+// centred logit of each class of more) and over which input views
+// (ImportanceViews: the maps of different matrices or branches are never
+// summed). The rest of skein asks the registry (Lookup, Kinds) instead
 // of naming kinds: the runner builds models and reads saved ones through
 // it, the permutation test and the batch plan read ColumnWise, the
 // comparison reads Baseline and the report reads Importance and Describe.

@@ -29,6 +29,10 @@ type Kind struct {
 	// Importance says how the kind's regressors define edge importance
 	// (Interpreter); the zero Importance when they do not.
 	Importance Importance
+	// ClassImportance says how the kind's classifiers define edge
+	// importance (ClassInterpreter); the zero Importance when they do
+	// not.
+	ClassImportance Importance
 	// New builds an untrained regressor for p regions and the given number
 	// of score columns from the kind's settings, which SetDefaults has
 	// filled and Validate accepted; seed drives everything random in it.
@@ -55,7 +59,9 @@ type Kind struct {
 	// both matrices, or one per branch of a network: EdgeImportance (and
 	// EdgeImportanceFrom) then returns V·T maps for V views and T targets,
 	// view after view (the map of view v and target t at index v·T + t).
-	// nil means one map per target.
+	// nil means one map per target. The kind's ClassInterpreters report
+	// the same views, with ExplainedClasses(K) maps per view in place of
+	// the T targets' maps.
 	ImportanceViews func(s Settings) []string
 	// EdgeScaling, when not nil, says which of the participants' matrices
 	// the kind's regressors with settings s learn from standardized per

@@ -181,7 +181,10 @@ func TestKinds(t *testing.T) {
 // class of participant i is its latent z's tercile or sign) and checks
 // that its probabilities are len(test) × K rows summing to 1 and, for a
 // kind with a LoadClassifier, that a saved and loaded classifier predicts
-// as the fitted one (a round trip; common practice, no source).
+// as the fitted one (a round trip; common practice, no source), and that a
+// kind declares ClassImportance exactly when its classifier is a
+// model.ClassInterpreter, whose maps are then symmetric p × p, one per
+// importance view and decision value.
 func TestClassifierKinds(t *testing.T) {
 	const n, p, nTrain, nValid = 36, 5, 24, 6
 	ps, y := tinyCohort(n, p)
@@ -230,6 +233,25 @@ func TestClassifierKinds(t *testing.T) {
 				for i := range test {
 					if sum := mat.Sum(proba.RowView(i)); math.Abs(sum-1) > 1e-12 {
 						t.Errorf("row %d sums to %v", i, sum)
+					}
+				}
+				in, ok := c.(model.ClassInterpreter)
+				if ok != (k.ClassImportance.Method != "") || (k.ClassImportance.Method == "") != (k.ClassImportance.Description == "") {
+					t.Errorf("declares class importance %+v, its classifier %T implements model.ClassInterpreter: %v", k.ClassImportance, c, ok)
+				}
+				if ok {
+					maps, err := in.EdgeImportance(test)
+					if err != nil {
+						t.Fatal(err)
+					}
+					views := max(1, len(k.Views(s)))
+					if want := views * model.ExplainedClasses(classes); len(maps) != want {
+						t.Fatalf("EdgeImportance gave %d maps, want %d views × %d decision values", len(maps), views, model.ExplainedClasses(classes))
+					}
+					for _, m := range maps {
+						if r, cols := m.Dims(); r != p || cols != p || !mat.Equal(m, m.T()) {
+							t.Fatalf("an importance map is %d × %d or not symmetric, want a symmetric %d × %d", r, cols, p, p)
+						}
 					}
 				}
 				saver, ok := c.(interface{ Save(dir string) error })

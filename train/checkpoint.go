@@ -49,6 +49,17 @@ type unitFile struct {
 	// LabelLoss holds a baseline's inner validation log loss per label,
 	// null for NaN (see Result.LabelLoss).
 	LabelLoss []*float64 `json:"label_loss,omitempty"`
+	// LabelImportance holds the classifiers' edge importance maps
+	// (Result.LabelImportance).
+	LabelImportance []unitLabelMap `json:"label_importance,omitempty"`
+}
+
+// unitLabelMap is the JSON form of a LabelMap: the map row-major.
+type unitLabelMap struct {
+	Label string    `json:"label"`
+	Class int       `json:"class"` // class index
+	View  int       `json:"view"`  // index of the model's importance view
+	Map   []float64 `json:"map"`
 }
 
 type unitClasses struct {
@@ -132,6 +143,9 @@ func (c *Checkpoints) save(name string, u Unit, out unitOutput) error {
 		f.Classes = append(f.Classes, unitClasses{c.ParticipantID, c.Label, c.Observed, c.Probabilities})
 	}
 	f.LabelLoss = nullNaN(out.labelLoss)
+	for _, m := range out.labelImportance {
+		f.LabelImportance = append(f.LabelImportance, unitLabelMap{m.Label, m.Class, m.View, m.Map.RawMatrix().Data})
+	}
 	raw, err := json.Marshal(f)
 	if err != nil {
 		return fmt.Errorf("checkpoint of model %q, repeat %d, fold %d: %w", name, u.Repeat+1, u.Fold+1, err)
@@ -190,6 +204,9 @@ func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 	}
 	out.innerLoss = nanNull(f.InnerLoss)
 	out.labelLoss = nanNull(f.LabelLoss)
+	if out.labelImportance, err = labelMaps(f.LabelImportance, path); err != nil {
+		return unitOutput{}, false, err
+	}
 	for _, c := range f.Classes {
 		out.classes = append(out.classes, model.ClassPrediction{
 			ParticipantID: c.ID, Model: name, Label: c.Label, Repeat: u.Repeat, Fold: u.Fold,
@@ -197,6 +214,20 @@ func (c *Checkpoints) load(name string, u Unit) (unitOutput, bool, error) {
 		})
 	}
 	return out, true, nil
+}
+
+// labelMaps returns the LabelMaps of a checkpoint's label_importance,
+// each checked to be square; path names the file in errors.
+func labelMaps(ms []unitLabelMap, path string) ([]LabelMap, error) {
+	var out []LabelMap
+	for k, m := range ms {
+		p := int(math.Round(math.Sqrt(float64(len(m.Map)))))
+		if p == 0 || p*p != len(m.Map) {
+			return nil, fmt.Errorf("%s: label_importance[%d] (label %q) holds %d values, not a square map", path, k, m.Label, len(m.Map))
+		}
+		out = append(out, LabelMap{Label: m.Label, Class: m.Class, View: m.View, Map: mat.NewDense(p, p, m.Map)})
+	}
+	return out, nil
 }
 
 // nullNaN returns v with NaN as nil, as JSON holds it; nil for nil.
@@ -233,6 +264,9 @@ type Checkpoint struct {
 	// Importance holds the unit's edge importance maps, one p × p
 	// row-major map per target; nil when the unit computed none.
 	Importance [][]float64
+	// LabelImportance holds the edge importance maps of the unit's
+	// classifiers (Result.LabelImportance); nil when it computed none.
+	LabelImportance []LabelMap
 }
 
 // ReadCheckpoint reads the checkpoint file at path (one of the files
@@ -249,5 +283,9 @@ func ReadCheckpoint(path string) (*Checkpoint, error) {
 	if f.Repeat < 1 || f.Fold < 1 {
 		return nil, fmt.Errorf("%s: repeat %d, fold %d: checkpoints number repeats and folds from 1", path, f.Repeat, f.Fold)
 	}
-	return &Checkpoint{Model: f.Model, Repeat: f.Repeat - 1, Fold: f.Fold - 1, Importance: f.Importance}, nil
+	labelMaps, err := labelMaps(f.LabelImportance, path)
+	if err != nil {
+		return nil, err
+	}
+	return &Checkpoint{Model: f.Model, Repeat: f.Repeat - 1, Fold: f.Fold - 1, Importance: f.Importance, LabelImportance: labelMaps}, nil
 }

@@ -421,3 +421,151 @@ func InnerValidation(train []int, groups []string, count int, fraction float64, 
 	}
 	return fit, valid
 }
+
+// InnerValidationByClass picks the inner validation part of a training
+// fold for a classifier of one label, stratified by class: classes holds
+// one class per cohort participant (an index 0..K−1; −1 where the label
+// is missing), and the part holds, of the n_c training participants of
+// class c, a quota q_c proportional to n_c. Of the n labelled training
+// participants it takes want = count when count > 0 (at most n), else
+// round(fraction·n); q_c is want·n_c/n rounded by largest remainders (ties
+// to the lower class), then raised to 1 and lowered to n_c − 1 when
+// n_c ≥ 2, so that every class with two training participants is in both
+// parts, and 0 when n_c = 1 (common practice, no source: scikit-learn's
+// StratifiedShuffleSplit keeps proportions the same way but does not
+// promise every class in both parts). The sizes thus follow the quotas
+// and may differ from want by the raised and lowered ones.
+//
+// Without groups the part is exactly q_c participants of each class c,
+// drawn at random. With groups (one per cohort participant, as for
+// InnerValidation), groups stay whole: they are shuffled, stably ordered
+// by the training count of their rarest class (rarest first), and each
+// joins the part when that brings the part's class counts v_c nearer the
+// quotas, Σ_c |q_c − v_c| falling, and leaves at least one participant of
+// each of its classes outside it. A participant whose label is missing
+// joins only with its group. Like InnerValidation it returns the
+// remaining training indices and the validation indices, both sorted; the
+// choice is seeded and never looks at the test fold.
+func InnerValidationByClass(train []int, groups []string, classes []int, count int, fraction float64, seed uint64) (fit, valid []int) {
+	K := 0
+	for _, i := range train {
+		K = max(K, classes[i]+1)
+	}
+	total := make([]int, K)
+	n := 0
+	for _, i := range train {
+		if c := classes[i]; c >= 0 {
+			total[c]++
+			n++
+		}
+	}
+	want := count
+	if want <= 0 {
+		want = int(math.Round(fraction * float64(n)))
+	}
+	want = min(want, n)
+	if want <= 0 {
+		return slices.Clone(train), nil
+	}
+	quota := classQuotas(total, want)
+
+	sub := Folds{}
+	if groups != nil {
+		sub.Groups = make([]string, len(train))
+		for j, i := range train {
+			sub.Groups[j] = groups[i]
+		}
+	}
+	units := sub.units(len(train))
+	counts := make([][]int, len(units)) // per unit, per class
+	rarest := make([]int, len(units))   // per unit, the training count of its rarest class; n+1 when it has none
+	for u, members := range units {
+		counts[u] = make([]int, K)
+		rarest[u] = n + 1
+		for _, j := range members {
+			if c := classes[train[j]]; c >= 0 {
+				counts[u][c]++
+				rarest[u] = min(rarest[u], total[c])
+			}
+		}
+	}
+	rng := rand.New(rand.NewPCG(seed, 0x1a2c))
+	order := rng.Perm(len(units))
+	sort.SliceStable(order, func(a, b int) bool { return rarest[order[a]] < rarest[order[b]] })
+	taken := make([]int, K)
+	inValid := make([]bool, len(train))
+	for _, u := range order {
+		if rarest[u] > n {
+			continue // no labelled member
+		}
+		gain, fits := 0, true
+		for c, m := range counts[u] {
+			if m == 0 {
+				continue
+			}
+			gain += abs(quota[c]-taken[c]-m) - abs(quota[c]-taken[c])
+			fits = fits && taken[c]+m < total[c]
+		}
+		if gain >= 0 || !fits {
+			continue
+		}
+		for c, m := range counts[u] {
+			taken[c] += m
+		}
+		for _, j := range units[u] {
+			inValid[j] = true
+		}
+	}
+	for j, i := range train {
+		if inValid[j] {
+			valid = append(valid, i)
+		} else {
+			fit = append(fit, i)
+		}
+	}
+	return fit, valid
+}
+
+// classQuotas returns the validation quota of each class of counts total
+// for a part of want participants (see InnerValidationByClass).
+func classQuotas(total []int, want int) []int {
+	n := 0
+	for _, t := range total {
+		n += t
+	}
+	quota := make([]int, len(total))
+	rest := make([]float64, len(total))
+	left := want
+	for c, t := range total {
+		exact := float64(want) * float64(t) / float64(n)
+		quota[c] = int(math.Floor(exact))
+		rest[c] = exact - float64(quota[c])
+		left -= quota[c]
+	}
+	byRest := make([]int, len(total))
+	for c := range byRest {
+		byRest[c] = c
+	}
+	sort.SliceStable(byRest, func(a, b int) bool { return rest[byRest[a]] > rest[byRest[b]] })
+	for _, c := range byRest[:left] {
+		quota[c]++
+	}
+	for c, t := range total {
+		switch {
+		case t < 2:
+			quota[c] = 0
+		case quota[c] < 1:
+			quota[c] = 1
+		case quota[c] > t-1:
+			quota[c] = t - 1
+		}
+	}
+	return quota
+}
+
+func abs(x int) int {
+	if x < 0 {
+		return -x
+	}
+	return x
+}

@@ -78,6 +78,13 @@ type Result struct {
 	// Importance holds, per unit of a model.Interpreter, one p × p edge
 	// importance map per target, computed on the unit's test fold.
 	Importance map[Unit][]*mat.Dense
+	// LabelImportance holds, per unit of a model whose classifiers are
+	// model.ClassInterpreters, their edge importance maps on the unit's
+	// test participants whose label is known: label by label (cohort
+	// order), then as each classifier gives them, view after view and
+	// decision value after decision value. A label whose test
+	// participants are too few for the importance measure has none.
+	LabelImportance map[Unit][]LabelMap
 	// Choices holds, per unit of a model.Tuned, the settings the model
 	// chose on its training fold from grids: one list per target (cohort
 	// order), as model.Tuned.Choices returns them.
@@ -100,8 +107,9 @@ type Result struct {
 	InnerLoss map[Unit][]float64
 	// LabelLoss holds, per unit of a baseline fitted to the labels, as
 	// InnerLoss does for the scores, the mean log loss on the fold's inner
-	// validation part of a fresh classifier fitted without it, per label
-	// (cohort order):
+	// validation part for the label (stratified by its classes,
+	// InnerValidationByClass) of a fresh classifier fitted without it, per
+	// label (cohort order):
 	//
 	//	−(1/n) Σᵢ log max(pᵢ,yᵢ, 10⁻¹⁵)
 	//
@@ -234,7 +242,7 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		}
 	}
 
-	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense),
+	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense), LabelImportance: make(map[Unit][]LabelMap),
 		Choices: make(map[Unit][][]model.Choice), InnerLoss: make(map[Unit][]float64), LabelLoss: make(map[Unit][]float64)}
 	all := unitsOf(len(exp.Models), splits)
 	res.Units = all
@@ -324,6 +332,9 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		if outputs[u].importance != nil {
 			res.Importance[unit] = outputs[u].importance
 		}
+		if outputs[u].labelImportance != nil {
+			res.LabelImportance[unit] = outputs[u].labelImportance
+		}
 		if outputs[u].choices != nil {
 			res.Choices[unit] = outputs[u].choices
 		}
@@ -369,6 +380,12 @@ type foldData struct {
 	targetName []string
 	labelName  []string   // the cohort's labels (data.Cohort.Labels)
 	classes    [][]string // their classes (data.Cohort.Classes)
+	// labelTrain and labelValid hold, per label, the training part and
+	// the inner validation part of the fold as its classifiers learn
+	// from them: the same participants as train and valid together, as
+	// the preparation leaves them, split by InnerValidationByClass on the
+	// label's classes. Both are nil without an inner validation part.
+	labelTrain, labelValid [][]*data.Participant
 	// edges is the per-edge standardization fitted on the fold's training
 	// participants, for every modality some model of the run wants
 	// standardized; nil when none does. scaler is the part of it a model
@@ -433,6 +450,10 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	if err != nil {
 		return nil, err
 	}
+	var labelTrain, labelValid [][]*data.Participant
+	if len(validIdx) > 0 && len(cohort.Labels) > 0 {
+		labelTrain, labelValid = labelInnerSplits(exp.CV, cohort, split, preparedTrain(cohort, split.Train, fitIdx, fit, validIdx, valid), seed)
+	}
 	fd := &foldData{
 		split:      split,
 		prep:       prep,
@@ -444,6 +465,8 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		targetName: cohort.Targets,
 		labelName:  cohort.Labels,
 		classes:    cohort.Classes,
+		labelTrain: labelTrain,
+		labelValid: labelValid,
 		edges:      edges,
 	}
 	if len(cohort.Targets) == 0 {
@@ -463,6 +486,47 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 		}
 	}
 	return fd, nil
+}
+
+// labelInnerSplits returns, per label of cohort, the training part and
+// the inner validation part of split's training fold stratified by the
+// label's classes (InnerValidationByClass, groups whole), as participants
+// of prepared, the prepared training fold in the order of split.Train.
+// The scores keep the split of InnerValidation, so that a run's scores do
+// not depend on the labels beside them.
+func labelInnerSplits(cv CV, cohort *data.Cohort, split Split, prepared *data.Cohort, seed uint64) (train, valid [][]*data.Participant) {
+	at := make(map[int]*data.Participant, len(split.Train))
+	for k, i := range split.Train {
+		at[i] = prepared.Participants[k]
+	}
+	groups := Groups(cohort)
+	classes := make([]int, len(cohort.Participants))
+	for l := range cohort.Labels {
+		for i, p := range cohort.Participants {
+			classes[i] = p.Labels[l]
+		}
+		fitIdx, validIdx := InnerValidationByClass(split.Train, groups, classes, cv.innerCount(), cv.innerFraction(), seed)
+		fit, val := make([]*data.Participant, len(fitIdx)), make([]*data.Participant, len(validIdx))
+		for k, i := range fitIdx {
+			fit[k] = at[i]
+		}
+		for k, i := range validIdx {
+			val[k] = at[i]
+		}
+		train, valid = append(train, fit), append(valid, val)
+	}
+	return train, valid
+}
+
+// labelSets returns the training part and the inner validation part of
+// the fold for the classifiers of label l, of K classes: the
+// participants whose label is known, of labelTrain and labelValid, or of
+// train and valid when the fold has no label splits.
+func (fd *foldData) labelSets(l, K int) (train, valid model.LabelledSet) {
+	if fd.labelTrain == nil {
+		return labelled(fd.train.Participants, l, K), labelled(fd.valid.Participants, l, K)
+	}
+	return labelled(fd.labelTrain[l], l, K), labelled(fd.labelValid[l], l, K)
 }
 
 // edgeScaling returns the modalities some model of d learns from
@@ -521,6 +585,28 @@ func (fd *foldData) forModel(cfg ModelConfig) (*foldData, error) {
 		return nil, fmt.Errorf("%s: %w", sc.Name(), err)
 	}
 	out.test = out.testCohort.Participants
+	if fd.labelTrain != nil {
+		// The label splits hold the participants of train and valid:
+		// give them their scaled copies.
+		scaled := make(map[*data.Participant]*data.Participant, fd.train.Len()+fd.valid.Len())
+		for _, pair := range [][2][]*data.Participant{{fd.train.Participants, out.train.Participants}, {fd.valid.Participants, out.valid.Participants}} {
+			for k, p := range pair[0] {
+				scaled[p] = pair[1][k]
+			}
+		}
+		swap := func(ps []*data.Participant) []*data.Participant {
+			moved := make([]*data.Participant, len(ps))
+			for k, p := range ps {
+				moved[k] = scaled[p]
+			}
+			return moved
+		}
+		out.labelTrain, out.labelValid = nil, nil
+		for l := range fd.labelTrain {
+			out.labelTrain = append(out.labelTrain, swap(fd.labelTrain[l]))
+			out.labelValid = append(out.labelValid, swap(fd.labelValid[l]))
+		}
+	}
 	return &out, nil
 }
 
@@ -554,6 +640,9 @@ type unitOutput struct {
 	// labelLoss holds a baseline's inner validation log loss per label
 	// (Result.LabelLoss).
 	labelLoss []float64
+	// labelImportance holds the classifiers' edge importance maps
+	// (Result.LabelImportance).
+	labelImportance []LabelMap
 	// regressor and classifiers (one per label) are the unit's fitted
 	// models, kept until runUnit saves them; never checkpointed.
 	regressor   model.Regressor
@@ -736,11 +825,14 @@ func (r *Runner) buildClassifier(cfg ModelConfig, classes int, seed int64) (mode
 }
 
 // fitLabels fits one classifier of model cfg to each label of fold fd,
-// on the fold's prepared participants whose label is known, and adds to
+// on the fold's prepared participants whose label is known, with the
+// inner validation part stratified by the label's classes
+// (foldData.labelSets), and adds to
 // out the class probabilities of the test participants whose label is
 // known, ordered by participant and then label, the inner validation log
-// loss of a baseline, and, for a model fitted to no scores, the epochs of
-// its first label's classifier. Every classifier of a unit has the seed
+// loss of a baseline, the edge importance of a model.ClassInterpreter on
+// those test participants, and, for a model fitted to no scores, the
+// epochs of its first label's classifier. Every classifier of a unit has the seed
 // of the unit's regressor. The scores' preparation (TargetPrep: confound
 // regression and standardization) does not touch labels: cv.confounds
 // are not regressed out of a label, whose classes are learnt as given.
@@ -751,7 +843,7 @@ func (r *Runner) fitLabels(ctx context.Context, unit Unit, cfg ModelConfig, fd *
 	wantLoss := err == nil && k.Baseline && r.Design.LabelLoss && fd.valid.Len() > 0 && !r.scoresOnly
 	for l, label := range fd.labelName {
 		K := len(fd.classes[l])
-		trainSet := labelled(fd.train.Participants, l, K)
+		trainSet, validSet := fd.labelSets(l, K)
 		if trainSet.Len() == 0 {
 			return fmt.Errorf("label %s: no training participant has one", label)
 		}
@@ -763,7 +855,7 @@ func (r *Runner) fitLabels(ctx context.Context, unit Unit, cfg ModelConfig, fd *
 		if iterative {
 			it.OnEpoch(func(e model.Epoch) { emit(Event{Kind: EpochDone, Model: cfg.Name, Unit: unit, Epoch: e}) })
 		}
-		if err := clf.Fit(ctx, trainSet, labelled(fd.valid.Participants, l, K)); err != nil {
+		if err := clf.Fit(ctx, trainSet, validSet); err != nil {
 			return fmt.Errorf("label %s: %w", label, err)
 		}
 		if iterative && l == 0 && len(fd.targetName) == 0 {
@@ -780,13 +872,20 @@ func (r *Runner) fitLabels(ctx context.Context, unit Unit, cfg ModelConfig, fd *
 			for i, p := range test.Participants {
 				byLabel[l][p.ID] = proba.RawRowView(i)
 			}
+			if ci, ok := clf.(model.ClassInterpreter); ok && !r.scoresOnly {
+				maps, err := fd.classImportance(ci, l, K, test.Participants)
+				if err != nil {
+					return fmt.Errorf("label %s: edge importance: %w", label, err)
+				}
+				out.labelImportance = append(out.labelImportance, maps...)
+			}
 		}
 		if wantLoss {
 			fresh, err := r.buildClassifier(cfg, K, seed)
 			if err != nil {
 				return fmt.Errorf("label %s: %w", label, err)
 			}
-			loss, err := innerLogLoss(ctx, fresh, labelled(fd.train.Participants, l, K), labelled(fd.valid.Participants, l, K))
+			loss, err := innerLogLoss(ctx, fresh, trainSet, validSet)
 			if err != nil {
 				return fmt.Errorf("label %s: inner validation log loss of the baseline (name comparison.reference to skip it): %w", label, err)
 			}

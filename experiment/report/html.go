@@ -308,7 +308,8 @@ Rebuild it with <code>skein report</code> once the cause is fixed.</div>
 {{end}}</table></div>
 <p class="note">{{.Caption}}</p>
 {{end}}{{if imp .Title}}{{range $.Importance}}
-<h3>{{.Model}} — {{.Target}}{{with .View}} — {{.}} edges{{end}}</h3>
+<h3>{{.Model}} — {{.Target}}{{with .Class}} ({{.}}){{end}}{{with .View}} — {{.}} edges{{end}}</h3>
+{{with .Decision}}<p>The maps explain the {{.}}.</p>{{end}}
 {{with .Figure}}{{template "figure" .}}{{end}}
 <div class="scroll"><table class="edges">
 <tr><th class="num">rank</th><th>edge</th><th class="num">mean importance</th><th class="num">in top {{len .Top}} of a fold</th><th class="num">same sign</th></tr>

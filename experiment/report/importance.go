@@ -18,9 +18,19 @@ import (
 const TopEdges = 15
 
 // ModelImportance is one model's edge importance on one target, summarized
-// over the folds that reported it.
+// over the folds that reported it. For a classifier the target is a label
+// and Class names the class whose decision value the maps explain.
 type ModelImportance struct {
 	Model, Target string
+	// Class is "" for a score target. For a label it is the class whose
+	// decision value the maps explain (model.ClassInterpreter): the
+	// positive class of a binary label (the log-odds of it against the
+	// other class), or one class of a label of more classes (its centred
+	// logit).
+	Class string
+	// Decision says in words what the maps of a label explain, such as
+	// "log-odds of patient against control"; "" for a score target.
+	Decision string
 	// View names the input view the maps are of, such as "functional",
 	// "structural" or "branch 2: structural" (train.ModelConfig.
 	// ImportanceViews); "" when the model's kind names none.
@@ -58,56 +68,101 @@ type RegionStrength struct {
 }
 
 // ImportanceSummaries averages the run's importance maps over folds, per
-// model, input view and target, and ranks edges and regions. Targets are
-// named from the experiment's targets, in order, views from the models'
-// settings (importanceViews).
+// model, input view and target (and class, for a label), and ranks edges
+// and regions. Targets are named from the experiment's targets, in order,
+// then the labels' maps follow, label by label; views are named from the
+// models' settings (importanceViews).
 func (r *Run) ImportanceSummaries() ([]ModelImportance, error) {
-	targets := r.Experiment.Cohort.Targets
 	keys, maps, err := r.importanceMaps()
 	if err != nil {
 		return nil, err
 	}
 	var out []ModelImportance
 	for _, k := range keys {
-		mi := summarizeImportance(k.model, targets[k.target], maps[k])
-		mi.View, mi.File = k.view, fileName("importance", k.model, targets[k.target])
-		if k.views > 1 { // "branch 2: structural" as b2-structural
-			mi.File = fileName("importance", k.model, targets[k.target], strings.NewReplacer("branch ", "b", ": ", "-").Replace(k.view))
+		mi := summarizeImportance(k.model, k.target, maps[k])
+		mi.View, mi.Class, mi.Decision = k.view, k.class, k.decision
+		parts := []string{"importance", k.model, k.target}
+		if k.class != "" {
+			parts = append(parts, k.class)
 		}
+		if k.views > 1 { // "branch 2: structural" as b2-structural
+			parts = append(parts, strings.NewReplacer("branch ", "b", ": ", "-").Replace(k.view))
+		}
+		mi.File = fileName(parts...)
 		out = append(out, mi)
 	}
 	return out, nil
 }
 
-// importanceKey is one model's importance of one input view and target.
+// importanceKey is one model's importance of one input view and target,
+// and class for a label.
 type importanceKey struct {
-	model  string
-	view   string
-	views  int // the model's number of views
-	target int
+	model    string
+	view     string
+	views    int // the model's number of views
+	target   string
+	class    string // "" for a score target
+	decision string // ModelImportance.Decision
 }
 
 // importanceMaps gathers the units' maps by model, view and target, in
-// the order the units first report them (model, then view, then target).
+// the order the units first report them (model, then the scores' maps by
+// view and target, then the labels' by label, view and class).
 func (r *Run) importanceMaps() ([]importanceKey, map[importanceKey][][]float64, error) {
 	targets := r.Experiment.Cohort.Targets
 	var keys []importanceKey
 	maps := make(map[importanceKey][][]float64)
+	add := func(key importanceKey, m []float64) {
+		if _, ok := maps[key]; !ok {
+			keys = append(keys, key)
+		}
+		maps[key] = append(maps[key], m)
+	}
 	for _, u := range r.Importance {
-		if len(targets) == 0 || len(u.Maps)%len(targets) != 0 {
+		if len(u.Maps) > 0 && (len(targets) == 0 || len(u.Maps)%len(targets) != 0) {
 			return nil, nil, fmt.Errorf("units/%s: repeat %d, fold %d: %d importance maps for %d targets", u.Model, u.Repeat+1, u.Fold+1, len(u.Maps), len(targets))
 		}
-		views := r.importanceViews(u.Model, len(u.Maps)/len(targets))
-		for k, m := range u.Maps {
-			v, t := k/len(targets), k%len(targets)
-			key := importanceKey{u.Model, views[v], len(views), t}
-			if _, ok := maps[key]; !ok {
-				keys = append(keys, key)
+		if len(u.Maps) > 0 {
+			views := r.importanceViews(u.Model, len(u.Maps)/len(targets))
+			for k, m := range u.Maps {
+				v, t := k/len(targets), k%len(targets)
+				add(importanceKey{model: u.Model, view: views[v], views: len(views), target: targets[t]}, m)
 			}
-			maps[key] = append(maps[key], m)
+		}
+		nViews := 0
+		for _, lm := range u.LabelMaps {
+			nViews = max(nViews, lm.View+1)
+		}
+		views := r.importanceViews(u.Model, nViews)
+		for k, lm := range u.LabelMaps {
+			if lm.View < 0 || lm.Map == nil {
+				return nil, nil, fmt.Errorf("units/%s: repeat %d, fold %d: label importance map %d has view %d", u.Model, u.Repeat+1, u.Fold+1, k+1, lm.View)
+			}
+			class, decision := r.explained(lm.Label, lm.Class)
+			add(importanceKey{model: u.Model, view: views[lm.View], views: len(views), target: lm.Label, class: class, decision: decision},
+				lm.Map.RawMatrix().Data)
 		}
 	}
 	return keys, maps, nil
+}
+
+// explained names class c of label and says what a map of its decision
+// value explains (model.ClassInterpreter): for a binary label the log-odds
+// of class c against the other class, for more classes the centred logit
+// of class c. A label or class the experiment does not list is named by
+// its index.
+func (r *Run) explained(label string, c int) (class, decision string) {
+	for _, lt := range r.Labels {
+		if lt.Name != label || c < 0 || c >= len(lt.Classes) {
+			continue
+		}
+		if len(lt.Classes) == 2 {
+			return lt.Classes[c], fmt.Sprintf("log-odds of %s against %s", lt.Classes[c], lt.Classes[1-c])
+		}
+		return lt.Classes[c], fmt.Sprintf("centred logit of %s (its log-probability less the mean over the %d classes)", lt.Classes[c], len(lt.Classes))
+	}
+	class = fmt.Sprintf("class %d", c)
+	return class, "decision value of " + class
 }
 
 // importanceViews names the n importance views of model from its
@@ -191,31 +246,44 @@ func (r *Run) ImportanceFigures(sums []ModelImportance) ([]Figure, error) {
 		if len(labels) != s.P {
 			labels = defaultLabels(s.P)
 		}
-		title := fmt.Sprintf("%s — %s: edge importance, mean of %d folds", s.Model, s.Target, s.Folds)
+		target := s.Target
+		if s.Class != "" {
+			target = fmt.Sprintf("%s (%s)", s.Target, s.Class)
+		}
+		title := fmt.Sprintf("%s — %s: edge importance, mean of %d folds", s.Model, target, s.Folds)
 		of := ""
 		if s.View != "" {
-			title = fmt.Sprintf("%s — %s: %s edges' importance, mean of %d folds", s.Model, s.Target, s.View, s.Folds)
+			title = fmt.Sprintf("%s — %s: %s edges' importance, mean of %d folds", s.Model, target, s.View, s.Folds)
 			of = fmt.Sprintf(" of the %s input's edges alone (each input view of the model has a map of its own, never summed)", s.View)
 		}
 		img, err := heatMap(title, "region", "region", labels, labels, s.P, s.P, s.Mean, figure.DoubleColumn, 6)
 		if err != nil {
-			return nil, fmt.Errorf("importance figure of %s, %s: %w", s.Model, s.Target, err)
+			return nil, fmt.Errorf("importance figure of %s, %s: %w", s.Model, target, err)
 		}
-		caption := fmt.Sprintf("%s%s, averaged over the %d test folds; red edges raise the predicted %s, blue ones lower it. %s",
-			r.importanceKind(s.Model), of, s.Folds, s.Target, "Importance shows what the model uses, not a cause.")
+		raised := "predicted " + s.Target
+		if s.Class != "" {
+			raised = s.Decision + " for " + s.Target
+		}
+		caption := fmt.Sprintf("%s%s, averaged over the %d test folds; red edges raise the %s, blue ones lower it. %s",
+			r.importanceKind(s.Model, s.Class != ""), of, s.Folds, raised, "Importance shows what the model uses, not a cause.")
 		figs = append(figs, fromImage(img, s.File, SectionImportance, title, caption))
 	}
 	return figs, nil
 }
 
 // importanceKind says how a model's importance is defined: its kind's
-// model.Importance.
-func (r *Run) importanceKind(model string) string {
+// model.Importance, or its ClassImportance for a label.
+func (r *Run) importanceKind(model string, label bool) string {
 	for _, m := range r.Experiment.Models {
 		if m.Name != model {
 			continue
 		}
-		if k, err := m.Spec(); err == nil && k.Importance.Description != "" {
+		k, err := m.Spec()
+		switch {
+		case err != nil:
+		case label && k.ClassImportance.Description != "":
+			return k.ClassImportance.Description
+		case !label && k.Importance.Description != "":
 			return k.Importance.Description
 		}
 	}
@@ -318,14 +386,13 @@ func (r *Run) FilterFigures(sums []FilterSummary) ([]Figure, error) {
 // importanceCSV returns the run's importance maps as
 // experiment.ImportanceFile, whose columns that constant documents.
 func (r *Run) importanceCSV() []byte {
-	targets := r.Experiment.Cohort.Targets
 	keys, maps, err := r.importanceMaps()
 	if err != nil {
 		keys = nil // ImportanceSummaries reports the error
 	}
 	var buf bytes.Buffer
 	w := csv.NewWriter(&buf)
-	w.Write([]string{"model", "target", "view", "region_i", "region_j", "mean", "sd", "folds", "same_sign"})
+	w.Write([]string{"model", "target", "view", "region_i", "region_j", "mean", "sd", "folds", "same_sign", "class"})
 	format := func(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
 	for _, k := range keys {
 		ms := maps[k]
@@ -351,8 +418,8 @@ func (r *Run) importanceCSV() []byte {
 				if len(vals) > 1 {
 					sdText = format(sd)
 				}
-				w.Write([]string{k.model, targets[k.target], k.view, labels[i], labels[j], format(mean), sdText,
-					strconv.Itoa(len(vals)), format(float64(same) / float64(len(vals)))})
+				w.Write([]string{k.model, k.target, k.view, labels[i], labels[j], format(mean), sdText,
+					strconv.Itoa(len(vals)), format(float64(same) / float64(len(vals))), k.class})
 			}
 		}
 	}

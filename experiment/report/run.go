@@ -80,11 +80,16 @@ type CurvePoint struct {
 }
 
 // UnitImportance is the edge importance one fitted unit reported: one
-// p × p row-major map per target, in the order of the experiment's targets.
+// p × p row-major map per target, in the order of the experiment's targets
+// (per view and target for a model of several importance views), and the
+// maps of its classifiers.
 type UnitImportance struct {
 	Model        string
 	Repeat, Fold int
 	Maps         [][]float64
+	// LabelMaps are the maps of the unit's classifiers, label by label
+	// (train.Result.LabelImportance).
+	LabelMaps []train.LabelMap
 }
 
 // ReadRun reads the run folder dir. experiment.toml, predictions.csv and
@@ -216,6 +221,10 @@ func (r *Run) P() int {
 	for _, u := range r.Importance {
 		if len(u.Maps) > 0 {
 			return int(math.Round(math.Sqrt(float64(len(u.Maps[0])))))
+		}
+		if len(u.LabelMaps) > 0 {
+			p, _ := u.LabelMaps[0].Map.Dims()
+			return p
 		}
 	}
 	return 0
@@ -373,7 +382,7 @@ func readImportance(dir string) ([]UnitImportance, error) {
 		if err != nil {
 			return nil, err
 		}
-		if len(u.Importance) == 0 {
+		if len(u.Importance) == 0 && len(u.LabelImportance) == 0 {
 			continue
 		}
 		for k, m := range u.Importance {
@@ -382,7 +391,7 @@ func readImportance(dir string) ([]UnitImportance, error) {
 				return nil, fmt.Errorf("%s: importance map %d has %d values, want p × p like the first", path, k+1, len(m))
 			}
 		}
-		out = append(out, UnitImportance{Model: u.Model, Repeat: u.Repeat, Fold: u.Fold, Maps: u.Importance})
+		out = append(out, UnitImportance{Model: u.Model, Repeat: u.Repeat, Fold: u.Fold, Maps: u.Importance, LabelMaps: u.LabelImportance})
 	}
 	sort.Slice(out, func(a, b int) bool {
 		return unitLess(out[a].Model, out[a].Repeat, out[a].Fold, out[b].Model, out[b].Repeat, out[b].Fold)

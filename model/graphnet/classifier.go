@@ -39,13 +39,16 @@ import (
 // With Config.Ensemble = K_e > 1 the Classifier trains K_e networks as an
 // Ensemble does (training and validation sets joined and split in K_e
 // parts keeping groups whole, member k stopped early on part k, each with
-// its own seed) and predicts the mean of their class probabilities.
+// its own seed), the parts stratified by class (ensemblePartsByClass), and
+// predicts the mean of their class probabilities.
 // With K_e = 1 it trains one network on the training set and stops it on
 // the validation set.
 //
 // Like a model.Iterative, a Classifier reports its epochs (OnEpoch,
-// History); Save writes it and LoadClassifier reads it back. It has no
-// edge importance. It is not safe for concurrent use.
+// History); Save writes it and LoadClassifier reads it back. Its edge
+// importance is the gradient × input saliency of its decision values
+// (EdgeImportance, a model.ReferenceClassInterpreter). It is not safe for
+// concurrent use.
 type Classifier struct {
 	cfg     Config
 	p       int
@@ -175,7 +178,7 @@ func (c *Classifier) Fit(ctx context.Context, train, valid model.LabelledSet) er
 	for range c.members {
 		rng.Int64() // the member seeds
 	}
-	parts, err := ensembleParts(joined.Participants, len(c.members), rng)
+	parts, err := ensemblePartsByClass(joined.Participants, joined.Labels, len(c.members), rng)
 	if err != nil {
 		return err
 	}
@@ -345,4 +348,80 @@ func LoadClassifier(dir string) (*Classifier, error) {
 		return nil, fmt.Errorf("graphnet: LoadClassifier: %s: a network fitted to scores, not a classifier; read it with Load", mpath)
 	}
 	return &Classifier{cfg: n.cfg.clone(), p: n.p, classes: n.classes, seed: n.seed, members: []*Network{n}}, nil
+}
+
+var _ model.ReferenceClassInterpreter = (*Classifier)(nil)
+
+// EdgeImportance returns the gradient × input saliency of the classifier's
+// decision values over ps (model.ClassInterpreter): with z the K logits of
+// a network, the decision value is z₁ − z₀, the log-odds of class 1, for
+// two classes and z_c − z̄ for class c of K > 2 (z̄ the mean logit), and
+//
+//	M_vc = (1/n) Σᵢ X_vi ∘ ∂s_ic/∂X_vi
+//
+// over the n participants of ps, per input view v as Network.EdgeImportance
+// defines views and symmetrizes maps; the maps come view after view,
+// model.ExplainedClasses(K) per view. Since a saliency is linear in the
+// output it differentiates, M_vc is the same difference (or centring) of
+// the logits' saliencies. Logits rather than log-probabilities are
+// explained: their gradient does not fade where the softmax saturates,
+// and for one network they are the decision values of the logistic
+// baselines' activation patterns. For an ensemble the maps are the mean of
+// the members' maps, as for an Ensemble's scores (the members' logits are
+// averaged; their probabilities, which the ensemble predicts, are not
+// linear in them).
+func (c *Classifier) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	return c.EdgeImportanceFrom(ps, nil)
+}
+
+// EdgeImportanceFrom is EdgeImportance measured from reference inputs
+// (model.ReferenceClassInterpreter; see Network.EdgeImportanceFrom): nil
+// ref measures from inputs of 0.
+func (c *Classifier) EdgeImportanceFrom(ps, ref []*data.Participant) ([]*mat.Dense, error) {
+	K, C := c.classes, model.ExplainedClasses(c.classes)
+	var sum []*mat.Dense
+	for k, n := range c.members {
+		logits, err := n.EdgeImportanceFrom(ps, ref) // view v, logit j at v·K + j
+		if err != nil {
+			if len(c.members) > 1 {
+				err = fmt.Errorf("ensemble member %d: %w", k+1, err)
+			}
+			return nil, err
+		}
+		views := len(logits) / K
+		maps := make([]*mat.Dense, views*C)
+		for v := range views {
+			of := logits[v*K : (v+1)*K]
+			if K == 2 {
+				var m mat.Dense
+				m.Sub(of[1], of[0])
+				maps[v] = &m
+				continue
+			}
+			var mean mat.Dense
+			mean.Scale(0, of[0])
+			for _, m := range of {
+				mean.Add(&mean, m)
+			}
+			mean.Scale(1/float64(K), &mean)
+			for j, m := range of {
+				var centred mat.Dense
+				centred.Sub(m, &mean)
+				maps[v*C+j] = &centred
+			}
+		}
+		if sum == nil {
+			sum = maps
+			continue
+		}
+		for j := range sum {
+			sum[j].Add(sum[j], maps[j])
+		}
+	}
+	if len(c.members) > 1 {
+		for _, m := range sum {
+			m.Scale(1/float64(len(c.members)), m)
+		}
+	}
+	return sum, nil
 }

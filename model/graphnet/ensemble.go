@@ -248,6 +248,75 @@ func ensembleParts(ps []*data.Participant, K int, rng *rand.Rand) ([][]int, erro
 	return parts, nil
 }
 
+// ensemblePartsByClass splits the participants ps of a Classifier's
+// joined set in K parts as ensembleParts does, groups whole, and
+// stratified by class: labels[i] is the class of ps[i]. The groups, in
+// the order of their first participant, are shuffled by rng (rand.Perm),
+// then stably sorted by the joined set's count of their rarest class,
+// rarest first, and each goes to the part holding the fewest participants
+// of that class, then the fewest participants in all (the first such part
+// on a tie). Without groups every part thus holds ⌊n_c/K⌋ or ⌈n_c/K⌉ of
+// the n_c participants of each class c, so that each member stops early
+// on a part with the label's proportions (common practice, no source). An
+// empty part always takes the next group, so no part is empty. Fewer than
+// K groups is an error naming model.network.ensemble.
+func ensemblePartsByClass(ps []*data.Participant, labels []int, K int, rng *rand.Rand) ([][]int, error) {
+	var units [][]int
+	byGroup := make(map[string]int)
+	for i, p := range ps {
+		if p.Group == "" {
+			units = append(units, []int{i})
+			continue
+		}
+		u, ok := byGroup[p.Group]
+		if !ok {
+			u = len(units)
+			byGroup[p.Group] = u
+			units = append(units, nil)
+		}
+		units[u] = append(units[u], i)
+	}
+	if len(units) < K {
+		return nil, fmt.Errorf("model.network.ensemble: %d networks need at least %d participants or groups in the training and validation sets together, found %d", K, K, len(units))
+	}
+	total := make(map[int]int)
+	for _, y := range labels {
+		total[y]++
+	}
+	rarest := make([]int, len(units)) // per unit, its class of fewest participants in ps
+	for u, members := range units {
+		rarest[u] = labels[members[0]]
+		for _, i := range members {
+			if y := labels[i]; total[y] < total[rarest[u]] || total[y] == total[rarest[u]] && y < rarest[u] {
+				rarest[u] = y
+			}
+		}
+	}
+	order := rng.Perm(len(units))
+	slices.SortStableFunc(order, func(a, b int) int { return total[rarest[a]] - total[rarest[b]] })
+	parts := make([][]int, K)
+	ofClass := make([]map[int]int, K)
+	for k := range ofClass {
+		ofClass[k] = make(map[int]int)
+	}
+	for _, u := range order {
+		c, best := rarest[u], 0
+		for k := range parts {
+			if ofClass[k][c] < ofClass[best][c] || ofClass[k][c] == ofClass[best][c] && len(parts[k]) < len(parts[best]) {
+				best = k
+			}
+		}
+		parts[best] = append(parts[best], units[u]...)
+		for _, i := range units[u] {
+			ofClass[best][labels[i]]++
+		}
+	}
+	for _, part := range parts {
+		slices.Sort(part)
+	}
+	return parts, nil
+}
+
 // Predict returns the mean of the members' predictions (Network.Predict):
 // len(ps) × T, on the scale of the Y the ensemble was fitted on.
 func (e *Ensemble) Predict(ps []*data.Participant) (*mat.Dense, error) {

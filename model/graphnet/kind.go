@@ -22,6 +22,10 @@ func init() {
 			Method:      "gradient × input",
 			Description: "Gradient × input saliency of the test participants",
 		},
+		ClassImportance: model.Importance{
+			Method:      "gradient × input",
+			Description: "Gradient × input saliency of the decision value (log-odds, or centred logit) of the test participants",
+		},
 		ImportanceViews: func(s model.Settings) []string {
 			if c, ok := s.(*Config); ok {
 				return c.ImportanceViews()

@@ -135,6 +135,16 @@ func (k *KernelLogistic) PredictProba(ps []*data.Participant) (*mat.Dense, error
 	if len(ps) == 0 {
 		return nil, errNoParticipants
 	}
+	f, err := k.linearFunctions(ps)
+	if err != nil {
+		return nil, err
+	}
+	return probaOf(f, k.classes), nil
+}
+
+// linearFunctions returns the len(ps) × m linear functions
+// b + Σᵢ k(x, xᵢ)·αᵢ of ps.
+func (k *KernelLogistic) linearFunctions(ps []*data.Participant) (*mat.Dense, error) {
 	x, _, err := kernelEdges(ps, k.cfg.Input, k.cfg.Kernel, k.p)
 	if err != nil {
 		return nil, err
@@ -148,7 +158,7 @@ func (k *KernelLogistic) PredictProba(ps []*data.Participant) (*mat.Dense, error
 		f.Mul(&kern, k.dualCoef)
 	}
 	addToColumns(&f, k.intercept)
-	return probaOf(&f, k.classes), nil
+	return &f, nil
 }
 
 // Alpha returns the grid value of the penalty chosen by the last Fit

@@ -25,6 +25,25 @@ var patternImportance = model.Importance{
 	Description: "Activation pattern cov(edge, prediction) over the test participants (Haufe et al. 2014)",
 }
 
+// patternClassImportance is the edge importance of logistic and kernel
+// logistic regression.
+var patternClassImportance = model.Importance{
+	Method:      "activation pattern",
+	Description: "Activation pattern cov(edge, decision value) over the test participants (Haufe et al. 2014)",
+}
+
+// classifierViews is the ImportanceViews of logistic and kernel logistic
+// regression: their input's matrix, or both.
+func classifierViews(s model.Settings) []string {
+	switch c := s.(type) {
+	case *LogisticConfig:
+		return importanceViews(c.Input)
+	case *KernelLogisticConfig:
+		return importanceViews(c.Input)
+	}
+	return nil
+}
+
 // The baselines register themselves as kinds of model: all are baselines,
 // those for scores fit score columns independently, and all can be saved.
 // majority, logistic and kernel_logistic learn class labels only
@@ -125,7 +144,7 @@ func init() {
 		LoadClassifier: classifierLoader(kindMajority),
 	})
 	model.Register(model.Kind{
-		Name: kindLogistic, Baseline: true,
+		Name: kindLogistic, Baseline: true, ClassImportance: patternClassImportance, ImportanceViews: classifierViews,
 		NewClassifier: func(s model.Settings, _, classes int, seed int64) (model.Classifier, error) {
 			c, ok := s.(*LogisticConfig)
 			if !ok {
@@ -144,7 +163,7 @@ func init() {
 		},
 	})
 	model.Register(model.Kind{
-		Name: kindKernelLogistic, Baseline: true,
+		Name: kindKernelLogistic, Baseline: true, ClassImportance: patternClassImportance, ImportanceViews: classifierViews,
 		NewClassifier: func(s model.Settings, _, classes int, seed int64) (model.Classifier, error) {
 			c, ok := s.(*KernelLogisticConfig)
 			if !ok {

@@ -188,6 +188,16 @@ func (l *Logistic) PredictProba(ps []*data.Participant) (*mat.Dense, error) {
 	if len(ps) == 0 {
 		return nil, errNoParticipants
 	}
+	f, err := l.linearFunctions(ps)
+	if err != nil {
+		return nil, err
+	}
+	return probaOf(f, l.classes), nil
+}
+
+// linearFunctions returns the len(ps) × m linear functions b + x·W of the
+// raw edges x of ps.
+func (l *Logistic) linearFunctions(ps []*data.Participant) (*mat.Dense, error) {
 	x, _, err := edgeMatrix(ps, l.cfg.Input, l.p)
 	if err != nil {
 		return nil, err
@@ -195,7 +205,7 @@ func (l *Logistic) PredictProba(ps []*data.Participant) (*mat.Dense, error) {
 	var f mat.Dense
 	f.Mul(x, l.weights)
 	addToColumns(&f, l.intercept)
-	return probaOf(&f, l.classes), nil
+	return &f, nil
 }
 
 // C returns the C chosen by the last Fit (0 before Fit).

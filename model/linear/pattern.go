@@ -89,6 +89,14 @@ func importanceViews(input Input) []string {
 // for input "both" the functional edges' maps of every column, then the
 // structural edges'.
 func activationPatterns(reg model.Regressor, input Input, p int, ps []*data.Participant) ([]*mat.Dense, error) {
+	return patternsOf(reg.Predict, input, p, ps)
+}
+
+// patternsOf returns cov(x_e, s_j) over ps for every edge e of input (the
+// raw edges) and every column j of the outputs s that of gives ps, as
+// symmetric p × p maps: for input "both" the functional edges' maps of
+// every column, then the structural edges'.
+func patternsOf(of func([]*data.Participant) (*mat.Dense, error), input Input, p int, ps []*data.Participant) ([]*mat.Dense, error) {
 	if len(ps) < 2 {
 		return nil, fmt.Errorf("linear: EdgeImportance needs at least two participants, found %d: %w", len(ps), model.ErrTooFewToExplain)
 	}
@@ -96,7 +104,7 @@ func activationPatterns(reg model.Regressor, input Input, p int, ps []*data.Part
 	if err != nil {
 		return nil, fmt.Errorf("linear: EdgeImportance: %w", err)
 	}
-	yhat, err := reg.Predict(ps)
+	yhat, err := of(ps)
 	if err != nil {
 		return nil, fmt.Errorf("linear: EdgeImportance: %w", err)
 	}
@@ -120,4 +128,86 @@ func activationPatterns(reg model.Regressor, input Input, p int, ps []*data.Part
 		}
 	}
 	return maps, nil
+}
+
+var (
+	_ model.ClassInterpreter = (*Logistic)(nil)
+	_ model.ClassInterpreter = (*KernelLogistic)(nil)
+)
+
+// EdgeImportance returns the activation patterns of the fitted logistic
+// regression over ps (Haufe et al. 2014, NeuroImage 87:96–110): for each
+// edge e and decision value c (model.ClassInterpreter),
+//
+//	a_ec = cov(x_e, s_c) = Σᵢ (x_ie − x̄_e)(s_ic − s̄_c) / (n − 1)
+//
+// over the n participants of ps, x_ie the raw edge value and s_ic the
+// decision value of participant i: for two classes s = f = b + x·w, the
+// log-odds of class 1; for K > 2 classes s_c = f_c − (1/K) Σⱼ fⱼ, the
+// centred linear function of class c (fⱼ = bⱼ + x·wⱼ), which is log p_c
+// less the mean log-probability. Unlike the weights, a pattern shows how
+// each edge varies with the decision over the participants. Each map is
+// p × p and symmetric with a zero diagonal, in the units of the edge
+// times log-odds; for input "both", the functional edges' maps of every
+// decision value come first, then the structural edges'. ps needs at
+// least two participants.
+func (l *Logistic) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	if l.weights == nil {
+		return nil, errNotFitted
+	}
+	return patternsOf(l.decisionValues, l.cfg.Input, l.p, ps)
+}
+
+// decisionValues returns the len(ps) × model.ExplainedClasses(K) decision
+// values of ps (see EdgeImportance).
+func (l *Logistic) decisionValues(ps []*data.Participant) (*mat.Dense, error) {
+	f, err := l.linearFunctions(ps)
+	if err != nil {
+		return nil, err
+	}
+	centreRows(f)
+	return f, nil
+}
+
+// EdgeImportance returns the activation patterns of the fitted kernel
+// logistic regression over ps, a_ec = cov(x_e, s_c) with x_e the raw edge
+// (not the normalized vector the correlation kernel compares) and s_c the
+// decision values of Logistic.EdgeImportance made of the linear functions
+// f(x) = b + Σᵢ k(x, xᵢ)·αᵢ.
+func (k *KernelLogistic) EdgeImportance(ps []*data.Participant) ([]*mat.Dense, error) {
+	if k.intercept == nil {
+		return nil, errNotFitted
+	}
+	return patternsOf(k.decisionValues, k.cfg.Input, k.p, ps)
+}
+
+// decisionValues returns the len(ps) × model.ExplainedClasses(K) decision
+// values of ps (see EdgeImportance).
+func (k *KernelLogistic) decisionValues(ps []*data.Participant) (*mat.Dense, error) {
+	f, err := k.linearFunctions(ps)
+	if err != nil {
+		return nil, err
+	}
+	centreRows(f)
+	return f, nil
+}
+
+// centreRows subtracts from each row of f (n × m) its mean when m > 1: the
+// softmax's linear functions become the centred log-probabilities. A
+// single column, the binary model's log-odds, is left as it is.
+func centreRows(f *mat.Dense) {
+	n, m := f.Dims()
+	if m < 2 {
+		return
+	}
+	for i := range n {
+		row := f.RawRowView(i)
+		var mean float64
+		for _, v := range row {
+			mean += v / float64(m)
+		}
+		for j := range row {
+			row[j] -= mean
+		}
+	}
 }
