@@ -80,7 +80,17 @@ func leakySumsAcc32(g []float32, ld int, c, r []float32, f [2]float32, acc, sums
 		r0, r1 := archsimd.BroadcastFloat32x8(r[i]), archsimd.BroadcastFloat32x8(r[i+1])
 		r2, r3 := archsimd.BroadcastFloat32x8(r[i+2]), archsimd.BroadcastFloat32x8(r[i+3])
 		var s0, s1, s2, s3 archsimd.Float32x8
-		for j := 0; j < n; j += 8 { // the last vector padded with zeros
+		j := 0
+		for ; j+8 <= n; j += 8 {
+			cj := archsimd.LoadFloat32x8Slice(c[j:])
+			v0 := archsimd.LoadFloat32x8Slice(g0[j:]).Mul(factor(r0.Add(cj)))
+			v1 := archsimd.LoadFloat32x8Slice(g1[j:]).Mul(factor(r1.Add(cj)))
+			v2 := archsimd.LoadFloat32x8Slice(g2[j:]).Mul(factor(r2.Add(cj)))
+			v3 := archsimd.LoadFloat32x8Slice(g3[j:]).Mul(factor(r3.Add(cj)))
+			s0, s1, s2, s3 = s0.Add(v0), s1.Add(v1), s2.Add(v2), s3.Add(v3)
+			archsimd.LoadFloat32x8Slice(acc[j:]).Add(v0).Add(v1).Add(v2).Add(v3).StoreSlice(acc[j:])
+		}
+		if j < n { // the last vector padded with zeros
 			cj := archsimd.LoadFloat32x8SlicePart(c[j:])
 			v0 := archsimd.LoadFloat32x8SlicePart(g0[j:]).Mul(factor(r0.Add(cj)))
 			v1 := archsimd.LoadFloat32x8SlicePart(g1[j:]).Mul(factor(r1.Add(cj)))

@@ -14,7 +14,8 @@ import (
 
 	"github.com/skein-neuro/skein/internal/parallel"
 
-	// The openblas build tag makes blas64/blas32 use OpenBLAS.
+	// The build's BLAS (OpenBLAS with the openblas tag) for what gorgonia
+	// computes itself; the ops' products are internal/gemm's (gemm.go).
 	_ "github.com/skein-neuro/skein/internal/blas"
 )
 

@@ -1,9 +1,7 @@
 package ops
 
-// Tiles of a product's result. Both BLAS pack every tile's operands anew
-// (OpenBLAS, and package internal/gemm in the pure-Go build), and OpenBLAS
-// takes products below about a million multiply-adds through kernels that
-// do not pack at all, so tiles are few and large: the longer side of the
+// Tiles of a product's result. internal/gemm packs every tile's operands
+// anew, so tiles are few and large: the longer side of the
 // result is cut into about tilesAlongLonger pieces, none narrower than
 // tileShort (columns of the second input, dW and dX gradients, are cut in
 // multiples of 16 values).
