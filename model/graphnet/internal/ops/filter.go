@@ -599,6 +599,16 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 		}
 	}
 	gw := &gradWOp{base: op.derive("E2NGradW", []tensor.Shape{op.termShape, op.in[0]}, op.in[1]), dims: d, rows: op.rows}
+	if e, ok := x.Op().(*e2eOp); ok && d.inNodeMajor && e.dims.outNodeMajor && e.dims.O == d.C && e.dims.P == d.P && e.dims.B == d.B {
+		// x is the output of a node-major E2E: its values are made
+		// again from the E2E's terms, a block at a time, rather than
+		// read back from the batch-sized tensor (see regenGradW).
+		_, tn := tileSizes(d.O, d.C*d.P)
+		gw.from = &e2eOutput{terms: e.terms, f: [2]float64{1, 1}, scratchShape: tensor.Shape{ceilDiv(d.C*d.P, tn), regenBlock, tn}}
+		if e.opts.leaky {
+			gw.from.f = [2]float64{1, e.opts.slope}
+		}
+	}
 	if grads[1], err = gorgonia.ApplyOp(gw, g, x); err != nil {
 		return nil, err
 	}
@@ -822,6 +832,17 @@ type gradWOp struct {
 	off  int
 	col  bool
 	rows *rowCache
+	from *e2eOutput // x's maker, when x is made again from it (regenGradW)
+}
+
+// e2eOutput is what an E2E's output is made from: the terms its forward
+// pass kept, (2, O, B, p), and the factors of its rectifier ({1, 1}
+// without one, which leaves every value as it is).
+type e2eOutput struct {
+	terms        *buffer
+	f            [2]float64
+	scratch      buffer // blocks of the output, one per chunk of regenGradW
+	scratchShape tensor.Shape
 }
 
 func gradW[T float](op *gradWOp, in []*tensor.Dense, out *tensor.Dense) error {
@@ -829,6 +850,9 @@ func gradW[T float](op *gradWOp, in []*tensor.Dense, out *tensor.Dense) error {
 	if op.col {
 		colGradW(&op.ts, op.dims, g, x, dw)
 		return nil
+	}
+	if op.from != nil {
+		return regenGradW(&op.ts, op.dims, op.from, g, dw)
 	}
 	xr, err := rows(op.dims, op.rows, x)
 	if err != nil {
@@ -860,4 +884,60 @@ func (op *biasGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		biasGrad(op.dims, slice[float32](in[0]), slice[float32](out))
 	}
 	return out, nil
+}
+
+// regenBlock is the number of rows of Xrow (steps of the sum over samples
+// and nodes) that regenGradW makes at a time: the blocking along k of
+// internal/gemm's kernels, so that the blocks' products add up to the
+// bits of one product over all the rows.
+const regenBlock = 256
+
+// regenGradW sets dW = G·Xrow (G the (O, B·p) gradient of the E2N's row
+// term, Xrow = H' (B·p, C·p) the node-major output of the E2E before it)
+// without reading H': one chunk per tile of columns of dW, each making
+// the values of H' it needs, regenBlock rows at a time, from the E2E's
+// terms (H'[n,i,c,k] = f[s]·(R'[c,n,i] + Cc[c,n,k]), s the sign bit, as
+// the E2E's forward pass made them, so the same bits) into a block of
+// scratch space that stays in the core's cache while internal/gemm packs
+// it. The batch-sized H' would otherwise be read back from memory.
+func regenGradW[T float](ts *tasks, d filterDims, from *e2eOutput, g, dw []T) error {
+	if from.terms.t == nil || from.terms.t.Dtype() != dtypeOf[T]() || from.terms.t.Shape().TotalSize() != 2*d.C*d.B*d.P {
+		return fmt.Errorf("ops: backward pass run before its forward pass")
+	}
+	chunks, tn := from.scratchShape[0], from.scratchShape[2]
+	scratch := slice[T](from.scratch.get(dtypeOf[T](), from.scratchShape))
+	f := [2]T{T(from.f[0]), T(from.f[1])}
+	l := forEachSetup(ts, d, f, kRegenGradW, g, dw, slice[T](from.terms.t), scratch)
+	l.inner = tn
+	ts.pool.Run(l, chunks)
+	l.clear()
+	return nil
+}
+
+// regenGradWOf does the columns tn·t… of dW (tn = l.inner): s = g, dw,
+// terms, scratch.
+func regenGradWOf[T float](l *loop[T], t int) {
+	g, dw, terms, scratch := l.s[0], l.s[1], l.s[2], l.s[3]
+	d, tn := l.d, l.inner
+	B, C, O, P := d.B, d.C, d.O, d.P
+	BP, CP := B*P, C*P
+	j0 := t * tn
+	w := min(tn, CP-j0)
+	block := scratch[t*regenBlock*tn:][:regenBlock*tn]
+	cols := terms[C*BP:] // Cc, (C, B, p)
+	for k0 := 0; k0 < BP; k0 += regenBlock {
+		kb := min(regenBlock, BP-k0)
+		for s := range kb {
+			n, i := (k0+s)/P, (k0+s)%P
+			row := block[s*w:][:w]
+			for j := j0; j < j0+w; {
+				c, k := j/P, j%P
+				seg := min(P-k, j0+w-j)
+				at := (c*B + n) * P
+				vec.LeakyRow(row[j-j0:][:seg], cols[at+k:][:seg], terms[at+i], l.f)
+				j += seg
+			}
+		}
+		serialGemm(false, false, O, w, kb, 1, g[k0:], BP, block, w, betaFor[T](k0 == 0), dw[j0:], CP)
+	}
 }

@@ -125,6 +125,7 @@ const (
 	kE2NSums
 	kEdgeDense
 	kEdgeDenseGradX
+	kRegenGradW
 )
 
 // Chunk runs unit i.
@@ -158,6 +159,8 @@ func (l *loop[T]) Chunk(i int) {
 		edgeDenseOf(l, i)
 	case kEdgeDenseGradX:
 		edgeDenseGradXOf(l, i)
+	case kRegenGradW:
+		regenGradWOf(l, i)
 	default:
 		panic("ops: unknown loop kernel")
 	}
