@@ -126,6 +126,7 @@ const (
 	kEdgeDense
 	kEdgeDenseGradX
 	kRegenGradW
+	kRegenRowTerm
 )
 
 // Chunk runs unit i.
@@ -161,6 +162,8 @@ func (l *loop[T]) Chunk(i int) {
 		edgeDenseGradXOf(l, i)
 	case kRegenGradW:
 		regenGradWOf(l, i)
+	case kRegenRowTerm:
+		regenRowTermOf(l, i)
 	default:
 		panic("ops: unknown loop kernel")
 	}
