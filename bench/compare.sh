@@ -22,10 +22,17 @@
 # from ${SHARED:-../shared}/bench/ (relative to the repository root), run
 # with Debian's python3-torch (/usr/bin/python3).
 #
+# FLOOR_CORETYPE=NAME adds, to every round, the large sgemm with
+# OPENBLAS_CORETYPE=NAME, and prints the floor at its rate too: on a
+# processor with AVX-512 whose environment names the AVX2 kernels
+# (OPENBLAS_CORETYPE=Haswell), FLOOR_CORETYPE=SkylakeX gives the rate of
+# OpenBLAS's AVX-512 kernels, about twice as high, which skein's own
+# products use (internal/gemm picks its AVX-512 kernel at run time).
+#
 # usage: bench/compare.sh            (from the repository root)
 # knobs: SIZES="116 268" N=275 BATCH=16 EPOCHS=4 REPS=3 THREADS=2 SHARED=../shared
 #        VECTOR=0 (the OpenBLAS build without the vector loops) BEFORE=REV
-#        PROCS=C (skein's GOMAXPROCS; default all cores)
+#        PROCS=C (skein's GOMAXPROCS; default all cores) FLOOR_CORETYPE=NAME
 #
 # THREADS is PyTorch's thread count. skein uses every core (GOMAXPROCS)
 # through its own goroutines, with single-threaded OpenBLAS products:
@@ -52,6 +59,7 @@ trap 'rm -rf "$bin"' EXIT
 source bench/build.sh
 build_refnet "$bin"
 sides="gonum openblas torch1 torchT sgemm"
+[[ -n ${FLOOR_CORETYPE:-} ]] && sides="$sides sgemmF"
 if [[ -n ${BEFORE:-} ]]; then
   git archive "$BEFORE" | tar -x -C "$bin" --one-top-level=before
   (cd "$bin/before" && go build -o "$bin/refnet-before" ./bench/cmd/refnet)
@@ -71,6 +79,7 @@ echo "OPENBLAS_CORETYPE=${OPENBLAS_CORETYPE:-(unset)}"
 echo "load before: $(uptime)"
 declare -A times gflop
 rates=""
+ratesF=""
 for p in $SIZES; do
   for ((r = 1; r <= REPS; r++)); do
     for side in $sides; do
@@ -80,6 +89,11 @@ for p in $SIZES; do
       elif [[ $side == torchT ]]; then
         line=$(OPENBLAS_NUM_THREADS=$THREADS "$PYTHON" "$TORCH_SCRIPT" "$p" "$N" "$BATCH" "$EPOCHS" "$THREADS" float32)
         line="torch OPENBLAS_NUM_THREADS=$THREADS: $line"
+      elif [[ $side == sgemmF ]]; then
+        line=$(OPENBLAS_CORETYPE=$FLOOR_CORETYPE "$bin/refnet-openblas" -sgemm -threads "$THREADS")
+        echo "  run $r: OPENBLAS_CORETYPE=$FLOOR_CORETYPE: $line"
+        ratesF+="$(echo "$line" | sed -n 's/.*: \([0-9.]*\) GFLOP\/s.*/\1/p') "
+        continue
       elif [[ $side == sgemm ]]; then
         line=$("$bin/refnet-openblas" -sgemm -threads "$THREADS")
         echo "  run $r: $line"
@@ -107,6 +121,11 @@ for p in $SIZES; do
   g=$(med gonum)
   awk -v p="$p" -v t1="$t1" -v tT="$tT" -v o="$o" -v g="$g" -v f="${gflop[$p]}" -v r="$rate" \
     'BEGIN {t = (t1 < tT ? t1 : tT); printf "%-6s %9.3f %9.3f %9.3f %10.3f %10.3f %14.2f %14.2f %10.3f %14.2f\n", p, t1, tT, t, o, g, o/t, g/t, f/r, o/(f/r)}'
+  if [[ -n ${FLOOR_CORETYPE:-} ]]; then
+    rateF=$(echo "$ratesF" | tr ' ' '\n' | grep . | median)
+    awk -v p="$p" -v o="$o" -v f="${gflop[$p]}" -v r="$rateF" -v ct="$FLOOR_CORETYPE" \
+      'BEGIN {printf "%-6s sgemm with OPENBLAS_CORETYPE=%s: median %.1f GFLOP/s, floor %.3f s, openblas/floor %.2f\n", p, ct, r, f/r, o/(f/r)}'
+  fi
   if [[ -n ${BEFORE:-} ]]; then
     b=$(med before)
     awk -v p="$p" -v b="$b" -v g="$g" -v t1="$t1" -v tT="$tT" -v rev="$BEFORE" \

@@ -250,16 +250,18 @@ func gather6[T float](dst, a []T, lda, kb int, alpha T) {
 // panel), padding the last panel with zeros.
 func packB[T float](tB bool, b []T, ldb, pc, jc, kb, nb, nr int, dst []T) {
 	var z T
-	wide := nr*int(unsafe.Sizeof(z)) == 64 // a step of a panel is 64 bytes
+	stepBytes := nr * int(unsafe.Sizeof(z)) // of a panel
 	tw := transposeWidth[T]()
 	for jr := 0; jr < nb; jr += nr {
 		panel := dst[jr*kb : jr*kb+nr*kb]
 		cols := min(nr, nb-jr)
 		switch {
-		case !tB && cols == nr && wide:
+		case !tB && cols == nr && stepBytes == 64:
 			// op(B)[p, j] = B[p, j]: a step of k is contiguous in B,
 			// copied 64 bytes at a time.
 			copySteps(panel, b[pc*ldb+jc+jr:], ldb, kb)
+		case !tB && cols == nr && stepBytes == 128:
+			copyWideSteps(panel, b[pc*ldb+jc+jr:], ldb, kb)
 		case !tB:
 			for p := range kb {
 				d := panel[p*nr : p*nr+nr]

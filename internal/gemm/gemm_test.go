@@ -377,3 +377,39 @@ func TestKernelInUse(t *testing.T) {
 	}
 	t.Logf("kernel: %s", k)
 }
+
+// TestKernelsSameBits checks that every float32 kernel with the AVX2
+// kernel's blocking along k gives the AVX2 kernel's bits: each element is
+// the same chain of fused multiply-adds whatever the width of the tile
+// (common practice, no source: IEEE 754 fused multiply-add rounds once).
+func TestKernelsSameBits(t *testing.T) {
+	var ref *kernel[float32]
+	for i := range kernels32 {
+		if kernels32[i].name == "avx2" {
+			ref = &kernels32[i]
+		}
+	}
+	if ref == nil {
+		t.Skip("no AVX2 kernel on this processor")
+	}
+	for _, kn := range kernels32 {
+		if kn.name == "go" || kn.kc != ref.kc {
+			continue
+		}
+		t.Run(kn.name, func(t *testing.T) {
+			rng := rand.New(rand.NewPCG(19, 3))
+			for _, p := range append(products(), product{m: 116, n: 464, k: 600, lda: 600, ldb: 464, ldc: 464, alpha: 1}) {
+				a, b, c0 := p.inputs(rng)
+				a32, b32 := to32(a), to32(b)
+				want, got := to32(c0), to32(c0)
+				gemm(ref, p.tA, p.tB, p.m, p.n, p.k, float32(p.alpha), a32, p.lda, b32, p.ldb, float32(p.beta), want, p.ldc, false)
+				gemm(&kn, p.tA, p.tB, p.m, p.n, p.k, float32(p.alpha), a32, p.lda, b32, p.ldb, float32(p.beta), got, p.ldc, false)
+				for i := range want {
+					if math.Float32bits(want[i]) != math.Float32bits(got[i]) && !(math.IsNaN(float64(want[i])) && math.IsNaN(float64(got[i]))) {
+						t.Fatalf("%v: element %d: %v, the AVX2 kernel %v", p, i, got[i], want[i])
+					}
+				}
+			}
+		})
+	}
+}

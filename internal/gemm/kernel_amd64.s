@@ -350,3 +350,140 @@ t4_loop:
 	JNZ        t4_loop
 	VZEROUPPER
 	RET
+
+// ZSTEP does one step of k of the float32 AVX-512 kernel: A at oa(SI), B
+// at ob(DI); Z0, Z1 a step of B, Z2, Z3 broadcast values of A, Z4–Z15 the
+// twelve accumulators (row r in Z(4+2r) and Z(5+2r)).
+#define ZSTEP(oa, ob) \
+	VMOVUPS      ob(DI), Z0;     \
+	VMOVUPS      ob+64(DI), Z1;  \
+	VBROADCASTSS oa(SI), Z2;     \
+	VBROADCASTSS oa+4(SI), Z3;   \
+	VFMADD231PS  Z0, Z2, Z4;     \
+	VFMADD231PS  Z1, Z2, Z5;     \
+	VFMADD231PS  Z0, Z3, Z6;     \
+	VFMADD231PS  Z1, Z3, Z7;     \
+	VBROADCASTSS oa+8(SI), Z2;   \
+	VBROADCASTSS oa+12(SI), Z3;  \
+	VFMADD231PS  Z0, Z2, Z8;     \
+	VFMADD231PS  Z1, Z2, Z9;     \
+	VFMADD231PS  Z0, Z3, Z10;    \
+	VFMADD231PS  Z1, Z3, Z11;    \
+	VBROADCASTSS oa+16(SI), Z2;  \
+	VBROADCASTSS oa+20(SI), Z3;  \
+	VFMADD231PS  Z0, Z2, Z12;    \
+	VFMADD231PS  Z1, Z2, Z13;    \
+	VFMADD231PS  Z0, Z3, Z14;    \
+	VFMADD231PS  Z1, Z3, Z15
+
+#define ZSET(r0, r1) \
+	VMOVUPS r0, (DX);   \
+	VMOVUPS r1, 64(DX); \
+	ADDQ    R8, DX
+
+#define ZADD(r0, r1) \
+	VADDPS  (DX), r0, r0;   \
+	VADDPS  64(DX), r1, r1; \
+	VMOVUPS r0, (DX);       \
+	VMOVUPS r1, 64(DX);     \
+	ADDQ    R8, DX
+
+// func sgemm6x32(k int, a *float32, b *float32, c *float32, ldc int, add bool)
+TEXT ·sgemm6x32(SB), NOSPLIT, $0-41
+	MOVQ k+0(FP), CX
+	MOVQ a+8(FP), SI
+	MOVQ b+16(FP), DI
+	MOVQ c+24(FP), DX
+	MOVQ ldc+32(FP), R8
+	SHLQ $2, R8
+	VPXORD Z4, Z4, Z4
+	VPXORD Z5, Z5, Z5
+	VPXORD Z6, Z6, Z6
+	VPXORD Z7, Z7, Z7
+	VPXORD Z8, Z8, Z8
+	VPXORD Z9, Z9, Z9
+	VPXORD Z10, Z10, Z10
+	VPXORD Z11, Z11, Z11
+	VPXORD Z12, Z12, Z12
+	VPXORD Z13, Z13, Z13
+	VPXORD Z14, Z14, Z14
+	VPXORD Z15, Z15, Z15
+	MOVQ   CX, BX
+	SHRQ   $2, BX
+	JZ     z_tail
+
+z_loop4:
+	ZSTEP(0, 0)
+	ZSTEP(24, 128)
+	ZSTEP(48, 256)
+	ZSTEP(72, 384)
+	ADDQ $96, SI
+	ADDQ $512, DI
+	DECQ BX
+	JNZ  z_loop4
+
+z_tail:
+	ANDQ $3, CX
+	JZ   z_store
+
+z_loop1:
+	ZSTEP(0, 0)
+	ADDQ $24, SI
+	ADDQ $128, DI
+	DECQ CX
+	JNZ  z_loop1
+
+z_store:
+	MOVBQZX add+40(FP), AX
+	TESTQ   AX, AX
+	JZ      z_set
+	ZADD(Z4, Z5)
+	ZADD(Z6, Z7)
+	ZADD(Z8, Z9)
+	ZADD(Z10, Z11)
+	ZADD(Z12, Z13)
+	ZADD(Z14, Z15)
+	VZEROUPPER
+	RET
+
+z_set:
+	ZSET(Z4, Z5)
+	ZSET(Z6, Z7)
+	ZSET(Z8, Z9)
+	ZSET(Z10, Z11)
+	ZSET(Z12, Z13)
+	ZSET(Z14, Z15)
+	VZEROUPPER
+	RET
+
+// func copyRows128(dst, src unsafe.Pointer, stride, n int)
+// Copies n rows of 128 bytes, stride bytes apart at src, to consecutive
+// 128-byte rows at dst (SSE2); n ≥ 1.
+TEXT ·copyRows128(SB), NOSPLIT, $0-32
+	MOVQ dst+0(FP), DI
+	MOVQ src+8(FP), SI
+	MOVQ stride+16(FP), BX
+	MOVQ n+24(FP), CX
+
+c128_loop:
+	MOVUPS (SI), X0
+	MOVUPS 16(SI), X1
+	MOVUPS 32(SI), X2
+	MOVUPS 48(SI), X3
+	MOVUPS 64(SI), X4
+	MOVUPS 80(SI), X5
+	MOVUPS 96(SI), X6
+	MOVUPS 112(SI), X7
+	MOVUPS X0, (DI)
+	MOVUPS X1, 16(DI)
+	MOVUPS X2, 32(DI)
+	MOVUPS X3, 48(DI)
+	MOVUPS X4, 64(DI)
+	MOVUPS X5, 80(DI)
+	MOVUPS X6, 96(DI)
+	MOVUPS X7, 112(DI)
+	ADDQ   BX, SI
+	ADDQ   $128, DI
+	DECQ   CX
+	JNZ    c128_loop
+	RET

@@ -3,12 +3,14 @@
 // rectifier of an edge-to-edge layer's output, the sums of its gradient,
 // and Adam's update.
 //
-// Each loop has a plain Go version. With GOEXPERIMENT=simd on amd64 (Go
-// 1.26's simd/archsimd), the float32 loops run on 256-bit vectors when the
-// processor has AVX2; the vector and plain versions take the same steps in
-// the same order, so their results are the same to the bit (the tests check
-// it), and a build with the experiment trains the same networks as one
-// without. The float64 loops are plain Go in every build.
+// Each loop has a plain Go version. On amd64 processors with AVX2, the
+// float32 rectifier loops (LeakyRow, LeakySumsAcc) run on 256-bit vectors
+// in Go assembly, in every build (the build tag purego turns that off);
+// with GOEXPERIMENT=simd on amd64 (Go 1.26's simd/archsimd), Adam's float32
+// loop runs on vectors too. The vector and plain versions take the same
+// steps in the same order, so their results are the same to the bit (the
+// tests check it), and every build trains the same networks. The float64
+// loops are plain Go in every build.
 //
 // Leaky rectifier: f[0] = 1 and f[1] = the slope; a value v is multiplied
 // by f[s], s the sign bit of v (so −0 takes the slope, which leaves it −0).
@@ -22,7 +24,9 @@ import (
 // Float is a floating-point element type of the loops.
 type Float interface{ float32 | float64 }
 
-// SIMD reports whether this build runs the float32 loops on vectors.
+// SIMD reports whether this build runs Adam's float32 loop on vectors
+// (GOEXPERIMENT=simd on AVX2; the rectifier loops run on vectors on any
+// amd64 processor with AVX2).
 func SIMD() bool { return simd }
 
 // LeakyRow sets h[j] = v·f[s] for v = r + c[j], s the sign bit of v: one
@@ -30,7 +34,7 @@ func SIMD() bool { return simd }
 // terms) put through the leaky rectifier. len(h) must be at least len(c).
 func LeakyRow[T Float](h, c []T, r T, f [2]T) {
 	if is32[T]() {
-		leakyRow32(as32(h), as32(c), float32(r), [2]float32{float32(f[0]), float32(f[1])})
+		leakyRowFast(as32(h), as32(c), float32(r), [2]float32{float32(f[0]), float32(f[1])})
 		return
 	}
 	h64, c64 := as64(h)[:len(c)], as64(c)
@@ -56,7 +60,7 @@ func LeakyRow[T Float](h, c []T, r T, f [2]T) {
 // ((s0+s4)+(s2+s6))+((s1+s5)+(s3+s7)).
 func LeakySumsAcc[T Float](g []T, ld int, c, r []T, f [2]T, acc, sums []T) {
 	if is32[T]() {
-		leakySumsAcc32(as32(g), ld, as32(c), as32(r), [2]float32{float32(f[0]), float32(f[1])}, as32(acc), as32(sums))
+		leakySumsAccFast(as32(g), ld, as32(c), as32(r), [2]float32{float32(f[0]), float32(f[1])}, as32(acc), as32(sums))
 		return
 	}
 	for i, ri := range r {

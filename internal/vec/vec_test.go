@@ -37,7 +37,7 @@ func same32(a, b []float32) bool {
 }
 
 // TestLeakyRowSameAsPlain: the loop this build runs gives the plain loop's
-// bits (in a build with GOEXPERIMENT=simd on AVX2, the vector loop).
+// bits (on amd64 with AVX2, the assembly loop).
 func TestLeakyRowSameAsPlain(t *testing.T) {
 	rng := rand.New(rand.NewPCG(1, 2))
 	f := [2]float32{1, 0.2}

@@ -224,6 +224,12 @@ func (n *Network) build(batch int, training, saliency bool) (*graph, error) {
 				if fusedE2E {
 					opts = append(opts, ops.WithLeakyReLU(slope))
 				}
+				if nodeMajor && li+1 < len(b.Layers) && b.Layers[li+1].Kind == LayerE2N && (fusedE2E || l.Activation == ActivationNone) {
+					// The E2N right after reads the output alone and
+					// makes it again from the E2E's terms: it is not
+					// stored.
+					opts = append(opts, ops.OutputUnread())
+				}
 				h, err = ops.E2E(h, take(), take(), take(), opts...)
 			case LayerE2N:
 				h, err = ops.E2N(h, take(), take(), opts...)

@@ -14,7 +14,8 @@ import (
 
 	"github.com/skein-neuro/skein/internal/parallel"
 
-	// The openblas build tag makes blas64/blas32 use OpenBLAS.
+	// The build's BLAS (OpenBLAS with the openblas tag) for what gorgonia
+	// computes itself; the ops' products are internal/gemm's (gemm.go).
 	_ "github.com/skein-neuro/skein/internal/blas"
 )
 
@@ -29,6 +30,7 @@ type options struct {
 	leaky       bool    // the output goes through a leaky rectifier
 	slope       float64 // of the leaky rectifier
 	nodeMajor   bool    // E2E output, E2N input laid out (B, p, C, p)
+	unread      bool    // E2E: the output is not stored (OutputUnread)
 	pool        *parallel.Pool
 }
 
@@ -58,6 +60,17 @@ func WithLeakyReLU(slope float64) Option {
 // stand between them. Only E2E and E2N accept it.
 func NodeMajor() Option { return func(o *options) { o.nodeMajor = true } }
 
+// OutputUnread tells a node-major E2E that its output is read by
+// node-major E2Ns alone, which make the values they need again from the
+// E2E's terms (as they do whenever their input is a node-major E2E's
+// output) a block at a time: the E2E then does not store its output,
+// which saves writing the batch-sized tensor, and the value of its node
+// is a buffer of unspecified contents. An E2N built on the output of an
+// E2E with OutputUnread that cannot make it again is an error; any
+// other op reading it would read garbage. Only E2E accepts it, with
+// NodeMajor.
+func OutputUnread() Option { return func(o *options) { o.unread = true } }
+
 // collect applies opts for the op called name; leakyOK says whether it
 // accepts WithLeakyReLU, nodeMajorOK whether it accepts NodeMajor.
 func collect(name string, opts []Option, leakyOK, nodeMajorOK bool) (options, error) {
@@ -67,6 +80,9 @@ func collect(name string, opts []Option, leakyOK, nodeMajorOK bool) (options, er
 	}
 	if o.nodeMajor && !nodeMajorOK {
 		return o, fmt.Errorf("ops: %s does not accept NodeMajor", name)
+	}
+	if o.unread && (name != "E2E" || !o.nodeMajor) {
+		return o, fmt.Errorf("ops: %s does not accept OutputUnread (only a node-major E2E does)", name)
 	}
 	if o.leaky {
 		if !leakyOK {

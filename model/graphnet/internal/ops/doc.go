@@ -9,20 +9,18 @@
 // Each function returns a node of the caller's expression graph; each op
 // is differentiable by gorgonia's symbolic differentiation (gorgonia.Grad),
 // and its backward pass is built from ops of this package too. Forward and
-// backward passes are a few matrix products (package internal/gemm's in
-// the pure-Go build, OpenBLAS's through blas64/blas32 with the openblas
-// build tag of package internal/blas) and
-// branch-free element loops. All ops accept float32 and float64 tensors.
+// backward passes are a few matrix products (package internal/gemm's, in
+// every build: on these shapes it is as fast as OpenBLAS and needs no cgo
+// call) and branch-free element loops. All ops accept float32 and float64 tensors.
 //
 // Parallelism: with WithPool, an op runs its matrix products tile by tile
 // and its element loops sample by sample (or in fixed ranges) as the
 // chunks of a task on an internal/parallel.Pool. Tiles and chunks are
 // fixed by the shapes, never by the number of goroutines, so results are
-// the same whatever the pool. Tiles are few and large; in the pure-Go
-// build each is computed by internal/gemm's Serial on the calling
-// goroutine (a larger product through blas32 or blas64 would start
-// goroutines of its own, which allocate), and OpenBLAS should be left
-// single-threaded.
+// the same whatever the pool. Tiles are few and large; each is computed
+// by internal/gemm's Serial on the calling goroutine (a larger product
+// through blas32 or blas64 would start goroutines of its own, which
+// allocate).
 //
 // Buffers: every op allocates its output (and its scratch space) at its
 // first run and writes into the same buffers at every later run, so that

@@ -98,7 +98,30 @@ func E2N(x, w, b *gorgonia.Node, opts ...Option) (*gorgonia.Node, error) {
 		termShape: tensor.Shape{O, B, P},
 	}
 	op.rows = newRowCache(op.dims)
+	op.from = e2eSource(x, op.dims)
+	if e, ok := x.Op().(*e2eOp); ok && e.opts.unread && op.from == nil {
+		return nil, fmt.Errorf("ops: E2N: x is the output of an E2E with OutputUnread, which only a node-major E2N of its shape may read")
+	}
+	if op.from != nil {
+		_, tn := tileSizes(O, B*P)
+		op.scratchShape = tensor.Shape{ceilDiv(B*P, tn), regenBlock, tn}
+	}
 	return gorgonia.ApplyOp(op, x, w, b)
+}
+
+// e2eSource returns what the node-major E2N input x of dims d is made
+// from when x is the output of a node-major E2E (and not of an op
+// between them), nil otherwise.
+func e2eSource(x *gorgonia.Node, d filterDims) *e2eOutput {
+	e, ok := x.Op().(*e2eOp)
+	if !ok || !d.inNodeMajor || !e.dims.outNodeMajor || e.dims.O != d.C || e.dims.P != d.P || e.dims.B != d.B {
+		return nil
+	}
+	from := &e2eOutput{terms: e.terms, f: [2]float64{1, 1}}
+	if e.opts.leaky {
+		from.f = [2]float64{1, e.opts.slope}
+	}
+	return from
 }
 
 // filterDims are the sizes of a filter (B samples, C input channels,
@@ -331,7 +354,9 @@ func e2eForward[T float](ts *tasks, d filterDims, opt options, cache *rowCache, 
 	if opt.leaky {
 		f = leakyFactors[T](opt.slope)
 	}
-	forEach(ts, d.B, d, f, kE2ESum, rc, h)
+	if !opt.unread {
+		forEach(ts, d.B, d, f, kE2ESum, rc, h)
+	}
 }
 
 // preActivations returns the terms (2, O, B, p) of an E2E's forward pass
@@ -543,12 +568,24 @@ type e2nOp struct {
 	rows      *rowCache // shared with the backward op of W
 	term      buffer    // the row term, (O, B, p)
 	termShape tensor.Shape
+	// from makes x again (regenRowTerm), when x is a node-major E2E's
+	// output; scratch holds a block of it for each chunk.
+	from         *e2eOutput
+	scratch      buffer
+	scratchShape tensor.Shape
 }
 
 // e2nForward computes the row term into t (O, B, p), then
 // N[n,o,i] = R[o,n,i] + b[o].
-func e2nForward[T float](ts *tasks, d filterDims, cache *rowCache, x, w, b, t, out []T) {
-	rowTerm(ts, d, fillRows(ts, d, cache, x), w, t)
+func e2nForward[T float](op *e2nOp, x, w, b, t, out []T) error {
+	ts, d := &op.ts, op.dims
+	if op.from != nil {
+		if err := regenRowTerm(ts, d, op.from, &op.scratch, op.scratchShape, w, t); err != nil {
+			return err
+		}
+	} else {
+		rowTerm(ts, d, fillRows(ts, d, op.rows, x), w, t)
+	}
 	B, O, P := d.B, d.O, d.P
 	for n := 0; n < B; n++ {
 		for o, bo := range b[:O] {
@@ -558,6 +595,7 @@ func e2nForward[T float](ts *tasks, d filterDims, cache *rowCache, x, w, b, t, o
 			}
 		}
 	}
+	return nil
 }
 
 func (op *e2nOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
@@ -567,9 +605,12 @@ func (op *e2nOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 	}
 	t := op.term.get(dt, op.termShape)
 	if dt == tensor.Float64 {
-		e2nForward(&op.ts, op.dims, op.rows, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](t), slice[float64](out))
+		err = e2nForward(op, slice[float64](in[0]), slice[float64](in[1]), slice[float64](in[2]), slice[float64](t), slice[float64](out))
 	} else {
-		e2nForward(&op.ts, op.dims, op.rows, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](t), slice[float32](out))
+		err = e2nForward(op, slice[float32](in[0]), slice[float32](in[1]), slice[float32](in[2]), slice[float32](t), slice[float32](out))
+	}
+	if err != nil {
+		return nil, fmt.Errorf("%v: %w", op, err)
 	}
 	return out, nil
 }
@@ -599,6 +640,13 @@ func (op *e2nOp) SymDiff(inputs gorgonia.Nodes, output, grad *gorgonia.Node) (go
 		}
 	}
 	gw := &gradWOp{base: op.derive("E2NGradW", []tensor.Shape{op.termShape, op.in[0]}, op.in[1]), dims: d, rows: op.rows}
+	if op.from != nil {
+		// x is the output of a node-major E2E: its values are made
+		// again from the E2E's terms, a block at a time, rather than
+		// read back from the batch-sized tensor (see regenGradW).
+		_, tn := tileSizes(d.O, d.C*d.P)
+		gw.from, gw.scratchShape = op.from, tensor.Shape{ceilDiv(d.C*d.P, tn), regenBlock, tn}
+	}
 	if grads[1], err = gorgonia.ApplyOp(gw, g, x); err != nil {
 		return nil, err
 	}
@@ -822,6 +870,27 @@ type gradWOp struct {
 	off  int
 	col  bool
 	rows *rowCache
+	// from makes x again (regenGradW), when x is a node-major E2E's
+	// output; scratch holds a block of it for each chunk.
+	from         *e2eOutput
+	scratch      buffer
+	scratchShape tensor.Shape
+}
+
+// e2eOutput is what an E2E's output is made from: the terms its forward
+// pass kept, (2, O, B, p), and the factors of its rectifier ({1, 1}
+// without one, which leaves every value as it is).
+type e2eOutput struct {
+	terms *buffer
+	f     [2]float64
+}
+
+// check returns the terms, or an error when the E2E has not run.
+func (e *e2eOutput) check(dt tensor.Dtype, d filterDims) (*tensor.Dense, error) {
+	if e.terms.t == nil || e.terms.t.Dtype() != dt || e.terms.t.Shape().TotalSize() != 2*d.C*d.B*d.P {
+		return nil, fmt.Errorf("ops: an E2N run before the E2E whose output it reads")
+	}
+	return e.terms.t, nil
 }
 
 func gradW[T float](op *gradWOp, in []*tensor.Dense, out *tensor.Dense) error {
@@ -829,6 +898,9 @@ func gradW[T float](op *gradWOp, in []*tensor.Dense, out *tensor.Dense) error {
 	if op.col {
 		colGradW(&op.ts, op.dims, g, x, dw)
 		return nil
+	}
+	if op.from != nil {
+		return regenGradW(&op.ts, op.dims, op.from, &op.scratch, op.scratchShape, g, dw)
 	}
 	xr, err := rows(op.dims, op.rows, x)
 	if err != nil {
@@ -860,4 +932,113 @@ func (op *biasGradOp) Do(vals ...gorgonia.Value) (gorgonia.Value, error) {
 		biasGrad(op.dims, slice[float32](in[0]), slice[float32](out))
 	}
 	return out, nil
+}
+
+// regenBlock is the number of rows of Xrow (steps of the sum over samples
+// and nodes) that regenGradW makes at a time: the blocking along k of
+// internal/gemm's kernels, so that the blocks' products add up to the
+// bits of one product over all the rows.
+const regenBlock = 256
+
+// regenGradW sets dW = G·Xrow (G the (O, B·p) gradient of the E2N's row
+// term, Xrow = H' (B·p, C·p) the node-major output of the E2E before it)
+// without reading H': one chunk per tile of columns of dW, each making
+// the values of H' it needs, regenBlock rows at a time, from the E2E's
+// terms (H'[n,i,c,k] = f[s]·(R'[c,n,i] + Cc[c,n,k]), s the sign bit, as
+// the E2E's forward pass made them, so the same bits) into a block of
+// scratch space that stays in the core's cache while internal/gemm packs
+// it. The batch-sized H' would otherwise be read back from memory.
+func regenGradW[T float](ts *tasks, d filterDims, from *e2eOutput, buf *buffer, shape tensor.Shape, g, dw []T) error {
+	terms, err := from.check(dtypeOf[T](), d)
+	if err != nil {
+		return err
+	}
+	chunks, tn := shape[0], shape[2]
+	scratch := slice[T](buf.get(dtypeOf[T](), shape))
+	f := [2]T{T(from.f[0]), T(from.f[1])}
+	l := forEachSetup(ts, d, f, kRegenGradW, g, dw, slice[T](terms), scratch)
+	l.inner = tn
+	ts.pool.Run(l, chunks)
+	l.clear()
+	return nil
+}
+
+// regenGradWOf does the columns tn·t… of dW (tn = l.inner): s = g, dw,
+// terms, scratch.
+func regenGradWOf[T float](l *loop[T], t int) {
+	g, dw, terms, scratch := l.s[0], l.s[1], l.s[2], l.s[3]
+	d, tn := l.d, l.inner
+	B, C, O, P := d.B, d.C, d.O, d.P
+	BP, CP := B*P, C*P
+	j0 := t * tn
+	w := min(tn, CP-j0)
+	block := scratch[t*regenBlock*tn:][:regenBlock*tn]
+	cols := terms[C*BP:] // Cc, (C, B, p)
+	for k0 := 0; k0 < BP; k0 += regenBlock {
+		kb := min(regenBlock, BP-k0)
+		for s := range kb {
+			n, i := (k0+s)/P, (k0+s)%P
+			row := block[s*w:][:w]
+			for j := j0; j < j0+w; {
+				c, k := j/P, j%P
+				seg := min(P-k, j0+w-j)
+				at := (c*B + n) * P
+				vec.LeakyRow(row[j-j0:][:seg], cols[at+k:][:seg], terms[at+i], l.f)
+				j += seg
+			}
+		}
+		serialGemm(false, false, O, w, kb, 1, g[k0:], BP, block, w, betaFor[T](k0 == 0), dw[j0:], CP)
+	}
+}
+
+// regenRowTerm sets the (O, B, p) row term R = W·Xrowᵀ of a node-major E2N
+// (W (O, C·p), Xrow = H' (B·p, C·p) the output of the E2E before it)
+// without reading H': one chunk per tile of columns of R (rows (n, i) of
+// H'), each making Xrowᵀ regenBlock rows (values (c, k)) at a time from the
+// E2E's terms, H'[n,i,c,k] = f[s]·(Cc[c,n,k] + R'[c,n,i]) (the sum the
+// E2E's forward pass made, its terms swapped: the same bits), into
+// scratch space that stays in the core's cache, and multiplying. The
+// blocks follow internal/gemm's blocking along k, so R has the bits of
+// W·Xrowᵀ in one product.
+func regenRowTerm[T float](ts *tasks, d filterDims, from *e2eOutput, buf *buffer, shape tensor.Shape, w, r []T) error {
+	terms, err := from.check(dtypeOf[T](), d)
+	if err != nil {
+		return err
+	}
+	chunks, tn := shape[0], shape[2]
+	scratch := slice[T](buf.get(dtypeOf[T](), shape))
+	f := [2]T{T(from.f[0]), T(from.f[1])}
+	l := forEachSetup(ts, d, f, kRegenRowTerm, w, r, slice[T](terms), scratch)
+	l.inner = tn
+	ts.pool.Run(l, chunks)
+	l.clear()
+	return nil
+}
+
+// regenRowTermOf does the columns tn·t… of R (tn = l.inner): s = w, r,
+// terms, scratch.
+func regenRowTermOf[T float](l *loop[T], t int) {
+	w, r, terms, scratch := l.s[0], l.s[1], l.s[2], l.s[3]
+	d, tn := l.d, l.inner
+	B, C, O, P := d.B, d.C, d.O, d.P
+	BP, CP := B*P, C*P
+	q0 := t * tn
+	wd := min(tn, BP-q0)
+	block := scratch[t*regenBlock*tn:][:regenBlock*tn]
+	cols := terms[C*BP:] // Cc, (C, B, p)
+	for k0 := 0; k0 < CP; k0 += regenBlock {
+		kb := min(regenBlock, CP-k0)
+		for s := range kb {
+			c, k := (k0+s)/P, (k0+s)%P
+			row := block[s*wd:][:wd]
+			for q := q0; q < q0+wd; {
+				n, i := q/P, q%P
+				seg := min(P-i, q0+wd-q)
+				at := (c*B + n) * P
+				vec.LeakyRow(row[q-q0:][:seg], terms[at+i:][:seg], cols[at+k], l.f)
+				q += seg
+			}
+		}
+		serialGemm(false, false, O, wd, kb, 1, w[k0:], CP, block, wd, betaFor[T](k0 == 0), r[q0:], BP)
+	}
 }

@@ -125,6 +125,8 @@ const (
 	kE2NSums
 	kEdgeDense
 	kEdgeDenseGradX
+	kRegenGradW
+	kRegenRowTerm
 )
 
 // Chunk runs unit i.
@@ -158,6 +160,10 @@ func (l *loop[T]) Chunk(i int) {
 		edgeDenseOf(l, i)
 	case kEdgeDenseGradX:
 		edgeDenseGradXOf(l, i)
+	case kRegenGradW:
+		regenGradWOf(l, i)
+	case kRegenRowTerm:
+		regenRowTermOf(l, i)
 	default:
 		panic("ops: unknown loop kernel")
 	}

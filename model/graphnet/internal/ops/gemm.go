@@ -1,14 +1,15 @@
-//go:build !openblas
-
 package ops
 
 import "github.com/skein-neuro/skein/internal/gemm"
 
 // gemmTile computes one tile of a product on the calling goroutine with
-// the pure-Go BLAS of package internal/gemm (the products the pure-Go
-// build installs in blas32 and blas64; its Serial never starts goroutines
-// of its own, so the op's pool alone decides the parallelism and a tile
-// allocates nothing).
+// the pure-Go BLAS of package internal/gemm, in every build: on the
+// network's shapes (a few hundred to a few thousand along each side) it
+// is as fast as OpenBLAS, its Serial never starts goroutines of its own,
+// so the op's pool alone decides the parallelism, and a tile allocates
+// nothing (a cgo call to OpenBLAS costs a switch of stacks per tile, and
+// OpenBLAS's single-threaded products left both builds slower than the
+// pure-Go one).
 func gemmTile[T float](tA, tB bool, m, n, k int, alpha T, a []T, lda int, b []T, ldb int, beta T, c []T, ldc int) {
 	if m == 0 || n == 0 {
 		return
