@@ -361,7 +361,7 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	prep := &Pipeline{}
 	if h := exp.CV.Harmonize; h != nil {
 		first := cohort.Participants[0]
-		prep.Steps = append(prep.Steps, &Harmonizer{Functional: first.Functional != nil, Structural: first.Structural != nil,
+		prep.Steps = append(prep.Steps, &Harmonizer{Functional: first.HasFunctional(), Structural: first.HasStructural(),
 			Covariates: h.Preserve, Method: h.Method, Unseen: h.UnseenSite, SiteColumn: cohort.SiteColumn})
 	}
 	tp := &TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}
