@@ -64,3 +64,28 @@ func subset2(d model.Dataset, lo, hi int) model.Dataset {
 	_, t := d.Y.Dims()
 	return model.Dataset{Participants: d.Participants[lo:hi], Y: mat.DenseCopyOf(d.Y.Slice(lo, hi, 0, t))}
 }
+
+// TestPredictRowsBlocked: predicting a block of rows at a time gives the
+// product of the whole edge matrix with the weights, entry for entry
+// (each entry is the same dot product; in the pure-Go build bit for bit,
+// in the OpenBLAS build to rounding).
+func TestPredictRowsBlocked(t *testing.T) {
+	d := randomCohort(3, 23, 8, 1)
+	x, _, err := newEdgeRows(d.Participants, InputBoth, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := mat.NewDense(x.width(), 3, nil)
+	for i := range w.RawMatrix().Data {
+		w.RawMatrix().Data[i] = math.Sin(float64(i))
+	}
+	var whole mat.Dense
+	whole.Mul(x.matrix(), w)
+	for _, limit := range []int{0, 8 * x.width() * 5, 1 << 30} {
+		var got mat.Dense
+		predictRows(&got, x, w, limit)
+		if !mat.EqualApprox(&got, &whole, 1e-12) {
+			t.Errorf("limit %d bytes: predictions differ from the whole product", limit)
+		}
+	}
+}
