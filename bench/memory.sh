@@ -55,7 +55,7 @@ fi
 
 echo "load before: $(uptime)"
 awk -v n="$N" -v p="$P" 'BEGIN {
-  printf "cohort: N = %d, p = %d (%d edges); float64 matrices %.0f MiB, float32 store %.0f MiB\n",
+  printf "cohort: N = %d, p = %d (%d edges); float64 matrices %.1f MiB, float32 store %.1f MiB\n",
     n, p, p*(p-1)/2, n*p*p*8/2^20, n*p*(p+1)/2*4/2^20 }'
 for storage in $STORAGE; do
   cat >"$work/$storage.toml" <<TOML
