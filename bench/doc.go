@@ -17,6 +17,11 @@
 //     leave-one-out, a 1000-permutation test) in both builds beside
 //     scale_sklearn.py (scikit-learn's GridSearchCV and RidgeCV) on one
 //     invented cohort, with peak memory;
+//   - memory.sh prints the peak RSS of a ridge run against the size of the
+//     cohort's matrices, for each cohort.storage ("float64", "float32"),
+//     on a cohort from skein synth or, for N in the thousands and p in
+//     the hundreds, from memory_cohort.py (float32 .npy files written one
+//     at a time);
 //   - cmd/refnet is the driver of compare.sh, parallel.sh and scaling.sh;
 //   - BenchmarkRidgePermutation times the permutation test of a
 //     cross-validated ridge at N = 275, p = 268.

@@ -20,6 +20,12 @@ type Participant struct {
 	// (for example log1p and scaling); nil when the cohort has no structural
 	// modality.
 	Structural *mat.Dense
+	// Compact holds the preprocessed matrices as float32 upper triangles
+	// when the cohort was checked with cohort.storage = "float32"; then
+	// Functional and Structural are nil. It is nil otherwise. Read a
+	// matrix whichever way it is stored with FunctionalMatrix and
+	// StructuralMatrix.
+	Compact *Compact
 	// Scores holds one value per Cohort.Targets entry, NaN where missing.
 	Scores []float64
 	// Covariates holds one value per Cohort.Covariates entry, NaN where

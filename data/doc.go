@@ -13,6 +13,11 @@
 // data/connectivity); an estimator that learns from the cohort (the
 // tangent space) is left to the fold's preparation (Cohort.Series).
 //
+// A cohort's matrices are kept as p × p float64 matrices, or, with
+// cohort.storage = "float32" (Source.Storage), as float32 upper triangles
+// (Compact) read through Participant.FunctionalMatrix and
+// StructuralMatrix.
+//
 // data is the bottom of skein's layers: it imports no other skein package
 // but its own data/connectivity and internal helpers.
 package data

@@ -126,6 +126,40 @@ type loader struct {
 	p         int      // number of regions; 0 until known
 	pSrc      string   // the file that set p
 	files     []FileDigest
+	store     *compactStore // with cohort.storage = "float32"; nil until the first participant
+}
+
+// compact moves p's checked and preprocessed matrices into the cohort's
+// compact store (cohort.storage = "float32") and drops the float64 ones.
+// rows bounds the number of participants still to come, this one
+// included.
+func (l *loader) compact(p *Participant, rows int) {
+	var n int
+	if p.Functional != nil {
+		n, _ = p.Functional.Dims()
+	} else if p.Structural != nil {
+		n, _ = p.Structural.Dims()
+	} else {
+		return
+	}
+	if l.store == nil || l.store.size != PackedLen(n) {
+		l.store = &compactStore{size: PackedLen(n)}
+	}
+	l.store.left = rows
+	if p.Functional != nil && p.Structural != nil {
+		l.store.left = 2 * rows
+	}
+	p.Compact = &Compact{P: n}
+	if p.Functional != nil {
+		p.Compact.Functional = l.store.next()
+		Pack(p.Compact.Functional, p.Functional)
+		p.Functional = nil
+	}
+	if p.Structural != nil {
+		p.Compact.Structural = l.store.next()
+		Pack(p.Compact.Structural, p.Structural)
+		p.Structural = nil
+	}
 }
 
 // read reads the regular file at path (readRegular) and records its
@@ -242,7 +276,7 @@ func (l *loader) load() (*Cohort, *Report, error) {
 	c := &Cohort{Targets: l.src.Targets, Covariates: l.src.Covariates, SiteColumn: l.src.Site}
 	var kept []*Participant
 	var keptRows []tableRow
-	for _, r := range rows {
+	for ri, r := range rows {
 		if reason, ok := l.src.Exclude[r.id]; ok {
 			c.Excluded = append(c.Excluded, Exclusion{ID: r.id, Reason: "excluded in the experiment file (cohort.exclude): " + reason})
 			continue
@@ -304,6 +338,9 @@ func (l *loader) load() (*Cohort, *Report, error) {
 		if len(failed) > 0 {
 			c.Excluded = append(c.Excluded, Exclusion{ID: r.id, Reason: fmt.Sprintf("failed a check (cohort.on_bad_participant = %q): %s", BadParticipantExclude, strings.Join(failed, "; "))})
 			continue
+		}
+		if l.src.Storage == StorageFloat32 {
+			l.compact(p, len(rows)-ri)
 		}
 		for k, m := range mods {
 			m.means = append(m.means, means[k])

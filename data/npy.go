@@ -5,6 +5,7 @@ import (
 	"encoding/binary"
 	"errors"
 	"fmt"
+	"math"
 	"strings"
 
 	"codeberg.org/sbinet/npyio"
@@ -58,19 +59,21 @@ func decodeNPY(path string, raw []byte) (arr *array, err error) {
 	if n*esize != rd.Len() {
 		return nil, &FileError{Path: path, Err: fmt.Errorf("shape %v of %s needs %d data bytes, found %d", shape, kind, n*esize, rd.Len())}
 	}
+	// The data are decoded straight from the file's bytes into the
+	// float64 array, without an intermediate copy in the file's type.
 	data := make([]float64, n)
-	if n > 0 {
-		if kind == "float32" {
-			f32 := make([]float32, n)
-			err = r.Read(&f32)
-			for i, v := range f32 {
-				data[i] = float64(v)
-			}
-		} else {
-			err = r.Read(&data)
+	body := raw[len(raw)-rd.Len():]
+	var order binary.ByteOrder = binary.LittleEndian
+	if descr[0] == '>' {
+		order = binary.BigEndian
+	}
+	if kind == "float32" {
+		for i := range data {
+			data[i] = float64(math.Float32frombits(order.Uint32(body[4*i:])))
 		}
-		if err != nil {
-			return nil, &FileError{Path: path, Err: fmt.Errorf("reading the data: %w", err)}
+	} else {
+		for i := range data {
+			data[i] = math.Float64frombits(order.Uint64(body[8*i:]))
 		}
 	}
 	if r.Header.Descr.Fortran && len(shape) > 1 {

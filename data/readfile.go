@@ -50,9 +50,23 @@ func readRegular(path string, limit int64) ([]byte, error) {
 		return nil, err
 	}
 	defer f.Close()
-	raw, err := io.ReadAll(io.LimitReader(f, limit+1))
-	if err != nil {
-		return nil, &FileError{Path: path, Err: err}
+	// One buffer of the size the file had, with a byte to spare to see it
+	// grow, read into as os.ReadFile does: io.ReadAll's doubling would
+	// leave about as much garbage as the file holds.
+	raw := make([]byte, 0, min(info.Size(), limit)+1)
+	lr := io.LimitReader(f, limit+1)
+	for {
+		n, err := lr.Read(raw[len(raw):cap(raw)])
+		raw = raw[:len(raw)+n]
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return nil, &FileError{Path: path, Err: err}
+		}
+		if len(raw) == cap(raw) {
+			raw = append(raw, 0)[:len(raw)]
+		}
 	}
 	if int64(len(raw)) > limit {
 		return nil, &FileError{Path: path, Err: fmt.Errorf("file grew past %d bytes while it was read", limit)}

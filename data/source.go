@@ -120,6 +120,12 @@ type Source struct {
 	// participant out with the failed check as the reason. Problems of
 	// the participants table or of a whole stack are always errors.
 	OnBadParticipant BadParticipantPolicy `toml:"on_bad_participant"`
+	// Storage says how the preprocessed matrices are kept in memory:
+	// "float64" (default: each p × p matrix whole, Participant.Functional
+	// and Structural) or "float32" (the upper triangle and diagonal in
+	// float32, Participant.Compact: a little over a quarter of the
+	// memory, results changed by rounding only; see StorageFloat32).
+	Storage Storage `toml:"storage"`
 	// Functional locates the functional connectomes ([cohort.functional]).
 	Functional *Modality `toml:"functional"`
 	// Structural locates the structural connectomes ([cohort.structural]).
@@ -298,6 +304,9 @@ func (s *Source) SetDefaults() {
 	if s.OnBadParticipant == "" {
 		s.OnBadParticipant = BadParticipantError
 	}
+	if s.Storage == "" {
+		s.Storage = StorageFloat64
+	}
 	for _, m := range []*Modality{s.Functional, s.Structural} {
 		if m != nil && m.SymmetryTolerance == nil {
 			tol := DefaultSymmetryTolerance
@@ -383,6 +392,9 @@ func (s Source) validate(needTargets bool) error {
 	}
 	if err := enum.Check(s.OnBadParticipant); err != nil {
 		return fmt.Errorf("cohort.on_bad_participant: %w", err)
+	}
+	if err := enum.Check(s.Storage); err != nil {
+		return fmt.Errorf("cohort.storage: %w", err)
 	}
 	for _, id := range slices.Sorted(maps.Keys(s.Exclude)) {
 		if strings.TrimSpace(s.Exclude[id]) == "" {

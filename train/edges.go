@@ -75,11 +75,11 @@ type modality struct {
 func (e *EdgeScaler) modalities() []modality {
 	var ms []modality
 	if e.Functional {
-		ms = append(ms, modality{"functional", func(p *data.Participant) *mat.Dense { return p.Functional },
+		ms = append(ms, modality{"functional", (*data.Participant).FunctionalMatrix,
 			func(p *data.Participant, m *mat.Dense) { p.Functional = m }, &e.FunctionalMean, &e.FunctionalSD})
 	}
 	if e.Structural {
-		ms = append(ms, modality{"structural", func(p *data.Participant) *mat.Dense { return p.Structural },
+		ms = append(ms, modality{"structural", (*data.Participant).StructuralMatrix,
 			func(p *data.Participant, m *mat.Dense) { p.Structural = m }, &e.StructuralMean, &e.StructuralSD})
 	}
 	return ms

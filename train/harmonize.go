@@ -108,11 +108,11 @@ type harmonized struct {
 func (h *Harmonizer) modalities() []harmonized {
 	var ms []harmonized
 	if h.Functional {
-		ms = append(ms, harmonized{"functional", func(p *data.Participant) *mat.Dense { return p.Functional },
+		ms = append(ms, harmonized{"functional", (*data.Participant).FunctionalMatrix,
 			func(p *data.Participant, m *mat.Dense) { p.Functional = m }, &h.FunctionalFit})
 	}
 	if h.Structural {
-		ms = append(ms, harmonized{"structural", func(p *data.Participant) *mat.Dense { return p.Structural },
+		ms = append(ms, harmonized{"structural", (*data.Participant).StructuralMatrix,
 			func(p *data.Participant, m *mat.Dense) { p.Structural = m }, &h.StructuralFit})
 	}
 	return ms

@@ -12,6 +12,7 @@ import (
 	"slices"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"time"
 
 	"gonum.org/v1/gonum/mat"
@@ -235,12 +236,6 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 			return nil, err
 		}
 	}
-	folds := make([]*foldData, len(splits))
-	for s, split := range splits {
-		if folds[s], err = prepareFold(exp, cohort, split, max(1, r.prepBlocks)); err != nil {
-			return nil, fmt.Errorf("repeat %d, fold %d: %w", split.Repeat+1, split.Fold+1, err)
-		}
-	}
 
 	res := &Result{Splits: splits, Histories: make(map[Unit][]model.Epoch), Importance: make(map[Unit][]*mat.Dense), LabelImportance: make(map[Unit][]LabelMap),
 		Choices: make(map[Unit][][]model.Choice), InnerLoss: make(map[Unit][]float64), LabelLoss: make(map[Unit][]float64)}
@@ -259,6 +254,14 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 		if err := r.checkCheckpoints(all, res.Units); err != nil {
 			return nil, err
 		}
+	}
+	// Each split's preparation is made when its first unit starts and
+	// dropped when its last unit ends, so that a run holds the prepared
+	// folds of the units in progress (their scores, a permutation test's
+	// thousands of columns among them), not those of every split.
+	folds := make([]lazyFold, len(splits))
+	for _, unit := range res.Units {
+		folds[unit.Split].pending.Add(1)
 	}
 	jobs := r.Jobs
 	if jobs <= 0 {
@@ -293,7 +296,18 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 			for u := range work {
 				unit := res.Units[u]
 				cfg := exp.Models[unit.Model]
-				out, resumed, err := r.runUnit(ctx, unit, cfg, folds[unit.Split], newModel, emit)
+				fd, err := folds[unit.Split].get(exp, cohort, splits[unit.Split], max(1, r.prepBlocks))
+				if err != nil {
+					mu.Lock()
+					if firstErr == nil {
+						firstErr = fmt.Errorf("repeat %d, fold %d: %w", unit.Repeat+1, unit.Fold+1, err)
+						cancel()
+					}
+					mu.Unlock()
+					continue
+				}
+				out, resumed, err := r.runUnit(ctx, unit, cfg, fd, newModel, emit)
+				folds[unit.Split].done()
 				if err != nil {
 					mu.Lock()
 					if firstErr == nil {
@@ -393,6 +407,29 @@ type foldData struct {
 	edges, scaler *EdgeScaler
 }
 
+// lazyFold is one split's foldData, prepared by the first of its units
+// to ask for it (get) and dropped when the last has finished (done).
+type lazyFold struct {
+	once    sync.Once
+	fd      *foldData
+	err     error
+	pending atomic.Int32 // units of the split not yet finished
+}
+
+// get returns the split's prepared fold, preparing it on the first call.
+func (f *lazyFold) get(exp *Design, cohort *data.Cohort, split Split, blocks int) (*foldData, error) {
+	f.once.Do(func() { f.fd, f.err = prepareFold(exp, cohort, split, blocks) })
+	return f.fd, f.err
+}
+
+// done records that one unit of the split has finished with the fold; the
+// last drops it.
+func (f *lazyFold) done() {
+	if f.pending.Add(-1) == 0 {
+		f.fd = nil
+	}
+}
+
 // prepareFold fits the fold's preparation on the training participants
 // of split, in blocks blocks (FitTargetPrepBlocks), applies it to the
 // training part, its inner validation part and the test fold, and
@@ -410,7 +447,7 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	prep := &Pipeline{}
 	if h := exp.CV.Harmonize; h != nil {
 		first := cohort.Participants[0]
-		prep.Steps = append(prep.Steps, &Harmonizer{Functional: first.Functional != nil, Structural: first.Structural != nil,
+		prep.Steps = append(prep.Steps, &Harmonizer{Functional: first.HasFunctional(), Structural: first.HasStructural(),
 			Covariates: h.Preserve, Method: h.Method, Unseen: h.UnseenSite, SiteColumn: cohort.SiteColumn})
 	}
 	// The scores' preparation (confound regression, standardization) is

@@ -82,13 +82,14 @@ func (s *TangentSpace) covariances(c *data.Cohort) ([]mat.Symmetric, error) {
 	}
 	covs := make([]mat.Symmetric, len(c.Participants))
 	for i, pt := range c.Participants {
-		if pt.Functional == nil {
+		f := pt.FunctionalMatrix()
+		if f == nil {
 			return nil, fmt.Errorf("participant %s has no functional covariance", pt.ID)
 		}
-		if r, cc := pt.Functional.Dims(); r != s.P || cc != s.P {
+		if r, cc := f.Dims(); r != s.P || cc != s.P {
 			return nil, fmt.Errorf("participant %s: the functional covariance is %d × %d, want %d × %d", pt.ID, r, cc, s.P, s.P)
 		}
-		covs[i] = symmetric(pt.Functional)
+		covs[i] = symmetric(f)
 	}
 	return covs, nil
 }

@@ -487,12 +487,15 @@ func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.P
 		}
 		return nil
 	}
+	// A compact participant (cohort.storage = "float32") has its
+	// matrices widened to float64 here, once per dataset.
+	fm, sm := pt.FunctionalMatrix(), pt.StructuralMatrix()
 	var op *mat.Dense
 	if kind != "" {
-		if err := check(pt.Structural, "structural"); err != nil {
+		if err := check(sm, "structural"); err != nil {
 			return nil, nil, fmt.Errorf("operator %q: %w", kind, err)
 		}
-		if op, err = data.Operator(kind, pt.Structural); err != nil {
+		if op, err = data.Operator(kind, sm); err != nil {
 			return nil, nil, fmt.Errorf("operator %q: %w", kind, err)
 		}
 		s = flatView(op)
@@ -505,34 +508,34 @@ func (n *Network) branchInput(b BranchConfig, kind data.OperatorKind, pt *data.P
 		var m *mat.Dense
 		switch view {
 		case InputStructural:
-			if err := check(pt.Structural, "structural"); err != nil {
+			if err := check(sm, "structural"); err != nil {
 				return nil, nil, err
 			}
-			m = pt.Structural
+			m = sm
 		case InputFunctional:
-			if err := check(pt.Functional, "functional"); err != nil {
+			if err := check(fm, "functional"); err != nil {
 				return nil, nil, err
 			}
-			m = pt.Functional
+			m = fm
 		case InputPropagated:
-			if err := check(pt.Functional, "functional"); err != nil {
+			if err := check(fm, "functional"); err != nil {
 				return nil, nil, err
 			}
 			var sf mat.Dense
-			sf.Mul(op, pt.Functional)
+			sf.Mul(op, fm)
 			if b.Propagate == PropagateBoth {
 				sf.Mul(&sf, op.T())
 			}
 			m = &sf
 		case InputProduct:
-			if err := check(pt.Functional, "functional"); err != nil {
+			if err := check(fm, "functional"); err != nil {
 				return nil, nil, err
 			}
-			if err := check(pt.Structural, "structural"); err != nil {
+			if err := check(sm, "structural"); err != nil {
 				return nil, nil, err
 			}
 			var fs mat.Dense
-			fs.MulElem(pt.Functional, pt.Structural)
+			fs.MulElem(fm, sm)
 			m = &fs
 		}
 		v := flatView(m)

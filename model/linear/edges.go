@@ -74,12 +74,56 @@ func (m denseRows) width() int          { _, d := m.Dims(); return d }
 
 // edgeRows reads participants' edge vectors (the rows of edgeMatrix)
 // from their matrices as they are asked for, so that a model need not hold
-// a second copy of the cohort.
+// a second copy of the cohort. A participant's matrix is read whole
+// (Participant.Functional, Structural) or, when the cohort keeps it
+// compact (data.Compact, cohort.storage = "float32"), from its packed
+// upper triangle, widened to float64 row by row.
 type edgeRows struct {
 	ps      []*data.Participant
-	mats    []func(*data.Participant) (*mat.Dense, string)
-	d       int
+	mats    []edgeSource
+	p, d    int
 	scratch []float64
+}
+
+// edgeSource is one modality of a participant as edgeRows reads it.
+type edgeSource struct {
+	name   string
+	dense  func(*data.Participant) *mat.Dense
+	packed func(*data.Compact) []float32
+}
+
+var (
+	functionalSource = edgeSource{"functional",
+		func(q *data.Participant) *mat.Dense { return q.Functional },
+		func(c *data.Compact) []float32 { return c.Functional }}
+	structuralSource = edgeSource{"structural",
+		func(q *data.Participant) *mat.Dense { return q.Structural },
+		func(c *data.Compact) []float32 { return c.Structural }}
+)
+
+// regions returns the number of regions (rows) of q's matrix of source
+// s, and false when q has none.
+func (s edgeSource) regions(q *data.Participant) (int, bool) {
+	if m := s.dense(q); m != nil {
+		r, _ := m.Dims()
+		return r, true
+	}
+	if q.Compact != nil && s.packed(q.Compact) != nil {
+		return q.Compact.P, true
+	}
+	return 0, false
+}
+
+// appendEdges appends q's p(p−1)/2 edges of source s to dst; q's matrix
+// is known to exist and be p × p.
+func (s edgeSource) appendEdges(dst []float64, q *data.Participant, p int) []float64 {
+	if m := s.dense(q); m != nil {
+		return appendEdges(dst, m)
+	}
+	for _, v := range s.packed(q.Compact)[:NumEdges(p)] {
+		dst = append(dst, float64(v))
+	}
+	return dst
 }
 
 // newEdgeRows checks every participant's matrices as edgeMatrix does and
@@ -88,44 +132,46 @@ func newEdgeRows(ps []*data.Participant, input Input, p int) (*edgeRows, int, er
 	if len(ps) == 0 {
 		return nil, p, fmt.Errorf("linear: no participants")
 	}
-	var mats []func(*data.Participant) (*mat.Dense, string)
-	functional := func(q *data.Participant) (*mat.Dense, string) { return q.Functional, "functional" }
-	structural := func(q *data.Participant) (*mat.Dense, string) { return q.Structural, "structural" }
+	var mats []edgeSource
 	switch input {
 	case InputFunctional:
-		mats = append(mats, functional)
+		mats = append(mats, functionalSource)
 	case InputStructural:
-		mats = append(mats, structural)
+		mats = append(mats, structuralSource)
 	case InputBoth:
-		mats = append(mats, functional, structural)
+		mats = append(mats, functionalSource, structuralSource)
 	default:
 		panic(fmt.Sprintf("linear: unknown input %q", input))
 	}
 	if p == 0 {
-		m, name := mats[0](ps[0])
-		if m == nil {
-			return nil, p, fmt.Errorf("participant %q: no %s connectome, but the model's input is %q", ps[0].ID, name, input)
+		n, ok := mats[0].regions(ps[0])
+		if !ok {
+			return nil, p, fmt.Errorf("participant %q: no %s connectome, but the model's input is %q", ps[0].ID, mats[0].name, input)
 		}
-		p, _ = m.Dims()
+		p = n
 	}
 	d := NumEdges(p) * len(mats)
-	src := &edgeRows{ps: ps, mats: mats, d: d, scratch: make([]float64, 0, d)}
+	src := &edgeRows{ps: ps, mats: mats, p: p, d: d, scratch: make([]float64, 0, d)}
 	for _, q := range ps {
 		row := src.scratch[:0]
-		for _, get := range mats {
-			m, name := get(q)
-			if m == nil {
-				return nil, p, fmt.Errorf("participant %q: no %s connectome, but the model's input is %q", q.ID, name, input)
+		for _, s := range mats {
+			n, ok := s.regions(q)
+			if !ok {
+				return nil, p, fmt.Errorf("participant %q: no %s connectome, but the model's input is %q", q.ID, s.name, input)
 			}
-			if r, c := m.Dims(); r != p || c != p {
-				return nil, p, fmt.Errorf("participant %q: %s connectome is %d×%d, want %d×%d like the training participants", q.ID, name, r, c, p, p)
+			r, c := n, n
+			if m := s.dense(q); m != nil {
+				r, c = m.Dims()
+			}
+			if r != p || c != p {
+				return nil, p, fmt.Errorf("participant %q: %s connectome is %d×%d, want %d×%d like the training participants", q.ID, s.name, r, c, p, p)
 			}
 			start := len(row)
-			row = appendEdges(row, m)
+			row = s.appendEdges(row, q, p)
 			for k, v := range row[start:] {
 				if math.IsNaN(v) || math.IsInf(v, 0) {
 					a, b := EdgePair(p, k)
-					return nil, p, fmt.Errorf("participant %q: %s connectome has %v at row %d, column %d", q.ID, name, v, a+1, b+1)
+					return nil, p, fmt.Errorf("participant %q: %s connectome has %v at row %d, column %d", q.ID, s.name, v, a+1, b+1)
 				}
 			}
 		}
@@ -135,9 +181,8 @@ func newEdgeRows(ps []*data.Participant, input Input, p int) (*edgeRows, int, er
 
 func (e *edgeRows) row(i int) []float64 {
 	row := e.scratch[:0]
-	for _, get := range e.mats {
-		m, _ := get(e.ps[i])
-		row = appendEdges(row, m)
+	for _, s := range e.mats {
+		row = s.appendEdges(row, e.ps[i], e.p)
 	}
 	return row
 }

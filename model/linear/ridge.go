@@ -301,29 +301,62 @@ func (r *Ridge) Predict(ps []*data.Participant) (*mat.Dense, error) {
 	if len(ps) == 0 {
 		return nil, errNoParticipants
 	}
-	x, _, err := edgeMatrix(ps, r.cfg.Input, r.p)
+	src, _, err := newEdgeRows(ps, r.cfg.Input, r.p)
 	if err != nil {
 		return nil, err
 	}
 	var pred mat.Dense
 	if r.weights != nil {
-		pred.Mul(x, r.weights)
-	} else {
-		pred.ReuseAs(len(ps), len(r.intercept))
-		scaled := mat.NewDense(len(ps), len(r.patterns[0].factorSq), nil)
-		var kern, part mat.Dense
-		for _, pat := range r.patterns {
-			scaled.Apply(func(i, k int, v float64) float64 { return v * pat.factorSq[k] }, x)
-			kern.Mul(scaled, r.train.T())
-			part.Reset()
-			part.Mul(&kern, subMatrix(r.dualCoef, nil, pat.cols))
-			for c, j := range pat.cols {
-				pred.SetCol(j, mat.Col(nil, c, &part))
-			}
+		predictRows(&pred, src, r.weights, predictBytes)
+		addToColumns(&pred, r.intercept)
+		return &pred, nil
+	}
+	x := src.matrix()
+	pred.ReuseAs(len(ps), len(r.intercept))
+	scaled := mat.NewDense(len(ps), len(r.patterns[0].factorSq), nil)
+	var kern, part mat.Dense
+	for _, pat := range r.patterns {
+		scaled.Apply(func(i, k int, v float64) float64 { return v * pat.factorSq[k] }, x)
+		kern.Mul(scaled, r.train.T())
+		part.Reset()
+		part.Mul(&kern, subMatrix(r.dualCoef, nil, pat.cols))
+		for c, j := range pat.cols {
+			pred.SetCol(j, mat.Col(nil, c, &part))
 		}
 	}
 	addToColumns(&pred, r.intercept)
 	return &pred, nil
+}
+
+// predictBytes bounds the participants' edges predictRows holds at once.
+const predictBytes = 64 << 20
+
+// predictRows sets dst to x·w, len × T for the rows of x and the d × T
+// weights w. When x's rows take at most limit bytes as float64 it forms
+// them whole and multiplies once; otherwise a block of rows at a time of
+// at most limit bytes (one row at least), so that predicting thousands of participants at
+// tens of thousands of edges does not hold a second copy of them. Each
+// entry is the same dot product either way (the products sum over the
+// edges in the same order whatever the number of rows in the pure-Go
+// build; OpenBLAS may round differently between blocked and whole).
+func predictRows(dst *mat.Dense, x *edgeRows, w *mat.Dense, limit int) {
+	n, d := len(x.ps), x.width()
+	_, t := w.Dims()
+	rows := max(1, limit/(8*max(d, 1)))
+	if n <= rows {
+		dst.Mul(x.matrix(), w)
+		return
+	}
+	dst.ReuseAs(n, t)
+	block := mat.NewDense(rows, d, nil)
+	for i0 := 0; i0 < n; i0 += rows {
+		i1 := min(i0+rows, n)
+		b := block.Slice(0, i1-i0, 0, d).(*mat.Dense)
+		for i := i0; i < i1; i++ {
+			copy(b.RawRowView(i-i0), x.row(i))
+		}
+		dst.Slice(i0, i1, 0, t).(*mat.Dense).Mul(b, w)
+	}
 }
 
 func addToColumns(m *mat.Dense, v []float64) {
