@@ -11,7 +11,9 @@
 # random stream of its own (named after the label), so three runs with the
 # same seed and different labels write the same participants, connectomes
 # and scores; the script checks that, then joins the three label columns
-# and the three labels' rows of planted.tsv.
+# and the three labels' rows of planted.tsv. With Debian's python3-numpy and
+# python3-sklearn it prints each planted label's AUC on the cohort as
+# generated (bench/labels_oracle.py) beside the population oracle.
 #
 # usage: bench/labels.sh            (from anywhere)
 # knobs: OUT=runs/labels (the cohort goes to OUT/cohort, the run to OUT/run)
@@ -52,6 +54,9 @@ grep '^null_label' "$tmp/c/planted.tsv" >>"$OUT/cohort/planted.tsv" || true
 grep -h -A1 '^# Planted class label' "$tmp/a/experiment.toml" >"$OUT/cohort/oracle.txt"
 grep -h '^#   diagnosis_half\|^#   null_label' "$tmp/b/experiment.toml" "$tmp/c/experiment.toml" >>"$OUT/cohort/oracle.txt"
 cat "$OUT/cohort/oracle.txt"
+if /usr/bin/python3 -c 'import numpy, sklearn' 2>/dev/null; then
+	/usr/bin/python3 bench/labels_oracle.py "$OUT/cohort" | tee -a "$OUT/cohort/oracle.txt"
+fi
 cp bench/labels.toml "$OUT/cohort/experiment.toml"
 "$tmp/skein" check "$OUT/cohort/experiment.toml" >/dev/null
 echo "load before: $(uptime)"
