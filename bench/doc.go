@@ -13,6 +13,11 @@
 //   - scenarios.sh runs cmd/scenarios: the baselines and a set of networks
 //     on invented cohorts whose score follows a known truth (package
 //     bench/scenario), one table per scenario beside the oracle r;
+//   - labels.sh generates a cohort with two planted class labels and a
+//     null one (skein synth --label) and runs labels.toml on it: the
+//     classifying baselines and the recommended networks on the same
+//     folds, with AUC intervals, the corrected t-test and a permutation
+//     p-value;
 //   - scale.sh times skein's ridge run (inner k-fold, efficient
 //     leave-one-out, a 1000-permutation test) in both builds beside
 //     scale_sklearn.py (scikit-learn's GridSearchCV and RidgeCV) on one
