@@ -259,6 +259,9 @@ func (r *Runner) Run(ctx context.Context) (*Result, error) {
 	// dropped when its last unit ends, so that a run holds the prepared
 	// folds of the units in progress (their scores, a permutation test's
 	// thousands of columns among them), not those of every split.
+	if err := checkSplits(exp, cohort, splits, res.Units, max(1, r.prepBlocks)); err != nil {
+		return nil, err
+	}
 	folds := make([]lazyFold, len(splits))
 	for _, unit := range res.Units {
 		folds[unit.Split].pending.Add(1)
@@ -430,6 +433,45 @@ func (f *lazyFold) done() {
 	}
 }
 
+// newTargetPrep returns the unfitted preparation of the cohort's scores
+// (confound regression and standardization) in blocks blocks, or nil for
+// a cohort without scores.
+func newTargetPrep(exp *Design, cohort *data.Cohort, blocks int) *TargetPrep {
+	if len(cohort.Targets) == 0 {
+		return nil
+	}
+	tp := &TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}
+	if slices.ContainsFunc(exp.CV.Confounds, func(name string) bool { return strings.HasPrefix(name, siteDummyPrefix) }) {
+		tp.SiteLevels = slices.Sorted(slices.Values(uniq(siteLabels(cohort))))
+	}
+	return tp
+}
+
+// checkSplits runs, for the split of every unit, the parts of its
+// preparation that are quick to check: its sites and the fit of its
+// scores on the training participants. Folds are prepared only when their
+// first unit starts (lazyFold), so without this a training fold whose
+// scores cannot be fitted would stop the run after other units had
+// trained.
+func checkSplits(exp *Design, cohort *data.Cohort, splits []Split, units []Unit, blocks int) error {
+	checked := make(map[int]bool)
+	for _, u := range units {
+		if checked[u.Split] {
+			continue
+		}
+		checked[u.Split] = true
+		split := splits[u.Split]
+		err := checkFoldSites(exp.CV, cohort, split)
+		if tp := newTargetPrep(exp, cohort, blocks); err == nil && tp != nil {
+			err = tp.Fit(subCohort(cohort, split.Train))
+		}
+		if err != nil {
+			return fmt.Errorf("repeat %d, fold %d: %w", split.Repeat+1, split.Fold+1, err)
+		}
+	}
+	return nil
+}
+
 // prepareFold fits the fold's preparation on the training participants
 // of split, in blocks blocks (FitTargetPrepBlocks), applies it to the
 // training part, its inner validation part and the test fold, and
@@ -453,11 +495,7 @@ func prepareFold(exp *Design, cohort *data.Cohort, split Split, blocks int) (*fo
 	// The scores' preparation (confound regression, standardization) is
 	// for the scores alone: labels are learnt as they are, and a cohort
 	// with labels only has no such step.
-	if len(cohort.Targets) > 0 {
-		tp := &TargetPrep{Covariates: exp.CV.Confounds, Blocks: blocks}
-		if slices.ContainsFunc(exp.CV.Confounds, func(name string) bool { return strings.HasPrefix(name, siteDummyPrefix) }) {
-			tp.SiteLevels = slices.Sorted(slices.Values(uniq(siteLabels(cohort))))
-		}
+	if tp := newTargetPrep(exp, cohort, blocks); tp != nil {
 		prep.Steps = append(prep.Steps, tp)
 	}
 	if tangent := newTangentSpace(cohort.Series); tangent != nil {

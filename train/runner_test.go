@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"reflect"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -129,5 +130,40 @@ func TestModelNameDoesNotChangePredictions(t *testing.T) {
 		if half == 0 || !reflect.DeepEqual(got[:half], got[half:]) {
 			t.Errorf("%s: the two names gave different predictions (%d in all)", kind, len(got))
 		}
+	}
+}
+
+// TestRunChecksEverySplitFirst gives a score one value everywhere but in
+// one test fold, the last split's, so that its training scores are all
+// the same and cannot be standardized: the run stops before any unit starts, naming that fold, although folds
+// are prepared only when their first unit starts (lazyFold) and the
+// units of the earlier splits could train.
+func TestRunChecksEverySplitFirst(t *testing.T) {
+	cohort := toyCohort(24, 5, 3, false)
+	var started int
+	r := &Runner{Design: toyDesign(ridgeAndMean()[:1]...), Cohort: cohort, Jobs: 1,
+		OnEvent: func(e Event) {
+			if e.Kind == UnitStarted {
+				started++
+			}
+		}}
+	splits, err := r.planSplits()
+	if err != nil {
+		t.Fatal(err)
+	}
+	last := splits[len(splits)-1]
+	for _, p := range cohort.Participants {
+		p.Scores[1] = 1
+	}
+	for k, i := range last.Test {
+		cohort.Participants[i].Scores[1] = float64(2 + k)
+	}
+	_, err = r.Run(context.Background())
+	want := fmt.Sprintf("repeat %d, fold %d: ", last.Repeat+1, last.Fold+1)
+	if err == nil || !strings.Contains(err.Error(), "every training score is the same") || !strings.Contains(err.Error(), want) {
+		t.Fatalf("error %v, want one about the training scores of %q", err, want)
+	}
+	if started != 0 {
+		t.Errorf("%d units started before the error", started)
 	}
 }
