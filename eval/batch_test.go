@@ -35,7 +35,9 @@ func TestNullScoresRoundTrip(t *testing.T) {
 // p-values recomputed by PermutationPValue; a file without the newer
 // metric columns reads with those metrics NaN; a bad cell or a missing
 // observed row is a *data.FileError matching data.ErrBadFile. A class
-// label's null AUC reads back from the lines with an auc cell.
+// label's null AUC within folds reads back from the lines with an
+// auc_within cell; a file of an older skein, whose auc column held pooled
+// AUC, is refused.
 func TestNullCSVRoundTrip(t *testing.T) {
 	nd := NullDistribution{Model: "ridge", Target: "recall"}
 	for k, r := range []float64{0.5, 0.1, 0.6, 0.2, 0.3} {
@@ -72,9 +74,10 @@ func TestNullCSVRoundTrip(t *testing.T) {
 		{"model,target,permutation,pearson_r\nm,t,1,0.1\n", `line 2, column 3 ("permutation"): model "m", target "t" starts at permutation 1`},
 		{"model,target,permutation,pearson_r\nm,t,0,high\n", `line 2, column 4 ("pearson_r"): want a number or NaN, found "high"`},
 		{"model,permutation\n", `line 1: no "target" column`},
-		{"model,target,permutation,pearson_r,auc\nm,dx,1,,0.5\n", `line 2, column 3 ("permutation"): model "m", label "dx" starts at permutation 1`},
-		{"model,target,permutation,pearson_r,auc\nm,dx,0,,0.5\nm,dx,2,,0.5\n", `line 3, column 3 ("permutation"): model "m", label "dx": permutation 2, want 1`},
-		{"model,target,permutation,pearson_r,auc\nm,dx,0,,good\n", `line 2, column 5 ("auc"): want a number or NaN, found "good"`},
+		{"model,target,permutation,pearson_r,auc_within\nm,dx,1,,0.5\n", `line 2, column 3 ("permutation"): model "m", label "dx" starts at permutation 1`},
+		{"model,target,permutation,pearson_r,auc_within\nm,dx,0,,0.5\nm,dx,2,,0.5\n", `line 3, column 3 ("permutation"): model "m", label "dx": permutation 2, want 1`},
+		{"model,target,permutation,pearson_r,auc_within\nm,dx,0,,good\n", `line 2, column 5 ("auc_within"): want a number or NaN, found "good"`},
+		{"model,target,permutation,pearson_r,auc\nm,dx,0,,0.5\n", `line 1, column 5 ("auc"): the pooled AUC of an older skein`},
 	} {
 		_, _, err := ReadNullCSV(strings.NewReader(bad.text), "permutations.csv")
 		var fe *data.FileError
@@ -92,8 +95,8 @@ func TestNullCSVRoundTrip(t *testing.T) {
 		t.Fatal(err)
 	}
 	text := buf.String()
-	if want := "logistic,diagnosis,0,,,,,,,,,,0.8\n"; !strings.Contains(text, want) || !strings.HasSuffix(strings.SplitN(text, "\n", 2)[0], ",ami,auc") {
-		t.Errorf("file with a label lacks %q or the auc column:\n%s", want, text)
+	if want := "logistic,diagnosis,0,,,,,,,,,,0.8\n"; !strings.Contains(text, want) || !strings.HasSuffix(strings.SplitN(text, "\n", 2)[0], ",ami,auc_within") {
+		t.Errorf("file with a label lacks %q or the auc_within column:\n%s", want, text)
 	}
 	back, labels, err = ReadNullCSV(&buf, "permutations.csv")
 	if err != nil || len(back) != 1 || back[0].P.PearsonWithin != 0.4 || len(labels) != 1 {

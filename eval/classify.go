@@ -27,8 +27,16 @@ const LogLossEpsilon = 1e-15
 // ClassScores holds the classification metrics of one set of predictions
 // (ScoreClasses).
 type ClassScores struct {
+	// AUCWithin is the headline AUC, AUC within folds: over one set of
+	// predictions, such as one test fold, ScoreClasses sets it to AUC;
+	// pooled over the folds of a run it is AUCWithinFolds
+	// (SummarizeClasses), which is free of the bias that the training
+	// folds' class frequencies give pooled AUC.
+	AUCWithin float64
 	// AUC is the area under the ROC curve (ROCAUC of class 1 for K = 2;
-	// the macro one-vs-rest average, OneVsRestAUC, for K > 2).
+	// the macro one-vs-rest average, OneVsRestAUC, for K > 2). Pooled
+	// over the folds of a run it carries the bias AUCWithinFolds
+	// describes.
 	AUC float64
 	// BalancedAccuracy is the mean recall of the classes (BalancedAccuracy).
 	BalancedAccuracy float64
@@ -55,11 +63,12 @@ type ClassScores struct {
 // (threshold is ignored). Rows with a missing label (negative) or a NaN
 // probability are skipped; a metric that is undefined for the rows left
 // (no rows, a class absent for AUC, sensitivity or specificity) is NaN.
+// The rows are taken as one test fold: AUCWithin equals AUC.
 func ScoreClasses(labels []int, proba *mat.Dense, threshold float64) ClassScores {
 	y, p := completeClassRows(labels, proba)
 	n, k := len(y), p.k
 	s := ClassScores{
-		AUC: math.NaN(), BalancedAccuracy: math.NaN(), Accuracy: math.NaN(), LogLoss: math.NaN(),
+		AUCWithin: math.NaN(), AUC: math.NaN(), BalancedAccuracy: math.NaN(), Accuracy: math.NaN(), LogLoss: math.NaN(),
 		Brier: math.NaN(), Sensitivity: math.NaN(), Specificity: math.NaN(),
 	}
 	if n == 0 {
@@ -85,6 +94,7 @@ func ScoreClasses(labels []int, proba *mat.Dense, threshold float64) ClassScores
 	} else {
 		s.AUC = OneVsRestAUC(y, pm)
 	}
+	s.AUCWithin = s.AUC
 	return s
 }
 
@@ -219,20 +229,29 @@ func ROCAUC(positive []bool, score []float64) float64 {
 			s = append(s, v)
 		}
 	}
+	u, pairs := mannWhitneyU(pos, s)
+	if pairs == 0 {
+		return math.NaN()
+	}
+	return u / pairs
+}
+
+// mannWhitneyU returns the Mann–Whitney statistic of the scores of the
+// positives among score, U = R₊ − n₊(n₊ + 1)/2 (R₊ the sum of their
+// average ranks): the number of positive–negative pairs in which the
+// positive scores higher, a tie counting 1/2; and pairs = n₊ · n₋, the
+// number of such pairs. score holds no NaN.
+func mannWhitneyU(positive []bool, score []float64) (u, pairs float64) {
 	var nPos int
 	var rankSum float64
-	for i, r := range AverageRanks(s) {
-		if pos[i] {
+	for i, r := range AverageRanks(score) {
+		if positive[i] {
 			nPos++
 			rankSum += r
 		}
 	}
-	nNeg := len(s) - nPos
-	if nPos == 0 || nNeg == 0 {
-		return math.NaN()
-	}
 	np := float64(nPos)
-	return (rankSum - np*(np+1)/2) / (np * float64(nNeg))
+	return rankSum - np*(np+1)/2, np * float64(len(score)-nPos)
 }
 
 // OneVsRestAUC returns the macro-averaged one-vs-rest area under the ROC

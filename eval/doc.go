@@ -13,15 +13,18 @@
 // made anywhere (ReadPredictions, Summary.WriteText).
 //
 // For a categorical target (a class label such as a diagnosis), eval scores
-// predicted class probabilities: ROC AUC (ROCAUC, one-vs-rest for more
-// classes, OneVsRestAUC) and the ROC curve (ROCCurve), balanced accuracy and
+// predicted class probabilities: ROC AUC within folds (the headline AUC,
+// AUCWithinFolds) and pooled (ROCAUC, one-vs-rest for more classes,
+// OneVsRestAUC) and the ROC curve (ROCCurve), balanced accuracy and
 // accuracy, log loss, the Brier score, sensitivity and specificity at a
 // threshold (ScoreClasses, PredictedClasses), confusion matrices (Confusion)
 // and reliability curves (Calibration), and bootstrap intervals of any of
 // them over participants (BootstrapClassCI).
 //
 // Pooled Pearson r of cross-validated predictions is biased downwards by
-// the folds' training means; r within folds is not. Binning keeps tied
+// the folds' training means; r within folds is not. Likewise pooled AUC
+// is biased downwards by the training folds' class frequencies unless the
+// folds are stratified on the label; AUC within folds is not. Binning keeps tied
 // values together (EqualFrequencyBins), so NMI and AMI do not depend on
 // the order of the rows. NMI is biased upwards in small samples: compare
 // it with Scores.NMIChance, its mean under random pairing, or read AMI,

@@ -47,3 +47,36 @@ func ExampleROCAUC() {
 	// 0.875
 	// [0 0 0.5 1] [0 0.5 1 1] [+Inf 0.8 0.4 0.1]
 }
+
+// The majority-class predictor in two test folds of five fictional
+// participants, not stratified: fold 1 holds one patient and was trained
+// on a sample with more patients, so it gives everyone 0.4; fold 2 holds
+// three and gives 0.2. Within each fold every pair is a tie, so AUC within
+// folds is exactly 0.5. Pooled, of the 4·6 = 24 pairs of a patient and a
+// control, fold 1's patient ties fold 1's four controls (4·½) and ranks
+// above fold 2's two (2), and fold 2's three patients rank below fold 1's
+// four controls (0) and tie fold 2's two (6·½): AUC = 7/24 (by hand;
+// scikit-learn 1.2's roc_auc_score gives the same).
+func ExampleAUCWithinFolds() {
+	var rows []eval.ClassPrediction
+	add := func(fold, class int, p1 float64) {
+		rows = append(rows, eval.ClassPrediction{Fold: fold, Observed: class, Probabilities: []float64{1 - p1, p1}})
+	}
+	for _, c := range []int{0, 0, 0, 0, 1} {
+		add(0, c, 0.4)
+	}
+	for _, c := range []int{0, 0, 1, 1, 1} {
+		add(1, c, 0.2)
+	}
+	labels := make([]int, len(rows))
+	proba := mat.NewDense(len(rows), 2, nil)
+	for i, r := range rows {
+		labels[i] = r.Observed
+		proba.SetRow(i, r.Probabilities)
+	}
+	fmt.Printf("AUC within folds %.4f\n", eval.AUCWithinFolds(rows))
+	fmt.Printf("pooled AUC %.4f\n", eval.OneVsRestAUC(labels, proba))
+	// Output:
+	// AUC within folds 0.5000
+	// pooled AUC 0.2917
+}

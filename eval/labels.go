@@ -67,6 +67,13 @@ type ClassMetric string
 
 // The classification metrics (ScoreClasses).
 const (
+	// MetricAUCWithin is the headline AUC: over one fold it is the AUC;
+	// pooled over the folds of a run it is AUCWithinFolds, which is free
+	// of the bias that the training folds' class frequencies give pooled
+	// AUC.
+	MetricAUCWithin ClassMetric = "auc_within"
+	// MetricAUC is the AUC; pooled over the folds of a run it carries the
+	// bias AUCWithinFolds describes.
 	MetricAUC              ClassMetric = "auc"
 	MetricBalancedAccuracy ClassMetric = "balanced_accuracy"
 	MetricAccuracy         ClassMetric = "accuracy"
@@ -78,14 +85,16 @@ const (
 
 // ClassMetrics returns every ClassMetric in the order of ClassScores.
 func ClassMetrics() []ClassMetric {
-	return []ClassMetric{MetricAUC, MetricBalancedAccuracy, MetricAccuracy, MetricLogLoss, MetricBrier, MetricSensitivity, MetricSpecificity}
+	return []ClassMetric{MetricAUCWithin, MetricAUC, MetricBalancedAccuracy, MetricAccuracy, MetricLogLoss, MetricBrier, MetricSensitivity, MetricSpecificity}
 }
 
 // Label returns the metric's name in tables.
 func (m ClassMetric) Label() string {
 	switch m {
+	case MetricAUCWithin:
+		return "AUC within folds"
 	case MetricAUC:
-		return "AUC"
+		return "pooled AUC"
 	case MetricBrier:
 		return "Brier"
 	}
@@ -99,6 +108,8 @@ func (m ClassMetric) LowerIsBetter() bool { return m == MetricLogLoss || m == Me
 // Get returns the value of metric m; it panics for an unknown metric.
 func (s ClassScores) Get(m ClassMetric) float64 {
 	switch m {
+	case MetricAUCWithin:
+		return s.AUCWithin
 	case MetricAUC:
 		return s.AUC
 	case MetricBalancedAccuracy:
@@ -119,6 +130,8 @@ func (s ClassScores) Get(m ClassMetric) float64 {
 
 func (s *ClassScores) set(m ClassMetric, v float64) {
 	switch m {
+	case MetricAUCWithin:
+		s.AUCWithin = v
 	case MetricAUC:
 		s.AUC = v
 	case MetricBalancedAccuracy:
@@ -159,7 +172,8 @@ type ClassGroup struct {
 	// N counts the pooled rows: a participant once per repeat.
 	N int
 	// Pooled scores all test predictions of all repeats at once, as
-	// Group.Pooled pools the scores' predictions.
+	// Group.Pooled pools the scores' predictions; its AUCWithin is
+	// AUCWithinFolds of the rows, the headline AUC.
 	Pooled ClassScores
 	// Folds scores each repeat × fold alone, sorted by repeat then fold.
 	Folds []ClassFold
@@ -170,10 +184,10 @@ type ClassGroup struct {
 	// Intervals holds the percentile bootstrap interval of each pooled
 	// metric (ClassIntervals); nil before it is computed.
 	Intervals map[ClassMetric]Interval
-	// PAUC is the permutation p-value of the pooled AUC
-	// (AssembleClassNulls);
-	// NaN without a permutation test. NullAUC holds the pooled AUC of
-	// each permutation, in permutation order.
+	// PAUC is the permutation p-value of the AUC within folds
+	// (Pooled.AUCWithin, AssembleClassNulls); NaN without a permutation
+	// test. NullAUC holds the AUC within folds of each permutation, in
+	// permutation order.
 	PAUC    float64
 	NullAUC []float64
 	// Reference names the reference baseline of the label this model is
@@ -213,8 +227,9 @@ func classRows(rows []ClassPrediction, idx []int) ([]int, *mat.Dense) {
 
 // SummarizeClasses scores the class predictions rows grouped by model and
 // label (ScoreClasses at threshold): pooled over all rows of a group, and
-// per repeat × fold with the folds' mean and SD. classes maps each label
-// to its class names. Groups come in the order of their first row, models
+// per repeat × fold with the folds' mean and SD; the pooled AUCWithin is
+// AUCWithinFolds of the group's rows. classes maps each label to its
+// class names. Groups come in the order of their first row, models
 // first: rows ordered as train.Result orders them give the experiment's
 // models, then the cohort's labels. PAUC is NaN.
 func SummarizeClasses(rows []ClassPrediction, classes map[string][]string, threshold float64) []ClassGroup {
@@ -241,6 +256,7 @@ func SummarizeClasses(rows []ClassPrediction, classes map[string][]string, thres
 			y, p := classRows(rows, idx)
 			g := ClassGroup{Model: m, Label: l, Classes: classes[l], Threshold: threshold, N: len(idx),
 				Pooled: ScoreClasses(y, p, threshold), PAUC: math.NaN()}
+			g.Pooled.AUCWithin = AUCWithinFolds(pick(rows, idx))
 			byFold := make(map[[2]int][]int)
 			var folds [][2]int
 			for _, i := range idx {
@@ -263,6 +279,15 @@ func SummarizeClasses(rows []ClassPrediction, classes map[string][]string, thres
 			g.FoldMean, g.FoldSD = classFoldSpread(g.Folds)
 			out = append(out, g)
 		}
+	}
+	return out
+}
+
+// pick returns the rows of rows at idx, in the order of idx.
+func pick(rows []ClassPrediction, idx []int) []ClassPrediction {
+	out := make([]ClassPrediction, len(idx))
+	for j, i := range idx {
+		out[j] = rows[i]
 	}
 	return out
 }
@@ -294,7 +319,10 @@ func classFoldSpread(folds []ClassFold) (mean, sd ClassScores) {
 // bootstrap interval at level of its pooled value over rows, the class
 // predictions of g's model and label (BootstrapClassCI: participants
 // resampled with all their repeats), with resamples resamples drawn from
-// rng, metric after metric in ClassMetrics order.
+// rng, metric after metric in ClassMetrics order. For MetricAUCWithin
+// each drawn row keeps its repeat and fold, and a resample is scored by
+// AUCWithinFolds (a participant drawn twice forms pairs in its folds
+// twice, as in the pooled metrics).
 func ClassIntervals(g *ClassGroup, rows []ClassPrediction, resamples int, level float64, rng *rand.Rand) {
 	var idx []int
 	for i, r := range rows {
@@ -312,6 +340,21 @@ func ClassIntervals(g *ClassGroup, rows []ClassPrediction, resamples int, level 
 	}
 	g.Intervals = make(map[ClassMetric]Interval)
 	for _, m := range ClassMetrics() {
+		if m == MetricAUCWithin {
+			group := pick(rows, idx)
+			resample := make([]ClassPrediction, 0, len(group))
+			g.Intervals[m] = bootstrapParticipants(ids, resamples, level, rng, func(drawn []int) float64 {
+				if drawn == nil {
+					return AUCWithinFolds(group)
+				}
+				resample = resample[:0]
+				for _, i := range drawn {
+					resample = append(resample, group[i])
+				}
+				return AUCWithinFolds(resample)
+			})
+			continue
+		}
 		metric := func(y []int, p *mat.Dense) float64 { return ScoreClasses(y, p, g.Threshold).Get(m) }
 		if m == MetricAUC {
 			metric = func(y []int, p *mat.Dense) float64 { return OneVsRestAUC(y, p) }
@@ -406,15 +449,16 @@ func ChooseLabelReference(labels, classifiers []string, named string, innerLoss 
 	return ref, rule
 }
 
-// A ClassNull is the pooled AUC of one model on one label in one permuted
-// run of a permutation test: one row of the null distribution of AUC.
+// A ClassNull is the AUC within folds of one model on one label in one
+// permuted run of a permutation test: one row of the null distribution of
+// the headline AUC.
 type ClassNull struct {
 	Model, Label string
 	Permutation  int // index into the permutations, from 0
-	AUC          float64
+	AUCWithin    float64
 }
 
-// ScoreClassNull returns the pooled AUC (OneVsRestAUC over all test
+// ScoreClassNull returns the AUC within folds (AUCWithinFolds of all test
 // predictions of all repeats, as SummarizeClasses pools them) of every
 // model × label of rows, the class predictions of permutation k, in order
 // of first appearance.
@@ -431,16 +475,15 @@ func ScoreClassNull(rows []ClassPrediction, k int) []ClassNull {
 	}
 	out := make([]ClassNull, len(keys))
 	for j, kk := range keys {
-		y, p := classRows(rows, members[kk])
-		out[j] = ClassNull{Model: kk.model, Label: kk.label, Permutation: k, AUC: OneVsRestAUC(y, p)}
+		out[j] = ClassNull{Model: kk.model, Label: kk.label, Permutation: k, AUCWithin: AUCWithinFolds(pick(rows, members[kk]))}
 	}
 	return out
 }
 
 // AssembleClassNulls sets, for every group of groups whose model has rows
-// in nulls, NullAUC to the AUC of permutations 0 to count−1 and PAUC to
-// the permutation p-value of its pooled AUC (PermutationPValue, higher is
-// better). Every such group must have every permutation exactly once; the
+// in nulls, NullAUC to the AUC within folds of permutations 0 to count−1
+// and PAUC to the permutation p-value of its own (Pooled.AUCWithin;
+// PermutationPValue, higher is better). Every such group must have every permutation exactly once; the
 // result does not depend on the order of nulls, so a test run in blocks
 // gives what one run gives.
 func AssembleClassNulls(groups []ClassGroup, nulls []ClassNull, count int) error {
@@ -459,7 +502,7 @@ func AssembleClassNulls(groups []ClassGroup, nulls []ClassNull, count int) error
 		if seen[k][r.Permutation] {
 			return fmt.Errorf("model %q, label %q: permutation %d appears twice", r.Model, r.Label, r.Permutation)
 		}
-		byKey[k][r.Permutation], seen[k][r.Permutation] = r.AUC, true
+		byKey[k][r.Permutation], seen[k][r.Permutation] = r.AUCWithin, true
 		tested[r.Model] = true
 	}
 	for i := range groups {
@@ -474,22 +517,25 @@ func AssembleClassNulls(groups []ClassGroup, nulls []ClassNull, count int) error
 			}
 		}
 		g.NullAUC = byKey[k]
-		g.PAUC = PermutationPValue(g.Pooled.AUC, g.NullAUC, false)
+		g.PAUC = PermutationPValue(g.Pooled.AUCWithin, g.NullAUC, false)
 	}
 	return nil
 }
 
 // classNullColumns are the columns of WriteClassNulls.
-func classNullColumns() []string { return []string{"model", "label", "permutation", "auc"} }
+func classNullColumns() []string {
+	return []string{"model", "label", "permutation", string(MetricAUCWithin)}
+}
 
 // WriteClassNulls writes rows as CSV with the header
-// model,label,permutation,auc (permutation from 0, the AUC in the
-// shortest form that reads back to the same float64, NaN when undefined).
+// model,label,permutation,auc_within (permutation from 0, the AUC within
+// folds in the shortest form that reads back to the same float64, NaN
+// when undefined).
 func WriteClassNulls(out io.Writer, rows []ClassNull) error {
 	w := csv.NewWriter(out)
 	w.Write(classNullColumns())
 	for _, r := range rows {
-		w.Write([]string{r.Model, r.Label, strconv.Itoa(r.Permutation), strconv.FormatFloat(r.AUC, 'g', -1, 64)})
+		w.Write([]string{r.Model, r.Label, strconv.Itoa(r.Permutation), strconv.FormatFloat(r.AUCWithin, 'g', -1, 64)})
 	}
 	w.Flush()
 	return w.Error()
@@ -527,7 +573,7 @@ func ReadClassNulls(r io.Reader, name string) ([]ClassNull, error) {
 		if err != nil {
 			return nil, &data.FileError{Path: name, Line: line, Column: 4, ColumnName: want[3], Err: fmt.Errorf("want a number or NaN, found %q", rec[3])}
 		}
-		rows = append(rows, ClassNull{Model: rec[0], Label: rec[1], Permutation: k, AUC: auc})
+		rows = append(rows, ClassNull{Model: rec[0], Label: rec[1], Permutation: k, AUCWithin: auc})
 	}
 }
 
@@ -652,7 +698,7 @@ type classGroupJSON struct {
 	Folds         []classFoldJSON              `json:"folds,omitempty"`
 	FoldMean      *classObject                 `json:"fold_mean,omitempty"`
 	FoldSD        *classObject                 `json:"fold_sd,omitempty"`
-	PAUC          *jsonFloat                   `json:"permutation_p_auc,omitempty"`
+	PAUC          *jsonFloat                   `json:"permutation_p_auc_within,omitempty"`
 	Reference     string                       `json:"reference,omitempty"`
 	IsReference   bool                         `json:"is_reference,omitempty"`
 	DiffAUC       *ttestJSON                   `json:"diff_auc,omitempty"`
@@ -718,9 +764,10 @@ func (in classGroupJSON) group() ClassGroup {
 
 // writeLabelsMarkdown writes, for each label of groups in order of first
 // appearance, a table with one row per model: n, folds, each metric as
-// mean ± SD over folds [pooled], the pooled AUC's bootstrap interval, its
-// permutation p-value and the difference of fold AUC from the reference
-// baseline with the corrected t-test's p; then a legend.
+// mean ± SD over folds [pooled] (pooled AUC alone: its fold values are
+// those of AUC within folds), the bootstrap interval of AUC within folds,
+// its permutation p-value and the difference of fold AUC from the
+// reference baseline with the corrected t-test's p; then a legend.
 func writeLabelsMarkdown(b *strings.Builder, groups []ClassGroup) {
 	var labels []string
 	for _, g := range groups {
@@ -747,7 +794,7 @@ func writeLabelsMarkdown(b *strings.Builder, groups []ClassGroup) {
 		for _, m := range ClassMetrics() {
 			fmt.Fprintf(b, " %s |", m.Label())
 		}
-		b.WriteString(" AUC 95% CI | p (AUC) | Δ AUC vs reference |\n| --- | ---: | ---: |")
+		b.WriteString(" AUC within folds 95% CI | p (AUC within folds) | Δ AUC vs reference |\n| --- | ---: | ---: |")
 		for range ClassMetrics() {
 			b.WriteString(" ---: |")
 		}
@@ -761,7 +808,7 @@ func writeLabelsMarkdown(b *strings.Builder, groups []ClassGroup) {
 				fmt.Fprintf(b, " %s |", g.cell(m))
 			}
 			ci := "–"
-			if iv, ok := g.Intervals[MetricAUC]; ok && !math.IsNaN(iv.Lower) {
+			if iv, ok := g.Intervals[MetricAUCWithin]; ok && !math.IsNaN(iv.Lower) {
 				ci = fmt.Sprintf("%s to %s", formatNumber(iv.Lower), formatNumber(iv.Upper))
 			}
 			diff := "–"
@@ -775,20 +822,26 @@ func writeLabelsMarkdown(b *strings.Builder, groups []ClassGroup) {
 		}
 	}
 	b.WriteString("\nClass labels: each cell is the mean ± SD over test folds, then in brackets the value pooled over " +
-		"all test predictions (a participant once per repeat); n counts them. AUC is one-vs-rest (macro average) " +
-		"for more than two classes, where sensitivity and specificity are undefined (–). The chance level of AUC " +
-		"and balanced accuracy is 0.5 (1/K for K classes); the majority-class predictor gives the chance level of " +
-		"log loss and Brier. The 95% interval is a percentile bootstrap over participants; p (AUC) is the " +
+		"all test predictions (a participant once per repeat); n counts them. The headline AUC is AUC within folds: " +
+		"over the pairs of a positive and a negative participant in the same test fold, so that every pair is ranked " +
+		"by one trained model (the fold AUCs weighted by their numbers of pairs). Pooled AUC ranks all test " +
+		"predictions of all folds together and is biased low when the folds are not stratified on the label, since " +
+		"each fold's probabilities carry its training fold's class frequencies; it is shown alone, its fold values " +
+		"being those of AUC within folds. AUC is one-vs-rest (macro average) for more than two classes, where " +
+		"sensitivity and specificity are undefined (–). The chance level of AUC and balanced accuracy is 0.5 (1/K " +
+		"for K classes); the majority-class predictor gives the chance level of AUC within folds, log loss and " +
+		"Brier. The 95% interval is a percentile bootstrap over participants; p (AUC within folds) is the " +
 		"permutation p-value; Δ AUC is the mean difference of fold AUC from the reference baseline, with the " +
 		"corrected resampled t-test (Nadeau & Bengio 2003). Confounds (cv.confounds) are regressed out of the " +
 		"scores only, never out of a class label.\n")
 }
 
 // cell formats metric m of g as mean ± SD [pooled], the pooled value alone
-// without folds.
+// without folds and for MetricAUC (whose fold values are those of
+// MetricAUCWithin).
 func (g *ClassGroup) cell(m ClassMetric) string {
 	pooled := formatNumber(g.Pooled.Get(m))
-	if len(g.Folds) == 0 {
+	if len(g.Folds) == 0 || m == MetricAUC {
 		return pooled
 	}
 	return fmt.Sprintf("%s ± %s [%s]", formatNumber(g.FoldMean.Get(m)), formatNumber(g.FoldSD.Get(m)), pooled)

@@ -84,9 +84,15 @@ func TestSummarizeClasses(t *testing.T) {
 		}
 		near(g.Model+" fold mean AUC", g.FoldMean.AUC, fx.FoldMeanAUC[g.Model])
 		near(g.Model+" fold SD AUC", g.FoldSD.AUC, fx.FoldSDAUC[g.Model])
-		iv := g.Intervals[MetricAUC]
-		if iv.Resamples != 200 || iv.Estimate != g.Pooled.AUC || !(iv.Lower <= iv.Estimate && iv.Estimate <= iv.Upper) {
-			t.Errorf("%s: AUC interval %+v around %v", g.Model, iv, g.Pooled.AUC)
+		for _, m := range []ClassMetric{MetricAUCWithin, MetricAUC} {
+			iv := g.Intervals[m]
+			if iv.Resamples != 200 || iv.Estimate != g.Pooled.Get(m) || !(iv.Lower <= iv.Estimate && iv.Estimate <= iv.Upper) {
+				t.Errorf("%s: %s interval %+v around %v", g.Model, m, iv, g.Pooled.Get(m))
+			}
+		}
+		// The constant predictor ties every pair: 0.5 in every resample.
+		if iv := g.Intervals[MetricAUCWithin]; g.Model == "constant" && (iv.Lower != 0.5 || iv.Upper != 0.5) {
+			t.Errorf("constant: AUC within folds interval %+v, want 0.5 to 0.5", iv)
 		}
 	}
 	net, ref := groups[0], groups[1]
@@ -129,9 +135,10 @@ sub-02,net,subtype,2,1,a,c,0.25
 	}
 }
 
-// TestClassNulls: the null AUC assembled from blocks in any order equals
-// that of one block, survives its CSV, and the p-value counts the observed
-// AUC among the permutations (Phipson & Smyth 2010).
+// TestClassNulls: the null AUC within folds assembled from blocks in any
+// order equals that of one block, survives its CSV, and the p-value counts
+// the observed AUC within folds among the permutations (Phipson & Smyth
+// 2010).
 func TestClassNulls(t *testing.T) {
 	rows, _ := readLabelsFixture(t)
 	groups := SummarizeClasses(rows, diagnosisClasses, 0.5)
@@ -175,7 +182,7 @@ func TestClassNulls(t *testing.T) {
 		}
 		extreme := 1
 		for _, v := range a[i].NullAUC {
-			if v >= a[i].Pooled.AUC {
+			if v >= a[i].Pooled.AUCWithin {
 				extreme++
 			}
 		}
@@ -203,7 +210,7 @@ func TestClassGroupsJSON(t *testing.T) {
 	if err := s.WriteJSON(&buf); err != nil {
 		t.Fatal(err)
 	}
-	for _, key := range []string{`"labels"`, `"auc"`, `"balanced_accuracy"`, `"log_loss"`, `"brier"`, `"sensitivity"`, `"specificity"`, `"diff_auc"`, `"permutation_p_auc"`} {
+	for _, key := range []string{`"labels"`, `"auc_within"`, `"auc"`, `"balanced_accuracy"`, `"log_loss"`, `"brier"`, `"sensitivity"`, `"specificity"`, `"diff_auc"`, `"permutation_p_auc_within"`} {
 		if !strings.Contains(buf.String(), key) {
 			t.Errorf("metrics.json lacks %s", key)
 		}
@@ -223,7 +230,8 @@ func TestClassGroupsJSON(t *testing.T) {
 	if err := s.WriteMarkdown(&md); err != nil {
 		t.Fatal(err)
 	}
-	for _, want := range []string{"### diagnosis (class label)", "| net | 24 | 4 |", "reference", Disclaimer} {
+	for _, want := range []string{"### diagnosis (class label)", "| net | 24 | 4 |", "| AUC within folds | pooled AUC |",
+		"| 0.500 ± 0.000 [0.500] | 0.500 |", "reference", Disclaimer} {
 		if !strings.Contains(md.String(), want) {
 			t.Errorf("summary lacks %q:\n%s", want, md.String())
 		}

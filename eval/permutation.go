@@ -23,43 +23,47 @@ type NullDistribution struct {
 	P Values
 }
 
-// A ClassNullDistribution is one model's pooled AUC on one class label
-// under every permutation of the labels, with the observed pooled AUC and
-// its permutation p-value: the counterpart of NullDistribution for a
-// categorical target (ClassGroup.NullAUC and PAUC).
+// A ClassNullDistribution is one model's AUC within folds (the headline
+// AUC, AUCWithinFolds) on one class label under every permutation of the
+// labels, with the observed AUC within folds and its permutation p-value:
+// the counterpart of NullDistribution for a categorical target
+// (ClassGroup.NullAUC and PAUC).
 type ClassNullDistribution struct {
 	Model, Label string
 	Observed     float64
-	// Null holds the pooled AUC of each permutation, in permutation order.
+	// Null holds the AUC within folds of each permutation, in permutation
+	// order.
 	Null []float64
-	// P is the permutation p-value of the observed AUC
+	// P is the permutation p-value of the observed AUC within folds
 	// (PermutationPValue, higher is better).
 	P float64
 }
 
-// ClassNulls returns the null distributions of AUC of the groups that
+// ClassNulls returns the null distributions of AUC within folds of the groups that
 // have one (ClassGroup.NullAUC, set by AssembleClassNulls), in the order
 // of groups; nil when none has.
 func ClassNulls(groups []ClassGroup) []ClassNullDistribution {
 	var out []ClassNullDistribution
 	for _, g := range groups {
 		if g.NullAUC != nil {
-			out = append(out, ClassNullDistribution{Model: g.Model, Label: g.Label, Observed: g.Pooled.AUC, Null: g.NullAUC, P: g.PAUC})
+			out = append(out, ClassNullDistribution{Model: g.Model, Label: g.Label, Observed: g.Pooled.AUCWithin, Null: g.NullAUC, P: g.PAUC})
 		}
 	}
 	return out
 }
 
-// nullAUCColumn is the column of WriteNullCSV holding a class label's AUC.
-const nullAUCColumn = "auc"
+// nullAUCColumn is the column of WriteNullCSV holding a class label's AUC
+// within folds.
+const nullAUCColumn = string(MetricAUCWithin)
 
 // WriteNullCSV writes null distributions as CSV: one line per model,
 // target and permutation (numbered from 1; permutation 0 is the observed
 // run), one column per metric. When labels is not empty, the header gains
-// a last column auc and each class label's null distribution of AUC
-// follows the scores' lines, in the order of labels: its lines name the
-// label in the column target, leave the score metrics' cells empty and
-// hold the pooled AUC in auc, which is empty on the scores' lines.
+// a last column auc_within and each class label's null distribution of
+// AUC within folds follows the scores' lines, in the order of labels: its
+// lines name the label in the column target, leave the score metrics'
+// cells empty and hold the AUC within folds in auc_within, which is empty
+// on the scores' lines.
 func WriteNullCSV(out io.Writer, nulls []NullDistribution, labels []ClassNullDistribution) error {
 	w := csv.NewWriter(out)
 	header := []string{"model", "target", "permutation"}
@@ -100,10 +104,12 @@ func WriteNullCSV(out io.Writer, nulls []NullDistribution, labels []ClassNullDis
 // ReadNullCSV reads what WriteNullCSV wrote: per model and target, the
 // observed scores (permutation 0) and the scores of permutations 1, 2, …
 // in order, with the permutation p-value of each metric, and likewise per
-// model and class label (the lines with an auc cell) the observed AUC and
-// that of each permutation, with its p-value. A metric column may be
-// absent (a file of an older skein, before the metric existed): its values
-// and p-values are then NaN. Scores carry metric values only (N, Missing
+// model and class label (the lines with an auc_within cell) the observed
+// AUC within folds and that of each permutation, with its p-value. A
+// metric column may be absent (a file of an older skein, before the metric
+// existed): its values and p-values are then NaN. A file with a column auc
+// and none auc_within holds the pooled AUC of an older skein's labels,
+// which is not comparable; it is an error. Scores carry metric values only (N, Missing
 // and Bins are not in the file). A bad cell or a permutation out of order
 // is a *data.FileError naming name, the line and the column.
 func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, []ClassNullDistribution, error) {
@@ -113,6 +119,10 @@ func ReadNullCSV(r io.Reader, name string) ([]NullDistribution, []ClassNullDistr
 		return nil, nil, err
 	}
 	aucCol, hasAUC := col[nullAUCColumn]
+	if _, old := col[string(MetricAUC)]; old && !hasAUC {
+		return nil, nil, &data.FileError{Path: name, Line: 1, Column: col[string(MetricAUC)] + 1, ColumnName: string(MetricAUC),
+			Err: fmt.Errorf("the pooled AUC of an older skein, where %s is expected; evaluate the run again", nullAUCColumn)}
+	}
 	var out []NullDistribution
 	var labels []ClassNullDistribution
 	index := make(map[[2]string]int)

@@ -44,10 +44,10 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 //	    {
 //	      "model": "logistic", "label": "diagnosis", "classes": ["control", "patient"], "threshold": 0.5,
 //	      "pooled": {"n": N, CLASS...},  // all test predictions of all repeats together
-//	      "intervals": {"auc": {"estimate", "lower", "upper", "level", "resamples", "undefined"}, ...},
+//	      "intervals": {"auc_within": {"estimate", "lower", "upper", "level", "resamples", "undefined"}, ...},
 //	      "folds": [{"repeat": 1, "fold": 1, "n": N, CLASS...}, ...],
 //	      "fold_mean": CLASS, "fold_sd": CLASS,
-//	      "permutation_p_auc": p,       // absent without a permutation test
+//	      "permutation_p_auc_within": p, // absent without a permutation test
 //	      "reference": "majority",      // the label's reference baseline; absent for it and without one
 //	      "is_reference": true,         // absent when false
 //	      "diff_auc": {"folds", "mean_diff", "t", "df", "p"}  // corrected t-test of fold AUC against the reference
@@ -55,8 +55,10 @@ const Disclaimer = "skein is research software: it is not a diagnostic device an
 //	  ]
 //	}
 //
-// where CLASS is {"auc", "balanced_accuracy", "accuracy", "log_loss",
-// "brier", "sensitivity", "specificity"} (ClassGroup), and SCORES is {"n": complete pairs, "missing": pairs skipped, "bins": B,
+// where CLASS is {"auc_within", "auc", "balanced_accuracy", "accuracy",
+// "log_loss", "brier", "sensitivity", "specificity"} (ClassGroup; pooled
+// auc_within is AUCWithinFolds, the headline AUC, and auc the AUC of all
+// rows ranked together), and SCORES is {"n": complete pairs, "missing": pairs skipped, "bins": B,
 // then VALUES, then "nmi_chance": Scores.NMIChance} and VALUES is
 // {"pearson_r", "spearman_rho", "mae", "median_ae", "rmse", "r2", "nmi",
 // "ami"}, numbers in the units of the score. An

@@ -132,6 +132,8 @@ func (s *Summary) writeLabelTable(b *strings.Builder) {
 		rows = append(rows, row)
 	}
 	writeTextTable(b, header, rows, 3, TextWidth)
-	b.WriteString(WrapText("Class labels: n counts test predictions (a participant once per repeat); AUC is one-vs-rest "+
+	b.WriteString(WrapText("Class labels: n counts test predictions (a participant once per repeat); AUC within folds, "+
+		"the headline, ranks each positive only against the negatives of its own test fold, pooled AUC all test "+
+		"predictions together (biased low when the folds are not stratified on the label); AUC is one-vs-rest "+
 		"for more than two classes; sensitivity and specificity are of the second class at the threshold (cv.threshold).", TextWidth))
 }

@@ -227,8 +227,9 @@ func AnswerRun(exp *Experiment, comps []eval.Comparison, labels []eval.ClassGrou
 // classification figures of a run, eval.SummarizeClasses after
 // eval.CompareClasses), in order of first appearance: the models that fuse
 // structure with function (Fusion) that learn the label, or, without
-// such a model, the model of highest pooled AUC, each with its pooled AUC
-// and bootstrap interval, and its difference in fold AUC from the label's
+// such a model, the model of highest AUC within folds (the headline AUC,
+// eval.AUCWithinFolds), each with its AUC within folds and bootstrap
+// interval, and its difference in fold AUC from the label's
 // reference baseline by the corrected resampled t-test, called a win or a
 // loss at p < AnswerLevel as Answer does for r. "" without labels.
 func AnswerLabels(exp *Experiment, groups []eval.ClassGroup) string {
@@ -260,11 +261,11 @@ func AnswerLabels(exp *Experiment, groups []eval.ClassGroup) string {
 		if len(shown) == 0 {
 			best := of[0]
 			for _, g := range of[1:] {
-				if g.Pooled.AUC > best.Pooled.AUC || math.IsNaN(best.Pooled.AUC) {
+				if g.Pooled.AUCWithin > best.Pooled.AUCWithin || math.IsNaN(best.Pooled.AUCWithin) {
 					best = g
 				}
 			}
-			shown, lead = []eval.ClassGroup{best}, "The model of highest AUC"
+			shown, lead = []eval.ClassGroup{best}, "The model of highest AUC within folds"
 		}
 		parts := make([]string, len(shown))
 		for i, g := range shown {
@@ -275,19 +276,19 @@ func AnswerLabels(exp *Experiment, groups []eval.ClassGroup) string {
 	if len(sentences) == 0 {
 		return ""
 	}
-	return strings.Join(sentences, " ") + fmt.Sprintf(" (AUC pooled over all test predictions with its 95%% bootstrap "+
-		"interval; ΔAUC is the mean difference in fold AUC from the reference baseline, tested by the corrected "+
-		"resampled t-test at p < %g.)", AnswerLevel)
+	return strings.Join(sentences, " ") + fmt.Sprintf(" (AUC within folds ranks each positive against each negative "+
+		"participant of the same test fold, with its 95%% bootstrap interval; ΔAUC is the mean difference in fold AUC "+
+		"from the reference baseline, tested by the corrected resampled t-test at p < %g.)", AnswerLevel)
 }
 
-// labelItem describes g: its AUC and interval, and its comparison with
-// the reference among of (the groups of its label).
+// labelItem describes g: its AUC within folds and interval, and its
+// comparison with the reference among of (the groups of its label).
 func labelItem(g eval.ClassGroup, of []eval.ClassGroup) string {
 	ci := ""
-	if iv, ok := g.Intervals[eval.MetricAUC]; ok && !math.IsNaN(iv.Lower) {
+	if iv, ok := g.Intervals[eval.MetricAUCWithin]; ok && !math.IsNaN(iv.Lower) {
 		ci = fmt.Sprintf(" (%s to %s)", answerNumber(iv.Lower), answerNumber(iv.Upper))
 	}
-	s := fmt.Sprintf("%s predicts %s with AUC %s%s", g.Model, g.Label, answerNumber(g.Pooled.AUC), ci)
+	s := fmt.Sprintf("%s predicts %s with AUC within folds %s%s", g.Model, g.Label, answerNumber(g.Pooled.AUCWithin), ci)
 	switch {
 	case g.IsReference:
 		return s + ", and is itself the reference baseline"
@@ -297,7 +298,7 @@ func labelItem(g eval.ClassGroup, of []eval.ClassGroup) string {
 	ref := math.NaN()
 	for _, r := range of {
 		if r.Model == g.Reference {
-			ref = r.Pooled.AUC
+			ref = r.Pooled.AUCWithin
 		}
 	}
 	verdict := "not significantly different from"
@@ -307,6 +308,6 @@ func labelItem(g eval.ClassGroup, of []eval.ClassGroup) string {
 	case d.P < AnswerLevel && d.MeanDiff < 0:
 		verdict = "worse than"
 	}
-	return fmt.Sprintf("%s, %s the reference baseline %s (AUC %s), ΔAUC %s, p %s", s, verdict, g.Reference,
+	return fmt.Sprintf("%s, %s the reference baseline %s (AUC within folds %s), ΔAUC %s, p %s", s, verdict, g.Reference,
 		answerNumber(ref), answerDiff(g.DiffAUC.MeanDiff), answerP(g.DiffAUC.P))
 }

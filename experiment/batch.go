@@ -274,7 +274,7 @@ func nullFile(u BatchUnit) string {
 	return filepath.Join(NullsDir, train.FolderName(u.Model), fmt.Sprintf("p%d-%d.csv", u.First+1, u.End))
 }
 
-// classNullFile names the null AUC of the class labels of a permutation
+// classNullFile names the null AUC within folds of the class labels of a permutation
 // block, beside its null scores.
 func classNullFile(u BatchUnit) string {
 	return filepath.Join(NullsDir, train.FolderName(u.Model), fmt.Sprintf("p%d-%d.labels.csv", u.First+1, u.End))

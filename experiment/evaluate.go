@@ -67,7 +67,7 @@ type Computed struct {
 	Nulls func(observed *eval.Summary) ([]eval.NullDistribution, error)
 	// SampleSize, when not nil, is the sample-size curve.
 	SampleSize []eval.SampleSizeRow
-	// ClassNulls are the permutation test's null AUC of the class labels
+	// ClassNulls are the permutation test's null AUC within folds of the class labels
 	// (eval.ScoreClassNull of the units' runs); read when Nulls is set.
 	ClassNulls []eval.ClassNull
 }
@@ -298,13 +298,15 @@ func gridEdgeCautions(exp *Experiment, res *train.Result, targets []string) []st
 	return out
 }
 
-// pooledBiasShown is the gap between pooled r and r within folds from which
-// the summary cautions that the two differ (common practice, no source).
+// pooledBiasShown is the gap between pooled r and r within folds, or
+// between pooled AUC and AUC within folds, from which the summary cautions
+// that the two differ (common practice, no source).
 const pooledBiasShown = 0.05
 
 // predictionCautions names the models whose pooled predictions are
 // constant to rounding, and the largest gap between pooled r and the
-// headline r within folds when it is large enough to mislead.
+// headline r within folds, and between a class label's pooled AUC and
+// the headline AUC within folds, when it is large enough to mislead.
 func predictionCautions(sum *eval.Summary, rows []eval.Prediction) []string {
 	byGroup := make(map[[2]string][2][]float64)
 	for _, p := range rows {
@@ -336,6 +338,19 @@ func predictionCautions(sum *eval.Summary, rows []eval.Prediction) []string {
 		out = append(out, fmt.Sprintf("Pooled r differs from r within folds by up to %.3f: %s. Pooled r mixes in "+
 			"the folds' training means, which run against their test scores, so it is biased downwards; the "+
 			"headline figure is r within folds.", gap, worst))
+	}
+	worst, gap = "", 0.0
+	for _, g := range sum.Labels {
+		if d := math.Abs(g.Pooled.AUC - g.Pooled.AUCWithin); d > gap {
+			worst, gap = fmt.Sprintf("%s on %s (pooled AUC %.3f, AUC within folds %.3f)", g.Model, g.Label,
+				g.Pooled.AUC, g.Pooled.AUCWithin), d
+		}
+	}
+	if gap > pooledBiasShown {
+		out = append(out, fmt.Sprintf("Pooled AUC differs from AUC within folds by up to %.3f: %s. Pooled AUC ranks "+
+			"participants of different folds against each other, whose probabilities carry their training folds' "+
+			"class frequencies, which run against their test folds', so it is biased downwards; the headline figure "+
+			"is AUC within folds.", gap, worst))
 	}
 	return out
 }

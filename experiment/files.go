@@ -44,8 +44,8 @@ const (
 	LearningFile = "learning_curves.csv"
 	// PermutationFile holds the null distributions of the permutation
 	// test (eval.WriteNullCSV): permutation 0 is the observed run; with
-	// class labels, an auc column holds each model × label's pooled AUC
-	// under each permutation.
+	// class labels, an auc_within column holds each model × label's AUC
+	// within folds (eval.AUCWithinFolds) under each permutation.
 	PermutationFile = "permutations.csv"
 	// SampleSizeFile holds the sample-size curve
 	// (eval.WriteSampleSizeCSV).

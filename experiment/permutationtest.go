@@ -20,7 +20,7 @@ func PermutationTest(ctx context.Context, r *train.Runner, pc Permutation, obser
 	return nulls, err
 }
 
-// permutationTest is PermutationTest that also returns the pooled AUC of
+// permutationTest is PermutationTest that also returns the AUC within folds of
 // every model × class label under each permutation (the labels are
 // permuted with the scores, and the classifiers refitted).
 func permutationTest(ctx context.Context, r *train.Runner, pc Permutation, observed *eval.Summary) ([]eval.NullDistribution, []eval.ClassNull, error) {
@@ -34,8 +34,8 @@ func permutationTest(ctx context.Context, r *train.Runner, pc Permutation, obser
 
 // PermutationBlock runs permutations first to end−1 of the permutation
 // test pc for the named models (all when names is empty) and returns their
-// pooled scores, bins equal-frequency bins for NMI and AMI, and the pooled
-// AUC of their class labels (eval.ScoreClassNull): one block of a test
+// pooled scores, bins equal-frequency bins for NMI and AMI, and the AUC
+// within folds of their class labels (eval.ScoreClassNull): one block of a test
 // spread over batch units.
 func PermutationBlock(ctx context.Context, r *train.Runner, pc Permutation, names []string, first, end, bins int) ([]eval.NullScores, []eval.ClassNull, error) {
 	perms := train.Permutations(len(r.Cohort.Participants), train.Groups(r.Cohort), pc.Blocks, pc.Count, uint64(r.Design.Seed))

@@ -400,19 +400,19 @@ func TestPlanUnitsMergeEqualsSingleRunWithLabel(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, want := range []string{`"label": "diagnosis"`, `"permutation_p_auc"`, `"auc"`} {
+	for _, want := range []string{`"label": "diagnosis"`, `"permutation_p_auc_within"`, `"auc_within"`, `"auc"`} {
 		if !bytes.Contains(raw, []byte(want)) {
 			t.Errorf("metrics.json lacks %s", want)
 		}
 	}
-	// permutations.csv holds the label's null AUC after the scores'
-	// nulls: permutations 0 (observed) to 6 of the network.
+	// permutations.csv holds the label's null AUC within folds after the
+	// scores' nulls: permutations 0 (observed) to 6 of the network.
 	raw, err = os.ReadFile(filepath.Join(out, "permutations.csv"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	if header, _, _ := bytes.Cut(raw, []byte("\n")); !bytes.HasSuffix(header, []byte(",auc")) || !bytes.Contains(raw, []byte("\nnet,diagnosis,6,,")) {
-		t.Errorf("permutations.csv lacks the auc column or the network's null AUC of diagnosis:\n%.600s", raw)
+	if header, _, _ := bytes.Cut(raw, []byte("\n")); !bytes.HasSuffix(header, []byte(",auc_within")) || !bytes.Contains(raw, []byte("\nnet,diagnosis,6,,")) {
+		t.Errorf("permutations.csv lacks the auc_within column or the network's null AUC within folds of diagnosis:\n%.600s", raw)
 	}
 	if raw, _ := os.ReadFile(filepath.Join(out, "units/net/r2-f3.json")); !bytes.Contains(raw, []byte(`"class_predictions":`)) {
 		t.Errorf("the network's checkpoint lacks its class predictions:\n%.400s", raw)

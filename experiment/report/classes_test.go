@@ -134,13 +134,13 @@ func TestReportOfLabels(t *testing.T) {
 			t.Errorf("%s is in section %q", name, f.Section)
 		}
 	}
-	// The keys give each model's AUC: ridge separates the classes (1),
+	// The keys give each model's pooled AUC: ridge separates the classes (1),
 	// a constant probability ranks every pair as a tie (0.5).
 	svg, err := os.ReadFile(filepath.Join(dir, experiment.FiguresDir, "roc-diagnosis.svg"))
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, key := range []string{"ridge: AUC 1<", "net: AUC 0.5<", "majority: AUC 0.5<", "chance (AUC 0.5)"} {
+	for _, key := range []string{"ridge: pooled AUC 1<", "net: pooled AUC 0.5<", "majority: pooled AUC 0.5<", "chance (AUC 0.5)"} {
 		if !strings.Contains(string(svg), key) {
 			t.Errorf("roc-diagnosis.svg has no key %q", key)
 		}
@@ -301,8 +301,9 @@ func TestClassSettingsFromExperiment(t *testing.T) {
 	}
 }
 
-// TestNullFiguresOfLabels: the lines of permutations.csv with an auc cell
-// (a class label's null distribution of AUC) read back with their
+// TestNullFiguresOfLabels: the lines of permutations.csv with an
+// auc_within cell (a class label's null distribution of AUC within folds)
+// read back with their
 // p-value, (1 + #{null ≥ observed}) / (1 + permutations) (Phipson &
 // Smyth 2010), and draw a histogram beside the scores' in the
 // permutation test's section, titled with the observed AUC and p; the
@@ -316,7 +317,7 @@ func TestNullFiguresOfLabels(t *testing.T) {
 	}
 	lines := strings.Split(strings.TrimSuffix(string(raw), "\n"), "\n")
 	var b strings.Builder
-	b.WriteString(lines[0] + ",auc\n")
+	b.WriteString(lines[0] + ",auc_within\n")
 	for _, l := range lines[1:] {
 		b.WriteString(l + ",\n")
 	}
@@ -343,7 +344,7 @@ func TestNullFiguresOfLabels(t *testing.T) {
 	if i < 0 || !slices.ContainsFunc(figs, func(f Figure) bool { return f.File == "null-ridge-recall.png" }) {
 		t.Fatalf("drew %v, want null-ridge-diagnosis.png beside null-ridge-recall.png", names(figs))
 	}
-	if f := figs[i]; f.Section != SectionNulls || !strings.Contains(f.Title, "observed AUC = 0.9") || !strings.Contains(f.Title, "p = 0.2") {
+	if f := figs[i]; f.Section != SectionNulls || !strings.Contains(f.Title, "observed AUC within folds = 0.9") || !strings.Contains(f.Title, "p = 0.2") {
 		t.Errorf("figure %s in section %q titled %q", f.File, f.Section, f.Title)
 	}
 }

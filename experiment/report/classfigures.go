@@ -107,8 +107,10 @@ func unitSquare(p *plot.Plot) {
 // probability, from the test predictions pooled over folds and repeats (a
 // thick line; with several repeats, each repeat's pooled folds as a thin
 // faded line behind it), with the diagonal of chance. The key gives each
-// model's AUC of the pooled predictions (eval.ROCAUC; for more than two
-// classes the macro one-vs-rest AUC, eval.OneVsRestAUC). A binary label
+// model's AUC of the pooled predictions the curve shows (eval.ROCAUC; for
+// more than two classes the macro one-vs-rest AUC, eval.OneVsRestAUC),
+// labelled pooled: the headline AUC within folds (eval.AUCWithinFolds) is
+// in the tables. A binary label
 // has one panel, for its positive class (class index 1); a label of K > 2
 // classes has K, each class against the rest. A run without labels draws
 // none.
@@ -168,11 +170,11 @@ func (r *Run) ROCFigures() ([]Figure, error) {
 				}
 				if pi == 0 {
 					labels, proba := classArrays(rows, len(lt.Classes))
-					auc, what := eval.OneVsRestAUC(labels, proba), "AUC"
+					auc, what := eval.OneVsRestAUC(labels, proba), "pooled AUC"
 					if len(lt.Classes) == 2 {
 						auc = eval.ROCAUC(positive, score)
 					} else {
-						what = "macro AUC"
+						what = "pooled macro AUC"
 					}
 					key, err := line(0, 0, 1, 1, col, false)
 					if err != nil {
@@ -200,10 +202,14 @@ func (r *Run) ROCFigures() ([]Figure, error) {
 			caption += fmt.Sprintf(". Each point is a threshold on the probability of %[1]s: the share of class %[2]s "+
 				"called %[1]s (false positive rate) against the share of class %[1]s found (sensitivity). The AUC is the "+
 				"probability that a random participant of class %[1]s gets a higher probability of %[1]s than one of "+
-				"class %[2]s, ties counting half.", lt.Classes[1], lt.Classes[0])
+				"class %[2]s, ties counting half; the key gives it for the pooled curve (pooled AUC), which ranks "+
+				"participants of different folds against each other and is biased low when the folds are not "+
+				"stratified on %[3]s; the headline AUC within folds, which ranks only participants of one test fold, "+
+				"is in the tables.", lt.Classes[1], lt.Classes[0], lt.Name)
 		} else {
 			caption += fmt.Sprintf(". One panel per class of %s against the other classes, scored by the probability "+
-				"of that class; the key gives the mean of the %d one-vs-rest AUCs (macro AUC).", strings.Join(lt.Classes, ", "), len(lt.Classes))
+				"of that class; the key gives the mean of the %d one-vs-rest AUCs of the pooled curves (pooled macro AUC); "+
+				"the headline AUC within folds, which ranks only participants of one test fold, is in the tables.", strings.Join(lt.Classes, ", "), len(lt.Classes))
 		}
 		caption += " The dashed diagonal is chance."
 		w, h := classFigureSize(lt)

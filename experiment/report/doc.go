@@ -25,7 +25,7 @@
 //
 //	answer-TARGET.png             every model's r within folds and MAE with bootstrap intervals
 //	observed-MODEL-TARGET.png     observed against predicted scores, pooled test predictions
-//	roc-LABEL.png                 ROC curves of every model on a label, with their AUCs
+//	roc-LABEL.png                 ROC curves of every model on a label, with their pooled AUCs
 //	calibration-LABEL.png         observed share of a class against the mean predicted probability, per bin
 //	comparison-TARGET.png         per-fold Pearson r and MAE of every model
 //	learning-MODEL.png            training and inner-validation loss per epoch of each fold

@@ -397,8 +397,8 @@ func (r *Run) LearningFigures() ([]Figure, error) {
 // NullFigures draws, for every model and target of the permutation test,
 // the histogram of the headline r (r within folds) under permutation with
 // the observed r as a vertical line and its permutation p-value in the
-// title; then, for every model and class label, the same of the pooled
-// AUC.
+// title; then, for every model and class label, the same of the headline
+// AUC (AUC within folds, eval.AUCWithinFolds).
 func (r *Run) NullFigures() ([]Figure, error) {
 	var figs []Figure
 	for _, n := range r.Nulls {
@@ -420,11 +420,11 @@ func (r *Run) NullFigures() ([]Figure, error) {
 		}
 	}
 	for _, n := range r.ClassNulls {
-		title := fmt.Sprintf("%s — %s: observed AUC = %s, p = %s", n.Model, n.Label, num(n.Observed), pValue(n.P))
+		title := fmt.Sprintf("%s — %s: observed AUC within folds = %s, p = %s", n.Model, n.Label, num(n.Observed), pValue(n.P))
 		caption := fmt.Sprintf("The whole cross-validation of %s repeated with the labels permuted %d times (with the scores, "+
-			"in the same blocks), its classifiers refitted each time. AUC pooled over all test predictions of all repeats; "+
-			"0.5 is chance. p = (1 + #{null AUC ≥ observed AUC}) / (1 + permutations).", n.Model, len(n.Null))
-		f, err := nullFigure(fileName("null", n.Model, n.Label), title, "AUC", caption, n.Observed, n.Null)
+			"in the same blocks), its classifiers refitted each time. AUC within folds: each positive ranked against each "+
+			"negative participant of the same test fold, over all folds of all repeats; 0.5 is chance. p = (1 + #{null AUC ≥ observed AUC}) / (1 + permutations).", n.Model, len(n.Null))
+		f, err := nullFigure(fileName("null", n.Model, n.Label), title, "AUC within folds", caption, n.Observed, n.Null)
 		if err != nil {
 			return nil, err
 		}

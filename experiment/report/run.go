@@ -50,7 +50,7 @@ type Run struct {
 	// Curves are the rows of learning_curves.csv (nil without the file).
 	Curves []CurvePoint
 	// Nulls are the scores' null distributions of permutations.csv, and
-	// ClassNulls its class labels' null distributions of AUC (nil without
+	// ClassNulls its class labels' null distributions of AUC within folds (nil without
 	// a permutation test).
 	Nulls      []eval.NullDistribution
 	ClassNulls []eval.ClassNullDistribution

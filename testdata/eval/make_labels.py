@@ -14,6 +14,9 @@ numpy's generator with a fixed seed, shifted towards the true class) and
 Every number comes from scikit-learn 1.2 (sklearn.metrics), numpy 1.24 or
 scipy 1.10, as each key says:
   - pooled: each metric over all rows of a model (all repeats together);
+    auc_within, the AUC within folds, is formed from roc_auc_score of each
+    repeat x fold and its pairs, sum_f AUC_f n_pos_f n_neg_f / sum_f
+    n_pos_f n_neg_f (eval.AUCWithinFolds);
   - folds: AUC of each repeat x fold; fold_mean and fold_sd (ddof = 1);
   - ttest: the corrected resampled t-test (Nadeau & Bengio 2003) of the
     fold AUC of net minus constant, t = mean / sqrt((1/J + n_test/n_train)
@@ -67,11 +70,14 @@ out = {"rows": rows, "pooled": {}, "fold_auc": {}, "fold_mean_auc": {}, "fold_sd
 for m in ["net", "constant"]:
     mr = [r for r in rows if r["model"] == m]
     out["pooled"][m] = metrics([r["observed"] for r in mr], [r["p1"] for r in mr])
-    aucs = []
+    aucs, pairs = [], []
     for r in range(2):
         for f in range(2):
             fr = [x for x in mr if x["repeat"] == r and x["fold"] == f]
             aucs.append(roc_auc_score([x["observed"] for x in fr], [x["p1"] for x in fr]))
+            n_pos = sum(x["observed"] for x in fr)
+            pairs.append(n_pos * (len(fr) - n_pos))
+    out["pooled"][m]["auc_within"] = float(np.dot(aucs, pairs) / np.sum(pairs))
     out["fold_auc"][m] = aucs
     out["fold_mean_auc"][m] = float(np.mean(aucs))
     out["fold_sd_auc"][m] = float(np.std(aucs, ddof=1))
