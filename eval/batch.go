@@ -2,10 +2,8 @@ package eval
 
 import (
 	"encoding/csv"
-	"errors"
 	"fmt"
 	"io"
-	"slices"
 	"strconv"
 
 	"github.com/skein-neuro/skein/data"
@@ -66,15 +64,8 @@ func WriteNullScores(out io.Writer, rows []NullScores) error {
 func ReadNullScores(r io.Reader, name string) ([]NullScores, error) {
 	cr := csv.NewReader(r)
 	want := nullColumns()
-	header, err := cr.Read()
-	if err == io.EOF {
-		return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row")}
-	}
-	if err != nil {
-		return nil, csvError(name, err)
-	}
-	if !slices.Equal(header, want) {
-		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("header is %v, want %v", header, want)}
+	if err := readExactHeader(cr, name, want); err != nil {
+		return nil, err
 	}
 	var rows []NullScores
 	for line := 2; ; line++ {

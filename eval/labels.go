@@ -3,7 +3,6 @@ package eval
 import (
 	"encoding/csv"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -546,15 +545,8 @@ func WriteClassNulls(out io.Writer, rows []ClassNull) error {
 func ReadClassNulls(r io.Reader, name string) ([]ClassNull, error) {
 	cr := csv.NewReader(r)
 	want := classNullColumns()
-	header, err := cr.Read()
-	if err == io.EOF {
-		return nil, &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row")}
-	}
-	if err != nil {
-		return nil, csvError(name, err)
-	}
-	if !slices.Equal(header, want) {
-		return nil, &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("header is %v, want %v", header, want)}
+	if err := readExactHeader(cr, name, want); err != nil {
+		return nil, err
 	}
 	var rows []ClassNull
 	for line := 2; ; line++ {

@@ -9,6 +9,7 @@ import (
 	"io"
 	"math"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -245,6 +246,24 @@ func readHeader(cr *csv.Reader, name string, need []string) (map[string]int, err
 		}
 	}
 	return col, nil
+}
+
+// readExactHeader reads the header row of a CSV file that skein wrote
+// with exactly the columns want, in order: the batch files of a
+// permutation test. A missing or different header is a *data.FileError
+// naming name.
+func readExactHeader(cr *csv.Reader, name string, want []string) error {
+	header, err := cr.Read()
+	if err == io.EOF {
+		return &data.FileError{Path: name, Line: 1, Err: errors.New("empty file: expected a header row")}
+	}
+	if err != nil {
+		return csvError(name, err)
+	}
+	if !slices.Equal(header, want) {
+		return &data.FileError{Path: name, Line: 1, Err: fmt.Errorf("header is %v, want %v", header, want)}
+	}
+	return nil
 }
 
 func csvError(name string, err error) error {
