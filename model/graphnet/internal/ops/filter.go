@@ -949,6 +949,13 @@ const regenBlock = 256
 // scratch space that stays in the core's cache while internal/gemm packs
 // it. The batch-sized H' would otherwise be read back from memory.
 func regenGradW[T float](ts *tasks, d filterDims, from *e2eOutput, buf *buffer, shape tensor.Shape, g, dw []T) error {
+	return regen(ts, d, from, buf, shape, kRegenGradW, g, dw)
+}
+
+// regen runs kernel k (kRegenGradW or kRegenRowTerm) over shape[0] tiles
+// of shape[2] columns, with the E2E's terms of from and a scratch block
+// of shape per tile: s = the kernel's operand and result, terms, scratch.
+func regen[T float](ts *tasks, d filterDims, from *e2eOutput, buf *buffer, shape tensor.Shape, k kernel, operand, result []T) error {
 	terms, err := from.check(dtypeOf[T](), d)
 	if err != nil {
 		return err
@@ -956,7 +963,7 @@ func regenGradW[T float](ts *tasks, d filterDims, from *e2eOutput, buf *buffer, 
 	chunks, tn := shape[0], shape[2]
 	scratch := slice[T](buf.get(dtypeOf[T](), shape))
 	f := [2]T{T(from.f[0]), T(from.f[1])}
-	l := forEachSetup(ts, d, f, kRegenGradW, g, dw, slice[T](terms), scratch)
+	l := forEachSetup(ts, d, f, k, operand, result, slice[T](terms), scratch)
 	l.inner = tn
 	ts.pool.Run(l, chunks)
 	l.clear()
@@ -1001,18 +1008,7 @@ func regenGradWOf[T float](l *loop[T], t int) {
 // blocks follow internal/gemm's blocking along k, so R has the bits of
 // W·Xrowᵀ in one product.
 func regenRowTerm[T float](ts *tasks, d filterDims, from *e2eOutput, buf *buffer, shape tensor.Shape, w, r []T) error {
-	terms, err := from.check(dtypeOf[T](), d)
-	if err != nil {
-		return err
-	}
-	chunks, tn := shape[0], shape[2]
-	scratch := slice[T](buf.get(dtypeOf[T](), shape))
-	f := [2]T{T(from.f[0]), T(from.f[1])}
-	l := forEachSetup(ts, d, f, kRegenRowTerm, w, r, slice[T](terms), scratch)
-	l.inner = tn
-	ts.pool.Run(l, chunks)
-	l.clear()
-	return nil
+	return regen(ts, d, from, buf, shape, kRegenRowTerm, w, r)
 }
 
 // regenRowTermOf does the columns tn·t… of R (tn = l.inner): s = w, r,
