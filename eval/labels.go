@@ -105,49 +105,30 @@ func (m ClassMetric) Label() string {
 func (m ClassMetric) LowerIsBetter() bool { return m == MetricLogLoss || m == MetricBrier }
 
 // Get returns the value of metric m; it panics for an unknown metric.
-func (s ClassScores) Get(m ClassMetric) float64 {
+func (s ClassScores) Get(m ClassMetric) float64 { return *s.field(m) }
+
+func (s *ClassScores) set(m ClassMetric, v float64) { *s.field(m) = v }
+
+func (s *ClassScores) field(m ClassMetric) *float64 {
 	switch m {
 	case MetricAUCWithin:
-		return s.AUCWithin
+		return &s.AUCWithin
 	case MetricAUC:
-		return s.AUC
+		return &s.AUC
 	case MetricBalancedAccuracy:
-		return s.BalancedAccuracy
+		return &s.BalancedAccuracy
 	case MetricAccuracy:
-		return s.Accuracy
+		return &s.Accuracy
 	case MetricLogLoss:
-		return s.LogLoss
+		return &s.LogLoss
 	case MetricBrier:
-		return s.Brier
+		return &s.Brier
 	case MetricSensitivity:
-		return s.Sensitivity
+		return &s.Sensitivity
 	case MetricSpecificity:
-		return s.Specificity
+		return &s.Specificity
 	}
 	panic("eval: unknown classification metric " + string(m))
-}
-
-func (s *ClassScores) set(m ClassMetric, v float64) {
-	switch m {
-	case MetricAUCWithin:
-		s.AUCWithin = v
-	case MetricAUC:
-		s.AUC = v
-	case MetricBalancedAccuracy:
-		s.BalancedAccuracy = v
-	case MetricAccuracy:
-		s.Accuracy = v
-	case MetricLogLoss:
-		s.LogLoss = v
-	case MetricBrier:
-		s.Brier = v
-	case MetricSensitivity:
-		s.Sensitivity = v
-	case MetricSpecificity:
-		s.Specificity = v
-	default:
-		panic("eval: unknown classification metric " + string(m))
-	}
 }
 
 // A ClassFold holds the classification metrics of one test fold of one
